@@ -1,0 +1,5 @@
+"""Entry point for ``python -m bomcheck``."""
+
+from bomcheck.cli import main
+
+raise SystemExit(main())

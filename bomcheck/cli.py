@@ -1,0 +1,74 @@
+"""Command-line translator: parse options, call the library, render, map errors to exit codes.
+
+Heavy modules (pandas, pint, openpyxl, rich) are imported inside the commands that need them so
+that ``bomcheck --help`` and ``bomcheck --version`` answer quickly.
+"""
+
+from __future__ import annotations
+
+import argparse
+import sys
+from collections.abc import Sequence
+
+from bomcheck import __version__
+from bomcheck.errors import BomcheckError
+
+EXIT_CLEAN = 0
+EXIT_FINDINGS = 1
+EXIT_UNUSABLE = 2
+
+
+def _add_import_options(p: argparse.ArgumentParser) -> None:
+    p.add_argument("--sheet", help="XLSX sheet by name or 1-based index (default: the first "
+                   "sheet with a designator column)")
+    p.add_argument("--encoding", help="force a text encoding (default: detect UTF-8/UTF-16 BOM, "
+                   "else UTF-8, else cp1252)")
+    p.add_argument("--columns", action="append", default=[], metavar="FIELD=HEADER,...",
+                   help="map canonical fields to headers, e.g. refdes=Designator,value=Comment")
+    p.add_argument("--column-map", metavar="TOML", help="TOML file mapping fields to headers")
+
+
+def build_parser() -> argparse.ArgumentParser:
+    parser = argparse.ArgumentParser(
+        prog="bomcheck",
+        description="Audit a bill of materials for capacitor derating and stress before release.",
+    )
+    parser.add_argument("--version", action="version", version=f"bomcheck {__version__}")
+    parser.add_argument("--debug", action="store_true", help="show tracebacks for errors")
+    sub = parser.add_subparsers(dest="command", metavar="COMMAND")
+
+    p = sub.add_parser("import", help="read a BOM and list its capacitor placements",
+                       description="Read a BOM (CSV, TSV, XLSX) and list every capacitor "
+                       "placement with its parsed specification; every row is accounted for.")
+    p.add_argument("bom", help="BOM file (.csv, .tsv, .txt, .xlsx)")
+    _add_import_options(p)
+    p.add_argument("--json", action="store_true", help="print JSON instead of a table")
+    p.add_argument("--all", action="store_true", help="show every placement, not the first 50")
+
+    p = sub.add_parser("parse", help="parse capacitor value text",
+                       description="Parse capacitor value strings such as '4u7 50V X7R' or "
+                       "'CAP CER 0.1UF 16V 10%% X5R 0402' into a specification.")
+    p.add_argument("text", nargs="+", help="value text to parse")
+    p.add_argument("--json", action="store_true", help="print JSON instead of a table")
+    return parser
+
+
+def main(argv: Sequence[str] | None = None) -> int:
+    parser = build_parser()
+    args = parser.parse_args(argv)
+    if args.command is None:
+        parser.print_help()
+        return EXIT_UNUSABLE
+    try:
+        from bomcheck import commands
+
+        return getattr(commands, f"run_{args.command}")(args)
+    except BomcheckError as exc:
+        if args.debug:
+            raise
+        print(f"bomcheck: error: {exc}", file=sys.stderr)
+        return exc.exit_code
+    except KeyboardInterrupt:  # pragma: no cover
+        return 130
+    except BrokenPipeError:  # pragma: no cover - e.g. piped into head
+        return EXIT_CLEAN

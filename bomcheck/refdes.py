@@ -1,0 +1,72 @@
+"""Reference designator lists (``C1, C3-C5``, ``C10..C12``, ``C1-3``) expanded to single designators.
+
+Used by the importer for BOM lines and by the design-sheet reader for the rows that address a
+list or a range. Pure functions; no I/O.
+"""
+
+from __future__ import annotations
+
+import re
+
+from bomcheck.errors import InputError
+
+# Separators between list items: comma, semicolon, slash, whitespace.
+_SPLIT = re.compile(r"[,;/\s]+")
+_SINGLE = re.compile(r"^([A-Za-z_]+[A-Za-z_]*?)(\d+)([A-Za-z]?)$")
+_RANGE = re.compile(
+    r"^(?P<p1>[A-Za-z_]+)(?P<n1>\d+)\s*(?:-|\.\.|\u2013|:|to)\s*(?P<p2>[A-Za-z_]*)(?P<n2>\d+)$"
+)
+MAX_RANGE = 10_000
+
+
+def prefix(refdes: str) -> str:
+    """The letter prefix of a designator (``CR12`` -> ``CR``)."""
+    m = re.match(r"^[A-Za-z_]+", refdes)
+    return m.group(0).upper() if m else ""
+
+
+def expand(text: str, *, path: str | None = None, row: int | None = None) -> list[str]:
+    """Expand a designator list to single designators, in the order written.
+
+    Raises ``InputError`` for a range that runs backwards, mixes prefixes or is absurdly long.
+    Text that is not designator-like at all (``"see note"``) is returned as one item so the
+    caller can decide what it is.
+    """
+    t = text.strip().strip(",;")
+    if not t:
+        return []
+    # Join "C10 .. C12" and "C1 - C3" written with spaces around the range mark.
+    t = re.sub(r"\s*(\.\.|\u2013|-)\s*", lambda m: m.group(1), t)
+    out: list[str] = []
+    for item in _SPLIT.split(t):
+        if not item:
+            continue
+        m = _RANGE.match(item)
+        if not m:
+            out.append(item.upper() if _SINGLE.match(item) else item)
+            continue
+        p1, p2 = m.group("p1").upper(), (m.group("p2") or m.group("p1")).upper()
+        n1, n2 = int(m.group("n1")), int(m.group("n2"))
+        if p1 != p2:
+            raise InputError(
+                "designator range mixes prefixes", path=path, row=row, text=item,
+                expected="a range of one prefix such as C3-C5",
+            )
+        if n2 < n1:
+            raise InputError(
+                "designator range runs backwards", path=path, row=row, text=item,
+                expected="the lower number first, such as C3-C5",
+            )
+        if n2 - n1 >= MAX_RANGE:
+            raise InputError(
+                f"designator range covers more than {MAX_RANGE} parts", path=path, row=row,
+                text=item, expected="a shorter range",
+            )
+        width = len(m.group("n1")) if m.group("n1").startswith("0") else 0
+        out.extend(f"{p1}{n:0{width}d}" for n in range(n1, n2 + 1))
+    return out
+
+
+def is_designator(item: str) -> bool:
+    """True for a single designator such as ``C12`` or ``C12A``."""
+    return bool(_SINGLE.match(item.strip()))

@@ -1,0 +1,1 @@
+"""Shipped derating rule sets (TOML data); installed as the package ``bomcheck.rulesets``."""
