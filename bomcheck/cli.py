@@ -50,6 +50,31 @@ def build_parser() -> argparse.ArgumentParser:
                        "'CAP CER 0.1UF 16V 10%% X5R 0402' into a specification.")
     p.add_argument("text", nargs="+", help="value text to parse")
     p.add_argument("--json", action="store_true", help="print JSON instead of a table")
+    p = sub.add_parser("audit", help="audit a BOM against derating rules under the design's "
+                       "operating conditions",
+                       description="Audit every fitted capacitor placement of a BOM: applied "
+                       "voltage, temperature and worst-case capacitance against the derating "
+                       "rules in force. Exit status 0: nothing at or above --fail-on; 1: "
+                       "findings at or above it; 2: inputs unusable.")
+    p.add_argument("bom", help="BOM file (.csv, .tsv, .txt, .xlsx)")
+    p.add_argument("--design", metavar="SHEET", help="design sheet of operating conditions "
+                   "(.csv, .xlsx, .toml)")
+    p.add_argument("--design-sheet", metavar="NAME", help="sheet of an XLSX design file")
+    p.add_argument("--rules", action="append", default=[], metavar="NAME_OR_PATH",
+                   help="rule set by shipped name or TOML path (repeatable; later ones override "
+                   "rules of the same id). Default: the shipped default set")
+    p.add_argument("--json", metavar="OUT", help="write the JSON report to OUT ('-' for stdout)")
+    p.add_argument("--fail-on", choices=("fail", "nodata", "warn"), default="fail",
+                   help="lowest status that makes the exit status 1 (order: warn < nodata < "
+                   "fail; default: fail)")
+    p.add_argument("--all", action="store_true", help="show every placement, not the worst 50")
+    p.add_argument("--quiet", action="store_true", help="print only the totals line")
+    _add_import_options(p)
+
+    p = sub.add_parser("rules", help="list the rules of a rule set with limits and sources",
+                       description="List shipped rule sets, or the rules of one (by name or "
+                       "path) with their limits and sources.")
+    p.add_argument("name", nargs="*", help="rule set name or TOML path (default: list the sets)")
     return parser
 
 

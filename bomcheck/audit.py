@@ -1,0 +1,126 @@
+"""The whole pipeline in one library call: read -> parse -> stresses -> evaluate -> report value.
+
+The CLI and library users call ``run_audit``; renderers take the returned ``Report`` and never
+recompute anything.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+import pandas as pd
+
+from bomcheck import __version__
+from bomcheck.report import STATUS_ORDER, Report, worst_status
+
+# Verdict ids the audit itself gives (not from a rule file): data problems, never a silent pass.
+NO_DESIGN_ROW = "design.missing"
+NO_RULE = "rules.none-apply"
+BOM_FINDING = "bom.{code}"
+
+
+@dataclass(frozen=True)
+class AuditOptions:
+    """What to audit with: rule sets (names or paths), import options and the design sheet's sheet."""
+
+    rules: tuple[str, ...] = ()
+    import_options: object | None = None  # bomcheck.importer.ImportOptions
+    design_sheet: str | int | None = None
+    extra_inputs: tuple[tuple[str, str], ...] = field(default_factory=tuple)
+
+
+def _stress_data(ruleset):
+    from bomcheck.stresses import StressData
+
+    return StressData(
+        dc_bias=ruleset.dc_bias_curves(),
+        aging_k=ruleset.aging_rates(),
+        default_tol_pct=ruleset.default_tol_pct,
+    )
+
+
+def _audit_verdicts(table: pd.DataFrame, rule_verdicts: pd.DataFrame,
+                    import_findings) -> pd.DataFrame:
+    """Add the audit's own verdicts: placements with no design row, no applicable rule, and the
+    importer's findings on a placement (quantity mismatch, column conflict) as warnings."""
+    extra = []
+    no_row = table.index[table["condition_source"].isin(["none", "defaults"])]
+    for i in no_row:
+        extra.append((i, NO_DESIGN_ROW, "nodata",
+                      f"{table.at[i, 'refdes']}: not in the design sheet; no operating "
+                      "conditions beyond board-wide defaults", "design sheet"))
+    covered = set(rule_verdicts["pidx"].unique()) if len(rule_verdicts) else set()
+    for i in table.index.difference(pd.Index(sorted(covered))):
+        tech = table.at[i, "technology"] or "unknown technology"
+        extra.append((i, NO_RULE, "nodata",
+                      f"{table.at[i, 'refdes']}: no rule in force applies ({tech}); the part is "
+                      "not checked", "rule sets in force"))
+    by_refdes = pd.Series(table.index, index=table["refdes"])
+    by_row = table.groupby("row").groups
+    for f in import_findings:
+        targets = ([by_refdes[f.refdes]] if f.refdes and f.refdes in by_refdes.index
+                   else list(by_row.get(f.row, [])))
+        for i in np.atleast_1d(targets):
+            extra.append((int(i), BOM_FINDING.format(code=f.code), "warn",
+                          f"{table.at[int(i), 'refdes']}: {f.message}", "BOM data"))
+    if not extra:
+        return rule_verdicts
+    add = pd.DataFrame(extra, columns=["pidx", "rule_id", "status", "message", "source"])
+    add["refdes"] = table.loc[add["pidx"], "refdes"].to_numpy()
+    out = pd.concat([rule_verdicts, add], ignore_index=True)
+    return out.sort_values(["pidx", "rule_id"], kind="stable").reset_index(drop=True)
+
+
+def run_audit(bom_path: str, design_path: str | None, options: AuditOptions = AuditOptions()) -> Report:
+    """Audit every fitted capacitor placement of ``bom_path`` under the design sheet's conditions."""
+    from bomcheck import design as design_mod
+    from bomcheck import engine, importer, rules, stresses
+
+    ruleset = rules.load_rules(options.rules or (rules.DEFAULT_RULESET,))
+    imported = importer.read_bom(bom_path, options.import_options or importer.ImportOptions())
+    placements = imported.placements
+    fitted = placements[placements["fitted"]].reset_index(drop=True)
+    not_fitted = placements[~placements["fitted"]].reset_index(drop=True)
+
+    inputs = [{"role": "bom", "path": str(bom_path), "sha256": imported.source.sha256}]
+    design_unmatched: list[dict] = []
+    if design_path is not None:
+        design = design_mod.read_design(design_path, sheet=options.design_sheet)
+        inputs.append({"role": "design", "path": str(design_path), "sha256": design.sha256})
+        conditions = design.for_placements(fitted["refdes"])
+        for refdes, row in design.unmatched(set(placements["refdes"])):
+            design_unmatched.append({
+                "refdes": refdes, "row": row, "status": "nodata",
+                "reason": f"{refdes} (design sheet row {row}) is not in the BOM",
+            })
+    else:
+        conditions = pd.DataFrame({"condition_source": ["none"] * len(fitted)})
+    conditions = conditions.reset_index(drop=True)
+    table = pd.concat(
+        [fitted, conditions.drop(columns=[c for c in conditions if c in fitted])], axis=1
+    )
+    table = stresses.compute(table, _stress_data(ruleset))
+    verdicts = engine.evaluate(table, ruleset)
+    verdicts = _audit_verdicts(table, verdicts, imported.findings)
+
+    status = verdicts.groupby("pidx")["status"].agg(worst_status)
+    table["status"] = status.reindex(table.index).fillna("nodata")
+
+    counts = table["status"].value_counts()
+    totals = dict(imported.totals)
+    totals.update({"audited": int(len(table)), "design_unmatched": len(design_unmatched)})
+    totals.update({s: int(counts.get(s, 0)) for s in STATUS_ORDER})
+    return Report(
+        tool_version=__version__,
+        rulesets=ruleset.summary(),
+        inputs=tuple(inputs),
+        table=table,
+        verdicts=verdicts,
+        not_fitted=not_fitted,
+        skipped=imported.skipped,
+        import_findings=tuple(imported.findings),
+        design_unmatched=tuple(design_unmatched),
+        totals=totals,
+        rules=ruleset,
+    )

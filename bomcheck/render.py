@@ -1,0 +1,230 @@
+"""Report stage, terminal edge: rich tables of specs, placements and audit results.
+
+Every function takes the ``Console`` to print on; styles are the semantic names of ``THEME``.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Iterable
+
+from rich.console import Console
+from rich.table import Table
+from rich.text import Text
+from rich.theme import Theme
+
+THEME = Theme(
+    {
+        "status.pass": "green",
+        "status.warn": "yellow",
+        "status.nodata": "magenta",
+        "status.fail": "bold red",
+        "status.waived": "cyan",
+        "caution": "italic",
+        "muted": "dim",
+        "heading": "bold",
+    }
+)
+
+DEFAULT_ROWS = 50
+
+
+def make_console(*, file=None, no_color: bool = False, width: int | None = None) -> Console:
+    """A console with the project theme; colour off when asked (NO_COLOR is honoured by rich)."""
+    return Console(file=file, theme=THEME, no_color=no_color, width=width,
+                   highlight=False, soft_wrap=False)
+
+
+def fmt_si(value, unit: str) -> str:
+    """A number with an SI prefix and unit: 4.7e-06, "F" -> "4.7 uF"."""
+    if value is None or (isinstance(value, float) and math.isnan(value)):
+        return ""
+    if value == 0:
+        return f"0 {unit}"
+    prefixes = ((1e-12, "p"), (1e-9, "n"), (1e-6, "u"), (1e-3, "m"), (1.0, ""), (1e3, "k"), (1e6, "M"))
+    scale, prefix = prefixes[0]
+    for s, p in prefixes:
+        if abs(value) >= s * 0.9999999:
+            scale, prefix = s, p
+    return f"{value / scale:.4g} {prefix}{unit}"
+
+
+def fmt_num(value, fmt: str = "{:.3g}", suffix: str = "") -> str:
+    if value is None or (isinstance(value, float) and math.isnan(value)):
+        return ""
+    return fmt.format(value) + suffix
+
+
+def status_text(status: str) -> Text:
+    return Text(status.upper() if status in ("fail", "warn") else status, style=f"status.{status}")
+
+
+def print_specs(console: Console, specs: Iterable) -> None:
+    """One row per parsed text: what the parser read."""
+    table = Table(title="Parsed values", header_style="heading")
+    for col in ("text", "cap?", "capacitance", "voltage", "tolerance", "dielectric", "technology",
+                "temp range", "package", "unread / warnings"):
+        table.add_column(col)
+    for s in specs:
+        tol = ""
+        if s.tol_abs_f is not None:
+            tol = f"±{fmt_si(s.tol_abs_f, 'F')}"
+        elif s.tol_minus_pct is not None:
+            tol = (f"±{s.tol_minus_pct:g} %" if s.tol_minus_pct == s.tol_plus_pct
+                   else f"+{s.tol_plus_pct:g}/-{s.tol_minus_pct:g} %")
+        temps = ""
+        if s.temp_min_c is not None or s.temp_max_c is not None:
+            temps = f"{fmt_num(s.temp_min_c, '{:g}')}..{fmt_num(s.temp_max_c, '{:g}')} °C"
+        volt = fmt_si(s.voltage_v, "V") + (" AC" if s.voltage_kind == "ac" else "")
+        table.add_row(
+            s.text, "yes" if s.is_capacitor else "no", fmt_si(s.capacitance_f, "F"), volt, tol,
+            s.dielectric or s.safety_class or "", s.technology or "", temps, s.package or "",
+            ", ".join([*s.unread, *s.warnings]),
+        )
+    console.print(table)
+
+
+def print_import(console: Console, result, *, show_all: bool = False) -> None:
+    """Placements found in a BOM, the rows not taken, findings and the accounting line."""
+    p = result.placements
+    table = Table(title=f"Capacitor placements in {result.source.path}", header_style="heading")
+    for col in ("refdes", "row", "fitted", "capacitance", "voltage", "tol", "dielectric",
+                "technology", "package", "text"):
+        table.add_column(col, overflow="fold")
+    limit = len(p) if show_all else DEFAULT_ROWS
+    for rec in p.head(limit).itertuples(index=False):
+        tol = "" if rec.tol_minus_pct is None or _isnan(rec.tol_minus_pct) else f"{rec.tol_minus_pct:g} %"
+        table.add_row(
+            rec.refdes, str(rec.row), "yes" if rec.fitted else Text("no", style="muted"),
+            fmt_si(rec.capacitance_f, "F"), fmt_si(rec.voltage_v, "V"), tol,
+            rec.dielectric or "", rec.technology or "", rec.package or "", rec.text,
+        )
+    console.print(table)
+    if len(p) > limit:
+        console.print(f"[muted]... {len(p) - limit} more placements (use --all)[/]")
+    _print_skipped(console, result.skipped)
+    for f in result.findings:
+        console.print(f"[status.warn]finding[/] row {f.row}: {f.message}")
+    console.print(accounting_line(result.totals))
+
+
+def _isnan(v) -> bool:
+    return isinstance(v, float) and math.isnan(v)
+
+
+def _print_skipped(console: Console, skipped, limit: int = 20) -> None:
+    if not len(skipped):
+        return
+    table = Table(title="Rows not taken as capacitors", header_style="heading")
+    for col in ("row", "kind", "reason", "text"):
+        table.add_column(col, overflow="fold")
+    for rec in skipped.head(limit).itertuples(index=False):
+        table.add_row(str(rec.row), rec.kind, rec.reason, rec.text)
+    console.print(table)
+    if len(skipped) > limit:
+        console.print(f"[muted]... {len(skipped) - limit} more rows not taken[/]")
+
+
+def accounting_line(totals: dict) -> str:
+    """rows read = capacitor rows + non-capacitor rows + unreadable rows, with the counts."""
+    return (
+        f"rows read {totals['rows_read']} = capacitor rows {totals['capacitor_rows']} + "
+        f"non-capacitor rows {totals['non_capacitor_rows']} + unreadable rows "
+        f"{totals['unreadable_rows']}; placements {totals['placements']} "
+        f"(fitted {totals['fitted']}, not fitted {totals['not_fitted']})"
+    )
+
+
+def _conditions(rec) -> str:
+    parts = []
+    if not _isnan(rec.v_upper_v):
+        v = f"{rec.v_upper_v:.4g} V"
+        if not _isnan(getattr(rec, "v_ripple_pk", math.nan)) and rec.v_ripple_pk:
+            v += f" + {rec.v_ripple_pk:.3g} pk"
+        parts.append(v)
+    if not _isnan(rec.t_operating_c):
+        parts.append(f"{rec.t_operating_c:.4g} °C")
+    return ", ".join(parts)
+
+
+def print_audit(console: Console, report, *, show_all: bool = False) -> None:
+    """The audit table worst first, the totals by status, what was not audited, the cautions."""
+    gov = report.governing()
+    ordered = report.worst_first()
+    table = Table(title="Capacitor derating audit (worst first)", header_style="heading")
+    for col, just in (("refdes", "left"), ("row", "right"), ("value", "left"), ("technology", "left"),
+                      ("conditions", "left"), ("stress", "right"), ("limit", "right"),
+                      ("status", "left"), ("rule", "left"), ("explanation", "left")):
+        table.add_column(col, justify=just, overflow="fold")
+    limit = len(ordered) if show_all else DEFAULT_ROWS
+    for i, rec in zip(ordered.index[:limit], ordered.head(limit).itertuples(index=False)):
+        g = gov.loc[i] if i in gov.index else None
+        value = "" if g is None else _fmt_metric(g.get("value"), g.get("metric"))
+        lim = "" if g is None else _fmt_metric(g.get("limit"), g.get("metric"))
+        table.add_row(
+            rec.refdes, str(rec.row), _short_value(rec), rec.technology or "?",
+            _conditions(rec), value, lim, status_text(rec.status),
+            "" if g is None else str(g["rule_id"]), "" if g is None else str(g["message"]),
+        )
+    console.print(table)
+    if len(ordered) > limit:
+        console.print(f"[muted]... {len(ordered) - limit} more placements (use --all)[/]")
+    for d in report.design_unmatched:
+        console.print(f"[status.nodata]nodata[/] {d['reason']}")
+    t = report.totals
+    counts = "  ".join(f"[status.{s}]{s} {t.get(s, 0)}[/]" for s in ("fail", "nodata", "warn", "pass"))
+    console.print(f"[heading]Placements audited {t['audited']}:[/] {counts}")
+    not_audited = report.not_audited()
+    if not_audited:
+        kinds: dict[str, int] = {}
+        for d in not_audited:
+            kinds[d["kind"]] = kinds.get(d["kind"], 0) + 1
+        console.print("Not audited: " + ", ".join(f"{k.replace('_', ' ')} {n}" for k, n in kinds.items())
+                      + " (reasons in the JSON and spreadsheet reports)")
+    console.print(accounting_line(t))
+    console.print(f"Rule sets: {', '.join(r['name'] + ' ' + r['version'] for r in report.rulesets)}")
+    for c in report.cautions:
+        console.print(f"[caution]Caution: {c}[/]")
+    console.print(f"Overall: ", status_text(report.status))
+
+
+def _short_value(rec) -> str:
+    parts = [fmt_si(rec.capacitance_f, "F"), fmt_si(rec.voltage_v, "V")]
+    if rec.dielectric:
+        parts.append(rec.dielectric)
+    return " ".join(p for p in parts if p)
+
+
+def _fmt_metric(value, metric) -> str:
+    """A verdict's value or limit in its metric's display unit."""
+    from bomcheck.vocabulary import METRICS
+
+    if value is None or _isnan(value):
+        return ""
+    m = METRICS.get(metric) if isinstance(metric, str) else None
+    if m is None:
+        return f"{value:.4g}"
+    if m.percent:
+        return f"{value:.1%}"
+    return f"{value:.4g} {m.unit}".replace("degC", "°C").strip()
+
+
+def print_ruleset_names(console: Console, names: Iterable[str], default: str) -> None:
+    """The shipped rule sets, the default marked."""
+    for name in names:
+        console.print(f"{name}{'  (default)' if name == default else ''}")
+    console.print("[muted]bomcheck rules NAME lists the rules of a set[/]")
+
+
+def print_rules(console: Console, ruleset) -> None:
+    """Every rule of a rule set with its limits and source."""
+    rows = ruleset.describe()
+    summary = ruleset.summary()
+    title = "; ".join(f"{s['name']} {s['version']}: {s['title']}" for s in summary)
+    table = Table(title=title, header_style="heading", show_lines=False)
+    keys = list(rows[0]) if rows else []
+    for k in keys:
+        table.add_column(k.replace("_", " "), overflow="fold")
+    for r in rows:
+        table.add_row(*("" if r[k] is None else str(r[k]) for k in keys))
+    console.print(table)

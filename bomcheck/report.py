@@ -1,0 +1,196 @@
+"""Report stage: the audit's result as one value, and its JSON form (schema ``report.schema.json``).
+
+Renderers (terminal, JSON file, later spreadsheets and CI formats) take a ``Report`` and never
+recompute anything. The JSON form holds no clock reading, so the same inputs give the same bytes.
+"""
+
+from __future__ import annotations
+
+import json
+from dataclasses import dataclass, field
+from typing import Any
+
+import numpy as np
+import pandas as pd
+
+from bomcheck.spec import SPEC_KEYS
+from bomcheck.vocabulary import CONDITIONS
+
+# Worst last. "nodata" ranks above "warn": an unchecked stress may be anything, a warning is known.
+STATUS_ORDER: tuple[str, ...] = ("pass", "warn", "nodata", "fail")
+_RANK = {s: i for i, s in enumerate(STATUS_ORDER)}
+
+CAUTIONS: tuple[str, ...] = (
+    "These results support engineering review; they do not replace it. A pass means the "
+    "placement met the rules in force with the data given, nothing more.",
+    "The shipped limits are transcriptions: check each against your controlled copy of the "
+    "standard or handbook it cites before relying on it.",
+    "Stored energy and high voltage can injure or kill, and capacitors can hold a charge long "
+    "after power is removed. Follow local electrical codes, the applicable safety standard and "
+    "licensed practice; treat every capacitor as charged until measured discharged.",
+)
+
+SPEC_FIELDS: tuple[str, ...] = tuple(k for k in SPEC_KEYS if k != "text")
+CONDITION_FIELDS: tuple[str, ...] = (*CONDITIONS, "notes", "group", "design_row", "condition_source")
+METRIC_FIELDS: tuple[str, ...] = (
+    "v_upper_v", "applied_peak_v", "transient_peak_v", "voltage_ratio", "transient_ratio",
+    "reverse_ratio", "rated_voltage_v", "t_operating_c", "temp_margin_c",
+    "c_tol_factor", "c_temp_factor", "c_bias_factor", "c_aging_factor", "c_worst_f", "c_margin",
+    "c_margin_basis", "c_margin_note",
+)
+FINDING_FIELDS = {  # JSON key -> verdict column
+    "rule": "rule_id", "status": "status", "value": "value", "limit": "limit",
+    "warn_limit": "warn_limit", "margin": "margin", "message": "message", "source": "source",
+}
+
+
+def worst_status(statuses) -> str:
+    """The worst of some statuses (``STATUS_ORDER``); "pass" for none."""
+    best = 0
+    for s in statuses:
+        r = _RANK.get(s, 0)
+        if r > best:
+            best = r
+    return STATUS_ORDER[best]
+
+
+def status_at_least(status: str, level: str) -> bool:
+    """True when ``status`` is at or above ``level`` in ``STATUS_ORDER``."""
+    return _RANK.get(status, 0) >= _RANK[level]
+
+
+@dataclass(frozen=True)
+class Report:
+    """Everything an audit found. ``table`` has one row per fitted placement (spec, conditions,
+    metrics, status); ``verdicts`` one row per placement and rule (see engine.evaluate)."""
+
+    tool_version: str
+    rulesets: tuple[dict, ...]
+    inputs: tuple[dict, ...]
+    table: pd.DataFrame
+    verdicts: pd.DataFrame
+    not_fitted: pd.DataFrame
+    skipped: pd.DataFrame
+    import_findings: tuple = ()
+    design_unmatched: tuple[dict, ...] = ()
+    totals: dict = field(default_factory=dict)
+    cautions: tuple[str, ...] = CAUTIONS
+    rules: Any = None  # the RuleSet in force, for renderers that list it
+
+    @property
+    def status(self) -> str:
+        """The worst status of all placements and of the design rows the BOM lacks."""
+        statuses = set(self.table["status"]) if len(self.table) else set()
+        if self.design_unmatched:
+            statuses.add("nodata")
+        return worst_status(statuses)
+
+    def worst_first(self) -> pd.DataFrame:
+        """Placements ordered worst status first, then by the smallest margin, then refdes."""
+        t = self.table
+        rank = t["status"].map(_RANK)
+        margin = self.verdicts.groupby("pidx")["margin"].min() if len(self.verdicts) else None
+        key = pd.DataFrame({"rank": -rank, "margin": margin.reindex(t.index) if margin is not None
+                            else np.nan, "refdes": t["refdes"], "pos": np.arange(len(t))})
+        order = key.sort_values(["rank", "margin", "refdes", "pos"], na_position="first").index
+        return t.loc[order]
+
+    def governing(self) -> pd.DataFrame:
+        """Per placement (index = table index), the verdict that sets its status: the worst
+        status, and among equals the smallest margin relative to the limit."""
+        v = self.verdicts
+        if not len(v):
+            return v
+        rank = v["status"].map(_RANK)
+        rel = v["margin"] / v["limit"].abs().where(v["limit"] != 0) if "margin" in v else np.nan
+        key = v.assign(_rank=-rank, _rel=rel)
+        key = key.sort_values(["pidx", "_rank", "_rel"], na_position="last", kind="stable")
+        gov = key.drop_duplicates("pidx").set_index("pidx").drop(columns=["_rank", "_rel"])
+        metric_of = {} if self.rules is None else {r.id: r.metric for r in self.rules.rules}
+        return gov.assign(metric=gov["rule_id"].map(metric_of))
+
+    def not_audited(self) -> list[dict]:
+        """Not-fitted placements and skipped rows, each with its reason, in row order."""
+        out = []
+        for refdes, row, reason, text in zip(
+            self.not_fitted["refdes"], self.not_fitted["row"],
+            self.not_fitted["not_fitted_reason"], self.not_fitted["text"],
+        ):
+            out.append({"refdes": refdes, "row": int(row), "kind": "not_fitted",
+                        "reason": reason or "not fitted", "text": text})
+        for row, kind, reason, text in zip(
+            self.skipped["row"], self.skipped["kind"], self.skipped["reason"], self.skipped["text"]
+        ):
+            out.append({"refdes": None, "row": int(row), "kind": kind, "reason": reason,
+                        "text": text})
+        out.sort(key=lambda d: (d["row"], d["refdes"] or ""))
+        return out
+
+    def to_dict(self) -> dict:
+        """The JSON-ready report (see ``bomcheck/schemas/report.schema.json``)."""
+        t = self.table
+        spec = _records(t, SPEC_FIELDS)
+        conditions = _records(t, CONDITION_FIELDS)
+        metrics = _records(t, METRIC_FIELDS)
+        findings = _grouped_findings(self.verdicts, len(t))
+        placements = [
+            {"refdes": r, "row": int(row), "text": text, "status": st, "spec": s,
+             "conditions": c, "metrics": m, "findings": f}
+            for r, row, text, st, s, c, m, f in zip(
+                t["refdes"], t["row"], t["text"], t["status"], spec, conditions, metrics, findings
+            )
+        ]
+        return {
+            "tool": {"name": "bomcheck", "version": self.tool_version},
+            "status": self.status,
+            "rulesets": list(self.rulesets),
+            "inputs": list(self.inputs),
+            "totals": {k: int(v) for k, v in self.totals.items()},
+            "cautions": list(self.cautions),
+            "placements": placements,
+            "not_audited": self.not_audited(),
+            "design_unmatched": list(self.design_unmatched),
+            "import_findings": [f.to_dict() for f in self.import_findings],
+        }
+
+    def to_json(self) -> str:
+        """The report as JSON text; the same inputs give byte-identical text."""
+        return json.dumps(self.to_dict(), ensure_ascii=False, allow_nan=False,
+                          separators=(",", ":")) + "\n"
+
+
+def _records(table: pd.DataFrame, fields: tuple[str, ...]) -> list[dict]:
+    """One dict per row with the given fields; NaN and missing columns become None."""
+    cols = [c for c in fields if c in table.columns]
+    block = table[cols].astype(object)
+    block = block.where(block.notna(), None)
+    values = block.to_numpy()
+    out = []
+    for row in values:
+        d = dict(zip(cols, row))
+        for k, v in d.items():
+            if isinstance(v, tuple):
+                d[k] = list(v)
+            elif isinstance(v, np.generic):
+                d[k] = v.item()
+        out.append(d)
+    missing = [c for c in fields if c not in table.columns]
+    if missing:
+        for d in out:
+            d.update(dict.fromkeys(missing))
+    return out
+
+
+def _grouped_findings(verdicts: pd.DataFrame, n: int) -> list[list[dict]]:
+    """Per placement (0..n-1), its verdicts as finding dicts, in the verdict table's order."""
+    if not len(verdicts):
+        return [[] for _ in range(n)]
+    v = verdicts.sort_values(["pidx", "rule_id"], kind="stable")
+    for col in FINDING_FIELDS.values():
+        if col not in v.columns:
+            v = v.assign(**{col: None})
+    recs = _records(v.rename(columns={c: k for k, c in FINDING_FIELDS.items()}),
+                    tuple(FINDING_FIELDS))
+    pidx = v["pidx"].to_numpy()
+    bounds = np.searchsorted(pidx, np.arange(n + 1))
+    return [recs[bounds[i]:bounds[i + 1]] for i in range(n)]

@@ -1,0 +1,195 @@
+"""Stress stage: pure column arithmetic from placements and operating conditions to metrics (SI).
+
+Input is one table of fitted placements (spec columns from the parse stage and condition
+columns from the design sheet); output is the same table with the metric columns of
+``bomcheck.vocabulary.METRICS`` added, plus the factors behind the worst-case capacitance so
+every one can be reported. No I/O, no pint, no per-row Python loops.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Mapping
+from dataclasses import dataclass, field
+
+import numpy as np
+import pandas as pd
+
+# Reference time of capacitor aging, t0 = 1 h after the last heating above the Curie point
+# (common practice; the form C(t) = C(t0) x (1 - k/100 x log10(t/t0))).
+AGING_T0_H = 1.0
+
+
+@dataclass(frozen=True)
+class StressData:
+    """Assumed data the stress stage needs beyond the BOM and the design sheet.
+
+    ``dc_bias`` maps a case-size key (``"default"`` at least) to points of applied/rated voltage
+    ratio against the fraction of capacitance left, for class II/III ceramics (generic, typical
+    curves: common practice). ``aging_k`` is the aging rate in percent per decade-hour by
+    dielectric code or by class (``"class2"``, ``"class3"``). ``default_tol_pct`` is taken when
+    the BOM gives no tolerance; a capacitance margin that rests on it is marked generic.
+    """
+
+    dc_bias: Mapping[str, tuple[tuple[float, ...], tuple[float, ...]]] = field(
+        default_factory=lambda: {"default": ((0.0, 1.0), (1.0, 1.0))}
+    )
+    aging_k: Mapping[str, float] = field(default_factory=dict)
+    default_tol_pct: float = 20.0
+
+
+def _col(table: pd.DataFrame, name: str) -> pd.Series:
+    """A float column, all-NaN when the table lacks it."""
+    if name in table.columns:
+        return pd.to_numeric(table[name], errors="coerce").astype(float)
+    return pd.Series(np.nan, index=table.index, dtype=float)
+
+
+def _text(table: pd.DataFrame, name: str) -> pd.Series:
+    if name in table.columns:
+        return table[name].astype(object).where(table[name].notna(), "").astype(str)
+    return pd.Series("", index=table.index, dtype=object)
+
+
+def applied_voltages(table: pd.DataFrame) -> pd.DataFrame:
+    """Upper bound of the DC rail, applied peak (DC upper bound + ripple peak) and transient peak.
+
+    The rail's upper bound is ``v_dc_max`` where given, else ``v_dc x (1 + v_tol_pct/100)``, else
+    ``v_dc``. A ripple or transient not given is taken as none (0 V / the applied peak).
+    """
+    v_dc = _col(table, "v_dc")
+    upper = _col(table, "v_dc_max")
+    from_tol = v_dc * (1.0 + _col(table, "v_tol_pct") / 100.0)
+    upper = upper.fillna(from_tol).fillna(v_dc)
+    applied = upper + _col(table, "v_ripple_pk").fillna(0.0)
+    transient = np.fmax(applied, _col(table, "v_transient_pk"))
+    return pd.DataFrame(
+        {"v_upper_v": upper, "applied_peak_v": applied, "transient_peak_v": transient},
+        index=table.index,
+    )
+
+
+def _class1_loss(tc: pd.Series, tol: pd.Series, t_op: pd.Series) -> pd.Series:
+    """Worst fractional loss of a class I dielectric at t_op: dC/C = alpha x (T - 25 degC),
+    alpha anywhere in tc +/- tol (ppm/degC)."""
+    dt = t_op - 25.0
+    tol = tol.fillna(0.0)
+    low = (tc - tol) * dt * 1e-6
+    high = (tc + tol) * dt * 1e-6
+    return (-np.fmin(low, high)).clip(lower=0.0)
+
+
+def _dc_bias_remaining(ratio: pd.Series, package: pd.Series, data: StressData) -> pd.Series:
+    """Fraction of capacitance left at ``ratio`` = applied / rated, from the generic curves."""
+    out = pd.Series(np.nan, index=ratio.index, dtype=float)
+    keys = package.where(package.isin(list(data.dc_bias)), "default")
+    for key in pd.unique(keys):
+        xs, ys = data.dc_bias.get(key, data.dc_bias["default"])
+        mask = keys == key
+        out[mask] = np.interp(ratio[mask].to_numpy(), xs, ys)
+    return out.where(ratio.notna())
+
+
+def _aging_k(table: pd.DataFrame, data: StressData) -> pd.Series:
+    dielectric = _text(table, "dielectric")
+    cls = _col(table, "dielectric_class")
+    by_code = dielectric.map(lambda d: data.aging_k.get(d, np.nan)).astype(float)
+    by_class = cls.map({2.0: data.aging_k.get("class2", np.nan),
+                        3.0: data.aging_k.get("class3", np.nan),
+                        1.0: data.aging_k.get("class1", 0.0)}).astype(float)
+    return by_code.fillna(by_class).fillna(0.0)
+
+
+def capacitance_worst_case(
+    table: pd.DataFrame, applied_peak_v: pd.Series, t_operating_c: pd.Series, data: StressData
+) -> pd.DataFrame:
+    """Worst-case minimum capacitance and each factor behind it.
+
+    c_worst = nominal x (1 - negative tolerance) x (1 - temperature-characteristic loss)
+    x (1 - DC-bias loss) x (1 - aging loss over the required life). Class II/III codes give
+    their maximum change over the rated range (EIA-198), taken in full; class I loses
+    alpha x (T - 25 degC) at its worst; DC bias uses a per-part curve column ``dc_bias_keep``
+    where the parts data gave one, else the generic curve (marked generic).
+    """
+    nominal = _col(table, "capacitance_f")
+    tol_pct = _col(table, "tol_minus_pct")
+    tol_abs = _col(table, "tol_abs_f")
+    tol_frac = (tol_pct / 100.0).fillna(tol_abs / nominal)
+    tol_assumed = tol_frac.isna()
+    tol_frac = tol_frac.fillna(data.default_tol_pct / 100.0)
+
+    cls = _col(table, "dielectric_class")
+    class23 = cls.isin([2.0, 3.0])
+    temp_loss = pd.Series(0.0, index=table.index)
+    temp_loss = temp_loss.mask(class23, _col(table, "cap_change_minus_pct") / 100.0)
+    temp_loss = temp_loss.mask(
+        cls == 1.0, _class1_loss(_col(table, "tc_ppm"), _col(table, "tc_tol_ppm"), t_operating_c)
+    )
+    temp_loss = temp_loss.fillna(0.0)
+
+    rated = _col(table, "voltage_v")
+    part_keep = _col(table, "dc_bias_keep")
+    generic_keep = _dc_bias_remaining(applied_peak_v / rated, _text(table, "package"), data)
+    bias_keep = pd.Series(1.0, index=table.index)
+    bias_keep = bias_keep.mask(class23, part_keep.fillna(generic_keep))
+    bias_generic = class23 & part_keep.isna() & generic_keep.notna() & (generic_keep < 1.0)
+    bias_unknown = class23 & part_keep.isna() & generic_keep.isna()
+    bias_keep = bias_keep.fillna(1.0)
+
+    life = _col(table, "life_h")
+    k = _aging_k(table, data)
+    decades = np.log10(np.fmax(life, AGING_T0_H) / AGING_T0_H)
+    aging_loss = (k / 100.0 * decades).fillna(0.0).clip(lower=0.0, upper=1.0)
+    aging_unknown = (k > 0) & life.isna()
+
+    tol_factor = 1.0 - tol_frac
+    c_worst = nominal * tol_factor * (1.0 - temp_loss) * bias_keep * (1.0 - aging_loss)
+    c_min = _col(table, "c_min_f")
+
+    notes = pd.Series("", index=table.index, dtype=object)
+    notes = notes.mask(tol_assumed, notes + f"tolerance not given, {data.default_tol_pct:g} % assumed; ")
+    notes = notes.mask(bias_generic, notes + "DC-bias loss from the generic typical curve (common "
+                       "practice), give part data; ")
+    notes = notes.mask(bias_unknown, notes + "DC-bias loss not counted (voltage unknown); ")
+    notes = notes.mask(aging_unknown, notes + "aging not counted (no required life given); ")
+    generic = tol_assumed | bias_generic | bias_unknown | aging_unknown
+    return pd.DataFrame(
+        {
+            "c_tol_factor": tol_factor,
+            "c_temp_factor": 1.0 - temp_loss,
+            "c_bias_factor": bias_keep,
+            "c_aging_factor": 1.0 - aging_loss,
+            "c_worst_f": c_worst,
+            "c_margin": c_worst / c_min,
+            "c_margin_basis": np.where(generic, "generic", np.where(bias_keep < 1.0, "part", "")),
+            "c_margin_note": notes.str.rstrip("; "),
+        },
+        index=table.index,
+    )
+
+
+def compute(table: pd.DataFrame, data: StressData) -> pd.DataFrame:
+    """The table with every metric column added (see ``bomcheck.vocabulary.METRICS``)."""
+    volts = applied_voltages(table)
+    rated = _col(table, "voltage_v")
+    is_ac = _text(table, "voltage_kind") == "ac"
+    dc_ratio = volts["applied_peak_v"] / rated
+    ac_ratio = _col(table, "v_ac_rms") / rated
+    polarized = table["polarized"].fillna(False).astype(bool) if "polarized" in table else False
+    t_operating = _col(table, "t_ambient_c") + _col(table, "t_rise_c").fillna(0.0)
+    metrics = pd.DataFrame(
+        {
+            "v_upper_v": volts["v_upper_v"],
+            "applied_peak_v": volts["applied_peak_v"],
+            "transient_peak_v": volts["transient_peak_v"],
+            "voltage_ratio": dc_ratio.where(~is_ac, ac_ratio),
+            "transient_ratio": (volts["transient_peak_v"] / rated).where(~is_ac),
+            "reverse_ratio": (_col(table, "v_reverse_pk") / rated).where(polarized),
+            "rated_voltage_v": rated,
+            "t_operating_c": t_operating,
+            "temp_margin_c": _col(table, "temp_max_c") - t_operating,
+        },
+        index=table.index,
+    )
+    caps = capacitance_worst_case(table, volts["applied_peak_v"], t_operating, data)
+    return pd.concat([table.drop(columns=[c for c in (*metrics, *caps) if c in table]),
+                      metrics, caps], axis=1)
