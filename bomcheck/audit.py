@@ -12,7 +12,7 @@ import numpy as np
 import pandas as pd
 
 from bomcheck import __version__
-from bomcheck.report import STATUS_ORDER, Report, worst_status
+from bomcheck.report import STATUS_ORDER, Report, ruleset_summary, worst_status
 
 # Verdict ids the audit itself gives (not from a rule file): data problems, never a silent pass.
 NO_DESIGN_ROW = "design.missing"
@@ -31,13 +31,24 @@ class AuditOptions:
 
 
 def _stress_data(ruleset):
+    """The rule set's assumed data (generic DC-bias curves, aging rates) for the stress stage."""
     from bomcheck.stresses import StressData
 
-    return StressData(
-        dc_bias=ruleset.dc_bias_curves(),
-        aging_k=ruleset.aging_rates(),
-        default_tol_pct=ruleset.default_tol_pct,
-    )
+    kwargs: dict = {}
+    bias = ruleset.dc_bias
+    if bias is not None:
+        curves = {"default": (tuple(bias.xs), tuple(bias.ys))}
+        curves.update({name.upper(): (tuple(xs), tuple(ys)) for name, xs, ys in bias.packages})
+        kwargs["dc_bias"] = curves
+    aging = ruleset.aging
+    if aging is not None:
+        rates = {code.upper(): k for code, k in aging.k_by_dielectric}
+        rates.update({f"class{cls}": k for cls, k in aging.k_by_class})
+        kwargs["aging_k"] = rates
+        kwargs["aging_t0_h"] = aging.t0_h
+    if ruleset.typical is not None:
+        kwargs["typical_temp_max_c"] = dict(ruleset.typical.temp_max_c)
+    return StressData(**kwargs)
 
 
 def _audit_verdicts(table: pd.DataFrame, rule_verdicts: pd.DataFrame,
@@ -113,7 +124,7 @@ def run_audit(bom_path: str, design_path: str | None, options: AuditOptions = Au
     totals.update({s: int(counts.get(s, 0)) for s in STATUS_ORDER})
     return Report(
         tool_version=__version__,
-        rulesets=ruleset.summary(),
+        rulesets=ruleset_summary(ruleset),
         inputs=tuple(inputs),
         table=table,
         verdicts=verdicts,

@@ -35,9 +35,13 @@ def build_parser() -> argparse.ArgumentParser:
     )
     parser.add_argument("--version", action="version", version=f"bomcheck {__version__}")
     parser.add_argument("--debug", action="store_true", help="show tracebacks for errors")
+    # --debug is accepted before or after the command name.
+    common = argparse.ArgumentParser(add_help=False)
+    common.add_argument("--debug", action="store_true", default=argparse.SUPPRESS,
+                        help="show tracebacks for errors")
     sub = parser.add_subparsers(dest="command", metavar="COMMAND")
 
-    p = sub.add_parser("import", help="read a BOM and list its capacitor placements",
+    p = sub.add_parser("import", parents=[common], help="read a BOM and list its capacitor placements",
                        description="Read a BOM (CSV, TSV, XLSX) and list every capacitor "
                        "placement with its parsed specification; every row is accounted for.")
     p.add_argument("bom", help="BOM file (.csv, .tsv, .txt, .xlsx)")
@@ -45,12 +49,12 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--json", action="store_true", help="print JSON instead of a table")
     p.add_argument("--all", action="store_true", help="show every placement, not the first 50")
 
-    p = sub.add_parser("parse", help="parse capacitor value text",
+    p = sub.add_parser("parse", parents=[common], help="parse capacitor value text",
                        description="Parse capacitor value strings such as '4u7 50V X7R' or "
                        "'CAP CER 0.1UF 16V 10%% X5R 0402' into a specification.")
     p.add_argument("text", nargs="+", help="value text to parse")
     p.add_argument("--json", action="store_true", help="print JSON instead of a table")
-    p = sub.add_parser("audit", help="audit a BOM against derating rules under the design's "
+    p = sub.add_parser("audit", parents=[common], help="audit a BOM against derating rules under the design's "
                        "operating conditions",
                        description="Audit every fitted capacitor placement of a BOM: applied "
                        "voltage, temperature and worst-case capacitance against the derating "
@@ -71,7 +75,7 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--quiet", action="store_true", help="print only the totals line")
     _add_import_options(p)
 
-    p = sub.add_parser("rules", help="list the rules of a rule set with limits and sources",
+    p = sub.add_parser("rules", parents=[common], help="list the rules of a rule set with limits and sources",
                        description="List shipped rule sets, or the rules of one (by name or "
                        "path) with their limits and sources.")
     p.add_argument("name", nargs="*", help="rule set name or TOML path (default: list the sets)")

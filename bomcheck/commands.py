@@ -16,8 +16,10 @@ EXIT_CLEAN, EXIT_FINDINGS = 0, 1
 def _console(args: argparse.Namespace, *, stderr: bool = False):
     from bomcheck.render import make_console
 
-    return make_console(file=sys.stderr if stderr else None,
-                        no_color=bool(os.environ.get("NO_COLOR")))
+    stream = sys.stderr if stderr else sys.stdout
+    # A pipe or a CI log has no width of its own; 132 columns keep the audit table readable.
+    width = None if stream.isatty() or os.environ.get("COLUMNS") else 132
+    return make_console(file=stream, no_color=bool(os.environ.get("NO_COLOR")), width=width)
 
 
 def _import_options(args: argparse.Namespace):

@@ -35,8 +35,10 @@ def expand(text: str, *, path: str | None = None, row: int | None = None) -> lis
     t = text.strip().strip(",;")
     if not t:
         return []
-    # Join "C10 .. C12" and "C1 - C3" written with spaces around the range mark.
-    t = re.sub(r"\s*(\.\.|\u2013|-)\s*", lambda m: m.group(1), t)
+    # Join "C10 .. C12", "C1 - C3", "C1 : C3" and "C1 to C3" written with spaces around the
+    # range mark ("to" only between a number and a designator, so words stay apart).
+    t = re.sub(r"\s*(\.\.|\u2013|-|:)\s*|(?<=\d)\s+(to)\s+(?=[A-Za-z_]*\d)",
+               lambda m: m.group(1) or m.group(2), t)
     out: list[str] = []
     for item in _SPLIT.split(t):
         if not item:

@@ -140,37 +140,42 @@ def _conditions(rec) -> str:
     if not _isnan(rec.v_upper_v):
         v = f"{rec.v_upper_v:.4g} V"
         if not _isnan(getattr(rec, "v_ripple_pk", math.nan)) and rec.v_ripple_pk:
-            v += f" + {rec.v_ripple_pk:.3g} pk"
+            v += f"+{rec.v_ripple_pk:.3g}"
         parts.append(v)
+    elif not _isnan(getattr(rec, "v_ac_rms", math.nan)):
+        parts.append(f"{rec.v_ac_rms:.4g} V rms")
     if not _isnan(rec.t_operating_c):
         parts.append(f"{rec.t_operating_c:.4g} °C")
     return ", ".join(parts)
 
 
 def print_audit(console: Console, report, *, show_all: bool = False) -> None:
-    """The audit table worst first, the totals by status, what was not audited, the cautions."""
+    """The audit table worst first, the findings behind it, the totals by status, what was not
+    audited, and the cautions."""
     gov = report.governing()
     ordered = report.worst_first()
     table = Table(title="Capacitor derating audit (worst first)", header_style="heading")
     for col, just in (("refdes", "left"), ("row", "right"), ("value", "left"), ("technology", "left"),
                       ("conditions", "left"), ("stress", "right"), ("limit", "right"),
-                      ("status", "left"), ("rule", "left"), ("explanation", "left")):
+                      ("status", "left"), ("rule", "left")):
         table.add_column(col, justify=just, overflow="fold")
     limit = len(ordered) if show_all else DEFAULT_ROWS
-    for i, rec in zip(ordered.index[:limit], ordered.head(limit).itertuples(index=False)):
+    shown = ordered.head(limit)
+    for i, rec in zip(shown.index, shown.itertuples(index=False)):
         g = gov.loc[i] if i in gov.index else None
-        value = "" if g is None else _fmt_metric(g.get("value"), g.get("metric"))
-        lim = "" if g is None else _fmt_metric(g.get("limit"), g.get("metric"))
         table.add_row(
             rec.refdes, str(rec.row), _short_value(rec), rec.technology or "?",
-            _conditions(rec), value, lim, status_text(rec.status),
-            "" if g is None else str(g["rule_id"]), "" if g is None else str(g["message"]),
+            _conditions(rec),
+            "" if g is None else _fmt_metric(g.get("value"), g.get("metric")),
+            "" if g is None else _fmt_metric(g.get("limit"), g.get("metric")),
+            status_text(rec.status), "" if g is None else str(g["rule_id"]),
         )
     console.print(table)
     if len(ordered) > limit:
         console.print(f"[muted]... {len(ordered) - limit} more placements (use --all)[/]")
+    print_findings(console, report, shown.index if not show_all else None)
     for d in report.design_unmatched:
-        console.print(f"[status.nodata]nodata[/] {d['reason']}")
+        console.print(Text.assemble(status_text("nodata"), f" {d['reason']}"))
     t = report.totals
     counts = "  ".join(f"[status.{s}]{s} {t.get(s, 0)}[/]" for s in ("fail", "nodata", "warn", "pass"))
     console.print(f"[heading]Placements audited {t['audited']}:[/] {counts}")
@@ -180,12 +185,30 @@ def print_audit(console: Console, report, *, show_all: bool = False) -> None:
         for d in not_audited:
             kinds[d["kind"]] = kinds.get(d["kind"], 0) + 1
         console.print("Not audited: " + ", ".join(f"{k.replace('_', ' ')} {n}" for k, n in kinds.items())
-                      + " (reasons in the JSON and spreadsheet reports)")
+                      + " (each with its reason in the JSON report; bomcheck import lists them)")
     console.print(accounting_line(t))
-    console.print(f"Rule sets: {', '.join(r['name'] + ' ' + r['version'] for r in report.rulesets)}")
+    console.print("Rule sets: " + ", ".join(f"{r['name']} {r['version']}" for r in report.rulesets))
     for c in report.cautions:
         console.print(f"[caution]Caution: {c}[/]")
-    console.print(f"Overall: ", status_text(report.status))
+    console.print(Text.assemble("Overall: ", status_text(report.status)))
+
+
+def print_findings(console: Console, report, placements=None, limit: int = 40) -> None:
+    """Every verdict that is not a pass, one line each, worst first (only for ``placements``
+    when given: the rows the table showed)."""
+    v = report.verdicts
+    v = v[v["status"] != "pass"]
+    if placements is not None:
+        v = v[v["pidx"].isin(placements)]
+    if not len(v):
+        return
+    rank = {"fail": 0, "nodata": 1, "warn": 2}
+    v = v.assign(_r=v["status"].map(rank)).sort_values(["_r", "pidx", "rule_id"], kind="stable")
+    console.print(Text("Findings", style="heading"))
+    for status, message in zip(v["status"].head(limit), v["message"].head(limit)):
+        console.print(Text.assemble("  ", status_text(status), " ", str(message)))
+    if len(v) > limit:
+        console.print(f"[muted]  ... {len(v) - limit} more findings (all of them in the JSON report)[/]")
 
 
 def _short_value(rec) -> str:
@@ -218,8 +241,10 @@ def print_ruleset_names(console: Console, names: Iterable[str], default: str) ->
 
 def print_rules(console: Console, ruleset) -> None:
     """Every rule of a rule set with its limits and source."""
-    rows = ruleset.describe()
-    summary = ruleset.summary()
+    from bomcheck.report import ruleset_summary
+
+    rows = [r.to_dict() for r in ruleset.describe()]
+    summary = ruleset_summary(ruleset)
     title = "; ".join(f"{s['name']} {s['version']}: {s['title']}" for s in summary)
     table = Table(title=title, header_style="heading", show_lines=False)
     keys = list(rows[0]) if rows else []

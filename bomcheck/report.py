@@ -34,7 +34,8 @@ SPEC_FIELDS: tuple[str, ...] = tuple(k for k in SPEC_KEYS if k != "text")
 CONDITION_FIELDS: tuple[str, ...] = (*CONDITIONS, "notes", "group", "design_row", "condition_source")
 METRIC_FIELDS: tuple[str, ...] = (
     "v_upper_v", "applied_peak_v", "transient_peak_v", "voltage_ratio", "transient_ratio",
-    "reverse_ratio", "rated_voltage_v", "t_operating_c", "temp_margin_c",
+    "reverse_ratio", "rated_voltage_v", "t_operating_c", "temp_max_used_c", "temp_margin_c",
+    "temp_margin_c_basis",
     "c_tol_factor", "c_temp_factor", "c_bias_factor", "c_aging_factor", "c_worst_f", "c_margin",
     "c_margin_basis", "c_margin_note",
 )
@@ -42,6 +43,20 @@ FINDING_FIELDS = {  # JSON key -> verdict column
     "rule": "rule_id", "status": "status", "value": "value", "limit": "limit",
     "warn_limit": "warn_limit", "margin": "margin", "message": "message", "source": "source",
 }
+
+
+def ruleset_summary(ruleset) -> tuple[dict, ...]:
+    """One entry per rule-set file in force (load order), the last carrying the merged sources."""
+    layers = list(ruleset.layers) or []
+    sources = [{"id": s.id, "title": s.title, "clause": s.clause, "confidence": s.confidence}
+               for s in ruleset.sources]
+    out = [{"name": layer.name, "title": layer.title, "version": layer.version,
+            "path": layer.path, "extends": layer.extends} for layer in layers]
+    if not out:
+        out = [{"name": ruleset.name, "title": ruleset.title, "version": ruleset.version,
+                "path": None, "extends": None}]
+    out[-1]["sources"] = sources
+    return tuple(out)
 
 
 def worst_status(statuses) -> str:

@@ -14,9 +14,6 @@ from dataclasses import dataclass, field
 import numpy as np
 import pandas as pd
 
-# Reference time of capacitor aging, t0 = 1 h after the last heating above the Curie point
-# (common practice; the form C(t) = C(t0) x (1 - k/100 x log10(t/t0))).
-AGING_T0_H = 1.0
 
 
 @dataclass(frozen=True)
@@ -34,7 +31,13 @@ class StressData:
         default_factory=lambda: {"default": ((0.0, 1.0), (1.0, 1.0))}
     )
     aging_k: Mapping[str, float] = field(default_factory=dict)
+    # Reference time of aging, t0 = 1 h after the last heating above the Curie point
+    # (common practice; the form C(t) = C(t0) x (1 - k/100 x log10(t/t0))).
+    aging_t0_h: float = 1.0
     default_tol_pct: float = 20.0
+    # Typical rated maximum temperature by technology (keys "ceramic-class1".. first), used where
+    # the BOM text gives none; a temperature margin resting on it is marked generic.
+    typical_temp_max_c: Mapping[str, float] = field(default_factory=dict)
 
 
 def _col(table: pd.DataFrame, name: str) -> pd.Series:
@@ -81,6 +84,7 @@ def _class1_loss(tc: pd.Series, tol: pd.Series, t_op: pd.Series) -> pd.Series:
 def _dc_bias_remaining(ratio: pd.Series, package: pd.Series, data: StressData) -> pd.Series:
     """Fraction of capacitance left at ``ratio`` = applied / rated, from the generic curves."""
     out = pd.Series(np.nan, index=ratio.index, dtype=float)
+    package = package.str.upper()
     keys = package.where(package.isin(list(data.dc_bias)), "default")
     for key in pd.unique(keys):
         xs, ys = data.dc_bias.get(key, data.dc_bias["default"])
@@ -137,7 +141,7 @@ def capacitance_worst_case(
 
     life = _col(table, "life_h")
     k = _aging_k(table, data)
-    decades = np.log10(np.fmax(life, AGING_T0_H) / AGING_T0_H)
+    decades = np.log10(np.fmax(life, data.aging_t0_h) / data.aging_t0_h)
     aging_loss = (k / 100.0 * decades).fillna(0.0).clip(lower=0.0, upper=1.0)
     aging_unknown = (k > 0) & life.isna()
 
@@ -159,12 +163,26 @@ def capacitance_worst_case(
             "c_bias_factor": bias_keep,
             "c_aging_factor": 1.0 - aging_loss,
             "c_worst_f": c_worst,
-            "c_margin": c_worst / c_min,
+            # c_min_f = 0 is the design sheet's "none": no need stated, so no margin.
+            "c_margin": (c_worst / c_min).where(c_min > 0),
             "c_margin_basis": np.where(generic, "generic", np.where(bias_keep < 1.0, "part", "")),
             "c_margin_note": notes.str.rstrip("; "),
         },
         index=table.index,
     )
+
+
+def rated_temp_max(table: pd.DataFrame, data: StressData) -> tuple[pd.Series, pd.Series]:
+    """(rated maximum temperature, True where it is the typical value of the technology)."""
+    stated = _col(table, "temp_max_c")
+    tech = _text(table, "technology")
+    cls = _col(table, "dielectric_class")
+    by_class = (tech + "-class" + cls.map(lambda c: "" if np.isnan(c) else str(int(c)))).where(
+        tech == "ceramic", "")
+    typical = by_class.map(data.typical_temp_max_c).astype(float)
+    typical = typical.fillna(tech.map(data.typical_temp_max_c).astype(float))
+    assumed = stated.isna() & typical.notna()
+    return stated.fillna(typical), assumed
 
 
 def compute(table: pd.DataFrame, data: StressData) -> pd.DataFrame:
@@ -176,6 +194,7 @@ def compute(table: pd.DataFrame, data: StressData) -> pd.DataFrame:
     ac_ratio = _col(table, "v_ac_rms") / rated
     polarized = table["polarized"].fillna(False).astype(bool) if "polarized" in table else False
     t_operating = _col(table, "t_ambient_c") + _col(table, "t_rise_c").fillna(0.0)
+    temp_max, temp_assumed = rated_temp_max(table, data)
     metrics = pd.DataFrame(
         {
             "v_upper_v": volts["v_upper_v"],
@@ -186,7 +205,9 @@ def compute(table: pd.DataFrame, data: StressData) -> pd.DataFrame:
             "reverse_ratio": (_col(table, "v_reverse_pk") / rated).where(polarized),
             "rated_voltage_v": rated,
             "t_operating_c": t_operating,
-            "temp_margin_c": _col(table, "temp_max_c") - t_operating,
+            "temp_max_used_c": temp_max,
+            "temp_margin_c": temp_max - t_operating,
+            "temp_margin_c_basis": np.where(temp_assumed, "generic", ""),
         },
         index=table.index,
     )

@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import functools
 import math
+import re
 
 from bomcheck.errors import UnitError
 
@@ -42,13 +43,24 @@ def registry():
     return ureg
 
 
-_TEMPERATURE_UNITS = {"degC", "degree_Celsius", "celsius", "kelvin", "degF", "degree_Fahrenheit"}
+# Quantities measured in temperature differences: "degC" written in them is a step, not a point
+# on the scale (pint would otherwise convert "2 degC/W" through the kelvin offset to 275.15).
+_DELTA_QUANTITIES = {"temperature_delta", "thermal_resistance"}
+_OFFSET_UNIT = re.compile(
+    r"(?<![A-Za-z_])(degC|degF|degree_Celsius|degree_Fahrenheit|celsius|fahrenheit)(?![A-Za-z_])"
+)
+_DELTA_OF = {"degC": "delta_degC", "degree_Celsius": "delta_degC", "celsius": "delta_degC",
+             "degF": "delta_degF", "degree_Fahrenheit": "delta_degF", "fahrenheit": "delta_degF"}
+# "1,5" is a decimal comma; "1,500" could be 1.5 or 1500 and is refused rather than guessed.
+_THOUSANDS_COMMA = re.compile(r"\d,\d{3}(?!\d)")
+_DECIMAL_COMMA = re.compile(r"(?<=\d),(?=\d)")
 
 
 def _clean(text: str) -> str:
     # Both micro glyphs (U+00B5 and U+03BC) are real input; pint knows only "u" or "micro".
     t = text.strip().replace("\u00b5", "u").replace("\u03bc", "u").replace("\u00b0C", "degC")
     t = t.replace("\u00b0F", "degF").replace("\u2126", "ohm").replace("\u03a9", "ohm")
+    t = t.replace("\u2103", "degC").replace("\u2109", "degF")  # the one-glyph degree signs
     return t
 
 
@@ -62,17 +74,28 @@ def to_si(text: str, quantity: str, default_unit: str | None = None) -> float:
     not a quantity or has the wrong dimension.
     """
     target = SI_UNITS[quantity]
+    if default_unit is not None:
+        default_unit = _clean(default_unit)
     cleaned = _clean(str(text))
     if not cleaned:
         raise UnitError("empty value", text=str(text), expected=f"a {quantity.replace('_', ' ')}")
+    if _THOUSANDS_COMMA.search(cleaned):
+        raise UnitError("ambiguous comma (decimal or thousands?)", text=str(text),
+                        expected="a number without digit grouping, such as 1500 or 1.5")
+    cleaned = _DECIMAL_COMMA.sub(".", cleaned)
     try:
-        number = float(cleaned.replace(",", "."))
+        number = float(cleaned)
     except ValueError:
         number = None
     if number is not None:
+        if not math.isfinite(number):
+            raise UnitError("not a finite number", text=str(text),
+                            expected=f"a {quantity.replace('_', ' ')} such as {_example(quantity)}")
         if default_unit is None or default_unit == target:
             return number
         cleaned = f"{number} {default_unit}"
+    if quantity in _DELTA_QUANTITIES:
+        cleaned = _OFFSET_UNIT.sub(lambda m: _DELTA_OF[m.group(1)], cleaned)
     ureg = registry()
     try:
         q = ureg.Quantity(cleaned)
@@ -85,12 +108,7 @@ def to_si(text: str, quantity: str, default_unit: str | None = None) -> float:
     if not isinstance(q, ureg.Quantity):  # a plain number after all
         q = ureg.Quantity(float(q), default_unit or target)
     try:
-        if quantity == "temperature_delta" and str(q.units) in _TEMPERATURE_UNITS:
-            # "10 degC" written for a margin or a rise means a difference of 10 kelvin.
-            scale = 5.0 / 9.0 if "F" in str(q.units) else 1.0
-            value = float(q.magnitude) * scale
-        else:
-            value = float(q.to(target).magnitude)
+        value = float(q.to(target).magnitude)
     except Exception:
         raise UnitError(
             f"wrong dimension ({q.dimensionality})",

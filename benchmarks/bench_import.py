@@ -1,0 +1,103 @@
+"""Benchmark of the read and normalise stages: ``read_bom`` against ``pandas.read_csv``.
+
+Writes a synthetic BOM of 100k capacitor placements (a few hundred distinct value strings, some
+grouped designator lines, not-fitted lines and non-capacitor lines) to a temporary directory,
+then times ``pandas.read_csv`` of the file and ``bomcheck.importer.read_bom`` of the same file
+alternately in this process, after both are imported, and prints the medians and their ratio.
+
+    python benchmarks/bench_import.py [--placements 100000] [--runs 7]
+"""
+
+from __future__ import annotations
+
+import argparse
+import random
+import statistics
+import tempfile
+import time
+from pathlib import Path
+
+
+def _values(rng: random.Random, n: int) -> list[tuple[str, str]]:
+    """``n`` distinct (value, description) pairs written the way BOMs write them."""
+    mantissas = ("1", "1.5", "2.2", "3.3", "4.7", "6.8", "10", "15", "22", "33", "47", "68",
+                 "100", "220", "470")
+    out: set[tuple[str, str]] = set()
+    while len(out) < n:
+        m, p = rng.choice(mantissas), rng.choice("pnu")
+        v = rng.choice(("6V3", "10V", "16V", "25V", "50V", "100V"))
+        d = rng.choice(("X7R", "X5R", "C0G", "X6S"))
+        style = rng.randrange(4)
+        value = (f"{m}{p}F", f"{m}{p}", f"{m}{p}F {v}", f"{m} {p}F/{v}")[style]
+        out.add((value, f"CAP CER {m}{p}F {v} {d} {rng.choice(('0402', '0603', '0805'))}"))
+    return sorted(out)
+
+
+def write_bom(path: Path, placements: int, distinct: int = 300, seed: int = 1) -> None:
+    """A flat export: mostly one designator per row, 2 % grouped lines, 1 % not fitted, and one
+    non-capacitor row per twenty capacitor rows."""
+    rng = random.Random(seed)
+    values = _values(rng, distinct)
+    lines = ["Designator,Qty,Value,Description,Manufacturer,MPN,Package,Voltage,Notes"]
+    n = 0
+    r = 0
+    while n < placements:
+        value, desc = rng.choice(values)
+        pkg = desc.rsplit(" ", 1)[1]
+        volt = desc.split()[3]
+        mpn = f"KV-{abs(hash((value, desc))) % 9000 + 1000}-{pkg}"
+        roll = rng.random()
+        if roll < 0.02 and placements - n >= 4:
+            k = rng.randrange(2, 5)
+            ref = f'"C{n + 1}-C{n + k}"'
+            qty = k
+        else:
+            k, ref, qty = 1, f"C{n + 1}", 1
+        note = "DNP" if roll > 0.99 else ""
+        lines.append(f"{ref},{qty},{value},{desc},Kvellon Passives,{mpn},{pkg},{volt},{note}")
+        n += k
+        r += 1
+        if r % 20 == 0:
+            lines.append(f"R{r},1,4K7,RES 4K7 1% 0402,Ohmtek,RT-4K7-0402,0402,,")
+    path.write_text("\n".join(lines) + "\n", encoding="utf-8")
+
+
+def main() -> None:
+    ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    ap.add_argument("--placements", type=int, default=100_000)
+    ap.add_argument("--runs", type=int, default=7)
+    args = ap.parse_args()
+
+    import pandas as pd
+
+    from bomcheck.importer import read_bom
+
+    with tempfile.TemporaryDirectory() as tmp:
+        path = Path(tmp) / "bench_bom.csv"
+        write_bom(path, args.placements)
+        size = path.stat().st_size
+        result = read_bom(str(path))  # warm-up; also the accounting shown below
+        pd.read_csv(path)
+        t_csv: list[float] = []
+        t_bom: list[float] = []
+        for _ in range(args.runs):
+            t0 = time.perf_counter()
+            pd.read_csv(path)
+            t1 = time.perf_counter()
+            read_bom(str(path))
+            t2 = time.perf_counter()
+            t_csv.append(t1 - t0)
+            t_bom.append(t2 - t1)
+    csv_s, bom_s = statistics.median(t_csv), statistics.median(t_bom)
+    totals = result.totals
+    print(f"BOM: {totals['rows_read']} rows, {totals['placements']} placements "
+          f"({totals['fitted']} fitted), {size / 1e6:.1f} MB, "
+          f"{result.placements['value_text'].nunique()} distinct value strings")
+    print(f"pandas.read_csv: {csv_s * 1000:.0f} ms (median of {args.runs})")
+    print(f"read_bom:        {bom_s * 1000:.0f} ms (median of {args.runs}); "
+          f"{totals['placements'] / bom_s / 1e3:.0f}k placements/s")
+    print(f"ratio read_bom / read_csv: {bom_s / csv_s:.2f} (goal: at most 3)")
+
+
+if __name__ == "__main__":
+    main()

@@ -1,0 +1,1050 @@
+"""Normalise stage: a BOM file to one row per capacitor placement, every source row accounted for.
+
+``read_bom`` reads the table (``bomcheck.reader``), maps the columns (``bomcheck.columns``),
+joins continuation rows to the line above, expands designator lists (``bomcheck.refdes``),
+parses each distinct combination of value-bearing cells once (``bomcheck.values.parse_value``)
+and maps the results back to the lines by code, then decides for every line: capacitor
+placements (fitted or not), a non-capacitor row, or an unreadable row with its reason.
+
+Capacitor or not, per line (prefix from the designators, evidence from the parsed text):
+
+- capacitor prefix (C, CP, CE, CT, CX, CY, CB...): a capacitor when the text reads as one, unless
+  it rests only on a bare code (``104``, ``2R2``) and the text also names another part
+  (``2R2 RES``); a not-fitted line with no readable value is still a (not fitted) placement;
+  otherwise unreadable;
+- prefix of another part (R, L, D, CR, CN, CON, CRY, Y, U...): not a capacitor;
+- any other prefix: a capacitor only when the text says so on its own (a farad unit, capacitor
+  words or a dielectric code) and names no other part.
+
+Reasons given for rows not taken (``skipped.reason``), kind ``unreadable``:
+
+- ``no designator`` - the designator cell is empty (and the row does not only continue the
+  description or notes of the line above);
+- ``repeated header row`` - the header row again (page breaks in some exports);
+- ``designator not readable: 'X'`` / ``designator list not readable: <problem> ('X')`` - the
+  cell does not expand to designators such as ``C12``;
+- ``designators mix capacitor and other prefixes (C, R)``;
+- ``capacitor designator, but the text reads as a <family> ('token')`` - e.g. ``4u7H`` on C5;
+- ``capacitor designator, but no capacitor value could be read ('text')`` and
+  ``capacitor designator with no value or description``.
+
+Kind ``not_capacitor``:
+
+- ``designator prefix 'R' (resistor) is not a capacitor``, with ``; the text reads as a
+  capacitor, check the designator`` added when the text disagrees;
+- ``the text reads as a <family> ('token')``, ``designator prefix 'E' is not a capacitor
+  prefix and only a bare code reads as a capacitor ('104')``, ``no capacitor evidence in the
+  text ('text')`` and ``no value or description`` - for prefixes that are neither.
+
+A continuation row not taken carries its line's reason with ``(continuation of row N)``.
+Placements of a line all carry the line's first source row, also for designators written on
+its continuation rows.
+"""
+
+from __future__ import annotations
+
+import functools
+import hashlib
+import math
+import re
+from collections.abc import Mapping
+from concurrent.futures import ThreadPoolExecutor
+from dataclasses import asdict, dataclass, field, replace
+from typing import TYPE_CHECKING, Any
+
+import numpy as np
+import pandas as pd
+
+from bomcheck import columns as colmod
+from bomcheck import reader
+from bomcheck.errors import InputError
+from bomcheck.refdes import expand, is_designator, prefix
+from bomcheck.spec import SPEC_KEYS
+
+if TYPE_CHECKING:
+    from bomcheck.spec import CapSpec
+
+SPEC_COLUMNS: tuple[str, ...] = tuple(k for k in SPEC_KEYS if k != "text")
+PLACEMENT_COLUMNS: tuple[str, ...] = (
+    "refdes", "row", "line", "fitted", "not_fitted_reason", "text", "value_text",
+    "description", "mpn", "manufacturer", "qty", *SPEC_COLUMNS,
+)
+SKIPPED_COLUMNS: tuple[str, ...] = ("row", "kind", "reason", "text")
+
+# Designator prefixes of capacitors, and of parts that are not capacitors although some start
+# with C (common practice; IEEE 315 / ASME Y14.44 class letters as used in trade BOMs).
+CAPACITOR_PREFIXES: frozenset[str] = frozenset(
+    {"C", "CA", "CB", "CC", "CE", "CF", "CP", "CT", "CV", "CX", "CY", "VC"}
+)
+OTHER_PREFIXES: dict[str, str] = {
+    "CR": "diode", "D": "diode", "ZD": "diode", "LED": "LED",
+    "CN": "connector", "CON": "connector", "CONN": "connector", "J": "connector",
+    "P": "connector", "X": "crystal", "Y": "crystal", "XT": "crystal", "XTAL": "crystal",
+    "CRY": "crystal", "CRYS": "crystal", "R": "resistor", "RN": "resistor network",
+    "RP": "resistor network", "RA": "resistor network", "RT": "thermistor",
+    "RV": "varistor", "VR": "variable resistor", "L": "inductor", "FB": "ferrite bead",
+    "FL": "filter", "Q": "transistor", "U": "integrated circuit", "IC": "integrated circuit",
+    "T": "transformer", "TR": "transformer", "K": "relay", "F": "fuse", "S": "switch",
+    "SW": "switch", "TP": "test point", "JP": "jumper", "BT": "battery", "H": "hardware",
+    "MH": "mounting hole", "FID": "fiducial", "LS": "loudspeaker", "W": "wire",
+}
+
+_CAP_KIND, _OTHER_KIND, _UNKNOWN_KIND = 1, -1, 0
+_CAP, _NONCAP, _UNREAD = 0, 1, 2
+_KIND_ARRAY = np.array(["capacitor", "not_capacitor", "unreadable"], dtype=object)
+
+# Not-fitted marks inside cell text. Upper-case NF/NC only, and not right after a number, so
+# "100 NF" stays a capacitance. "NP" (non-polar) is deliberately absent.
+_NOT_FITTED = re.compile(
+    r"(?<![\w.])(?:"
+    r"(?i:DNP|DNI|DNF|DNM|NO[\s-]?POP(?:ULATE[D]?)?"
+    r"|NOT\s+(?:FITTED|POPULATED|PLACED|MOUNTED|INSTALLED|ASSEMBLED|USED)"
+    r"|DO\s+NOT\s+(?:POPULATE|PLACE|FIT|INSTALL|MOUNT|ASSEMBLE|STUFF)"
+    r"|NICHT\s+BEST(?:Ü|UE|U)CKT|UNBEST(?:Ü|UE|U)CKT|NON[\s-]+MONT(?:É|E)(?:ES|E|S)?)"
+    r"|(?<![\d.,]\s)(?:NF|NC|N/F|N\.F\.|N\.C\.)"
+    r")(?!\w)"
+)
+_EMPTY_BRACKETS = re.compile(r"\(\s*\)|\[\s*\]|\{\s*\}")
+_SPACES = re.compile(r"\s{2,}")
+
+# Fitted-column cells, folded (casefold, stripped).
+_FITTED_NO = frozenset({
+    "no", "n", "0", "false", "f", "nein", "non", "dnp", "dni", "dnf", "nf", "nc",
+    "not fitted", "not populated", "do not populate", "do not fit", "do not place", "no pop",
+    "nopop", "nicht bestückt", "nicht bestueckt", "non monté", "non monte", "unbestückt",
+})
+_FITTED_YES = frozenset({
+    "yes", "y", "1", "true", "t", "x", "ja", "j", "oui", "o", "fitted", "fit", "populate",
+    "populated", "place", "placed", "mount", "mounted", "bestückt", "bestueckt", "monté", "monte",
+    "\u2713", "\u2714",
+})
+
+# Text that says "capacitor" on its own: a farad unit, an RKM capacitance, capacitor words.
+_STRONG_CAP = re.compile(
+    r"\d\s*(?:[pnuµμm]|MF|UU|MM)?\s*F(?:D|ARAD)?S?\b|\d[pnuµμ]\d"
+    r"|\b(?:CAPS?|CAPACITORS?|KONDENSATOR(?:EN)?|KERKO|ELKO|TANTAL(?:UM)?|TANT|CONDENSATEURS?"
+    r"|MLCC|SUPERCAP|ELECTROLYTIC|ELEKTROLYT)\b",
+    re.IGNORECASE,
+)
+# Evidence of other parts: words anywhere, unit forms only in the value cell (a capacitor's
+# description may quote its ESR in ohms or its ripple frequency).
+_OTHER_WORDS = re.compile(
+    r"\b(?:(?P<resistor>RES|RESISTORS?|WIDERSTAND|WIDERST[ÄA]NDE|R[ÉE]SISTANCES?)"
+    r"|(?P<inductor>IND|INDUCTORS?|INDUCTANCE|CHOKE|COIL|SPULE|DROSSEL|BOBINE|FERRITE|BEAD)"
+    r"|(?P<crystal>CRYSTAL|XTAL|QUARZ|QUARTZ|RESONATOR|OSCILLATOR|OSC)"
+    r"|(?P<diode>DIODE|ZENER|TVS|SCHOTTKY|RECTIFIER|LED)"
+    r"|(?P<connector>CONN|CONNECTOR|HEADER|SOCKET|RECEPTACLE|STECKER|BUCHSE|STIFTLEISTE"
+    r"|CONNECTEUR))\b",
+    re.IGNORECASE,
+)
+_OTHER_VALUE = re.compile(
+    # IEC 60062 RKM for resistance: 4K7, 1M5, 4k7 (upper-case M; lower-case m is milli).
+    r"(?P<resistor>^\s*\d+(?:k|K|M)\d*\s*$|\d\s*[kKM]?\s*(?:Ω|Ω|[oO][hH][mM][sS]?)\b)"
+    r"|(?P<inductor>\d(?:[.,]\d+)?\s*[pnuµμm]H\b|\d[pnuµμ]\d+\s*H\b)"
+    r"|(?P<crystal>\d\s*[kMG][hH][zZ]\b)"
+)
+_RESISTOR_RKM_CAP_CODE = re.compile(r"^\s*\d{3}[KM]\s*$")  # 104K, 475M: pF code + tolerance
+
+# The cells parsed for the specification, with the parser context each one gets.
+SPEC_SOURCES: tuple[str, ...] = (
+    "value", "description", "voltage", "tolerance", "dielectric", "package", "temperature",
+)
+_SOURCE_LABELS = {
+    "value": "value", "description": "description", "voltage": "voltage column",
+    "tolerance": "tolerance column", "dielectric": "dielectric column",
+    "package": "package column", "temperature": "temperature column",
+}
+# Field groups taken whole from the first source that has the group's main (first) field.
+_GROUPS: tuple[tuple[tuple[str, ...], tuple[str, ...]], ...] = (
+    (("capacitance_f",), ("value", "description")),
+    (("voltage_v", "voltage_kind"), ("voltage", "value", "description")),
+    (("tol_minus_pct", "tol_plus_pct", "tol_abs_f"), ("tolerance", "value", "description")),
+    (("dielectric", "dielectric_class", "cap_change_minus_pct", "cap_change_plus_pct",
+      "tc_ppm", "tc_tol_ppm"), ("dielectric", "value", "description")),
+    (("technology", "film_material", "polarized"), ("dielectric", "value", "description")),
+    (("package", "package_note"), ("package", "value", "description")),
+    (("safety_class",), ("value", "description", "dielectric")),
+    (("emi_filter",), ("value", "description")),
+)
+_FLOAT_SPEC = ("capacitance_f", "voltage_v", "tol_minus_pct", "tol_plus_pct", "tol_abs_f",
+               "dielectric_class", "cap_change_minus_pct", "cap_change_plus_pct", "tc_ppm",
+               "tc_tol_ppm", "temp_min_c", "temp_max_c")
+
+
+@dataclass(frozen=True)
+class ImportOptions:
+    """How to read a BOM: sheet, forced encoding, columns named by hand, a TOML column map."""
+
+    sheet: str | int | None = None
+    encoding: str | None = None
+    columns: Mapping[str, str] = field(default_factory=dict)
+    column_map: str | None = None
+
+
+@dataclass(frozen=True)
+class BomSource:
+    """Where the placements came from: file, hash, format and the columns used."""
+
+    path: str
+    sha256: str
+    format: str
+    encoding: str | None
+    sheet: str | None
+    header_row: int
+    columns: dict[str, str]
+
+    def to_dict(self) -> dict:
+        """Plain dict for JSON."""
+        return asdict(self)
+
+
+@functools.total_ordering
+@dataclass(frozen=True)
+class ImportFinding:
+    """Something about a BOM line a reviewer must look at (quantity mismatch, column conflict).
+
+    ``refdes`` is None for a finding on a whole line.
+    """
+
+    row: int
+    refdes: str | None
+    code: str
+    message: str
+
+    def _key(self) -> tuple[int, str, str, str]:
+        return (self.row, self.refdes or "", self.code, self.message)
+
+    def __lt__(self, other: object) -> bool:
+        if not isinstance(other, ImportFinding):
+            return NotImplemented
+        return self._key() < other._key()
+
+    def to_dict(self) -> dict:
+        """Plain dict for JSON."""
+        return asdict(self)
+
+
+@dataclass(frozen=True)
+class ImportResult:
+    """Placements (one row per designator), rows not taken, findings and the totals line."""
+
+    source: BomSource
+    placements: pd.DataFrame
+    skipped: pd.DataFrame
+    findings: tuple[ImportFinding, ...]
+    totals: dict[str, int]
+
+
+# ---------------------------------------------------------------------------------------------
+# Small pure helpers (each called once per distinct string)
+
+
+def not_fitted_mark(text: str) -> str | None:
+    """The not-fitted mark in a cell (``DNP``, ``do not populate``, ``nicht bestückt``...)."""
+    m = _NOT_FITTED.search(text)
+    return m.group(0) if m else None
+
+
+def strip_not_fitted(text: str) -> str:
+    """The cell without its not-fitted marks (what is left to parse)."""
+    t = _EMPTY_BRACKETS.sub(" ", _NOT_FITTED.sub(" ", text))
+    return _SPACES.sub(" ", t).strip(" ,;/-")
+
+
+_DECIMAL_ANY = re.compile(r"(?<=\d),(?=\d)")
+# Outside semicolon files only an unambiguous decimal comma: 4,7 or 0,1 but not 1,000 (thousands)
+# and not 0603,1uF (a package code glued to the next token).
+_DECIMAL_SAFE = re.compile(r"(?<![\d,.])(0|[1-9]\d{0,2}),(\d{1,2})(?![\d,])")
+
+
+def decimal_commas(text: str, *, semicolon: bool) -> str:
+    """Decimal commas to points: every one in a semicolon file, only unambiguous ones elsewhere."""
+    if "," not in text:
+        return text
+    if semicolon:
+        return _DECIMAL_ANY.sub(".", text)
+    return _DECIMAL_SAFE.sub(r"\1.\2", text)
+
+
+def prefix_kind(pfx: str) -> int:
+    """+1 capacitor prefix, -1 known prefix of another part, 0 unknown."""
+    if pfx in CAPACITOR_PREFIXES:
+        return _CAP_KIND
+    if pfx in OTHER_PREFIXES:
+        return _OTHER_KIND
+    return _UNKNOWN_KIND
+
+
+def other_part_evidence(value: str, description: str) -> tuple[str, str] | None:
+    """(family, token) when the text names another kind of part: ``RES``, ``4u7H``, ``XTAL``."""
+    for text in (value, description):
+        m = _OTHER_WORDS.search(text)
+        if m:
+            return str(m.lastgroup), m.group(0)
+    if value and not _RESISTOR_RKM_CAP_CODE.match(value):
+        m = _OTHER_VALUE.search(value)
+        if m:
+            return str(m.lastgroup), m.group(0).strip()
+    return None
+
+
+def parse_qty(text: str) -> tuple[float, bool]:
+    """(quantity, readable): ``"4"`` -> 4.0; ``"2 pcs"`` -> 2.0; ``""`` -> NaN (readable)."""
+    t = text.strip()
+    if not t:
+        return math.nan, True
+    m = re.fullmatch(r"(\d+(?:[.,]\d+)?)\s*(?:pcs?|pc\.|x|stk\.?|st\.?|pce?s?)?", t, re.I)
+    if not m:
+        return math.nan, False
+    return float(m.group(1).replace(",", ".")), True
+
+
+def _fold(text: str) -> str:
+    return " ".join(text.casefold().split())
+
+
+# ---------------------------------------------------------------------------------------------
+# Designator lists
+
+
+# The language of bomcheck.refdes.is_designator, compiled once (prefix in group 1).
+_DESIGNATOR = re.compile(r"([A-Za-z_]+)\d+[A-Za-z]?\Z")
+_FAST_SINGLE = re.compile(r"^([A-Z_]+)\d+[A-Z]?$|^.*$", re.M)
+_FAST_SINGLE_SPACED = re.compile(r"^[ \t]*([A-Z_]+)\d+[A-Z]?[ \t]*$|^.*$", re.M)
+
+
+# A plain forward range without leading zeros (C12-C15, C12-15): the common case, expanded here
+# exactly as bomcheck.refdes.expand does; anything else goes to expand itself.
+_SIMPLE_RANGE = re.compile(r"([A-Za-z_]+)([1-9]\d{0,5})\s*-\s*(?:\1)?([1-9]\d{0,5})")
+
+
+@dataclass
+class _Designators:
+    """Per line: single designator (or None), count and first prefix; lists, errors and
+    not-fitted marks only for the lines that have them."""
+
+    single: np.ndarray
+    count: np.ndarray
+    prefix: np.ndarray
+    has_error: np.ndarray
+    error: dict[int, str]
+    mark: dict[int, str]
+    lists: dict[int, list[str]]
+
+
+def _expand_one(text: str) -> tuple[list[str], str | None, str | None]:
+    """(designators, error reason, not-fitted mark) for one designator cell."""
+    t = text.strip()
+    m = _SIMPLE_RANGE.fullmatch(t)
+    if m:
+        lo, hi = int(m.group(2)), int(m.group(3))
+        if lo <= hi:
+            p = m.group(1).upper()
+            return [f"{p}{k}" for k in range(lo, hi + 1)], None, None
+    mark = not_fitted_mark(t)
+    if mark:
+        t = strip_not_fitted(t)
+    if not t.strip():
+        return [], "no designator", mark
+    try:
+        items = expand(t)
+    except InputError as exc:
+        return [], f"designator list not readable: {exc.problem} ({exc.text!r})", mark
+    matches = [_DESIGNATOR.match(i) for i in items]
+    if not all(matches):
+        bad = next(i for i, mt in zip(items, matches) if not mt)
+        what = "designator" if len(items) == 1 else "designator list"
+        return [], f"{what} not readable: {bad!r}", mark
+    prefixes = {mt.group(1).upper() for mt in matches}  # type: ignore[union-attr]
+    if len({prefix_kind(p) for p in prefixes}) > 1:
+        pfx = ", ".join(sorted(prefixes))
+        return [], f"designators mix capacitor and other prefixes ({pfx})", mark
+    return items, None, mark
+
+
+def expand_lines(texts: np.ndarray) -> _Designators:
+    """Expand every line's designator cell.
+
+    A single designator (most lines of a flat export) takes a vectorised path: one regex scan
+    over all cells joined by newlines. Lists, ranges and odd cells go through
+    ``bomcheck.refdes.expand`` once per distinct text.
+    """
+    n = len(texts)
+    count = np.zeros(n, dtype=np.int64)
+    out = _Designators(np.full(n, None, dtype=object), count, np.full(n, "", dtype=object),
+                       np.zeros(n, dtype=bool), {}, {}, {})
+    if n == 0:
+        return out
+    big = "\n".join(texts)
+    if big.count("\n") != n - 1:
+        # A cell with a line break (Alt+Enter in a spreadsheet) goes the slow way: "," is a
+        # placeholder the single-designator pattern does not match.
+        big = "\n".join(t if "\n" not in t else "," for t in texts)
+    upper = big.upper()
+    spaced = " " in big or "\t" in big
+    found = np.array((_FAST_SINGLE_SPACED if spaced else _FAST_SINGLE).findall(upper),
+                     dtype=object)
+    fast = found != ""
+    if fast.all() and not spaced and upper == big:
+        return _Designators(texts, np.ones(n, dtype=np.int64), found, out.has_error, {}, {}, {})
+    if fast.any():
+        names = (texts if upper == big else np.array(upper.split("\n"), dtype=object))[fast]
+        if spaced:
+            names = np.array([s.strip() for s in names], dtype=object)
+        out.single[fast] = names
+        count[fast] = 1
+        out.prefix[fast] = found[fast]
+    slow = np.flatnonzero(~fast)
+    if len(slow):
+        codes, uniques = pd.factorize(texts[slow])
+        results = [_expand_one(str(u)) for u in uniques]
+        for i, code in zip(slow.tolist(), codes.tolist()):
+            items, err, mk = results[code]
+            if mk:
+                out.mark[i] = mk
+            if err is not None:
+                out.has_error[i] = True
+                out.error[i] = err if texts[i].strip() else "no designator"
+                continue
+            count[i] = len(items)
+            out.prefix[i] = prefix(items[0])
+            if len(items) == 1:
+                out.single[i] = items[0]
+            else:
+                out.lists[i] = items
+    return out
+
+
+# ---------------------------------------------------------------------------------------------
+# Parsing each distinct combination of value-bearing cells once
+
+
+@dataclass
+class _Combo:
+    """What one distinct combination of value-bearing cells says."""
+
+    spec: dict[str, Any]
+    evidence: int  # +1 capacitor, -1 another part, 0 nothing either way
+    strong: bool  # capacitor evidence that does not rest on a bare code
+    other: tuple[str, str] | None
+    conflicts: tuple[str, ...]
+    text: str
+    marks: dict[str, str]  # source -> not-fitted mark found in that cell
+    value_text: str
+    description: str
+
+
+class _Parser:
+    """Parse cells through ``parse_value`` with a cache per (context, text)."""
+
+    def __init__(self, semicolon: bool) -> None:
+        from bomcheck.values import format_capacitance, parse_value
+
+        self._parse = parse_value
+        self.fmt_c = format_capacitance
+        self.semicolon = semicolon
+        self._cache: dict[tuple[str, str], CapSpec | None] = {}
+        self._cleaned: dict[str, tuple[str, str | None]] = {}
+
+    def clean(self, text: str) -> tuple[str, str | None]:
+        """(text to parse, not-fitted mark): spaces collapsed, marks removed, decimal commas."""
+        got = self._cleaned.get(text)
+        if got is None:
+            t = " ".join(text.split())
+            mark = not_fitted_mark(t)
+            if mark:
+                t = strip_not_fitted(t)
+            got = self._cleaned[text] = (decimal_commas(t, semicolon=self.semicolon), mark)
+        return got
+
+    def spec(self, context: str, text: str) -> CapSpec | None:
+        key = (context, text)
+        if key not in self._cache:
+            self._cache[key] = self._parse(text, context=context) if text else None
+        return self._cache[key]
+
+    def derived_temps(self, spec: CapSpec) -> tuple[float | None, float | None] | None:
+        """The temperature range the spec's dielectric code implies (None without a code)."""
+        if not spec.dielectric:
+            return None
+        d = self.spec("dielectric", spec.dielectric)
+        return (d.temp_min_c, d.temp_max_c) if d is not None else None
+
+    def combo(self, cells: dict[str, str]) -> _Combo:
+        done = {src: self.clean(t) for src, t in cells.items()}
+        cleaned = {src: c for src, (c, _) in done.items()}
+        marks = {src: m for src, (_, m) in done.items() if m}
+        specs = {src: self.spec(src, t) for src, t in cleaned.items()}
+        spec, conflicts = self._merge(specs)
+        value, desc = cleaned.get("value", ""), cleaned.get("description", "")
+        cap = any(s is not None and s.is_capacitor
+                  for s in (specs.get("value"), specs.get("description"), specs.get("dielectric")))
+        dielectric_col = specs.get("dielectric")
+        strong = cap and bool(
+            _STRONG_CAP.search(value) or _STRONG_CAP.search(desc)
+            or any(s is not None and s.dielectric for s in specs.values())
+            or (dielectric_col is not None and dielectric_col.technology)
+        )
+        other = other_part_evidence(value, desc)
+        evidence = 1 if cap else (-1 if other else 0)
+        text = " | ".join(" ".join(cells[s].split()) for s in SPEC_SOURCES
+                          if cells.get(s, "").strip())
+        return _Combo(spec, evidence, strong, other, tuple(conflicts), text, marks,
+                      " ".join(cells.get("value", "").split()),
+                      " ".join(cells.get("description", "").split()))
+
+    def _merge(self, specs: dict[str, CapSpec | None]) -> tuple[dict[str, Any], list[str]]:
+        """Merge the sources' specs field group by field group; a dedicated column wins over the
+        value, the value over the description; disagreements become conflict messages."""
+        out: dict[str, Any] = {k: None for k in SPEC_COLUMNS}
+        out["warnings"], out["unread"] = (), ()
+        conflicts: list[str] = []
+        present = {s: sp for s, sp in specs.items() if sp is not None}
+        for group, order in _GROUPS:
+            keys = _KEY_FIELDS.get(group[0], group[:1])
+            have = [(s, present[s]) for s in order if s in present
+                    and any(getattr(present[s], k) is not None for k in keys)]
+            if not have:
+                continue
+            win_src, win = have[0]
+            for k in group:
+                out[k] = getattr(win, k)
+            for src, sp in have[1:]:
+                msg = self._disagree(keys, win_src, win, src, sp)
+                if msg:
+                    conflicts.append(msg)
+        if out["polarized"] is None:
+            out["polarized"] = next((sp.polarized for sp in present.values()
+                                     if sp.polarized is not None), None)
+        self._merge_temperature(present, out, conflicts)
+        out["is_capacitor"] = any(sp.is_capacitor for sp in present.values())
+        warnings: list[str] = []
+        unread: list[str] = []
+        for src in SPEC_SOURCES:
+            sp = present.get(src)
+            if sp is None:
+                continue
+            warnings.extend(w for w in sp.warnings if w not in warnings)
+            unread.extend(u for u in sp.unread if u not in unread)
+        out["warnings"], out["unread"] = tuple(warnings), tuple(unread)
+        return out, conflicts
+
+    def _merge_temperature(self, present: dict[str, CapSpec], out: dict[str, Any],
+                           conflicts: list[str]) -> None:
+        # A temperature the text states beats one implied by a dielectric code (X7R -> 125 degC);
+        # only stated temperatures can conflict.
+        stated: list[tuple[str, CapSpec]] = []
+        for src in ("temperature", "value", "description"):
+            sp = present.get(src)
+            if sp is None or (sp.temp_min_c is None and sp.temp_max_c is None):
+                continue
+            derived = None if src == "temperature" else self.derived_temps(sp)
+            if derived is None or derived != (sp.temp_min_c, sp.temp_max_c):
+                stated.append((src, sp))
+        diel_src = next((s for s in ("dielectric", "value", "description")
+                         if s in present and present[s].dielectric == out["dielectric"]
+                         and out["dielectric"] is not None), None)
+        implied = self.derived_temps(present[diel_src]) if diel_src else None
+        for k, idx in (("temp_min_c", 0), ("temp_max_c", 1)):
+            vals = [(s, sp) for s, sp in stated if getattr(sp, k) is not None]
+            if vals:
+                out[k] = getattr(vals[0][1], k)
+                for src, sp in vals[1:]:
+                    msg = self._disagree((k,), vals[0][0], vals[0][1], src, sp)
+                    if msg:
+                        conflicts.append(msg)
+            elif implied is not None:
+                out[k] = implied[idx]
+            else:
+                out[k] = next((getattr(sp, k) for sp in present.values()
+                               if getattr(sp, k) is not None), None)
+
+    def _disagree(self, keys: tuple[str, ...], src1: str, sp1: CapSpec, src2: str,
+                  sp2: CapSpec) -> str | None:
+        """A conflict message when two sources give different values for the same fields."""
+        same = True
+        for k in keys:
+            v1, v2 = getattr(sp1, k), getattr(sp2, k)
+            if isinstance(v1, (int, float)) and isinstance(v2, (int, float)) \
+                    and not isinstance(v1, bool):
+                same &= math.isclose(float(v1), float(v2), rel_tol=1e-6, abs_tol=1e-15)
+            elif isinstance(v1, str) and isinstance(v2, str):
+                same &= _alnum(v1) == _alnum(v2)
+            else:
+                same &= v1 == v2
+        if same:
+            return None
+        name = _FIELD_NAMES.get(keys[0], keys[0].replace("_", " "))
+        return (f"{name}: {_SOURCE_LABELS[src1]} says {self._show(keys[0], sp1)} but "
+                f"{_SOURCE_LABELS[src2]} says {self._show(keys[0], sp2)}; using the "
+                f"{_SOURCE_LABELS[src1]}")
+
+    def _show(self, key: str, sp: CapSpec) -> str:
+        v = getattr(sp, key)
+        if key == "capacitance_f":
+            return self.fmt_c(float(v))
+        if key == "voltage_v":
+            return f"{float(v):g} V" + (f" {sp.voltage_kind.upper()}" if sp.voltage_kind else "")
+        if key == "tol_minus_pct":
+            if v is None:
+                if sp.tol_abs_f is not None:
+                    return "+/-" + self.fmt_c(float(sp.tol_abs_f))
+                return f"+{float(sp.tol_plus_pct):g} %"
+            plus = sp.tol_plus_pct
+            if plus is None or plus == v:
+                return f"+/-{float(v):g} %"
+            return f"+{float(plus):g}/-{float(v):g} %"
+        if key in ("temp_min_c", "temp_max_c"):
+            return f"{float(v):g} degC"
+        return str(v)
+
+
+_KEY_FIELDS = {"tol_minus_pct": ("tol_minus_pct", "tol_plus_pct", "tol_abs_f")}
+_FIELD_NAMES = {"capacitance_f": "capacitance", "voltage_v": "rated voltage",
+                "tol_minus_pct": "tolerance", "temp_min_c": "minimum temperature",
+                "temp_max_c": "maximum temperature", "technology": "technology",
+                "dielectric": "dielectric", "package": "package"}
+
+
+def _alnum(text: str) -> str:
+    return re.sub(r"[\W_]", "", text).upper()
+
+
+def _combine_codes(code_arrays: list[np.ndarray], sizes: list[int]) -> tuple[np.ndarray, int]:
+    """One code per distinct tuple of per-column codes (first-seen order)."""
+    n = len(code_arrays[0]) if code_arrays else 0
+    if not code_arrays:
+        return np.zeros(n, dtype=np.int64), 1 if n else 0
+    key = code_arrays[0].astype(np.int64)
+    card = max(sizes[0], 1)
+    for codes, size in zip(code_arrays[1:], sizes[1:]):
+        size = max(size, 1)
+        if card * size >= 2**62:
+            key, uniq = pd.factorize(key)
+            card = len(uniq)
+        key = key * size + codes
+        card *= size
+    combo, uniq = pd.factorize(key)
+    return combo.astype(np.int64), len(uniq)
+
+
+# ---------------------------------------------------------------------------------------------
+# The import
+
+
+def _overrides(options: ImportOptions) -> colmod.ColumnOverrides:
+    parts = []
+    if options.column_map:
+        parts.append(colmod.load_column_map(options.column_map))
+    if options.columns:
+        parts.append(colmod.ColumnOverrides(columns=dict(options.columns)))
+    return colmod.merge_overrides(*parts) if parts else colmod.ColumnOverrides()
+
+
+def _sha256(path: str) -> str:
+    h = hashlib.sha256()
+    with open(path, "rb") as fh:
+        for chunk in iter(lambda: fh.read(1 << 20), b""):
+            h.update(chunk)
+    return h.hexdigest()
+
+
+def read_bom(path: str, options: ImportOptions = ImportOptions()) -> ImportResult:
+    """Read a BOM and return its capacitor placements, the rows not taken and the findings.
+
+    Every data row ends up as capacitor placements (fitted or not), a non-capacitor row or an
+    unreadable row with its reason: ``totals["rows_read"] == capacitor_rows +
+    non_capacitor_rows + unreadable_rows``. Raises ``InputError`` for a file that cannot be read
+    as a BOM (empty, binary, not a workbook, no designator column).
+    """
+    path = str(path)
+    overrides = _overrides(options)
+    try:
+        table = reader.read_table(path, sheet=options.sheet, encoding=options.encoding,
+                                  header_predicate=colmod.header_predicate(overrides))
+    except reader.HeaderNotFound as exc:
+        missing: reader.HeaderNotFound | None = exc
+    else:
+        missing = None
+    if missing is not None:
+        # Say what the likeliest header row lacks (designator, or value and description).
+        if missing.best_guess:
+            colmod.map_columns(missing.best_guess, overrides, path=path)
+        raise missing
+    mapping = colmod.map_columns(list(table.frame.columns), overrides, path=path)
+    # hashlib releases the GIL: the file's hash is computed beside the import.
+    with ThreadPoolExecutor(max_workers=1) as pool:
+        digest = pool.submit(_sha256, path)
+        source = BomSource(
+            path=path, sha256="", format=table.format, encoding=table.encoding,
+            sheet=table.sheet, header_row=table.header_row,
+            columns={f: _original_header(table, h) for f, h in mapping.items()},
+        )
+        result = _build(table, mapping, source)
+        return replace(result, source=replace(source, sha256=digest.result()))
+
+
+def _original_header(table: reader.RawTable, name: str) -> str:
+    names = list(table.frame.columns)
+    i = names.index(name)
+    return table.headers[i] if table.headers[i].strip() else name
+
+
+def _row_texts(arrays: list[np.ndarray], idx: np.ndarray) -> list[str]:
+    """All filled cells of some source rows, joined " | " (what the user sees of the row)."""
+    if not len(idx):
+        return []
+    cols = [a[idx] for a in arrays]
+    return [" | ".join(c for c in cells if c) for cells in zip(*cols)]
+
+
+def _build(table: reader.RawTable, mapping: dict[str, str], source: BomSource) -> ImportResult:
+    frame = table.frame
+    n = len(frame)
+    all_arrays = [frame[c].to_numpy(dtype=object) for c in frame.columns]
+    empty = np.full(n, "", dtype=object)
+    col = {f: frame[h].to_numpy(dtype=object) for f, h in mapping.items()}
+
+    def get(f: str) -> np.ndarray:
+        return col.get(f, empty)
+
+    refdes_raw = get("refdes")
+    src_rows = np.asarray(table.rows, dtype=np.int64)
+
+    # Repeated header rows and continuation rows (joined to the line above).
+    ref_header = _original_header(table, mapping["refdes"]).strip()
+    repeated = refdes_raw == ref_header if n else np.zeros(0, dtype=bool)
+    cont = _continuations(frame, mapping, all_arrays, refdes_raw, repeated)
+    line_of_row = np.cumsum(~cont) - 1
+    heads = np.flatnonzero(~cont)
+    n_lines = len(heads)
+    if cont.any():
+        line = {f: get(f)[heads] for f in colmod.FIELDS}  # fancy indexing: fresh arrays
+        for li in np.unique(line_of_row[cont]):
+            members = np.flatnonzero(line_of_row == li)
+            for f, sep in (("refdes", ", "), ("description", " "), ("notes", " ")):
+                parts = [get(f)[m].strip() for m in members if get(f)[m].strip()]
+                line[f][li] = sep.join(parts)
+    else:
+        line = {f: get(f) for f in colmod.FIELDS}
+    head_rows = src_rows[heads]
+    line_repeated = repeated[heads]
+
+    # Designators.
+    ref_text = line["refdes"]
+    des = expand_lines(ref_text)
+
+    # Distinct combinations of the value-bearing cells, parsed once each.
+    parser = _Parser(semicolon=table.format == "semicolon")
+    present = [s for s in SPEC_SOURCES if s in mapping]
+    code_arrays, uniques_by_src, sizes = [], {}, []
+    for s in present:
+        codes, uniq = pd.factorize(line[s])
+        code_arrays.append(codes)
+        uniques_by_src[s] = uniq
+        sizes.append(len(uniq))
+    combo_code, n_combo = _combine_codes(code_arrays, sizes)
+    first_line = np.flatnonzero(~pd.Series(combo_code).duplicated().to_numpy())
+    combos = [parser.combo({s: str(line[s][li]) for s in present}) for li in first_line]
+
+    # Fitted or not, per line: the fitted column first, then marks in the cells.
+    fitted, nf_reason, unclear = _fitted(line, mapping, table, des, combos, combo_code)
+
+    # Classification per line.
+    pk_codes, pk_uniq = pd.factorize(des.prefix)
+    pk = np.array([prefix_kind(str(p)) for p in pk_uniq], dtype=np.int64)[pk_codes] \
+        if n_lines else np.zeros(0, dtype=np.int64)
+    evidence = np.array([c.evidence for c in combos], dtype=np.int64)[combo_code]
+    strong = np.array([c.strong for c in combos], dtype=bool)[combo_code]
+    has_other = np.array([c.other is not None for c in combos], dtype=bool)[combo_code]
+    kind = np.full(n_lines, _UNREAD, dtype=np.int64)
+    reason = np.full(n_lines, None, dtype=object)
+    ok = ~line_repeated & ~des.has_error
+    cap_line = ok & (
+        ((pk == _CAP_KIND) & (evidence > 0) & (strong | ~has_other))
+        | ((pk == _CAP_KIND) & (evidence == 0) & ~fitted)
+        | ((pk == _UNKNOWN_KIND) & (evidence > 0) & strong & ~has_other)
+    )
+    other_line = ok & ~cap_line & ((pk == _OTHER_KIND) | (pk == _UNKNOWN_KIND))
+    kind[cap_line] = _CAP
+    kind[other_line] = _NONCAP
+    reasons: dict[tuple[Any, ...], str] = {}
+    for li in np.flatnonzero(~cap_line):
+        key = (bool(line_repeated[li]), des.error.get(li), des.prefix[li], int(combo_code[li]))
+        if key not in reasons:
+            reasons[key] = _reason(li, line_repeated, des, pk, combos[combo_code[li]])
+        reason[li] = reasons[key]
+
+    # Quantities.
+    qty_codes, qty_uniq = pd.factorize(line["qty"])
+    qty_parsed = [parse_qty(str(q)) for q in qty_uniq]
+    qty = np.array([q for q, _ in qty_parsed], dtype=float)[qty_codes] if n_lines else \
+        np.zeros(0, dtype=float)
+    qty_ok = np.array([r for _, r in qty_parsed], dtype=bool)[qty_codes] if n_lines else \
+        np.zeros(0, dtype=bool)
+
+    findings: list[ImportFinding] = []
+    cap_idx = np.flatnonzero(cap_line)
+    mismatch = cap_line & ~np.isnan(qty) & (qty != des.count) & ~(~fitted & (qty == 0))
+    for li in np.flatnonzero(mismatch):
+        findings.append(ImportFinding(
+            int(head_rows[li]), None, "qty_mismatch",
+            f"Qty says {qty[li]:g} but the designators name {des.count[li]} "
+            f"({ref_text[li].strip()!r}); the placements follow the designators, check the line",
+        ))
+    for li in np.flatnonzero(cap_line & ~qty_ok):
+        findings.append(ImportFinding(
+            int(head_rows[li]), None, "qty_unreadable",
+            f"Qty {line['qty'][li]!r} is not a number; not compared with the "
+            f"{des.count[li]} designators",
+        ))
+    for li, msg in unclear:
+        if cap_line[li]:
+            findings.append(ImportFinding(int(head_rows[li]), None, "fitted_unclear", msg))
+
+    placements = _placements(cap_idx, des, line, head_rows, fitted, nf_reason, qty, combos,
+                             combo_code)
+    findings.extend(_placement_findings(placements, combos, combo_code, cap_idx, des))
+
+    # Rows not taken: one entry per source row, continuation rows included.
+    row_kind = kind[line_of_row] if n else np.zeros(0, dtype=np.int64)
+    skipped_rows = np.flatnonzero(row_kind != _CAP)
+    sk_lines = line_of_row[skipped_rows]
+    sk_reason = reason[sk_lines]
+    for j in np.flatnonzero(cont[skipped_rows]):
+        sk_reason[j] = f"{sk_reason[j]} (continuation of row {head_rows[sk_lines[j]]})"
+    skipped = pd.DataFrame({
+        "row": pd.Series(src_rows[skipped_rows], dtype=np.int64),
+        "kind": pd.Series(_KIND_ARRAY[row_kind[skipped_rows]], dtype=object),
+        "reason": pd.Series(sk_reason, dtype=object, copy=False),
+        "text": pd.Series(_row_texts(all_arrays, skipped_rows), dtype=object),
+    }, columns=list(SKIPPED_COLUMNS))
+
+    n_fitted = int(placements["fitted"].sum())
+    totals = {
+        "rows_read": int(n),
+        "capacitor_rows": int((row_kind == _CAP).sum()),
+        "non_capacitor_rows": int((row_kind == _NONCAP).sum()),
+        "unreadable_rows": int((row_kind == _UNREAD).sum()),
+        "placements": int(len(placements)),
+        "fitted": n_fitted,
+        "not_fitted": int(len(placements) - n_fitted),
+        "blank_rows": int(table.blank_rows),
+        "continuation_rows": int(cont.sum()),
+    }
+    return ImportResult(source=source, placements=placements, skipped=skipped,
+                        findings=tuple(sorted(findings)), totals=totals)
+
+
+_LIST_MARK = re.compile(r"[,;/\s]|\.\.|[-\u2013:]")
+
+
+def _continuations(frame: pd.DataFrame, mapping: dict[str, str], arrays: list[np.ndarray],
+                   refdes: np.ndarray, repeated: np.ndarray) -> np.ndarray:
+    """Rows that continue the line above: only designators (a long list written over several
+    rows), or no designator and only description/notes text."""
+    n = len(frame)
+    cont = np.zeros(n, dtype=bool)
+    if n < 2:
+        return cont
+    names = list(frame.columns)
+    ref_i = names.index(mapping["refdes"])
+    text_i = {names.index(mapping[f]) for f in ("description", "notes") if f in mapping}
+    ref_empty = refdes == ""
+    # Candidates by one cheap column test each, then the whole row on the few candidates.
+    other_i = [i for i in range(len(names)) if i != ref_i]
+    only_ref = np.flatnonzero(~ref_empty)
+    for i in other_i:
+        if not len(only_ref):
+            break
+        only_ref = only_ref[arrays[i][only_ref] == ""]
+    no_ref = np.flatnonzero(ref_empty)
+    for i in other_i:
+        if i in text_i or not len(no_ref):
+            continue
+        no_ref = no_ref[arrays[i][no_ref] == ""]
+    last_ref = {}  # row -> the nearest designator cell above it
+    for r in only_ref:
+        above = r - 1
+        while above >= 0 and refdes[above] == "" and cont[above]:
+            above -= 1
+        last_ref[r] = str(refdes[above]).strip() if above >= 0 else ""
+        # A designator-only row continues a list: the cell above must be a list itself.
+        if r > 0 and not repeated[r - 1] and _LIST_MARK.search(last_ref[r]) \
+                and _expand_one(str(refdes[r]))[1] is None:
+            cont[r] = True
+    for r in no_ref:
+        if r > 0 and not repeated[r - 1] and text_i:
+            cont[r] = True
+    return cont
+
+
+def _fitted(line: dict[str, np.ndarray], mapping: dict[str, str], table: reader.RawTable,
+            des: _Designators, combos: list[_Combo], combo_code: np.ndarray
+            ) -> tuple[np.ndarray, np.ndarray, list[tuple[int, str]]]:
+    """Per line: fitted?, the reason when not, and (line, message) for unclear fitted cells."""
+    n = len(combo_code)
+    fitted = np.ones(n, dtype=bool)
+    reason = np.full(n, None, dtype=object)
+    unclear: list[tuple[int, str]] = []
+    if "fitted" in mapping:
+        header = _original_header(table, mapping["fitted"])
+        negative = colmod.is_negative_fitted(header)
+        codes, uniq = pd.factorize(line["fitted"])
+        verdicts = [_fitted_cell(str(u), negative) for u in uniq]
+        says = np.array([f"{header} column says {str(u).strip()!r}" for u in uniq], dtype=object)
+        no = np.array([not v[0] for v in verdicts], dtype=bool)[codes]
+        fitted[no] = False
+        reason[no] = says[codes[no]]
+        odd = np.array([v[0] and not v[1] for v in verdicts], dtype=bool)[codes]
+        unclear = [(int(li), f"{says[codes[li]]}, which is neither yes nor no; taken as fitted")
+                   for li in np.flatnonzero(odd)]
+    # Marks in cells, in order of precedence; each as (mark per distinct cell, code per line).
+    sources: list[tuple[str, list[str | None], np.ndarray]] = [
+        ("value", [c.marks.get("value") for c in combos], combo_code)]
+    if des.mark:
+        idx = np.fromiter(des.mark, dtype=np.int64, count=len(des.mark))
+        codes = np.zeros(n, dtype=np.int64)
+        codes[idx] = np.arange(1, len(idx) + 1)
+        sources.append(("designator", [None, *des.mark.values()], codes))
+    for f, label in (("mpn", "part number"), ("description", "description"), ("notes", "notes")):
+        if f == "description":
+            sources.append((label, [c.marks.get("description") for c in combos], combo_code))
+        elif f in mapping:
+            codes, uniq = pd.factorize(line[f])
+            sources.append((label, [not_fitted_mark(str(u)) for u in uniq], codes))
+    for label, marks, codes in sources:
+        has = np.array([m is not None for m in marks], dtype=bool)
+        if not has.any():
+            continue
+        for li in np.flatnonzero(fitted & has[codes]):
+            fitted[li] = False
+            reason[li] = f"{marks[codes[li]]!r} in {label}"
+    return fitted, reason, unclear
+
+
+def _fitted_cell(cell: str, negative: bool) -> tuple[bool, bool]:
+    """(fitted, understood) for a fitted-column cell; ``negative`` for a "DNP?" column."""
+    t = _fold(cell)
+    if not t:
+        return True, True
+    if negative:
+        if t in _FITTED_YES or not_fitted_mark(cell):
+            return False, True
+        return True, t in _FITTED_NO
+    if t in _FITTED_NO or not_fitted_mark(cell):
+        return False, True
+    return True, t in _FITTED_YES
+
+
+def _reason(li: int, repeated: np.ndarray, des: _Designators, pk: np.ndarray,
+            combo: _Combo) -> str:
+    """Why a line is not taken as capacitor placements."""
+    if repeated[li]:
+        return "repeated header row"
+    if li in des.error:
+        return des.error[li]
+    pfx = str(des.prefix[li])
+    if pk[li] == _CAP_KIND:
+        if combo.other is not None:
+            family, token = combo.other
+            return f"capacitor designator, but the text reads as {_a(family)} ({token!r})"
+        if not combo.text:
+            return "capacitor designator with no value or description"
+        return f"capacitor designator, but no capacitor value could be read ({combo.text!r})"
+    if pk[li] == _OTHER_KIND:
+        out = f"designator prefix {pfx!r} ({OTHER_PREFIXES[pfx]}) is not a capacitor"
+        if combo.evidence > 0 and combo.strong and combo.other is None:
+            out += "; the text reads as a capacitor, check the designator"
+        return out
+    if combo.other is not None:
+        family, token = combo.other
+        return f"the text reads as {_a(family)} ({token!r})"
+    if combo.evidence > 0:
+        return (f"designator prefix {pfx!r} is not a capacitor prefix and only a bare code "
+                f"reads as a capacitor ({combo.text!r})")
+    if not combo.text:
+        return "no value or description"
+    return f"no capacitor evidence in the text ({combo.text!r})"
+
+
+def _a(word: str) -> str:
+    return ("an " if word[0] in "aeiouAEIOU" else "a ") + word
+
+
+def _placements(cap_idx: np.ndarray, des: _Designators, line: dict[str, np.ndarray],
+                head_rows: np.ndarray, fitted: np.ndarray, nf_reason: np.ndarray,
+                qty: np.ndarray, combos: list[_Combo], combo_code: np.ndarray) -> pd.DataFrame:
+    counts = des.count[cap_idx]
+    total = int(counts.sum())
+    line_of = np.repeat(cap_idx, counts)
+    if not des.lists:
+        refdes = des.single[cap_idx]
+    else:
+        refdes = np.empty(total, dtype=object)
+        starts = np.cumsum(counts) - counts
+        single = counts == 1
+        refdes[starts[single]] = des.single[cap_idx[single]]
+        for pos, k, li in zip(starts[~single], counts[~single], cap_idx[~single]):
+            refdes[pos:pos + k] = des.lists[int(li)]
+    cc = combo_code[line_of]
+    data: dict[str, Any] = {
+        "refdes": refdes,
+        "row": head_rows[line_of],
+        "line": line_of.astype(np.int64),
+        "fitted": fitted[line_of],
+        "not_fitted_reason": nf_reason[line_of],
+        "mpn": line["mpn"][line_of],
+        "manufacturer": line["manufacturer"][line_of],
+        "qty": qty[line_of],
+    }
+    # Per-combination values as two blocks (floats, objects), each taken by code in one step.
+    obj_cols = ["text", "value_text", "description",
+                *(k for k in SPEC_COLUMNS if k not in _FLOAT_SPEC and k != "is_capacitor")]
+    obj_block = np.empty((len(combos), len(obj_cols)), dtype=object)
+    for i, c in enumerate(combos):
+        for j, k in enumerate(obj_cols):
+            # One cell at a time: a tuple (warnings) must stay one object, not a sequence.
+            obj_block[i, j] = getattr(c, k) if j < 3 else c.spec[k]
+    float_block = np.array([[math.nan if c.spec[k] is None else float(c.spec[k])
+                             for k in _FLOAT_SPEC] for c in combos], dtype=float)
+    if not combos:
+        float_block = float_block.reshape(0, len(_FLOAT_SPEC))
+    obj_taken = obj_block.take(cc, axis=0)
+    float_taken = float_block.take(cc, axis=0)
+    for j, k in enumerate(obj_cols):
+        data[k] = obj_taken[:, j]
+    for j, k in enumerate(_FLOAT_SPEC):
+        data[k] = float_taken[:, j]
+    data["is_capacitor"] = np.array([bool(c.spec["is_capacitor"]) for c in combos],
+                                    dtype=bool)[cc] if combos else np.zeros(0, dtype=bool)
+    series = {k: pd.Series(data[k], dtype=object if data[k].dtype == object else None,
+                           copy=False) for k in PLACEMENT_COLUMNS}
+    return pd.DataFrame(series, columns=list(PLACEMENT_COLUMNS), copy=False)
+
+
+def _placement_findings(placements: pd.DataFrame, combos: list[_Combo], combo_code: np.ndarray,
+                        cap_idx: np.ndarray, des: _Designators) -> list[ImportFinding]:
+    """Column conflicts on fitted placements, and designators listed more than once."""
+    out: list[ImportFinding] = []
+    if not len(placements):
+        return out
+    line_of = placements["line"].to_numpy()
+    cc = combo_code[line_of]
+    has_conflict = np.array([bool(c.conflicts) for c in combos], dtype=bool)[cc]
+    fitted = placements["fitted"].to_numpy()
+    refdes = placements["refdes"].to_numpy(dtype=object)
+    rows = placements["row"].to_numpy()
+    for p in np.flatnonzero(has_conflict & fitted):
+        for msg in combos[cc[p]].conflicts:
+            out.append(ImportFinding(int(rows[p]), str(refdes[p]), "column_conflict", msg))
+    if len(set(refdes)) < len(refdes):
+        dup = pd.Series(refdes).duplicated(keep="first").to_numpy()
+        first_row = pd.Series(rows).groupby(refdes).transform("first").to_numpy()
+        for p in np.flatnonzero(dup):
+            out.append(ImportFinding(
+                int(rows[p]), str(refdes[p]), "duplicate_refdes",
+                f"{refdes[p]} is also listed on row {first_row[p]}; each designator should "
+                "appear once",
+            ))
+    return out

@@ -1,0 +1,543 @@
+"""Design sheet: units, aliases, rows/groups/defaults precedence, errors, CSV/XLSX/TOML files."""
+
+from __future__ import annotations
+
+import hashlib
+import math
+
+import numpy as np
+import pandas as pd
+import pytest
+
+from bomcheck.design import (
+    ALIASES,
+    CONDITION_COLUMNS,
+    Design,
+    Group,
+    design_from_table,
+    design_from_toml,
+    is_design_header,
+    read_design,
+)
+from bomcheck.errors import InputError
+from bomcheck.vocabulary import CONDITIONS
+
+# Invented rails and designators only.
+
+
+def sheet(header: list[str], *rows: list[str]) -> Design:
+    """A design sheet from a header and rows of text cells (row numbers 2, 3, ...)."""
+    return design_from_table(pd.DataFrame([list(r) for r in rows], columns=header),
+                             path="design.csv")
+
+
+# --- units in cells (pint) -------------------------------------------------------------------
+
+CELL_UNITS = [
+    # (column, cell, field, expected SI value)
+    ("v_dc", "500 mV", "v_dc", 0.5),  # SI prefix milli = 1e-3 (BIPM SI Brochure, 9th ed.)
+    ("v_dc", "13.2 V", "v_dc", 13.2),
+    ("v_dc", "12 VDC", "v_dc", 12.0),  # "DC" is a word, not a unit
+    ("t_ambient_c", "85 degC", "t_ambient_c", 85.0),
+    ("t_ambient_c", "85 \u00b0C", "t_ambient_c", 85.0),
+    ("t_ambient_c", "358.15 K", "t_ambient_c", 85.0),  # SI: t/degC = T/K - 273.15
+    ("c_min_f", "2.2 uF", "c_min_f", 2.2e-6),  # SI prefix micro = 1e-6
+    ("c_min_f", "2.2 \u00b5F", "c_min_f", 2.2e-6),  # U+00B5 MICRO SIGN
+    ("c_min_f", "2.2 \u03bcF", "c_min_f", 2.2e-6),  # U+03BC GREEK SMALL LETTER MU
+    ("life_h", "10 years", "life_h", 87660.0),  # pint: year = 365.25 days (Julian year)
+    ("life_h", "50000 h", "life_h", 50000.0),
+    ("t_rise_c", "10 degC", "t_rise_c", 10.0),  # a rise is a difference: 10 K
+    ("t_rise_c", "18 degF", "t_rise_c", 10.0),  # 1 degF step = 5/9 K (definition of degF)
+    ("v_ripple_pk", "200 mVpp", "v_ripple_pk", 0.1),  # peak = peak-to-peak / 2 (definition)
+    ("v_ripple_pk", "0.3 V pk", "v_ripple_pk", 0.3),
+    ("v_tol_pct", "5 %", "v_tol_pct", 5.0),
+    ("v_tol_pct", "\u00b15%", "v_tol_pct", 5.0),
+    ("v_dc", "1,5", "v_dc", 1.5),  # decimal comma
+]
+
+
+@pytest.mark.parametrize("column, cell, field, expected", CELL_UNITS,
+                         ids=[f"{c[0]}={c[1]}" for c in CELL_UNITS])
+def test_cell_units(column, cell, field, expected):
+    d = sheet(["refdes", column], ["C1", cell])
+    assert d.conditions.at["C1", field] == pytest.approx(expected)
+
+
+HEADER_UNITS = [
+    # (header, bare number, field, expected SI value)
+    ("v_dc [V]", "12", "v_dc", 12.0),
+    ("Vdc (V)", "12", "v_dc", 12.0),
+    ("v_dc [mV]", "3300", "v_dc", 3.3),  # milli = 1e-3
+    ("working voltage", "24", "v_dc", 24.0),
+    ("Ripple mVpp", "200", "v_ripple_pk", 0.1),  # mV peak-to-peak: peak = half
+    ("Ripple (V p-p)", "1", "v_ripple_pk", 0.5),
+    ("v_ripple_pk [mV]", "200", "v_ripple_pk", 0.2),
+    ("t_amb (\u00b0C)", "85", "t_ambient_c", 85.0),
+    ("t_amb [degF]", "185", "t_ambient_c", 85.0),  # (185 - 32) x 5/9 = 85 (definition of degF)
+    ("ambient", "45", "t_ambient_c", 45.0),
+    ("t_rise", "12", "t_rise_c", 12.0),
+    ("t_rise (\u00b0C)", "12", "t_rise_c", 12.0),
+    ("c_min", "1e-6", "c_min_f", 1e-6),
+    ("required capacitance [uF]", "2.2", "c_min_f", 2.2e-6),
+    ("life", "20000", "life_h", 20000.0),
+    ("life [years]", "10", "life_h", 87660.0),  # pint: year = 365.25 days
+    ("v_tol_pct", "10", "v_tol_pct", 10.0),
+    ("Voltage tolerance (%)", "5", "v_tol_pct", 5.0),
+    ("v_transient_pk", "30", "v_transient_pk", 30.0),
+    ("Reverse voltage", "0.5", "v_reverse_pk", 0.5),
+    ("AC voltage (V rms)", "230", "v_ac_rms", 230.0),
+]
+
+
+@pytest.mark.parametrize("header, cell, field, expected", HEADER_UNITS,
+                         ids=[h[0] for h in HEADER_UNITS])
+def test_bare_numbers_take_the_header_unit(header, cell, field, expected):
+    d = sheet(["Designator", header], ["C1", cell])
+    assert d.conditions.at["C1", field] == pytest.approx(expected)
+
+
+def test_bare_numbers_without_header_unit_take_the_conditions_unit():
+    d = sheet(["refdes", *CONDITIONS], ["C1", *["2"] * len(CONDITIONS)])
+    # CONDITIONS units are SI already (V, degC, delta degC, F, h; % for v_tol_pct).
+    assert d.conditions.loc["C1", list(CONDITIONS)].tolist() == [2.0] * len(CONDITIONS)
+
+
+def test_tolerance_gives_the_upper_bound_and_both_are_kept():
+    d = sheet(["refdes", "v_dc", "v_tol_pct"], ["C1", "12 V", "10"])
+    row = d.conditions.loc["C1"]
+    # 12 V x (1 + 10/100) = 13.2 V (arithmetic)
+    assert row["v_dc_max"] == pytest.approx(13.2)
+    assert row["v_dc"] == 12.0 and row["v_tol_pct"] == 10.0
+
+
+def test_an_explicit_upper_bound_is_not_overwritten():
+    d = sheet(["refdes", "v_dc", "v_dc_max", "v_tol_pct"], ["C1", "12", "12.5", "10"])
+    assert d.conditions.at["C1", "v_dc_max"] == 12.5
+
+
+def test_cell_mark_overrides_header_peak_to_peak():
+    d = sheet(["refdes", "Ripple mVpp"], ["C1", "80"], ["C2", "80 mVpk"])
+    assert d.conditions.at["C1", "v_ripple_pk"] == pytest.approx(0.04)
+    assert d.conditions.at["C2", "v_ripple_pk"] == pytest.approx(0.08)
+
+
+@pytest.mark.parametrize("cell", ["", "-", "n/a", "N/A"])
+def test_no_value_markers(cell):
+    d = sheet(["refdes", "v_dc", "v_reverse_pk"], ["C1", "5", cell])
+    assert math.isnan(d.conditions.at["C1", "v_reverse_pk"])
+
+
+def test_each_distinct_string_is_converted_once(monkeypatch):
+    import bomcheck.design as design
+
+    calls: list[str] = []
+    real = design.to_si
+    monkeypatch.setattr(design, "to_si", lambda t, *a: (calls.append(t), real(t, *a))[1])
+    cells = ["500 mV", "12 V", "500 mV", "12 V"] * 250
+    d = sheet(["refdes", "v_dc"], *[[f"C{i}", c] for i, c in enumerate(cells, 1)])
+    assert d.conditions["v_dc"].tolist()[:2] == [0.5, 12.0]
+    assert sorted(c for c in calls if c not in ("0", "1")) == ["12 V", "500 mV"]
+
+
+# --- errors ----------------------------------------------------------------------------------
+
+
+def test_wrong_dimension_names_file_row_and_column():
+    with pytest.raises(InputError) as info:
+        sheet(["refdes", "v_dc [V]"], ["C1", "5"], ["C2", "5 A"])
+    e = info.value
+    assert (e.path, e.row, e.column, e.text) == ("design.csv", 3, "v_dc [V]", "5 A")
+    assert "voltage" in e.expected
+    assert str(e).startswith("design.csv, row 3, column 'v_dc [V]': wrong dimension")
+
+
+@pytest.mark.parametrize("header, cell", [
+    ("t_ambient_c", "hot"),
+    ("c_min_f", "12 V"),
+    ("life_h", "10 V"),
+    ("v_dc", "nan"),
+    ("v_dc", "1,500"),
+], ids=["words", "volts-for-farads", "volts-for-hours", "nan", "comma-grouping"])
+def test_unreadable_cells_name_the_cell(header, cell):
+    with pytest.raises(InputError) as info:
+        sheet(["refdes", header], ["C1", "1"], ["C7", cell])
+    assert (info.value.row, info.value.column, info.value.text) == (3, header, cell)
+
+
+@pytest.mark.parametrize("header", ["v_dc [uF]", "v_dc [Vpp]", "Ripple (V rms)", "t_amb [V]"])
+def test_bad_header_unit_or_mark_names_the_header(header):
+    with pytest.raises(InputError) as info:
+        sheet(["refdes", header], ["C1", "1"])
+    assert info.value.column == header and info.value.row == 1
+
+
+def test_designator_addressed_twice_names_both_rows():
+    with pytest.raises(InputError, match="C3 is addressed by rows 2 and 4") as info:
+        sheet(["refdes", "v_dc"], ["C1-C5", "5"], ["C9", "3.3"], ["C3", "12"])
+    assert info.value.row == 4
+
+
+def test_designator_twice_in_one_row():
+    with pytest.raises(InputError, match="twice in row 2"):
+        sheet(["refdes", "v_dc"], ["C1-C5, C3", "5"])
+
+
+def test_designator_in_two_groups_names_both_rows():
+    with pytest.raises(InputError, match=r"C4 \(groups '\+5V_LOGIC' and '\+3V3_IO'\) is "
+                                         r"addressed by rows 2 and 3"):
+        sheet(["refdes", "members", "v_dc"], ["+5V_LOGIC", "C1-C4", "5"],
+              ["+3V3_IO", "C4-C6", "3.3"])
+
+
+@pytest.mark.parametrize("rows, match", [
+    ([["*", "", "45"], ["*", "", "50"]], "'\\*' \\(board-wide defaults\\) is addressed by rows"),
+    ([["+5V_LOGIC", "C1", ""], ["+5V_LOGIC", "C2", ""]], "group '\\+5V_LOGIC' is addressed by"),
+    ([["+5V_LOGIC", "C1, VCC_SENSE", ""]], "'VCC_SENSE' is not a designator"),
+    ([["see note", "", "45"]], "is not a designator"),
+    ([["", "", "45"]], "names no designator or group"),
+    ([["*", "C1-C3", ""]], "defaults row cannot"),
+    ([["C5-C2", "", "45"]], "runs backwards"),
+], ids=["two-defaults", "group-twice", "bad-member", "not-a-designator", "no-target",
+        "defaults-with-members", "backwards-range"])
+def test_structural_errors(rows, match):
+    with pytest.raises(InputError, match=match):
+        sheet(["refdes", "members", "t_amb"], *rows)
+
+
+def test_two_columns_for_one_field():
+    with pytest.raises(InputError, match="two columns give v_dc: 'Vdc' and 'working voltage'"):
+        sheet(["refdes", "Vdc", "working voltage"], ["C1", "5", "5"])
+
+
+def test_no_designator_column():
+    with pytest.raises(InputError, match="no designator column"):
+        sheet(["v_dc", "t_amb"], ["5", "45"])
+
+
+def test_unknown_group_kind():
+    with pytest.raises(InputError, match="unknown group kind") as info:
+        sheet(["refdes", "members", "kind", "v_dc"], ["+48V_BUS", "C1-C2", "ladder", "48"])
+    assert info.value.column == "kind"
+
+
+@pytest.mark.parametrize("header, cell, match", [
+    ("v_dc", "12 Vac", "AC given for v_dc"),
+    ("v_ac_rms", "230 VDC", "DC given for v_ac_rms"),
+    ("v_ripple_pk", "1 V rms", "rms given for v_ripple_pk"),
+], ids=["ac-in-dc", "dc-in-ac", "rms-in-peak"])
+def test_cell_marks_that_contradict_the_column(header, cell, match):
+    with pytest.raises(InputError, match=match):
+        sheet(["refdes", header], ["C1", cell])
+
+
+def test_ac_and_dc_words_in_their_own_columns():
+    d = sheet(["refdes", "Voltage AC", "Voltage DC"], ["C1", "230 Vac", "325 V DC"])
+    assert (d.conditions.at["C1", "v_ac_rms"], d.conditions.at["C1", "v_dc"]) == (230.0, 325.0)
+
+
+def test_suspicious_values_are_warnings():
+    d = sheet(["refdes", "v_dc", "v_dc_max", "v_tol_pct"], ["C1", "12", "11", ""],
+              ["C2", "5", "", "0.05"])
+    assert any("v_dc_max is below v_dc" in w and "C1" in w for w in d.warnings)
+    assert any("v_tol_pct of 0.05 % in row 3" in w for w in d.warnings)
+
+
+def test_unknown_column_is_a_warning_not_an_error():
+    d = sheet(["refdes", "v_dc", "Layout owner"], ["C1", "5", "KB"])
+    assert d.conditions.at["C1", "v_dc"] == 5.0
+    assert "Layout owner" not in d.conditions.columns
+    assert any("'Layout owner'" in w for w in d.warnings)
+
+
+# --- groups, defaults, precedence ------------------------------------------------------------
+
+PRECEDENCE = (
+    ["refdes", "members", "v_dc [V]", "v_tol_pct", "Ripple mVpp", "t_amb (\u00b0C)", "life",
+     "notes"],
+    ["*", "", "", "", "", "40", "10 years", "board"],
+    ["+5V_LOGIC", "C1-C4, C10", "5", "5", "100", "", "", "logic rail"],
+    ["C3", "", "", "", "", "85", "", "beside the regulator"],
+    ["C20-C21", "", "12", "", "", "", "50000 h", ""],
+)
+
+
+@pytest.fixture()
+def precedence() -> Design:
+    return sheet(*PRECEDENCE)
+
+
+def test_groups_and_defaults(precedence):
+    g = precedence.groups["+5V_LOGIC"]
+    assert (g.members, g.row, g.kind, g.notes) == (("C1", "C2", "C3", "C4", "C10"), 3, "rail",
+                                                   "logic rail")
+    assert dict(g.conditions) == pytest.approx({"v_dc": 5.0, "v_tol_pct": 5.0,
+                                                "v_ripple_pk": 0.05})
+    assert precedence.defaults == pytest.approx({"t_ambient_c": 40.0, "life_h": 87660.0})
+    assert precedence.defaults_row == 2
+    # defaults are not folded into conditions
+    assert math.isnan(precedence.conditions.at["C1", "t_ambient_c"])
+
+
+def test_for_placements_applies_row_over_group_over_defaults(precedence):
+    bom = pd.Series(["C3", "C1", "C21", "C99", "c4"], index=[10, 11, 12, 13, 14])
+    out = precedence.for_placements(bom)
+    assert list(out.index) == [10, 11, 12, 13, 14]
+    assert out["refdes"].tolist() == ["C3", "C1", "C21", "C99", "c4"]
+    assert out["condition_source"].tolist() == ["row", "group", "row", "defaults", "group"]
+    assert out["design_row"].tolist() == [4, 3, 5, 2, 3]
+    assert out["t_ambient_c"].tolist() == [85.0, 40.0, 40.0, 40.0, 40.0]
+    assert out["v_dc"].tolist()[:3] == [5.0, 5.0, 12.0]
+    assert out["v_dc_max"].tolist()[:2] == pytest.approx([5.25, 5.25])  # 5 V x 1.05
+    assert out["life_h"].tolist()[:3] == [87660.0, 87660.0, 50000.0]
+    assert out["group"].tolist() == ["+5V_LOGIC", "+5V_LOGIC", None, None, "+5V_LOGIC"]
+    assert out["notes"].tolist() == ["beside the regulator", "logic rail", "", "", "logic rail"]
+    assert set(CONDITION_COLUMNS) <= set(out.columns)
+
+
+def test_for_placements_without_defaults_gives_none():
+    d = sheet(["refdes", "v_dc"], ["C1", "5"])
+    out = d.for_placements(pd.Series(["C1", "C2"]))
+    assert out["condition_source"].tolist() == ["row", "none"]
+    assert out["design_row"].isna().tolist() == [False, True]
+    assert out.loc[1, list(CONDITION_COLUMNS)].isna().all()
+
+
+def test_unmatched_lists_design_designators_missing_from_the_bom(precedence):
+    missing = precedence.unmatched({"C1", "C2", "C3", "C4", "C20"})
+    assert missing == [("C10", 3), ("C21", 5)]
+    assert all(isinstance(r, str) and isinstance(n, int) for r, n in missing)
+
+
+def test_upper_bound_travels_with_its_dc_value():
+    d = sheet(["refdes", "members", "group", "v_dc", "v_dc_max", "v_tol_pct"],
+              ["+12V_AUX", "C1-C3", "", "12", "13", ""],
+              ["+24V_IN", "C7-C8", "", "24", "", "10"],
+              ["C2", "", "", "11", "", ""],
+              ["C8", "", "", "23", "", ""])
+    c = d.conditions
+    assert c.at["C1", "v_dc_max"] == 13.0
+    assert math.isnan(c.at["C2", "v_dc_max"])  # the group's 13 V belongs to its 12 V
+    assert c.at["C8", "v_dc_max"] == pytest.approx(25.3)  # 23 V x 1.10, the rail tolerance
+
+
+def test_group_cell_joins_a_group_and_a_group_row_without_members():
+    d = sheet(["refdes", "rail", "v_dc", "t_amb"],
+              ["C1-C3", "+3V3_IO", "", "50"],
+              ["C4", "+3V3_IO", "", ""],
+              ["+3V3_IO", "", "3.3", ""])
+    assert d.groups["+3V3_IO"].members == ("C1", "C2", "C3", "C4")
+    assert d.groups["+3V3_IO"].row == 4
+    assert d.conditions["v_dc"].tolist() == [3.3] * 4
+    assert d.conditions.at["C1", "t_ambient_c"] == 50.0
+    assert d.conditions["condition_source"].tolist() == ["row"] * 4
+
+
+def test_bank_and_series_keep_group_quantities_off_their_members():
+    d = sheet(["refdes", "members", "kind", "v_dc", "c_min", "t_amb"],
+              ["BULK_12V", "C1-C3", "bank", "12", "300 uF", "60"],
+              ["HV_LINK", "C5-C6", "series", "400", "", "70"])
+    c = d.conditions
+    assert c.loc[["C1", "C2", "C3"], "v_dc"].tolist() == [12.0] * 3
+    assert c.loc[["C1", "C2", "C3"], "c_min_f"].isna().all()  # the bank meets it, not each part
+    assert c.loc[["C5", "C6"], "v_dc"].isna().all()  # each member carries a share of the 400 V
+    assert c.loc[["C5", "C6"], "t_ambient_c"].tolist() == [70.0, 70.0]
+    assert d.groups["BULK_12V"].kind == "bank"
+    assert d.groups["BULK_12V"].conditions["c_min_f"] == pytest.approx(300e-6)
+    assert d.groups["HV_LINK"].conditions["v_dc"] == 400.0
+
+
+def test_group_is_constructible_with_the_contract_fields():
+    g = Group("+5V_LOGIC", ("C1",), 3)
+    assert g.kind == "rail" and dict(g.conditions) == {}
+
+
+@pytest.mark.parametrize("cells, expected", [
+    (["refdes", "v_dc"], True),
+    (["Designator", "Ripple mVpp"], True),
+    (["rail", "members"], True),
+    (["Designator", "Comment", "Footprint"], False),
+    (["v_dc", "t_amb"], False),
+])
+def test_is_design_header(cells, expected):
+    assert is_design_header(cells) is expected
+
+
+def test_aliases_from_the_issue_are_known():
+    from bomcheck.design import _parse_header
+
+    for header, field in [("v_dc [V]", "v_dc"), ("Vdc (V)", "v_dc"), ("working voltage", "v_dc"),
+                          ("t_amb (\u00b0C)", "t_ambient_c"), ("ambient", "t_ambient_c"),
+                          ("Ripple mVpp", "v_ripple_pk"), ("t_rise", "t_rise_c"),
+                          ("c_min", "c_min_f"), ("required capacitance", "c_min_f"),
+                          ("life", "life_h"), ("members", "members"), ("group", "group"),
+                          ("rail", "group"), ("notes", "notes"), ("V_TOL_PCT", "v_tol_pct")]:
+        assert _parse_header(header).field == field, header
+    assert set(ALIASES) >= set(CONDITIONS)
+
+
+# --- files -----------------------------------------------------------------------------------
+
+
+def test_read_csv_file(tmp_path):
+    path = tmp_path / "design.csv"
+    path.write_text(
+        "Operating conditions, rev B\n"
+        "\n"
+        "refdes,members,v_dc [V],v_tol_pct,Ripple mVpp,t_amb (\u00b0C),life,notes\n"
+        "*,,,,,45,10 years,\n"
+        "+5V_LOGIC,\"C1-C9, C20\",5,5,100,,,logic\n"
+        "C14,,,,,85 degC,,hot spot\n"
+        "C30,,500 mV,,,,50000 h,\n",
+        encoding="utf-8",
+    )
+    d = read_design(str(path))
+    assert d.sha256 == hashlib.sha256(path.read_bytes()).hexdigest()
+    assert d.format == "csv" and d.path == str(path)
+    assert d.defaults_row == 4
+    assert d.groups["+5V_LOGIC"].row == 5
+    assert len(d.groups["+5V_LOGIC"].members) == 10
+    c = d.conditions
+    assert c.at["C14", "design_row"] == 6 and c.at["C14", "t_ambient_c"] == 85.0
+    assert c.at["C30", "v_dc"] == 0.5 and c.at["C30", "life_h"] == 50000.0
+    assert c.at["C20", "v_ripple_pk"] == pytest.approx(0.05)
+    assert c.at["C20", "v_dc_max"] == pytest.approx(5.25)
+
+
+def test_csv_wrong_dimension_names_the_file_line(tmp_path):
+    path = tmp_path / "design.csv"
+    path.write_text("refdes,v_dc [V]\nC1,5\nC2,5 A\n", encoding="utf-8")
+    with pytest.raises(InputError) as info:
+        read_design(str(path))
+    assert (info.value.path, info.value.row, info.value.column) == (str(path), 3, "v_dc [V]")
+
+
+def test_read_xlsx_file(tmp_path):
+    openpyxl = pytest.importorskip("openpyxl")
+    wb = openpyxl.Workbook()
+    ws = wb.active
+    ws.title = "Notes"
+    ws.append(["Nothing to see here"])
+    ws = wb.create_sheet("Conditions")
+    ws.append(["Board KX-7 operating conditions"])
+    ws.append(["Ref Des", "Vdc (V)", "v_tol_pct", "t_amb (\u00b0C)", "required capacitance",
+               "life [years]"])
+    ws.append(["*", None, None, 40, None, 10])
+    ws.append(["C1-C3", 12, 10, None, "2.2 uF", None])
+    ws.append(["C7", "500 mV", None, 85.5, None, None])
+    ws.append(["C8", 3.3, 0.05, None, None, None])
+    ws["C6"].number_format = "0%"  # typed as "5%": the workbook stores 0.05
+    path = tmp_path / "design.xlsx"
+    wb.save(path)
+
+    d = read_design(str(path))
+    assert d.format == "xlsx" and d.sheet == "Conditions"
+    c = d.conditions
+    assert c.at["C2", "design_row"] == 4  # worksheet row numbers
+    assert c.at["C2", "v_dc_max"] == pytest.approx(13.2)  # 12 V x 1.10
+    assert c.at["C3", "c_min_f"] == pytest.approx(2.2e-6)
+    assert c.at["C7", "v_dc"] == 0.5 and c.at["C7", "t_ambient_c"] == 85.5
+    assert d.defaults == pytest.approx({"t_ambient_c": 40.0, "life_h": 87660.0})
+    assert any("v_tol_pct of 0.05 % in row 6" in w for w in d.warnings)
+    assert read_design(str(path), sheet="Conditions").conditions.equals(c)
+
+
+TOML = '''\
+# Operating conditions of the invented board KX-7
+[defaults]
+t_ambient_c = "45 degC"
+life_h = "10 years"
+
+[groups."+5V_LOGIC"]
+members = ["C1-C4", "C20"]
+v_dc = "5 V"
+v_tol_pct = 5
+"ripple [mVpp]" = 100
+notes = "logic rail"
+
+[groups.BULK_12V]
+kind = "bank"
+v_dc = 12
+c_min_f = "470 uF"
+
+[parts.C3]
+t_ambient_c = "85 degC"
+notes = "beside the regulator"
+
+[parts."C40-C42, C45"]
+v_dc = "11.5 V"
+group = "BULK_12V"
+
+[parts.C50-C51]
+v_dc = 3.3
+t_rise_c = "10 degC"
+'''
+
+
+def test_read_toml_file(tmp_path):
+    path = tmp_path / "design.toml"
+    path.write_text(TOML, encoding="utf-8")
+    d = read_design(str(path))
+    assert d.format == "toml" and d.sha256 == hashlib.sha256(path.read_bytes()).hexdigest()
+    assert d.defaults == pytest.approx({"t_ambient_c": 45.0, "life_h": 87660.0})
+    assert d.defaults_row == 2
+    g = d.groups["+5V_LOGIC"]
+    assert g.members == ("C1", "C2", "C3", "C4", "C20") and g.row == 6
+    assert d.groups["BULK_12V"].members == ("C40", "C41", "C42", "C45")
+    assert d.groups["BULK_12V"].kind == "bank"
+    c = d.conditions
+    assert c.at["C1", "v_ripple_pk"] == pytest.approx(0.05)
+    assert c.at["C1", "v_dc_max"] == pytest.approx(5.25)
+    assert c.at["C3", "t_ambient_c"] == 85.0 and c.at["C3", "v_dc"] == 5.0
+    assert c.at["C3", "design_row"] == 18 and c.at["C3", "condition_source"] == "row"
+    assert c.at["C41", "v_dc"] == 11.5 and math.isnan(c.at["C41", "c_min_f"])
+    assert c.at["C51", "t_rise_c"] == 10.0 and c.at["C51", "design_row"] == 26
+    out = d.for_placements(pd.Series(["C2", "C3", "C99"]))
+    assert out["t_ambient_c"].tolist() == [45.0, 85.0, 45.0]
+    assert out["condition_source"].tolist() == ["group", "row", "defaults"]
+
+
+@pytest.mark.parametrize("text, match, row, column", [
+    ('[parts.C1]\nv_dc = "5 A"\n', "wrong dimension", 1, "parts.C1.v_dc"),
+    ('\n[parts."C1, C2"]\nt_amb = "warm"\n', "not a quantity", 2, 'parts."C1, C2".t_amb'),
+    ('[parts.C1]\nv_dc = true\n', "not a value", 1, "parts.C1.v_dc"),
+    ('[part]\nrefdes = "C1"\n', "unknown table", 1, "part"),
+    ('[parts.C1]\nmembers = "C2"\n', "members belong in a group", 1, "parts.C1.members"),
+    ('[parts.C1]\nv_dc = 5\n[parts.C1-C3]\nv_dc = 6\n', "C1 is addressed by rows 1 and 3", 3,
+     "table name"),
+    ('[parts.C1\nv_dc = 5\n', "not valid TOML", 1, None),
+], ids=["dimension", "unreadable", "bool", "unknown-table", "members-in-part",
+        "twice", "syntax"])
+def test_toml_errors(text, match, row, column):
+    with pytest.raises(InputError, match=match) as info:
+        design_from_toml(text, path="d.toml")
+    assert (info.value.path, info.value.row, info.value.column) == ("d.toml", row, column)
+
+
+def test_toml_unknown_key_is_a_warning():
+    d = design_from_toml('[parts.C1]\nv_dc = 5\nlayout_owner = "KB"\n', path="d.toml")
+    assert d.conditions.at["C1", "v_dc"] == 5.0
+    assert any("parts.C1.layout_owner" in w for w in d.warnings)
+
+
+def test_missing_file(tmp_path):
+    with pytest.raises(InputError, match="not found"):
+        read_design(str(tmp_path / "none.csv"))
+
+
+def test_csv_without_a_design_header(tmp_path):
+    path = tmp_path / "bom.csv"
+    path.write_text("Designator,Comment\nC1,100n\n", encoding="utf-8")
+    with pytest.raises(InputError, match="no design-sheet header"):
+        read_design(str(path))
+
+
+def test_large_sheet_is_column_work():
+    # 20k designators with a handful of distinct texts: conversion is per distinct string.
+    n = 20_000
+    texts = np.array(["5 V", "12 V", "500 mV", "3.3"], dtype=object)[np.arange(n) % 4]
+    frame = pd.DataFrame({"refdes": [f"C{i}" for i in range(1, n + 1)], "v_dc": texts})
+    d = design_from_table(frame)
+    assert len(d.conditions) == n
+    assert d.conditions["v_dc"].iloc[:4].tolist() == [5.0, 12.0, 0.5, 3.3]
+    out = d.for_placements(pd.Series([f"C{i}" for i in range(n, 0, -1)]))
+    assert out["v_dc"].iloc[-4:].tolist() == [3.3, 0.5, 12.0, 5.0]  # C4, C3, C2, C1

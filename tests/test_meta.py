@@ -1,0 +1,65 @@
+"""Guards on the project itself: lazy imports, layering, help text and docs."""
+
+import ast
+import subprocess
+import sys
+from pathlib import Path
+
+import pytest
+
+from bomcheck.cli import build_parser
+
+ROOT = Path(__file__).resolve().parents[1]
+PACKAGE = ROOT / "bomcheck"
+# Edge modules may import rich/openpyxl; the core may not.
+EDGE = {"cli.py", "commands.py", "render.py", "xlsx.py", "__main__.py"}
+
+
+def _imports(path: Path) -> set[str]:
+    tree = ast.parse(path.read_text(encoding="utf-8"))
+    names = set()
+    for node in ast.walk(tree):
+        if isinstance(node, ast.Import):
+            names.update(a.name.split(".")[0] for a in node.names)
+        elif isinstance(node, ast.ImportFrom) and node.module and node.level == 0:
+            names.add(node.module.split(".")[0])
+    return names
+
+
+@pytest.mark.parametrize("module", sorted(p.name for p in PACKAGE.glob("*.py") if p.name not in EDGE))
+def test_core_modules_import_no_rich_or_openpyxl(module):
+    assert not _imports(PACKAGE / module) & {"rich", "openpyxl"}
+
+
+def test_help_path_imports_no_heavy_modules():
+    code = ("import sys, bomcheck.cli as c; c.build_parser().format_help(); "
+            "print(sorted(m for m in ('pandas', 'pint', 'openpyxl', 'numpy', 'rich', 'jsonschema') "
+            "if m in sys.modules))")
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
+    assert out.stdout.strip() == "[]"
+
+
+def _commands():
+    parser = build_parser()
+    sub = next(a for a in parser._actions if a.__class__.__name__ == "_SubParsersAction")
+    return sub.choices
+
+
+@pytest.mark.parametrize("name", sorted(_commands()))
+def test_every_command_has_help_and_is_in_readme(name):
+    sub = _commands()[name]
+    assert sub.description and len(sub.format_help()) > 200
+    assert f"bomcheck {name}" in (ROOT / "README.md").read_text(encoding="utf-8")
+
+
+def test_every_module_starts_with_a_sentence():
+    for path in PACKAGE.glob("*.py"):
+        doc = ast.get_docstring(ast.parse(path.read_text(encoding="utf-8")))
+        assert doc and doc.strip().endswith((".", ")")) or doc.split("\n")[0].endswith("."), path.name
+
+
+def test_version_and_help_answer():
+    for flag in ("--version", "--help"):
+        out = subprocess.run([sys.executable, "-m", "bomcheck", flag], capture_output=True,
+                             text=True)
+        assert out.returncode == 0 and "bomcheck" in out.stdout
