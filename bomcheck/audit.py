@@ -7,12 +7,13 @@ recompute anything.
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+from datetime import date
 
 import numpy as np
 import pandas as pd
 
 from bomcheck import __version__
-from bomcheck.report import STATUS_ORDER, Report, ruleset_summary, worst_status
+from bomcheck.report import STATUS_ORDER, Report, ruleset_summary
 
 # Verdict ids the audit itself gives (not from a rule file): data problems, never a silent pass.
 NO_DESIGN_ROW = "design.missing"
@@ -28,6 +29,8 @@ class AuditOptions:
     import_options: object | None = None  # bomcheck.importer.ImportOptions
     design_sheet: str | int | None = None
     extra_inputs: tuple[tuple[str, str], ...] = field(default_factory=tuple)
+    waivers: str | None = None  # waiver file (TOML or CSV), see bomcheck.waivers
+    today: date | None = None  # the day waiver expiry is judged on (default: the clock's)
 
 
 def _stress_data(ruleset):
@@ -55,32 +58,52 @@ def _audit_verdicts(table: pd.DataFrame, rule_verdicts: pd.DataFrame,
                     import_findings) -> pd.DataFrame:
     """Add the audit's own verdicts: placements with no design row, no applicable rule, and the
     importer's findings on a placement (quantity mismatch, column conflict) as warnings."""
-    extra = []
-    no_row = table.index[table["condition_source"].isin(["none", "defaults"])]
-    for i in no_row:
-        extra.append((i, NO_DESIGN_ROW, "nodata",
-                      f"{table.at[i, 'refdes']}: not in the design sheet; no operating "
-                      "conditions beyond board-wide defaults", "design sheet"))
-    covered = set(rule_verdicts["pidx"].unique()) if len(rule_verdicts) else set()
-    for i in table.index.difference(pd.Index(sorted(covered))):
-        tech = table.at[i, "technology"] or "unknown technology"
-        extra.append((i, NO_RULE, "nodata",
-                      f"{table.at[i, 'refdes']}: no rule in force applies ({tech}); the part is "
-                      "not checked", "rule sets in force"))
-    by_refdes = pd.Series(table.index, index=table["refdes"])
-    by_row = table.groupby("row").groups
+    refdes = table["refdes"].to_numpy(dtype=object)
+    parts = [rule_verdicts]
+
+    def add(idx: np.ndarray, rule_id: str, status: str, messages, source: str) -> None:
+        if len(idx):
+            parts.append(pd.DataFrame({
+                "pidx": idx, "refdes": refdes[idx], "rule_id": rule_id, "status": status,
+                "message": messages, "source": source,
+            }))
+
+    no_row = np.flatnonzero(table["condition_source"].isin(["none", "defaults"]).to_numpy())
+    add(no_row, NO_DESIGN_ROW, "nodata",
+        [f"{r}: not in the design sheet; no operating conditions beyond board-wide defaults"
+         for r in refdes[no_row]], "design sheet")
+    covered = np.zeros(len(table), dtype=bool)
+    if len(rule_verdicts):
+        covered[rule_verdicts["pidx"].to_numpy(dtype=np.int64)] = True
+    uncovered = np.flatnonzero(~covered)
+    tech = table["technology"].to_numpy(dtype=object)
+    add(uncovered, NO_RULE, "nodata",
+        [f"{r}: no rule in force applies ({t or 'unknown technology'}); the part is not checked"
+         for r, t in zip(refdes[uncovered], tech[uncovered])], "rule sets in force")
+    rows = table["row"].to_numpy()
     for f in import_findings:
-        targets = ([by_refdes[f.refdes]] if f.refdes and f.refdes in by_refdes.index
-                   else list(by_row.get(f.row, [])))
-        for i in np.atleast_1d(targets):
-            extra.append((int(i), BOM_FINDING.format(code=f.code), "warn",
-                          f"{table.at[int(i), 'refdes']}: {f.message}", "BOM data"))
-    if not extra:
+        idx = np.flatnonzero(refdes == f.refdes) if f.refdes else np.flatnonzero(rows == f.row)
+        if not len(idx) and f.refdes:
+            idx = np.flatnonzero(rows == f.row)
+        add(idx, BOM_FINDING.format(code=f.code), "warn",
+            [f"{r}: {f.message}" for r in refdes[idx]], "BOM data")
+    if len(parts) == 1:
         return rule_verdicts
-    add = pd.DataFrame(extra, columns=["pidx", "rule_id", "status", "message", "source"])
-    add["refdes"] = table.loc[add["pidx"], "refdes"].to_numpy()
-    out = pd.concat([rule_verdicts, add], ignore_index=True)
+    out = pd.concat(parts, ignore_index=True)
     return out.sort_values(["pidx", "rule_id"], kind="stable").reset_index(drop=True)
+
+
+def placement_status(verdicts: pd.DataFrame, n: int) -> np.ndarray:
+    """Each placement's status: the worst of its verdicts (STATUS_ORDER); nodata when it has none."""
+    rank = {s: i for i, s in enumerate(STATUS_ORDER)}
+    worst = np.full(n, rank["nodata"], dtype=np.int64)
+    if len(verdicts):
+        r = verdicts["status"].map(rank).to_numpy(dtype=np.int64)
+        p = verdicts["pidx"].to_numpy(dtype=np.int64)
+        best = np.full(n, -1, dtype=np.int64)
+        np.maximum.at(best, p, r)
+        worst = np.where(best >= 0, best, worst)
+    return np.asarray(STATUS_ORDER, dtype=object)[worst]
 
 
 def run_audit(bom_path: str, design_path: str | None, options: AuditOptions = AuditOptions()) -> Report:
@@ -115,14 +138,13 @@ def run_audit(bom_path: str, design_path: str | None, options: AuditOptions = Au
     verdicts = engine.evaluate(table, ruleset)
     verdicts = _audit_verdicts(table, verdicts, imported.findings)
 
-    status = verdicts.groupby("pidx")["status"].agg(worst_status)
-    table["status"] = status.reindex(table.index).fillna("nodata")
+    table["status"] = placement_status(verdicts, len(table))
 
     counts = table["status"].value_counts()
     totals = dict(imported.totals)
     totals.update({"audited": int(len(table)), "design_unmatched": len(design_unmatched)})
     totals.update({s: int(counts.get(s, 0)) for s in STATUS_ORDER})
-    return Report(
+    report = Report(
         tool_version=__version__,
         rulesets=ruleset_summary(ruleset),
         inputs=tuple(inputs),
@@ -135,3 +157,8 @@ def run_audit(bom_path: str, design_path: str | None, options: AuditOptions = Au
         totals=totals,
         rules=ruleset,
     )
+    if options.waivers:
+        from bomcheck.waivers import apply_waivers, load_waivers
+
+        report = apply_waivers(report, load_waivers(options.waivers), options.today or date.today())
+    return report

@@ -28,6 +28,36 @@ def _add_import_options(p: argparse.ArgumentParser) -> None:
     p.add_argument("--column-map", metavar="TOML", help="TOML file mapping fields to headers")
 
 
+def _iso_date(text: str):
+    """An argparse type: YYYY-MM-DD to a date (a bad date is a usage error, exit status 2)."""
+    import datetime
+
+    try:
+        return datetime.date.fromisoformat(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"not a date: {text!r} (expected YYYY-MM-DD)") from None
+
+
+def _add_audit_outputs(p: argparse.ArgumentParser) -> None:
+    """Reports, waivers and the baseline of ``audit``; unset ones may come from pyproject.toml."""
+    p.add_argument("--junit", metavar="OUT.xml", help="write JUnit XML: one test case per fitted "
+                   "placement")
+    p.add_argument("--warn-as", choices=("failure", "skipped", "pass"), default=None,
+                   help="how a warning shows in the JUnit XML (default: failure)")
+    p.add_argument("--markdown", metavar="OUT", help="write a short Markdown summary (for a "
+                   "pull-request comment)")
+    p.add_argument("--csv", metavar="OUT", help="write one CSV row per fitted placement")
+    p.add_argument("--xlsx", metavar="OUT", help="write the reviewer's workbook (.xlsx)")
+    p.add_argument("--waivers", metavar="FILE", help="approved deviations (TOML or CSV): "
+                   "matching verdicts become 'waived'")
+    p.add_argument("--today", metavar="YYYY-MM-DD", type=_iso_date, help="judge waiver expiry "
+                   "on this day instead of the clock's (reproducible runs)")
+    p.add_argument("--baseline", metavar="OLD.json", help="compare with an earlier JSON report: "
+                   "new, resolved and changed verdicts")
+    p.add_argument("--no-config", action="store_true", help="ignore [tool.bomcheck] in "
+                   "pyproject.toml")
+
+
 def build_parser() -> argparse.ArgumentParser:
     parser = argparse.ArgumentParser(
         prog="bomcheck",
@@ -68,12 +98,28 @@ def build_parser() -> argparse.ArgumentParser:
                    help="rule set by shipped name or TOML path (repeatable; later ones override "
                    "rules of the same id). Default: the shipped default set")
     p.add_argument("--json", metavar="OUT", help="write the JSON report to OUT ('-' for stdout)")
-    p.add_argument("--fail-on", choices=("fail", "nodata", "warn"), default="fail",
-                   help="lowest status that makes the exit status 1 (order: warn < nodata < "
-                   "fail; default: fail)")
+    p.add_argument("--fail-on", choices=("fail", "nodata", "warn", "new"), default=None,
+                   help="lowest status that makes the exit status 1 (order: waived < warn < "
+                   "nodata < fail; default: fail); 'new': only new or worsened problems "
+                   "against --baseline")
     p.add_argument("--all", action="store_true", help="show every placement, not the worst 50")
     p.add_argument("--quiet", action="store_true", help="print only the totals line")
+    _add_audit_outputs(p)
     _add_import_options(p)
+
+    p = sub.add_parser("diff", parents=[common], help="compare two JSON audit reports (release "
+                       "to release)",
+                       description="Compare two JSON reports of bomcheck audit: verdicts new, "
+                       "resolved and changed (by designator and rule id) and placements added "
+                       "or removed. Exit status 0, or 1 with --fail-on new when the new report "
+                       "has new or worsened problems (warn or worse); 2: inputs unusable.")
+    p.add_argument("old", help="the earlier JSON report (bomcheck audit --json)")
+    p.add_argument("new", help="the later JSON report")
+    p.add_argument("--json", metavar="OUT", help="write the comparison as JSON ('-' for stdout)")
+    p.add_argument("--markdown", metavar="OUT", help="write the comparison as Markdown")
+    p.add_argument("--fail-on", choices=("new",), default=None,
+                   help="'new': exit status 1 when there are new or worsened problems")
+    p.add_argument("--all", action="store_true", help="show every change, passing ones too")
 
     p = sub.add_parser("rules", parents=[common], help="list the rules of a rule set with limits and sources",
                        description="List shipped rule sets, or the rules of one (by name or "

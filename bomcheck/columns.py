@@ -8,6 +8,7 @@ TOML mapping file. No I/O except reading that mapping file.
 from __future__ import annotations
 
 import difflib
+import functools
 import re
 import tomllib
 import unicodedata
@@ -123,7 +124,8 @@ _BRACKETS = re.compile(r"[(\[{][^)\]}]*[)\]}]")
 def normalise_header(text: str) -> str:
     """Fold a header for matching: accents off, case folded, only letters and digits kept.
 
-    ``"Gehäuse"`` -> ``"gehause"``, ``"Ref. Des."`` -> ``"refdes"``, ``"Quantité"`` -> ``"quantite"``.
+    ``"Gehäuse"`` -> ``"gehause"``, ``"Ref. Des."`` -> ``"refdes"``,
+    ``"Quantité"`` -> ``"quantite"``.
     """
     t = unicodedata.normalize("NFKD", str(text).replace("ß", "ss").replace("ẞ", "ss"))
     t = "".join(ch for ch in t if not unicodedata.combining(ch)).casefold()
@@ -145,19 +147,30 @@ def _variants(header: str) -> list[str]:
     return out
 
 
-def _alias_index(extra: Mapping[str, Sequence[str]] | None = None) -> dict[str, tuple[str, int]]:
-    """Folded alias -> (field, priority); user aliases come first (priority below the table's)."""
+@functools.lru_cache(maxsize=1)
+def _table_index() -> dict[str, tuple[str, int]]:
     index: dict[str, tuple[str, int]] = {}
-    for fld, aliases in (extra or {}).items():
-        for i, alias in enumerate(aliases):
-            index.setdefault(normalise_header(alias), (fld, -1000 + i))
     for fld, aliases in ALIASES.items():
         for i, alias in enumerate(aliases):
             index.setdefault(normalise_header(alias), (fld, i))
     return index
 
 
-def match_field(header: str, extra_aliases: Mapping[str, Sequence[str]] | None = None) -> str | None:
+def _alias_index(extra: Mapping[str, Sequence[str]] | None = None) -> dict[str, tuple[str, int]]:
+    """Folded alias -> (field, priority); user aliases come first (priority below the table's)."""
+    if not extra:
+        return _table_index()
+    index: dict[str, tuple[str, int]] = {}
+    for fld, aliases in extra.items():
+        for i, alias in enumerate(aliases):
+            index.setdefault(normalise_header(alias), (fld, -1000 + i))
+    for key, val in _table_index().items():
+        index.setdefault(key, val)
+    return index
+
+
+def match_field(header: str,
+                extra_aliases: Mapping[str, Sequence[str]] | None = None) -> str | None:
     """The canonical field a single header names, or None."""
     index = _alias_index(extra_aliases)
     for v in _variants(header):

@@ -42,19 +42,25 @@ def _import_options(args: argparse.Namespace):
                          column_map=args.column_map)
 
 
-def write_text_atomic(path: str, text: str) -> None:
-    """Write ``text`` to ``path`` through a temporary file and a rename ('-' is stdout)."""
+def write_text_atomic(path: str, text) -> None:
+    """Write ``text`` (a string or an iterable of strings) to ``path`` through a temporary file
+    and a rename, so a failed run never leaves a half-written report ('-' is stdout)."""
+    pieces = [text] if isinstance(text, str) else text
     if path == "-":
-        sys.stdout.write(text)
+        sys.stdout.writelines(pieces)
         return
     target = Path(path)
     tmp = target.with_name(f".{target.name}.{os.getpid()}.tmp")
     try:
-        tmp.write_text(text, encoding="utf-8")
+        with tmp.open("w", encoding="utf-8", newline="\n") as f:
+            f.writelines(pieces)
         os.replace(tmp, target)
     except OSError as exc:
         tmp.unlink(missing_ok=True)
         raise InputError(f"cannot write report: {exc.strerror}", path=path) from None
+    except BaseException:
+        tmp.unlink(missing_ok=True)
+        raise
 
 
 def run_parse(args: argparse.Namespace) -> int:
@@ -107,7 +113,7 @@ def run_audit(args: argparse.Namespace) -> int:
                            design_sheet=args.design_sheet)
     report = run_audit(args.bom, args.design, options)
     if args.json:
-        write_text_atomic(args.json, report.to_json())
+        write_text_atomic(args.json, report.iter_json())
     if args.json != "-":
         from bomcheck.render import accounting_line, print_audit
 

@@ -295,8 +295,8 @@ class Design:
 
 def _keys(refdes: Sequence[Any] | pd.Series) -> np.ndarray:
     """Designators as the design sheet stores them: stripped, upper case (as refdes.expand)."""
-    return np.array([str(r).strip().upper() for r in np.asarray(refdes, dtype=object)],
-                    dtype=object)
+    text = np.asarray(refdes, dtype=object).astype(str)
+    return np.char.upper(np.char.strip(text)).astype(object)
 
 
 def _merge_levels(specific: np.ndarray, general: np.ndarray) -> np.ndarray:

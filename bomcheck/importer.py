@@ -58,7 +58,7 @@ import pandas as pd
 from bomcheck import columns as colmod
 from bomcheck import reader
 from bomcheck.errors import InputError
-from bomcheck.refdes import expand, is_designator, prefix
+from bomcheck.refdes import expand
 from bomcheck.spec import SPEC_KEYS
 
 if TYPE_CHECKING:
@@ -93,7 +93,7 @@ _CAP_KIND, _OTHER_KIND, _UNKNOWN_KIND = 1, -1, 0
 _CAP, _NONCAP, _UNREAD = 0, 1, 2
 _KIND_ARRAY = np.array(["capacitor", "not_capacitor", "unreadable"], dtype=object)
 
-# Not-fitted marks inside cell text. Upper-case NF/NC only, and not right after a number, so
+# Not-fitted marks inside cell text. Upper-case NF/NC only, and NF not right after a number, so
 # "100 NF" stays a capacitance. "NP" (non-polar) is deliberately absent.
 _NOT_FITTED = re.compile(
     r"(?<![\w.])(?:"
@@ -101,7 +101,7 @@ _NOT_FITTED = re.compile(
     r"|NOT\s+(?:FITTED|POPULATED|PLACED|MOUNTED|INSTALLED|ASSEMBLED|USED)"
     r"|DO\s+NOT\s+(?:POPULATE|PLACE|FIT|INSTALL|MOUNT|ASSEMBLE|STUFF)"
     r"|NICHT\s+BEST(?:Ü|UE|U)CKT|UNBEST(?:Ü|UE|U)CKT|NON[\s-]+MONT(?:É|E)(?:ES|E|S)?)"
-    r"|(?<![\d.,]\s)(?:NF|NC|N/F|N\.F\.|N\.C\.)"
+    r"|(?<![\d.,]\s)(?:NF|N/F|N\.F\.)|NC|N\.C\."
     r")(?!\w)"
 )
 _EMPTY_BRACKETS = re.compile(r"\(\s*\)|\[\s*\]|\{\s*\}")
@@ -309,8 +309,11 @@ def _fold(text: str) -> str:
 
 # The language of bomcheck.refdes.is_designator, compiled once (prefix in group 1).
 _DESIGNATOR = re.compile(r"([A-Za-z_]+)\d+[A-Za-z]?\Z")
-_FAST_SINGLE = re.compile(r"^([A-Z_]+)\d+[A-Z]?$|^.*$", re.M)
-_FAST_SINGLE_SPACED = re.compile(r"^[ \t]*([A-Z_]+)\d+[A-Z]?[ \t]*$|^.*$", re.M)
+# The shape of a cell: ASCII digits to "9", ASCII letters to upper case. Cells share few shapes
+# (C9, C99, R999...), so the single-designator test runs once per distinct shape.
+_SHAPE_TABLE = str.maketrans({**dict.fromkeys("0123456789", "9"),
+                              **{c: c.upper() for c in "abcdefghijklmnopqrstuvwxyz"}})
+_SINGLE_SHAPE = re.compile(r"[ \t]*([A-Z_]+)9+[A-Z]?[ \t]*")
 
 
 # A plain forward range without leading zeros (C12-C15, C12-15): the common case, expanded here
@@ -332,34 +335,34 @@ class _Designators:
     lists: dict[int, list[str]]
 
 
-def _expand_one(text: str) -> tuple[list[str], str | None, str | None]:
-    """(designators, error reason, not-fitted mark) for one designator cell."""
+def _expand_one(text: str) -> tuple[list[str], str | None, str | None, str]:
+    """(designators, error reason, not-fitted mark, first prefix) for one designator cell."""
     t = text.strip()
     m = _SIMPLE_RANGE.fullmatch(t)
     if m:
         lo, hi = int(m.group(2)), int(m.group(3))
         if lo <= hi:
             p = m.group(1).upper()
-            return [f"{p}{k}" for k in range(lo, hi + 1)], None, None
+            return [f"{p}{k}" for k in range(lo, hi + 1)], None, None, p
     mark = not_fitted_mark(t)
     if mark:
         t = strip_not_fitted(t)
     if not t.strip():
-        return [], "no designator", mark
+        return [], "no designator", mark, ""
     try:
         items = expand(t)
     except InputError as exc:
-        return [], f"designator list not readable: {exc.problem} ({exc.text!r})", mark
+        return [], f"designator list not readable: {exc.problem} ({exc.text!r})", mark, ""
     matches = [_DESIGNATOR.match(i) for i in items]
     if not all(matches):
         bad = next(i for i, mt in zip(items, matches) if not mt)
         what = "designator" if len(items) == 1 else "designator list"
-        return [], f"{what} not readable: {bad!r}", mark
-    prefixes = {mt.group(1).upper() for mt in matches}  # type: ignore[union-attr]
-    if len({prefix_kind(p) for p in prefixes}) > 1:
-        pfx = ", ".join(sorted(prefixes))
-        return [], f"designators mix capacitor and other prefixes ({pfx})", mark
-    return items, None, mark
+        return [], f"{what} not readable: {bad!r}", mark, ""
+    prefixes = [mt.group(1).upper() for mt in matches]  # type: ignore[union-attr]
+    if len({prefix_kind(p) for p in set(prefixes)}) > 1:
+        pfx = ", ".join(sorted(set(prefixes)))
+        return [], f"designators mix capacitor and other prefixes ({pfx})", mark, ""
+    return items, None, mark, prefixes[0]
 
 
 def expand_lines(texts: np.ndarray) -> _Designators:
@@ -378,19 +381,21 @@ def expand_lines(texts: np.ndarray) -> _Designators:
     big = "\n".join(texts)
     if big.count("\n") != n - 1:
         # A cell with a line break (Alt+Enter in a spreadsheet) goes the slow way: "," is a
-        # placeholder the single-designator pattern does not match.
+        # shape the single-designator pattern does not match.
         big = "\n".join(t if "\n" not in t else "," for t in texts)
-    upper = big.upper()
-    spaced = " " in big or "\t" in big
-    found = np.array((_FAST_SINGLE_SPACED if spaced else _FAST_SINGLE).findall(upper),
-                     dtype=object)
-    fast = found != ""
-    if fast.all() and not spaced and upper == big:
+    codes, shapes = pd.factorize(np.array(big.translate(_SHAPE_TABLE).split("\n"), dtype=object))
+    matches = [_SINGLE_SHAPE.fullmatch(str(u)) for u in shapes]
+    fast = np.array([m is not None for m in matches], dtype=bool)[codes]
+    found = np.array([m.group(1) if m else "" for m in matches], dtype=object)[codes]
+    padded = np.array([bool(m) and m.group(0) != m.group(0).strip() for m in matches],
+                      dtype=bool)[codes]
+    up = big.upper()
+    if fast.all() and up == big and not padded.any():
         return _Designators(texts, np.ones(n, dtype=np.int64), found, out.has_error, {}, {}, {})
     if fast.any():
-        names = (texts if upper == big else np.array(upper.split("\n"), dtype=object))[fast]
-        if spaced:
-            names = np.array([s.strip() for s in names], dtype=object)
+        names = texts[fast] if up == big else np.array(up.split("\n"), dtype=object)[fast]
+        for j in np.flatnonzero(padded[fast]):
+            names[j] = names[j].strip()
         out.single[fast] = names
         count[fast] = 1
         out.prefix[fast] = found[fast]
@@ -398,17 +403,17 @@ def expand_lines(texts: np.ndarray) -> _Designators:
     if len(slow):
         codes, uniques = pd.factorize(texts[slow])
         results = [_expand_one(str(u)) for u in uniques]
+        counts_u = np.array([len(r[0]) for r in results], dtype=np.int64)
+        count[slow] = counts_u[codes]
+        out.prefix[slow] = np.array([r[3] for r in results], dtype=object)[codes]
         for i, code in zip(slow.tolist(), codes.tolist()):
-            items, err, mk = results[code]
+            items, err, mk, _ = results[code]
             if mk:
                 out.mark[i] = mk
             if err is not None:
                 out.has_error[i] = True
-                out.error[i] = err if texts[i].strip() else "no designator"
-                continue
-            count[i] = len(items)
-            out.prefix[i] = prefix(items[0])
-            if len(items) == 1:
+                out.error[i] = err
+            elif len(items) == 1:
                 out.single[i] = items[0]
             else:
                 out.lists[i] = items
@@ -445,6 +450,7 @@ class _Parser:
         self.semicolon = semicolon
         self._cache: dict[tuple[str, str], CapSpec | None] = {}
         self._cleaned: dict[str, tuple[str, str | None]] = {}
+        self._group_cache: dict[int, list[tuple[Any, ...] | None]] = {}  # specs live in _cache
 
     def clean(self, text: str) -> tuple[str, str | None]:
         """(text to parse, not-fitted mark): spaces collapsed, marks removed, decimal commas."""
@@ -496,23 +502,23 @@ class _Parser:
     def _merge(self, specs: dict[str, CapSpec | None]) -> tuple[dict[str, Any], list[str]]:
         """Merge the sources' specs field group by field group; a dedicated column wins over the
         value, the value over the description; disagreements become conflict messages."""
-        out: dict[str, Any] = {k: None for k in SPEC_COLUMNS}
-        out["warnings"], out["unread"] = (), ()
+        out: dict[str, Any] = dict(_EMPTY_SPEC)
         conflicts: list[str] = []
         present = {s: sp for s, sp in specs.items() if sp is not None}
-        for group, order in _GROUPS:
-            keys = _KEY_FIELDS.get(group[0], group[:1])
-            have = [(s, present[s]) for s in order if s in present
-                    and any(getattr(present[s], k) is not None for k in keys)]
-            if not have:
-                continue
-            win_src, win = have[0]
-            for k in group:
-                out[k] = getattr(win, k)
-            for src, sp in have[1:]:
-                msg = self._disagree(keys, win_src, win, src, sp)
-                if msg:
-                    conflicts.append(msg)
+        groups = {s: self._groups(sp) for s, sp in present.items()}
+        for gi, (group, order, keys) in enumerate(_GROUP_KEYS):
+            win_src = None
+            for src in order:
+                got = groups.get(src)
+                if got is None or got[gi] is None:
+                    continue
+                if win_src is None:
+                    win_src, win_vals = src, got[gi]
+                    out.update(zip(group, win_vals))
+                elif got[gi][:len(keys)] != win_vals[:len(keys)]:
+                    msg = self._disagree(keys, win_src, present[win_src], src, present[src])
+                    if msg:
+                        conflicts.append(msg)
         if out["polarized"] is None:
             out["polarized"] = next((sp.polarized for sp in present.values()
                                      if sp.polarized is not None), None)
@@ -528,6 +534,18 @@ class _Parser:
             unread.extend(u for u in sp.unread if u not in unread)
         out["warnings"], out["unread"] = tuple(warnings), tuple(unread)
         return out, conflicts
+
+    def _groups(self, spec: CapSpec) -> list[tuple[Any, ...] | None]:
+        """Per field group of ``_GROUP_KEYS``: the spec's values (key fields first), or None when
+        the spec has none of the group's key fields. Cached per spec."""
+        got = self._group_cache.get(id(spec))
+        if got is None:
+            got = []
+            for group, _, keys in _GROUP_KEYS:
+                vals = tuple(getattr(spec, k) for k in group)
+                got.append(vals if any(v is not None for v in vals[:len(keys)]) else None)
+            self._group_cache[id(spec)] = got
+        return got
 
     def _merge_temperature(self, present: dict[str, CapSpec], out: dict[str, Any],
                            conflicts: list[str]) -> None:
@@ -599,7 +617,11 @@ class _Parser:
         return str(v)
 
 
+# The fields that say whether a source has a group at all (tolerance may be absolute only).
 _KEY_FIELDS = {"tol_minus_pct": ("tol_minus_pct", "tol_plus_pct", "tol_abs_f")}
+_GROUP_KEYS = tuple((group, order, _KEY_FIELDS.get(group[0], group[:1]))
+                    for group, order in _GROUPS)
+_EMPTY_SPEC: dict[str, Any] = {**dict.fromkeys(SPEC_COLUMNS), "warnings": (), "unread": ()}
 _FIELD_NAMES = {"capacitance_f": "capacitance", "voltage_v": "rated voltage",
                 "tol_minus_pct": "tolerance", "temp_min_c": "minimum temperature",
                 "temp_max_c": "maximum temperature", "technology": "technology",
@@ -695,7 +717,7 @@ def _row_texts(arrays: list[np.ndarray], idx: np.ndarray) -> list[str]:
     if not len(idx):
         return []
     cols = [a[idx] for a in arrays]
-    return [" | ".join(c for c in cells if c) for cells in zip(*cols)]
+    return [" | ".join(filter(None, cells)) for cells in zip(*cols)]
 
 
 def _build(table: reader.RawTable, mapping: dict[str, str], source: BomSource) -> ImportResult:
@@ -863,18 +885,17 @@ def _continuations(frame: pd.DataFrame, mapping: dict[str, str], arrays: list[np
         if i in text_i or not len(no_ref):
             continue
         no_ref = no_ref[arrays[i][no_ref] == ""]
-    last_ref = {}  # row -> the nearest designator cell above it
+    for r in no_ref:
+        if r > 0 and not repeated[r - 1] and text_i:
+            cont[r] = True
     for r in only_ref:
         above = r - 1
         while above >= 0 and refdes[above] == "" and cont[above]:
             above -= 1
-        last_ref[r] = str(refdes[above]).strip() if above >= 0 else ""
-        # A designator-only row continues a list: the cell above must be a list itself.
-        if r > 0 and not repeated[r - 1] and _LIST_MARK.search(last_ref[r]) \
+        # A designator-only row continues a list: the designator cell above must be a list.
+        if above >= 0 and not repeated[above] \
+                and _LIST_MARK.search(str(refdes[above]).strip()) \
                 and _expand_one(str(refdes[r]))[1] is None:
-            cont[r] = True
-    for r in no_ref:
-        if r > 0 and not repeated[r - 1] and text_i:
             cont[r] = True
     return cont
 

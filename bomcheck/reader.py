@@ -249,28 +249,47 @@ def _read_text(path: str, data: bytes, text: str, encoding: str,
     start = offsets[h + 1] if h + 1 < len(offsets) else len(text)
     if encoding in ("utf-8", "utf-8-sig"):
         # Hand pandas the file's own bytes from the first data line: no re-encoding.
-        bom = 3 if data.startswith(b"\xef\xbb\xbf") else 0
-        stream = io.BytesIO(data)
-        stream.seek(bom + len(text[:start].encode("utf-8")))
+        buf = data
+        offset = (3 if data.startswith(b"\xef\xbb\xbf") else 0) + len(text[:start].encode("utf-8"))
     else:
-        stream = io.BytesIO(text[start:].encode("utf-8"))
+        buf, offset = text[start:].encode("utf-8"), 0
+    shape = _line_shape(buf, offset)
+    stream = io.BytesIO(buf)
+    stream.seek(offset)
     # Exports written with ", " between cells: skip the spaces in the parser (it costs, so only
     # when the leading lines show it).
     spaced = sum(f"{delim} " in ln for ln in lines[h:]) > (len(lines) - h) // 2
-    frame, rows = _parse_body(text, start, stream, delim, len(headers), header_line,
+    frame, rows = _parse_body(text, start, stream, shape, delim, len(headers), header_line,
                               spaced=spaced)
     width = frame.shape[1]
     headers = headers + [""] * (width - len(headers))
-    # Lines of only spaces count as blank; looking for them costs, so only when some line starts
-    # with a space or a tab.
-    padded = spaced or text.find("\n ", max(start - 1, 0)) >= 0 \
-        or text.find("\n\t", max(start - 1, 0)) >= 0
     return _finish(path, FORMAT_OF_DELIMITER[delim], encoding, None, header_line, headers,
-                   frame, rows, padded=padded)
+                   frame, rows)
 
 
-def _parse_body(text: str, start: int, stream: io.BytesIO, delim: str, width: int,
-                header_line: int, *, spaced: bool) -> tuple[pd.DataFrame, np.ndarray]:
+@dataclass(frozen=True)
+class _LineShape:
+    """What the body's bytes say about its lines, found with array operations."""
+
+    count: int  # physical lines
+    lone_cr: bool  # a CR that does not end a CRLF (old Mac line ends)
+
+
+def _line_shape(buf: bytes, offset: int) -> _LineShape:
+    a = np.frombuffer(buf, dtype=np.uint8, offset=offset)
+    if not len(a):
+        return _LineShape(0, False)
+    nl = a == 10
+    count = int(np.count_nonzero(nl)) + (0 if a[-1] == 10 else 1)
+    lone_cr = False
+    if buf.find(b"\r", offset) >= 0:
+        cr = a == 13
+        lone_cr = int(np.count_nonzero(cr)) != int(np.count_nonzero(cr[:-1] & nl[1:]))
+    return _LineShape(count, lone_cr)
+
+
+def _parse_body(text: str, start: int, stream: io.BytesIO, shape: _LineShape, delim: str,
+                width: int, header_line: int, *, spaced: bool) -> tuple[pd.DataFrame, np.ndarray]:
     """Parse the lines from ``text[start:]`` (as UTF-8 in ``stream``) with the pandas C engine,
     every cell as text.
 
@@ -283,7 +302,6 @@ def _parse_body(text: str, start: int, stream: io.BytesIO, delim: str, width: in
     if start >= len(text) or text[start:start + 65536].isspace() and text[start:].isspace():
         empty = {i: pd.Series([], dtype=object) for i in range(width)}
         return pd.DataFrame(empty), np.zeros(0, dtype=np.int64)
-    n_lines = text.count("\n", start) + (0 if text.endswith("\n") else 1)
     try:
         with warnings.catch_warnings():
             # A row wider than the header is only a warning to pandas (cells dropped): here it
@@ -297,9 +315,7 @@ def _parse_body(text: str, start: int, stream: io.BytesIO, delim: str, width: in
             )
     except (pd.errors.ParserError, pd.errors.ParserWarning, ValueError, UnicodeDecodeError):
         frame = None
-    lone_cr = text.find("\r", start) >= 0 and \
-        text.count("\r", start) != text.count("\r\n", start)
-    if frame is not None and len(frame) == n_lines and not lone_cr:
+    if frame is not None and len(frame) == shape.count and not shape.lone_cr:
         rows = np.arange(header_line + 1, header_line + 1 + len(frame), dtype=np.int64)
         return frame, rows
     return _parse_body_slow(text[start:], delim, width, header_line, spaced=spaced)
@@ -507,25 +523,23 @@ def unique_headers(headers: list[str]) -> list[str]:
 
 
 def _finish(path: str, fmt: str, encoding: str | None, sheet: str | None, header_row: int,
-            headers: list[str], frame: pd.DataFrame, rows: np.ndarray, *,
-            padded: bool = False) -> RawTable:
-    """Name the columns, drop blank rows (counted) and trailing empty unnamed columns.
-
-    ``padded`` says cells may hold only spaces (which count as empty for a blank row).
-    """
+            headers: list[str], frame: pd.DataFrame, rows: np.ndarray) -> RawTable:
+    """Name the columns, drop blank rows (counted) and trailing empty unnamed columns."""
     import pandas as pd
 
     names = unique_headers(headers)
     arrays = [frame[c].to_numpy(dtype=object) for c in frame.columns]
-    # Blank rows: checked column by column on the rows still blank, so a full table costs one
-    # comparison per row rather than one per cell.
-    if not arrays:
+    # Blank rows (cells empty or only spaces): one comparison per row on the second column,
+    # then the few rows still in question cell by cell; the first column last, since a line of
+    # only spaces puts them there.
+    order = arrays[1:] + arrays[:1]
+    if not order:
         blank = np.zeros(0, dtype=np.int64)
-    elif padded:
-        blank = np.flatnonzero([not c.strip() for c in arrays[0]])
     else:
-        blank = np.flatnonzero(arrays[0] == "")
-    for arr in arrays[1:]:
+        blank = np.flatnonzero(order[0] == "")
+        if len(order) == 1:
+            blank = np.flatnonzero([not c.strip() for c in order[0]])
+    for arr in order[1:]:
         if not len(blank):
             break
         blank = blank[[not c.strip() for c in arr[blank]]]

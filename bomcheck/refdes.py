@@ -72,3 +72,12 @@ def expand(text: str, *, path: str | None = None, row: int | None = None) -> lis
 def is_designator(item: str) -> bool:
     """True for a single designator such as ``C12`` or ``C12A``."""
     return bool(_SINGLE.match(item.strip()))
+
+
+def sort_key(refdes: str) -> tuple[str, int, str]:
+    """Natural order of designators: ``C2`` before ``C10``; text that is no designator sorts by
+    itself after the designators of the same prefix."""
+    m = _SINGLE.match(refdes.strip())
+    if not m:
+        return (refdes.upper(), 1 << 62, "")
+    return (m.group(1).upper(), int(m.group(2)), m.group(3).upper())

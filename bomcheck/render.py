@@ -176,8 +176,10 @@ def print_audit(console: Console, report, *, show_all: bool = False) -> None:
     print_findings(console, report, shown.index if not show_all else None)
     for d in report.design_unmatched:
         console.print(Text.assemble(status_text("nodata"), f" {d['reason']}"))
+    print_waiver_findings(console, report.waiver_findings)
     t = report.totals
-    counts = "  ".join(f"[status.{s}]{s} {t.get(s, 0)}[/]" for s in ("fail", "nodata", "warn", "pass"))
+    counts = "  ".join(f"[status.{s}]{s} {t.get(s, 0)}[/]"
+                       for s in ("fail", "nodata", "warn", "waived", "pass"))
     console.print(f"[heading]Placements audited {t['audited']}:[/] {counts}")
     not_audited = report.not_audited()
     if not_audited:
@@ -202,7 +204,7 @@ def print_findings(console: Console, report, placements=None, limit: int = 40) -
         v = v[v["pidx"].isin(placements)]
     if not len(v):
         return
-    rank = {"fail": 0, "nodata": 1, "warn": 2}
+    rank = {"fail": 0, "nodata": 1, "warn": 2, "waived": 3}
     v = v.assign(_r=v["status"].map(rank)).sort_values(["_r", "pidx", "rule_id"], kind="stable")
     console.print(Text("Findings", style="heading"))
     for status, message in zip(v["status"].head(limit), v["message"].head(limit)):
@@ -253,3 +255,48 @@ def print_rules(console: Console, ruleset) -> None:
     for r in rows:
         table.add_row(*("" if r[k] is None else str(r[k]) for k in keys))
     console.print(table)
+
+
+_WAIVER_STYLE = {"applied": "status.waived", "expired": "status.warn", "unused": "muted",
+                 "bom_changed": "status.warn"}
+
+
+def print_waiver_findings(console: Console, findings) -> None:
+    """One line per waiver: applied, expired, unused, or not applied because the part changed."""
+    for f in findings:
+        label = f.code.replace("_", " ")
+        console.print(Text.assemble(Text(f"waiver {label}", style=_WAIVER_STYLE.get(f.code, "")),
+                                    f" {f.message}"))
+
+
+def print_diff(console: Console, diff, *, show_all: bool = False) -> None:
+    """A comparison with a baseline report (``bomcheck.diff.Diff``): a table of the verdicts
+    that changed, are new or were resolved (problems marked), then the counts."""
+    from bomcheck.diff import summary_line
+
+    rows = diff.rows(include_pass=show_all)
+    if rows:
+        title = "Changes since the baseline"
+        labels = [d.get("label") for d in (diff.old, diff.new)]
+        if all(labels):
+            title += f" ({labels[0]} -> {labels[1]})"
+        table = Table(title=title, header_style="heading")
+        for col in ("change", "refdes", "rule", "was", "now", "explanation"):
+            table.add_column(col, overflow="fold")
+        limit = len(rows) if show_all else DEFAULT_ROWS
+        for kind, c in rows[:limit]:
+            change = Text(kind + (" (new problem)" if c.is_problem else ""),
+                          style="status.fail" if c.is_problem else "")
+            table.add_row(change, c.refdes, c.rule,
+                          status_text(c.old_status) if c.old_status else Text("-", style="muted"),
+                          status_text(c.new_status) if c.new_status else Text("-", style="muted"),
+                          c.new_message or c.old_message or "")
+        console.print(table)
+        if len(rows) > limit:
+            console.print(f"[muted]... {len(rows) - limit} more changes (use --all)[/]")
+    for word, names in (("added", diff.added), ("removed", diff.removed)):
+        if names:
+            shown = ", ".join(names[:DEFAULT_ROWS])
+            more = f" and {len(names) - DEFAULT_ROWS} more" if len(names) > DEFAULT_ROWS else ""
+            console.print(f"Placements {word}: {shown}{more}")
+    console.print(Text("Baseline: " + summary_line(diff), style="heading"))

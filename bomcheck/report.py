@@ -7,6 +7,7 @@ recompute anything. The JSON form holds no clock reading, so the same inputs giv
 from __future__ import annotations
 
 import json
+import json.encoder
 from dataclasses import dataclass, field
 from typing import Any
 
@@ -17,7 +18,8 @@ from bomcheck.spec import SPEC_KEYS
 from bomcheck.vocabulary import CONDITIONS
 
 # Worst last. "nodata" ranks above "warn": an unchecked stress may be anything, a warning is known.
-STATUS_ORDER: tuple[str, ...] = ("pass", "warn", "nodata", "fail")
+# "waived" (an approved deviation, bomcheck.waivers) ranks just above "pass": it is known and signed.
+STATUS_ORDER: tuple[str, ...] = ("pass", "waived", "warn", "nodata", "fail")
 _RANK = {s: i for i, s in enumerate(STATUS_ORDER)}
 
 CAUTIONS: tuple[str, ...] = (
@@ -43,6 +45,8 @@ FINDING_FIELDS = {  # JSON key -> verdict column
     "rule": "rule_id", "status": "status", "value": "value", "limit": "limit",
     "warn_limit": "warn_limit", "margin": "margin", "message": "message", "source": "source",
 }
+# Written only when the verdict table has the column (waivers were applied).
+OPTIONAL_FINDING_FIELDS = {"waived_from": "waived_from"}
 
 
 def ruleset_summary(ruleset) -> tuple[dict, ...]:
@@ -91,6 +95,7 @@ class Report:
     totals: dict = field(default_factory=dict)
     cautions: tuple[str, ...] = CAUTIONS
     rules: Any = None  # the RuleSet in force, for renderers that list it
+    waiver_findings: tuple = ()  # bomcheck.waivers.WaiverFinding: applied, expired, unused...
 
     @property
     def status(self) -> str:
@@ -141,20 +146,8 @@ class Report:
         out.sort(key=lambda d: (d["row"], d["refdes"] or ""))
         return out
 
-    def to_dict(self) -> dict:
-        """The JSON-ready report (see ``bomcheck/schemas/report.schema.json``)."""
-        t = self.table
-        spec = _records(t, SPEC_FIELDS)
-        conditions = _records(t, CONDITION_FIELDS)
-        metrics = _records(t, METRIC_FIELDS)
-        findings = _grouped_findings(self.verdicts, len(t))
-        placements = [
-            {"refdes": r, "row": int(row), "text": text, "status": st, "spec": s,
-             "conditions": c, "metrics": m, "findings": f}
-            for r, row, text, st, s, c, m, f in zip(
-                t["refdes"], t["row"], t["text"], t["status"], spec, conditions, metrics, findings
-            )
-        ]
+    def _head(self) -> dict:
+        """Every top-level key of the JSON report but ``placements``."""
         return {
             "tool": {"name": "bomcheck", "version": self.tool_version},
             "status": self.status,
@@ -162,16 +155,118 @@ class Report:
             "inputs": list(self.inputs),
             "totals": {k: int(v) for k, v in self.totals.items()},
             "cautions": list(self.cautions),
-            "placements": placements,
             "not_audited": self.not_audited(),
             "design_unmatched": list(self.design_unmatched),
             "import_findings": [f.to_dict() for f in self.import_findings],
+            "waivers": [f.to_dict() for f in self.waiver_findings],
         }
 
     def to_json(self) -> str:
-        """The report as JSON text; the same inputs give byte-identical text."""
-        return json.dumps(self.to_dict(), ensure_ascii=False, allow_nan=False,
-                          separators=(",", ":")) + "\n"
+        """The report as JSON text (schema ``report.schema.json``); the same inputs give
+        byte-identical text.
+
+        Placements are written from JSON fragments made once per distinct block (spec,
+        conditions, metrics, verdict) and joined, so a 100k-placement report costs little more
+        than its size; ``findings`` holds every verdict that is not a pass, with its message,
+        ``checks`` every passing verdict (rule, value, limit, margin).
+        """
+        return "".join(self.iter_json())
+
+    def iter_json(self):
+        """``to_json`` in pieces, for writing a large report without one huge string."""
+        head_text = _dumps(self._head())
+        # "placements" goes after "cautions": splice it into the head object.
+        i = head_text.index(',"not_audited":')
+        yield head_text[:i] + ',"placements":['
+        texts = _placement_texts(self.table, self.verdicts)
+        for start in range(0, len(texts), 5000):
+            chunk = ",".join(texts[start:start + 5000])
+            yield chunk if start == 0 else "," + chunk
+        yield "]" + head_text[i:] + "\n"
+
+    def to_dict(self) -> dict:
+        """The JSON report as Python values (parsed from ``to_json``, so the two never differ)."""
+        return json.loads(self.to_json())
+
+
+_encode = json.encoder.encode_basestring  # JSON string literal, non-ASCII kept as is
+
+
+def _dumps(value) -> str:
+    return json.dumps(value, ensure_ascii=False, allow_nan=False, separators=(",", ":"))
+
+
+def _block_codes(frame: pd.DataFrame) -> np.ndarray:
+    """One code per row such that rows with equal values (NaN equal to NaN) share a code."""
+    key = np.zeros(len(frame), dtype=np.int64)
+    for col in frame.columns:
+        values = frame[col].to_numpy(dtype=object)
+        codes, uniques = pd.factorize(values, use_na_sentinel=True)
+        key = key * (len(uniques) + 1) + (codes + 1)
+        key, _ = pd.factorize(key)
+    return key
+
+
+def _fragments(frame: pd.DataFrame, names: tuple[str, ...]) -> np.ndarray:
+    """For each row, the JSON object text of ``names`` (columns absent from ``frame`` are null),
+    built once per distinct row."""
+    present = [c for c in names if c in frame.columns]
+    block = frame[present]
+    codes = _block_codes(block) if len(block) else np.zeros(0, dtype=np.int64)
+    first = np.unique(codes, return_index=True)[1] if len(codes) else np.zeros(0, dtype=np.int64)
+    recs = _records(block.iloc[first], names)
+    texts = np.asarray([_dumps(r) for r in recs] or [""], dtype=object)
+    return texts[codes] if len(codes) else np.zeros(0, dtype=object)
+
+
+_FINDING_KEYS = tuple(k for k in FINDING_FIELDS if k != "message")
+_CHECK_KEYS = ("rule", "value", "limit", "margin")
+
+
+def _placement_texts(table: pd.DataFrame, verdicts: pd.DataFrame) -> list[str]:
+    n = len(table)
+    if n == 0:
+        return []
+    spec = _fragments(table, SPEC_FIELDS)
+    # design_row differs on every placement: kept out of the shared fragment, spliced in after.
+    conditions = _fragments(table, tuple(f for f in CONDITION_FIELDS if f != "design_row"))
+    rows = table["design_row"] if "design_row" in table else pd.Series(pd.NA, index=table.index)
+    conditions = [f'{c[:-1]},"design_row":{"null" if pd.isna(r) else int(r)}}}'
+                  for c, r in zip(conditions.tolist(), rows.tolist())]
+    metrics = _fragments(table, METRIC_FIELDS)
+    head = [
+        f'{{"refdes":{_encode(r)},"row":{int(row)},"text":{_encode(text)},"status":"{st}",'
+        for r, row, text, st in zip(table["refdes"], table["row"], table["text"], table["status"])
+    ]
+    findings, checks = _verdict_texts(verdicts, n)
+    return [
+        f'{h}"spec":{s},"conditions":{c},"metrics":{m},"findings":[{f}],"checks":[{k}]}}'
+        for h, s, c, m, f, k in zip(head, spec, conditions, metrics, findings, checks)
+    ]
+
+
+def _verdict_texts(verdicts: pd.DataFrame, n: int) -> tuple[list[str], list[str]]:
+    """Per placement, the joined JSON of its non-pass verdicts and of its passing ones."""
+    if not len(verdicts):
+        return [""] * n, [""] * n
+    v = verdicts.sort_values(["pidx", "rule_id"], kind="stable").reset_index(drop=True)
+    v = v.rename(columns={c: k for k, c in FINDING_FIELDS.items()})
+    extra = tuple(k for k, c in OPTIONAL_FINDING_FIELDS.items() if c in verdicts.columns)
+    passed = (v["status"] == "pass").to_numpy()
+    out = []
+    for mask, keys in ((~passed, (*_FINDING_KEYS, *extra)), (passed, _CHECK_KEYS)):
+        part = v[mask]
+        texts = _fragments(part, keys)
+        if keys is not _CHECK_KEYS:
+            # The message names the designator, so it is unique: escape it alone, not its object.
+            messages = part["message"].fillna("").astype(str).tolist()
+            texts = np.asarray([f'{t[:-1]},"message":{_encode(m)}}}' for t, m in
+                                zip(texts.tolist(), messages)], dtype=object)
+        pidx = part["pidx"].to_numpy(dtype=np.int64)
+        bounds = np.searchsorted(pidx, np.arange(n + 1))
+        texts = texts.tolist()
+        out.append([",".join(texts[bounds[i]:bounds[i + 1]]) for i in range(n)])
+    return out[0], out[1]
 
 
 def _records(table: pd.DataFrame, fields: tuple[str, ...]) -> list[dict]:
@@ -194,18 +289,3 @@ def _records(table: pd.DataFrame, fields: tuple[str, ...]) -> list[dict]:
         for d in out:
             d.update(dict.fromkeys(missing))
     return out
-
-
-def _grouped_findings(verdicts: pd.DataFrame, n: int) -> list[list[dict]]:
-    """Per placement (0..n-1), its verdicts as finding dicts, in the verdict table's order."""
-    if not len(verdicts):
-        return [[] for _ in range(n)]
-    v = verdicts.sort_values(["pidx", "rule_id"], kind="stable")
-    for col in FINDING_FIELDS.values():
-        if col not in v.columns:
-            v = v.assign(**{col: None})
-    recs = _records(v.rename(columns={c: k for k, c in FINDING_FIELDS.items()}),
-                    tuple(FINDING_FIELDS))
-    pidx = v["pidx"].to_numpy()
-    bounds = np.searchsorted(pidx, np.arange(n + 1))
-    return [recs[bounds[i]:bounds[i + 1]] for i in range(n)]

@@ -96,7 +96,7 @@ def _dc_bias_remaining(ratio: pd.Series, package: pd.Series, data: StressData) -
 def _aging_k(table: pd.DataFrame, data: StressData) -> pd.Series:
     dielectric = _text(table, "dielectric")
     cls = _col(table, "dielectric_class")
-    by_code = dielectric.map(lambda d: data.aging_k.get(d, np.nan)).astype(float)
+    by_code = dielectric.map(dict(data.aging_k)).astype(float)
     by_class = cls.map({2.0: data.aging_k.get("class2", np.nan),
                         3.0: data.aging_k.get("class3", np.nan),
                         1.0: data.aging_k.get("class1", 0.0)}).astype(float)
@@ -177,10 +177,10 @@ def rated_temp_max(table: pd.DataFrame, data: StressData) -> tuple[pd.Series, pd
     stated = _col(table, "temp_max_c")
     tech = _text(table, "technology")
     cls = _col(table, "dielectric_class")
-    by_class = (tech + "-class" + cls.map(lambda c: "" if np.isnan(c) else str(int(c)))).where(
-        tech == "ceramic", "")
-    typical = by_class.map(data.typical_temp_max_c).astype(float)
-    typical = typical.fillna(tech.map(data.typical_temp_max_c).astype(float))
+    cls_text = cls.map({1.0: "1", 2.0: "2", 3.0: "3"}).fillna("").astype(str)
+    by_class = (tech + "-class" + cls_text).where(tech == "ceramic", "")
+    ratings = dict(data.typical_temp_max_c)
+    typical = by_class.map(ratings).astype(float).fillna(tech.map(ratings).astype(float))
     assumed = stated.isna() & typical.notna()
     return stated.fillna(typical), assumed
 

@@ -1,0 +1,264 @@
+"""Report stage, CI edge: the audit ``Report`` as JUnit XML, a Markdown summary and CSV rows.
+
+Each function takes the report value and returns text; nothing is recomputed and nothing reads a
+clock, so the same report gives the same bytes. Writing the text (atomically) is the caller's job.
+
+JUnit mapping (one ``<testsuite>``, one ``<testcase>`` per fitted placement, in BOM order, named
+by designator, ``classname`` ``bomcheck.<technology>``):
+
+- pass: no child element;
+- fail: ``<failure type="fail">``, message = the governing explanation, body = every verdict
+  that is not a pass, one per line;
+- nodata: ``<error type="nodata">`` (the check could not run for lack of data, which is what
+  JUnit's "error" means, so it is never counted as a pass or a plain failure);
+- warn: by ``warn_as``: ``"failure"`` -> ``<failure type="warn">``, ``"skipped"`` ->
+  ``<skipped>``, ``"pass"`` -> no child (the warnings go to the test case's ``<system-out>``);
+- waived: ``<skipped type="waived">`` with the waiver reason in its message.
+
+The suite's ``tests``, ``failures``, ``errors`` and ``skipped`` counts are those of the test
+cases. Design-sheet rows that name no BOM placement and what became of each waiver are listed in
+the suite's ``<system-out>``.
+
+CSV: one row per fitted placement (BOM order) with its governing verdict, status and
+explanation. Text cells that start with ``=``, ``+``, ``-``, ``@``, a tab or a carriage return
+get a leading single quote so that no spreadsheet runs them as a formula (the usual
+CSV-injection guard); numbers written by bomcheck itself are left as numbers.
+"""
+
+from __future__ import annotations
+
+import csv
+import io
+import math
+import re
+import xml.etree.ElementTree as ET
+from typing import Any
+
+import pandas as pd
+
+from bomcheck.vocabulary import METRICS
+
+WARN_AS: tuple[str, ...] = ("failure", "skipped", "pass")
+CSV_COLUMNS: tuple[str, ...] = (
+    "refdes", "row", "status", "waived_from", "rule", "metric", "value", "limit", "margin",
+    "technology", "capacitance_f", "voltage_v", "dielectric", "package", "text", "explanation",
+    "source",
+)
+INJECTION_LEAD = ("=", "+", "-", "@", "\t", "\r")
+# Worst first, as a reviewer reads the totals.
+_TOTALS_ORDER = ("fail", "nodata", "warn", "waived", "pass")
+# Characters XML 1.0 cannot carry at all (BOM cells occasionally hold them).
+_XML_ILLEGAL = re.compile("[\x00-\x08\x0b\x0c\x0e-\x1f\ufffe\uffff]")
+_MD_SPECIAL = re.compile(r"([\\`*_\[\]<>|])")
+
+
+# --------------------------------------------------------------------------------------------
+# Shared helpers.
+
+def _isnan(x: Any) -> bool:
+    return x is None or (isinstance(x, float) and math.isnan(x)) or x is pd.NA
+
+
+def format_metric(value: Any, metric: Any) -> str:
+    """A verdict's value or limit in its metric's display unit ("87.2 %", "-10 degC"); "" if none."""
+    from bomcheck.rules import format_number, format_quantity
+
+    if _isnan(value):
+        return ""
+    m = METRICS.get(metric) if isinstance(metric, str) else None
+    if m is None:
+        return format_number(float(value))
+    return format_quantity(float(value), m.unit, m.percent)
+
+
+def _problems_by_placement(report) -> dict[int, list[tuple[str, str, str]]]:
+    """Per placement index, its verdicts that are not a pass: (status, rule id, message)."""
+    v = report.verdicts
+    if not len(v):
+        return {}
+    v = v[v["status"] != "pass"]
+    out: dict[int, list[tuple[str, str, str]]] = {}
+    for pidx, status, rule, msg in zip(v["pidx"].to_numpy(), v["status"].to_numpy(),
+                                        v["rule_id"].to_numpy(), v["message"].to_numpy()):
+        out.setdefault(int(pidx), []).append((str(status), str(rule), str(msg)))
+    return out
+
+
+def _governing(report) -> pd.DataFrame:
+    gov = report.governing()
+    return gov if len(gov) else pd.DataFrame(columns=["rule_id", "status", "message"])
+
+
+# --------------------------------------------------------------------------------------------
+# JUnit XML.
+
+def _x(text: Any) -> str:
+    return _XML_ILLEGAL.sub("\ufffd", "" if text is None else str(text))
+
+
+def junit_xml(report, *, warn_as: str = "failure") -> str:
+    """The report as JUnit XML: one test case per fitted placement (see the module docstring)."""
+    if warn_as not in WARN_AS:
+        raise ValueError(f"warn_as must be one of {', '.join(WARN_AS)}, not {warn_as!r}")
+    t = report.table
+    problems = _problems_by_placement(report)
+    gov = _governing(report)
+    gov_msg = dict(zip(gov.index, gov["message"])) if len(gov) else {}
+    counts = {"failures": 0, "errors": 0, "skipped": 0}
+    cases = []
+    techs = t["technology"] if "technology" in t.columns else pd.Series(None, index=t.index)
+    for i, refdes, tech, status in zip(t.index, t["refdes"], techs, t["status"]):
+        case = ET.Element("testcase", {"name": _x(refdes),
+                                       "classname": f"bomcheck.{_x(tech or 'unknown')}"})
+        lines = [f"{s.upper()} {r}: {m}" for s, r, m in problems.get(int(i), [])]
+        body = _x("\n".join(lines))
+        message = _x(gov_msg.get(i, ""))
+        if status == "fail" or (status == "warn" and warn_as == "failure"):
+            ET.SubElement(case, "failure", {"message": message, "type": status}).text = body
+            counts["failures"] += 1
+        elif status == "nodata":
+            ET.SubElement(case, "error", {"message": message, "type": "nodata"}).text = body
+            counts["errors"] += 1
+        elif status == "waived" or (status == "warn" and warn_as == "skipped"):
+            ET.SubElement(case, "skipped", {"message": message, "type": status}).text = body
+            counts["skipped"] += 1
+        elif status == "warn":
+            ET.SubElement(case, "system-out").text = body
+        cases.append(case)
+    attrs = {"name": "bomcheck audit", "tests": str(len(cases)),
+             **{k: str(n) for k, n in counts.items()}}
+    root = ET.Element("testsuites", attrs)
+    suite = ET.SubElement(root, "testsuite", attrs)
+    props = ET.SubElement(suite, "properties")
+    prop_items = [("bomcheck.version", report.tool_version), ("status", report.status),
+                  ("warn_as", warn_as)]
+    prop_items += [(f"ruleset.{r['name']}", str(r.get("version"))) for r in report.rulesets]
+    prop_items += [(f"input.{d['role']}", f"{d['path']} sha256:{d['sha256']}")
+                   for d in report.inputs]
+    for name, value in prop_items:
+        ET.SubElement(props, "property", {"name": _x(name), "value": _x(value)})
+    suite.extend(cases)
+    notes = [f"NODATA {d['reason']}" for d in report.design_unmatched]
+    notes += [f"WAIVER {f.code}: {f.message}" for f in report.waiver_findings]
+    if notes:
+        ET.SubElement(suite, "system-out").text = _x("\n".join(notes))
+    ET.indent(root)
+    return '<?xml version="1.0" encoding="UTF-8"?>\n' + ET.tostring(root, encoding="unicode") + "\n"
+
+
+# --------------------------------------------------------------------------------------------
+# Markdown.
+
+def _md(text: Any) -> str:
+    """Text safe in a Markdown table cell: special characters escaped, one line."""
+    return _MD_SPECIAL.sub(r"\\\1", " ".join(str(text).split()))
+
+
+def markdown_summary(report, *, limit: int = 20, diff=None) -> str:
+    """A short summary for a pull-request comment: totals by status, the worst placements that
+    do not pass (status, stress, limit, rule), waiver problems, the comparison with a baseline
+    (``diff``, a ``bomcheck.diff.Diff``) and the cautions on one line."""
+    t = report.table
+    totals = report.totals
+    out = [f"## bomcheck audit: {report.status.upper()}", "",
+           "| status | placements |", "|:--|--:|"]
+    out += [f"| {s} | {int(totals.get(s, 0))} |" for s in _TOTALS_ORDER]
+    out += [f"| **audited** | **{int(totals.get('audited', len(t)))}** |", ""]
+    not_audited: dict[str, int] = {}
+    for d in report.not_audited():
+        not_audited[d["kind"]] = not_audited.get(d["kind"], 0) + 1
+    notes = []
+    if not_audited:
+        notes.append("Not audited: " + ", ".join(f"{k.replace('_', ' ')} {n}"
+                                                 for k, n in not_audited.items()) + ".")
+    if report.design_unmatched:
+        notes.append("Design-sheet rows not in the BOM: " + ", ".join(
+            f"{_md(d['refdes'])} (row {d['row']})" for d in report.design_unmatched) + ".")
+    if notes:
+        out += [" ".join(notes), ""]
+
+    ordered = report.worst_first()
+    bad = ordered[ordered["status"] != "pass"]
+    if len(bad):
+        shown = bad.head(limit)
+        more = f", the worst {len(shown)} shown" if len(bad) > len(shown) else ""
+        out += [f"### Placements not passing: {len(bad)}{more}", "",
+                "| refdes | status | stress | limit | rule |", "|:--|:--|--:|--:|:--|"]
+        gov = _governing(report)
+        for i, refdes, status in zip(shown.index, shown["refdes"], shown["status"]):
+            g = gov.loc[i] if i in gov.index else None
+            metric = None if g is None else g.get("metric")
+            out.append("| " + " | ".join([
+                _md(refdes), status,
+                "" if g is None else _md(format_metric(g.get("value"), metric)),
+                "" if g is None else _md(format_metric(g.get("limit"), metric)),
+                "" if g is None else _md(g["rule_id"]),
+            ]) + " |")
+        out.append("")
+    else:
+        out += [f"Every one of the {len(t)} audited placements passes.", ""]
+
+    problems = [f for f in report.waiver_findings if f.code != "applied"]
+    applied = sum(1 for f in report.waiver_findings if f.code == "applied")
+    if report.waiver_findings:
+        out.append(f"**Waivers:** {applied} applied, {len(problems)} not applied.")
+        out += [f"- {f.code.replace('_', ' ')}: {_md(f.message)}" for f in problems[:limit]]
+        if len(problems) > limit:
+            out.append(f"- ... {len(problems) - limit} more in the JSON report")
+        out.append("")
+    if diff is not None:
+        from bomcheck.diff import diff_markdown
+
+        out += [diff_markdown(diff, limit=limit, level=3).rstrip("\n"), ""]
+    rulesets = ", ".join(f"{_md(r['name'])} {_md(r.get('version'))}" for r in report.rulesets)
+    out += [f"Rule sets: {rulesets}.", "", "**Cautions:** " + _md(" ".join(report.cautions))]
+    return "\n".join(out) + "\n"
+
+
+# --------------------------------------------------------------------------------------------
+# CSV.
+
+def _cell(value: Any) -> str:
+    """A text cell with the CSV-injection guard: a leading quote before = + - @ tab CR."""
+    if _isnan(value):
+        return ""
+    text = str(value)
+    return "'" + text if text.startswith(INJECTION_LEAD) else text
+
+
+def _num(value: Any) -> str:
+    return "" if _isnan(value) else format(float(value), ".6g")
+
+
+def csv_rows(report) -> str:
+    """One CSV row per fitted placement in BOM order: designator, BOM row, status (and the
+    status a waiver replaced), the governing verdict with its value, limit and margin (SI
+    units), the part's key fields, its BOM text and the explanation."""
+    t = report.table
+    gov = _governing(report)
+    buf = io.StringIO()
+    w = csv.writer(buf, lineterminator="\n")
+    w.writerow(CSV_COLUMNS)
+
+    def col(name: str) -> pd.Series:
+        return t[name] if name in t.columns else pd.Series(None, index=t.index, dtype=object)
+
+    def gcol(name: str) -> pd.Series:
+        if name in gov.columns:
+            return gov[name].reindex(t.index)
+        return pd.Series(None, index=t.index, dtype=object)
+
+    for rec in zip(col("refdes"), col("row"), col("status"), gcol("waived_from"),
+                   gcol("rule_id"), gcol("metric"), gcol("value"), gcol("limit"),
+                   gcol("margin"), col("technology"), col("capacitance_f"), col("voltage_v"),
+                   col("dielectric"), col("package"), col("text"), gcol("message"),
+                   gcol("source")):
+        (refdes, row, status, waived_from, rule, metric, value, limit, margin, tech, cap, volt,
+         diel, package, text, message, source) = rec
+        w.writerow([
+            _cell(refdes), "" if _isnan(row) else str(int(row)), _cell(status), _cell(waived_from),
+            _cell(rule), _cell(metric), _num(value), _num(limit), _num(margin), _cell(tech),
+            _num(cap), _num(volt), _cell(diel), _cell(package), _cell(text), _cell(message),
+            _cell(source),
+        ])
+    return buf.getvalue()

@@ -1,0 +1,807 @@
+"""Report stage, spreadsheet edge: the reviewer's workbook (openpyxl, write-only) from a ``Report``.
+
+Sheets: Summary, Placements, Findings, Rules, Not audited, a voltage-ratio chart and the chart's
+data. Nothing here recomputes the audit: every figure comes from the report value. Text from
+input files is always stored as text, never as a formula, and the file appears only once it is
+complete.
+"""
+
+from __future__ import annotations
+
+import os
+import secrets
+from collections.abc import Sequence
+from dataclasses import dataclass
+from datetime import datetime, timezone
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+from openpyxl import Workbook
+from openpyxl.cell.cell import ERROR_CODES, ILLEGAL_CHARACTERS_RE, WriteOnlyCell
+from openpyxl.chart import Reference, ScatterChart, Series
+from openpyxl.chart.marker import Marker
+from openpyxl.styles import Alignment, Border, Font, NamedStyle, PatternFill, Side
+from openpyxl.utils import get_column_letter
+
+from bomcheck.errors import InputError
+from bomcheck.report import CONDITION_FIELDS, METRIC_FIELDS, SPEC_FIELDS, STATUS_ORDER
+from bomcheck.vocabulary import METRICS
+
+# Excel's sheet limit, header row included.
+MAX_ROWS = 1_048_576
+# Excel holds at most this many characters in a cell.
+MAX_CELL_CHARS = 32_767
+
+# A cell starting with one of these is a formula to Excel or to a CSV import; input text that
+# does is stored as a text cell with the Text number format.
+UNSAFE_START = ("=", "+", "-", "@", "\t", "\r")
+
+# Status fills: lightness falls as severity rises, so the order survives greyscale printing and
+# red-green colour blindness. (fill, font colour, bold)
+STATUS_PALETTE: dict[str, tuple[str, str, bool]] = {
+    "fail": ("5E2750", "FFFFFF", True),    # deep plum
+    "nodata": ("8E9CC2", "1B1F24", True),  # slate wisteria
+    "warn": ("E9D8A6", "1B1F24", False),   # sand
+    "pass": ("E3EBE8", "3B4148", False),   # pale sage grey
+    "waived": ("D6D1C8", "3B4148", False),  # stone
+}
+HEADER_FILL = "DCE1E6"
+HEADER_RULE = "8A939C"
+
+# Marker colours of the chart's technology series; limit lines are charcoal with varied dashes.
+TECHNOLOGY_COLOURS: dict[str, str] = {
+    "ceramic": "2F6690",
+    "tantalum": "B5651D",
+    "tantalum-polymer": "7A4E9C",
+    "tantalum-wet": "3A7D44",
+    "tantalum-foil": "8C6D1F",
+    "aluminium-electrolytic": "9E2A2B",
+    "aluminium-polymer": "D08C60",
+    "film": "1B998B",
+    "mica": "6C757D",
+    "glass": "4C5B8F",
+    "supercapacitor": "C44569",
+}
+UNKNOWN_TECHNOLOGY = "unknown technology"
+LIMIT_LINE_COLOUR = "33373D"
+LIMIT_DASHES = ("solid", "dash", "sysDot", "lgDash", "dashDot", "sysDash", "lgDashDot")
+
+SHEETS = ("Summary", "Placements", "Findings", "Rules", "Not audited", "Voltage chart",
+          "Chart data")
+
+
+@dataclass(frozen=True)
+class _Kind:
+    """How a column's numbers are stored and shown: a number format and a scale from SI."""
+
+    fmt: str | None  # None: plain cell, no named style
+    scale: float = 1.0
+    unit: str = ""  # shown in the header when the stored number is not in the SI unit
+
+
+_KINDS: dict[str, _Kind] = {
+    "text": _Kind(None),
+    "bool": _Kind(None),
+    "int": _Kind("0"),
+    "num": _Kind("General"),
+    "V": _Kind('General" V"'),
+    "degC": _Kind('General" °C"'),
+    "uF": _Kind('General" uF"', 1e6, "uF"),
+    "pF": _Kind('General" pF"', 1e12, "pF"),
+    "ratio": _Kind("0.0#%"),  # a fraction shown as a percentage
+    "pct": _Kind("0.0#%", 0.01),  # a number of percent, stored as a fraction
+    "ppm": _Kind('General" ppm/°C"'),
+    "h": _Kind('#,##0" h"'),
+    "date": _Kind("yyyy-mm-dd hh:mm:ss"),
+}
+
+_FIELD_KINDS: dict[str, str] = {
+    "row": "int", "qty": "num", "is_capacitor": "bool", "capacitance_f": "uF", "voltage_v": "V",
+    "tol_minus_pct": "pct", "tol_plus_pct": "pct", "tol_abs_f": "pF", "dielectric_class": "int",
+    "cap_change_minus_pct": "pct", "cap_change_plus_pct": "pct", "tc_ppm": "ppm",
+    "tc_tol_ppm": "ppm", "temp_min_c": "degC", "temp_max_c": "degC", "emi_filter": "bool",
+    "polarized": "bool",
+    "v_dc": "V", "v_dc_max": "V", "v_tol_pct": "pct", "v_ripple_pk": "V", "v_transient_pk": "V",
+    "v_reverse_pk": "V", "v_ac_rms": "V", "t_ambient_c": "degC", "t_rise_c": "degC",
+    "c_min_f": "uF", "life_h": "h", "design_row": "int",
+    "v_upper_v": "V", "applied_peak_v": "V", "transient_peak_v": "V", "voltage_ratio": "ratio",
+    "transient_ratio": "ratio", "reverse_ratio": "ratio", "rated_voltage_v": "V",
+    "t_operating_c": "degC", "temp_max_used_c": "degC", "temp_margin_c": "degC",
+    "c_tol_factor": "ratio", "c_temp_factor": "ratio", "c_bias_factor": "ratio",
+    "c_aging_factor": "ratio", "c_worst_f": "uF", "c_margin": "ratio",
+}
+
+_TOTAL_LABELS: tuple[tuple[str, str], ...] = (
+    ("rows_read", "rows read"),
+    ("capacitor_rows", "capacitor rows"),
+    ("non_capacitor_rows", "non-capacitor rows"),
+    ("unreadable_rows", "unreadable rows"),
+    ("blank_rows", "blank rows (not counted as read)"),
+    ("continuation_rows", "continuation rows"),
+    ("placements", "placements"),
+    ("fitted", "fitted placements (Placements sheet)"),
+    ("not_fitted", "not-fitted placements"),
+    ("audited", "placements audited"),
+    ("design_unmatched", "design rows not in the BOM"),
+)
+
+
+def write_workbook(report, path: str | os.PathLike, *, generated: datetime | None = None) -> None:
+    """Write the reviewer's workbook for ``report`` to ``path`` (an .xlsx file).
+
+    ``generated`` is the date shown on Summary (default: now, UTC). The workbook is written to a
+    temporary file in the same folder and renamed into place; on any error the temporary file
+    is deleted and an existing file at ``path`` is left as it was.
+    """
+    target = Path(path)
+    tmp = target.with_name(f".{target.name}.{os.getpid()}.{secrets.token_hex(4)}.tmp")
+    try:
+        wb = _Book(report, generated).build()
+        wb.save(tmp)
+        os.replace(tmp, target)
+    except OSError as exc:
+        tmp.unlink(missing_ok=True)
+        raise InputError(f"cannot write workbook: {exc.strerror or exc}", path=str(path)) from None
+    except BaseException:
+        tmp.unlink(missing_ok=True)
+        raise
+
+
+def safe_text(value: str) -> str:
+    """Input text as a cell can hold it: control characters XML forbids become U+FFFD and the
+    text is cut to Excel's cell size. A leading ``=``, ``+``, ``-``, ``@``, tab or CR is kept
+    (the writer stores such text as a text cell)."""
+    if ILLEGAL_CHARACTERS_RE.search(value):
+        value = ILLEGAL_CHARACTERS_RE.sub("\ufffd", value)
+    if len(value) > MAX_CELL_CHARS:
+        value = value[: MAX_CELL_CHARS - 1] + "…"
+    return value
+
+
+def is_unsafe(value: str) -> bool:
+    """True when a spreadsheet would read ``value`` as a formula or an error code."""
+    return value.startswith(UNSAFE_START) or value in ERROR_CODES
+
+
+@dataclass
+class _Column:
+    """One sheet column: header, one value per row, and the named style of each value (one name
+    for the whole column, or a list with one per row)."""
+
+    header: str
+    values: list
+    style: str | list | None = None
+    width: float | None = None
+
+
+class _Book:
+    """Builds the workbook; holds the named styles and the notes Summary shows."""
+
+    def __init__(self, report, generated: datetime | None) -> None:
+        self.report = report
+        if generated is None:
+            generated = datetime.now(timezone.utc)
+        self.generated_label = "generated (UTC)" if generated.tzinfo else "generated"
+        if generated.tzinfo:
+            generated = generated.astimezone(timezone.utc).replace(tzinfo=None)
+        self.generated = generated
+        self.notes: list[str] = []
+        self.wb = Workbook(write_only=True)
+        self.wb.properties.creator = f"bomcheck {report.tool_version}"
+        self.wb.properties.created = generated
+        self._add_styles()
+
+    # ---- styles ----------------------------------------------------------------------------
+
+    def _add_styles(self) -> None:
+        """Named styles shared by every cell: one per number format, status and heading."""
+        for name, kind in _KINDS.items():
+            if kind.fmt is not None:
+                self.wb.add_named_style(NamedStyle(name=f"bc {name}", number_format=kind.fmt))
+        self.wb.add_named_style(NamedStyle(name="bc text", number_format="@"))
+        rule = Side(style="thin", color=HEADER_RULE)
+        self.wb.add_named_style(NamedStyle(
+            name="bc header", font=Font(bold=True), border=Border(bottom=rule),
+            fill=PatternFill("solid", fgColor=HEADER_FILL),
+            alignment=Alignment(vertical="center"), number_format="@"))
+        self.wb.add_named_style(NamedStyle(name="bc title", font=Font(bold=True, size=14)))
+        self.wb.add_named_style(NamedStyle(name="bc section", font=Font(bold=True, size=12)))
+        self.wb.add_named_style(NamedStyle(name="bc wrap", alignment=Alignment(wrap_text=True,
+                                                                             vertical="top")))
+        self.wb.add_named_style(NamedStyle(name="bc count", number_format="#,##0",
+                                           alignment=Alignment(horizontal="left")))
+        for status, (fill, colour, bold) in STATUS_PALETTE.items():
+            self.wb.add_named_style(NamedStyle(
+                name=f"bc status {status}", fill=PatternFill("solid", fgColor=fill),
+                font=Font(color=colour, bold=bold, italic=status == "waived"),
+                number_format="@"))
+
+    @staticmethod
+    def status_style(status) -> str | None:
+        return f"bc status {status}" if status in STATUS_PALETTE else None
+
+    # ---- the workbook ----------------------------------------------------------------------
+
+    def build(self) -> Workbook:
+        summary = self.wb.create_sheet("Summary")  # first sheet; filled last, with the notes
+        self._placements()
+        self._findings()
+        self._rules()
+        self._not_audited()
+        self._chart()
+        self._summary(summary)
+        return self.wb
+
+    def _fit(self, n: int, what: str) -> int:
+        """Rows of ``what`` that fit on a sheet; notes a cut for Summary."""
+        room = MAX_ROWS - 1
+        if n <= room:
+            return n
+        self.notes.append(f"{what}: {n:,} rows exceed Excel's {MAX_ROWS:,}-row sheet limit; "
+                          f"the sheet holds the first {room:,} (worst first). The JSON report "
+                          "holds them all.")
+        return room
+
+    def _placements(self) -> None:
+        r = self.report
+        ordered = r.worst_first()
+        room = MAX_ROWS - 1
+        if len(ordered) > room:
+            total = len(ordered)
+            ordered = ordered[ordered["status"] != "pass"]
+            self.notes.append(
+                f"Placements: {total:,} fitted placements exceed Excel's {MAX_ROWS:,}-row sheet "
+                f"limit, so the sheet lists only the {len(ordered):,} that are not a pass "
+                "(worst first); the totals here and the JSON report cover them all.")
+            ordered = ordered.iloc[:self._fit(len(ordered), "Placements (not a pass)")]
+        gov = r.governing()
+        if len(gov):
+            gov = gov.reindex(ordered.index)
+        else:
+            gov = pd.DataFrame(index=ordered.index, columns=["rule_id", "value", "limit",
+                                                             "margin", "message", "metric"])
+        metric = gov["metric"]
+        cols = [
+            _Column("designator", _text(ordered["refdes"]), width=12),
+            _Column("status", _text(ordered["status"]),
+                    [self.status_style(s) for s in ordered["status"]], width=9),
+            _Column("governing rule", _text(gov["rule_id"])),
+            *self._metric_columns(gov, metric, ("value", "limit", "margin")),
+            _Column("BOM row", _numbers(ordered["row"], "int"), "bc int", width=9),
+        ]
+        for name in ("value_text", "description", "mpn", "manufacturer", "qty", "text"):
+            if name in ordered:
+                cols.append(self._field(ordered, name))
+        for name in (*SPEC_FIELDS, *CONDITION_FIELDS, *METRIC_FIELDS):
+            cols.append(self._field(ordered, name))
+        cols.append(_Column("explanation", _text(gov["message"]), width=90))
+        self._table("Placements", cols, len(ordered), freeze="C2")
+
+    def _metric_columns(self, frame: pd.DataFrame, metric: pd.Series,
+                        names: Sequence[str], headers: Sequence[str] | None = None) -> list[_Column]:
+        """Verdict numbers (value, limit, margin) in the unit of each row's metric."""
+        kinds = metric.map(_metric_kind).fillna("num")
+        scale = kinds.map(lambda k: _KINDS[k].scale).astype(float)
+        styles = [f"bc {k}" for k in kinds]
+        out = []
+        for name, header in zip(names, headers or names):
+            values = pd.to_numeric(frame[name], errors="coerce").astype(float) * scale.to_numpy()
+            out.append(_Column(header, _floats(values), styles, width=11))
+        return out
+
+    def _field(self, frame: pd.DataFrame, name: str) -> _Column:
+        """A spec, condition or metric column by its vocabulary name."""
+        series = frame[name] if name in frame else pd.Series([None] * len(frame), index=frame.index)
+        kind_name = _FIELD_KINDS.get(name)
+        if kind_name is None:
+            kind_name = "num" if pd.api.types.is_numeric_dtype(series.dtype) and \
+                not pd.api.types.is_bool_dtype(series.dtype) else "text"
+        kind = _KINDS[kind_name]
+        header = f"{name} [{kind.unit}]" if kind.unit else name
+        if kind_name == "text":
+            return _Column(header, _text(series))
+        if kind_name == "bool":
+            return _Column(header, _bools(series), width=max(8, len(header) + 2))
+        return _Column(header, _numbers(series, kind_name), f"bc {kind_name}",
+                       width=max(10, len(header) + 2))
+
+    def _findings(self) -> None:
+        r = self.report
+        needed = ["pidx", "refdes", "rule_id", "status", "value", "limit", "warn_limit", "margin",
+                  "message", "source", "basis"]
+        waivers = "waived_from" in r.verdicts.columns
+        v = r.verdicts.reindex(columns=needed + (["waived_from"] if waivers else []))
+        v = v[v["status"] != "pass"]
+        place = pd.Series(np.arange(len(r.table)), index=r.worst_first().index, dtype=float)
+        rank = {s: i for i, s in enumerate(STATUS_ORDER)}
+        v = v.assign(_rank=-v["status"].map(rank).fillna(0.5), _place=v["pidx"].map(place))
+        v = v.sort_values(["_rank", "_place", "rule_id"], kind="stable")
+        v = v.iloc[:self._fit(len(v), "Findings")]
+        metric_of = {} if r.rules is None else {x.id: x.metric for x in r.rules.rules}
+        metric = v["rule_id"].map(metric_of)
+        rows = r.table["row"].reindex(v["pidx"].to_numpy())
+        cols = [
+            _Column("designator", _text(v["refdes"]), width=12),
+            _Column("status", _text(v["status"]), [self.status_style(s) for s in v["status"]],
+                    width=9),
+            *([_Column("waived from", _text(v["waived_from"]), width=11)] if waivers else []),
+            _Column("rule", _text(v["rule_id"])),
+            _Column("metric", _text(metric)),
+            *self._metric_columns(v, metric, ("value", "limit", "warn_limit", "margin")),
+            _Column("basis", _text(v["basis"])),
+            _Column("BOM row", _numbers(rows, "int"), "bc int", width=9),
+            _Column("message", _text(v["message"]), width=90),
+            _Column("source", _text(v["source"]), width=50),
+        ]
+        self._table("Findings", cols, len(v), freeze="B2")
+
+    def _rules(self) -> None:
+        rs = self.report.rules
+        rules = list(rs.rules) if rs is not None else []
+        rows: dict[str, list] = {h: [] for h in (
+            "id", "title", "applies", "metric", "check", "fail limit", "warn limit",
+            "fail value", "warn value", "curve over", "curve points", "severity", "enabled",
+            "source", "confidence", "rule set", "rationale")}
+        value_styles: list[str | None] = []
+        for rule in rules:
+            kind = _metric_kind(rule.metric) or "num"
+            scale = _KINDS[kind].scale
+            curve = rule.fail if rule.fail.is_curve else None
+            rows["id"].append(rule.id)
+            rows["title"].append(rule.title)
+            rows["applies"].append(rule.applies.text())
+            rows["metric"].append(rule.metric)
+            rows["check"].append(rule.check)
+            rows["fail limit"].append(rule.fail.text(rule.metric))
+            rows["warn limit"].append(rule.warn.text(rule.metric) if rule.warn else None)
+            rows["fail value"].append(None if rule.fail.is_curve else rule.fail.value * scale)
+            rows["warn value"].append(None if rule.warn is None or rule.warn.is_curve
+                                      else rule.warn.value * scale)
+            rows["curve over"].append(curve.over if curve else None)
+            rows["curve points"].append(_curve_points(rule.metric, curve) if curve else None)
+            rows["severity"].append(rule.severity)
+            rows["enabled"].append(bool(rule.enabled))
+            rows["source"].append(rule.source)
+            rows["confidence"].append(rule.confidence)
+            rows["rule set"].append(rule.origin)
+            rows["rationale"].append(rule.rationale)
+            value_styles.append(f"bc {kind}")
+        widths = {"id": 16, "title": 44, "applies": 44, "fail limit": 30, "warn limit": 20,
+                  "source": 50, "curve points": 36, "rationale": 90, "enabled": 9}
+        cols = []
+        for header, values in rows.items():
+            if header in ("fail value", "warn value"):
+                cols.append(_Column(header, values, value_styles, width=11))
+            elif header == "enabled":
+                cols.append(_Column(header, values, width=9))
+            else:
+                cols.append(_Column(header, [_cell_text(x) for x in values],
+                                    width=widths.get(header)))
+        self._table("Rules", cols, len(rules), freeze="B2")
+
+    def _not_audited(self) -> None:
+        r = self.report
+        entries = [{**d, "file": "BOM"} for d in r.not_audited()]
+        entries += [{"refdes": d.get("refdes"), "row": d.get("row"), "kind": "not_in_bom",
+                     "reason": d.get("reason"), "text": None, "file": "design sheet"}
+                    for d in r.design_unmatched]
+        n = self._fit(len(entries), "Not audited")
+        entries = entries[:n]
+        cols = [
+            _Column("kind", [_cell_text(d["kind"]) for d in entries], width=15),
+            _Column("designator", [_cell_text(d["refdes"]) for d in entries], width=12),
+            _Column("file", [d["file"] for d in entries], width=13),
+            _Column("row", [None if d["row"] is None else int(d["row"]) for d in entries],
+                    "bc int", width=7),
+            _Column("reason", [_cell_text(d["reason"]) for d in entries], width=60),
+            _Column("text", [_cell_text(d["text"]) for d in entries], width=80),
+        ]
+        self._table("Not audited", cols, len(entries), freeze="A2")
+
+    # ---- chart -----------------------------------------------------------------------------
+
+    def _chart(self) -> None:
+        """Voltage ratio against operating temperature: one marker series per technology and
+        one line per distinct voltage-ratio fail limit of the rules in force."""
+        t = self.report.table
+        has = [c for c in ("voltage_ratio", "t_operating_c") if c in t]
+        if len(has) == 2:
+            plotted = self.report.worst_first()
+            plotted = plotted[plotted["voltage_ratio"].notna() & plotted["t_operating_c"].notna()]
+        else:
+            plotted = t.iloc[:0].assign(voltage_ratio=np.nan, t_operating_c=np.nan)
+        n = self._fit(len(plotted), "Chart data")
+        plotted = plotted.iloc[:n]
+        tech = plotted["technology"].fillna(UNKNOWN_TECHNOLOGY) if "technology" in plotted \
+            else pd.Series(UNKNOWN_TECHNOLOGY, index=plotted.index)
+        plotted = plotted.assign(_tech=tech.astype(str)).sort_values(["_tech", "refdes"],
+                                                                      kind="stable")
+        temps = plotted["t_operating_c"].astype(float)
+        lines = limit_lines(self.report.rules, temps.min() if len(temps) else None,
+                            temps.max() if len(temps) else None)
+        rows = max(len(plotted), sum(len(xs) for _, xs, _ in lines))
+
+        line_name: list = [None] * rows
+        line_x: list = [None] * rows
+        line_y: list = [None] * rows
+        blocks = []
+        pos = 0
+        for name, xs, ys in lines:
+            blocks.append((name, pos, len(xs)))
+            line_name[pos] = name
+            for i, (x, y) in enumerate(zip(xs, ys)):
+                line_x[pos + i], line_y[pos + i] = float(x), float(y)
+            pos += len(xs)
+        pad = [None] * (rows - len(plotted))
+        cols = [
+            _Column("technology", _text(plotted["_tech"]) + pad, width=24),
+            _Column("designator", _text(plotted["refdes"]) + pad, width=12),
+            _Column("t_operating_c", _floats(temps) + pad, "bc degC", width=14),
+            _Column("voltage_ratio", _floats(plotted["voltage_ratio"].astype(float)) + pad,
+                    "bc ratio", width=14),
+            _Column("", [None] * rows, width=3),
+            _Column("limit line", line_name, width=40),
+            _Column("t_operating_c", line_x, "bc degC", width=14),
+            _Column("voltage_ratio limit", line_y, "bc ratio", width=18),
+        ]
+        data = self._table("Chart data", cols, rows, freeze="A2", auto_filter=False)
+
+        chart = ScatterChart(scatterStyle="lineMarker")
+        chart.title = "Voltage ratio against operating temperature"
+        chart.x_axis.title = "operating temperature [°C]"
+        chart.y_axis.title = "voltage ratio (applied peak / rated)"
+        chart.y_axis.number_format = "0%"
+        chart.y_axis.scaling.min = 0
+        if lines:
+            chart.x_axis.scaling.min = min(min(xs) for _, xs, _ in lines)
+            chart.x_axis.scaling.max = max(max(xs) for _, xs, _ in lines)
+        chart.x_axis.delete = False
+        chart.y_axis.delete = False
+        chart.legend.position = "r"
+        groups = plotted.groupby("_tech", sort=True).indices if len(plotted) else {}
+        for name, idx in groups.items():
+            first, last = int(idx.min()) + 2, int(idx.max()) + 2
+            s = Series(Reference(data, min_col=4, min_row=first, max_row=last),
+                       Reference(data, min_col=3, min_row=first, max_row=last), title=name)
+            colour = TECHNOLOGY_COLOURS.get(name, "8C8C8C")
+            s.marker = Marker(symbol="circle", size=5)
+            s.marker.graphicalProperties = _props(fill=colour, line=colour)
+            s.graphicalProperties.line.noFill = True
+            s.smooth = False
+            chart.series.append(s)
+        for k, (name, first, count) in enumerate(blocks):
+            lo, hi = first + 2, first + count + 1
+            s = Series(Reference(data, min_col=8, min_row=lo, max_row=hi),
+                       Reference(data, min_col=7, min_row=lo, max_row=hi), title=name)
+            s.marker = Marker(symbol="none")
+            s.graphicalProperties.line.solidFill = LIMIT_LINE_COLOUR
+            s.graphicalProperties.line.prstDash = LIMIT_DASHES[k % len(LIMIT_DASHES)]
+            s.graphicalProperties.line.width = 19050  # EMU: 1.5 pt
+            s.smooth = False
+            chart.series.append(s)
+        sheet = self.wb.create_chartsheet("Voltage chart", index=len(self.wb.sheetnames) - 1)
+        sheet.add_chart(chart)
+
+    # ---- summary ---------------------------------------------------------------------------
+
+    def _summary(self, ws) -> None:
+        r = self.report
+        for col, width in zip("ABCD", (34, 72, 68, 14)):
+            ws.column_dimensions[col].width = width
+        put = self._put
+        ws.append([put("bomcheck capacitor derating audit", "bc title")])
+        ws.append(["overall status", put(r.status, self.status_style(r.status))])
+        ws.append(["tool version", f"bomcheck {r.tool_version}"])
+        ws.append([self.generated_label, put(self.generated, "bc date")])
+        ws.append([])
+
+        ws.append([put("Rule sets", "bc section")])
+        ws.append(self._header_cells(("rule set", "title", "file", "version")))
+        for d in r.rulesets:
+            extends = f" (extends {d['extends']})" if d.get("extends") else ""
+            ws.append([put(d.get("name")), put(f"{d.get('title') or ''}{extends}"),
+                       put(d.get("path")), put(d.get("version"))])
+        sources = r.rulesets[-1].get("sources", []) if r.rulesets else []
+        ws.append([])
+        ws.append([put("Sources of the rules", "bc section")])
+        ws.append(self._header_cells(("source", "title", "clause", "confidence")))
+        for s in sources:
+            ws.append([put(s.get("id")), put(s.get("title")), put(s.get("clause")),
+                       put(s.get("confidence"))])
+        ws.append([])
+        ws.append([put("Inputs", "bc section")])
+        ws.append(self._header_cells(("input", "path", "SHA-256")))
+        for d in r.inputs:
+            ws.append([put(d.get("role")), put(d.get("path")), put(d.get("sha256"))])
+
+        t = r.totals
+        ws.append([])
+        ws.append([put("Placements by status (worst first)", "bc section")])
+        ws.append(self._header_cells(("status", "placements")))
+        statuses = [s for s in reversed(STATUS_ORDER)]
+        statuses += sorted(k for k in STATUS_PALETTE if k in t and k not in statuses)
+        for s in statuses:
+            ws.append([put(s, self.status_style(s)), put(int(t.get(s, 0)), "bc count")])
+        ws.append(["placements audited", put(int(t.get("audited", len(r.table))), "bc count")])
+
+        ws.append([])
+        ws.append([put("Where every row went", "bc section")])
+        labels = dict(_TOTAL_LABELS)
+        keys = [k for k, _ in _TOTAL_LABELS if k in t]
+        keys += [k for k in t if k not in labels and k not in STATUS_PALETTE and k not in keys]
+        for k in keys:
+            ws.append([labels.get(k, k.replace("_", " ")), put(int(t[k]), "bc count")])
+        for identity in _identities(t):
+            ws.append(identity)
+        not_audited = len(r.not_audited()) + len(r.design_unmatched)
+        ws.append(["Not audited sheet rows", put(not_audited, "bc count"),
+                   "not-fitted placements + non-capacitor rows + unreadable rows + design rows "
+                   "not in the BOM"])
+
+        waivers = [f.to_dict() for f in getattr(r, "waiver_findings", ())]
+        if waivers:
+            ws.append([])
+            ws.append([put("Waivers", "bc section")])
+            ws.append(self._header_cells(("waiver", "what became of it", "approved by / expires",
+                                          "file row")))
+            for d in waivers:
+                ws.append([put(f"{d.get('code')}: {d.get('refdes')} {d.get('rule')}"),
+                           put(d.get("message")),
+                           put(f"{d.get('approved_by') or ''} / {d.get('expires') or ''}"),
+                           d.get("row")])
+
+        if self.notes:
+            ws.append([])
+            ws.append([put("Notes", "bc section")])
+            for note in self.notes:
+                ws.append(["note", put(note, "bc wrap")])
+        ws.append([])
+        ws.append([put("Cautions", "bc section")])
+        for i, caution in enumerate(r.cautions, 1):
+            ws.append([f"caution {i}", put(caution, "bc wrap")])
+
+    # ---- writing ---------------------------------------------------------------------------
+
+    def _put(self, value, style: str | None = None):
+        """A Summary value: text made safe (a formula-like text becomes a text cell), with a
+        named style when given."""
+        if isinstance(value, str):
+            value = safe_text(value)
+            if style is None and is_unsafe(value):
+                style = "bc text"
+        if style is None or value is None:
+            return value
+        cell = WriteOnlyCell(self.wb["Summary"], value)
+        cell.style = style
+        if isinstance(value, str):
+            cell.data_type = "s"
+        return cell
+
+    def _header_cells(self, headers: Sequence[str]) -> list:
+        return [self._put(h, "bc header") for h in headers]
+
+    def _table(self, title: str, cols: list[_Column], n: int, *, freeze: str,
+               auto_filter: bool = True):
+        """A sheet of ``n`` rows under a frozen, filtered header row."""
+        ws = self.wb.create_sheet(title)
+        for i, col in enumerate(cols, 1):
+            ws.column_dimensions[get_column_letter(i)].width = col.width or _width(col)
+        ws.freeze_panes = freeze
+        if auto_filter and cols:
+            ws.auto_filter.ref = f"A1:{get_column_letter(len(cols))}{n + 1}"
+        header = []
+        for col in cols:
+            cell = WriteOnlyCell(ws, col.header)
+            cell.style = "bc header"
+            header.append(cell)
+        ws.append(header)
+        # openpyxl writes each appended row at once, so one styled cell per column and style
+        # can carry every row's value: no new cell or style lookup per value.
+        templates: dict[str, WriteOnlyCell] = {}
+
+        def template(key: tuple, style: str) -> WriteOnlyCell:
+            cell = templates.get(key)
+            if cell is None:
+                cell = templates[key] = WriteOnlyCell(ws)
+                cell.style = style
+            return cell
+
+        per_row = [isinstance(c.style, list) for c in cols]
+        fixed = [None if p else c.style for c, p in zip(cols, per_row)]
+        columns = [c.values for c in cols]
+        for i in range(n):
+            row = []
+            for j, values in enumerate(columns):
+                v = values[i]
+                if v is None:
+                    row.append(None)
+                    continue
+                if type(v) is str:
+                    if v.startswith(UNSAFE_START) or v in ERROR_CODES:
+                        cell = template((j, "text"), "bc text")
+                        cell.value = v
+                        cell.data_type = "s"
+                        row.append(cell)
+                    elif per_row[j] and cols[j].style[i]:
+                        cell = template((j, cols[j].style[i]), cols[j].style[i])
+                        cell.value = v
+                        row.append(cell)
+                    else:
+                        row.append(v)
+                    continue
+                style = cols[j].style[i] if per_row[j] else fixed[j]
+                if style is None:
+                    row.append(v)
+                else:
+                    cell = template((j, style), style)
+                    cell.value = v
+                    row.append(cell)
+            ws.append(row)
+        return ws
+
+
+# ---- limit lines ---------------------------------------------------------------------------
+
+def limit_lines(ruleset, t_min: float | None, t_max: float | None
+                ) -> list[tuple[str, list[float], list[float]]]:
+    """The distinct voltage-ratio fail limits of the enabled rules as polylines over operating
+    temperature: (name, temperatures, ratios). Constants are flat lines over the temperature
+    range of the placements (widened to show every curve point); curves over ``t_operating_c``
+    follow their points, steps drawn as steps. Rules drawing the same line share it, named by
+    their ids."""
+    if ruleset is None:
+        return []
+    rules = [r for r in ruleset.rules if r.enabled and r.metric == "voltage_ratio"
+             and (not r.fail.is_curve or r.fail.over == "t_operating_c")]
+    knots = [x for r in rules for x in r.fail.xs]
+    lo_vals = [v for v in (t_min, *knots) if v is not None and v == v]
+    hi_vals = [v for v in (t_max, *knots) if v is not None and v == v]
+    lo, hi = (min(lo_vals), max(hi_vals)) if lo_vals else (25.0, 125.0)
+    pad = max(5.0, 0.05 * (hi - lo))
+    lo, hi = lo - pad, hi + pad
+    shapes: dict[tuple, list[str]] = {}
+    for r in rules:
+        xs, ys = _polyline(r.fail, lo, hi)
+        key = (tuple(round(x, 9) for x in xs), tuple(round(y, 9) for y in ys))
+        shapes.setdefault(key, []).append(r.id)
+    out = []
+    for (xs, ys), ids in shapes.items():
+        fail = next(r.fail for r in rules if r.id == ids[0])
+        label = fail.text("voltage_ratio") if not fail.is_curve else "curve"
+        out.append((f"limit {label}: {', '.join(ids)}", list(xs), list(ys)))
+    return out
+
+
+def _polyline(limit, lo: float, hi: float) -> tuple[list[float], list[float]]:
+    """Points drawing ``limit`` from ``lo`` to ``hi`` degC."""
+    if not limit.is_curve:
+        return [lo, hi], [float(limit.value)] * 2
+    xs, ys = list(limit.xs), list(limit.ys)
+    if limit.step:
+        # Each point's value holds up to and including its x; the next value starts after it.
+        px, py = [lo], [ys[0]]
+        for i, x in enumerate(xs):
+            px.append(x)
+            py.append(ys[i])
+            if i + 1 < len(xs):
+                px.append(x)
+                py.append(ys[i + 1])
+        px.append(hi)
+        py.append(ys[-1])
+        return px, py
+    inner = [x for x in xs if lo < x < hi]
+    px = [lo, *inner, hi]
+    py = limit.at(np.asarray(px, dtype=float), len(px)).tolist()
+    return px, py
+
+
+# ---- values for cells ----------------------------------------------------------------------
+
+def _metric_kind(metric) -> str | None:
+    """The column kind of a metric's values (None for no metric, e.g. audit-made verdicts)."""
+    m = METRICS.get(metric) if isinstance(metric, str) else None
+    if m is None:
+        return None
+    if m.percent:
+        return "ratio"
+    return {"V": "V", "degC": "degC", "F": "uF"}.get(m.unit, "num")
+
+
+def _text(series) -> list:
+    """Cell values of a text column: None for missing, tuples joined, text made safe."""
+    if not isinstance(series, pd.Series):
+        series = pd.Series(series, dtype=object)
+    values = series.astype(object).tolist()
+    cache: dict = {}
+    out = []
+    for v in values:
+        if v is None or v is pd.NA or (isinstance(v, float) and v != v):
+            out.append(None)
+            continue
+        got = cache.get(v) if isinstance(v, str) else None
+        if got is None:
+            got = _cell_text(v)
+            if isinstance(v, str):
+                cache[v] = got
+        out.append(got)
+    return out
+
+
+def _cell_text(v) -> str | None:
+    if v is None or v is pd.NA or (isinstance(v, float) and v != v):
+        return None
+    if isinstance(v, (tuple, list)):
+        v = "; ".join(str(x) for x in v)
+    v = str(v)
+    return safe_text(v) if v else None
+
+
+def _floats(values: pd.Series) -> list:
+    """Python floats, None for NaN."""
+    arr = np.asarray(values, dtype=float)
+    return pd.Series(arr, dtype=object).where(~np.isnan(arr), None).tolist()
+
+
+def _numbers(series: pd.Series, kind: str) -> list:
+    """Numbers in the kind's stored unit (uF for farads, fractions for percents), None for NaN."""
+    x = pd.to_numeric(series, errors="coerce").astype(float) * _KINDS[kind].scale
+    if kind == "int":
+        arr = x.to_numpy()
+        return [None if v != v else int(v) for v in arr.tolist()]
+    if _KINDS[kind].scale != 1.0:
+        # Drop the binary noise of the scaling (4.7e-6 F x 1e6 = 4.699999999999999 uF).
+        return [None if v != v else float(f"{v:.12g}") for v in x.to_numpy().tolist()]
+    return _floats(x)
+
+
+def _bools(series: pd.Series) -> list:
+    return [v if isinstance(v, bool) else (bool(v) if isinstance(v, np.bool_) else None)
+            for v in series.astype(object).tolist()]
+
+
+def _width(col: _Column) -> float:
+    """Header or the longest of the first few hundred values, within 8..60 characters."""
+    longest = len(col.header)
+    for v in col.values[:300]:
+        if isinstance(v, str):
+            longest = max(longest, len(v))
+        elif isinstance(v, float):
+            longest = max(longest, 9)
+    return float(min(60, max(8, longest + 2)))
+
+
+def _curve_points(metric: str, limit) -> str:
+    """``85 °C: 100 %; 125 °C: 66.67 %`` (with ``step`` for a step curve)."""
+    from bomcheck.rules import axis_quantity, format_quantity
+
+    m = METRICS.get(metric)
+    unit, pct = (m.unit, m.percent) if m else ("", False)
+    ax = axis_quantity(limit.over) or ("", "", False)
+    pts = "; ".join(f"{format_quantity(x, ax[1], ax[2])}: {format_quantity(y, unit, pct)}"
+                    for x, y in zip(limit.xs, limit.ys))
+    return (pts + " (step)" if limit.step else pts).replace("degC", "°C")
+
+
+def _identities(t: dict) -> list[list]:
+    """The accounting identities with their numbers and whether they hold."""
+    out = []
+    keys = ("rows_read", "capacitor_rows", "non_capacitor_rows", "unreadable_rows")
+    if all(k in t for k in keys):
+        a, b, c, d = (int(t[k]) for k in keys)
+        out.append(["rows read = capacitor rows + non-capacitor rows + unreadable rows",
+                    f"{a:,} = {b:,} + {c:,} + {d:,}", "holds" if a == b + c + d else "DOES NOT HOLD"])
+    keys = ("placements", "fitted", "not_fitted")
+    if all(k in t for k in keys):
+        a, b, c = (int(t[k]) for k in keys)
+        out.append(["placements = fitted + not fitted", f"{a:,} = {b:,} + {c:,}",
+                    "holds" if a == b + c else "DOES NOT HOLD"])
+    return out
+
+
+def _props(*, fill: str, line: str):
+    from openpyxl.chart.shapes import GraphicalProperties
+
+    props = GraphicalProperties(solidFill=fill)
+    props.line.solidFill = line
+    return props
