@@ -1,0 +1,123 @@
+"""The whole pipeline on the shipped sample board and on small boards written by the tests."""
+
+import json
+from importlib import resources
+from pathlib import Path
+
+import jsonschema
+import pytest
+
+from bomcheck.audit import AuditOptions, run_audit
+from bomcheck.errors import InputError
+
+ROOT = Path(__file__).resolve().parents[1]
+BOM = ROOT / "sample_boms" / "bw7-controller-bom.csv"
+DESIGN = ROOT / "sample_boms" / "bw7-design.csv"
+
+
+@pytest.fixture(scope="module")
+def sample():
+    return run_audit(str(BOM), str(DESIGN))
+
+
+def _verdicts(report, refdes):
+    v = report.verdicts
+    return {r: s for r, s in zip(v.loc[v.refdes == refdes, "rule_id"], v.loc[v.refdes == refdes, "status"])}
+
+
+def test_nothing_is_lost(sample):
+    t = sample.totals
+    assert t["rows_read"] == t["capacitor_rows"] + t["non_capacitor_rows"] + t["unreadable_rows"]
+    assert t["placements"] == t["fitted"] + t["not_fitted"]
+    assert t["audited"] == t["fitted"] == len(sample.table)
+    assert sum(t[s] for s in ("pass", "waived", "warn", "nodata", "fail") if s in t) == t["audited"]
+    # Every fitted placement has a verdict and a status; not-audited rows each carry a reason.
+    assert set(sample.verdicts["pidx"]) == set(sample.table.index)
+    assert all(d["reason"] for d in sample.not_audited())
+    assert len(sample.not_audited()) == t["not_fitted"] + t["non_capacitor_rows"] + t["unreadable_rows"]
+
+
+def test_sample_violations_are_found(sample):
+    # SRC derating sheet (industrial set): ceramic at most 70 % of rated; 5 V +3 % + 50 mV on 6.3 V.
+    assert _verdicts(sample, "C31")["IND-CER-V"] == "fail"
+    # X5R is rated to +85 degC (EIA-198 '5'); the part sits at 95 degC.
+    assert _verdicts(sample, "C43")["IND-CER-TM"] == "fail"
+    # The value "TBD" cannot be read: no data, never a pass.
+    assert _verdicts(sample, "C51")["IND-CER-V"] == "nodata"
+    # C52 was added to the BOM but not to the design sheet.
+    assert _verdicts(sample, "C52")["design.missing"] == "nodata"
+    # Qty 3 against C53-C56.
+    assert _verdicts(sample, "C53")["bom.qty_mismatch"] == "warn"
+    # C99 is in the design sheet but not in the BOM.
+    assert [d["refdes"] for d in sample.design_unmatched] == ["C99"]
+    assert sample.status == "fail"
+
+
+def test_generic_dc_bias_finding_is_at_most_a_warning(sample):
+    # 10 uF 6.3 V X5R at 5.2 V with only the generic DC-bias curve: a warning that says so.
+    v = sample.verdicts
+    row = v[(v.refdes == "C31") & (v.rule_id == "IND-CMARGIN")].iloc[0]
+    assert row.status == "warn" and "generic typical data" in row.message
+
+
+def test_strict_set_tantalum_curve_on_the_sample():
+    # NASA EEE-INST-002 C1 Table 4: solid tantalum 0.50 to 70 degC, linear to 0.30 at 110 degC;
+    # at 85 degC the limit is 0.50 - (15/40) x 0.20 = 0.425 (derived). C14: 12.6 V + 0.15 V on 25 V.
+    report = run_audit(str(BOM), str(DESIGN), AuditOptions(rules=("strict",)))
+    v = report.verdicts
+    row = v[(v.refdes == "C14") & (v.rule_id == "EEE-TAN-V")].iloc[0]
+    assert row.status == "fail"
+    assert row.limit == pytest.approx(0.425)
+    assert row.value == pytest.approx(12.75 / 25)
+    assert "EEE-INST-002" in row.source
+
+
+def test_json_report_validates_and_is_byte_identical(sample):
+    schema = json.loads(resources.files("bomcheck.schemas").joinpath("report.schema.json").read_text())
+    data = json.loads(sample.to_json())
+    jsonschema.validate(data, schema)
+    assert sample.to_json() == run_audit(str(BOM), str(DESIGN)).to_json()
+    assert [i["role"] for i in data["inputs"]] == ["bom", "design"]
+    c31 = next(p for p in data["placements"] if p["refdes"] == "C31")
+    assert c31["status"] == "fail"
+    assert {"voltage_ratio", "applied_peak_v", "t_operating_c", "temp_margin_c", "c_worst_f",
+            "c_margin"} <= set(c31["metrics"])
+    assert {f["rule"] for f in c31["findings"]} >= {"IND-CER-V", "IND-CMARGIN"}
+    assert all(f["status"] != "pass" for f in c31["findings"])
+    assert all(set(c) == {"rule", "value", "limit", "margin"} for c in c31["checks"])
+
+
+def write(tmp_path, name, text):
+    p = tmp_path / name
+    p.write_text(text, encoding="utf-8")
+    return str(p)
+
+
+def test_small_board_end_to_end(tmp_path):
+    bom = write(tmp_path, "bom.csv", "Designator,Qty,Value,Description\n"
+                "C1,1,100nF,CAP CER 0.1UF 50V 10% X7R 0603\n"
+                "C2 C3,2,10uF,CAP CER 10UF 16V 10% X5R 0805\n"
+                "R1,1,4K7,RES 4K7 1% 0402\n")
+    design = write(tmp_path, "design.csv", "refdes,v_dc,t_ambient_c,c_min_f\n"
+                   "*,,40 degC,none\nC1,30 V,,\nC2-C3,12000 mV,,\n")
+    report = run_audit(bom, design)
+    status = dict(zip(report.table.refdes, report.table.status))
+    # SRC sheet, ceramic 70 %: 30 V on 50 V = 60 % passes; 12 V on 16 V = 75 % fails.
+    assert status == {"C1": "pass", "C2": "fail", "C3": "fail"}
+    assert report.totals["non_capacitor_rows"] == 1
+
+
+def test_wrong_dimension_in_design_is_an_input_error(tmp_path):
+    bom = write(tmp_path, "bom.csv", "Designator,Value,Description\nC1,100nF,CAP CER 50V X7R\n")
+    design = write(tmp_path, "design.csv", "refdes,v_dc,t_ambient_c\nC1,5 A,40\n")
+    with pytest.raises(InputError) as e:
+        run_audit(bom, design)
+    text = str(e.value)
+    assert "design.csv" in text and "row 2" in text and "v_dc" in text
+
+
+def test_no_design_sheet_is_no_data_everywhere(tmp_path):
+    bom = write(tmp_path, "bom.csv", "Designator,Value,Description\nC1,100nF,CAP CER 50V X7R\n")
+    report = run_audit(bom, None)
+    assert report.table.status.tolist() == ["nodata"]
+    assert report.status == "nodata"
