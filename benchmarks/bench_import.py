@@ -15,6 +15,7 @@ import random
 import statistics
 import tempfile
 import time
+import zlib
 from pathlib import Path
 
 
@@ -45,7 +46,7 @@ def write_bom(path: Path, placements: int, distinct: int = 300, seed: int = 1) -
         value, desc = rng.choice(values)
         pkg = desc.rsplit(" ", 1)[1]
         volt = desc.split()[3]
-        mpn = f"KV-{abs(hash((value, desc))) % 9000 + 1000}-{pkg}"
+        mpn = f"KV-{zlib.crc32(desc.encode()) % 9000 + 1000}-{pkg}"
         roll = rng.random()
         if roll < 0.02 and placements - n >= 4:
             k = rng.randrange(2, 5)
@@ -58,7 +59,7 @@ def write_bom(path: Path, placements: int, distinct: int = 300, seed: int = 1) -
         n += k
         r += 1
         if r % 20 == 0:
-            lines.append(f"R{r},1,4K7,RES 4K7 1% 0402,Ohmtek,RT-4K7-0402,0402,,")
+            lines.append(f"R{r},1,4K7,RES 4K7 1% 0402,Varnholt Resistive,VR-4K7-0402,0402,,")
     path.write_text("\n".join(lines) + "\n", encoding="utf-8")
 
 

@@ -13,7 +13,7 @@ import numpy as np
 import pandas as pd
 
 from bomcheck import __version__
-from bomcheck.report import STATUS_ORDER, Report, ruleset_summary
+from bomcheck.report import CAUTIONS, STATUS_ORDER, Report, ruleset_summary
 
 # Verdict ids the audit itself gives (not from a rule file): data problems, never a silent pass.
 NO_DESIGN_ROW = "design.missing"
@@ -31,6 +31,7 @@ class AuditOptions:
     extra_inputs: tuple[tuple[str, str], ...] = field(default_factory=tuple)
     waivers: str | None = None  # waiver file (TOML or CSV), see bomcheck.waivers
     today: date | None = None  # the day waiver expiry is judged on (default: the clock's)
+    parts: str | None = None  # parts file keyed by MPN (CSV, XLSX or TOML), see bomcheck.parts
 
 
 def _stress_data(ruleset):
@@ -135,8 +136,19 @@ def run_audit(bom_path: str, design_path: str | None, options: AuditOptions = Au
         [fitted, conditions.drop(columns=[c for c in conditions if c in fitted])], axis=1
     )
     table = stresses.compute(table, _stress_data(ruleset))
+    from bomcheck import circuit, parts as parts_mod  # circuit-level stresses and parts data
+
+    part_data = parts_mod.read_parts(options.parts) if options.parts else None
+    if part_data is not None:
+        inputs.append({"role": "parts", "path": str(options.parts), "sha256": part_data.sha256})
+    circuit_run = circuit.apply(table, _stress_data(ruleset), ruleset, parts=part_data,
+                                groups=design.groups if design_path is not None else None)
+    table = circuit_run.table
     verdicts = engine.evaluate(table, ruleset)
     verdicts = _audit_verdicts(table, verdicts, imported.findings)
+    if len(circuit_run.verdicts):
+        verdicts = pd.concat([verdicts, circuit_run.verdicts], ignore_index=True).sort_values(
+            ["pidx", "rule_id"], kind="stable").reset_index(drop=True)
 
     table["status"] = placement_status(verdicts, len(table))
 
@@ -156,6 +168,8 @@ def run_audit(bom_path: str, design_path: str | None, options: AuditOptions = Au
         design_unmatched=tuple(design_unmatched),
         totals=totals,
         rules=ruleset,
+        cautions=CAUTIONS + circuit.safety_cautions(verdicts, ruleset),
+        groups=circuit_run.groups,
     )
     if options.waivers:
         from bomcheck.waivers import apply_waivers, load_waivers

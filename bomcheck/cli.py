@@ -94,6 +94,9 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--design", metavar="SHEET", help="design sheet of operating conditions "
                    "(.csv, .xlsx, .toml)")
     p.add_argument("--design-sheet", metavar="NAME", help="sheet of an XLSX design file")
+    p.add_argument("--parts", metavar="FILE", help="parts data keyed by MPN (.csv, .xlsx, "
+                   ".toml): ratings, ESR, ripple, surge, life, leakage, DC-bias curves; "
+                   "overrides the BOM text")
     p.add_argument("--rules", action="append", default=[], metavar="NAME_OR_PATH",
                    help="rule set by shipped name or TOML path (repeatable; later ones override "
                    "rules of the same id). Default: the shipped default set")

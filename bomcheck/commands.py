@@ -6,6 +6,7 @@ import argparse
 import json
 import os
 import sys
+from contextlib import contextmanager
 from pathlib import Path
 
 from bomcheck.errors import InputError
@@ -109,20 +110,175 @@ def run_audit(args: argparse.Namespace) -> int:
     from bomcheck.audit import AuditOptions, run_audit
     from bomcheck.report import status_at_least
 
+    args = _with_config(args)
+    outputs = _audit_outputs(args)
+    baseline = _read_report_json(args.baseline, "baseline") if args.baseline else None
+    if args.fail_on == "new" and baseline is None:
+        raise InputError("--fail-on new compares with a baseline, and none was given",
+                         expected="--baseline OLD.json (or baseline in [tool.bomcheck])")
     options = AuditOptions(rules=tuple(args.rules), import_options=_import_options(args),
-                           design_sheet=args.design_sheet)
-    report = run_audit(args.bom, args.design, options)
-    if args.json:
-        write_text_atomic(args.json, report.iter_json())
-    if args.json != "-":
-        from bomcheck.render import accounting_line, print_audit
+                           design_sheet=args.design_sheet, waivers=args.waivers,
+                           today=args.today, parts=getattr(args, "parts", None))
+    diff = None
+    with _progress(args, 1 + len(outputs)) as stage:
+        stage("audit: read, parse, evaluate")
+        report = run_audit(args.bom, args.design, options)
+        if baseline is not None:
+            from bomcheck.diff import compare
+
+            diff = compare(baseline, report.to_dict(), old_label=args.baseline,
+                           new_label=args.json or "this audit")
+        for kind, path in outputs:
+            stage(f"write {kind}: {path}")
+            _write_output(kind, path, report, args, diff)
+    if all(path != "-" for _, path in outputs):
+        from bomcheck.render import accounting_line, print_audit, print_diff
 
         console = _console(args)
         if args.quiet:
             console.print(accounting_line(report.totals))
+            if diff is not None:
+                from bomcheck.diff import summary_line
+
+                console.print("Baseline: " + summary_line(diff))
         else:
             print_audit(console, report, show_all=args.all)
+            if diff is not None:
+                print_diff(console, diff, show_all=args.all)
+    if args.fail_on == "new":
+        return EXIT_FINDINGS if diff.new_problems else EXIT_CLEAN
     return EXIT_FINDINGS if status_at_least(report.status, args.fail_on) else EXIT_CLEAN
+
+
+# Outputs of ``audit`` in the order they are written.
+AUDIT_OUTPUTS = ("json", "junit", "markdown", "csv", "xlsx")
+# Above this many lines a BOM takes long enough to deserve a progress bar on a terminal.
+LARGE_BOM_LINES = 20_000
+LARGE_XLSX_BYTES = 2_000_000  # about as many rows of a typical BOM export
+
+
+def _with_config(args: argparse.Namespace) -> argparse.Namespace:
+    """Options the command line left unset, from [tool.bomcheck] (unless --no-config)."""
+    from bomcheck.config import Config, load_config, merge
+
+    merge(args, Config() if args.no_config else load_config())
+    args.fail_on = args.fail_on or "fail"
+    args.warn_as = args.warn_as or "failure"
+    return args
+
+
+def _audit_outputs(args: argparse.Namespace) -> list[tuple[str, str]]:
+    """(kind, path) of each report asked for; at most one may go to standard output."""
+    outputs = [(kind, getattr(args, kind)) for kind in AUDIT_OUTPUTS if getattr(args, kind)]
+    to_stdout = [kind for kind, path in outputs if path == "-"]
+    if len(to_stdout) > 1:
+        raise InputError("only one report can go to standard output ('-')",
+                         text=", ".join(f"--{k} -" for k in to_stdout))
+    if "xlsx" in to_stdout:
+        raise InputError("the workbook cannot go to standard output", text="--xlsx -",
+                         expected="a file name such as audit.xlsx")
+    return outputs
+
+
+def _write_output(kind: str, path: str, report, args: argparse.Namespace, diff) -> None:
+    """Render one report and write it atomically."""
+    if kind == "json":
+        write_text_atomic(path, report.iter_json())
+    elif kind == "xlsx":
+        try:
+            from bomcheck.xlsx import write_workbook
+        except ImportError as exc:
+            raise InputError(f"--xlsx is not available in this installation ({exc})") from None
+        write_workbook(report, path)
+    else:
+        from bomcheck import exports
+
+        if kind == "junit":
+            text = exports.junit_xml(report, warn_as=args.warn_as)
+        elif kind == "markdown":
+            text = exports.markdown_summary(report, diff=diff)
+        else:
+            text = exports.csv_rows(report)
+        write_text_atomic(path, text)
+
+
+def _large_bom(path: str) -> bool:
+    """True when the BOM has more than ``LARGE_BOM_LINES`` lines (XLSX: judged by its size)."""
+    p = Path(path)
+    try:
+        if p.suffix.lower() in (".xlsx", ".xlsm"):
+            return p.stat().st_size > LARGE_XLSX_BYTES
+        lines = 0
+        with p.open("rb") as f:
+            while chunk := f.read(1 << 20):
+                lines += chunk.count(b"\n")
+                if lines > LARGE_BOM_LINES:
+                    return True
+    except OSError:
+        pass
+    return False
+
+
+@contextmanager
+def _progress(args: argparse.Namespace, stages: int):
+    """A stage callback; it drives a rich progress bar on standard error only when that is an
+    interactive terminal, the run is not --quiet and the BOM is large."""
+    if args.quiet or not sys.stderr.isatty() or not _large_bom(args.bom):
+        yield lambda label: None
+        return
+    from rich.progress import BarColumn, MofNCompleteColumn, Progress, TextColumn, TimeElapsedColumn
+
+    columns = (TextColumn("{task.description}"), BarColumn(), MofNCompleteColumn(),
+               TimeElapsedColumn())
+    with Progress(*columns, console=_console(args, stderr=True), transient=True) as bar:
+        task = bar.add_task("bomcheck", total=stages)
+        started = False
+
+        def stage(label: str) -> None:
+            nonlocal started
+            if started:
+                bar.advance(task)
+            started = True
+            bar.update(task, description=label)
+
+        yield stage
+        bar.update(task, completed=stages)
+
+
+def _read_report_json(path: str, role: str) -> dict:
+    """A JSON report written by ``bomcheck audit --json``, parsed."""
+    try:
+        text = Path(path).read_text(encoding="utf-8")
+    except (OSError, UnicodeDecodeError) as exc:
+        why = exc.strerror if isinstance(exc, OSError) else "not UTF-8 text"
+        raise InputError(f"cannot read the {role} report: {why}", path=path) from None
+    try:
+        data = json.loads(text)
+    except json.JSONDecodeError as exc:
+        raise InputError(f"the {role} report is not JSON ({exc.msg})", path=path, row=exc.lineno,
+                         expected="the output of bomcheck audit --json") from None
+    if not isinstance(data, dict) or not isinstance(data.get("placements"), list):
+        raise InputError(f"the {role} report is not a bomcheck JSON report", path=path,
+                         expected="the output of bomcheck audit --json")
+    return data
+
+
+def run_diff(args: argparse.Namespace) -> int:
+    from bomcheck.diff import compare, diff_markdown
+
+    old = _read_report_json(args.old, "old")
+    new = _read_report_json(args.new, "new")
+    diff = compare(old, new, old_label=args.old, new_label=args.new)
+    if args.json:
+        write_text_atomic(args.json, json.dumps(diff.to_dict(), ensure_ascii=False, indent=2)
+                          + "\n")
+    if args.markdown:
+        write_text_atomic(args.markdown, diff_markdown(diff))
+    if "-" not in (args.json, args.markdown):
+        from bomcheck.render import print_diff
+
+        print_diff(_console(args), diff, show_all=args.all)
+    return EXIT_FINDINGS if args.fail_on == "new" and diff.new_problems else EXIT_CLEAN
 
 
 def run_rules(args: argparse.Namespace) -> int:

@@ -70,6 +70,29 @@ only the tolerance is known, ``v_dc_max = v_dc x (1 + v_tol_pct/100)``. Values o
 belong to the group as a whole are not copied to its members: a bank's ``c_min_f`` (the bank
 meets the requirement) and a series stack's voltages (each member carries a share); they stay
 in ``Group.conditions`` for the stress stage.
+
+Circuit columns
+---------------
+Read by ``bomcheck.circuit`` (bare numbers in the unit shown):
+
+- ``kind`` (group rows): ``rail`` (default), ``bank`` (members in parallel on one rail: the
+  bank's ``c_min_f`` is met by the sum of the members) or ``series`` (members in series across a
+  bus: the group's voltages are the whole stack's, each member carries a worst-case share);
+- ``r_balance_ohm`` (ohm) and ``r_balance_tol_pct`` (%): the balancing resistor across each
+  member of a series stack and its tolerance (a group row gives every member the same);
+- ``r_bleeder_ohm`` (ohm): discharge resistance across the placement, or across the whole bank
+  or stack when given on its group row;
+- ``v_safe_v`` (V, default from the rule set, 60 V) and ``t_discharge_max_s`` (s): the
+  discharge requirement, time allowed to fall to the safe voltage;
+- ``slew_v_per_s`` (V/s; ``12 V/ms`` works) or ``r_source_ohm`` (ohm): the rail's rate of rise at
+  switch-on, or the effective series resistance feeding it (surge current, and the series
+  resistance of solid tantalum); on a series stack's row they are the whole stack's;
+- ``i_ripple_a`` (A rms) and ``f_ripple_hz`` (Hz): ripple current and its frequency; a bank's
+  ripple current is shared among its members in proportion to their capacitance, a series
+  stack's flows through every member.
+
+Group-only values (a bank's ``c_min_f``, ``r_bleeder_ohm``, ``i_ripple_a``; a series stack's
+voltages, ``r_bleeder_ohm``, ``slew_v_per_s``, ``r_source_ohm``) stay in ``Group.conditions``.
 """
 
 from __future__ import annotations
@@ -97,8 +120,9 @@ GROUP_KINDS = ("rail", "bank", "series")
 # Group values that describe the group as a whole, kept off its members (see module docstring).
 _GROUP_ONLY: dict[str, tuple[str, ...]] = {
     "rail": (),
-    "bank": ("c_min_f",),
-    "series": ("v_dc", "v_dc_max", "v_ripple_pk", "v_transient_pk", "v_reverse_pk", "v_ac_rms"),
+    "bank": ("c_min_f", "r_bleeder_ohm", "i_ripple_a"),
+    "series": ("v_dc", "v_dc_max", "v_ripple_pk", "v_transient_pk", "v_reverse_pk", "v_ac_rms",
+               "r_bleeder_ohm", "slew_v_per_s", "r_source_ohm"),
 }
 _PEAK_FIELDS = frozenset({"v_ripple_pk", "v_transient_pk", "v_reverse_pk"})
 _TEXT_FIELDS = ("refdes", "members", "group", "kind", "notes")
@@ -139,6 +163,21 @@ ALIASES: dict[str, tuple[str, ...]] = {
                 "min capacitance", "c required", "c_req", "capacitance needed"),
     "life_h": ("life_h", "life", "required life", "lifetime", "mission life", "service life",
                "design life"),
+    # Circuit-level conditions (bomcheck.circuit); see "Circuit columns" in the module docstring.
+    "r_balance_ohm": ("r_balance_ohm", "r_balance", "balancing resistor", "balancing resistance",
+                      "balance resistor"),
+    "r_balance_tol_pct": ("r_balance_tol_pct", "r_balance_tol", "balancing resistor tolerance",
+                          "balance resistor tolerance"),
+    "r_bleeder_ohm": ("r_bleeder_ohm", "r_bleeder", "bleeder", "bleeder resistor",
+                      "bleeder resistance", "discharge resistance", "r_discharge"),
+    "v_safe_v": ("v_safe_v", "v_safe", "safe voltage"),
+    "t_discharge_max_s": ("t_discharge_max_s", "t_discharge_max", "t_discharge",
+                          "discharge time", "discharge time limit", "max discharge time"),
+    "slew_v_per_s": ("slew_v_per_s", "slew", "slew rate", "dv/dt", "rise rate"),
+    "r_source_ohm": ("r_source_ohm", "r_source", "source resistance", "series resistance",
+                     "inrush resistance"),
+    "i_ripple_a": ("i_ripple_a", "i_ripple", "ripple current", "ripple current rms"),
+    "f_ripple_hz": ("f_ripple_hz", "f_ripple", "ripple frequency"),
 }
 
 
@@ -336,7 +375,7 @@ def _convert(cells: np.ndarray, col: _Column, fail: _Fail) -> np.ndarray:
     assert name is not None
     quantity, default_unit = CONDITIONS[name]
     unit = col.unit or default_unit
-    pct = 100.0 if name == "v_tol_pct" else 1.0
+    pct = 100.0 if name.endswith("_pct") else 1.0
     _check_mark(col.mark, name, lambda problem: fail(None, col.header, UnitError(problem)))
     try:
         offset = to_si("0", quantity, unit)
@@ -388,7 +427,7 @@ def _check_mark(mark: str | None, name: str, fail: Callable[[str], NoReturn]) ->
 def _convert_one(text: str, name: str, quantity: str, unit: str, header_mark: str | None) -> float:
     """One distinct cell through pint, with its own pp/pk/rms mark (voltage columns only)."""
     mark = None
-    if name == "v_tol_pct":
+    if name.endswith("_pct"):
         text = _PLUS_MINUS.sub("", text)
     if quantity == "voltage":
         text, mark = _qualifier(text)

@@ -19,9 +19,10 @@ The suite's ``tests``, ``failures``, ``errors`` and ``skipped`` counts are those
 cases. Design-sheet rows that name no BOM placement and what became of each waiver are listed in
 the suite's ``<system-out>``.
 
-CSV: one row per fitted placement (BOM order) with its governing verdict, status and
-explanation. Text cells that start with ``=``, ``+``, ``-``, ``@``, a tab or a carriage return
-get a leading single quote so that no spreadsheet runs them as a formula (the usual
+CSV (RFC 4180, CRLF line ends): one row per fitted placement (BOM order) with its governing
+verdict, status and explanation; ``waived`` lists the placement's waived verdicts (``rule (was
+status): reason``). Text cells that start with ``=``, ``+``, ``-``, ``@``, a tab or a carriage
+return get a leading single quote so that no spreadsheet runs them as a formula (the usual
 CSV-injection guard); numbers written by bomcheck itself are left as numbers.
 """
 
@@ -42,7 +43,7 @@ WARN_AS: tuple[str, ...] = ("failure", "skipped", "pass")
 CSV_COLUMNS: tuple[str, ...] = (
     "refdes", "row", "status", "waived_from", "rule", "metric", "value", "limit", "margin",
     "technology", "capacitance_f", "voltage_v", "dielectric", "package", "text", "explanation",
-    "source",
+    "source", "waived",
 )
 INJECTION_LEAD = ("=", "+", "-", "@", "\t", "\r")
 # Worst first, as a reviewer reads the totals.
@@ -60,7 +61,7 @@ def _isnan(x: Any) -> bool:
 
 
 def format_metric(value: Any, metric: Any) -> str:
-    """A verdict's value or limit in its metric's display unit ("87.2 %", "-10 degC"); "" if none."""
+    """A verdict's value or limit in its metric's display unit ("87.2 %", "-10 degC"), or ""."""
     from bomcheck.rules import format_number, format_quantity
 
     if _isnan(value):
@@ -82,6 +83,11 @@ def _problems_by_placement(report) -> dict[int, list[tuple[str, str, str]]]:
                                         v["rule_id"].to_numpy(), v["message"].to_numpy()):
         out.setdefault(int(pidx), []).append((str(status), str(rule), str(msg)))
     return out
+
+
+def _text(value: Any) -> bool:
+    """True for a non-empty text value (not None, NaN or "")."""
+    return not _isnan(value) and bool(str(value))
 
 
 def _governing(report) -> pd.DataFrame:
@@ -108,8 +114,8 @@ def junit_xml(report, *, warn_as: str = "failure") -> str:
     cases = []
     techs = t["technology"] if "technology" in t.columns else pd.Series(None, index=t.index)
     for i, refdes, tech, status in zip(t.index, t["refdes"], techs, t["status"]):
-        case = ET.Element("testcase", {"name": _x(refdes),
-                                       "classname": f"bomcheck.{_x(tech or 'unknown')}"})
+        family = _x(tech) if _text(tech) else "unknown"
+        case = ET.Element("testcase", {"name": _x(refdes), "classname": f"bomcheck.{family}"})
         lines = [f"{s.upper()} {r}: {m}" for s, r, m in problems.get(int(i), [])]
         body = _x("\n".join(lines))
         message = _x(gov_msg.get(i, ""))
@@ -198,13 +204,13 @@ def markdown_summary(report, *, limit: int = 20, diff=None) -> str:
     else:
         out += [f"Every one of the {len(t)} audited placements passes.", ""]
 
-    problems = [f for f in report.waiver_findings if f.code != "applied"]
-    applied = sum(1 for f in report.waiver_findings if f.code == "applied")
-    if report.waiver_findings:
-        out.append(f"**Waivers:** {applied} applied, {len(problems)} not applied.")
-        out += [f"- {f.code.replace('_', ' ')}: {_md(f.message)}" for f in problems[:limit]]
-        if len(problems) > limit:
-            out.append(f"- ... {len(problems) - limit} more in the JSON report")
+    found = report.waiver_findings
+    if found:
+        applied = sum(1 for f in found if f.code == "applied")
+        out.append(f"**Waivers:** {applied} applied, {len(found) - applied} not applied.")
+        out += [f"- {f.code.replace('_', ' ')}: {_md(f.message)}" for f in found[:limit]]
+        if len(found) > limit:
+            out.append(f"- ... {len(found) - limit} more in the JSON report")
         out.append("")
     if diff is not None:
         from bomcheck.diff import diff_markdown
@@ -230,6 +236,19 @@ def _num(value: Any) -> str:
     return "" if _isnan(value) else format(float(value), ".6g")
 
 
+def _waived_by_placement(report) -> dict[int, str]:
+    """Per placement index, its waived verdicts as ``rule (was status): reason; ...``."""
+    v = report.verdicts
+    if "waived_from" not in v.columns:
+        return {}
+    v = v[v["status"] == "waived"]
+    reasons = v["waiver_reason"] if "waiver_reason" in v.columns else pd.Series("", index=v.index)
+    out: dict[int, list[str]] = {}
+    for pidx, rule, was, why in zip(v["pidx"], v["rule_id"], v["waived_from"], reasons):
+        out.setdefault(int(pidx), []).append(f"{rule} (was {was}): {why}")
+    return {k: "; ".join(items) for k, items in out.items()}
+
+
 def csv_rows(report) -> str:
     """One CSV row per fitted placement in BOM order: designator, BOM row, status (and the
     status a waiver replaced), the governing verdict with its value, limit and margin (SI
@@ -237,7 +256,9 @@ def csv_rows(report) -> str:
     t = report.table
     gov = _governing(report)
     buf = io.StringIO()
-    w = csv.writer(buf, lineterminator="\n")
+    # RFC 4180 line ends: with CRLF as the terminator the writer also quotes a cell holding a
+    # bare CR, which a spreadsheet would otherwise take as a row break.
+    w = csv.writer(buf, lineterminator="\r\n")
     w.writerow(CSV_COLUMNS)
 
     def col(name: str) -> pd.Series:
@@ -248,17 +269,18 @@ def csv_rows(report) -> str:
             return gov[name].reindex(t.index)
         return pd.Series(None, index=t.index, dtype=object)
 
-    for rec in zip(col("refdes"), col("row"), col("status"), gcol("waived_from"),
-                   gcol("rule_id"), gcol("metric"), gcol("value"), gcol("limit"),
-                   gcol("margin"), col("technology"), col("capacitance_f"), col("voltage_v"),
-                   col("dielectric"), col("package"), col("text"), gcol("message"),
-                   gcol("source")):
+    waived = _waived_by_placement(report)
+    for i, *rec in zip(t.index, col("refdes"), col("row"), col("status"), gcol("waived_from"),
+                       gcol("rule_id"), gcol("metric"), gcol("value"), gcol("limit"),
+                       gcol("margin"), col("technology"), col("capacitance_f"), col("voltage_v"),
+                       col("dielectric"), col("package"), col("text"), gcol("message"),
+                       gcol("source")):
         (refdes, row, status, waived_from, rule, metric, value, limit, margin, tech, cap, volt,
          diel, package, text, message, source) = rec
         w.writerow([
             _cell(refdes), "" if _isnan(row) else str(int(row)), _cell(status), _cell(waived_from),
             _cell(rule), _cell(metric), _num(value), _num(limit), _num(margin), _cell(tech),
             _num(cap), _num(volt), _cell(diel), _cell(package), _cell(text), _cell(message),
-            _cell(source),
+            _cell(source), _cell(waived.get(int(i), "")),
         ])
     return buf.getvalue()

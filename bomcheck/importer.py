@@ -46,6 +46,7 @@ from __future__ import annotations
 import functools
 import hashlib
 import math
+import operator
 import re
 from collections.abc import Mapping
 from concurrent.futures import ThreadPoolExecutor
@@ -58,7 +59,7 @@ import pandas as pd
 from bomcheck import columns as colmod
 from bomcheck import reader
 from bomcheck.errors import InputError
-from bomcheck.refdes import expand
+from bomcheck.refdes import MAX_RANGE, expand
 from bomcheck.spec import SPEC_KEYS
 
 if TYPE_CHECKING:
@@ -72,7 +73,8 @@ PLACEMENT_COLUMNS: tuple[str, ...] = (
 SKIPPED_COLUMNS: tuple[str, ...] = ("row", "kind", "reason", "text")
 
 # Designator prefixes of capacitors, and of parts that are not capacitors although some start
-# with C (common practice; IEEE 315 / ASME Y14.44 class letters as used in trade BOMs).
+# with C (common practice of EDA exports; the one-letter classes as in ASME Y14.44, value from
+# memory).
 CAPACITOR_PREFIXES: frozenset[str] = frozenset(
     {"C", "CA", "CB", "CC", "CE", "CF", "CP", "CT", "CV", "CX", "CY", "VC"}
 )
@@ -329,6 +331,7 @@ class _Designators:
     single: np.ndarray
     count: np.ndarray
     prefix: np.ndarray
+    kind: np.ndarray  # prefix_kind of the prefix
     has_error: np.ndarray
     error: dict[int, str]
     mark: dict[int, str]
@@ -341,7 +344,7 @@ def _expand_one(text: str) -> tuple[list[str], str | None, str | None, str]:
     m = _SIMPLE_RANGE.fullmatch(t)
     if m:
         lo, hi = int(m.group(2)), int(m.group(3))
-        if lo <= hi:
+        if lo <= hi and hi - lo < MAX_RANGE:
             p = m.group(1).upper()
             return [f"{p}{k}" for k in range(lo, hi + 1)], None, None, p
     mark = not_fitted_mark(t)
@@ -368,14 +371,15 @@ def _expand_one(text: str) -> tuple[list[str], str | None, str | None, str]:
 def expand_lines(texts: np.ndarray) -> _Designators:
     """Expand every line's designator cell.
 
-    A single designator (most lines of a flat export) takes a vectorised path: one regex scan
-    over all cells joined by newlines. Lists, ranges and odd cells go through
-    ``bomcheck.refdes.expand`` once per distinct text.
+    A single designator (most lines of a flat export) takes a vectorised path: the cells'
+    shapes (``C12`` -> ``C99``) come from one string translation, and each distinct shape is
+    tested once. Lists, ranges and odd cells go through ``bomcheck.refdes.expand`` once per
+    distinct text.
     """
     n = len(texts)
     count = np.zeros(n, dtype=np.int64)
     out = _Designators(np.full(n, None, dtype=object), count, np.full(n, "", dtype=object),
-                       np.zeros(n, dtype=bool), {}, {}, {})
+                       np.zeros(n, dtype=np.int64), np.zeros(n, dtype=bool), {}, {}, {})
     if n == 0:
         return out
     big = "\n".join(texts)
@@ -387,11 +391,14 @@ def expand_lines(texts: np.ndarray) -> _Designators:
     matches = [_SINGLE_SHAPE.fullmatch(str(u)) for u in shapes]
     fast = np.array([m is not None for m in matches], dtype=bool)[codes]
     found = np.array([m.group(1) if m else "" for m in matches], dtype=object)[codes]
+    kinds = np.array([prefix_kind(m.group(1)) if m else _UNKNOWN_KIND for m in matches],
+                     dtype=np.int64)[codes]
     padded = np.array([bool(m) and m.group(0) != m.group(0).strip() for m in matches],
                       dtype=bool)[codes]
     up = big.upper()
     if fast.all() and up == big and not padded.any():
-        return _Designators(texts, np.ones(n, dtype=np.int64), found, out.has_error, {}, {}, {})
+        return _Designators(texts, np.ones(n, dtype=np.int64), found, kinds, out.has_error,
+                            {}, {}, {})
     if fast.any():
         names = texts[fast] if up == big else np.array(up.split("\n"), dtype=object)[fast]
         for j in np.flatnonzero(padded[fast]):
@@ -399,6 +406,7 @@ def expand_lines(texts: np.ndarray) -> _Designators:
         out.single[fast] = names
         count[fast] = 1
         out.prefix[fast] = found[fast]
+        out.kind[fast] = kinds[fast]
     slow = np.flatnonzero(~fast)
     if len(slow):
         codes, uniques = pd.factorize(texts[slow])
@@ -406,6 +414,7 @@ def expand_lines(texts: np.ndarray) -> _Designators:
         counts_u = np.array([len(r[0]) for r in results], dtype=np.int64)
         count[slow] = counts_u[codes]
         out.prefix[slow] = np.array([r[3] for r in results], dtype=object)[codes]
+        out.kind[slow] = np.array([prefix_kind(r[3]) for r in results], dtype=np.int64)[codes]
         for i, code in zip(slow.tolist(), codes.tolist()):
             items, err, mk, _ = results[code]
             if mk:
@@ -541,9 +550,9 @@ class _Parser:
         got = self._group_cache.get(id(spec))
         if got is None:
             got = []
-            for group, _, keys in _GROUP_KEYS:
-                vals = tuple(getattr(spec, k) for k in group)
-                got.append(vals if any(v is not None for v in vals[:len(keys)]) else None)
+            for get, nkeys in _GROUP_GETTERS:
+                vals = get(spec)
+                got.append(vals if vals[:nkeys] != _NONES[nkeys] else None)
             self._group_cache[id(spec)] = got
         return got
 
@@ -621,6 +630,13 @@ class _Parser:
 _KEY_FIELDS = {"tol_minus_pct": ("tol_minus_pct", "tol_plus_pct", "tol_abs_f")}
 _GROUP_KEYS = tuple((group, order, _KEY_FIELDS.get(group[0], group[:1]))
                     for group, order in _GROUPS)
+# Getters returning each group's values as a tuple (attrgetter of one name returns the value).
+_GROUP_GETTERS = tuple(
+    (operator.attrgetter(*group) if len(group) > 1 else (lambda sp, k=group[0]: (getattr(sp, k),)),
+     len(keys))
+    for group, _, keys in _GROUP_KEYS
+)
+_NONES = {k: (None,) * k for k in range(1, 4)}
 _EMPTY_SPEC: dict[str, Any] = {**dict.fromkeys(SPEC_COLUMNS), "warnings": (), "unread": ()}
 _FIELD_NAMES = {"capacitance_f": "capacitance", "voltage_v": "rated voltage",
                 "tol_minus_pct": "tolerance", "temp_min_c": "minimum temperature",
@@ -742,11 +758,11 @@ def _build(table: reader.RawTable, mapping: dict[str, str], source: BomSource) -
     n_lines = len(heads)
     if cont.any():
         line = {f: get(f)[heads] for f in colmod.FIELDS}  # fancy indexing: fresh arrays
+        ends = np.append(heads[1:], n)  # a line's rows are heads[li] .. ends[li] - 1
         for li in np.unique(line_of_row[cont]):
-            members = np.flatnonzero(line_of_row == li)
             for f, sep in (("refdes", ", "), ("description", " "), ("notes", " ")):
-                parts = [get(f)[m].strip() for m in members if get(f)[m].strip()]
-                line[f][li] = sep.join(parts)
+                cells = get(f)[heads[li]:ends[li]]
+                line[f][li] = sep.join(c.strip() for c in cells if c.strip())
     else:
         line = {f: get(f) for f in colmod.FIELDS}
     head_rows = src_rows[heads]
@@ -759,11 +775,10 @@ def _build(table: reader.RawTable, mapping: dict[str, str], source: BomSource) -
     # Distinct combinations of the value-bearing cells, parsed once each.
     parser = _Parser(semicolon=table.format == "semicolon")
     present = [s for s in SPEC_SOURCES if s in mapping]
-    code_arrays, uniques_by_src, sizes = [], {}, []
+    code_arrays, sizes = [], []
     for s in present:
         codes, uniq = pd.factorize(line[s])
         code_arrays.append(codes)
-        uniques_by_src[s] = uniq
         sizes.append(len(uniq))
     combo_code, n_combo = _combine_codes(code_arrays, sizes)
     first_line = np.flatnonzero(~pd.Series(combo_code).duplicated().to_numpy())
@@ -773,9 +788,7 @@ def _build(table: reader.RawTable, mapping: dict[str, str], source: BomSource) -
     fitted, nf_reason, unclear = _fitted(line, mapping, table, des, combos, combo_code)
 
     # Classification per line.
-    pk_codes, pk_uniq = pd.factorize(des.prefix)
-    pk = np.array([prefix_kind(str(p)) for p in pk_uniq], dtype=np.int64)[pk_codes] \
-        if n_lines else np.zeros(0, dtype=np.int64)
+    pk = des.kind
     evidence = np.array([c.evidence for c in combos], dtype=np.int64)[combo_code]
     strong = np.array([c.strong for c in combos], dtype=bool)[combo_code]
     has_other = np.array([c.other is not None for c in combos], dtype=bool)[combo_code]
@@ -790,12 +803,22 @@ def _build(table: reader.RawTable, mapping: dict[str, str], source: BomSource) -
     other_line = ok & ~cap_line & ((pk == _OTHER_KIND) | (pk == _UNKNOWN_KIND))
     kind[cap_line] = _CAP
     kind[other_line] = _NONCAP
-    reasons: dict[tuple[Any, ...], str] = {}
-    for li in np.flatnonzero(~cap_line):
-        key = (bool(line_repeated[li]), des.error.get(li), des.prefix[li], int(combo_code[li]))
-        if key not in reasons:
-            reasons[key] = _reason(li, line_repeated, des, pk, combos[combo_code[li]])
-        reason[li] = reasons[key]
+    # One reason per distinct (prefix, combination) among the lines not taken; lines with their
+    # own reason (designator errors, repeated headers) one by one.
+    not_taken = np.flatnonzero(~cap_line)
+    special = line_repeated[not_taken] | des.has_error[not_taken]
+    for li in not_taken[special]:
+        reason[li] = _reason(int(li), line_repeated, des, pk, combos[combo_code[li]])
+    plain = not_taken[~special]
+    if len(plain):
+        pfx_codes, pfx_uniq = pd.factorize(des.prefix[plain])
+        key, n_keys = _combine_codes([pfx_codes, combo_code[plain]], [len(pfx_uniq), n_combo])
+        firsts = np.flatnonzero(~pd.Series(key).duplicated().to_numpy())
+        texts = np.empty(n_keys, dtype=object)
+        for k, j in enumerate(firsts):
+            li = int(plain[j])
+            texts[k] = _reason(li, line_repeated, des, pk, combos[combo_code[li]])
+        reason[plain] = texts[key]
 
     # Quantities.
     qty_codes, qty_uniq = pd.factorize(line["qty"])
@@ -826,7 +849,7 @@ def _build(table: reader.RawTable, mapping: dict[str, str], source: BomSource) -
 
     placements = _placements(cap_idx, des, line, head_rows, fitted, nf_reason, qty, combos,
                              combo_code)
-    findings.extend(_placement_findings(placements, combos, combo_code, cap_idx, des))
+    findings.extend(_placement_findings(placements, combos, combo_code))
 
     # Rows not taken: one entry per source row, continuation rows included.
     row_kind = kind[line_of_row] if n else np.zeros(0, dtype=np.int64)
@@ -872,19 +895,18 @@ def _continuations(frame: pd.DataFrame, mapping: dict[str, str], arrays: list[np
     names = list(frame.columns)
     ref_i = names.index(mapping["refdes"])
     text_i = {names.index(mapping[f]) for f in ("description", "notes") if f in mapping}
-    ref_empty = refdes == ""
-    # Candidates by one cheap column test each, then the whole row on the few candidates.
-    other_i = [i for i in range(len(names)) if i != ref_i]
-    only_ref = np.flatnonzero(~ref_empty)
-    for i in other_i:
-        if not len(only_ref):
-            break
-        only_ref = only_ref[arrays[i][only_ref] == ""]
-    no_ref = np.flatnonzero(ref_empty)
-    for i in other_i:
-        if i in text_i or not len(no_ref):
+    # Either kind has an empty value cell: one comparison per row, then the few candidates.
+    first = names.index(mapping["value"]) if "value" in mapping else None
+    cand = np.flatnonzero(arrays[first] == "") if first is not None else np.arange(n)
+    ref_empty = refdes[cand] == ""
+    only_ref, no_ref = cand[~ref_empty], cand[ref_empty]
+    for i in range(len(names)):
+        if i in (ref_i, first):
             continue
-        no_ref = no_ref[arrays[i][no_ref] == ""]
+        if len(only_ref):
+            only_ref = only_ref[arrays[i][only_ref] == ""]
+        if len(no_ref) and i not in text_i:
+            no_ref = no_ref[arrays[i][no_ref] == ""]
     for r in no_ref:
         if r > 0 and not repeated[r - 1] and text_i:
             cont[r] = True
@@ -932,8 +954,7 @@ def _fitted(line: dict[str, np.ndarray], mapping: dict[str, str], table: reader.
         if f == "description":
             sources.append((label, [c.marks.get("description") for c in combos], combo_code))
         elif f in mapping:
-            codes, uniq = pd.factorize(line[f])
-            sources.append((label, [not_fitted_mark(str(u)) for u in uniq], codes))
+            sources.append((label, *_marks_by_cell(line[f])))
     for label, marks, codes in sources:
         has = np.array([m is not None for m in marks], dtype=bool)
         if not has.any():
@@ -942,6 +963,17 @@ def _fitted(line: dict[str, np.ndarray], mapping: dict[str, str], table: reader.
             fitted[li] = False
             reason[li] = f"{marks[codes[li]]!r} in {label}"
     return fitted, reason, unclear
+
+
+def _marks_by_cell(cells: np.ndarray) -> tuple[list[str | None], np.ndarray]:
+    """(not-fitted mark per distinct cell, code per line); code 0 is the empty cell."""
+    filled = np.flatnonzero(cells != "")
+    codes = np.zeros(len(cells), dtype=np.int64)
+    if not len(filled):
+        return [None], codes
+    sub, uniq = pd.factorize(cells[filled])
+    codes[filled] = sub + 1
+    return [None, *(not_fitted_mark(str(u)) for u in uniq)], codes
 
 
 def _fitted_cell(cell: str, negative: bool) -> tuple[bool, bool]:
@@ -1044,8 +1076,8 @@ def _placements(cap_idx: np.ndarray, des: _Designators, line: dict[str, np.ndarr
     return pd.DataFrame(series, columns=list(PLACEMENT_COLUMNS), copy=False)
 
 
-def _placement_findings(placements: pd.DataFrame, combos: list[_Combo], combo_code: np.ndarray,
-                        cap_idx: np.ndarray, des: _Designators) -> list[ImportFinding]:
+def _placement_findings(placements: pd.DataFrame, combos: list[_Combo],
+                        combo_code: np.ndarray) -> list[ImportFinding]:
     """Column conflicts on fitted placements, and designators listed more than once."""
     out: list[ImportFinding] = []
     if not len(placements):

@@ -247,20 +247,31 @@ def _read_text(path: str, data: bytes, text: str, encoding: str,
     headers = [c.strip() for c in parsed[h]]
     header_line = h + 1
     start = offsets[h + 1] if h + 1 < len(offsets) else len(text)
+    source: str | io.BytesIO
     if encoding in ("utf-8", "utf-8-sig"):
-        # Hand pandas the file's own bytes from the first data line: no re-encoding.
-        buf = data
-        offset = (3 if data.startswith(b"\xef\xbb\xbf") else 0) + len(text[:start].encode("utf-8"))
+        bom = data.startswith(b"\xef\xbb\xbf")
+        buf, offset = data, (3 if bom else 0) + len(text[:start].encode("utf-8"))
+        codec = "utf-8-sig" if bom else "utf-8"
+        preamble = data[:offset]
+        if b'"' in preamble or b"\r" in preamble.replace(b"\r\n", b""):
+            # pandas would count these lines differently: hand it the bytes from the first
+            # data line instead.
+            source, skip = io.BytesIO(data), 0
+            source.seek(offset)
+            codec = "utf-8"
+        else:
+            # pandas reads the file itself (in parallel threads for a large file), skipping the
+            # lines down to the header: no re-encoding, no copy.
+            source, skip = path, header_line
     else:
-        buf, offset = text[start:].encode("utf-8"), 0
+        buf, offset, skip, codec = text[start:].encode("utf-8"), 0, 0, "utf-8"
+        source = io.BytesIO(buf)
     shape = _line_shape(buf, offset)
-    stream = io.BytesIO(buf)
-    stream.seek(offset)
     # Exports written with ", " between cells: skip the spaces in the parser (it costs, so only
     # when the leading lines show it).
     spaced = sum(f"{delim} " in ln for ln in lines[h:]) > (len(lines) - h) // 2
-    frame, rows = _parse_body(text, start, stream, shape, delim, len(headers), header_line,
-                              spaced=spaced)
+    frame, rows = _parse_body(text, start, (source, skip, codec), shape, delim, len(headers),
+                              header_line, spaced=spaced)
     width = frame.shape[1]
     headers = headers + [""] * (width - len(headers))
     return _finish(path, FORMAT_OF_DELIMITER[delim], encoding, None, header_line, headers,
@@ -288,10 +299,11 @@ def _line_shape(buf: bytes, offset: int) -> _LineShape:
     return _LineShape(count, lone_cr)
 
 
-def _parse_body(text: str, start: int, stream: io.BytesIO, shape: _LineShape, delim: str,
-                width: int, header_line: int, *, spaced: bool) -> tuple[pd.DataFrame, np.ndarray]:
-    """Parse the lines from ``text[start:]`` (as UTF-8 in ``stream``) with the pandas C engine,
-    every cell as text.
+def _parse_body(text: str, start: int, source: tuple[str | io.BytesIO, int, str],
+                shape: _LineShape, delim: str, width: int, header_line: int, *,
+                spaced: bool) -> tuple[pd.DataFrame, np.ndarray]:
+    """Parse the lines from ``text[start:]`` with the pandas C engine, every cell as text;
+    ``source`` is (path or UTF-8 stream, lines to skip, codec).
 
     The fast path maps frame row i to line header_line + 1 + i; when the records do not line up
     with physical lines (quoted line breaks, lone CR line ends) or a row is wider than the header,
@@ -308,9 +320,9 @@ def _parse_body(text: str, start: int, stream: io.BytesIO, shape: _LineShape, de
             # sends the file to the exact path, which keeps them.
             warnings.simplefilter("error", pd.errors.ParserWarning)
             frame = pd.read_csv(
-                stream, sep=delim, header=None, dtype=object, na_filter=False,
-                skip_blank_lines=False, skipinitialspace=spaced, engine="c",
-                encoding="utf-8", names=list(range(width)), quoting=csv.QUOTE_MINIMAL,
+                source[0], skiprows=source[1], sep=delim, header=None, dtype=object,
+                na_filter=False, skip_blank_lines=False, skipinitialspace=spaced, engine="c",
+                encoding=source[2], names=list(range(width)), quoting=csv.QUOTE_MINIMAL,
                 index_col=False,
             )
     except (pd.errors.ParserError, pd.errors.ParserWarning, ValueError, UnicodeDecodeError):

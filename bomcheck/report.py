@@ -96,6 +96,7 @@ class Report:
     cautions: tuple[str, ...] = CAUTIONS
     rules: Any = None  # the RuleSet in force, for renderers that list it
     waiver_findings: tuple = ()  # bomcheck.waivers.WaiverFinding: applied, expired, unused...
+    groups: tuple[dict, ...] = ()  # banks and series stacks with their totals (bomcheck.circuit)
 
     @property
     def status(self) -> str:
@@ -159,6 +160,7 @@ class Report:
             "design_unmatched": list(self.design_unmatched),
             "import_findings": [f.to_dict() for f in self.import_findings],
             "waivers": [f.to_dict() for f in self.waiver_findings],
+            "groups": list(self.groups),
         }
 
     def to_json(self) -> str:
@@ -234,6 +236,9 @@ def _placement_texts(table: pd.DataFrame, verdicts: pd.DataFrame) -> list[str]:
     conditions = [f'{c[:-1]},"design_row":{"null" if pd.isna(r) else int(r)}}}'
                   for c, r in zip(conditions.tolist(), rows.tolist())]
     metrics = _fragments(table, METRIC_FIELDS)
+    from bomcheck.circuit import json_metric_texts  # circuit metrics, only where computed
+
+    metrics = [m[:-1] + x + "}" for m, x in zip(metrics.tolist(), json_metric_texts(table))]
     head = [
         f'{{"refdes":{_encode(r)},"row":{int(row)},"text":{_encode(text)},"status":"{st}",'
         for r, row, text, st in zip(table["refdes"], table["row"], table["text"], table["status"])

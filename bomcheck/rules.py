@@ -2,8 +2,8 @@
 
 A rule set is a TOML file (schema: ``bomcheck/schemas/rules.schema.json``) with a ``[ruleset]``
 table, ``[[rule]]`` entries and optional typical data (``[dc_bias]``, ``[aging]``,
-``[typical_ratings]``) for the stress
-stage. Shipped sets live in the package ``bomcheck.rulesets``; users pass their own files by path.
+``[typical_ratings]``, ``[circuit]``) for the
+stress stage. Shipped sets live in the package ``bomcheck.rulesets``; users pass their own files by path.
 Every limit is converted once, at load, to the SI quantity of the metric it limits. Every problem in
 every file is collected and raised together as one ``RuleError``.
 """
@@ -390,6 +390,8 @@ class RuleSet:
     dc_bias: DcBias | None = None
     aging: Aging | None = None
     typical: TypicalRatings | None = None
+    # The [circuit] table as read (schema-checked): typical data and options of bomcheck.circuit.
+    circuit: dict[str, Any] | None = None
 
     def rule(self, rule_id: str) -> Rule:
         """The rule with this id (KeyError if absent)."""
@@ -490,6 +492,7 @@ def load_rules(specs: Sequence[str] | str = ()) -> RuleSet:
         dc_bias=state.dc_bias,
         aging=state.aging,
         typical=state.typical,
+        circuit=state.circuit,
     )
 
 
@@ -502,6 +505,7 @@ class _State:
     dc_bias: DcBias | None = None
     aging: Aging | None = None
     typical: TypicalRatings | None = None
+    circuit: dict[str, Any] | None = None
     problems: list[RuleProblem] = field(default_factory=list)
 
 
@@ -527,6 +531,7 @@ class _File:
     dc_bias: DcBias | None
     aging: Aging | None
     typical: TypicalRatings | None = None
+    circuit: dict[str, Any] | None = None
 
 
 def _locate(spec: str, base: Path | None) -> tuple[str, str, Path | None]:
@@ -612,6 +617,8 @@ def _merge(f: _File, state: _State, stack: tuple[str, ...], check_ids: bool) -> 
     state.dc_bias = f.dc_bias or state.dc_bias
     state.aging = f.aging or state.aging
     state.typical = f.typical or state.typical
+    if f.circuit:  # key by key, so that a set extending another may change one option
+        state.circuit = {**(state.circuit or {}), **f.circuit}
     state.layers.append(Layer(f.head.name, f.head.title, f.head.version, f.display, f.extends))
     if not stack:
         state.top.append(f.head)
@@ -1050,7 +1057,8 @@ def _build_file(doc: dict, display: str, out: list[tuple[tuple, RuleProblem]]) -
     extends = head_raw.get("extends")
     return _File(display, head, [r for r in rules if r is not None], sources, enable, disable,
                  extends if isinstance(extends, str) else None, dc_bias, aging,
-                 _typical(doc.get("typical_ratings")))
+                 _typical(doc.get("typical_ratings")),
+                 dict(doc["circuit"]) if isinstance(doc.get("circuit"), dict) else None)
 
 
 __all__ = [

@@ -27,6 +27,8 @@ SI_UNITS = {
     "frequency": "Hz",
     "thermal_resistance": "delta_degC / W",
     "slew": "V / s",
+    "charge": "uC",  # stored charge, in microcoulombs (the size of the safety limits)
+    "resistance_per_volt": "ohm / V",
     "dimensionless": "",
 }
 
@@ -134,6 +136,8 @@ _EXAMPLES = {
     "frequency": "'100 kHz'",
     "thermal_resistance": "'40 delta_degC/W'",
     "slew": "'12 V/ms'",
+    "charge": "'45 uC'",
+    "resistance_per_volt": "'0.1 ohm/V'",
     "dimensionless": "'0.6' or '60 %'",
 }
 

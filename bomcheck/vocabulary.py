@@ -86,3 +86,126 @@ INPUT_LABELS: dict[str, str] = {
     "c_min_f": "required capacitance (c_min_f in the design sheet)",
     "life_h": "required life (life_h in the design sheet)",
 }
+
+
+# --- Circuit-level stresses (bomcheck.circuit, bomcheck.parts) --------------------------------
+# Kept in one block: the design-sheet conditions of groups and drives, the metrics computed from
+# them and the parts data, and the labels of their inputs.
+
+CONDITIONS.update({
+    "r_balance_ohm": ("resistance", "ohm"),  # balancing resistor across one series-stack member
+    "r_balance_tol_pct": ("dimensionless", "%"),
+    "r_bleeder_ohm": ("resistance", "ohm"),  # discharge path across the placement, bank or stack
+    "v_safe_v": ("voltage", "V"),  # safe voltage of the discharge requirement
+    "t_discharge_max_s": ("seconds", "s"),  # time allowed to fall to v_safe_v
+    "slew_v_per_s": ("slew", "V / s"),  # rate of rise of the rail at switch-on
+    "r_source_ohm": ("resistance", "ohm"),  # effective series resistance of the feeding circuit
+    "i_ripple_a": ("current", "A"),  # rms ripple current (a bank's is shared by its members)
+    "f_ripple_hz": ("frequency", "Hz"),
+})
+
+METRICS.update({
+    m.name: m
+    for m in (
+        Metric("c_max_f", "capacitance", "F", "maximum capacitance: nominal + positive tolerance",
+               ("capacitance_f",), explain="maximum "),
+        Metric("v_stored_v", "voltage", "V", "worst voltage the placement holds: applied peak, "
+               "or sqrt(2) x AC rms for AC-rated parts", ("v_dc",), explain="held "),
+        Metric("energy_j", "energy", "J", "stored energy 1/2 C V^2 at the maximum capacitance "
+               "and the worst voltage held", ("capacitance_f", "v_stored_v"),
+               explain="1/2 x {c_max_f:F} x ({v_stored_v:V})^2 = "),
+        Metric("node_v", "voltage", "V", "voltage across the placement's node: a series stack's "
+               "whole voltage, a bank's rail, else the placement's own", ("v_dc",),
+               explain="node "),
+        Metric("node_c_f", "capacitance", "F", "maximum capacitance on the node: a series "
+               "stack's series combination, a bank's sum, else the placement's own",
+               ("capacitance_f",), explain="node "),
+        Metric("node_energy_j", "energy", "J", "stored energy of the node, 1/2 C V^2",
+               ("capacitance_f", "node_v"), explain="{node_c_f:F} at {node_v:V} stores "),
+        Metric("shock_energy_j", "energy", "J", "node energy where the node holds at least "
+               "100 V (the shock-hazard practice); none below 100 V", ("node_energy_j",),
+               explain="{node_c_f:F} at {node_v:V} stores "),
+        Metric("r_discharge_ohm", "resistance", "ohm", "discharge resistance across the node: "
+               "the bleeder, in parallel with a series stack's balancing resistors",
+               ("r_bleeder_ohm",), explain="discharge resistance "),
+        Metric("v_safe_used_v", "voltage", "V", "safe voltage of the discharge time: v_safe_v, "
+               "else the rule set's default", ("v_safe_v",), explain="safe voltage "),
+        Metric("discharge_s", "seconds", "s", "time for the node to fall to the safe voltage, "
+               "t = R C ln(V0 / V_safe); 0 where it starts at or below it",
+               ("r_discharge_ohm", "node_v"),
+               explain="{node_v:V} through {r_discharge_ohm:ohm} and {node_c_f:F} to "
+                       "{v_safe_used_v:V} in "),
+        Metric("discharge_ratio", "dimensionless", "", "discharge time to the safe voltage / "
+               "the time the design allows", ("discharge_s", "t_discharge_max_s"), True,
+               "{discharge_s:s} to {v_safe_used_v:V} / {t_discharge_max_s:s} allowed = "),
+        Metric("t_to_60v_s", "seconds", "s", "time for the node to fall to 60 V after "
+               "disconnection; 0 where it holds 60 V or less", ("r_discharge_ohm", "node_v"),
+               explain="{node_v:V} through {r_discharge_ohm:ohm} and {node_c_f:F} falls to "
+                       "60 V in "),
+        Metric("v_after_1s_v", "voltage", "V", "node voltage 1 s after disconnection",
+               ("r_discharge_ohm", "node_v"),
+               explain="{node_v:V} through {r_discharge_ohm:ohm} and {node_c_f:F} after 1 s: "),
+        Metric("charge_after_5s_uc", "charge", "uC", "charge left on the node 5 s after "
+               "disconnection", ("r_discharge_ohm", "node_v"),
+               explain="{node_c_f:F} from {node_v:V} through {r_discharge_ohm:ohm} after 5 s: "),
+        Metric("surge_a", "current", "A", "peak surge current at switch-on: C dV/dt from the "
+               "rail's slew rate, else V / R from the source resistance", ("capacitance_f",),
+               explain="surge "),
+        Metric("surge_ratio", "dimensionless", "", "surge current / the part's surge current "
+               "rating", ("surge_a", "surge_rated_a"), True,
+               "{surge_a:A} surge / {surge_rated_a:A} rated = "),
+        Metric("series_r_ohm", "resistance", "ohm", "effective series circuit resistance "
+               "feeding the part", ("r_source_ohm",), explain="series resistance "),
+        Metric("series_r_ohm_per_v", "resistance_per_volt", "ohm/V", "series circuit "
+               "resistance per volt applied", ("r_source_ohm", "applied_peak_v"),
+               explain="{series_r_ohm:ohm} / {applied_peak_v:V} = "),
+        Metric("ripple_power_w", "power", "W", "ripple dissipation I^2 x ESR",
+               ("i_ripple_a", "esr_ohm"), explain="ripple dissipation "),
+        Metric("ripple_rise_c", "temperature_delta", "degC", "temperature rise from ripple "
+               "heating: I^2 x ESR x thermal resistance", ("i_ripple_a", "esr_ohm"),
+               explain="{ripple_power_w:W} ripple dissipation gives a rise of "),
+        Metric("ripple_allowed_a", "current", "A", "rated ripple current x frequency "
+               "multiplier x temperature multiplier", ("ripple_rated_a",), explain="allowed "),
+        Metric("ripple_ratio", "dimensionless", "", "ripple current / the allowed ripple "
+               "current", ("i_ripple_a", "ripple_rated_a"), True,
+               "{i_ripple_a:A} rms / {ripple_allowed_a:A} allowed = "),
+        Metric("life_est_h", "time", "h", "estimated life L0 x 2^((T0 - T)/10), with the ripple "
+               "factor 2^(-dT/5) where the rule set asks for it", ("life_l0_h", "t_ambient_c"),
+               explain="estimated "),
+        Metric("life_ratio", "dimensionless", "", "estimated life / required life",
+               ("life_l0_h", "life_h"), True,
+               "{life_est_h:h} estimated / {life_h:h} required = "),
+        Metric("v_share_cap_v", "voltage", "V", "series-stack member's worst share of the "
+               "stack's DC upper bound by capacitive division (tolerances at their extremes)",
+               ("v_dc",), explain="capacitive share "),
+        Metric("v_share_dc_v", "voltage", "V", "series-stack member's worst DC steady-state "
+               "share from the balancing resistors and leakage currents", ("r_balance_ohm",),
+               explain="resistive share "),
+        Metric("bank_c_min_f", "capacitance", "F", "capacitance the bank the placement belongs "
+               "to must provide (the bank's c_min_f)", ("c_min_f",), explain="bank needs "),
+        Metric("bank_c_worst_f", "capacitance", "F", "sum of the bank members' worst-case "
+               "minimum capacitances", ("capacitance_f",), explain="bank worst case "),
+        Metric("bank_c_margin", "dimensionless", "", "bank worst-case capacitance / the bank's "
+               "requirement", ("capacitance_f", "bank_c_min_f"), True,
+               "{bank_c_worst_f:F} bank worst case / {bank_c_min_f:F} required = "),
+    )
+})
+
+INPUT_LABELS.update({
+    "esr_ohm": "ESR (parts data, --parts)",
+    "ripple_rated_a": "rated ripple current (parts data, --parts)",
+    "surge_rated_a": "surge current rating (parts data, --parts)",
+    "life_l0_h": "rated life L0 (parts data, --parts)",
+    "i_ripple_a": "ripple current (i_ripple_a in the design sheet)",
+    "r_source_ohm": "series circuit resistance (r_source_ohm in the design sheet)",
+    "r_bleeder_ohm": "discharge resistance (r_bleeder_ohm in the design sheet)",
+    "r_balance_ohm": "balancing resistance (r_balance_ohm in the design sheet)",
+    "r_discharge_ohm": "discharge resistance (r_bleeder_ohm in the design sheet, or a series "
+                       "stack's balancing resistors)",
+    "t_discharge_max_s": "discharge time limit (t_discharge_max_s in the design sheet)",
+    "node_v": "node voltage (v_dc in the design sheet)",
+    "node_energy_j": "node voltage and capacitance (v_dc in the design sheet, value in the BOM)",
+    "surge_a": "surge current (slew_v_per_s or r_source_ohm in the design sheet)",
+    "bank_c_min_f": "bank requirement (c_min_f of the bank row in the design sheet)",
+    "v_stored_v": "voltage held (v_dc or v_ac_rms in the design sheet)",
+})

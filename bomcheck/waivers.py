@@ -1,4 +1,4 @@
-"""Evaluate stage, after the rules: approved deviations (waivers) turn matching verdicts into "waived".
+"""Evaluate stage, after the rules: approved deviations turn matching verdicts into "waived".
 
 A waiver names a designator (or a list, range or pattern), one rule id, the reason, who approved
 it and the last day it is valid, and optionally the BOM line text it was granted for. It waives
@@ -60,7 +60,7 @@ _SHOW = 8  # designators named in one finding message before "and N more"
 
 @dataclass(frozen=True, order=True)
 class Waiver:
-    """One approved deviation as read from a waiver file (``row``: CSV line or TOML entry number)."""
+    """One approved deviation from a waiver file (``row``: CSV line or TOML entry number)."""
 
     row: int
     refdes: str
@@ -250,7 +250,7 @@ def _designator_parts(pattern: str) -> tuple[set[str], list[str]]:
 
 def _designator_mask(refdes_upper: pd.Series, waiver: Waiver) -> np.ndarray:
     names, globs = _designator_parts(waiver.refdes)
-    mask = refdes_upper.isin(names).to_numpy()
+    mask = refdes_upper.isin(names).to_numpy(dtype=bool, copy=True)
     for g in globs:
         mask |= refdes_upper.str.match(fnmatch.translate(g)).to_numpy(dtype=bool)
     return mask
@@ -276,12 +276,13 @@ def waive_verdicts(verdicts: pd.DataFrame, table: pd.DataFrame, waivers: Sequenc
     """Apply ``waivers`` (in file order) to the verdict table of an audit.
 
     ``table`` gives each placement's BOM text (column ``text``, index = ``pidx``). Returns the new
-    verdicts, with a ``waived_from`` column (the original status of each waived verdict, else
-    None), and one finding per waiver (plus one for the placements whose BOM text changed).
-    A waiver is valid through its ``expires`` day.
+    verdicts, with columns ``waived_from`` (the original status of each waived verdict, else
+    None) and ``waiver_reason``, and one finding per waiver (plus one for the placements whose
+    BOM text changed). A waiver is valid through its ``expires`` day.
     """
     v = verdicts.copy()
     v["waived_from"] = pd.Series(None, index=v.index, dtype=object)
+    v["waiver_reason"] = pd.Series(None, index=v.index, dtype=object)
     refdes_upper = v["refdes"].astype(str).str.upper()
     table_refdes = table["refdes"].astype(str).str.upper()
     rule_ids = v["rule_id"].astype(str)
@@ -326,6 +327,7 @@ def waive_verdicts(verdicts: pd.DataFrame, table: pd.DataFrame, waivers: Sequenc
         idx = v.index[hit]
         original = v.loc[idx, "status"].astype(str)
         v.loc[idx, "waived_from"] = original
+        v.loc[idx, "waiver_reason"] = w.reason
         v.loc[idx, "status"] = "waived"
         v.loc[idx, "message"] = (
             v.loc[idx, "message"].astype(str) + "; waived (was " + original + ") by "

@@ -44,7 +44,7 @@ STATUS_PALETTE: dict[str, tuple[str, str, bool]] = {
     "nodata": ("8E9CC2", "1B1F24", True),  # slate wisteria
     "warn": ("E9D8A6", "1B1F24", False),   # sand
     "pass": ("E3EBE8", "3B4148", False),   # pale sage grey
-    "waived": ("D6D1C8", "3B4148", False),  # stone
+    "waived": ("E2DED6", "3B4148", False),  # pale stone
 }
 HEADER_FILL = "DCE1E6"
 HEADER_RULE = "8A939C"
@@ -83,8 +83,8 @@ class _Kind:
 _KINDS: dict[str, _Kind] = {
     "text": _Kind(None),
     "bool": _Kind(None),
-    "int": _Kind("0"),
-    "num": _Kind("General"),
+    "int": _Kind(None),  # General shows whole numbers as they are: no style needed
+    "num": _Kind(None),
     "V": _Kind('General" V"'),
     "degC": _Kind('General" °C"'),
     "uF": _Kind('General" uF"', 1e6, "uF"),
@@ -136,16 +136,31 @@ def write_workbook(report, path: str | os.PathLike, *, generated: datetime | Non
     """
     target = Path(path)
     tmp = target.with_name(f".{target.name}.{os.getpid()}.{secrets.token_hex(4)}.tmp")
+    book = None
     try:
-        wb = _Book(report, generated).build()
-        wb.save(tmp)
+        book = _Book(report, generated)
+        book.build().save(tmp)
         os.replace(tmp, target)
     except OSError as exc:
-        tmp.unlink(missing_ok=True)
+        _discard(book, tmp)
         raise InputError(f"cannot write workbook: {exc.strerror or exc}", path=str(path)) from None
     except BaseException:
-        tmp.unlink(missing_ok=True)
+        _discard(book, tmp)
         raise
+
+
+def _discard(book: _Book | None, tmp: Path) -> None:
+    """After a failure: delete the temporary file and close the sheets' streams (openpyxl
+    removes their own temporary files at exit)."""
+    tmp.unlink(missing_ok=True)
+    if book is None:
+        return
+    for ws in book.wb.worksheets:
+        if getattr(ws, "closed", True) is False:
+            try:
+                ws.close()
+            except Exception:  # a stream broken by the failure itself: nothing more to save
+                pass
 
 
 def safe_text(value: str) -> str:
@@ -233,13 +248,13 @@ class _Book:
         self._summary(summary)
         return self.wb
 
-    def _fit(self, n: int, what: str) -> int:
+    def _fit(self, n: int, what: str, order: str = "worst first") -> int:
         """Rows of ``what`` that fit on a sheet; notes a cut for Summary."""
         room = MAX_ROWS - 1
         if n <= room:
             return n
         self.notes.append(f"{what}: {n:,} rows exceed Excel's {MAX_ROWS:,}-row sheet limit; "
-                          f"the sheet holds the first {room:,} (worst first). The JSON report "
+                          f"the sheet holds the first {room:,} ({order}). The JSON report "
                           "holds them all.")
         return room
 
@@ -266,11 +281,15 @@ class _Book:
             _Column("designator", _text(ordered["refdes"]), width=12),
             _Column("status", _text(ordered["status"]),
                     [self.status_style(s) for s in ordered["status"]], width=9),
+            *([_Column("waived from", _text(gov["waived_from"]), width=11)]
+              if "waived_from" in gov else []),
             _Column("governing rule", _text(gov["rule_id"])),
             *self._metric_columns(gov, metric, ("value", "limit", "margin")),
-            _Column("BOM row", _numbers(ordered["row"], "int"), "bc int", width=9),
+            _Column("BOM row", _numbers(ordered["row"], "int"), width=9),
         ]
-        for name in ("value_text", "description", "mpn", "manufacturer", "qty", "text"):
+        # The source text holds the parsed BOM cells (value, description...); the MPN is not
+        # parsed but is how a reviewer finds the part.
+        for name in ("mpn", "text"):
             if name in ordered:
                 cols.append(self._field(ordered, name))
         for name in (*SPEC_FIELDS, *CONDITION_FIELDS, *METRIC_FIELDS):
@@ -279,15 +298,15 @@ class _Book:
         self._table("Placements", cols, len(ordered), freeze="C2")
 
     def _metric_columns(self, frame: pd.DataFrame, metric: pd.Series,
-                        names: Sequence[str], headers: Sequence[str] | None = None) -> list[_Column]:
+                        names: Sequence[str]) -> list[_Column]:
         """Verdict numbers (value, limit, margin) in the unit of each row's metric."""
         kinds = metric.map(_metric_kind).fillna("num")
         scale = kinds.map(lambda k: _KINDS[k].scale).astype(float)
-        styles = [f"bc {k}" for k in kinds]
+        styles = [f"bc {k}" if _KINDS[k].fmt else None for k in kinds]
         out = []
-        for name, header in zip(names, headers or names):
+        for name in names:
             values = pd.to_numeric(frame[name], errors="coerce").astype(float) * scale.to_numpy()
-            out.append(_Column(header, _floats(values), styles, width=11))
+            out.append(_Column(name, _floats(values), styles, width=11))
         return out
 
     def _field(self, frame: pd.DataFrame, name: str) -> _Column:
@@ -303,8 +322,8 @@ class _Book:
             return _Column(header, _text(series))
         if kind_name == "bool":
             return _Column(header, _bools(series), width=max(8, len(header) + 2))
-        return _Column(header, _numbers(series, kind_name), f"bc {kind_name}",
-                       width=max(10, len(header) + 2))
+        style = f"bc {kind_name}" if kind.fmt else None
+        return _Column(header, _numbers(series, kind_name), style, width=max(10, len(header) + 2))
 
     def _findings(self) -> None:
         r = self.report
@@ -330,7 +349,7 @@ class _Book:
             _Column("metric", _text(metric)),
             *self._metric_columns(v, metric, ("value", "limit", "warn_limit", "margin")),
             _Column("basis", _text(v["basis"])),
-            _Column("BOM row", _numbers(rows, "int"), "bc int", width=9),
+            _Column("BOM row", _numbers(rows, "int"), width=9),
             _Column("message", _text(v["message"]), width=90),
             _Column("source", _text(v["source"]), width=50),
         ]
@@ -339,6 +358,7 @@ class _Book:
     def _rules(self) -> None:
         rs = self.report.rules
         rules = list(rs.rules) if rs is not None else []
+        rules = rules[:self._fit(len(rules), "Rules", "in rule-set order")]
         rows: dict[str, list] = {h: [] for h in (
             "id", "title", "applies", "metric", "check", "fail limit", "warn limit",
             "fail value", "warn value", "curve over", "curve points", "severity", "enabled",
@@ -366,7 +386,7 @@ class _Book:
             rows["confidence"].append(rule.confidence)
             rows["rule set"].append(rule.origin)
             rows["rationale"].append(rule.rationale)
-            value_styles.append(f"bc {kind}")
+            value_styles.append(f"bc {kind}" if _KINDS[kind].fmt else None)
         widths = {"id": 16, "title": 44, "applies": 44, "fail limit": 30, "warn limit": 20,
                   "source": 50, "curve points": 36, "rationale": 90, "enabled": 9}
         cols = []
@@ -386,14 +406,14 @@ class _Book:
         entries += [{"refdes": d.get("refdes"), "row": d.get("row"), "kind": "not_in_bom",
                      "reason": d.get("reason"), "text": None, "file": "design sheet"}
                     for d in r.design_unmatched]
-        n = self._fit(len(entries), "Not audited")
+        n = self._fit(len(entries), "Not audited", "in row order")
         entries = entries[:n]
         cols = [
             _Column("kind", [_cell_text(d["kind"]) for d in entries], width=15),
             _Column("designator", [_cell_text(d["refdes"]) for d in entries], width=12),
             _Column("file", [d["file"] for d in entries], width=13),
             _Column("row", [None if d["row"] is None else int(d["row"]) for d in entries],
-                    "bc int", width=7),
+                    width=7),
             _Column("reason", [_cell_text(d["reason"]) for d in entries], width=60),
             _Column("text", [_cell_text(d["text"]) for d in entries], width=80),
         ]
@@ -597,44 +617,35 @@ class _Book:
             header.append(cell)
         ws.append(header)
         # openpyxl writes each appended row at once, so one styled cell per column and style
-        # can carry every row's value: no new cell or style lookup per value.
-        templates: dict[str, WriteOnlyCell] = {}
+        # can carry every row's value: no new cell and no style lookup per value.
+        templates: list[dict[str, WriteOnlyCell]] = [{} for _ in cols]
 
-        def template(key: tuple, style: str) -> WriteOnlyCell:
-            cell = templates.get(key)
+        def template(j: int, style: str) -> WriteOnlyCell:
+            cell = templates[j].get(style)
             if cell is None:
-                cell = templates[key] = WriteOnlyCell(ws)
+                cell = templates[j][style] = WriteOnlyCell(ws)
                 cell.style = style
             return cell
 
-        per_row = [isinstance(c.style, list) for c in cols]
-        fixed = [None if p else c.style for c, p in zip(cols, per_row)]
-        columns = [c.values for c in cols]
+        plan = [(j, c.values, c.style if isinstance(c.style, list) else None,
+                 None if isinstance(c.style, list) else c.style) for j, c in enumerate(cols)]
         for i in range(n):
             row = []
-            for j, values in enumerate(columns):
+            for j, values, per_row, fixed in plan:
                 v = values[i]
                 if v is None:
                     row.append(None)
                     continue
-                if type(v) is str:
-                    if v.startswith(UNSAFE_START) or v in ERROR_CODES:
-                        cell = template((j, "text"), "bc text")
-                        cell.value = v
-                        cell.data_type = "s"
-                        row.append(cell)
-                    elif per_row[j] and cols[j].style[i]:
-                        cell = template((j, cols[j].style[i]), cols[j].style[i])
-                        cell.value = v
-                        row.append(cell)
-                    else:
-                        row.append(v)
-                    continue
-                style = cols[j].style[i] if per_row[j] else fixed[j]
-                if style is None:
+                style = per_row[i] if per_row is not None else fixed
+                if type(v) is str and (v.startswith(UNSAFE_START) or v in ERROR_CODES):
+                    cell = template(j, style or "bc text")
+                    cell.value = v
+                    cell.data_type = "s"
+                    row.append(cell)
+                elif style is None:
                     row.append(v)
                 else:
-                    cell = template((j, style), style)
+                    cell = template(j, style)
                     cell.value = v
                     row.append(cell)
             ws.append(row)
@@ -666,10 +677,12 @@ def limit_lines(ruleset, t_min: float | None, t_max: float | None
         key = (tuple(round(x, 9) for x in xs), tuple(round(y, 9) for y in ys))
         shapes.setdefault(key, []).append(r.id)
     out = []
+    advisory = {r.id for r in rules if r.severity != "fail"}
     for (xs, ys), ids in shapes.items():
         fail = next(r.fail for r in rules if r.id == ids[0])
         label = fail.text("voltage_ratio") if not fail.is_curve else "curve"
-        out.append((f"limit {label}: {', '.join(ids)}", list(xs), list(ys)))
+        named = ", ".join(f"{i} (advisory)" if i in advisory else i for i in ids)
+        out.append((f"limit {label}: {named}", list(xs), list(ys)))
     return out
 
 

@@ -275,3 +275,23 @@ def test_sheet_option_on_a_text_table(tmp_path):
     path = tmp_path / "b.csv"
     path.write_text("Designator,Value\nC1,1n\n", encoding="utf-8")
     assert "not a workbook" in _one_line_error(path, sheet="BOM")
+
+
+def test_quoted_line_break_in_a_title_row(tmp_path):
+    text = '"Board KV-2210\nbill of materials"\nDesignator,Value\nC1,1n\nC2,2n\n'
+    t = read_table(_write(tmp_path / "b.csv", text))
+    assert t.header_row == 3 and _cells(t) == [["C1", "1n"], ["C2", "2n"]]
+    assert t.rows.tolist() == [4, 5]
+
+
+def test_large_file_read_in_parallel_keeps_rows(tmp_path):
+    # pandas reads files over a few MB in threads; the row numbers must still line up.
+    lines = ["Title", "Designator,Value,Description"]
+    lines += [f"C{i},{i % 97}nF,CAP CER {i % 97}nF 50V X7R 0402 {'x' * 40}"
+              for i in range(1, 80001)]
+    lines.insert(5000, "")  # line 5001 is blank: C4998 is on line 5000, C4999 on 5002
+    t = read_table(_write(tmp_path / "big.csv", "\n".join(lines) + "\n"))
+    assert len(t.frame) == 80000 and t.blank_rows == 1
+    assert t.rows[0] == 3 and t.rows[-1] == 80003
+    assert t.frame.iloc[4997, 0] == "C4998" and t.rows[4997] == 5000
+    assert t.frame.iloc[4998, 0] == "C4999" and t.rows[4998] == 5002
