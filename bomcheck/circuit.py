@@ -300,11 +300,13 @@ def apply(table: pd.DataFrame, data: Any, ruleset: Any = None, *,
 
     opts = CircuitOptions.from_ruleset(ruleset)
     groups = dict(groups or {})
-    t = table.copy()
+    t = table.copy(deep=False)  # every column changed below is replaced, never written in place
     extra: list[pd.DataFrame] = []
+    changed = np.zeros(len(t), dtype=bool)  # placements whose stress inputs the stage changes
     if parts is not None:
         t, conflicts = parts_mod.apply_parts(t, parts)
         extra.append(conflicts)
+        changed |= t["part_row"].notna().to_numpy()
     for name in (*parts_mod.PART_COLUMNS, "dc_bias_keep"):
         if name not in t.columns:
             t[name] = np.nan
@@ -315,7 +317,10 @@ def apply(table: pd.DataFrame, data: Any, ruleset: Any = None, *,
     minus, plus, tol_assumed = _tolerances(t, data.default_tol_pct)
     c_nom = _col(t, "capacitance_f")
     c_max = c_nom * (1.0 + plus / 100.0)
-    where = {str(r).strip().upper(): i for i, r in enumerate(t["refdes"].tolist())}
+    stacks = [g for g in groups.values() if g.kind == "series"]
+    banks = [g for g in groups.values() if g.kind == "bank"]
+    where = ({r: i for i, r in enumerate(t["refdes"].astype(str).str.strip().str.upper())}
+             if stacks or banks else {})
     n = len(t)
     share_cap = np.full(n, np.nan)
     share_dc = np.full(n, np.nan)
@@ -330,8 +335,6 @@ def apply(table: pd.DataFrame, data: Any, ruleset: Any = None, *,
     balance_missing: list[tuple[int, str]] = []
 
     # Series stacks: each member's worst share, before the stress stage sees the voltages.
-    stacks = [g for g in groups.values() if g.kind == "series"]
-    banks = [g for g in groups.values() if g.kind == "bank"]
     for g in stacks:
         pos, fitted, missing = _members(g, where)
         if not pos:
@@ -353,6 +356,7 @@ def apply(table: pd.DataFrame, data: Any, ruleset: Any = None, *,
                                     np.nan_to_num(leak, nan=0.0))
               if has_r else np.full(len(p), np.nan))
         share_cap[p], share_dc[p] = cap, dc
+        changed[p] = True
         share_generic[p] = tol_assumed.to_numpy()[p] | (has_r & np.isnan(r_tol))
         if not math.isnan(upper):
             t.loc[t.index[p], "v_dc"] = v_dc * series_f(c) / c
@@ -402,24 +406,28 @@ def apply(table: pd.DataFrame, data: Any, ruleset: Any = None, *,
     volts = stresses.applied_voltages(t)
     keep = parts_mod.curve_values(t, parts, "dc_bias", volts["applied_peak_v"])
     t["dc_bias_keep"] = keep.where(keep.notna(), _col(t, "dc_bias_keep"))
+    changed |= keep.notna().to_numpy()
 
     # Ripple heating feeds the self-heating; the larger of the stated and computed rise is used.
     i_rip = _col(t, "i_ripple_a")
-    rth_part = _col(t, "rth_c_per_w")
-    rth_generic = opts.generic_rth(_text(t, "package"))
-    rth = rth_part.fillna(rth_generic)
-    power, rise = ripple_heating(i_rip, _col(t, "esr_ohm"), rth)
+    esr = _col(t, "esr_ohm")
+    rth = _col(t, "rth_c_per_w")
+    rth_part = rth.notna()
+    need = (i_rip.notna() & esr.notna() & ~rth_part).to_numpy()
+    if need.any():
+        rth[need] = opts.generic_rth(t.loc[need, "package"] if "package" in t
+                                     else pd.Series("", index=t.index[need]))
+    power, rise = ripple_heating(i_rip, esr, rth)
     power, rise = pd.Series(power, index=t.index), pd.Series(rise, index=t.index)
     rise_governs = rise.notna() & ~(design_rise >= rise)
-    rise_generic = rise_governs & rth_part.isna()
-    out = stresses.compute(t.assign(t_rise_c=np.fmax(design_rise, rise)), data)
-    if "t_rise_c" in table.columns:  # the condition as given; the rise used is in t_operating_c
-        out["t_rise_c"] = table["t_rise_c"].to_numpy()
-    else:
-        out = out.drop(columns=["t_rise_c"])
+    rise_generic = rise_governs & ~rth_part
+    changed |= rise_governs.to_numpy()
+    out = _restress(t, changed, np.fmax(design_rise, rise), data)
     generic_t = rise_generic.to_numpy()
     out["t_operating_c_basis"] = np.where(generic_t, "generic", "")
-    out["temp_margin_c_basis"] = np.where(generic_t, "generic", _text(out, "temp_margin_c_basis"))
+    if generic_t.any():
+        out["temp_margin_c_basis"] = np.where(generic_t, "generic",
+                                              _text(out, "temp_margin_c_basis"))
     out["voltage_ratio_basis"] = np.where(share_generic, "generic", "")
 
     tmult = parts_mod.curve_values(t, parts, "ripple_temp_mult", _col(out, "t_ambient_c"))
@@ -447,7 +455,10 @@ def apply(table: pd.DataFrame, data: Any, ruleset: Any = None, *,
             gc = dict(groups[s["name"]].conditions)
             node_v[p] = np.max(v_stored.to_numpy()[p])
             node_c[p] = np.sum(c_max.to_numpy()[p])
-            r_dis[p] = gc.get("r_bleeder_ohm", np.nan)
+            # Every bleeder on the bank's node discharges all of it: the group's and the members'.
+            g_ohm = np.r_[_col(t, "r_bleeder_ohm").to_numpy()[p], gc.get("r_bleeder_ohm", np.nan)]
+            g_ohm = g_ohm[np.isfinite(g_ohm)]
+            r_dis[p] = 1.0 / np.sum(1.0 / g_ohm) if len(g_ohm) else np.nan
             if "c_min_f" in gc and gc["c_min_f"] > 0:
                 bank_min[p] = gc["c_min_f"]
                 bank_worst[p] = np.sum(c_worst[p])  # NaN when a member's is unknown
@@ -479,7 +490,8 @@ def apply(table: pd.DataFrame, data: Any, ruleset: Any = None, *,
               "series_r_ohm_per_v": series_r / _col(out, "applied_peak_v").to_numpy()})
 
     # Ripple and life.
-    alu = _text(out, "technology").isin(ALUMINIUM).to_numpy()
+    alu = (out["technology"].isin(ALUMINIUM).to_numpy() if "technology" in out
+           else np.zeros(n, dtype=bool))
     t0 = _col(t, "life_t0_c").fillna(_col(out, "temp_max_used_c"))
     life = electrolytic_life_h(_col(t, "life_l0_h"), t0, _col(out, "t_operating_c"),
                                rise.where(rise_governs), ripple_factor=opts.life_ripple_factor)
@@ -516,6 +528,28 @@ def apply(table: pd.DataFrame, data: Any, ruleset: Any = None, *,
     return CircuitResult(out, tuple(summaries), verdicts)
 
 
+def _restress(t: pd.DataFrame, changed: np.ndarray, rise: pd.Series, data: Any) -> pd.DataFrame:
+    """The stress stage again on the placements whose inputs the circuit stage changed (with the
+    self-heating ``rise``), its metric columns written back; the others keep theirs."""
+    from bomcheck import stresses
+
+    if not changed.any():
+        return t.copy(deep=False)
+    sub = stresses.compute(t.loc[changed].assign(t_rise_c=rise[changed]), data)
+    out = t.copy(deep=False)
+    for c in sub.columns:
+        if c == "t_rise_c":  # the condition stays as given; the rise used is in t_operating_c
+            continue
+        kind = sub[c].dtype.kind
+        if kind == "f" or c.endswith("_basis") or c.endswith("_note"):
+            base = (out[c].to_numpy(dtype=float if kind == "f" else object, copy=True)
+                    if c in out else np.full(len(out), np.nan if kind == "f" else "",
+                                             dtype=float if kind == "f" else object))
+            base[changed] = sub[c].to_numpy(dtype=base.dtype)
+            out[c] = base
+    return out
+
+
 def _balance_verdicts(table: pd.DataFrame, missing: list[tuple[int, str]]) -> pd.DataFrame:
     rows = [(i, table["refdes"].iat[i], SERIES_BALANCE, "nodata",
              f"{table['refdes'].iat[i]}: series stack {name}: no balancing resistance "
@@ -532,7 +566,7 @@ def json_metric_texts(table: pd.DataFrame) -> list[str]:
     written once; "" where none was."""
     import json
 
-    cols = [c for c in JSON_FIELDS if c in table.columns]
+    cols = [c for c in JSON_FIELDS if c in table.columns and table[c].notna().any()]
     n = len(table)
     if not cols or not n:
         return [""] * n

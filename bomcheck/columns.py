@@ -331,7 +331,8 @@ def map_columns(headers: Sequence[str], overrides: ColumnOverrides | None = None
             mapping[fld] = h
             used.add(h)
     if "refdes" not in mapping:
-        raise layout_error(headers, "refdes", path=path, overrides=ov)
+        raise layout_error(headers, "refdes", path=path, overrides=ov,
+                           taken=set(mapping.values()))
     if "value" not in mapping and "description" not in mapping:
         raise layout_error(headers, "value", path=path, overrides=ov,
                            taken=set(mapping.values()))

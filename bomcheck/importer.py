@@ -321,6 +321,10 @@ _SINGLE_SHAPE = re.compile(r"[ \t]*([A-Z_]+)9+[A-Z]?[ \t]*")
 # A plain forward range without leading zeros (C12-C15, C12-15): the common case, expanded here
 # exactly as bomcheck.refdes.expand does; anything else goes to expand itself.
 _SIMPLE_RANGE = re.compile(r"([A-Za-z_]+)([1-9]\d{0,5})\s*-\s*(?:\1)?([1-9]\d{0,5})")
+# What makes bomcheck.refdes.expand do more than split: range marks (and "to", and marks it
+# would strip such as "(DNP)" are not designators, so they fail the item test anyway).
+_RANGE_MARK = re.compile(r"-|\.\.|\u2013|:|\bto\b")
+_LIST_SPLIT = re.compile(r"[,;/\s]+")  # bomcheck.refdes splits lists on these
 
 
 @dataclass
@@ -347,6 +351,15 @@ def _expand_one(text: str) -> tuple[list[str], str | None, str | None, str]:
         if lo <= hi and hi - lo < MAX_RANGE:
             p = m.group(1).upper()
             return [f"{p}{k}" for k in range(lo, hi + 1)], None, None, p
+    elif not _RANGE_MARK.search(t):
+        # A list of single designators: expand would only split it and upper-case the items.
+        items = [i for i in _LIST_SPLIT.split(t.strip(",;")) if i]
+        matches = [_DESIGNATOR.match(i) for i in items]
+        if items and all(matches):
+            prefixes = {mt.group(1).upper() for mt in matches}  # type: ignore[union-attr]
+            if len(prefixes) == 1 or len({prefix_kind(p) for p in prefixes}) == 1:
+                first = matches[0].group(1).upper()  # type: ignore[union-attr]
+                return [i.upper() for i in items], None, None, first
     mark = not_fitted_mark(t)
     if mark:
         t = strip_not_fitted(t)
@@ -706,8 +719,13 @@ def read_bom(path: str, options: ImportOptions = ImportOptions()) -> ImportResul
         missing = None
     if missing is not None:
         # Say what the likeliest header row lacks (designator, or value and description).
-        if missing.best_guess:
-            colmod.map_columns(missing.best_guess, overrides, path=path)
+        try:
+            if missing.best_guess:
+                colmod.map_columns(missing.best_guess, overrides, path=path)
+        except InputError as err:
+            if missing.where:
+                err.problem += f" (searched {missing.where})"
+            raise err from None
         raise missing
     mapping = colmod.map_columns(list(table.frame.columns), overrides, path=path)
     # hashlib releases the GIL: the file's hash is computed beside the import.

@@ -57,12 +57,14 @@ class RawTable:
 
 
 class HeaderNotFound(InputError):
-    """No row among the first ones passed the header test; ``candidates`` holds those rows."""
+    """No row among the first ones passed the header test; ``candidates`` holds those rows and
+    ``where`` says which sheets were searched (None for a text table)."""
 
     def __init__(self, problem: str, *, path: str, candidates: list[list[str]],
-                 expected: str, hint: str | None = None) -> None:
+                 expected: str, hint: str | None = None, where: str | None = None) -> None:
         super().__init__(problem, path=path, expected=expected, hint=hint)
         self.candidates = candidates
+        self.where = where
 
     @property
     def best_guess(self) -> list[str]:
@@ -112,9 +114,12 @@ def read_table(path: str, *, sheet: str | int | None = None, encoding: str | Non
                          path=path, expected="an .xlsx workbook or a CSV/TSV text file",
                          hint="save it as .xlsx or .csv")
     if sheet is not None:
-        raise InputError("--sheet is given but the file is a text table, not a workbook",
+        raise InputError("a sheet was asked for, but the file is a text table, not a workbook",
                          path=path, text=str(sheet))
     text, used = _decode(path, data, encoding)
+    if not text.strip():  # only a byte-order mark, or spaces in UTF-16
+        raise InputError("the file is empty", path=path,
+                         expected="a BOM table (CSV, TSV or XLSX) with a header row")
     return _read_text(path, data, text, used, predicate)
 
 
@@ -476,27 +481,23 @@ def _read_xlsx(path: str, data: bytes, sheet: str | int | None,
             candidates = [chosen]
         else:
             candidates = wb.sheet_names
-        first_fail: HeaderNotFound | None = None
+        searched: list[list[str]] = []
         for name in candidates:
             head = wb.head(name, HEADER_SEARCH_ROWS * 4)
             h = _find_header(head, predicate)
-            if h is None:
-                if first_fail is None:
-                    where = (f"sheet {name!r}" if sheet is not None
-                             else "any sheet (" + ", ".join(map(repr, wb.sheet_names)) + ")")
-                    first_fail = HeaderNotFound(
-                        f"no header row with a designator column in the first "
-                        f"{HEADER_SEARCH_ROWS} rows of {where}",
-                        path=path, candidates=[r for r in head if any(r)][:HEADER_SEARCH_ROWS],
-                        expected="a header row naming a designator column such as Designator, "
-                                 "RefDes or Reference",
-                        hint="pick the sheet with --sheet or name the column with "
-                             "--columns refdes=HEADER",
-                    )
-                continue
-            return _xlsx_table(path, name, wb.rows(name), h)
-        assert first_fail is not None
-        raise first_fail
+            if h is not None:
+                return _xlsx_table(path, name, wb.rows(name), h)
+            searched.extend([r for r in head if any(r)][:HEADER_SEARCH_ROWS])
+        where = (f"sheet {candidates[0]!r}" if sheet is not None
+                 else "every sheet (" + ", ".join(map(repr, wb.sheet_names)) + ")")
+        raise HeaderNotFound(
+            f"no header row with a designator column in the first {HEADER_SEARCH_ROWS} rows "
+            f"of {where}",
+            path=path, candidates=searched, where=where,
+            expected="a header row naming a designator column such as Designator, RefDes or "
+                     "Reference",
+            hint="pick the sheet with --sheet or name the column with --columns refdes=HEADER",
+        )
     finally:
         wb.close()
 

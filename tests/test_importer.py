@@ -274,13 +274,18 @@ def test_fast_paths_agree_with_refdes_expand(text):
 
 
 @given(st.lists(st.tuples(st.sampled_from(["C", "CE", "c", "R"]), st.integers(1, 5000),
-                          st.integers(0, 6)), min_size=1, max_size=6))
-def test_range_fast_path_matches_expand(parts):
+                          st.integers(0, 6)), min_size=1, max_size=6),
+       st.sampled_from([", ", " ", "/", ";", ",", ", ,"]))
+def test_range_and_list_fast_paths_match_expand(parts, sep):
     texts = [f"{p}{n}-{p}{n + k}" if k else f"{p}{n}" for p, n, k in parts]
+    texts.append(sep.join(f"{p}{n}" for p, n, _ in parts))  # a plain list
     des = expand_lines(np.array(texts, dtype=object))
     for i, t in enumerate(texts):
-        got = des.lists.get(i) or [des.single[i]]
-        assert got == expand(t)
+        got = des.lists.get(i) or ([des.single[i]] if des.single[i] else [])
+        if i in des.error:  # only a list mixing C and R prefixes is refused
+            assert "mix capacitor and other prefixes" in des.error[i]
+        else:
+            assert got == expand(t)
 
 
 # ---------------------------------------------------------------------------------------------

@@ -221,7 +221,8 @@ def _one_line_error(path, **kwargs) -> str:
     return msg
 
 
-@pytest.mark.parametrize("content", [b"", b"\n\n  \r\n"])
+@pytest.mark.parametrize("content", [b"", b"\n\n  \r\n", b"\xef\xbb\xbf\r\n",
+                                     " \n".encode("utf-16")])
 def test_empty_file(tmp_path, content):
     path = tmp_path / "empty.csv"
     path.write_bytes(content)
