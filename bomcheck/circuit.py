@@ -23,6 +23,8 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
+from bomcheck.stresses import num_column, text_column
+
 # --------------------------------------------------------------------------------------------
 # Formulas (arrays in, arrays out; SI units).
 
@@ -238,16 +240,8 @@ class CircuitResult:
     verdicts: pd.DataFrame = field(default_factory=pd.DataFrame)
 
 
-def _col(table: pd.DataFrame, name: str) -> pd.Series:
-    if name in table.columns:
-        return pd.to_numeric(table[name], errors="coerce").astype(float)
-    return pd.Series(np.nan, index=table.index, dtype=float)
-
-
-def _text(table: pd.DataFrame, name: str) -> pd.Series:
-    if name in table.columns:
-        return table[name].astype(object).where(table[name].notna(), "").astype(str)
-    return pd.Series("", index=table.index, dtype=object)
+_col = num_column
+_text = text_column
 
 
 def _tolerances(table: pd.DataFrame, default_pct: float) -> tuple[pd.Series, pd.Series, pd.Series]:

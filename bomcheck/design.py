@@ -97,7 +97,6 @@ voltages, ``r_bleeder_ohm``, ``slew_v_per_s``, ``r_source_ohm``) stay in ``Group
 
 from __future__ import annotations
 
-import hashlib
 import re
 from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass, field, replace
@@ -942,21 +941,11 @@ def read_design(path: str, *, sheet: str | int | None = None) -> Design:
     ``sheet`` picks the XLSX sheet (name or 1-based index). Raises ``InputError`` for a file that
     cannot be read or a cell that cannot be used.
     """
-    p = Path(path)
-    try:
-        data = p.read_bytes()
-    except FileNotFoundError:
-        raise InputError("design sheet not found", path=str(path),
-                         expected="an existing CSV, TSV, XLSX or TOML file") from None
-    except OSError as exc:
-        raise InputError(f"cannot read the design sheet ({exc.strerror})", path=str(path)) from None
-    sha256 = hashlib.sha256(data).hexdigest()
-    if p.suffix.lower() == ".toml":
-        try:
-            text = data.decode("utf-8-sig")
-        except UnicodeDecodeError as exc:
-            raise InputError("TOML must be UTF-8", path=str(path),
-                             hint=f"undecodable byte at offset {exc.start}") from None
+    from bomcheck.reader import read_input, toml_text
+
+    data, sha256 = read_input(str(path), "design sheet")
+    if Path(path).suffix.lower() == ".toml":
+        text = toml_text(data, str(path))
         design = design_from_toml(text, path=str(path))
         extra = () if sheet is None else (f"{path}: a TOML design has no sheets; --sheet "
                                           "ignored",)

@@ -41,7 +41,6 @@ both values (the parts data is used).
 
 from __future__ import annotations
 
-import hashlib
 import re
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
@@ -179,21 +178,11 @@ def read_parts(path: str, *, sheet: str | int | None = None) -> PartsData:
     Raises ``InputError`` naming the file, row and column for a cell that cannot be used, an
     MPN given twice, or a file without an MPN column.
     """
-    p = Path(path)
-    try:
-        data = p.read_bytes()
-    except FileNotFoundError:
-        raise InputError("parts file not found", path=str(path),
-                         expected="an existing CSV, TSV, XLSX or TOML file") from None
-    except OSError as exc:
-        raise InputError(f"cannot read the parts file ({exc.strerror})", path=str(path)) from None
-    sha256 = hashlib.sha256(data).hexdigest()
-    if p.suffix.lower() == ".toml":
-        try:
-            text = data.decode("utf-8-sig")
-        except UnicodeDecodeError as exc:
-            raise InputError("TOML must be UTF-8", path=str(path),
-                             hint=f"undecodable byte at offset {exc.start}") from None
+    from bomcheck.reader import read_input, toml_text
+
+    data, sha256 = read_input(str(path), "parts file")
+    if Path(path).suffix.lower() == ".toml":
+        text = toml_text(data, str(path))
         parts = parts_from_toml(text, path=str(path))
     else:
         from bomcheck.reader import HeaderNotFound, read_table

@@ -76,6 +76,30 @@ class HeaderNotFound(InputError):
         return [c for c in best]
 
 
+def read_input(path: str, what: str) -> tuple[bytes, str]:
+    """The bytes of an input file and their SHA-256; ``what`` names it in errors ("parts file")."""
+    try:
+        with open(path, "rb") as f:
+            data = f.read()
+    except FileNotFoundError:
+        raise InputError(f"{what} not found", path=str(path),
+                         expected="an existing CSV, TSV, XLSX or TOML file") from None
+    except OSError as exc:
+        raise InputError(f"cannot read the {what} ({exc.strerror})", path=str(path)) from None
+    import hashlib
+
+    return data, hashlib.sha256(data).hexdigest()
+
+
+def toml_text(data: bytes, path: str) -> str:
+    """The text of a TOML input file (UTF-8, with or without a byte-order mark)."""
+    try:
+        return data.decode("utf-8-sig")
+    except UnicodeDecodeError as exc:
+        raise InputError("TOML must be UTF-8", path=str(path),
+                         hint=f"undecodable byte at offset {exc.start}") from None
+
+
 def _default_predicate() -> Callable[[list[str]], bool]:
     from bomcheck.columns import has_designator_column
 

@@ -40,14 +40,15 @@ class StressData:
     typical_temp_max_c: Mapping[str, float] = field(default_factory=dict)
 
 
-def _col(table: pd.DataFrame, name: str) -> pd.Series:
+def num_column(table: pd.DataFrame, name: str) -> pd.Series:
     """A float column, all-NaN when the table lacks it."""
     if name in table.columns:
         return pd.to_numeric(table[name], errors="coerce").astype(float)
     return pd.Series(np.nan, index=table.index, dtype=float)
 
 
-def _text(table: pd.DataFrame, name: str) -> pd.Series:
+def text_column(table: pd.DataFrame, name: str) -> pd.Series:
+    """A text column, "" for missing values and when the table lacks it."""
     if name in table.columns:
         return table[name].astype(object).where(table[name].notna(), "").astype(str)
     return pd.Series("", index=table.index, dtype=object)
@@ -59,12 +60,12 @@ def applied_voltages(table: pd.DataFrame) -> pd.DataFrame:
     The rail's upper bound is ``v_dc_max`` where given, else ``v_dc x (1 + v_tol_pct/100)``, else
     ``v_dc``. A ripple or transient not given is taken as none (0 V / the applied peak).
     """
-    v_dc = _col(table, "v_dc")
-    upper = _col(table, "v_dc_max")
-    from_tol = v_dc * (1.0 + _col(table, "v_tol_pct") / 100.0)
+    v_dc = num_column(table, "v_dc")
+    upper = num_column(table, "v_dc_max")
+    from_tol = v_dc * (1.0 + num_column(table, "v_tol_pct") / 100.0)
     upper = upper.fillna(from_tol).fillna(v_dc)
-    applied = upper + _col(table, "v_ripple_pk").fillna(0.0)
-    transient = np.fmax(applied, _col(table, "v_transient_pk"))
+    applied = upper + num_column(table, "v_ripple_pk").fillna(0.0)
+    transient = np.fmax(applied, num_column(table, "v_transient_pk"))
     return pd.DataFrame(
         {"v_upper_v": upper, "applied_peak_v": applied, "transient_peak_v": transient},
         index=table.index,
@@ -94,8 +95,8 @@ def _dc_bias_remaining(ratio: pd.Series, package: pd.Series, data: StressData) -
 
 
 def _aging_k(table: pd.DataFrame, data: StressData) -> pd.Series:
-    dielectric = _text(table, "dielectric")
-    cls = _col(table, "dielectric_class")
+    dielectric = text_column(table, "dielectric")
+    cls = num_column(table, "dielectric_class")
     by_code = dielectric.map(dict(data.aging_k)).astype(float)
     by_class = cls.map({2.0: data.aging_k.get("class2", np.nan),
                         3.0: data.aging_k.get("class3", np.nan),
@@ -114,32 +115,32 @@ def capacitance_worst_case(
     alpha x (T - 25 degC) at its worst; DC bias uses a per-part curve column ``dc_bias_keep``
     where the parts data gave one, else the generic curve (marked generic).
     """
-    nominal = _col(table, "capacitance_f")
-    tol_pct = _col(table, "tol_minus_pct")
-    tol_abs = _col(table, "tol_abs_f")
+    nominal = num_column(table, "capacitance_f")
+    tol_pct = num_column(table, "tol_minus_pct")
+    tol_abs = num_column(table, "tol_abs_f")
     tol_frac = (tol_pct / 100.0).fillna(tol_abs / nominal)
     tol_assumed = tol_frac.isna()
     tol_frac = tol_frac.fillna(data.default_tol_pct / 100.0)
 
-    cls = _col(table, "dielectric_class")
+    cls = num_column(table, "dielectric_class")
     class23 = cls.isin([2.0, 3.0])
     temp_loss = pd.Series(0.0, index=table.index)
-    temp_loss = temp_loss.mask(class23, _col(table, "cap_change_minus_pct") / 100.0)
+    temp_loss = temp_loss.mask(class23, num_column(table, "cap_change_minus_pct") / 100.0)
     temp_loss = temp_loss.mask(
-        cls == 1.0, _class1_loss(_col(table, "tc_ppm"), _col(table, "tc_tol_ppm"), t_operating_c)
+        cls == 1.0, _class1_loss(num_column(table, "tc_ppm"), num_column(table, "tc_tol_ppm"), t_operating_c)
     )
     temp_loss = temp_loss.fillna(0.0)
 
-    rated = _col(table, "voltage_v")
-    part_keep = _col(table, "dc_bias_keep")
-    generic_keep = _dc_bias_remaining(applied_peak_v / rated, _text(table, "package"), data)
+    rated = num_column(table, "voltage_v")
+    part_keep = num_column(table, "dc_bias_keep")
+    generic_keep = _dc_bias_remaining(applied_peak_v / rated, text_column(table, "package"), data)
     bias_keep = pd.Series(1.0, index=table.index)
     bias_keep = bias_keep.mask(class23, part_keep.fillna(generic_keep))
     bias_generic = class23 & part_keep.isna() & generic_keep.notna() & (generic_keep < 1.0)
     bias_unknown = class23 & part_keep.isna() & generic_keep.isna()
     bias_keep = bias_keep.fillna(1.0)
 
-    life = _col(table, "life_h")
+    life = num_column(table, "life_h")
     k = _aging_k(table, data)
     decades = np.log10(np.fmax(life, data.aging_t0_h) / data.aging_t0_h)
     aging_loss = (k / 100.0 * decades).fillna(0.0).clip(lower=0.0, upper=1.0)
@@ -147,7 +148,7 @@ def capacitance_worst_case(
 
     tol_factor = 1.0 - tol_frac
     c_worst = nominal * tol_factor * (1.0 - temp_loss) * bias_keep * (1.0 - aging_loss)
-    c_min = _col(table, "c_min_f")
+    c_min = num_column(table, "c_min_f")
 
     notes = pd.Series("", index=table.index, dtype=object)
     notes = notes.mask(tol_assumed, notes + f"tolerance not given, {data.default_tol_pct:g} % assumed; ")
@@ -174,9 +175,9 @@ def capacitance_worst_case(
 
 def rated_temp_max(table: pd.DataFrame, data: StressData) -> tuple[pd.Series, pd.Series]:
     """(rated maximum temperature, True where it is the typical value of the technology)."""
-    stated = _col(table, "temp_max_c")
-    tech = _text(table, "technology")
-    cls = _col(table, "dielectric_class")
+    stated = num_column(table, "temp_max_c")
+    tech = text_column(table, "technology")
+    cls = num_column(table, "dielectric_class")
     cls_text = cls.map({1.0: "1", 2.0: "2", 3.0: "3"}).fillna("").astype(str)
     by_class = (tech + "-class" + cls_text).where(tech == "ceramic", "")
     ratings = dict(data.typical_temp_max_c)
@@ -188,12 +189,13 @@ def rated_temp_max(table: pd.DataFrame, data: StressData) -> tuple[pd.Series, pd
 def compute(table: pd.DataFrame, data: StressData) -> pd.DataFrame:
     """The table with every metric column added (see ``bomcheck.vocabulary.METRICS``)."""
     volts = applied_voltages(table)
-    rated = _col(table, "voltage_v")
-    is_ac = _text(table, "voltage_kind") == "ac"
+    rated = num_column(table, "voltage_v")
+    is_ac = text_column(table, "voltage_kind") == "ac"
     dc_ratio = volts["applied_peak_v"] / rated
-    ac_ratio = _col(table, "v_ac_rms") / rated
-    polarized = table["polarized"].fillna(False).astype(bool) if "polarized" in table else False
-    t_operating = _col(table, "t_ambient_c") + _col(table, "t_rise_c").fillna(0.0)
+    ac_ratio = num_column(table, "v_ac_rms") / rated
+    polarized = (table["polarized"].astype(object).fillna(False).astype(bool) if "polarized" in table
+                 else pd.Series(False, index=table.index))
+    t_operating = num_column(table, "t_ambient_c") + num_column(table, "t_rise_c").fillna(0.0)
     temp_max, temp_assumed = rated_temp_max(table, data)
     metrics = pd.DataFrame(
         {
@@ -202,7 +204,7 @@ def compute(table: pd.DataFrame, data: StressData) -> pd.DataFrame:
             "transient_peak_v": volts["transient_peak_v"],
             "voltage_ratio": dc_ratio.where(~is_ac, ac_ratio),
             "transient_ratio": (volts["transient_peak_v"] / rated).where(~is_ac),
-            "reverse_ratio": (_col(table, "v_reverse_pk") / rated).where(polarized),
+            "reverse_ratio": (num_column(table, "v_reverse_pk") / rated).where(polarized),
             "rated_voltage_v": rated,
             "t_operating_c": t_operating,
             "temp_max_used_c": temp_max,
