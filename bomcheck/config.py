@@ -9,6 +9,7 @@ key             meaning (same as the ``bomcheck audit`` option)
 ==============  ===============================================================================
 design          design sheet path (``--design``)
 design_sheet    sheet of an XLSX design sheet (``--design-sheet``)
+parts           parts data keyed by MPN (``--parts``)
 rules           rule set name or path, or a list of them (``--rules``, in order)
 fail_on         ``fail``, ``warn``, ``nodata`` or ``new`` (``--fail-on``)
 warn_as         ``failure``, ``skipped`` or ``pass`` (``--warn-as``, JUnit)
@@ -48,10 +49,10 @@ CHOICES: dict[str, tuple[str, ...]] = {
     "fail_on": ("fail", "warn", "nodata", "new"),
     "warn_as": ("failure", "skipped", "pass"),
 }
-PATH_KEYS: tuple[str, ...] = ("design", "waivers", "baseline", "json", "junit", "markdown", "csv",
-                              "xlsx")
-KEYS: tuple[str, ...] = (*PATH_KEYS[:1], "design_sheet", "rules", "fail_on", "warn_as",
-                         *PATH_KEYS[1:])
+PATH_KEYS: tuple[str, ...] = ("design", "parts", "waivers", "baseline", "json", "junit", "markdown",
+                              "csv", "xlsx")
+KEYS: tuple[str, ...] = (*PATH_KEYS[:2], "design_sheet", "rules", "fail_on", "warn_as",
+                         *PATH_KEYS[2:])
 
 
 @dataclass(frozen=True)

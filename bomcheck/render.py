@@ -177,6 +177,7 @@ def print_audit(console: Console, report, *, show_all: bool = False) -> None:
     for d in report.design_unmatched:
         console.print(Text.assemble(status_text("nodata"), f" {d['reason']}"))
     print_waiver_findings(console, report.waiver_findings)
+    print_groups(console, getattr(report, "groups", ()))
     t = report.totals
     counts = "  ".join(f"[status.{s}]{s} {t.get(s, 0)}[/]"
                        for s in ("fail", "nodata", "warn", "waived", "pass"))
@@ -300,3 +301,33 @@ def print_diff(console: Console, diff, *, show_all: bool = False) -> None:
             more = f" and {len(names) - DEFAULT_ROWS} more" if len(names) > DEFAULT_ROWS else ""
             console.print(f"Placements {word}: {shown}{more}")
     console.print(Text("Baseline: " + summary_line(diff), style="heading"))
+
+
+def print_groups(console: Console, groups) -> None:
+    """Banks and series stacks: combined capacitance, worst case against the need, stored
+    energy and discharge, and each series member's worst voltage share."""
+    if not groups:
+        return
+    table = Table(title="Banks and series stacks", header_style="heading")
+    for col in ("group", "kind", "members", "node", "C eq", "C worst / need", "energy",
+                "discharge", "member shares (capacitive / DC)"):
+        table.add_column(col, overflow="fold")
+    for g in groups:
+        need = ""
+        if g.get("c_min_f"):
+            need = f"{fmt_si(g.get('c_worst_f'), 'F')} / {fmt_si(g['c_min_f'], 'F')}"
+            if g.get("c_margin") is not None:
+                need += f" = {g['c_margin']:.0%}"
+        discharge = ""
+        if g.get("discharge_s") is not None:
+            discharge = f"{g['discharge_s']:.3g} s via {fmt_si(g.get('r_discharge_ohm'), 'ohm')}"
+        shares = ", ".join(
+            f"{s['refdes']} {fmt_num(s.get('v_share_cap_v'), '{:.4g}')} / "
+            f"{fmt_num(s.get('v_share_dc_v'), '{:.4g}')} V" for s in g.get("shares") or ())
+        table.add_row(
+            g["name"], g["kind"], ", ".join(g["members"]), fmt_si(g.get("v_node_v"), "V"),
+            fmt_si(g.get("c_eq_f"), "F"), need, fmt_num(g.get("energy_j"), "{:.3g}", " J"),
+            discharge, shares,
+        )
+    console.print(table)
+

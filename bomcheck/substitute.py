@@ -1306,6 +1306,15 @@ def _spec_differences(o: Mapping[str, Any], a: Mapping[str, Any], footprint_chec
     return out
 
 
+def _row_codes(columns: Sequence[pd.Series]) -> np.ndarray:
+    """One code per row, equal for rows equal in every column (missing values equal)."""
+    key = np.zeros(len(columns[0]) if columns else 0, dtype=np.int64)
+    for col in columns:
+        codes, uniques = pd.factorize(col.to_numpy(dtype=object), use_na_sentinel=False)
+        key, _ = pd.factorize(key * (len(uniques) + 1) + codes)
+    return key
+
+
 def _differences(o_table: pd.DataFrame, a_table: pd.DataFrame, local: np.ndarray,
                  alt: Alternate, options: SubstituteOptions) -> list[Difference]:
     """The differences that matter on the replaced placements, each with its designators."""
@@ -1313,12 +1322,10 @@ def _differences(o_table: pd.DataFrame, a_table: pd.DataFrame, local: np.ndarray
     a = a_table.iloc[local]
     refdes = o["refdes"].astype(str).to_numpy(dtype=object)
     # Spec differences: once per distinct original spec (a BOM line), mapped to its placements.
-    key = (o["text"].astype(str) + "\x00" + o["mpn"].astype(object).fillna("").astype(str)
-           + "\x00" + a["voltage_v"].astype(str) + a["temp_max_c"].astype(str)
-           + a["capacitance_f"].astype(str))
-    codes, uniques = pd.factorize(key.to_numpy(dtype=object))
+    codes = _row_codes([o["text"], o["mpn"], a["voltage_v"], a["temp_max_c"],
+                        a["capacitance_f"], a["package"]])
     found: dict[tuple, list[str]] = {}
-    for k in range(len(uniques)):
+    for k in range(int(codes.max()) + 1 if len(codes) else 0):
         i = int(np.argmax(codes == k))
         for d in _spec_differences(o.iloc[i].to_dict(), a.iloc[i].to_dict(),
                                    alt.footprint_checked):

@@ -14,6 +14,7 @@ name = "kv-board"
 
 [tool.bomcheck]
 design = "hw/design.csv"
+parts = "hw/parts.csv"
 rules = ["industrial", "hw/overrides.toml"]
 fail-on = "warn"
 waivers = "hw/waivers.toml"
@@ -36,6 +37,7 @@ def test_found_in_a_parent_and_paths_resolved_against_it(project):
     assert cfg.path == str(project / "pyproject.toml")
     assert cfg.values == {
         "design": os.path.join("..", "design.csv"),
+        "parts": os.path.join("..", "parts.csv"),
         "rules": ["industrial", os.path.join("..", "overrides.toml")],  # a name stays a name
         "fail_on": "warn",
         "waivers": os.path.join("..", "waivers.toml"),
