@@ -202,7 +202,12 @@ def _block_codes(frame: pd.DataFrame) -> np.ndarray:
     """One code per row such that rows with equal values (NaN equal to NaN) share a code."""
     key = np.zeros(len(frame), dtype=np.int64)
     for col in frame.columns:
-        values = frame[col].to_numpy(dtype=object)
+        series = frame[col]
+        # Numbers factorize as floats (fast); text, flags and tuples as objects.
+        values = (series.to_numpy(dtype=float, na_value=np.nan)
+                  if pd.api.types.is_numeric_dtype(series.dtype)
+                  and not pd.api.types.is_bool_dtype(series.dtype)
+                  else series.to_numpy(dtype=object))
         codes, uniques = pd.factorize(values, use_na_sentinel=True)
         key = key * (len(uniques) + 1) + (codes + 1)
         key, _ = pd.factorize(key)
@@ -232,9 +237,10 @@ def _placement_texts(table: pd.DataFrame, verdicts: pd.DataFrame) -> list[str]:
     spec = _fragments(table, SPEC_FIELDS)
     # design_row differs on every placement: kept out of the shared fragment, spliced in after.
     conditions = _fragments(table, tuple(f for f in CONDITION_FIELDS if f != "design_row"))
-    rows = table["design_row"] if "design_row" in table else pd.Series(pd.NA, index=table.index)
-    conditions = [f'{c[:-1]},"design_row":{"null" if pd.isna(r) else int(r)}}}'
-                  for c, r in zip(conditions.tolist(), rows.tolist())]
+    rows = (pd.to_numeric(table["design_row"], errors="coerce") if "design_row" in table
+            else pd.Series(np.nan, index=table.index))
+    row_text = np.where(rows.isna(), "null", rows.fillna(0).astype(np.int64).astype(str))
+    conditions = [f'{c[:-1]},"design_row":{r}}}' for c, r in zip(conditions.tolist(), row_text)]
     metrics = _fragments(table, METRIC_FIELDS)
     from bomcheck.circuit import json_metric_texts  # circuit metrics, only where computed
 
