@@ -192,7 +192,8 @@ def test_xlsx_named_sheet_without_header(tmp_path):
         read_table(_workbook(tmp_path / "b.xlsx"), sheet=1)
 
 
-@pytest.mark.parametrize(("sheet", "problem"), [("Parts", "no such sheet"), (9, "no sheet number 9")])
+@pytest.mark.parametrize(("sheet", "problem"),
+                         [("Parts", "no such sheet"), (9, "no sheet number 9")])
 def test_xlsx_missing_sheet_lists_the_sheets(tmp_path, sheet, problem):
     with pytest.raises(InputError, match=problem) as err:
         read_table(_workbook(tmp_path / "b.xlsx"), sheet=sheet)
