@@ -150,12 +150,16 @@ def capacitance_worst_case(
     c_worst = nominal * tol_factor * (1.0 - temp_loss) * bias_keep * (1.0 - aging_loss)
     c_min = num_column(table, "c_min_f")
 
-    notes = pd.Series("", index=table.index, dtype=object)
-    notes = notes.mask(tol_assumed, notes + f"tolerance not given, {data.default_tol_pct:g} % assumed; ")
-    notes = notes.mask(bias_generic, notes + "DC-bias loss from the generic typical curve (common "
-                       "practice), give part data; ")
-    notes = notes.mask(bias_unknown, notes + "DC-bias loss not counted (voltage unknown); ")
-    notes = notes.mask(aging_unknown, notes + "aging not counted (no required life given); ")
+    flags = (tol_assumed, bias_generic, bias_unknown, aging_unknown)
+    texts = (f"tolerance not given, {data.default_tol_pct:g} % assumed",
+             "DC-bias loss from the generic typical curve (common practice), give part data",
+             "DC-bias loss not counted (voltage unknown)",
+             "aging not counted (no required life given)")
+    # One note per combination of the four flags, looked up by a 4-bit code (no per-row strings).
+    code = sum(f.to_numpy(dtype=bool).astype(np.int64) << i for i, f in enumerate(flags))
+    lookup = np.array(["; ".join(t for i, t in enumerate(texts) if c >> i & 1) for c in range(16)],
+                      dtype=object)
+    notes = pd.Series(lookup[code], index=table.index, dtype=object)
     generic = tol_assumed | bias_generic | bias_unknown | aging_unknown
     return pd.DataFrame(
         {
@@ -167,7 +171,7 @@ def capacitance_worst_case(
             # c_min_f = 0 is the design sheet's "none": no need stated, so no margin.
             "c_margin": (c_worst / c_min).where(c_min > 0),
             "c_margin_basis": np.where(generic, "generic", np.where(bias_keep < 1.0, "part", "")),
-            "c_margin_note": notes.str.rstrip("; "),
+            "c_margin_note": notes,
         },
         index=table.index,
     )
@@ -178,10 +182,10 @@ def rated_temp_max(table: pd.DataFrame, data: StressData) -> tuple[pd.Series, pd
     stated = num_column(table, "temp_max_c")
     tech = text_column(table, "technology")
     cls = num_column(table, "dielectric_class")
-    cls_text = cls.map({1.0: "1", 2.0: "2", 3.0: "3"}).fillna("").astype(str)
-    by_class = (tech + "-class" + cls_text).where(tech == "ceramic", "")
     ratings = dict(data.typical_temp_max_c)
-    typical = by_class.map(ratings).astype(float).fillna(tech.map(ratings).astype(float))
+    by_class = cls.map({float(c): ratings.get(f"ceramic-class{c}", np.nan) for c in (1, 2, 3)})
+    typical = by_class.astype(float).where(tech == "ceramic")
+    typical = typical.fillna(tech.map(ratings).astype(float))
     assumed = stated.isna() & typical.notna()
     return stated.fillna(typical), assumed
 
