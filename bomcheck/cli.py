@@ -58,6 +58,75 @@ def _add_audit_outputs(p: argparse.ArgumentParser) -> None:
                    "pyproject.toml")
 
 
+# Operating conditions of the direct form of ``substitute``: (flag, design-sheet column, help).
+SUBSTITUTE_CONDITIONS = (
+    ("--v-dc", "v_dc", "working DC voltage, e.g. 12 or '12 V'"),
+    ("--v-dc-max", "v_dc_max", "upper bound of the rail"),
+    ("--v-tol-pct", "v_tol_pct", "rail tolerance in %% (upper bound = v_dc x (1 + tol))"),
+    ("--v-ripple", "v_ripple_pk", "peak ripple, e.g. '150 mV'"),
+    ("--v-transient", "v_transient_pk", "peak transient or surge voltage"),
+    ("--v-reverse", "v_reverse_pk", "peak reverse voltage (polarized parts)"),
+    ("--v-ac", "v_ac_rms", "AC rms voltage (AC-rated and safety parts)"),
+    ("--t-ambient", "t_ambient_c", "ambient temperature at the part, degC"),
+    ("--t-rise", "t_rise_c", "self-heating, delta degC"),
+    ("--c-min", "c_min_f", "capacitance the circuit needs, e.g. 4.7uF"),
+    ("--life", "life_h", "required life, e.g. '10 years'"),
+)
+
+
+def _add_substitute(sub, common: argparse.ArgumentParser) -> None:
+    """The ``substitute`` command: alternates checked in every placement of their original."""
+    p = sub.add_parser(
+        "substitute", parents=[common], help="check proposed alternates in every placement "
+        "of the part they replace",
+        description="Audit each proposed alternate in every placement of the part it "
+        "replaces, under that placement's operating conditions, side by side with the "
+        "original, and give a verdict: drop-in, review or rejected, with the reasons. Give a "
+        "BOM and an alternates file (--alternates), or one pair directly (--original TEXT "
+        "--proposed TEXT, with --design and --refdes or inline conditions such as --v-dc 12 "
+        "--t-ambient 85). Exit status 0: no alternate rejected; 1: an alternate is rejected; "
+        "2: inputs unusable.")
+    p.add_argument("bom", nargs="?", help="BOM file (.csv, .tsv, .txt, .xlsx); not needed in "
+                   "the direct form")
+    p.add_argument("--alternates", metavar="FILE", help="alternates file (.csv, .xlsx, .toml): "
+                   "original (MPN, BOM line text or designators) -> alternate (mpn, "
+                   "description, optional parts-data fields, footprint_checked)")
+    p.add_argument("--design", metavar="SHEET", help="design sheet of operating conditions "
+                   "(.csv, .xlsx, .toml)")
+    p.add_argument("--design-sheet", metavar="NAME", help="sheet of an XLSX design file")
+    p.add_argument("--original", metavar="TEXT", help="direct form: the part replaced (its "
+                   "text; with a BOM also its MPN or designators)")
+    p.add_argument("--proposed", metavar="TEXT", help="direct form: the alternate's "
+                   "description")
+    p.add_argument("--proposed-mpn", metavar="MPN", help="direct form: the alternate's MPN")
+    p.add_argument("--footprint-checked", action="store_true", help="direct form: the "
+                   "alternate's footprint was checked (a different case size is then no "
+                   "rejection)")
+    p.add_argument("--refdes", action="append", default=[], metavar="C12", help="direct form "
+                   "without a BOM: designators of the placements (repeatable, or a list)")
+    for flag, _name, text in SUBSTITUTE_CONDITIONS:
+        p.add_argument(flag, metavar="VALUE", help=f"direct form: {text}")
+    p.add_argument("--parts", metavar="FILE", help="parts data keyed by MPN (.csv, .xlsx, "
+                   ".toml), as for audit")
+    p.add_argument("--rules", action="append", default=[], metavar="NAME_OR_PATH",
+                   help="rule set by shipped name or TOML path (repeatable). Default: the "
+                   "shipped default set")
+    p.add_argument("--margin-drop", type=float, default=10.0, metavar="PP", help="review when "
+                   "a stress shown in %% comes this many percentage points closer to its "
+                   "limit (default: 10)")
+    p.add_argument("--temp-margin-drop", type=float, default=10.0, metavar="DEGC",
+                   help="review when a temperature margin shrinks by more than this "
+                   "(default: 10 degC)")
+    p.add_argument("--json", metavar="OUT", help="write the JSON result to OUT ('-' for "
+                   "stdout)")
+    p.add_argument("--markdown", metavar="OUT", help="write a Markdown summary ('-' for "
+                   "stdout)")
+    p.add_argument("--xlsx", metavar="OUT", help="write the Substitutes sheets (.xlsx)")
+    p.add_argument("--all", action="store_true", help="show every alternate and placement "
+                   "in detail")
+    _add_import_options(p)
+
+
 def build_parser() -> argparse.ArgumentParser:
     parser = argparse.ArgumentParser(
         prog="bomcheck",
@@ -123,6 +192,8 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--fail-on", choices=("new",), default=None,
                    help="'new': exit status 1 when there are new or worsened problems")
     p.add_argument("--all", action="store_true", help="show every change, passing ones too")
+
+    _add_substitute(sub, common)
 
     p = sub.add_parser("rules", parents=[common], help="list the rules of a rule set with limits and sources",
                        description="List shipped rule sets, or the rules of one (by name or "

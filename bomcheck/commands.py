@@ -291,3 +291,87 @@ def run_rules(args: argparse.Namespace) -> int:
         return EXIT_CLEAN
     print_rules(console, rules.load_rules(tuple(args.name)))
     return EXIT_CLEAN
+
+
+def _substitute_request(args: argparse.Namespace):
+    """(alternates, inline conditions) of ``substitute``, the usage checked."""
+    from bomcheck.cli import SUBSTITUTE_CONDITIONS
+    from bomcheck.substitute import Alternate, read_alternates
+
+    conditions = {name: getattr(args, flag.lstrip("-").replace("-", "_"))
+                  for flag, name, _ in SUBSTITUTE_CONDITIONS
+                  if getattr(args, flag.lstrip("-").replace("-", "_")) is not None}
+    direct = args.original is not None
+    if direct and not (args.proposed or args.proposed_mpn):
+        raise InputError("--original needs the alternate", expected="--proposed TEXT and/or "
+                         "--proposed-mpn MPN")
+    if (args.proposed or args.proposed_mpn or args.footprint_checked) and not direct:
+        raise InputError("--proposed names an alternate but --original is missing",
+                         expected="--original TEXT (the part it replaces)")
+    if args.bom is None:
+        if not direct:
+            raise InputError("nothing to check", expected="a BOM with --alternates FILE, or "
+                             "--original TEXT --proposed TEXT")
+        if args.alternates:
+            raise InputError("--alternates needs the BOM that holds the originals",
+                             text=args.alternates, expected="bomcheck substitute BOM "
+                             "--alternates FILE")
+    else:
+        if not direct and not args.alternates:
+            raise InputError("nothing to check", expected="--alternates FILE, or --original "
+                             "and --proposed")
+        if conditions or args.refdes:
+            raise InputError("inline conditions and --refdes are for the direct form without "
+                             "a BOM", expected="the BOM's placements and the design sheet "
+                             "(name placements with --original C12)")
+    alternates = list(read_alternates(args.alternates)) if args.alternates else []
+    if direct:
+        cells = {"description": args.proposed} if args.proposed else {}
+        alternates.append(Alternate(original=args.original, mpn=args.proposed_mpn or "",
+                                    cells=cells, footprint_checked=args.footprint_checked,
+                                    path="command line"))
+    return alternates, conditions
+
+
+def run_substitute(args: argparse.Namespace) -> int:
+    from bomcheck.substitute import SubstituteOptions, run_direct, run_substitute
+
+    outputs = [(kind, getattr(args, kind)) for kind in ("json", "markdown", "xlsx")
+               if getattr(args, kind)]
+    if sum(path == "-" for _, path in outputs) > 1:
+        raise InputError("only one output can go to standard output ('-')")
+    if args.xlsx == "-":
+        raise InputError("the workbook cannot go to standard output", text="--xlsx -",
+                         expected="a file name such as substitutes.xlsx")
+    alternates, conditions = _substitute_request(args)
+    options = SubstituteOptions(
+        rules=tuple(args.rules), import_options=_import_options(args),
+        design_sheet=args.design_sheet, parts=args.parts, margin_drop_pp=args.margin_drop,
+        temp_margin_drop_c=args.temp_margin_drop)
+    if args.bom is None:
+        from bomcheck.refdes import expand
+
+        refdes = [r for item in args.refdes for r in expand(item)]
+        result = run_direct(args.original, alternates, args.design, refdes, conditions, options)
+    else:
+        result = run_substitute(args.bom, args.design, alternates, options,
+                                alternates_path=args.alternates)
+    for kind, path in outputs:
+        if kind == "json":
+            write_text_atomic(path, result.to_json())
+        elif kind == "markdown":
+            from bomcheck.substitute import substitute_markdown
+
+            write_text_atomic(path, substitute_markdown(result))
+        else:
+            try:
+                from bomcheck.xlsx_substitutes import write_substitute_workbook
+            except ImportError as exc:
+                raise InputError(f"--xlsx is not available in this installation ({exc})") \
+                    from None
+            write_substitute_workbook(result, path)
+    if all(path != "-" for _, path in outputs):
+        from bomcheck.render import print_substitutes
+
+        print_substitutes(_console(args), result, show_all=args.all)
+    return EXIT_FINDINGS if result.rejected else EXIT_CLEAN

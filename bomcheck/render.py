@@ -331,3 +331,72 @@ def print_groups(console: Console, groups) -> None:
         )
     console.print(table)
 
+
+# Verdicts of the substitute check (bomcheck.substitute) shown with the audit's status styles.
+_VERDICT_STYLE = {"drop-in": "status.pass", "review": "status.warn", "rejected": "status.fail"}
+_SEVERITY_STYLE = {"reject": "status.fail", "review": "status.warn", "note": "muted"}
+
+
+def verdict_text(verdict: str) -> Text:
+    """A substitute verdict, styled: drop-in, REVIEW, REJECTED."""
+    return Text(verdict if verdict == "drop-in" else verdict.upper(),
+                style=_VERDICT_STYLE.get(verdict, ""))
+
+
+def _stress(governing, metric_of: dict) -> str:
+    if not governing:
+        return ""
+    metric = metric_of.get(governing["rule"])
+    value, limit = _fmt_metric(governing.get("value"), metric), _fmt_metric(
+        governing.get("limit"), metric)
+    return f"{value} / {limit} {governing['rule']}" if value else governing["rule"]
+
+
+def print_substitutes(console: Console, result, *, show_all: bool = False) -> None:
+    """The substitute check (``bomcheck.substitute.SubstituteResult``): one row per alternate
+    with its verdict and reason; then, for every alternate that is not a drop-in (all with
+    ``show_all``), its placements side by side and its reasons; the totals and cautions."""
+    from bomcheck.substitute import designator_list
+
+    table = Table(title="Substitute check", header_style="heading")
+    for col in ("original", "alternate", "placements", "verdict", "reason"):
+        table.add_column(col, overflow="fold")
+    for r in result.results:
+        table.add_row(r.alternate.original, r.alternate.label, designator_list(r.refdes),
+                      verdict_text(r.verdict), r.summary)
+    console.print(table)
+    for r in result.results:
+        if r.verdict == "drop-in" and not show_all:
+            continue
+        metric_of = {v.rule_id: v.metric for p in r.placements for v in p.verdicts}
+        detail = Table(title=f"{r.alternate.label} for {r.alternate.original}",
+                       header_style="heading")
+        for col in ("refdes", "role", "conditions", "original", "stress", "alternate",
+                    "stress", "change"):
+            detail.add_column(col, overflow="fold")
+        shown = r.placements if show_all else r.placements[:DEFAULT_ROWS]
+        for p in shown:
+            detail.add_row(
+                p.refdes, p.role, p.conditions, status_text(p.original_status),
+                _stress(p.original_governing, metric_of), status_text(p.proposed_status),
+                _stress(p.proposed_governing, metric_of),
+                Text(p.change, style="status.fail" if p.change == "worse" else ""))
+        console.print(detail)
+        if len(r.placements) > len(shown):
+            console.print(f"[muted]... {len(r.placements) - len(shown)} more placements "
+                          "(use --all)[/]")
+        for issue in r.reasons:
+            console.print(Text.assemble("  ", Text(issue.sentence,
+                                                   style=_SEVERITY_STYLE.get(issue.severity, ""))))
+        if r.not_fitted:
+            console.print(f"[muted]  not fitted, not checked: {designator_list(r.not_fitted)}[/]")
+    t = result.totals
+    console.print(Text.assemble(
+        Text(f"Alternates checked {t['alternates']}: ", style="heading"),
+        *(Text.assemble(verdict_text(v), f" {t[v]}  ") for v in ("rejected", "review",
+                                                                 "drop-in"))))
+    console.print("Rule sets: " + ", ".join(f"{s['name']} {s['version']}"
+                                            for s in result.rulesets))
+    for c in result.cautions:
+        console.print(f"[caution]Caution: {c}[/]")
+    console.print(Text.assemble("Overall: ", verdict_text(result.status)))

@@ -7,8 +7,8 @@ given), keeping the placement's operating conditions; both rows then go through 
 as the audit (``stresses.compute``, ``circuit.apply``, ``engine.evaluate`` and the audit's own
 verdicts). Nothing is recomputed by hand: the comparison reads the two verdict tables and the
 two spec rows and says, per alternate, "drop-in", "review" or "rejected", with sentences
-purchasing can act on. Pure apart from ``read_alternates`` and ``run_substitute``, which read
-the input files.
+purchasing can act on. Pure apart from ``read_alternates``, ``run_substitute`` and
+``run_direct``, which read the input files.
 """
 
 from __future__ import annotations
@@ -39,22 +39,21 @@ DEFAULT_TEMP_MARGIN_DROP_C = 10.0  # degC, for temperature margins
 SPEC_COLUMNS: tuple[str, ...] = tuple(k for k in SPEC_KEYS if k != "text")
 _FLOAT_FIELDS = frozenset(f.name for f in fields(CapSpec) if f.type in ("float | None",
                                                                        "int | None"))
-# Placement columns that describe the part (replaced with the alternate's), beside the spec.
-PART_TEXT_COLUMNS: tuple[str, ...] = ("text", "value_text", "description", "mpn", "manufacturer")
 # BOM cells an alternate may give, parsed with the BOM's own parser and contexts.
 SPEC_CELLS: tuple[str, ...] = ("value", "description", "voltage", "tolerance", "dielectric",
                                "package", "temperature")
 _RANK = {s: i for i, s in enumerate(STATUS_ORDER)}
 _MATCH_KINDS = ("refdes", "mpn", "text")
-# Spec differences named beside a verdict on a metric, in this order.
-_RELATED: dict[str, tuple[str, ...]] = {
-    "voltage_ratio": ("ac_rating", "rated_voltage", "technology"),
-    "transient_ratio": ("rated_voltage",),
-    "reverse_ratio": ("rated_voltage", "technology"),
-    "temp_margin_c": ("dielectric", "temp_max", "technology"),
-    "t_operating_c": ("temp_max", "technology"),
-    "c_margin": ("capacitance", "dielectric", "tolerance", "c_worst"),
-    "bank_c_margin": ("capacitance", "dielectric", "tolerance", "c_worst"),
+# Spec differences named beside a verdict on a metric: per group of alternatives, the first one
+# the placement has.
+_RELATED: dict[str, tuple[tuple[str, ...], ...]] = {
+    "voltage_ratio": (("ac_rating", "rated_voltage"), ("technology",)),
+    "transient_ratio": (("rated_voltage",),),
+    "reverse_ratio": (("rated_voltage",), ("technology",)),
+    "temp_margin_c": (("dielectric", "temp_max"), ("technology",)),
+    "t_operating_c": (("temp_max",), ("technology",)),
+    "c_margin": (("capacitance",), ("dielectric",), ("tolerance",)),
+    "bank_c_margin": (("capacitance",), ("dielectric",), ("tolerance",)),
 }
 _MARGIN_LABEL = {"voltage_ratio": "voltage stress", "transient_ratio": "transient stress",
                  "reverse_ratio": "reverse-voltage stress", "c_margin": "capacitance margin",
@@ -191,9 +190,18 @@ class PlacementCheck:
     verdicts: tuple[VerdictPair, ...]
     worse: bool
 
+    @property
+    def change(self) -> str:
+        """"worse" (a verdict got worse), "better" (the placement's status improved) or "same"."""
+        if self.worse:
+            return "worse"
+        if _RANK[self.proposed_status] < _RANK[self.original_status]:
+            return "better"
+        return "same"
+
     def to_dict(self) -> dict:
         """JSON-ready dict."""
-        return {"refdes": self.refdes, "row": self.row, "role": self.role,
+        return {"refdes": self.refdes, "row": self.row, "role": self.role, "change": self.change,
                 "conditions": self.conditions,
                 "original": {"status": self.original_status,
                              "governing": self.original_governing},
@@ -204,7 +212,8 @@ class PlacementCheck:
 
 @dataclass(frozen=True)
 class AlternateResult:
-    """The check of one alternate in every placement of its original."""
+    """The check of one alternate in every placement of its original (``original_spec`` and
+    ``proposed_spec`` are those of its first placement, after the parts data)."""
 
     alternate: Alternate
     match: str  # how the original was found: "refdes", "mpn", "text" or "direct"
@@ -224,12 +233,19 @@ class AlternateResult:
     def summary(self) -> str:
         """The sentences of the reasons that set the verdict (for drop-in: that it is one)."""
         top = [i for i in self.reasons if i.severity == _TOP_SEVERITY[self.verdict]]
+        if not top and self.verdict != "drop-in":
+            return SEVERITY_LABEL[_TOP_SEVERITY[self.verdict]]
         if self.verdict == "drop-in":
             notes = "; ".join(i.text for i in self.reasons if i.severity == "note")
             who = f" for {designator_list(self.refdes)}" if self.refdes else ""
             return (f"Drop-in{who}: no verdict worse and no difference that matters"
                     + (f" ({notes})" if notes else ""))
-        return " ".join(i.sentence for i in top)
+        by_refdes: dict[tuple[str, ...], list[str]] = {}
+        for i in top:
+            by_refdes.setdefault(i.refdes, []).append(i.text)
+        label = SEVERITY_LABEL[top[0].severity]
+        return ". ".join(f"{label}{' for ' + designator_list(r) if r else ''}: {'; '.join(t)}"
+                         for r, t in by_refdes.items())
 
     def to_dict(self) -> dict:
         """JSON-ready dict."""
@@ -320,19 +336,20 @@ def _plain(value: Any) -> Any:
 # --------------------------------------------------------------------------------------------
 # Formatting.
 
-def designator_list(refdes: Iterable[str]) -> str:
-    """Designators in natural order, runs of three or more as ranges: ``C7-C10, C12``."""
+def designator_list(refdes: Iterable[str], limit: int | None = 24) -> str:
+    """Designators in natural order, runs of three or more as ranges: ``C7-C10, C12``; past
+    ``limit`` items, ``... and 1180 more`` (None: all of them)."""
     from bomcheck.refdes import sort_key
 
     items = sorted(dict.fromkeys(refdes), key=sort_key)
-    out: list[str] = []
+    out: list[tuple[str, int]] = []  # (text, designators it stands for)
     run: list[tuple[str, int, str]] = []
 
     def flush() -> None:
         if len(run) >= 3:
-            out.append(f"{run[0][2]}-{run[-1][2]}")
+            out.append((f"{run[0][2]}-{run[-1][2]}", len(run)))
         else:
-            out.extend(r[2] for r in run)
+            out.extend((r[2], 1) for r in run)
         run.clear()
 
     for item in items:
@@ -345,9 +362,12 @@ def designator_list(refdes: Iterable[str]) -> str:
         if m and not m.group(2).startswith("0"):
             run.append((m.group(1), int(m.group(2)), item))
         else:
-            out.append(item)
+            out.append((item, 1))
     flush()
-    return ", ".join(out)
+    if limit is not None and len(out) > limit:
+        rest = sum(n for _, n in out[limit:])
+        return ", ".join(t for t, _ in out[:limit]) + f" and {rest} more"
+    return ", ".join(t for t, _ in out)
 
 
 def _fq(value: Any, unit: str, percent: bool = False) -> str:
@@ -597,7 +617,7 @@ def alternates_from_toml(text: str, *, path: str = "<toml>") -> tuple[Alternate,
     return alternates_from_records(records, path=path)
 
 
-def _alternate_parts(alt: Alternate):
+def _alternate_parts(alt: Alternate) -> Any:
     """The alternate's own parts-data entry (``bomcheck.parts.PartsData``), or None."""
     if not alt.parts_cells:
         return None
@@ -607,7 +627,7 @@ def _alternate_parts(alt: Alternate):
     return parts_from_table(frame, [alt.row or 0], path=alt.path or "command line")
 
 
-def _merge_parts(base, extra):
+def _merge_parts(base: Any, extra: Any) -> Any:
     """Parts data with ``extra``'s entries laid over ``base``'s, field by field."""
     if extra is None:
         return base
@@ -637,14 +657,18 @@ class Stages:
     groups: Mapping[str, Any] | None = None
 
     @classmethod
-    def for_ruleset(cls, ruleset, *, parts=None, groups=None) -> Stages:
+    def for_ruleset(cls, ruleset: Any, *, parts: Any = None,
+                    groups: Mapping[str, Any] | None = None) -> Stages:
         """Stages with the stress data the audit derives from ``ruleset``."""
         from bomcheck.audit import _stress_data  # the audit's own derivation, not a copy
 
         return cls(ruleset, _stress_data(ruleset), parts, groups)
 
 
-def evaluate(table: pd.DataFrame, stages: Stages, *, parts: Any = "default"
+_STAGE_PARTS: Any = object()  # "the stages' own parts data" (None means no parts data)
+
+
+def evaluate(table: pd.DataFrame, stages: Stages, *, parts: Any = _STAGE_PARTS
              ) -> tuple[pd.DataFrame, pd.DataFrame]:
     """Run the audit's stages on ``table`` (placements with spec and condition columns):
     ``stresses.compute``, ``circuit.apply``, ``engine.evaluate`` and the audit's own verdicts,
@@ -653,7 +677,7 @@ def evaluate(table: pd.DataFrame, stages: Stages, *, parts: Any = "default"
     from bomcheck import circuit, engine, stresses
     from bomcheck.audit import _audit_verdicts, placement_status
 
-    part_data = stages.parts if isinstance(parts, str) else parts
+    part_data = stages.parts if parts is _STAGE_PARTS else parts
     table = stresses.compute(table.reset_index(drop=True), stages.stress_data)
     run = circuit.apply(table, stages.stress_data, stages.ruleset, parts=part_data,
                         groups=stages.groups)
@@ -668,7 +692,7 @@ def evaluate(table: pd.DataFrame, stages: Stages, *, parts: Any = "default"
     return table, verdicts
 
 
-def placement_table(placements: pd.DataFrame, design) -> pd.DataFrame:
+def placement_table(placements: pd.DataFrame, design: Any) -> pd.DataFrame:
     """Fitted placements joined to their design-sheet conditions, as the audit builds its table."""
     fitted = placements[placements["fitted"].astype(bool)].reset_index(drop=True)
     if design is not None:
@@ -792,7 +816,8 @@ def _group_mates(base: pd.DataFrame, replaced: np.ndarray, groups) -> np.ndarray
 
 def check_alternates(base: pd.DataFrame, placements: pd.DataFrame,
                      requests: Sequence[tuple[Alternate, str, np.ndarray]], stages: Stages,
-                     options: SubstituteOptions = SubstituteOptions()) -> tuple[AlternateResult, ...]:
+                     options: SubstituteOptions = SubstituteOptions()
+                     ) -> tuple[AlternateResult, ...]:
     """Check each alternate in every fitted placement of its original.
 
     ``base`` is the audit's pre-stress table (``placement_table``); ``placements`` every
@@ -839,7 +864,8 @@ def _proposed_spec(alt: Alternate, placements: pd.DataFrame) -> tuple[dict, str,
 
 
 def _check_one(alt: Alternate, match: str, base: pd.DataFrame, subset: np.ndarray,
-               replaced: np.ndarray, not_fitted: tuple[str, ...], original, spec: dict,
+               replaced: np.ndarray, not_fitted: tuple[str, ...],
+               original: tuple[pd.DataFrame, pd.DataFrame] | None, spec: dict,
                text: str, value_text: str, desc: str, source: str, stages: Stages,
                options: SubstituteOptions) -> AlternateResult:
     original_text = str(base["text"].iat[int(replaced[0])]) if len(replaced) else ""
@@ -864,11 +890,8 @@ def _check_one(alt: Alternate, match: str, base: pd.DataFrame, subset: np.ndarra
     diffs = _differences(o_table, a_table, local, alt, options)
     pairs = _pair_verdicts(o_verdicts, a_verdicts, stages.ruleset)
     checks = _placement_checks(o_table, a_table, pairs, is_replaced)
-    issues = _verdict_issues(a_table, pairs, is_replaced, diffs, stages.ruleset, options)
-    issues += [Issue(d.severity, "difference", d.field, d.refdes, d.text) for d in diffs
-               if d.severity in ("reject", "review")]
-    issues += [Issue("note", "difference", d.field, d.refdes, d.text) for d in diffs
-               if d.severity == "note"]
+    issues = _verdict_issues(a_table, pairs, is_replaced, diffs, options)
+    issues += [Issue(d.severity, "difference", d.field, d.refdes, d.text) for d in diffs]
     reasons = _merge_issues(issues)
     severities = {i.severity for i in reasons}
     verdict = ("rejected" if "reject" in severities else
@@ -908,8 +931,13 @@ def _pair_verdicts(o: pd.DataFrame, a: pd.DataFrame, ruleset) -> pd.DataFrame:
     m["check"] = m["rule_id"].map(check)
     rank_o = m["status_o"].map(_RANK)
     rank_a = m["status_a"].map(_RANK)
+    # A rule only one part has (another technology's rule set) is compared with the original's
+    # worst verdict on the same stress: IND-POL-REV no data is no worse than IND-TAN-REV no data.
+    topic = m["metric"].where(m["metric"].notna(), m["rule_id"])
+    rank_topic = rank_o.groupby([m["pidx"], topic]).transform("max")
+    base = rank_o.fillna(rank_topic)
     bad = m["status_a"].isin(["warn", "nodata", "fail"])
-    m["worse"] = (bad & (rank_o.isna() | (rank_a > rank_o))).to_numpy()
+    m["worse"] = (bad & (base.isna() | (rank_a > base))).to_numpy()
     return m
 
 
@@ -1033,66 +1061,86 @@ def _phrase(metric: str | None, rec: Mapping[str, Any], v: Mapping[str, Any], n:
     return body
 
 
-def _bracket(metric: str | None, rule_id: str, refdes: str,
-             diffs_at: Mapping[str, list[Difference]], extra: str = "") -> str:
-    related = _RELATED.get(metric or "", ())
-    bits = [d.short for f in related for d in diffs_at.get(refdes, []) if d.field == f]
-    bits += [b for b in (extra, rule_id) if b]
-    return f" ({'; '.join(dict.fromkeys(bits))})" if bits else ""
+def _related(metric: str | None, refdes: str, diffs_at: Mapping[str, list[Difference]]
+             ) -> tuple[str, ...]:
+    """The short forms of the spec differences behind a verdict on ``metric`` (one per group of
+    alternatives in ``_RELATED``: ``X5R replacing X7R`` rather than also the rated maximum)."""
+    mine = {d.field: d.short for d in diffs_at.get(refdes, [])}
+    out = []
+    for choice in _RELATED.get(metric or "", ()):
+        found = next((mine[f] for f in choice if f in mine), None)
+        if found:
+            out.append(found)
+    return tuple(out)
 
 
 def _verdict_issues(a_table: pd.DataFrame, pairs: pd.DataFrame, is_replaced: np.ndarray,
-                    diffs: Sequence[Difference], ruleset, options: SubstituteOptions
-                    ) -> list[Issue]:
+                    diffs: Sequence[Difference], options: SubstituteOptions) -> list[Issue]:
     """Issues from the alternate's verdicts: failures (reject), warnings and no-data that appear
-    (review), and margins that shrink past the options' amounts (review)."""
+    (review), and margins that shrink past the options' amounts (review). Placements and rules
+    that read alike are joined into one sentence."""
     refdes = a_table["refdes"].astype(str).to_numpy(dtype=object)
     diffs_at: dict[str, list[Difference]] = {}
     for d in diffs:
         for r in d.refdes:
             diffs_at.setdefault(r, []).append(d)
     recs = a_table.to_dict("records")
-    groups: dict[tuple, list[int]] = {}
-    firsts: dict[tuple, tuple[dict, str]] = {}
+    # key -> [placements, rule ids, first verdict]
+    groups: dict[tuple, list] = {}
+    flagged: set[tuple[int, str | None]] = set()
 
-    def add(severity: str, kind: str, topic: str, p: int, key_text: str, v: dict,
-            bracket: str) -> None:
-        key = (severity, kind, topic, key_text, bracket)
-        groups.setdefault(key, []).append(p)
-        firsts.setdefault(key, (v, bracket))
+    def add(severity: str, kind: str, topic: str, p: int, key_text: str, bits: tuple[str, ...],
+            rule_id: str, v: dict) -> None:
+        entry = groups.setdefault((severity, kind, topic, key_text, bits), [[], [], v])
+        if p not in entry[0]:
+            entry[0].append(p)
+        if rule_id and rule_id not in entry[1]:
+            entry[1].append(rule_id)
 
     m = pairs
     with np.errstate(invalid="ignore"):
         got_worse = m["worse"].to_numpy() | (m["margin_a"] < m["margin_o"] - 1e-12).to_numpy()
+    # Per placement, stress and kind of issue: the verdicts behind it, the one furthest past
+    # its limit speaking for all (one sentence naming every rule, not one per rule).
+    picked: dict[tuple, list[dict]] = {}
     for i, v in enumerate(m.to_dict("records")):
         p = int(v["pidx"])
         status = v["status_a"]
         metric = v["metric"] if isinstance(v["metric"], str) else None
         if status == "fail" and (is_replaced[p] or got_worse[i]):
-            extra = "fails with the original part too" if v["status_o"] == "fail" else ""
-            if not is_replaced[p]:
-                extra = "shares a bank or stack with the alternate"
-            bracket = _bracket(metric, v["rule_id"], refdes[p], diffs_at, extra)
-            add("reject", "verdict", metric or v["rule_id"], p, _phrase(metric, recs[p], v, 1),
-                v, bracket)
+            picked.setdefault(("reject", status, p, metric or v["rule_id"]), []).append(v)
         elif v["worse"] and status in ("warn", "nodata"):
-            prefix = "a warning appears: " if status == "warn" else ""
-            bracket = _bracket(metric, v["rule_id"], refdes[p], diffs_at)
-            add("review", "verdict", metric or v["rule_id"], p,
-                prefix + _phrase(metric, recs[p], v, 1), {**v, "_prefix": prefix}, bracket)
+            picked.setdefault(("review", status, p, metric or v["rule_id"]), []).append(v)
+    for (severity, status, p, topic), vs in picked.items():
+        vs = sorted(vs, key=lambda v: (math.isnan(_num(v["margin_a"])), _num(v["margin_a"])))
+        v = vs[0]
+        metric = v["metric"] if isinstance(v["metric"], str) else None
+        bits = _related(metric, refdes[p], diffs_at)
+        if severity == "reject" and not is_replaced[p]:
+            bits += ("shares a bank or stack with the alternate",)
+        elif severity == "reject" and any(x["status_o"] == "fail" for x in vs):
+            bits += ("fails with the original part too",)
+        if severity == "review":
+            v = {**v, "_prefix": "a warning appears: " if status == "warn" else ""}
+        prefix = v.get("_prefix", "")
+        for x in vs:
+            add(severity, "verdict", topic, p, prefix + _phrase(metric, recs[p], v, 1), bits,
+                x["rule_id"], v)
+        flagged.add((p, metric))
 
     # Margins, per placement and metric: the closest approach to a limit in force.
     ok = m.dropna(subset=["metric"])
     if len(ok):
-        o_min = ok.dropna(subset=["margin_o"]).sort_values("margin_o").drop_duplicates(
-            ["pidx", "metric"]).set_index(["pidx", "metric"])
-        a_min = ok.dropna(subset=["margin_a"]).sort_values("margin_a").drop_duplicates(
-            ["pidx", "metric"]).set_index(["pidx", "metric"])
-        both = o_min[["margin_o", "value_o"]].join(a_min[["margin_a", "value_a", "status_a"]],
-                                                  how="inner")
+        def closest(side: str) -> pd.DataFrame:
+            cols = [f"margin_{side}", f"value_{side}", f"limit_{side}", f"status_{side}"]
+            part = ok.dropna(subset=[f"margin_{side}"]).sort_values(f"margin_{side}",
+                                                                    kind="stable")
+            return part.drop_duplicates(["pidx", "metric"]).set_index(["pidx", "metric"])[cols]
+
+        both = closest("o").join(closest("a"), how="inner")
         for (p, metric), r in both.iterrows():
             meta = METRICS.get(metric)
-            if meta is None or r["status_a"] == "fail":
+            if meta is None or (int(p), metric) in flagged or r["status_a"] == "fail":
                 continue
             drop = r["margin_o"] - r["margin_a"]
             if meta.percent:
@@ -1101,24 +1149,23 @@ def _verdict_issues(a_table: pd.DataFrame, pairs: pd.DataFrame, is_replaced: np.
                 over, amount = drop > options.temp_margin_drop_c, f"{drop:.3g}"
             else:
                 continue
-            if not over:
-                continue
-            text = _margin_phrase(metric, r, recs[int(p)], amount)
-            bracket = _bracket(metric, "", refdes[int(p)], diffs_at)
-            add("review", "margin", metric, int(p), text, {"margin": True, "text": text},
-                bracket)
+            if over:
+                text = _margin_phrase(metric, r, recs[int(p)], amount)
+                add("review", "margin", metric, int(p), text,
+                    _related(metric, refdes[int(p)], diffs_at), "", {"_text": text})
 
     out = []
-    for key, ps in groups.items():
-        severity, kind, topic, key_text, bracket = key
-        v, _ = firsts[key]
-        if v.get("margin"):
-            text = v["text"]
+    for (severity, kind, topic, _, bits), (ps, rule_ids, v) in groups.items():
+        if "_text" in v:
+            text = v["_text"]
         else:
-            text = v.get("_prefix", "") + _phrase(v["metric"] if isinstance(v["metric"], str)
-                                                  else None, recs[ps[0]], v, len(ps))
-        rs = tuple(dict.fromkeys(refdes[ps].tolist()))
-        out.append(Issue(severity, kind, topic, rs, text + bracket))
+            metric = v["metric"] if isinstance(v["metric"], str) else None
+            text = v.get("_prefix", "") + _phrase(metric, recs[ps[0]], v, len(ps))
+        inside = [*bits, *([", ".join(rule_ids)] if rule_ids else [])]
+        if inside:
+            text += f" ({'; '.join(dict.fromkeys(inside))})"
+        out.append(Issue(severity, kind, topic, tuple(dict.fromkeys(refdes[ps].tolist())),
+                         text))
     return out
 
 
@@ -1127,9 +1174,11 @@ def _margin_phrase(metric: str, r: Mapping[str, Any], rec: Mapping[str, Any],
     meta = METRICS[metric]
     if meta.percent:
         label = _MARGIN_LABEL.get(metric, metric.replace("_", " "))
-        return (f"the {label} goes from {_fq(r['value_o'], '', True)} to "
-                f"{_fq(r['value_a'], '', True)}: {amount} percentage points closer to the "
-                "limit")
+        v_o, v_a = _fq(r["value_o"], "", True), _fq(r["value_a"], "", True)
+        l_o, l_a = _fq(r["limit_o"], "", True), _fq(r["limit_a"], "", True)
+        moved = f"goes from {v_o} to {v_a}" if v_o != v_a else f"stays at {v_a}"
+        limit = f"the {l_a} limit" if l_o == l_a else f"its limit ({l_a} instead of {l_o})"
+        return f"the {label} {moved}, {amount} percentage points closer to {limit}"
     where = f" at {_fq(rec.get('t_operating_c'), 'degC')}" if metric == "temp_margin_c" else ""
     return (f"the temperature margin falls from {_fq(r['margin_o'], 'degC')} to "
             f"{_fq(r['margin_a'], 'degC')}{where}")
@@ -1161,18 +1210,24 @@ def _safety_difference(o: str, a: str) -> tuple[str, str, str] | None:
     if o == a:
         return None
     if not a:
-        return ("reject", f"no safety class: the original is an {o} safety capacitor (IEC "
-                f"60384-14 class)", f"loses {o}")
+        return ("reject", f"no safety class (the original is an {o} safety capacitor, IEC "
+                "60384-14)", f"loses {o}")
     mo, ma = _SAFETY.match(o), _SAFETY.match(a)
     if mo and ma and mo.group(1) == ma.group(1) and int(ma.group(2)) <= int(mo.group(2)):
         return ("note", f"safety class {a} replacing {o} (same series, equal or higher "
                 "subclass)", f"{a} replacing {o}")
     if mo and ma and mo.group(1) == "X" and ma.group(1) == "Y":
-        return ("review", f"safety class {a} replacing {o}: a line-to-earth class across the "
-                "line is common practice, confirm it with the product's safety approval",
+        return ("review", f"safety class {a} replacing {o} (a line-to-earth class across the "
+                "line is common practice; confirm it with the product's safety approval)",
                 f"{a} replacing {o}")
-    return ("reject", f"safety class {a} replacing {o}: not an equal or higher class",
+    return ("reject", f"safety class {a} replacing {o}, not an equal or higher class",
             f"{a} replacing {o}")
+
+
+def _case(package: Any) -> str:
+    """``case 0603``; ``case D`` stays as the parser wrote it."""
+    text = str(package or "")
+    return text if text.casefold().startswith("case") else f"case {text}"
 
 
 def _tol_text(minus: float, plus: float, absolute: float) -> str:
@@ -1181,6 +1236,13 @@ def _tol_text(minus: float, plus: float, absolute: float) -> str:
     if not math.isnan(absolute):
         return f"+/-{_fq(absolute, 'F')}"
     return "?"
+
+
+def _flag_value(value: Any) -> bool | None:
+    """A yes/no spec field as True, False or None (numpy booleans included)."""
+    if isinstance(value, (bool, np.bool_)):
+        return bool(value)
+    return None
 
 
 def _spec_differences(o: Mapping[str, Any], a: Mapping[str, Any], footprint_checked: bool
@@ -1193,7 +1255,7 @@ def _spec_differences(o: Mapping[str, Any], a: Mapping[str, Any], footprint_chec
         out.append((fld, severity, ov, av, text, short or text))
 
     tech_o, tech_a = o.get("technology") or "", a.get("technology") or ""
-    pol_o, pol_a = o.get("polarized"), a.get("polarized")
+    pol_o, pol_a = _flag_value(o.get("polarized")), _flag_value(a.get("polarized"))
     # Polarity and technology.
     if pol_a is True and pol_o is not True:
         add("polarity", "reject" if pol_o is False else "review", tech_o or "?", tech_a,
@@ -1202,7 +1264,7 @@ def _spec_differences(o: Mapping[str, Any], a: Mapping[str, Any], footprint_chec
             f"({tech_o or 'technology not known'}) part", f"polarized {tech_a}")
     if tech_o and tech_a and tech_o != tech_a:
         add("technology", "review", tech_o, tech_a,
-            f"{tech_a} replacing {tech_o}: a different technology (ESR, ripple rating, "
+            f"{tech_a} replacing {tech_o}, a different technology (ESR, ripple rating, "
             "leakage and loop stability differ)", f"{tech_a} replacing {tech_o}")
     elif tech_o and not tech_a:
         add("technology", "review", tech_o, "?",
@@ -1219,22 +1281,22 @@ def _spec_differences(o: Mapping[str, Any], a: Mapping[str, Any], footprint_chec
     ac_o, ac_a = o.get("voltage_kind") == "ac", a.get("voltage_kind") == "ac"
     if ac_o and not ac_a:
         add("ac_rating", "reject", f"{_fq(v_o, 'V')} AC", _fq(v_a, "V"),
-            f"no AC rating: the original is rated {_fq(v_o, 'V')} AC", "no AC rating")
+            f"no AC rating (the original is rated {_fq(v_o, 'V')} AC)", "no AC rating")
     if not math.isnan(v_o) and math.isnan(v_a):
         add("rated_voltage", "review", _fq(v_o, "V"), "?",
             "rated voltage not known for the alternate (give it in the alternates file)",
             "rated voltage not known")
-    elif not math.isnan(v_o) and not math.isclose(v_o, v_a, rel_tol=1e-6):
-        kind = " AC" if ac_a else ""
-        add("rated_voltage", "note", _fq(v_o, "V"), _fq(v_a, "V"),
-            f"rated {_fq(v_a, 'V')}{kind} instead of {_fq(v_o, 'V')}")
+    elif not math.isnan(v_o) and not (math.isclose(v_o, v_a, rel_tol=1e-6) and ac_o == ac_a):
+        shown_o = _fq(v_o, "V") + (" AC" if ac_o else "")
+        shown_a = _fq(v_a, "V") + (" AC" if ac_a else "")
+        add("rated_voltage", "note", shown_o, shown_a, f"rated {shown_a} instead of {shown_o}")
     safety = _safety_difference(o.get("safety_class") or "", a.get("safety_class") or "")
     if safety and o.get("safety_class"):
         add("safety_class", safety[0], o.get("safety_class") or "", a.get("safety_class") or "",
             safety[1], safety[2])
-    if o.get("emi_filter") is True and a.get("emi_filter") is not True:
+    if _flag_value(o.get("emi_filter")) is True and _flag_value(a.get("emi_filter")) is not True:
         add("emi_filter", "reject", "feedthrough/EMI filter", "not a filter part",
-            "not a feedthrough/EMI filter part: the original is one", "not an EMI filter")
+            "not a feedthrough/EMI filter part (the original is one)", "not an EMI filter")
 
     # Temperature range.
     tmax_o, tmax_a = _num(o.get("temp_max_c")), _num(a.get("temp_max_c"))
@@ -1248,8 +1310,8 @@ def _spec_differences(o: Mapping[str, Any], a: Mapping[str, Any], footprint_chec
     tmin_o, tmin_a = _num(o.get("temp_min_c")), _num(a.get("temp_min_c"))
     if not math.isnan(tmin_o) and not math.isnan(tmin_a) and tmin_a > tmin_o:
         add("temp_min", "review", _fq(tmin_o, "degC"), _fq(tmin_a, "degC"),
-            f"rated only down to {_fq(tmin_a, 'degC')} instead of {_fq(tmin_o, 'degC')}: the "
-            "design sheet gives no minimum temperature to check it against",
+            f"rated only down to {_fq(tmin_a, 'degC')} instead of {_fq(tmin_o, 'degC')} (the "
+            "design sheet gives no minimum temperature to check it against)",
             f"rated down to {_fq(tmin_a, 'degC')}")
 
     # Dielectric.
@@ -1258,12 +1320,12 @@ def _spec_differences(o: Mapping[str, Any], a: Mapping[str, Any], footprint_chec
     if cls_o == 1 and cls_a in (2, 3):
         add("dielectric", "review", f"{code_o} (class I)", f"{code_a} (class {int(cls_a)})",
             f"class {'II' if cls_a == 2 else 'III'} dielectric {code_a} replacing class I "
-            f"{code_o}: capacitance changes with temperature, DC bias and age (EIA-198)",
+            f"{code_o} (capacitance changes with temperature, DC bias and age; EIA-198)",
             f"{code_a} replacing {code_o}")
     elif cls_o == 2 and cls_a == 3:
         add("dielectric", "review", f"{code_o} (class II)", f"{code_a} (class III)",
-            f"class III dielectric {code_a} replacing class II {code_o}: a much larger "
-            "capacitance change over temperature (EIA-198)", f"{code_a} replacing {code_o}")
+            f"class III dielectric {code_a} replacing class II {code_o} (a much larger "
+            "capacitance change over temperature; EIA-198)", f"{code_a} replacing {code_o}")
     elif code_o and code_a and code_o != code_a:
         add("dielectric", "note", code_o, code_a, f"{code_a} replacing {code_o}")
     elif code_o and not code_a and tech_a in ("", "ceramic"):
@@ -1285,20 +1347,20 @@ def _spec_differences(o: Mapping[str, Any], a: Mapping[str, Any], footprint_chec
             "capacitance not known for the alternate", "capacitance not known")
     elif not math.isnan(c_o) and not math.isclose(c_o, c_a, rel_tol=1e-6):
         add("capacitance", "review", _fq(c_o, "F"), _fq(c_a, "F"),
-            f"{_fq(c_a, 'F')} instead of {_fq(c_o, 'F')}: a different nominal value",
+            f"{_fq(c_a, 'F')} instead of {_fq(c_o, 'F')}, a different nominal value",
             f"{_fq(c_a, 'F')} instead of {_fq(c_o, 'F')}")
 
     # Package / footprint.
     p_o, p_a = _norm_package(o.get("package")), _norm_package(a.get("package"))
-    show_o, show_a = str(o.get("package") or ""), str(a.get("package") or "")
+    show_o, show_a = _case(o.get("package")), _case(a.get("package"))
     if p_o and p_a and p_o != p_a:
         if footprint_checked:
             add("package", "note", show_o, show_a,
-                f"case {show_a} instead of {show_o} (footprint checked)")
+                f"{show_a} instead of {show_o} (footprint checked)")
         else:
             add("package", "reject", show_o, show_a,
-                f"case {show_a} instead of {show_o}: a different footprint (mark it "
-                "footprint_checked once the layout is confirmed)", f"case {show_a}")
+                f"{show_a} instead of {show_o}, a different footprint (mark it "
+                "footprint_checked once the layout is confirmed)", show_a)
     elif p_o and not p_a:
         add("package", "note" if footprint_checked else "review", show_o, "?",
             "case size not given for the alternate"
@@ -1357,7 +1419,8 @@ def _differences(o_table: pd.DataFrame, a_table: pd.DataFrame, local: np.ndarray
 # --------------------------------------------------------------------------------------------
 # Running it on files.
 
-def _inputs_and_stages(design_path: str | None, options: SubstituteOptions):
+def _inputs_and_stages(design_path: str | None, options: SubstituteOptions
+                       ) -> tuple[Any, Any, Stages, list[dict]]:
     from bomcheck import design as design_mod
     from bomcheck import parts as parts_mod
     from bomcheck import rules
@@ -1376,7 +1439,8 @@ def _inputs_and_stages(design_path: str | None, options: SubstituteOptions):
     return ruleset, design, stages, inputs
 
 
-def _result(ruleset, inputs, results, options: SubstituteOptions) -> SubstituteResult:
+def _result(ruleset: Any, inputs: Sequence[dict], results: Sequence[AlternateResult],
+            options: SubstituteOptions) -> SubstituteResult:
     return SubstituteResult(
         tool_version=__version__, rulesets=ruleset_summary(ruleset), inputs=tuple(inputs),
         options={"margin_drop_pp": options.margin_drop_pp,
@@ -1445,8 +1509,12 @@ def run_direct(original_text: str, alternates: Sequence[Alternate], design_path:
     if conditions:
         frame = pd.DataFrame({"refdes": refdes, **{k: [str(v)] * len(refdes)
                                                    for k, v in conditions.items()}})
-        inline = design_from_table(frame, path="command line").for_placements(
-            pd.Series(refdes)).reset_index(drop=True)
+        try:
+            inline = design_from_table(frame, path="command line").for_placements(
+                pd.Series(refdes)).reset_index(drop=True)
+        except InputError as exc:  # name the condition, not a row of a table nobody wrote
+            raise InputError(f"inline condition {exc.column}: {exc.problem}", text=exc.text,
+                             expected=exc.expected) from None
         given = [c for c in conditions if c in inline]
         for col in given:
             base[col] = inline[col].to_numpy()

@@ -13,7 +13,8 @@ ROOT = Path(__file__).resolve().parents[1]
 PACKAGE = ROOT / "bomcheck"
 # The edges (reading files, writing the terminal and spreadsheets) may import rich/openpyxl;
 # the core may not.
-EDGE = {"cli.py", "commands.py", "render.py", "xlsx.py", "reader.py", "__main__.py"}
+EDGE = {"cli.py", "commands.py", "render.py", "xlsx.py", "xlsx_substitutes.py", "reader.py",
+        "__main__.py"}
 
 
 def _imports(path: Path) -> set[str]:
