@@ -34,7 +34,7 @@ class AuditOptions:
     parts: str | None = None  # parts file keyed by MPN (CSV, XLSX or TOML), see bomcheck.parts
 
 
-def _stress_data(ruleset):
+def stress_data(ruleset):
     """The rule set's assumed data (generic DC-bias curves, aging rates) for the stress stage."""
     from bomcheck.stresses import StressData
 
@@ -107,10 +107,39 @@ def placement_status(verdicts: pd.DataFrame, n: int) -> np.ndarray:
     return np.asarray(STATUS_ORDER, dtype=object)[worst]
 
 
+@dataclass(frozen=True)
+class Evaluated:
+    """A placement table after the stress, circuit and evaluate stages."""
+
+    table: pd.DataFrame  # metrics and ``status`` added
+    verdicts: pd.DataFrame
+    groups: tuple[dict, ...] = ()
+
+
+def evaluate_table(table: pd.DataFrame, ruleset, *, parts=None, groups=None,
+                   import_findings=()) -> Evaluated:
+    """The middle of the pipeline on a table of fitted placements (spec and condition columns):
+    stresses, circuit-level stresses with parts data, rule verdicts, the audit's own verdicts and
+    each placement's status. ``run_audit`` and the substitute check both call it."""
+    from bomcheck import circuit, engine, stresses
+
+    data = stress_data(ruleset)
+    table = stresses.compute(table.reset_index(drop=True), data)
+    run = circuit.apply(table, data, ruleset, parts=parts, groups=groups)
+    table = run.table
+    verdicts = _audit_verdicts(table, engine.evaluate(table, ruleset), import_findings)
+    if len(run.verdicts):
+        verdicts = pd.concat([verdicts, run.verdicts], ignore_index=True).sort_values(
+            ["pidx", "rule_id"], kind="stable").reset_index(drop=True)
+    table = table.copy()
+    table["status"] = placement_status(verdicts, len(table))
+    return Evaluated(table, verdicts, run.groups)
+
+
 def run_audit(bom_path: str, design_path: str | None, options: AuditOptions = AuditOptions()) -> Report:
     """Audit every fitted capacitor placement of ``bom_path`` under the design sheet's conditions."""
     from bomcheck import design as design_mod
-    from bomcheck import engine, importer, rules, stresses
+    from bomcheck import importer, rules
 
     ruleset = rules.load_rules(options.rules or (rules.DEFAULT_RULESET,))
     imported = importer.read_bom(bom_path, options.import_options or importer.ImportOptions())
@@ -135,22 +164,15 @@ def run_audit(bom_path: str, design_path: str | None, options: AuditOptions = Au
     table = pd.concat(
         [fitted, conditions.drop(columns=[c for c in conditions if c in fitted])], axis=1
     )
-    table = stresses.compute(table, _stress_data(ruleset))
     from bomcheck import circuit, parts as parts_mod  # circuit-level stresses and parts data
 
     part_data = parts_mod.read_parts(options.parts) if options.parts else None
     if part_data is not None:
         inputs.append({"role": "parts", "path": str(options.parts), "sha256": part_data.sha256})
-    circuit_run = circuit.apply(table, _stress_data(ruleset), ruleset, parts=part_data,
-                                groups=design.groups if design_path is not None else None)
-    table = circuit_run.table
-    verdicts = engine.evaluate(table, ruleset)
-    verdicts = _audit_verdicts(table, verdicts, imported.findings)
-    if len(circuit_run.verdicts):
-        verdicts = pd.concat([verdicts, circuit_run.verdicts], ignore_index=True).sort_values(
-            ["pidx", "rule_id"], kind="stable").reset_index(drop=True)
-
-    table["status"] = placement_status(verdicts, len(table))
+    done = evaluate_table(table, ruleset, parts=part_data,
+                          groups=design.groups if design_path is not None else None,
+                          import_findings=imported.findings)
+    table, verdicts = done.table, done.verdicts
 
     counts = table["status"].value_counts()
     totals = dict(imported.totals)
@@ -169,7 +191,7 @@ def run_audit(bom_path: str, design_path: str | None, options: AuditOptions = Au
         totals=totals,
         rules=ruleset,
         cautions=CAUTIONS + circuit.safety_cautions(verdicts, ruleset),
-        groups=circuit_run.groups,
+        groups=done.groups,
     )
     if options.waivers:
         from bomcheck.waivers import apply_waivers, load_waivers

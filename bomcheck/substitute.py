@@ -660,9 +660,9 @@ class Stages:
     def for_ruleset(cls, ruleset: Any, *, parts: Any = None,
                     groups: Mapping[str, Any] | None = None) -> Stages:
         """Stages with the stress data the audit derives from ``ruleset``."""
-        from bomcheck.audit import _stress_data  # the audit's own derivation, not a copy
+        from bomcheck.audit import stress_data  # the audit's own derivation, not a copy
 
-        return cls(ruleset, _stress_data(ruleset), parts, groups)
+        return cls(ruleset, stress_data(ruleset), parts, groups)
 
 
 _STAGE_PARTS: Any = object()  # "the stages' own parts data" (None means no parts data)
@@ -674,22 +674,12 @@ def evaluate(table: pd.DataFrame, stages: Stages, *, parts: Any = _STAGE_PARTS
     ``stresses.compute``, ``circuit.apply``, ``engine.evaluate`` and the audit's own verdicts,
     as ``bomcheck.audit.run_audit`` calls them. Returns (table with metrics and ``status``,
     verdicts). ``parts`` overrides the stages' parts data."""
-    from bomcheck import circuit, engine, stresses
-    from bomcheck.audit import _audit_verdicts, placement_status
+    from bomcheck.audit import evaluate_table
 
     part_data = stages.parts if parts is _STAGE_PARTS else parts
-    table = stresses.compute(table.reset_index(drop=True), stages.stress_data)
-    run = circuit.apply(table, stages.stress_data, stages.ruleset, parts=part_data,
-                        groups=stages.groups)
-    table = run.table
-    verdicts = engine.evaluate(table, stages.ruleset)
-    verdicts = _audit_verdicts(table, verdicts, ())  # BOM-line findings: the same for both parts
-    if len(run.verdicts):
-        verdicts = pd.concat([verdicts, run.verdicts], ignore_index=True).sort_values(
-            ["pidx", "rule_id"], kind="stable").reset_index(drop=True)
-    table = table.copy()
-    table["status"] = placement_status(verdicts, len(table))
-    return table, verdicts
+    # BOM-line findings are the same for both parts, so none are passed.
+    done = evaluate_table(table, stages.ruleset, parts=part_data, groups=stages.groups)
+    return done.table, done.verdicts
 
 
 def placement_table(placements: pd.DataFrame, design: Any) -> pd.DataFrame:
