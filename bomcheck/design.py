@@ -832,14 +832,9 @@ def _toml_line(lines: dict[tuple[str, ...], int], text_lines: list[str], table: 
 
 def design_from_toml(text: str, *, path: str = "<toml>") -> Design:
     """Read a TOML design sheet (format in the module docstring)."""
-    import tomllib
+    from bomcheck.reader import load_toml
 
-    try:
-        data = tomllib.loads(text)
-    except tomllib.TOMLDecodeError as exc:
-        m = re.search(r"line (\d+)", str(exc))
-        raise InputError(f"not valid TOML ({exc})", path=path,
-                         row=int(m.group(1)) if m else None) from None
+    data = load_toml(text, path)
     lines, text_lines = _toml_lines(text), text.splitlines()
     warnings: list[str] = []
     entries: list[tuple[str, str | None, Mapping[str, Any]]] = []

@@ -228,14 +228,9 @@ def parts_from_table(frame: pd.DataFrame, rows: Sequence[int] | np.ndarray | Non
 
 def parts_from_toml(text: str, *, path: str = "<toml>") -> PartsData:
     """Parts data from TOML: ``[parts."MPN"]`` tables whose keys are the fields."""
-    import tomllib
+    from bomcheck.reader import load_toml
 
-    try:
-        doc = tomllib.loads(text)
-    except tomllib.TOMLDecodeError as exc:
-        m = re.search(r"line (\d+)", str(exc))
-        raise InputError(f"not valid TOML ({exc})", path=path,
-                         row=int(m.group(1)) if m else None) from None
+    doc = load_toml(text, path)
     table = doc.get("parts")
     if not isinstance(table, dict):
         raise InputError("no [parts] table", path=path, expected='[parts."MPN"] tables')

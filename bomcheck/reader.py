@@ -100,6 +100,19 @@ def toml_text(data: bytes, path: str) -> str:
                          hint=f"undecodable byte at offset {exc.start}") from None
 
 
+def load_toml(text: str, path: str) -> dict:
+    """Parse TOML text; a syntax error is an ``InputError`` naming the file and its line."""
+    import re
+    import tomllib
+
+    try:
+        return tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
+        m = re.search(r"line (\d+)", str(exc))
+        raise InputError(f"not valid TOML ({exc})", path=path,
+                         row=int(m.group(1)) if m else None) from None
+
+
 def _default_predicate() -> Callable[[list[str]], bool]:
     from bomcheck.columns import has_designator_column
 

@@ -579,14 +579,9 @@ def read_alternates(path: str, *, sheet: str | int | None = None) -> tuple[Alter
 
 def alternates_from_toml(text: str, *, path: str = "<toml>") -> tuple[Alternate, ...]:
     """Alternates from TOML text: ``[[alternate]]`` tables (keys as the table columns)."""
-    import tomllib
+    from bomcheck.reader import load_toml
 
-    try:
-        doc = tomllib.loads(text)
-    except tomllib.TOMLDecodeError as exc:
-        m = re.search(r"line (\d+)", str(exc))
-        raise InputError(f"not valid TOML ({exc})", path=path,
-                         row=int(m.group(1)) if m else None) from None
+    doc = load_toml(text, path)
     tables = doc.get("alternate")
     if not isinstance(tables, list) or not tables:
         raise InputError("no [[alternate]] tables", path=path,
