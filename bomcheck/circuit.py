@@ -586,11 +586,12 @@ def safety_cautions(verdicts: pd.DataFrame, ruleset: Any) -> tuple[str, ...]:
     if ruleset is None or not len(verdicts):
         return ()
     out = []
-    for rule in sorted(ruleset.rules, key=lambda r: r.id):
-        if rule.metric not in SAFETY_METRICS:
-            continue
-        hit = verdicts[(verdicts["rule_id"] == rule.id)
-                       & verdicts["status"].isin(["warn", "fail"])]
+    safety = sorted((r for r in ruleset.rules if r.metric in SAFETY_METRICS), key=lambda r: r.id)
+    # Narrow once to the flagged safety verdicts, not once per rule over every verdict.
+    flagged = verdicts[verdicts["rule_id"].isin([r.id for r in safety])]
+    flagged = flagged[flagged["status"].isin(["warn", "fail"])]
+    for rule in safety:
+        hit = flagged[flagged["rule_id"] == rule.id]
         if not len(hit):
             continue
         refdes = list(dict.fromkeys(hit["refdes"].tolist()))
