@@ -457,9 +457,22 @@ class RuleSet:
 # --------------------------------------------------------------------------------------------
 # Loading.
 
+def shipped_root():
+    """The folder of the shipped rule sets: the installed package ``bomcheck.rulesets`` (the
+    top-level ``rules/`` folder, mapped at install), or ``rules/`` itself when the code runs from
+    a source checkout whose own ``bomcheck/`` shadows the installed copy."""
+    try:
+        return resources.files(SHIPPED_PACKAGE)
+    except ModuleNotFoundError:
+        checkout = Path(__file__).resolve().parent.parent / "rules"
+        if checkout.is_dir():
+            return checkout
+        raise
+
+
 def shipped_names() -> list[str]:
     """Names of the rule sets shipped in the package, sorted."""
-    root = resources.files(SHIPPED_PACKAGE)
+    root = shipped_root()
     return sorted(p.name[: -len(".toml")] for p in root.iterdir() if p.name.endswith(".toml"))
 
 
@@ -572,7 +585,7 @@ def _apply(spec: str, base: Path | None, state: _State, stack: tuple[str, ...],
         return
     try:
         text = (path.read_text(encoding="utf-8") if path is not None else
-                resources.files(SHIPPED_PACKAGE).joinpath(f"{spec}.toml").read_text("utf-8"))
+                shipped_root().joinpath(f"{spec}.toml").read_text("utf-8"))
         doc = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
         state.problems.append(RuleProblem(display, "TOML", f"not valid TOML: {exc}"))

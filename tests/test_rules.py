@@ -17,6 +17,7 @@ from bomcheck.rules import (
     json_path,
     load_rules,
     shipped_names,
+    shipped_root,
 )
 from bomcheck.vocabulary import METRICS
 
@@ -61,7 +62,7 @@ def test_schema_is_a_valid_draft_2020_12_schema():
 @pytest.mark.parametrize("name", shipped_names())
 def test_every_shipped_set_validates(name):
     # At run time shipped sets skip the JSON Schema (speed); this test is their schema check.
-    text = resources.files("bomcheck.rulesets").joinpath(f"{name}.toml").read_text("utf-8")
+    text = shipped_root().joinpath(f"{name}.toml").read_text("utf-8")
     errors = list(jsonschema.Draft202012Validator(_schema()).iter_errors(tomllib.loads(text)))
     assert errors == []
     rs = load_rules([name])
@@ -79,7 +80,7 @@ def test_shipped_names_and_default():
 def test_no_shipped_figure_is_labelled_ecss():
     # Reference sheet section 1.3: the ECSS capacitor tables were not read; label nothing "ECSS".
     for name in shipped_names():
-        text = resources.files("bomcheck.rulesets").joinpath(f"{name}.toml").read_text("utf-8")
+        text = shipped_root().joinpath(f"{name}.toml").read_text("utf-8")
         assert "ECSS" not in text.upper()
 
 
