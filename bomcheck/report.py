@@ -25,8 +25,8 @@ _RANK = {s: i for i, s in enumerate(STATUS_ORDER)}
 CAUTIONS: tuple[str, ...] = (
     "These results support engineering review; they do not replace it. A pass means the "
     "placement met the rules in force with the data given, nothing more.",
-    "The shipped limits are transcriptions: check each against your controlled copy of the "
-    "standard or handbook it cites before relying on it.",
+    "The shipped limits were copied by hand from the documents they cite: check each against "
+    "your controlled copy of that standard or handbook before relying on it.",
     "Stored energy and high voltage can injure or kill, and capacitors can hold a charge long "
     "after power is removed. Follow local electrical codes, the applicable safety standard and "
     "licensed practice; treat every capacitor as charged until measured discharged.",

@@ -35,7 +35,7 @@ DEFAULT_RULESET = "industrial"
 Most BOMs hold commercial and industrial parts, and the industrial set is written for them: its
 voltage limits come from the System Reliability Center derating sheet (benign column as the fail
 limit, severe column as the warn limit) and its temperature-dependent limits from makers'
-published practice. The ``strict`` set transcribes NASA EEE-INST-002 Section C1 Table 4, written
+published practice. The ``strict`` set takes its limits from NASA EEE-INST-002 Section C1 Table 4, written
 for qualified military-style parts in flight hardware; as a default it would fail most commercial
 designs on the first run and bury the findings that matter. High-reliability work asks for it with
 ``--rules strict``.
