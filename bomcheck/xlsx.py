@@ -20,6 +20,7 @@ import pandas as pd
 from openpyxl import Workbook
 from openpyxl.cell.cell import ERROR_CODES, ILLEGAL_CHARACTERS_RE, WriteOnlyCell
 from openpyxl.chart import Reference, ScatterChart, Series
+from openpyxl.chart.layout import Layout, ManualLayout
 from openpyxl.chart.marker import Marker
 from openpyxl.styles import Alignment, Border, Font, NamedStyle, PatternFill, Side
 from openpyxl.utils import get_column_letter
@@ -478,7 +479,11 @@ class _Book:
             chart.x_axis.scaling.max = max(max(xs) for _, xs, _ in lines)
         chart.x_axis.delete = False
         chart.y_axis.delete = False
+        # The limit-line names are long: give the plot a fixed share of the sheet so the legend
+        # on the right cannot squeeze it.
         chart.legend.position = "r"
+        chart.plot_area.layout = Layout(manualLayout=ManualLayout(
+            layoutTarget="inner", xMode="edge", yMode="edge", x=0.07, y=0.1, w=0.58, h=0.75))
         groups = plotted.groupby("_tech", sort=True).indices if len(plotted) else {}
         for name, idx in groups.items():
             first, last = int(idx.min()) + 2, int(idx.max()) + 2
