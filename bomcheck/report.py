@@ -234,25 +234,28 @@ def _placement_texts(table: pd.DataFrame, verdicts: pd.DataFrame) -> list[str]:
     n = len(table)
     if n == 0:
         return []
-    spec = _fragments(table, SPEC_FIELDS)
+    spec = _fragments(table, SPEC_FIELDS).tolist()
     # design_row differs on every placement: kept out of the shared fragment, spliced in after.
-    conditions = _fragments(table, tuple(f for f in CONDITION_FIELDS if f != "design_row"))
+    conditions = _fragments(table, tuple(f for f in CONDITION_FIELDS if f != "design_row")).tolist()
     rows = (pd.to_numeric(table["design_row"], errors="coerce") if "design_row" in table
             else pd.Series(np.nan, index=table.index))
-    row_text = np.where(rows.isna(), "null", rows.fillna(0).astype(np.int64).astype(str))
-    conditions = [f'{c[:-1]},"design_row":{r}}}' for c, r in zip(conditions.tolist(), row_text)]
-    metrics = _fragments(table, METRIC_FIELDS)
+    design_rows = np.where(rows.isna(), "null",
+                           rows.fillna(0).astype(np.int64).astype(str)).tolist()
+    metrics = _fragments(table, METRIC_FIELDS).tolist()
     from bomcheck.circuit import json_metric_texts  # circuit metrics, only where computed
 
-    metrics = [m[:-1] + x + "}" for m, x in zip(metrics.tolist(), json_metric_texts(table))]
-    head = [
-        f'{{"refdes":{_encode(r)},"row":{int(row)},"text":{_encode(text)},"status":"{st}",'
-        for r, row, text, st in zip(table["refdes"], table["row"], table["text"], table["status"])
-    ]
+    circuit = json_metric_texts(table)
     findings, checks = _verdict_texts(verdicts, n)
+    enc = _encode
+    # One pass over plain lists (iterating pandas columns directly costs more than the join).
     return [
-        f'{h}"spec":{s},"conditions":{c},"metrics":{m},"findings":[{f}],"checks":[{k}]}}'
-        for h, s, c, m, f, k in zip(head, spec, conditions, metrics, findings, checks)
+        f'{{"refdes":{enc(r)},"row":{row},"text":{enc(text)},"status":"{st}","spec":{sp},'
+        f'"conditions":{c[:-1]},"design_row":{dr}}},"metrics":{m[:-1]}{x}}},'
+        f'"findings":[{f}],"checks":[{k}]}}'
+        for r, row, text, st, sp, c, dr, m, x, f, k in zip(
+            table["refdes"].tolist(), table["row"].astype(int).tolist(), table["text"].tolist(),
+            table["status"].tolist(), spec, conditions, design_rows, metrics, circuit,
+            findings, checks)
     ]
 
 
@@ -271,11 +274,12 @@ def _verdict_texts(verdicts: pd.DataFrame, n: int) -> tuple[list[str], list[str]
         if keys is not _CHECK_KEYS:
             # The message names the designator, so it is unique: escape it alone, not its object.
             messages = part["message"].fillna("").astype(str).tolist()
-            texts = np.asarray([f'{t[:-1]},"message":{_encode(m)}}}' for t, m in
-                                zip(texts.tolist(), messages)], dtype=object)
+            texts = [f'{t[:-1]},"message":{_encode(m)}}}' for t, m in
+                     zip(texts.tolist(), messages)]
+        else:
+            texts = texts.tolist()
         pidx = part["pidx"].to_numpy(dtype=np.int64)
-        bounds = np.searchsorted(pidx, np.arange(n + 1))
-        texts = texts.tolist()
+        bounds = np.searchsorted(pidx, np.arange(n + 1)).tolist()
         out.append([",".join(texts[bounds[i]:bounds[i + 1]]) for i in range(n)])
     return out[0], out[1]
 
