@@ -351,10 +351,18 @@ def apply(table: pd.DataFrame, data: Any, ruleset: Any = None, *,
               if has_r else np.full(len(p), np.nan))
         share_cap[p], share_dc[p] = cap, dc
         changed[p] = True
-        share_generic[p] = tol_assumed.to_numpy()[p] | (has_r & np.isnan(r_tol))
+        # A share is generic only where the governing one rests on an assumption: an assumed
+        # capacitor tolerance for the capacitive share; an assumed resistor tolerance or an
+        # unknown leakage (taken as none) for the DC share.
+        dc_governs = has_r & ~(cap > dc)
+        share_generic[p] = ((tol_assumed.to_numpy()[p] & ~dc_governs)
+                            | (dc_governs & (np.isnan(r_tol) | np.isnan(leak))))
         if not math.isnan(upper):
             t.loc[t.index[p], "v_dc"] = v_dc * series_f(c) / c
-            t.loc[t.index[p], "v_dc_max"] = np.fmax(cap, dc)
+            # One member of unknown capacitance leaves every capacitive share unknown: no data,
+            # never the DC share alone.
+            worst = np.fmax(cap, dc) if np.isfinite(cap).all() else np.full(len(p), np.nan)
+            t.loc[t.index[p], "v_dc_max"] = worst
             t.loc[t.index[p], "v_ripple_pk"] = ripple * k
             if "v_transient_pk" in gc:  # a transient divides as the capacitances do
                 t.loc[t.index[p], "v_transient_pk"] = gc["v_transient_pk"] * k
@@ -427,7 +435,12 @@ def apply(table: pd.DataFrame, data: Any, ruleset: Any = None, *,
     tmult = parts_mod.curve_values(t, parts, "ripple_temp_mult", _col(out, "t_ambient_c"))
     fmult = parts_mod.curve_values(t, parts, "ripple_freq_mult", _col(t, "f_ripple_hz"),
                                    log_x=True)
-    allowed = _col(t, "ripple_rated_a") * fmult.fillna(1.0) * tmult.fillna(1.0)
+    rated_ripple = _col(t, "ripple_rated_a")
+    allowed = rated_ripple * fmult.fillna(1.0) * tmult.fillna(1.0)
+    # A multiplier the parts data does not give is taken as 1: mark the ratio generic (at most a
+    # warning) where that assumption is made for a frequency or temperature the rating is not at.
+    f_off = fmult.isna() & ~(_col(t, "f_ripple_hz") == _col(t, "ripple_rated_hz"))
+    ripple_assumed = rated_ripple.notna() & (f_off | tmult.isna())
 
     # Energy, the node each placement is on, and its discharge.
     v_stored = pd.Series(np.fmax(_col(out, "applied_peak_v"), SQRT2 * _col(out, "v_ac_rms")),
@@ -460,7 +473,14 @@ def apply(table: pd.DataFrame, data: Any, ruleset: Any = None, *,
                      c_margin=_finite(np.sum(c_worst[p]) / gc["c_min_f"])
                      if gc.get("c_min_f") else None)
         else:
-            s.update(c_worst_f=_finite(series_f(c_worst[p])))
+            gc = dict(groups[s["name"]].conditions)
+            stack_worst = series_f(c_worst[p])
+            # A stack's need is met by the stack, whose capacitance is the series combination.
+            if "c_min_f" in gc and gc["c_min_f"] > 0:
+                bank_min[p] = gc["c_min_f"]
+                bank_worst[p] = stack_worst
+            s.update(c_worst_f=_finite(stack_worst), c_min_f=_finite(gc.get("c_min_f", np.nan)),
+                     c_margin=_finite(stack_worst / gc["c_min_f"]) if gc.get("c_min_f") else None)
     node_energy = energy_j(node_c, node_v)
     v_safe = _col(t, "v_safe_v").fillna(opts.safe_voltage_v).to_numpy()
     m.update({
@@ -498,7 +518,21 @@ def apply(table: pd.DataFrame, data: Any, ruleset: Any = None, *,
               "bank_c_margin": bank_worst / bank_min})
     metrics = pd.DataFrame({k: np.asarray(v, dtype=float) for k, v in m.items()}, index=out.index)
     out = pd.concat([out.drop(columns=[c for c in _NEW_COLUMNS if c in out]), metrics], axis=1)
-    out["life_ratio_basis"] = np.where(generic_t & alu, "generic", "")
+    # Ripple current given but no ESR (or no rise computable): the self-heating is not counted,
+    # so the temperature and life verdicts are not firm.
+    heat_unknown = (i_rip.notna() & (i_rip > 0) & rise.isna()).to_numpy()
+    out["life_ratio_basis"] = np.where((generic_t | heat_unknown) & alu, "generic", "")
+    if heat_unknown.any():
+        for col in ("t_operating_c_basis", "temp_margin_c_basis"):
+            out[col] = np.where(heat_unknown, "generic", _text(out, col))
+    out["ripple_ratio_basis"] = np.where(ripple_assumed.to_numpy(), "generic", "")
+    # A bank or stack margin resting on a member's generic data is itself generic.
+    member_generic = (_text(out, "c_margin_basis") == "generic").to_numpy()
+    bank_generic = np.zeros(n, dtype=bool)
+    for s in summaries:
+        p = s["_pos"]
+        bank_generic[p] = member_generic[p].any()
+    out["bank_c_margin_basis"] = np.where(bank_generic & np.isfinite(bank_min), "generic", "")
 
     for s in summaries:
         p = s.pop("_pos")

@@ -121,7 +121,7 @@ _GROUP_ONLY: dict[str, tuple[str, ...]] = {
     "rail": (),
     "bank": ("c_min_f", "r_bleeder_ohm", "i_ripple_a"),
     "series": ("v_dc", "v_dc_max", "v_ripple_pk", "v_transient_pk", "v_reverse_pk", "v_ac_rms",
-               "r_bleeder_ohm", "slew_v_per_s", "r_source_ohm"),
+               "r_bleeder_ohm", "slew_v_per_s", "r_source_ohm", "c_min_f"),
 }
 _PEAK_FIELDS = frozenset({"v_ripple_pk", "v_transient_pk", "v_reverse_pk"})
 _TEXT_FIELDS = ("refdes", "members", "group", "kind", "notes")

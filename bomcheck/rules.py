@@ -52,6 +52,7 @@ RANGES: dict[str, tuple[str, str, str]] = {
     "applied_peak": ("applied_peak_v", "voltage", "applied peak"),
     # c_min_f = 0 is the design sheet's "none": the circuit states no minimum capacitance.
     "required_capacitance": ("c_min_f", "capacitance", "required C"),
+    "node_voltage": ("node_v", "voltage", "node"),
 }
 _BOUND_OPS = {"min": ">=", "max": "<=", "above": ">", "below": "<"}
 _LIST_KEYS = ("technology", "dielectric_class", "dielectric", "safety_class", "package")

@@ -16,6 +16,11 @@ import pandas as pd
 
 
 
+# Capacitance change taken for a class II ceramic whose code is not known: X7R/X5R's +/-15 %
+# (EIA-198 letter R), the common case, marked generic wherever it is used.
+ASSUMED_CLASS2_CHANGE_PCT = 15.0
+
+
 @dataclass(frozen=True)
 class StressData:
     """Assumed data the stress stage needs beyond the BOM and the design sheet.
@@ -123,9 +128,16 @@ def capacitance_worst_case(
     tol_frac = tol_frac.fillna(data.default_tol_pct / 100.0)
 
     cls = num_column(table, "dielectric_class")
+    change = num_column(table, "cap_change_minus_pct")
+    # A ceramic whose text names no dielectric (or a class II code without its change figure) is
+    # taken as class II with the common +/-15 % (X7R/X5R) and marked generic, never as lossless.
+    ceramic = text_column(table, "technology") == "ceramic"
+    class_assumed = (ceramic & cls.isna()) | (cls.isin([2.0, 3.0]) & change.isna())
+    cls = cls.where(~(ceramic & cls.isna()), 2.0)
+    change = change.where(~class_assumed, ASSUMED_CLASS2_CHANGE_PCT)
     class23 = cls.isin([2.0, 3.0])
     temp_loss = pd.Series(0.0, index=table.index)
-    temp_loss = temp_loss.mask(class23, num_column(table, "cap_change_minus_pct") / 100.0)
+    temp_loss = temp_loss.mask(class23, change / 100.0)
     temp_loss = temp_loss.mask(
         cls == 1.0, _class1_loss(num_column(table, "tc_ppm"), num_column(table, "tc_tol_ppm"), t_operating_c)
     )
@@ -141,7 +153,7 @@ def capacitance_worst_case(
     bias_keep = bias_keep.fillna(1.0)
 
     life = num_column(table, "life_h")
-    k = _aging_k(table, data)
+    k = _aging_k(table.assign(dielectric_class=cls), data)
     decades = np.log10(np.fmax(life, data.aging_t0_h) / data.aging_t0_h)
     aging_loss = (k / 100.0 * decades).fillna(0.0).clip(lower=0.0, upper=1.0)
     aging_unknown = (k > 0) & life.isna()
@@ -150,17 +162,19 @@ def capacitance_worst_case(
     c_worst = nominal * tol_factor * (1.0 - temp_loss) * bias_keep * (1.0 - aging_loss)
     c_min = num_column(table, "c_min_f")
 
-    flags = (tol_assumed, bias_generic, bias_unknown, aging_unknown)
+    flags = (tol_assumed, bias_generic, bias_unknown, aging_unknown, class_assumed)
     texts = (f"tolerance not given, {data.default_tol_pct:g} % assumed",
              "DC-bias loss from the generic typical curve (common practice), give part data",
              "DC-bias loss not counted (voltage unknown)",
-             "aging not counted (no required life given)")
-    # One note per combination of the four flags, looked up by a 4-bit code (no per-row strings).
+             "aging not counted (no required life given)",
+             f"dielectric not given: class II (-{ASSUMED_CLASS2_CHANGE_PCT:g} %) assumed")
+    # One note per combination of the flags, looked up by a bit code (no per-row strings).
     code = sum(f.to_numpy(dtype=bool).astype(np.int64) << i for i, f in enumerate(flags))
-    lookup = np.array(["; ".join(t for i, t in enumerate(texts) if c >> i & 1) for c in range(16)],
-                      dtype=object)
+    lookup = np.array([
+        "; ".join(t for i, t in enumerate(texts) if c >> i & 1) for c in range(1 << len(texts))
+    ], dtype=object)
     notes = pd.Series(lookup[code], index=table.index, dtype=object)
-    generic = tol_assumed | bias_generic | bias_unknown | aging_unknown
+    generic = tol_assumed | bias_generic | bias_unknown | aging_unknown | class_assumed
     return pd.DataFrame(
         {
             "c_tol_factor": tol_factor,

@@ -121,3 +121,23 @@ def test_no_design_sheet_is_no_data_everywhere(tmp_path):
     report = run_audit(bom, None)
     assert report.table.status.tolist() == ["nodata"]
     assert report.status == "nodata"
+
+
+def test_series_stack_need_is_met_by_the_stack_not_each_member(sample):
+    # Series combination (textbook): two 220 uF -20 % members give 176 uF / 2 = 88 uF, against
+    # the DC link's stated 150 uF need; each member alone (176 uF) would have passed.
+    v = sample.verdicts
+    row = v[(v.refdes == "C4") & (v.rule_id == "IND-BANK-C")].iloc[0]
+    assert row.status == "fail"
+    assert row.value == pytest.approx(88e-6 / 150e-6)
+    assert "IND-CMARGIN" not in set(v.loc[v.refdes == "C4", "rule_id"])
+
+
+def test_high_voltage_node_without_discharge_path_is_no_data(sample):
+    # IEC 60204-1 (secondary): above 60 V a discharge path must be shown; C6 sits on 400 V with
+    # no bleeder stated, so the caution rule cannot be judged: no data, never silence.
+    v = sample.verdicts
+    row = v[(v.refdes == "C6") & (v.rule_id == "IND-SAFE-60204")].iloc[0]
+    assert row.status == "nodata" and "discharge resistance" in row.message
+    # The 3.3 V rail is below 60 V: the rule does not apply there.
+    assert not ((v.refdes == "C21") & (v.rule_id == "IND-SAFE-60204")).any()

@@ -120,3 +120,16 @@ def test_columns_not_rows_large_table():
     t = row.loc[row.index.repeat(n)].reset_index(drop=True)
     r = compute(t, AGING)
     assert len(r) == n and r["voltage_ratio"].eq(12.0 / 50.0).all()
+
+
+def test_ceramic_without_dielectric_is_not_lossless():
+    # A ceramic whose text names no dielectric is taken as class II with the common +/-15 %
+    # (EIA-198 letter R) and marked generic: never a firm pass on an unknown part.
+    t = one(capacitance_f=10e-6, tol_minus_pct=10.0, technology="ceramic", voltage_v=16.0,
+            v_dc=12.0, t_ambient_c=40.0, life_h=1.0, c_min_f=4.7e-6, package="0805")
+    data = StressData(dc_bias={"default": ((0.0, 1.0), (1.0, 0.3))}, aging_k={"class2": 2.5})
+    r = compute(t, data)
+    assert r.at[0, "c_temp_factor"] == pytest.approx(0.85)
+    assert r.at[0, "c_bias_factor"] < 1.0
+    assert r.at[0, "c_margin_basis"] == "generic"
+    assert "dielectric not given" in r.at[0, "c_margin_note"]
