@@ -141,3 +141,33 @@ def test_high_voltage_node_without_discharge_path_is_no_data(sample):
     assert row.status == "nodata" and "discharge resistance" in row.message
     # The 3.3 V rail is below 60 V: the rule does not apply there.
     assert not ((v.refdes == "C21") & (v.rule_id == "IND-SAFE-60204")).any()
+
+
+def test_ripple_rating_at_another_frequency_is_not_a_firm_pass(tmp_path):
+    # Common practice: an electrolytic's rated ripple current holds at its rated frequency only;
+    # with no frequency multiplier in the parts data the verdict rests on an assumption.
+    bom = write(tmp_path, "bom.csv", "Designator,Value,Description,MPN\n"
+                "C1,470uF,CAP ALU ELEC 470UF 35V 105C 10x16,RV-AE-477-35\n")
+    parts = write(tmp_path, "parts.csv", "mpn,ripple_current,ripple_freq,esr,life,life_temp\n"
+                  "RV-AE-477-35,1.0 A,100 kHz,0.05 ohm,5000 h,105 degC\n")
+    design = write(tmp_path, "design.csv", "refdes,v_dc,t_ambient_c,c_min_f,i_ripple_a,f_ripple_hz\n"
+                   "C1,24 V,40 degC,none,0.9 A,120 Hz\n")
+    report = run_audit(bom, design, AuditOptions(parts=parts))
+    v = report.verdicts
+    row = v[v.rule_id == "IND-RIPPLE"].iloc[0]
+    assert row.value == pytest.approx(0.9)
+    assert "generic typical data" in row.message
+
+
+def test_series_member_of_unknown_capacitance_gives_no_data(tmp_path):
+    # Capacitive division needs every member's capacitance; one unknown leaves every share
+    # unknown, so the voltage verdicts are no data rather than the DC share alone.
+    bom = write(tmp_path, "bom.csv", "Designator,Value,Description\n"
+                "C1,220uF,CAP ALU ELEC 220UF 250V 105C\nC2,TBD,CAP ALU ELEC 250V 105C\n")
+    design = write(tmp_path, "design.csv",
+                   "refdes,members,kind,v_dc,t_ambient_c,c_min_f,r_balance_ohm,r_balance_tol_pct\n"
+                   "*,,,,40 degC,none,,\nLINK,\"C1, C2\",series,400 V,,,,\nC1-C2,,,,,,100 kohm,1\n")
+    report = run_audit(bom, design)
+    v = report.verdicts
+    c1 = v[(v.refdes == "C1") & (v.rule_id == "IND-ALE-V")].iloc[0]
+    assert c1.status == "nodata"
