@@ -336,7 +336,11 @@ def apply(table: pd.DataFrame, data: Any, ruleset: Any = None, *,
         gc = dict(g.conditions)
         p = np.asarray(pos)
         v_dc = gc.get("v_dc", np.nan)
-        upper = gc.get("v_dc_max", v_dc * (1.0 + gc.get("v_tol_pct", 0.0) / 100.0))
+        # The rail's tolerance: the group's own, else what reaches the members (board defaults).
+        member_tol = _col(t, "v_tol_pct").to_numpy()[p]
+        member_tol = float(np.max(member_tol[np.isfinite(member_tol)])) if np.isfinite(
+            member_tol).any() else 0.0
+        upper = gc.get("v_dc_max", v_dc * (1.0 + gc.get("v_tol_pct", member_tol) / 100.0))
         ripple = gc.get("v_ripple_pk", 0.0)
         c = c_nom.to_numpy()[p]
         cmax = c_max.to_numpy()[p]

@@ -171,3 +171,15 @@ def test_series_member_of_unknown_capacitance_gives_no_data(tmp_path):
     v = report.verdicts
     c1 = v[(v.refdes == "C1") & (v.rule_id == "IND-ALE-V")].iloc[0]
     assert c1.status == "nodata"
+
+
+def test_series_stack_takes_the_board_wide_rail_tolerance(tmp_path):
+    # 400 V +5 % = 420 V across 2 x 220 uF +/-20 %: the worst member takes 420 x 264/440 = 252 V
+    # (capacitive division, arithmetic); the tolerance comes from the board-wide '*' row.
+    bom = write(tmp_path, "bom.csv", "Designator,Value,Description\n"
+                "C1,220uF,CAP ALU ELEC 220UF 250V 20% 105C\nC2,220uF,CAP ALU ELEC 220UF 250V 20% 105C\n")
+    design = write(tmp_path, "design.csv",
+                   "refdes,members,kind,v_dc,v_tol_pct,t_ambient_c,c_min_f\n"
+                   "*,,,,5,40 degC,none\nLINK,\"C1, C2\",series,400 V,,,\n")
+    report = run_audit(bom, design)
+    assert report.table["v_share_cap_v"].tolist() == pytest.approx([252.0, 252.0])
