@@ -91,9 +91,7 @@ def _add_substitute(sub, common: argparse.ArgumentParser) -> None:
     p.add_argument("--alternates", metavar="FILE", help="alternates file (.csv, .xlsx, .toml): "
                    "original (MPN, BOM line text or designators) -> alternate (mpn, "
                    "description, optional parts-data fields, footprint_checked)")
-    p.add_argument("--design", metavar="SHEET", help="design sheet of operating conditions "
-                   "(.csv, .xlsx, .toml)")
-    p.add_argument("--design-sheet", metavar="NAME", help="sheet of an XLSX design file")
+    _add_audit_inputs(p)
     p.add_argument("--original", metavar="TEXT", help="direct form: the part replaced (its "
                    "text; with a BOM also its MPN or designators)")
     p.add_argument("--proposed", metavar="TEXT", help="direct form: the alternate's "
@@ -106,11 +104,6 @@ def _add_substitute(sub, common: argparse.ArgumentParser) -> None:
                    "without a BOM: designators of the placements (repeatable, or a list)")
     for flag, _name, text in SUBSTITUTE_CONDITIONS:
         p.add_argument(flag, metavar="VALUE", help=f"direct form: {text}")
-    p.add_argument("--parts", metavar="FILE", help="parts data keyed by MPN (.csv, .xlsx, "
-                   ".toml), as for audit")
-    p.add_argument("--rules", action="append", default=[], metavar="NAME_OR_PATH",
-                   help="rule set by shipped name or TOML path (repeatable). Default: the "
-                   "shipped default set")
     p.add_argument("--margin-drop", type=float, default=10.0, metavar="PP", help="review when "
                    "a stress shown in %% comes this many percentage points closer to its "
                    "limit (default: 10)")
@@ -125,6 +118,19 @@ def _add_substitute(sub, common: argparse.ArgumentParser) -> None:
     p.add_argument("--all", action="store_true", help="show every alternate and placement "
                    "in detail")
     _add_import_options(p)
+
+
+def _add_audit_inputs(p: argparse.ArgumentParser) -> None:
+    """The inputs an audit takes beside the BOM; shared by audit and substitute."""
+    p.add_argument("--design", metavar="SHEET", help="design sheet of operating conditions "
+                   "(.csv, .xlsx, .toml)")
+    p.add_argument("--design-sheet", metavar="NAME", help="sheet of an XLSX design file")
+    p.add_argument("--parts", metavar="FILE", help="parts data keyed by MPN (.csv, .xlsx, "
+                   ".toml): ratings, ESR, ripple, surge, life, leakage, DC-bias curves; "
+                   "overrides the BOM text")
+    p.add_argument("--rules", action="append", default=[], metavar="NAME_OR_PATH",
+                   help="rule set by shipped name or TOML path (repeatable; later ones override "
+                   "rules of the same id). Default: the shipped default set")
 
 
 def build_parser() -> argparse.ArgumentParser:
@@ -160,15 +166,7 @@ def build_parser() -> argparse.ArgumentParser:
                        "rules in force. Exit status 0: nothing at or above --fail-on; 1: "
                        "findings at or above it; 2: inputs unusable.")
     p.add_argument("bom", help="BOM file (.csv, .tsv, .txt, .xlsx)")
-    p.add_argument("--design", metavar="SHEET", help="design sheet of operating conditions "
-                   "(.csv, .xlsx, .toml)")
-    p.add_argument("--design-sheet", metavar="NAME", help="sheet of an XLSX design file")
-    p.add_argument("--parts", metavar="FILE", help="parts data keyed by MPN (.csv, .xlsx, "
-                   ".toml): ratings, ESR, ripple, surge, life, leakage, DC-bias curves; "
-                   "overrides the BOM text")
-    p.add_argument("--rules", action="append", default=[], metavar="NAME_OR_PATH",
-                   help="rule set by shipped name or TOML path (repeatable; later ones override "
-                   "rules of the same id). Default: the shipped default set")
+    _add_audit_inputs(p)
     p.add_argument("--json", metavar="OUT", help="write the JSON report to OUT ('-' for stdout)")
     p.add_argument("--fail-on", choices=("fail", "nodata", "warn", "new"), default=None,
                    help="lowest status that makes the exit status 1 (order: waived < warn < "
