@@ -946,13 +946,11 @@ def read_design(path: str, *, sheet: str | int | None = None) -> Design:
                                           "ignored",)
         return replace(design, sha256=sha256, format="toml",
                        warnings=design.warnings + extra)
-    from bomcheck.reader import HeaderNotFound, read_table
+    from bomcheck.reader import read_input_table
 
-    try:
-        raw = read_table(str(path), sheet=sheet, header_predicate=is_design_header)
-    except HeaderNotFound:
-        raise InputError("no design-sheet header row in the first rows", path=str(path),
-                         expected="a header row with a designator (refdes) or group column and "
-                                  "a value column such as v_dc, t_ambient_c or members") from None
+    raw = read_input_table(
+        str(path), sheet=sheet, header_predicate=is_design_header, what="design-sheet",
+        expected="a header row with a designator (refdes) or group column and a value column "
+                 "such as v_dc, t_ambient_c or members")
     design = design_from_table(raw.frame, raw.rows, path=str(path), header_row=raw.header_row)
     return replace(design, sha256=sha256, format=raw.format, sheet=raw.sheet)

@@ -185,14 +185,12 @@ def read_parts(path: str, *, sheet: str | int | None = None) -> PartsData:
         text = toml_text(data, str(path))
         parts = parts_from_toml(text, path=str(path))
     else:
-        from bomcheck.reader import HeaderNotFound, read_table
+        from bomcheck.reader import read_input_table
 
-        try:
-            raw = read_table(str(path), sheet=sheet, header_predicate=is_parts_header)
-        except HeaderNotFound:
-            raise InputError("no parts-file header row in the first rows", path=str(path),
-                             expected="a header row with an mpn column and data columns such "
-                                      "as rated_voltage, esr or dc_bias") from None
+        raw = read_input_table(
+            str(path), sheet=sheet, header_predicate=is_parts_header, what="parts-file",
+            expected="a header row with an mpn column and data columns such as rated_voltage, "
+                     "esr or dc_bias")
         parts = parts_from_table(raw.frame, raw.rows, path=str(path))
     return PartsData(path=str(path), sha256=sha256, values=parts.values, curves=parts.curves,
                      warnings=parts.warnings)

@@ -113,6 +113,17 @@ def load_toml(text: str, path: str) -> dict:
                          row=int(m.group(1)) if m else None) from None
 
 
+def read_input_table(path: str, *, sheet: str | int | None, header_predicate, what: str,
+                     expected: str) -> RawTable:
+    """``read_table`` for a side input (design sheet, parts file, alternates): a missing header
+    row is one error naming the file, what it is and the header it needs."""
+    try:
+        return read_table(str(path), sheet=sheet, header_predicate=header_predicate)
+    except HeaderNotFound:
+        raise InputError(f"no {what} header row in the first rows", path=str(path),
+                         expected=expected) from None
+
+
 def _default_predicate() -> Callable[[list[str]], bool]:
     from bomcheck.columns import has_designator_column
 

@@ -547,27 +547,15 @@ def read_alternates(path: str, *, sheet: str | int | None = None) -> tuple[Alter
 
     Raises ``InputError`` naming the file, row and column of anything that cannot be used.
     """
-    p = Path(path)
-    if p.suffix.lower() == ".toml":
-        try:
-            text = p.read_bytes().decode("utf-8-sig")
-        except FileNotFoundError:
-            raise InputError("alternates file not found", path=str(path)) from None
-        except OSError as exc:
-            raise InputError(f"cannot read the alternates file ({exc.strerror})",
-                             path=str(path)) from None
-        except UnicodeDecodeError as exc:
-            raise InputError("TOML must be UTF-8", path=str(path),
-                             hint=f"undecodable byte at offset {exc.start}") from None
-        return alternates_from_toml(text, path=str(path))
-    from bomcheck.reader import HeaderNotFound, read_table
+    from bomcheck.reader import read_input, read_input_table, toml_text
 
-    try:
-        raw = read_table(str(path), sheet=sheet, header_predicate=is_alternates_header)
-    except HeaderNotFound:
-        raise InputError("no alternates header row in the first rows", path=str(path),
-                         expected="a header row with an 'original' column and the alternate's "
-                                  "'mpn' and/or 'description'") from None
+    if Path(path).suffix.lower() == ".toml":
+        data, _ = read_input(str(path), "alternates file")
+        return alternates_from_toml(toml_text(data, str(path)), path=str(path))
+    raw = read_input_table(
+        str(path), sheet=sheet, header_predicate=is_alternates_header, what="alternates",
+        expected="a header row with an 'original' column and the alternate's 'mpn' and/or "
+                 "'description'")
     headers = list(raw.frame.columns)
     records = [(int(r), dict(zip(headers, cells))) for r, cells in
                zip(raw.rows.tolist(), raw.frame.itertuples(index=False, name=None))]
