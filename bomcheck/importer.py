@@ -461,6 +461,14 @@ class _Combo:
     description: str
 
 
+def spec_from_cells(cells: Mapping[str, str]) -> tuple[dict, str, str, str]:
+    """(spec values, joined text, value text, description) of one line's BOM-style cells
+    (``{"value": ..., "description": ..., "voltage": ...}``), parsed and merged exactly as the
+    importer does, so the same text gives the same spec wherever it is written."""
+    combo = _Parser(semicolon=False).combo({k: str(v) for k, v in cells.items()})
+    return dict(combo.spec), combo.text, combo.value_text, combo.description
+
+
 class _Parser:
     """Parse cells through ``parse_value`` with a cache per (context, text)."""
 

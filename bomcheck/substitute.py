@@ -26,6 +26,7 @@ import pandas as pd
 
 from bomcheck import __version__
 from bomcheck.errors import InputError
+from bomcheck.importer import spec_from_cells
 from bomcheck.report import CAUTIONS, STATUS_ORDER, ruleset_summary
 from bomcheck.spec import SPEC_KEYS, CapSpec
 from bomcheck.vocabulary import METRICS
@@ -699,15 +700,6 @@ def with_spec(table: pd.DataFrame, rows: np.ndarray, values: Mapping[str, Any]) 
             arr[rows] = fill
             out[col] = pd.Series(arr, index=out.index, dtype=object)
     return out
-
-
-def spec_from_cells(cells: Mapping[str, str]) -> tuple[dict, str, str, str]:
-    """(spec values, joined text, value text, description) of BOM-style cells, parsed by the
-    importer's parser with the BOM's contexts, so the same text gives the same spec."""
-    from bomcheck.importer import _Parser
-
-    combo = _Parser(semicolon=False).combo({k: str(v) for k, v in cells.items()})
-    return dict(combo.spec), combo.text, combo.value_text, combo.description
 
 
 def _empty_spec() -> dict:
