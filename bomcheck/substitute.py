@@ -632,21 +632,18 @@ def _merge_parts(base: Any, extra: Any) -> Any:
 
 @dataclass(frozen=True)
 class Stages:
-    """What the audit's stages need beyond the table: the rule set, its stress data, the parts
-    data and the design's groups (banks, series stacks)."""
+    """What the audit's stages need beyond the table: the rule set, the parts data and the
+    design's groups (banks, series stacks)."""
 
     ruleset: Any
-    stress_data: Any
     parts: Any = None
     groups: Mapping[str, Any] | None = None
 
     @classmethod
     def for_ruleset(cls, ruleset: Any, *, parts: Any = None,
                     groups: Mapping[str, Any] | None = None) -> Stages:
-        """Stages with the stress data the audit derives from ``ruleset``."""
-        from bomcheck.audit import stress_data  # the audit's own derivation, not a copy
-
-        return cls(ruleset, stress_data(ruleset), parts, groups)
+        """Stages for ``ruleset`` (``audit.evaluate_table`` derives its stress data)."""
+        return cls(ruleset, parts, groups)
 
 
 _STAGE_PARTS: Any = object()  # "the stages' own parts data" (None means no parts data)
