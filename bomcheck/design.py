@@ -157,6 +157,8 @@ ALIASES: dict[str, tuple[str, ...]] = {
     "t_ambient_c": ("t_ambient_c", "t_ambient", "t_amb", "ta", "ambient",
                     "ambient temperature", "local ambient", "board temperature", "t_board",
                     "temperature", "temp"),
+    "t_ambient_min_c": ("t_ambient_min_c", "t_ambient_min", "t_amb_min", "ta_min",
+                        "minimum ambient", "min ambient", "coldest ambient", "cold start"),
     "t_rise_c": ("t_rise_c", "t_rise", "rise", "temperature rise", "self heating", "delta t"),
     "c_min_f": ("c_min_f", "c_min", "required capacitance", "minimum capacitance",
                 "min capacitance", "c required", "c_req", "capacitance needed"),
