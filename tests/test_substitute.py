@@ -103,8 +103,10 @@ def test_lower_voltage_alternate_passes_low_placement_and_fails_high_one(board):
     assert c1.original_status == c2.original_status == "pass"
     assert r.verdict == "rejected"
     rejected = [i for i in r.reasons if i.severity == "reject"]
-    assert [i.refdes for i in rejected] == [("C2",)]
-    assert "24 V peak = 150 % of the rating, above the 70 % limit" in rejected[0].text
+    # C2 only; its 24 V also breaks the transient rule (within the rating, common practice)
+    assert {i.refdes for i in rejected} == {("C2",)}
+    assert any("24 V peak = 150 % of the rating, above the 70 % limit" in i.text
+               for i in rejected)
 
 
 def test_polymer_for_mno2_tantalum_changes_the_limit_that_applies(board):
