@@ -42,6 +42,7 @@ METRIC_FIELDS: tuple[str, ...] = (
 FINDING_FIELDS = {  # JSON key -> verdict column
     "rule": "rule_id", "status": "status", "value": "value", "limit": "limit",
     "warn_limit": "warn_limit", "margin": "margin", "message": "message", "source": "source",
+    "basis": "basis",
 }
 # Written only when the verdict table has the column (waivers were applied).
 OPTIONAL_FINDING_FIELDS = {"waived_from": "waived_from"}
@@ -84,6 +85,7 @@ class Report:
     rules: Any = None  # the RuleSet in force, for renderers that list it
     waiver_findings: tuple = ()  # bomcheck.waivers.WaiverFinding: applied, expired, unused...
     groups: tuple[dict, ...] = ()  # banks and series stacks with their totals (bomcheck.circuit)
+    environment: str = "severe"  # the audit environment the limits were taken for
 
     @property
     def status(self) -> str:
@@ -139,6 +141,7 @@ class Report:
         return {
             "tool": {"name": "bomcheck", "version": self.tool_version},
             "status": self.status,
+            "environment": self.environment,
             "rulesets": list(self.rulesets),
             "inputs": list(self.inputs),
             "totals": {k: int(v) for k, v in self.totals.items()},
