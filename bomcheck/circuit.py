@@ -575,11 +575,10 @@ def _self_heating_bounds(out: pd.DataFrame, t: pd.DataFrame, design_rise: pd.Ser
     resistance, or a ripple current with no ESR): the heating is never below zero, so the
     operating temperature without it is the favourable bound; there is no worst bound."""
     t_best = _col(out, "t_ambient_c") + design_rise.fillna(0.0)
-    typical_rating = _col(out, "temp_margin_c_worst").notna()  # rating itself unknown
+    typical_rating = _col(out, "temp_max_c").isna()  # the rating itself is the typical one
     out["t_operating_c_best"] = np.where(uncertain, t_best, np.nan)
     out["temp_margin_c_best"] = np.where(uncertain & ~typical_rating.to_numpy(),
                                          _col(out, "temp_max_used_c") - t_best, np.nan)
-    out["temp_margin_c_worst"] = np.where(uncertain, np.nan, _col(out, "temp_margin_c_worst"))
     t0 = _col(t, "life_t0_c").fillna(_col(out, "temp_max_used_c"))
     life = electrolytic_life_h(_col(t, "life_l0_h"), t0, t_best)
     out["life_ratio_best"] = np.where(uncertain & alu, np.asarray(life, dtype=float)

@@ -191,7 +191,7 @@ def capacitance_worst_case(
     c_min = num_column(table, "c_min_f")
 
     flags = (tol_assumed, bias_generic, bias_unknown, aging_unknown, class_assumed)
-    texts = (f"tolerance not given, {data.default_tol_pct:g} % assumed (the widest common)",
+    texts = (f"tolerance not given, {data.default_tol_pct:g} % assumed",
              "DC-bias loss from the generic typical curve (common practice), give part data",
              "DC-bias loss not counted (voltage unknown)",
              "aging not counted (no required life given)",
@@ -217,7 +217,9 @@ def capacitance_worst_case(
     worst_decades = np.log10(data.worst_life_h / data.aging_t0_h)
     worst_aging = np.where(aging_unknown, (k / 100.0 * worst_decades).clip(0.0, 1.0), aging_loss)
     worst_temp = np.where(class_assumed, data.worst_class_change_pct / 100.0, temp_loss)
-    c_worst_bound = nominal * tol_factor * (1.0 - worst_temp) * worst_keep * (1.0 - worst_aging)
+    # An assumed tolerance has no worst bound: the BOM should give it (no pass without it).
+    c_worst_bound = (nominal * tol_factor * (1.0 - worst_temp) * worst_keep * (1.0 - worst_aging)
+                     ).where(~tol_assumed)
     need = c_min.where(c_min > 0)  # c_min_f = 0 is the design sheet's "none": no margin
     return pd.DataFrame(
         {
@@ -277,8 +279,6 @@ def compute(table: pd.DataFrame, data: StressData) -> pd.DataFrame:
             "temp_max_used_c": temp_max,
             "temp_margin_c": temp_max - t_operating,
             "temp_margin_c_basis": np.where(temp_assumed, "generic", ""),
-            # the typical rating is the conservative end of the usual grades: a worst bound
-            "temp_margin_c_worst": (temp_max - t_operating).where(temp_assumed),
             "t_cold_c": t_cold,
             "temp_min_margin_c": t_cold - num_column(table, "temp_min_c"),
         },
