@@ -81,11 +81,12 @@ def check_kind(name: str) -> CheckKind:
 
 def _round_sig(x: np.ndarray, digits: int = 4) -> np.ndarray:
     """Round to ``digits`` significant digits, so that values printing alike share one string."""
-    with np.errstate(divide="ignore", invalid="ignore"):
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
         mag = np.floor(np.log10(np.abs(x)))
-    mag = np.where(np.isfinite(mag), mag, 0.0)
-    scale = 10.0 ** (digits - 1 - mag)
-    return np.round(x * scale) / scale
+        mag = np.where(np.isfinite(mag), mag, 0.0)
+        scale = 10.0 ** (digits - 1 - mag)
+        out = np.round(x * scale) / scale
+    return np.where(np.isfinite(out), out, x)
 
 
 @dataclass(frozen=True)
