@@ -17,7 +17,11 @@ column's bare numbers, else the unit shown): ``capacitance`` (F), ``rated_voltag
 frequency and over ambient temperature), ``surge_current`` (A), ``life`` (h, the rated life L0)
 at ``life_temp`` (degC, T0; default ``temp_max``), ``leakage`` (A, the rated maximum),
 ``thermal_resistance`` (degC/W), ``dc_bias`` (applied voltage against the capacitance left, as a
-fraction, a percentage or a capacitance), ``notes``.
+fraction, a percentage or a capacitance), ``tolerance`` (symmetric, ``±20 %``), ``dielectric``
+(an EIA code such as ``X7R``), ``override`` (``true`` lets this part's data replace what the BOM
+text says, see below) and ``notes``. Every value is read by the strict cell grammar of
+``bomcheck.units`` and checked against its plausible range; ratings, ESR, currents, life and
+thermal resistance must be above zero, and ``temp_min`` below ``temp_max``.
 
 A curve is written ``x: y; x: y`` (``"120 Hz: 0.6; 1 kHz: 0.85; 100 kHz: 1"``); in TOML it may
 also be a list of pairs (``[["0 V", "100 %"], ["5 V", "30 %"]]``).
@@ -32,11 +36,16 @@ TOML
 
 Laying the data over the placements
 -----------------------------------
-A placement whose MPN (case-insensitive, stripped) is in the file takes the file's values:
-they override the spec columns the BOM text gave (rated voltage, rated temperatures,
-capacitance) and add the part's ratings (``esr_ohm``, ``ripple_rated_a``, ``surge_rated_a``,
-``life_l0_h``...). Where the BOM text says something else, the placement gets a warning naming
-both values (the parts data is used).
+A placement whose MPN (case-insensitive, stripped) is in the file gains the part's ratings
+(``esr_ohm``, ``ripple_rated_a``, ``surge_rated_a``, ``life_l0_h``...) and fills the spec
+columns the BOM text left empty (capacitance, rated voltage, rated temperatures, tolerance,
+dielectric). Where the BOM text says something else, the verdict uses the conservative value
+(lower rated voltage, lower rated maximum temperature, higher rated minimum temperature,
+smaller capacitance, wider tolerance, the dielectric with the narrower range or larger change)
+and the placement gets a ``parts.conflict`` warning naming both values. The parts data replaces
+the BOM text only when the user says so: ``override = true`` on the part, or ``override=True``
+for the whole file (``read_parts``; the command line's ``--parts-override``); the conflict is
+then still listed, as a ``pass`` finding that says the parts data was used.
 """
 
 from __future__ import annotations
@@ -50,8 +59,10 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
+from bomcheck.codes import Dielectric, decode_dielectric
+from bomcheck.design_cells import InputWarning
 from bomcheck.errors import InputError, UnitError
-from bomcheck.units import to_si
+from bomcheck.units import check_plausible, to_si
 
 PARTS_FINDING = "parts.conflict"
 
@@ -71,6 +82,13 @@ FIELDS: dict[str, tuple[str, str, str]] = {
     "leakage": ("current", "A", "leakage_a"),
     "thermal_resistance": ("thermal_resistance", "delta_degC / W", "rth_c_per_w"),
 }
+# Sign rule of each field (bomcheck.units.SIGNS); temperatures are points on a scale.
+_SIGNS = {"temp_min": "any", "temp_max": "any", "life_temp": "any"}
+_CURVE_X_SIGN = {"voltage": "nonneg", "frequency": "positive"}  # log-interpolated: above 0
+# Fields read as text or flags rather than quantities.
+TEXT_FIELDS = ("tolerance", "dielectric", "override")
+_TRUE = frozenset({"true", "yes", "y", "1", "x"})
+_FALSE = frozenset({"false", "no", "n", "0", ""})
 # Curve -> (quantity of x, quantity of y; "fraction" for a multiplier or remaining fraction).
 CURVES: dict[str, tuple[str, str]] = {
     "dc_bias": ("voltage", "fraction"),
@@ -108,6 +126,9 @@ ALIASES: dict[str, tuple[str, ...]] = {
     "leakage": ("leakage", "leakage current", "dcl", "i_leak"),
     "thermal_resistance": ("thermal_resistance", "thermal resistance", "rth", "r_th"),
     "dc_bias": ("dc_bias", "dc bias", "dc bias curve", "dc-bias curve"),
+    "tolerance": ("tolerance", "tol", "capacitance tolerance"),
+    "dielectric": ("dielectric", "dielectric code", "temperature characteristic", "tc code"),
+    "override": ("override", "overrides bom", "use parts data"),
     "notes": ("notes", "note", "comment", "comments"),
 }
 
@@ -143,16 +164,18 @@ class Curve:
 class PartsData:
     """A parts file read: one row per MPN key (upper case) with SI values, plus the curves.
 
-    ``values`` is indexed by the MPN key with a float column per ``FIELDS`` name, ``mpn`` (as
-    written) and ``row`` (source row or TOML line); ``curves`` maps a ``CURVES`` name to the
-    parts that give one.
+    ``values`` is indexed by the MPN key with a float column per ``FIELDS`` name, ``tolerance``
+    (%), ``dielectric`` (canonical code or ""), ``override`` (bool), ``mpn`` (as written) and
+    ``row`` (source row or TOML line); ``curves`` maps a ``CURVES`` name to the parts that give
+    one. ``override_all`` lets every part's data replace the BOM text (an explicit user choice).
     """
 
     path: str
     sha256: str
     values: pd.DataFrame
     curves: Mapping[str, Mapping[str, Curve]] = field(default_factory=dict)
-    warnings: tuple[str, ...] = ()
+    warnings: tuple[InputWarning, ...] = ()
+    override_all: bool = False
 
 
 # --- reading ----------------------------------------------------------------------------------
@@ -161,7 +184,7 @@ class PartsData:
 def is_parts_header(cells: list[str]) -> bool:
     """True for the header row of a parts table: an MPN column and at least one data column."""
     found = {_field_of(str(c))[0] for c in cells if str(c).strip()}
-    return "mpn" in found and bool(found & (set(FIELDS) | set(CURVES)))
+    return "mpn" in found and bool(found & (set(FIELDS) | set(CURVES) | set(TEXT_FIELDS)))
 
 
 def _field_of(header: str) -> tuple[str | None, str | None]:
@@ -172,8 +195,11 @@ def _field_of(header: str) -> tuple[str | None, str | None]:
     return _ALIAS_KEY.get(_norm(name)), unit
 
 
-def read_parts(path: str, *, sheet: str | int | None = None) -> PartsData:
+def read_parts(path: str, *, sheet: str | int | None = None, override: bool = False) -> PartsData:
     """Read a parts file (CSV/TSV/XLSX through ``bomcheck.reader``, or TOML) into ``PartsData``.
+
+    ``override=True`` lets the file's values replace what the BOM text says for every part
+    (otherwise only parts with ``override = true`` do; see the module docstring).
 
     Raises ``InputError`` naming the file, row and column for a cell that cannot be used, an
     MPN given twice, or a file without an MPN column.
@@ -193,7 +219,7 @@ def read_parts(path: str, *, sheet: str | int | None = None) -> PartsData:
                      "esr or dc_bias")
         parts = parts_from_table(raw.frame, raw.rows, path=str(path))
     return PartsData(path=str(path), sha256=sha256, values=parts.values, curves=parts.curves,
-                     warnings=parts.warnings)
+                     warnings=parts.warnings, override_all=override)
 
 
 def parts_from_table(frame: pd.DataFrame, rows: Sequence[int] | np.ndarray | None = None, *,
@@ -202,12 +228,14 @@ def parts_from_table(frame: pd.DataFrame, rows: Sequence[int] | np.ndarray | Non
     n = len(frame)
     src = np.arange(2, n + 2) if rows is None else np.asarray(rows, dtype=np.int64)
     columns: dict[str, tuple[int, str, str | None]] = {}
-    warnings: list[str] = []
+    warnings: list[InputWarning] = []
     for pos, header in enumerate(frame.columns):
         canonical, unit = _field_of(str(header))
         if canonical is None:
             if str(header).strip():
-                warnings.append(f"{path}: column {header!r} is not a parts-file field; ignored")
+                warnings.append(InputWarning(path, None, str(header),
+                                             f"column {header!r} is not a parts-file field; "
+                                             "ignored"))
             continue
         if canonical in columns:
             raise InputError(f"two columns give {canonical}: {columns[canonical][1]!r} and "
@@ -238,7 +266,7 @@ def parts_from_toml(text: str, *, path: str = "<toml>") -> PartsData:
     cells: dict[str, np.ndarray] = {"mpn": np.array([str(n).strip() for n in names], dtype=object)}
     headers: dict[str, str] = {"mpn": "parts table name"}
     units: dict[str, str | None] = {}
-    warnings: list[str] = []
+    warnings: list[InputWarning] = []
     for i, name in enumerate(names):
         body = table[name]
         if not isinstance(body, dict):
@@ -247,8 +275,8 @@ def parts_from_toml(text: str, *, path: str = "<toml>") -> PartsData:
         for key, value in body.items():
             canonical, unit = _field_of(str(key))
             if canonical is None or canonical == "mpn":
-                warnings.append(f"{path}: key parts.{name}.{key} is not a parts-file field; "
-                                "ignored")
+                warnings.append(InputWarning(path, int(rows[i]), f"parts.{name}.{key}",
+                                             "not a parts-file field; ignored"))
                 continue
             if canonical in units and units[canonical] != unit:
                 raise InputError(f"{canonical} is written with two header units", path=path,
@@ -274,6 +302,8 @@ def _toml_lines(text: str) -> dict[str, int]:
 
 
 def _toml_cell(value: Any, canonical: str, *, path: str, row: int, label: str) -> str:
+    if canonical == "override" and isinstance(value, bool):
+        return "true" if value else "false"
     if isinstance(value, bool):
         raise InputError("not a value", path=path, row=row, column=label, text=str(value),
                          expected="a number or a text with a unit")
@@ -295,11 +325,11 @@ class _Entries:
     units: dict[str, str | None]
 
 
-def _build(e: _Entries, *, path: str, warnings: list[str]) -> PartsData:
+def _build(e: _Entries, *, path: str, warnings: list[InputWarning]) -> PartsData:
     mpn = e.cells["mpn"]
     keep = mpn != ""
     for k in e.cells:
-        if k not in ("mpn", "notes") and k in FIELDS | CURVES:
+        if k not in ("mpn", "notes") and (k in FIELDS | CURVES or k in TEXT_FIELDS[:2]):
             filled = e.cells[k] != ""
             if (filled & ~keep).any():
                 i = int(np.flatnonzero(filled & ~keep)[0])
@@ -324,7 +354,13 @@ def _build(e: _Entries, *, path: str, warnings: list[str]) -> PartsData:
             continue
         unit = e.units.get(name) or default_unit
         values[name] = _convert(e.cells[name][at], quantity, unit, path=path,
-                                rows=e.rows[at], column=e.headers[name])
+                                rows=e.rows[at], column=e.headers[name],
+                                sign=_SIGNS.get(name, "positive"))
+    _check_range(values, e, path)
+    for name in TEXT_FIELDS:
+        cells = e.cells[name][at] if name in e.cells else np.full(len(at), "", dtype=object)
+        values[name] = _TEXT_READERS[name](cells, path=path, rows=e.rows[at],
+                                           column=e.headers.get(name, name))
     curves: dict[str, dict[str, Curve]] = {}
     for name, (x_quantity, _) in CURVES.items():
         if name not in e.cells:
@@ -339,14 +375,15 @@ def _build(e: _Entries, *, path: str, warnings: list[str]) -> PartsData:
         if found:
             curves[name] = found
     if not len(values):
-        warnings.append(f"{path}: no parts entries")
+        warnings.append(InputWarning(path, None, None, "no parts entries"))
     return PartsData(path=path, sha256="", values=values, curves=curves,
                      warnings=tuple(warnings))
 
 
 def _convert(cells: np.ndarray, quantity: str, unit: str, *, path: str, rows: np.ndarray,
-             column: str) -> np.ndarray:
-    """Floats (SI) of a column of text cells, each distinct text converted once."""
+             column: str, sign: str = "positive") -> np.ndarray:
+    """Floats (SI) of a column of text cells, each distinct text converted once and checked
+    against its plausible range and ``sign``."""
     codes, uniques = pd.factorize(np.asarray(cells, dtype=object), use_na_sentinel=True)
     out = np.full(len(uniques) + 1, np.nan)
     for k, u in enumerate(uniques):
@@ -354,12 +391,72 @@ def _convert(cells: np.ndarray, quantity: str, unit: str, *, path: str, rows: np
         if text.casefold() in _NO_VALUE:
             continue
         try:
-            out[k] = to_si(text, quantity, unit)
+            out[k] = to_si(text, quantity, unit, sign)
         except UnitError as exc:
             i = int(np.argmax(codes == k))
             raise InputError(f"{exc.problem} ({column})", path=path, row=int(rows[i]),
                              column=column, text=text, expected=exc.expected) from None
     return out[codes]
+
+
+def _check_range(values: pd.DataFrame, e: _Entries, path: str) -> None:
+    """A rated range must have its minimum below its maximum."""
+    bad = (values["temp_min"] >= values["temp_max"]).to_numpy()
+    if bad.any():
+        i = int(np.flatnonzero(bad)[0])
+        raise InputError("temp_min is not below temp_max", path=path,
+                         row=int(values["row"].iat[i]), column=e.headers.get("temp_min"),
+                         text=f"{values['temp_min'].iat[i]:g} .. {values['temp_max'].iat[i]:g}",
+                         expected="a rated range such as -55 .. 105 degC")
+
+
+def _distinct(cells: np.ndarray, read, *, path: str, rows: np.ndarray, column: str,
+              expected: str, empty: Any, dtype: Any) -> np.ndarray:
+    """``read(text)`` once per distinct cell; None from ``read`` is an error naming the cell."""
+    codes, uniques = pd.factorize(np.asarray(cells, dtype=object), use_na_sentinel=True)
+    out = np.empty(len(uniques) + 1, dtype=dtype)
+    out[-1] = empty
+    for k, u in enumerate(uniques):
+        text = str(u).strip()
+        value = empty if text.casefold() in _NO_VALUE else read(text)
+        if value is None:
+            i = int(np.argmax(codes == k))
+            raise InputError(f"not a valid {column} value", path=path, row=int(rows[i]),
+                             column=column, text=text, expected=expected)
+        out[k] = value
+    return out[codes]
+
+
+def _tolerance(text: str) -> float | None:
+    try:
+        frac = to_si(re.sub(r"^(?:\u00b1|\+/-|\+-)\s*", "", text), "dimensionless", "%",
+                     "positive")
+        check_plausible(frac, "dimensionless", "positive", text=text, high=1.0)
+    except UnitError:
+        return None
+    return float(f"{frac * 100.0:.12g}")
+
+
+def _dielectric(text: str) -> str | None:
+    d = decode_dielectric(text.upper())
+    return None if d is None else d.code
+
+
+def _override(text: str) -> bool | None:
+    t = text.casefold()
+    return True if t in _TRUE else False if t in _FALSE else None
+
+
+_TEXT_READERS = {
+    "tolerance": lambda cells, **kw: _distinct(
+        cells, _tolerance, expected="a symmetric tolerance such as '10 %' or '±20 %' (up to "
+        "100 %)", empty=np.nan, dtype=float, **kw),
+    "dielectric": lambda cells, **kw: _distinct(
+        cells, _dielectric, expected="an EIA dielectric code such as C0G, X7R or X5R",
+        empty="", dtype=object, **kw),
+    "override": lambda cells, **kw: _distinct(
+        cells, _override, expected="true or false", empty=False, dtype=bool, **kw),
+}
 
 
 def _curve(cell: str, name: str, x_quantity: str, *, path: str, row: int, column: str) -> Curve:
@@ -378,7 +475,7 @@ def _curve(cell: str, name: str, x_quantity: str, *, path: str, row: int, column
             raise bad("curve point without ':'", point.strip())
         x_text, y_text = (s.strip() for s in point.split(":", 1))
         try:
-            xs.append(to_si(x_text, x_quantity))
+            xs.append(to_si(x_text, x_quantity, None, _CURVE_X_SIGN.get(x_quantity, "any")))
         except UnitError as exc:
             raise bad(exc.problem, x_text) from None
         y, is_f = _curve_y(y_text, name)
@@ -403,12 +500,12 @@ def _curve(cell: str, name: str, x_quantity: str, *, path: str, row: int, column
 
 def _curve_y(text: str, name: str) -> tuple[float | None, bool]:
     try:
-        return to_si(text, "dimensionless"), False
+        return to_si(text, "dimensionless", None, "nonneg"), False
     except UnitError:
         pass
     if name == "dc_bias":
         try:
-            return to_si(text, "capacitance"), True
+            return to_si(text, "capacitance", None, "nonneg"), True
         except UnitError:
             pass
     return None, False
@@ -433,22 +530,39 @@ def _float(table: pd.DataFrame, name: str) -> pd.Series:
     return pd.Series(np.nan, index=table.index, dtype=float)
 
 
-# (spec column, what the message calls it, display unit, relative or absolute tolerance)
+# (spec column, what the message calls it, display unit, relative and absolute tolerance of a
+# match, the conservative choice of the two values, and its word in messages)
 _CHECKED = (
-    ("capacitance_f", "capacitance", "F", 1e-3, 0.0),
-    ("voltage_v", "rated voltage", "V", 1e-3, 0.0),
-    ("temp_min_c", "minimum temperature", "degC", 0.0, 0.5),
-    ("temp_max_c", "maximum temperature", "degC", 0.0, 0.5),
+    ("capacitance_f", "capacitance", "F", 1e-3, 0.0, np.fmin, "smaller"),
+    ("voltage_v", "rated voltage", "V", 1e-3, 0.0, np.fmin, "lower"),
+    ("temp_min_c", "rated minimum temperature", "degC", 0.0, 0.5, np.fmax, "higher"),
+    ("temp_max_c", "rated maximum temperature", "degC", 0.0, 0.5, np.fmin, "lower"),
+    ("tol_minus_pct", "tolerance", "%", 0.0, 0.05, np.fmax, "wider"),
+    ("tol_plus_pct", "tolerance", "%", 0.0, 0.05, np.fmax, "wider"),
 )
+_DIELECTRIC_COLUMNS = {"dielectric_class": "eia_class", "cap_change_minus_pct": "change_minus_pct",
+                       "cap_change_plus_pct": "change_plus_pct", "tc_ppm": "tc_ppm",
+                       "tc_tol_ppm": "tc_tol_ppm"}
+
+
+def _worse(d: Dielectric) -> tuple[float, ...]:
+    """Order of dielectrics from favourable to unfavourable: class (III worst), then a lower
+    rated maximum, a higher rated minimum, a larger capacitance change, a wider TC tolerance."""
+    return (d.eia_class, -(d.temp_max_c if d.temp_max_c is not None else 1e3),
+            d.temp_min_c if d.temp_min_c is not None else -1e3, d.change_minus_pct or 0.0,
+            d.tc_tol_ppm or 0.0)
 
 
 def apply_parts(table: pd.DataFrame, parts: PartsData) -> tuple[pd.DataFrame, pd.DataFrame]:
-    """The placements with the parts data laid over them, and one warning verdict per value
-    that contradicts the BOM text.
+    """The placements with the parts data laid over them, and one verdict per value that
+    contradicts the BOM text.
 
-    Spec columns the file gives are overridden (a rated voltage of the kind the BOM names: AC
-    for an AC-rated part, else DC); the columns of ``PART_COLUMNS`` are added. Verdict columns:
-    pidx, refdes, rule_id (``parts.conflict``), status, message, source.
+    Spec columns the BOM text left empty are filled from the file (a rated voltage of the kind
+    the BOM names: AC for an AC-rated part, else DC); where both give a value and they differ,
+    the conservative one is kept and a ``warn`` verdict names both, unless the part (or the whole
+    file) is marked to override, when the parts data is kept and the verdict is a ``pass`` that
+    says so. The columns of ``PART_COLUMNS`` are added. Verdict columns: pidx, refdes, rule_id
+    (``parts.conflict``), status, message, source.
     """
     from bomcheck.rules import format_quantity
 
@@ -456,54 +570,115 @@ def apply_parts(table: pd.DataFrame, parts: PartsData) -> tuple[pd.DataFrame, pd
     keys = part_keys(out)
     at = parts.values.index.get_indexer(keys.to_numpy())
     matched = at >= 0
+    pick = np.where(matched, at, 0)
 
-    def take(name: str) -> pd.Series:
-        col = parts.values[name].to_numpy(dtype=float)
-        return pd.Series(np.where(matched, col[np.where(matched, at, 0)], np.nan),
-                         index=out.index)
+    def take(name: str, empty: Any = np.nan) -> pd.Series:
+        col = parts.values[name].to_numpy()
+        if not len(col):  # a file with a header only
+            return pd.Series(empty, index=out.index)
+        return pd.Series(np.where(matched, col[pick], empty), index=out.index)
 
     kind = (out["voltage_kind"].astype(object).where(out["voltage_kind"].notna(), "")
             if "voltage_kind" in out else pd.Series("", index=out.index, dtype=object))
     is_ac = (kind == "ac").to_numpy()
-    dc, ac = take("rated_voltage"), take("rated_voltage_ac")
+    dc, ac = take("rated_voltage").astype(float), take("rated_voltage_ac").astype(float)
     bom_v = _float(out, "voltage_v")
     part_v = pd.Series(np.where(is_ac, ac, dc), index=out.index)
     only_ac = ~is_ac & dc.isna().to_numpy() & ac.notna().to_numpy() & bom_v.isna().to_numpy()
     part_v[only_ac] = ac[only_ac]
-    new = {
-        "capacitance_f": take("capacitance"),
-        "voltage_v": part_v,
-        "temp_min_c": take("temp_min"),
-        "temp_max_c": take("temp_max"),
-    }
-    findings = []
-    mpn_text = pd.Series(np.where(matched, parts.values["mpn"].to_numpy(dtype=object)[
-        np.where(matched, at, 0)], ""), index=out.index, dtype=object)
-    part_row = np.where(matched, parts.values["row"].to_numpy()[np.where(matched, at, 0)], 0)
-    for column, label, unit, rel, absolute in _CHECKED:
+    tol = take("tolerance").astype(float)
+    new = {"capacitance_f": take("capacitance").astype(float), "voltage_v": part_v,
+           "temp_min_c": take("temp_min").astype(float),
+           "temp_max_c": take("temp_max").astype(float), "tol_minus_pct": tol,
+           "tol_plus_pct": tol}
+    override = (take("override", False).astype(bool) | parts.override_all).to_numpy() & matched
+    mpn_text = take("mpn", "").astype(object)
+    part_row = take("row", 0).fillna(0).astype(np.int64).to_numpy()
+    findings: list[tuple[int, str, str, str, str]] = []
+
+    def report(i: int, label: str, part_text: str, bom_text: str, used: str) -> None:
+        head = (f"{out['refdes'].iat[i]}: parts data for {mpn_text.iat[i]} ({parts.path} row "
+                f"{int(part_row[i])}) gives {label} {part_text}; the BOM text says {bom_text}; ")
+        if override[i]:
+            findings.append((i, PARTS_FINDING, "pass", head + "the parts data is used "
+                             "(override)", "parts data"))
+        else:
+            findings.append((i, PARTS_FINDING, "warn", head + f"the verdict uses {used}; mark "
+                             "the part override = true to use the parts data", "parts data"))
+
+    flagged = np.zeros(len(out), dtype=bool)
+    for column, label, unit, rel, absolute, choose, word in _CHECKED:
         bom, part = _float(out, column), new[column]
         with np.errstate(invalid="ignore"):
             differ = (bom.notna() & part.notna()
                       & ((bom - part).abs() > np.fmax(rel * part.abs(), absolute))).to_numpy()
-        for i in np.flatnonzero(differ):
-            findings.append((
-                int(i), PARTS_FINDING, "warn",
-                f"{out['refdes'].iat[i]}: parts data for {mpn_text.iat[i]} ({parts.path} row "
-                f"{int(part_row[i])}) gives {label} {format_quantity(part.iat[i], unit)}; the BOM "
-                f"text says {format_quantity(bom.iat[i], unit)}; the parts data is used",
-                "parts data"))
-        out[column] = part.fillna(bom) if column in out else part
+        used = pd.Series(np.where(override & part.notna().to_numpy(), part, choose(bom, part)),
+                         index=out.index)
+        for i in np.flatnonzero(differ & ~(flagged if column == "tol_plus_pct" else False)):
+            report(int(i), label, format_quantity(part.iat[i], unit),
+                   format_quantity(bom.iat[i], unit),
+                   f"the {word} value, {format_quantity(used.iat[i], unit)}")
+        flagged = differ
+        out[column] = used
+    _lay_dielectric(out, take("dielectric", "").astype(object), override, report)
     if "voltage_kind" in out:
         out["voltage_kind"] = out["voltage_kind"].astype(object).mask(
             pd.Series(only_ac, index=out.index), "ac")
     for name, (_, _, column) in FIELDS.items():
         if column in PART_COLUMNS:
-            out[column] = take(name)
+            out[column] = take(name).astype(float)
     out["part_row"] = pd.array(np.where(matched, part_row, pd.NA), dtype="Int64")
     verdicts = pd.DataFrame(findings, columns=["pidx", "rule_id", "status", "message", "source"])
     verdicts.insert(1, "refdes", out["refdes"].to_numpy(dtype=object)[
         verdicts["pidx"].to_numpy(dtype=np.int64)] if len(verdicts) else [])
     return out, verdicts
+
+
+def _lay_dielectric(out: pd.DataFrame, part: pd.Series, override: np.ndarray, report) -> None:
+    """Fill or resolve the dielectric code (in place): the parts file's where the BOM names none
+    or the part overrides, else the less favourable of the two (``_worse``); a switched code
+    brings its class, change limits and temperature range (the range only ever narrows, unless
+    the part overrides)."""
+    bom = (out["dielectric"].astype(object).where(out["dielectric"].notna(), "")
+           if "dielectric" in out else pd.Series("", index=out.index, dtype=object))
+    bom_u, part_u = bom.astype(str).str.upper(), part.astype(str).str.upper()
+    given = (part_u != "").to_numpy()
+    if not given.any():
+        return
+    pairs = pd.DataFrame({"b": bom_u, "p": part_u})[given].drop_duplicates()
+    chosen: dict[tuple[str, str], str] = {}
+    for b, p in pairs.itertuples(index=False):  # distinct pairs, not placements
+        db, dp = decode_dielectric(b) if b else None, decode_dielectric(p)
+        chosen[(b, p)] = p if db is None or (dp is not None and _worse(dp) > _worse(db)) else b
+    keys = list(zip(bom_u, part_u))
+    used = np.array([p if ov else chosen.get((b, p), b) if g else b
+                     for (b, p), g, ov in zip(keys, given, override)], dtype=object)
+    differ = given & (bom_u != "").to_numpy() & (bom_u != part_u).to_numpy()
+    for i in np.flatnonzero(differ):
+        report(int(i), "dielectric", part_u.iat[i], bom_u.iat[i], f"{used[i]}, the less "
+               "favourable code")
+    switched = used != bom_u.to_numpy()
+    if not switched.any():
+        return
+    out["dielectric"] = pd.Series(np.where(switched, used, bom.to_numpy()), index=out.index)
+    for code in pd.unique(used[switched]):
+        d = decode_dielectric(code)
+        rows = switched & (used == code)
+        for column, attr in _DIELECTRIC_COLUMNS.items():
+            col = _float(out, column).to_numpy().copy()
+            value = getattr(d, attr)
+            col[rows] = np.nan if value is None else value
+            out[column] = col
+        for column, attr, choose in (("temp_min_c", "temp_min_c", np.fmax),
+                                     ("temp_max_c", "temp_max_c", np.fmin)):
+            value = getattr(d, attr)
+            if value is None:
+                continue
+            col = _float(out, column).to_numpy().copy()
+            narrowed = choose(col, value)
+            col[rows] = np.where(override[rows] & ~np.isnan(col[rows]), col[rows],
+                                 narrowed[rows])
+            out[column] = col
 
 
 def curve_values(table: pd.DataFrame, parts: PartsData | None, name: str, x: pd.Series, *,
