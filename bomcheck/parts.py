@@ -573,6 +573,8 @@ def apply_parts(table: pd.DataFrame, parts: PartsData) -> tuple[pd.DataFrame, pd
     pick = np.where(matched, at, 0)
 
     def take(name: str, empty: Any = np.nan) -> pd.Series:
+        if name not in parts.values.columns:
+            return pd.Series(empty, index=out.index)
         col = parts.values[name].to_numpy()
         if not len(col):  # a file with a header only
             return pd.Series(empty, index=out.index)
@@ -591,7 +593,7 @@ def apply_parts(table: pd.DataFrame, parts: PartsData) -> tuple[pd.DataFrame, pd
            "temp_min_c": take("temp_min").astype(float),
            "temp_max_c": take("temp_max").astype(float), "tol_minus_pct": tol,
            "tol_plus_pct": tol}
-    override = (take("override", False).astype(bool) | parts.override_all).to_numpy() & matched
+    override = (take("override", False).eq(True) | parts.override_all).to_numpy() & matched
     mpn_text = take("mpn", "").astype(object)
     part_row = take("row", 0).fillna(0).astype(np.int64).to_numpy()
     findings: list[tuple[int, str, str, str, str]] = []
@@ -606,7 +608,7 @@ def apply_parts(table: pd.DataFrame, parts: PartsData) -> tuple[pd.DataFrame, pd
             findings.append((i, PARTS_FINDING, "warn", head + f"the verdict uses {used}; mark "
                              "the part override = true to use the parts data", "parts data"))
 
-    flagged = np.zeros(len(out), dtype=bool)
+    tol_flagged = np.zeros(len(out), dtype=bool)  # one tolerance finding, not one per side
     for column, label, unit, rel, absolute, choose, word in _CHECKED:
         bom, part = _float(out, column), new[column]
         with np.errstate(invalid="ignore"):
@@ -614,11 +616,12 @@ def apply_parts(table: pd.DataFrame, parts: PartsData) -> tuple[pd.DataFrame, pd
                       & ((bom - part).abs() > np.fmax(rel * part.abs(), absolute))).to_numpy()
         used = pd.Series(np.where(override & part.notna().to_numpy(), part, choose(bom, part)),
                          index=out.index)
-        for i in np.flatnonzero(differ & ~(flagged if column == "tol_plus_pct" else False)):
+        for i in np.flatnonzero(differ & ~tol_flagged):  # conflicting placements only
             report(int(i), label, format_quantity(part.iat[i], unit),
                    format_quantity(bom.iat[i], unit),
                    f"the {word} value, {format_quantity(used.iat[i], unit)}")
-        flagged = differ
+        if column == "tol_minus_pct":
+            tol_flagged = differ
         out[column] = used
     _lay_dielectric(out, take("dielectric", "").astype(object), override, report)
     if "voltage_kind" in out:
@@ -645,14 +648,13 @@ def _lay_dielectric(out: pd.DataFrame, part: pd.Series, override: np.ndarray, re
     given = (part_u != "").to_numpy()
     if not given.any():
         return
-    pairs = pd.DataFrame({"b": bom_u, "p": part_u})[given].drop_duplicates()
-    chosen: dict[tuple[str, str], str] = {}
-    for b, p in pairs.itertuples(index=False):  # distinct pairs, not placements
-        db, dp = decode_dielectric(b) if b else None, decode_dielectric(p)
-        chosen[(b, p)] = p if db is None or (dp is not None and _worse(dp) > _worse(db)) else b
-    keys = list(zip(bom_u, part_u))
-    used = np.array([p if ov else chosen.get((b, p), b) if g else b
-                     for (b, p), g, ov in zip(keys, given, override)], dtype=object)
+    codes, pairs = pd.factorize(pd.MultiIndex.from_arrays([bom_u, part_u]))
+    chosen = np.empty(len(pairs), dtype=object)
+    for k, (b, p) in enumerate(pairs):  # distinct pairs, not placements
+        db, dp = decode_dielectric(b) if b else None, decode_dielectric(p) if p else None
+        worse = dp is not None and (db is None or _worse(dp) > _worse(db))
+        chosen[k] = p if worse else b
+    used = np.where(given & override, part_u.to_numpy(dtype=object), chosen[codes])
     differ = given & (bom_u != "").to_numpy() & (bom_u != part_u).to_numpy()
     for i in np.flatnonzero(differ):
         report(int(i), "dielectric", part_u.iat[i], bom_u.iat[i], f"{used[i]}, the less "
