@@ -2,11 +2,15 @@
 
 from __future__ import annotations
 
+import math
+
 import pint
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from bomcheck.errors import InputError, UnitError
-from bomcheck.units import SI_UNITS, registry, to_si
+from bomcheck.units import PLAUSIBLE, SI_UNITS, registry, to_si
 
 MICRO_SIGN = "\u00b5"  # Unicode U+00B5 MICRO SIGN
 GREEK_MU = "\u03bc"  # Unicode U+03BC GREEK SMALL LETTER MU
@@ -249,3 +253,30 @@ def test_each_unit_token_converted_once(monkeypatch):
     info = units.unit_factor.cache_info()
     to_si("4 years", "time")
     assert units.unit_factor.cache_info().hits == info.hits + 1
+
+
+# --- fuzz (issue 10): any text is a plausible finite value or a UnitError, quickly --------------
+
+_PIECES = st.sampled_from(["5", "-", "+", ".", ",", "e", "E", "400", "9" * 40, "**", "*", " ",
+                           "V", "mV", "kV", "F", "uF", "\u00b5", "degC", "\u00b0C", "C", "K",
+                           "%", "\u00b1", "..", "/", "ms", "inf", "nan", "years", "(", ")", "x"])
+_TEXT = st.one_of(st.text(max_size=30), st.lists(_PIECES, max_size=8).map("".join))
+
+
+@settings(max_examples=400, deadline=500)
+@given(text=_TEXT, quantity=st.sampled_from(["voltage", "capacitance", "temperature",
+                                             "temperature_delta", "dimensionless", "time"]),
+       sign=st.sampled_from(["any", "nonneg", "positive"]))
+def test_any_text_is_a_plausible_value_or_a_unit_error(text, quantity, sign):
+    # common practice: no traceback, no absurd number, whatever the cell holds.
+    try:
+        value = to_si(text, quantity, None, sign)
+    except UnitError as exc:
+        assert exc.problem and exc.expected
+        return
+    p = PLAUSIBLE[quantity]
+    assert math.isfinite(value)
+    if p.low is not None:
+        assert p.low <= value <= p.high
+    else:
+        assert abs(value) <= p.high and (sign == "any" or value >= 0)
