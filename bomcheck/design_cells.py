@@ -273,6 +273,8 @@ def unknown_column(header: str, has_values: bool, *, path: str, row: int | None,
         return None
     near = closest_names(name.rsplit(".", 1)[-1])
     hint = ("closest known names: " + ", ".join(near)) if near else None
+    if "rated" in norm(name) or "rating" in norm(name):  # a part's rating, not a condition
+        hint = "a part's ratings belong in the BOM text or the parts file (--parts)"
     if has_values:
         raise InputError(f"unknown design-sheet {what} holding values", path=path, row=row,
                          column=header, expected="a condition name such as v_dc, t_ambient_c "

@@ -216,7 +216,22 @@ def unit_factor(unit: str, quantity: str) -> tuple[float, float]:
     return scale, offset
 
 
+# Compound and time units by quantity (checked against pint in tests/test_units.py); the year is
+# pint's Julian year of 365.25 days.
+_TABLE: dict[str, dict[str, float]] = {
+    "time": {"h": 1.0, "hour": 1.0, "hours": 1.0, "hr": 1.0, "hrs": 1.0, "day": 24.0,
+             "days": 24.0, "year": 8766.0, "years": 8766.0, "yr": 8766.0, "yrs": 8766.0},
+    "slew": {"V/s": 1.0, "V/ms": 1e3, "V/us": 1e6, "kV/s": 1e3, "kV/ms": 1e6, "kV/us": 1e9},
+    "thermal_resistance": {"K/W": 1.0, "degC/W": 1.0, "C/W": 1.0, "delta_degC/W": 1.0},
+    "charge": {"uC": 1.0, "mC": 1e3, "nC": 1e-3, "C": 1e6},
+    "resistance_per_volt": {"ohm/V": 1.0, "kohm/V": 1e3, "Mohm/V": 1e6},
+}
+
+
 def _table_factor(unit: str, quantity: str) -> tuple[float, float] | None:
+    compact = re.sub(r"\s*/\s*", "/", unit)
+    if compact in _TABLE.get(quantity, {}):
+        return _TABLE[quantity][compact], 0.0
     base = _PLAIN_UNITS.get(quantity)
     if base and unit.endswith(base) and unit[:-len(base)] in _PREFIX:
         return _PREFIX[unit[:-len(base)]], 0.0
@@ -229,8 +244,6 @@ def _table_factor(unit: str, quantity: str) -> tuple[float, float] | None:
         return 1.0, 0.0
     if quantity == "dimensionless" and unit == "%":
         return 0.01, 0.0
-    if quantity == "time" and unit in ("h", "hour", "hours"):
-        return 1.0, 0.0
     return None
 
 

@@ -162,3 +162,9 @@ def test_every_design_warning_is_structured(tmp_path):
                  "top-level key 'x'", "no [defaults]"):
         assert part in text, part
     assert sorted(found)  # sortable
+
+
+def test_a_rating_in_the_design_sheet_points_to_the_parts_file():
+    with pytest.raises(InputError) as info:
+        sheet(["refdes", "v_dc", "Rated voltage"], ["C1", "5", "16 V"])
+    assert "parts file" in info.value.hint
