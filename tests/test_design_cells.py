@@ -158,8 +158,8 @@ def test_every_design_warning_is_structured(tmp_path):
     found = [*d.warnings, *t.warnings]
     assert all(isinstance(w, InputWarning) for w in found)
     text = " | ".join(map(str, found))
-    for part in ("'SPARE_RAIL' has no members", "v_dc_max is below v_dc", "v_tol_pct of 0.05 %", "Layout owner",
-                 "top-level key 'x'", "no [defaults]"):
+    for part in ("'SPARE_RAIL' has no members", "v_dc_max is below v_dc", "v_tol_pct of 0.05 %",
+                 "Layout owner", "top-level key 'x'", "no [defaults]"):
         assert part in text, part
     assert sorted(found)  # sortable
 

@@ -285,7 +285,8 @@ def test_any_text_is_a_plausible_value_or_a_unit_error(text, quantity, sign):
 @pytest.mark.parametrize("text, quantity", [
     ("10 years", "time"), ("3 yr", "time"), ("2 days", "time"), ("50000 hours", "time"),
     ("12 V/ms", "slew"), ("12 V / ms", "slew"), ("3 kV/us", "slew"),
-    ("40 degC/W", "thermal_resistance"), ("40 K/W", "thermal_resistance"), ("45 uC", "charge"), ("2 mC", "charge"),
+    ("40 degC/W", "thermal_resistance"), ("40 K/W", "thermal_resistance"),
+    ("45 uC", "charge"), ("2 mC", "charge"),
     ("0.1 ohm/V", "resistance_per_volt"), ("3 kohm/V", "resistance_per_volt"),
 ])
 def test_table_units_agree_with_pint(ref, text, quantity):
