@@ -329,7 +329,7 @@ def _build(e: _Entries, *, path: str, warnings: list[InputWarning]) -> PartsData
     mpn = e.cells["mpn"]
     keep = mpn != ""
     for k in e.cells:
-        if k not in ("mpn", "notes") and (k in FIELDS | CURVES or k in TEXT_FIELDS[:2]):
+        if k in FIELDS or k in CURVES or k in ("tolerance", "dielectric"):
             filled = e.cells[k] != ""
             if (filled & ~keep).any():
                 i = int(np.flatnonzero(filled & ~keep)[0])
