@@ -15,7 +15,7 @@ lists the closest known names) and a warning when it is empty; notes columns (``
 ``value``, ``mpn``... in ``INFO_HEADERS``) are ignored.
 
 Cells are read by ``bomcheck.units.to_si`` (one number and an optional unit, never an expression)
-and checked against the quantity's plausible range and the condition's sign (``SIGNS``):
+and checked against the quantity's plausible range and the condition's sign (``CONDITION_SIGNS``):
 
 - ``v_dc`` and ``v_dc_max`` keep their sign (a negative rail). The stress stage uses the
   magnitude; on a polarized part a negative ``v_dc`` is applied as reverse voltage.
@@ -51,7 +51,7 @@ _EXPLICIT_NONE_FIELDS = frozenset({"c_min_f"})
 
 # The sign each condition may take (bomcheck.units.SIGNS); any condition not named is a
 # magnitude ("nonneg"). Zero is refused where it is divided by or would read as "no stress".
-SIGNS: dict[str, str] = {
+CONDITION_SIGNS: dict[str, str] = {
     "v_dc": "any", "v_dc_max": "any", "t_ambient_c": "any",
     "r_balance_ohm": "positive", "r_bleeder_ohm": "positive", "r_source_ohm": "positive",
     "f_ripple_hz": "positive", "slew_v_per_s": "positive", "v_safe_v": "positive",
@@ -62,7 +62,7 @@ PERCENT_FIELDS = frozenset(k for k in CONDITIONS if k.endswith("_pct"))  # 0..10
 
 def sign_of(name: str) -> str:
     """The sign rule of a condition (``any``, ``nonneg`` or ``positive``)."""
-    return SIGNS.get(name, "nonneg")
+    return CONDITION_SIGNS.get(name, "nonneg")
 
 
 # Canonical field -> header spellings; compared after _norm (case and punctuation dropped).
@@ -309,7 +309,7 @@ def convert(cells: np.ndarray, col: Column, fail: Fail) -> np.ndarray:
     """Float values (SI; percentages in %) of one column of text cells; NaN for no value.
 
     Every distinct string is converted once (``pd.factorize``) by ``bomcheck.units.to_si`` and
-    mapped back; its sign and range are checked (``SIGNS``). ``fail(position, text, error)``
+    mapped back; its sign and range are checked (``CONDITION_SIGNS``). ``fail(position, text, error)``
     raises the located error (position None: the header).
     """
     name = col.field

@@ -275,6 +275,8 @@ def check_plausible(value: float, quantity: str, sign: str = "any", *, text: str
                     high: float | None = None) -> None:
     """Raise ``UnitError`` when ``value`` (SI) is outside the plausible range of ``quantity`` or
     breaks ``sign``; ``high`` narrows the bound (a tolerance up to 100 %)."""
+    if sign not in SIGNS:
+        raise ValueError(f"unknown sign rule {sign!r}; expected one of {SIGNS}")  # a bug
     shown = str(value) if text is None else text
     if not math.isfinite(value):
         raise UnitError("number out of range", text=shown, expected=_describe(quantity))
