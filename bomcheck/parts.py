@@ -20,7 +20,7 @@ at ``life_temp`` (degC, T0; default ``temp_max``), ``leakage`` (A, the rated max
 fraction, a percentage or a capacitance), ``tolerance`` (symmetric, ``±20 %``), ``dielectric``
 (an EIA code such as ``X7R``), ``override`` (``true`` lets this part's data replace what the BOM
 text says, see below) and ``notes``. Every value is read by the strict cell grammar of
-``bomcheck.units`` and checked against its plausible range; ratings, ESR, currents, life and
+``bomcheck.units`` (``bomcheck.parts_cells``) and checked against its plausible range; ratings, ESR, currents, life and
 thermal resistance must be above zero, and ``temp_min`` below ``temp_max``.
 
 A curve is written ``x: y; x: y`` (``"120 Hz: 0.6; 1 kHz: 0.85; 100 kHz: 1"``); in TOML it may
@@ -60,9 +60,9 @@ import numpy as np
 import pandas as pd
 
 from bomcheck.codes import Dielectric, decode_dielectric
-from bomcheck.design_cells import InputWarning
-from bomcheck.errors import InputError, UnitError
-from bomcheck.units import check_plausible, to_si
+from bomcheck.design_cells import NO_VALUE, InputWarning
+from bomcheck.errors import InputError
+from bomcheck.parts_cells import TEXT_READERS, Curve, convert_column, read_curve
 
 PARTS_FINDING = "parts.conflict"
 
@@ -84,11 +84,8 @@ FIELDS: dict[str, tuple[str, str, str]] = {
 }
 # Sign rule of each field (bomcheck.units.SIGNS); temperatures are points on a scale.
 _SIGNS = {"temp_min": "any", "temp_max": "any", "life_temp": "any"}
-_CURVE_X_SIGN = {"voltage": "nonneg", "frequency": "positive"}  # log-interpolated: above 0
 # Fields read as text or flags rather than quantities.
 TEXT_FIELDS = ("tolerance", "dielectric", "override")
-_TRUE = frozenset({"true", "yes", "y", "1", "x"})
-_FALSE = frozenset({"false", "no", "n", "0", ""})
 # Curve -> (quantity of x, quantity of y; "fraction" for a multiplier or remaining fraction).
 CURVES: dict[str, tuple[str, str]] = {
     "dc_bias": ("voltage", "fraction"),
@@ -139,25 +136,6 @@ def _norm(name: str) -> str:
 
 _ALIAS_KEY = {_norm(s): canonical for canonical, spellings in ALIASES.items() for s in spellings}
 _BRACKET_UNIT = re.compile(r"^(?P<name>.*?)\s*[\[(](?P<unit>[^\[\]()]*)[\])]\s*$")
-_NO_VALUE = frozenset({"", "-", "\u2013", "\u2014", "n/a", "na"})
-
-
-@dataclass(frozen=True)
-class Curve:
-    """A part's curve: x values (SI, increasing) and y values (a fraction, or farads)."""
-
-    xs: tuple[float, ...]
-    ys: tuple[float, ...]
-    farads: bool = False  # y given as capacitance (DC-bias curves only)
-
-    def at(self, x: np.ndarray, *, log_x: bool = False) -> np.ndarray:
-        """Values at ``x`` by linear interpolation (in log10 x when ``log_x``), flat beyond."""
-        xs = np.asarray(self.xs, dtype=float)
-        ys = np.asarray(self.ys, dtype=float)
-        x = np.asarray(x, dtype=float)
-        with np.errstate(divide="ignore", invalid="ignore"):
-            out = (np.interp(np.log10(x), np.log10(xs), ys) if log_x else np.interp(x, xs, ys))
-        return np.where(np.isnan(x), np.nan, out)
 
 
 @dataclass(frozen=True, eq=False)
@@ -353,13 +331,13 @@ def _build(e: _Entries, *, path: str, warnings: list[InputWarning]) -> PartsData
             values[name] = np.nan
             continue
         unit = e.units.get(name) or default_unit
-        values[name] = _convert(e.cells[name][at], quantity, unit, path=path,
+        values[name] = convert_column(e.cells[name][at], quantity, unit, path=path,
                                 rows=e.rows[at], column=e.headers[name],
                                 sign=_SIGNS.get(name, "positive"))
     _check_range(values, e, path)
     for name in TEXT_FIELDS:
         cells = e.cells[name][at] if name in e.cells else np.full(len(at), "", dtype=object)
-        values[name] = _TEXT_READERS[name](cells, path=path, rows=e.rows[at],
+        values[name] = TEXT_READERS[name](cells, path=path, rows=e.rows[at],
                                            column=e.headers.get(name, name))
     curves: dict[str, dict[str, Curve]] = {}
     for name, (x_quantity, _) in CURVES.items():
@@ -368,9 +346,9 @@ def _build(e: _Entries, *, path: str, warnings: list[InputWarning]) -> PartsData
         found: dict[str, Curve] = {}
         for i in at:
             cell = e.cells[name][i]
-            if cell.casefold() in _NO_VALUE:
+            if cell.casefold() in NO_VALUE:
                 continue
-            found[keys[i]] = _curve(cell, name, x_quantity, path=path, row=int(e.rows[i]),
+            found[keys[i]] = read_curve(cell, name, x_quantity, path=path, row=int(e.rows[i]),
                                     column=e.headers[name])
         if found:
             curves[name] = found
@@ -378,25 +356,6 @@ def _build(e: _Entries, *, path: str, warnings: list[InputWarning]) -> PartsData
         warnings.append(InputWarning(path, None, None, "no parts entries"))
     return PartsData(path=path, sha256="", values=values, curves=curves,
                      warnings=tuple(warnings))
-
-
-def _convert(cells: np.ndarray, quantity: str, unit: str, *, path: str, rows: np.ndarray,
-             column: str, sign: str = "positive") -> np.ndarray:
-    """Floats (SI) of a column of text cells, each distinct text converted once and checked
-    against its plausible range and ``sign``."""
-    codes, uniques = pd.factorize(np.asarray(cells, dtype=object), use_na_sentinel=True)
-    out = np.full(len(uniques) + 1, np.nan)
-    for k, u in enumerate(uniques):
-        text = str(u).strip()
-        if text.casefold() in _NO_VALUE:
-            continue
-        try:
-            out[k] = to_si(text, quantity, unit, sign)
-        except UnitError as exc:
-            i = int(np.argmax(codes == k))
-            raise InputError(f"{exc.problem} ({column})", path=path, row=int(rows[i]),
-                             column=column, text=text, expected=exc.expected) from None
-    return out[codes]
 
 
 def _check_range(values: pd.DataFrame, e: _Entries, path: str) -> None:
@@ -408,107 +367,6 @@ def _check_range(values: pd.DataFrame, e: _Entries, path: str) -> None:
                          row=int(values["row"].iat[i]), column=e.headers.get("temp_min"),
                          text=f"{values['temp_min'].iat[i]:g} .. {values['temp_max'].iat[i]:g}",
                          expected="a rated range such as -55 .. 105 degC")
-
-
-def _distinct(cells: np.ndarray, read, *, path: str, rows: np.ndarray, column: str,
-              expected: str, empty: Any, dtype: Any) -> np.ndarray:
-    """``read(text)`` once per distinct cell; None from ``read`` is an error naming the cell."""
-    codes, uniques = pd.factorize(np.asarray(cells, dtype=object), use_na_sentinel=True)
-    out = np.empty(len(uniques) + 1, dtype=dtype)
-    out[-1] = empty
-    for k, u in enumerate(uniques):
-        text = str(u).strip()
-        value = empty if text.casefold() in _NO_VALUE else read(text)
-        if value is None:
-            i = int(np.argmax(codes == k))
-            raise InputError(f"not a valid {column} value", path=path, row=int(rows[i]),
-                             column=column, text=text, expected=expected)
-        out[k] = value
-    return out[codes]
-
-
-def _tolerance(text: str) -> float | None:
-    try:
-        frac = to_si(re.sub(r"^(?:\u00b1|\+/-|\+-)\s*", "", text), "dimensionless", "%",
-                     "positive")
-        check_plausible(frac, "dimensionless", "positive", text=text, high=1.0)
-    except UnitError:
-        return None
-    return float(f"{frac * 100.0:.12g}")
-
-
-def _dielectric(text: str) -> str | None:
-    d = decode_dielectric(text.upper())
-    return None if d is None else d.code
-
-
-def _override(text: str) -> bool | None:
-    t = text.casefold()
-    return True if t in _TRUE else False if t in _FALSE else None
-
-
-_TEXT_READERS = {
-    "tolerance": lambda cells, **kw: _distinct(
-        cells, _tolerance, expected="a symmetric tolerance such as '10 %' or '±20 %' (up to "
-        "100 %)", empty=np.nan, dtype=float, **kw),
-    "dielectric": lambda cells, **kw: _distinct(
-        cells, _dielectric, expected="an EIA dielectric code such as C0G, X7R or X5R",
-        empty="", dtype=object, **kw),
-    "override": lambda cells, **kw: _distinct(
-        cells, _override, expected="true or false", empty=False, dtype=bool, **kw),
-}
-
-
-def _curve(cell: str, name: str, x_quantity: str, *, path: str, row: int, column: str) -> Curve:
-    """``"0 V: 100 %; 5 V: 30 %"`` to a Curve; points sorted by x, x strictly increasing."""
-    def bad(problem: str, text: str) -> InputError:
-        return InputError(f"{problem} ({name})", path=path, row=row, column=column, text=text,
-                          expected="points 'x: y' separated by ';', such as "
-                                   + ("'0 V: 100 %; 5 V: 45 %'" if name == "dc_bias"
-                                      else "'120 Hz: 0.6; 100 kHz: 1.0'"))
-
-    xs: list[float] = []
-    ys: list[float] = []
-    farads: set[bool] = set()
-    for point in (p for p in cell.split(";") if p.strip()):
-        if ":" not in point:
-            raise bad("curve point without ':'", point.strip())
-        x_text, y_text = (s.strip() for s in point.split(":", 1))
-        try:
-            xs.append(to_si(x_text, x_quantity, None, _CURVE_X_SIGN.get(x_quantity, "any")))
-        except UnitError as exc:
-            raise bad(exc.problem, x_text) from None
-        y, is_f = _curve_y(y_text, name)
-        if y is None:
-            raise bad("not a fraction, percentage" + (" or capacitance" if name == "dc_bias"
-                                                      else ""), y_text)
-        ys.append(y)
-        farads.add(is_f)
-    if len(xs) < 1:
-        raise bad("empty curve", cell)
-    if len(farads) > 1:
-        raise bad("curve mixes capacitances and fractions", cell)
-    order = np.argsort(xs, kind="stable")
-    sx = [xs[i] for i in order]
-    if any(b <= a for a, b in zip(sx, sx[1:])):
-        raise bad("the same x twice", cell)
-    is_farads = farads == {True}
-    if not is_farads and name == "dc_bias" and any(not 0.0 <= y <= 1.0 for y in ys):
-        raise bad("remaining fraction outside 0..100 %", cell)
-    return Curve(tuple(sx), tuple(ys[i] for i in order), is_farads)
-
-
-def _curve_y(text: str, name: str) -> tuple[float | None, bool]:
-    try:
-        return to_si(text, "dimensionless", None, "nonneg"), False
-    except UnitError:
-        pass
-    if name == "dc_bias":
-        try:
-            return to_si(text, "capacitance", None, "nonneg"), True
-        except UnitError:
-            pass
-    return None, False
 
 
 # --- laying the data over the placements ------------------------------------------------------

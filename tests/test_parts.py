@@ -241,10 +241,10 @@ def test_missing_file_and_missing_mpn_column(tmp_path):
 
 
 def test_each_distinct_cell_is_converted_once(monkeypatch):
-    import bomcheck.parts as parts_mod
+    import bomcheck.parts_cells as cells_mod
 
     calls = []
-    monkeypatch.setattr(parts_mod, "to_si", lambda text, q, u=None, *a: calls.append(text) or 1.0)
+    monkeypatch.setattr(cells_mod, "to_si", lambda text, q, u=None, *a: calls.append(text) or 1.0)
     frame = pd.DataFrame({"mpn": [f"P{i}" for i in range(50)], "esr": ["45 mohm"] * 50})
     parts_from_table(frame)
     assert calls == ["45 mohm"]
