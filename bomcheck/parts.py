@@ -348,8 +348,8 @@ def _build(e: _Entries, *, path: str, warnings: list[InputWarning]) -> PartsData
             cell = e.cells[name][i]
             if cell.casefold() in NO_VALUE:
                 continue
-            found[keys[i]] = read_curve(cell, name, x_quantity, path=path, row=int(e.rows[i]),
-                                    column=e.headers[name])
+            found[keys[i]] = read_curve(cell, name, x_quantity, path=path,
+                                        row=int(e.rows[i]), column=e.headers[name])
         if found:
             curves[name] = found
     if not len(values):

@@ -58,17 +58,6 @@ def convert_column(cells: np.ndarray, quantity: str, unit: str, *, path: str, ro
     return out[codes]
 
 
-def _check_range(values: pd.DataFrame, e: _Entries, path: str) -> None:
-    """A rated range must have its minimum below its maximum."""
-    bad = (values["temp_min"] >= values["temp_max"]).to_numpy()
-    if bad.any():
-        i = int(np.flatnonzero(bad)[0])
-        raise InputError("temp_min is not below temp_max", path=path,
-                         row=int(values["row"].iat[i]), column=e.headers.get("temp_min"),
-                         text=f"{values['temp_min'].iat[i]:g} .. {values['temp_max'].iat[i]:g}",
-                         expected="a rated range such as -55 .. 105 degC")
-
-
 def _distinct(cells: np.ndarray, read, *, path: str, rows: np.ndarray, column: str,
               expected: str, empty: Any, dtype: Any) -> np.ndarray:
     """``read(text)`` once per distinct cell; None from ``read`` is an error naming the cell."""
