@@ -13,11 +13,13 @@ import numpy as np
 import pandas as pd
 
 from bomcheck import __version__
-from bomcheck.report import CAUTIONS, STATUS_ORDER, Report, ruleset_summary
+from bomcheck.report import CAUTIONS, Report, ruleset_summary
+from bomcheck.status import RANK, STATUS_ORDER
+from bomcheck.vocabulary import METRICS, REQUIRED_FAMILIES
 
 # Verdict ids the audit itself gives (not from a rule file): data problems, never a silent pass.
 NO_DESIGN_ROW = "design.missing"
-NO_RULE = "rules.none-apply"
+NO_FAMILY_RULE = "rules.no-{family}-rule"
 BOM_FINDING = "bom.{code}"
 
 
@@ -32,6 +34,7 @@ class AuditOptions:
     waivers: str | None = None  # waiver file (TOML or CSV), see bomcheck.waivers
     today: date | None = None  # the day waiver expiry is judged on (default: the clock's)
     parts: str | None = None  # parts file keyed by MPN (CSV, XLSX or TOML), see bomcheck.parts
+    environment: str = "severe"  # rules.ENVIRONMENTS: which column of environment limits fails
 
 
 def stress_data(ruleset):
@@ -55,10 +58,41 @@ def stress_data(ruleset):
     return StressData(**kwargs)
 
 
+def _families_missing(table: pd.DataFrame, rule_verdicts: pd.DataFrame,
+                      ruleset) -> dict[str, np.ndarray]:
+    """Per required check family, the placements no derating rule of that family applies to
+    (backstop rules do not count)."""
+    family_of = {r.id: r.family for r in ruleset.enabled_rules if not r.backstop}
+    fam = (rule_verdicts["rule_id"].map(family_of).to_numpy(dtype=object) if len(rule_verdicts)
+           else np.array([], dtype=object))
+    pidx = rule_verdicts["pidx"].to_numpy(dtype=np.int64) if len(rule_verdicts) else fam
+    out = {}
+    for family in REQUIRED_FAMILIES:
+        covered = np.zeros(len(table), dtype=bool)
+        covered[pidx[fam == family].astype(np.int64)] = True
+        if not covered.all():
+            out[family] = np.flatnonzero(~covered)
+    return out
+
+
+def unchecked_metrics(ruleset) -> tuple[str, ...]:
+    """Metrics no enabled rule in force limits, nor feeds: the audit reports none of them (every
+    stress it shows is checked by a rule)."""
+    kept = {r.metric for r in ruleset.enabled_rules}
+    kept |= {a for r in ruleset.enabled_rules for a in r.axes}
+    grew = True
+    while grew:
+        more = {m.name for m in METRICS.values() if set(m.feeds) & kept} - kept
+        grew = bool(more)
+        kept |= more
+    return tuple(m for m in METRICS if m not in kept)
+
+
 def _audit_verdicts(table: pd.DataFrame, rule_verdicts: pd.DataFrame,
-                    import_findings) -> pd.DataFrame:
-    """Add the audit's own verdicts: placements with no design row, no applicable rule, and the
-    importer's findings on a placement (quantity mismatch, column conflict) as warnings."""
+                    import_findings, ruleset) -> pd.DataFrame:
+    """Add the audit's own verdicts: placements with no design row, no derating rule of a
+    required family, and the importer's findings on a placement (quantity mismatch, column
+    conflict) as warnings."""
     refdes = table["refdes"].to_numpy(dtype=object)
     parts = [rule_verdicts]
 
@@ -73,14 +107,12 @@ def _audit_verdicts(table: pd.DataFrame, rule_verdicts: pd.DataFrame,
     add(no_row, NO_DESIGN_ROW, "nodata",
         [f"{r}: not in the design sheet; no operating conditions beyond board-wide defaults"
          for r in refdes[no_row]], "design sheet")
-    covered = np.zeros(len(table), dtype=bool)
-    if len(rule_verdicts):
-        covered[rule_verdicts["pidx"].to_numpy(dtype=np.int64)] = True
-    uncovered = np.flatnonzero(~covered)
-    tech = table["technology"].to_numpy(dtype=object)
-    add(uncovered, NO_RULE, "nodata",
-        [f"{r}: no rule in force applies ({t or 'unknown technology'}); the part is not checked"
-         for r, t in zip(refdes[uncovered], tech[uncovered])], "rule sets in force")
+    for family, idx in _families_missing(table, rule_verdicts, ruleset).items():
+        tech = table["technology"].to_numpy(dtype=object)[idx]
+        add(idx, NO_FAMILY_RULE.format(family=family), "nodata",
+            [f"{r}: no {family} derating rule in force for {t or 'a part of unknown technology'}"
+             "; a backstop (within the rating) is not a derating check: give the technology or "
+             "add a rule" for r, t in zip(refdes[idx], tech)], "rule sets in force")
     rows = table["row"].to_numpy()
     for f in import_findings:
         idx = np.flatnonzero(refdes == f.refdes) if f.refdes else np.flatnonzero(rows == f.row)
@@ -96,7 +128,7 @@ def _audit_verdicts(table: pd.DataFrame, rule_verdicts: pd.DataFrame,
 
 def placement_status(verdicts: pd.DataFrame, n: int) -> np.ndarray:
     """Each placement's status: the worst of its verdicts (STATUS_ORDER); nodata when it has none."""
-    rank = {s: i for i, s in enumerate(STATUS_ORDER)}
+    rank = RANK
     worst = np.full(n, rank["nodata"], dtype=np.int64)
     if len(verdicts):
         r = verdicts["status"].map(rank).to_numpy(dtype=np.int64)
@@ -127,11 +159,17 @@ def evaluate_table(table: pd.DataFrame, ruleset, *, parts=None, groups=None,
     table = stresses.compute(table.reset_index(drop=True), data)
     run = circuit.apply(table, data, ruleset, parts=parts, groups=groups)
     table = run.table
-    verdicts = _audit_verdicts(table, engine.evaluate(table, ruleset), import_findings)
+    verdicts = _audit_verdicts(table, engine.evaluate(table, ruleset), import_findings, ruleset)
     if len(run.verdicts):
         verdicts = pd.concat([verdicts, run.verdicts], ignore_index=True).sort_values(
             ["pidx", "rule_id"], kind="stable").reset_index(drop=True)
+    # The audit's own verdicts: no verdict is missing data; a finding on given data is firm.
+    verdicts["basis"] = verdicts["basis"].where(
+        verdicts["basis"].notna(), np.where(verdicts["status"] == "nodata", "missing", "firm"))
     table = table.copy()
+    for name in unchecked_metrics(ruleset):  # computed on the way, limited by no rule in force
+        if name in table:
+            table[name] = np.nan
     table["status"] = placement_status(verdicts, len(table))
     return Evaluated(table, verdicts, run.groups)
 
@@ -141,7 +179,8 @@ def run_audit(bom_path: str, design_path: str | None, options: AuditOptions = Au
     from bomcheck import design as design_mod
     from bomcheck import importer, rules
 
-    ruleset = rules.load_rules(options.rules or (rules.DEFAULT_RULESET,))
+    ruleset = rules.load_rules(options.rules or (rules.DEFAULT_RULESET,)).for_environment(
+        options.environment)
     imported = importer.read_bom(bom_path, options.import_options or importer.ImportOptions())
     placements = imported.placements
     fitted = placements[placements["fitted"]].reset_index(drop=True)
@@ -192,6 +231,7 @@ def run_audit(bom_path: str, design_path: str | None, options: AuditOptions = Au
         rules=ruleset,
         cautions=CAUTIONS + circuit.safety_cautions(verdicts, ruleset),
         groups=done.groups,
+        environment=ruleset.environment,
     )
     if options.waivers:
         from bomcheck.waivers import apply_waivers, load_waivers

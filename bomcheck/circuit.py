@@ -226,7 +226,8 @@ _NEW_COLUMNS = (
     "v_after_1s_v", "charge_after_5s_uc", "surge_a", "surge_ratio", "series_r_ohm",
     "series_r_ohm_per_v", "ripple_power_w", "ripple_rise_c", "ripple_allowed_a", "ripple_ratio",
     "life_est_h", "life_ratio", "v_share_cap_v", "v_share_dc_v", "bank_c_min_f",
-    "bank_c_worst_f", "bank_c_margin",
+    "bank_c_worst_f", "bank_c_margin", "bank_c_margin_best", "bank_c_margin_worst",
+    "t_operating_c_best", "temp_margin_c_best", "life_ratio_best",
 )
 
 
@@ -458,8 +459,12 @@ def apply(table: pd.DataFrame, data: Any, ruleset: Any = None, *,
     node_v[grouped], node_c[grouped] = node_v_group[grouped], node_c_group[grouped]
     r_dis[in_group] = r_dis_group[in_group]
     c_worst = _col(out, "c_worst_f").to_numpy()
+    c_fav = _col(out, "c_worst_f_best").to_numpy()  # members' capacitance at the bounds
+    c_low = _col(out, "c_worst_f_worst").to_numpy()
     bank_min = np.full(n, np.nan)
     bank_worst = np.full(n, np.nan)
+    bank_fav = np.full(n, np.nan)
+    bank_low = np.full(n, np.nan)
     for s in summaries:
         p = s["_pos"]
         if s["kind"] == "bank":
@@ -473,6 +478,7 @@ def apply(table: pd.DataFrame, data: Any, ruleset: Any = None, *,
             if "c_min_f" in gc and gc["c_min_f"] > 0:
                 bank_min[p] = gc["c_min_f"]
                 bank_worst[p] = np.sum(c_worst[p])  # NaN when a member's is unknown
+                bank_fav[p], bank_low[p] = np.sum(c_fav[p]), np.sum(c_low[p])
             s.update(v_node_v=_finite(node_v[p][0]), c_worst_f=_finite(np.sum(c_worst[p])),
                      c_margin=_finite(np.sum(c_worst[p]) / gc["c_min_f"])
                      if gc.get("c_min_f") else None)
@@ -483,6 +489,7 @@ def apply(table: pd.DataFrame, data: Any, ruleset: Any = None, *,
             if "c_min_f" in gc and gc["c_min_f"] > 0:
                 bank_min[p] = gc["c_min_f"]
                 bank_worst[p] = stack_worst
+                bank_fav[p], bank_low[p] = series_f(c_fav[p]), series_f(c_low[p])
             s.update(c_worst_f=_finite(stack_worst), c_min_f=_finite(gc.get("c_min_f", np.nan)),
                      c_margin=_finite(stack_worst / gc["c_min_f"]) if gc.get("c_min_f") else None)
     node_energy = energy_j(node_c, node_v)
@@ -519,7 +526,8 @@ def apply(table: pd.DataFrame, data: Any, ruleset: Any = None, *,
               "life_ratio": life / _col(out, "life_h").to_numpy(),
               "v_share_cap_v": share_cap, "v_share_dc_v": share_dc,
               "bank_c_min_f": bank_min, "bank_c_worst_f": bank_worst,
-              "bank_c_margin": bank_worst / bank_min})
+              "bank_c_margin": bank_worst / bank_min, "bank_c_margin_best": bank_fav / bank_min,
+              "bank_c_margin_worst": bank_low / bank_min})
     metrics = pd.DataFrame({k: np.asarray(v, dtype=float) for k, v in m.items()}, index=out.index)
     out = pd.concat([out.drop(columns=[c for c in _NEW_COLUMNS if c in out]), metrics], axis=1)
     # Ripple current given but no ESR (or no rise computable): the self-heating is not counted,
@@ -529,6 +537,7 @@ def apply(table: pd.DataFrame, data: Any, ruleset: Any = None, *,
     if heat_unknown.any():
         for col in ("t_operating_c_basis", "temp_margin_c_basis"):
             out[col] = np.where(heat_unknown, "generic", _text(out, col))
+    _self_heating_bounds(out, t, design_rise, generic_t | heat_unknown, alu, opts)
     out["ripple_ratio_basis"] = np.where(ripple_assumed.to_numpy(), "generic", "")
     # A bank or stack margin resting on a member's generic data is itself generic.
     member_generic = (_text(out, "c_margin_basis") == "generic").to_numpy()
@@ -558,6 +567,22 @@ def apply(table: pd.DataFrame, data: Any, ruleset: Any = None, *,
                                       "source"]))
     summaries.sort(key=lambda s: (s["row"], s["name"]))
     return CircuitResult(out, tuple(summaries), verdicts)
+
+
+def _self_heating_bounds(out: pd.DataFrame, t: pd.DataFrame, design_rise: pd.Series,
+                        uncertain: np.ndarray, alu: np.ndarray, opts: Any) -> None:
+    """Bounds of the verdicts that rest on an uncertain ripple self-heating (a case-size thermal
+    resistance, or a ripple current with no ESR): the heating is never below zero, so the
+    operating temperature without it is the favourable bound; there is no worst bound."""
+    t_best = _col(out, "t_ambient_c") + design_rise.fillna(0.0)
+    typical_rating = _col(out, "temp_max_c").isna()  # the rating itself is the typical one
+    out["t_operating_c_best"] = np.where(uncertain, t_best, np.nan)
+    out["temp_margin_c_best"] = np.where(uncertain & ~typical_rating.to_numpy(),
+                                         _col(out, "temp_max_used_c") - t_best, np.nan)
+    t0 = _col(t, "life_t0_c").fillna(_col(out, "temp_max_used_c"))
+    life = electrolytic_life_h(_col(t, "life_l0_h"), t0, t_best)
+    out["life_ratio_best"] = np.where(uncertain & alu, np.asarray(life, dtype=float)
+                                      / _col(out, "life_h").to_numpy(), np.nan)
 
 
 def _restress(t: pd.DataFrame, changed: np.ndarray, rise: pd.Series, data: Any) -> pd.DataFrame:

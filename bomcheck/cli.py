@@ -131,6 +131,9 @@ def _add_audit_inputs(p: argparse.ArgumentParser) -> None:
     p.add_argument("--rules", action="append", default=[], metavar="NAME_OR_PATH",
                    help="rule set by shipped name or TOML path (repeatable; later ones override "
                    "rules of the same id). Default: the shipped default set")
+    p.add_argument("--environment", choices=("severe", "benign"), default=None,
+                   help="which environment's limits apply where a rule gives both (default: "
+                   "severe, the stricter); named in every report")
 
 
 def build_parser() -> argparse.ArgumentParser:
@@ -170,10 +173,11 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--json", metavar="OUT", help="write the JSON report to OUT ('-' for stdout)")
     p.add_argument("--fail-on", choices=("fail", "nodata", "warn", "new"), default=None,
                    help="lowest status that makes the exit status 1 (order: waived < warn < "
-                   "nodata < fail; default: fail); 'new': only new or worsened problems "
-                   "against --baseline")
+                   "nodata < fail; default: nodata, since no data never passes); 'new': only "
+                   "new or worsened problems against --baseline")
     p.add_argument("--all", action="store_true", help="show every placement, not the worst 50")
-    p.add_argument("--quiet", action="store_true", help="print only the totals line")
+    p.add_argument("--quiet", action="store_true", help="print only the overall verdict, the "
+                   "counts and the totals line")
     _add_audit_outputs(p)
     _add_import_options(p)
 

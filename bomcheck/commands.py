@@ -118,7 +118,8 @@ def run_audit(args: argparse.Namespace) -> int:
                          expected="--baseline OLD.json (or baseline in [tool.bomcheck])")
     options = AuditOptions(rules=tuple(args.rules), import_options=_import_options(args),
                            design_sheet=args.design_sheet, waivers=args.waivers,
-                           today=args.today, parts=getattr(args, "parts", None))
+                           today=args.today, parts=getattr(args, "parts", None),
+                           environment=args.environment)
     diff = json_text = None
     with _progress(args, 1 + len(outputs)) as stage:
         stage("audit: read, parse, evaluate")
@@ -138,6 +139,9 @@ def run_audit(args: argparse.Namespace) -> int:
 
         console = _console(args)
         if args.quiet:
+            from bomcheck.render import verdict_line
+
+            console.print(verdict_line(report))
             console.print(accounting_line(report.totals))
             if diff is not None:
                 from bomcheck.diff import summary_line
@@ -164,7 +168,8 @@ def _with_config(args: argparse.Namespace) -> argparse.Namespace:
     from bomcheck.config import Config, load_config, merge
 
     merge(args, Config() if args.no_config else load_config())
-    args.fail_on = args.fail_on or "fail"
+    args.fail_on = args.fail_on or "nodata"  # no data never passes, at the exit status too
+    args.environment = getattr(args, "environment", None) or "severe"
     args.warn_as = args.warn_as or "failure"
     return args
 
@@ -350,7 +355,8 @@ def run_substitute(args: argparse.Namespace) -> int:
     options = SubstituteOptions(
         rules=tuple(args.rules), import_options=_import_options(args),
         design_sheet=args.design_sheet, parts=args.parts, margin_drop_pp=args.margin_drop,
-        temp_margin_drop_c=args.temp_margin_drop)
+        temp_margin_drop_c=args.temp_margin_drop,
+        environment=getattr(args, "environment", None) or "severe")
     if args.bom is None:
         from bomcheck.refdes import expand
 

@@ -11,7 +11,8 @@ design          design sheet path (``--design``)
 design_sheet    sheet of an XLSX design sheet (``--design-sheet``)
 parts           parts data keyed by MPN (``--parts``)
 rules           rule set name or path, or a list of them (``--rules``, in order)
-fail_on         ``fail``, ``warn``, ``nodata`` or ``new`` (``--fail-on``)
+fail_on         ``fail``, ``warn``, ``nodata`` (default) or ``new`` (``--fail-on``)
+environment     ``severe`` (default) or ``benign`` (``--environment``)
 warn_as         ``failure``, ``skipped`` or ``pass`` (``--warn-as``, JUnit)
 waivers         waiver file (``--waivers``)
 baseline        previous JSON report to compare with (``--baseline``)
@@ -47,11 +48,13 @@ from bomcheck.errors import InputError
 
 CHOICES: dict[str, tuple[str, ...]] = {
     "fail_on": ("fail", "warn", "nodata", "new"),
+    "environment": ("severe", "benign"),
     "warn_as": ("failure", "skipped", "pass"),
 }
 PATH_KEYS: tuple[str, ...] = ("design", "parts", "waivers", "baseline", "json", "junit", "markdown",
                               "csv", "xlsx")
-KEYS: tuple[str, ...] = (*PATH_KEYS[:2], "design_sheet", "rules", "fail_on", "warn_as",
+KEYS: tuple[str, ...] = (*PATH_KEYS[:2], "design_sheet", "rules", "fail_on", "environment",
+                         "warn_as",
                          *PATH_KEYS[2:])
 
 

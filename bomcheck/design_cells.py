@@ -52,7 +52,7 @@ _EXPLICIT_NONE_FIELDS = frozenset({"c_min_f"})
 # The sign each condition may take (bomcheck.units.SIGNS); any condition not named is a
 # magnitude ("nonneg"). Zero is refused where it is divided by or would read as "no stress".
 CONDITION_SIGNS: dict[str, str] = {
-    "v_dc": "any", "v_dc_max": "any", "t_ambient_c": "any",
+    "v_dc": "any", "v_dc_max": "any", "t_ambient_c": "any", "t_ambient_min_c": "any",
     "r_balance_ohm": "positive", "r_bleeder_ohm": "positive", "r_source_ohm": "positive",
     "f_ripple_hz": "positive", "slew_v_per_s": "positive", "v_safe_v": "positive",
     "t_discharge_max_s": "positive", "life_h": "positive",
@@ -98,6 +98,9 @@ ALIASES: dict[str, tuple[str, ...]] = {
                     "temperature", "temp", "ambient temp", "amb temp", "amb", "tamb",
                     "t_a", "ambient t", "temp ambient", "temperature ambient", "local temp",
                     "local temperature", "ambient air temperature"),
+    "t_ambient_min_c": ("t_ambient_min_c", "t_ambient_min", "t_amb_min", "ta_min",
+                        "minimum ambient", "min ambient", "coldest ambient", "cold start",
+                        "min ambient temp", "minimum ambient temperature", "tamb min"),
     "t_rise_c": ("t_rise_c", "t_rise", "rise", "temperature rise", "self heating", "delta t",
                  "temp rise", "dt", "delta temperature", "delta temp", "heating", "self-heating",
                  "temperature increase", "temp increase", "rise above ambient", "t rise",

@@ -16,7 +16,8 @@ from itertools import repeat
 import numpy as np
 import pandas as pd
 
-from bomcheck.rules import STATUSES, Applies, Rule, RuleSet, axis_quantity, format_quantity
+from bomcheck.rules import (STATUSES, Applies, Rule, RuleSet, axis_quantity, format_quantity,
+                            visible_pair)
 from bomcheck.vocabulary import INPUT_LABELS, METRICS
 
 PASS, WARN, FAIL, NODATA = range(4)
@@ -27,9 +28,14 @@ _REL_TOL = 1e-9
 VERDICT_COLUMNS = ("pidx", "refdes", "rule_id", "status", "value", "limit", "warn_limit", "margin",
                    "message", "source", "basis")
 
-GENERIC_NOTE = ("; rests on generic typical data (common practice): give part data for a "
-                "firm verdict")
+GENERIC_NOTE = ("; rests on generic typical data (common practice) and depends on data not "
+                "given: give part data for a firm verdict")
 ADVISORY_NOTE = "; advisory rule: at most a warning"
+BOUND_FAIL_NOTE = "; fails even with every unknown at its most favourable value"
+BOUND_PASS_NOTE = "; passes even with every unknown at its worst plausible value"
+# Message notes by code (the engine's note column).
+NOTE_GENERIC, NOTE_ADVISORY, NOTE_BOUND_FAIL, NOTE_BOUND_PASS = 1, 2, 3, 4
+NOTES = ("", GENERIC_NOTE, ADVISORY_NOTE, BOUND_FAIL_NOTE, BOUND_PASS_NOTE)
 
 
 # --------------------------------------------------------------------------------------------
@@ -303,6 +309,58 @@ def _distinct_rows(parts: list[_Coded], k: int) -> tuple[np.ndarray, np.ndarray]
     return first, inverse
 
 
+def _status(kind: CheckKind, value: np.ndarray, limit: np.ndarray,
+            warn_limit: np.ndarray) -> np.ndarray:
+    """PASS, WARN or FAIL of each value against its limits (NaN compares as pass)."""
+    with np.errstate(invalid="ignore"):
+        over_fail = kind.margin(value, limit) < -_REL_TOL * np.abs(limit)
+        over_warn = kind.margin(value, warn_limit) < -_REL_TOL * np.abs(warn_limit)
+    return np.where(over_fail, FAIL, np.where(over_warn, WARN, PASS)).astype(np.int8)
+
+
+def _kinder(kind: CheckKind, a: np.ndarray, b: np.ndarray) -> np.ndarray:
+    """Of two limits, the one kinder to the part (the higher ceiling, the lower floor)."""
+    return np.fmax(a, b) if kind.name == "max" else np.fmin(a, b)
+
+
+def _bounded(rule: Rule, kind: CheckKind, cols: _Columns, idx: np.ndarray, generic: np.ndarray,
+             status: np.ndarray, value: np.ndarray, limit: np.ndarray,
+             warn_limit: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Statuses of verdicts resting on unknown data, from the bounds of the unknowns.
+
+    The stress stage gives ``<metric>_best`` (every unknown at its most favourable value) and,
+    where the unknowns have a plausible worst, ``<metric>_worst``; a curve axis likewise. A
+    verdict that fails at the favourable bound fails whatever the unknowns are (firm); one that
+    passes at the worst bound passes (firm); anything else depends on the data: a warning.
+    Returns (statuses, True where a bound decided).
+    """
+    best = cols.num(f"{rule.metric}_best")[idx]
+    worst = cols.num(f"{rule.metric}_worst")[idx]
+    metric_generic = cols.text(f"{rule.metric}_basis")[idx] == "generic"
+    best = np.where(metric_generic, best, value)
+    worst = np.where(metric_generic, worst, value)
+    limit_best, warn_best = limit, warn_limit
+    for axis in rule.axes:
+        axis_generic = cols.text(f"{axis}_basis")[idx] == "generic"
+        x_best = np.where(axis_generic, cols.num(f"{axis}_best")[idx], cols.num(axis)[idx])
+        lim = rule.fail.at(x_best, len(idx))
+        limit_best = np.where(np.isnan(x_best), np.nan, _kinder(kind, limit, lim))
+        if rule.warn is not None and rule.warn.is_curve:
+            warn_best = _kinder(kind, warn_limit, rule.warn.at(x_best, len(idx)))
+        # an axis with no worst bound leaves the worst case unknown
+        worst = np.where(axis_generic, np.nan, worst)
+    s_best = _status(kind, best, limit_best, warn_best)
+    s_worst = _status(kind, worst, limit, warn_limit)
+    fails = generic & ~np.isnan(best) & ~np.isnan(limit_best) & (s_best == FAIL)
+    passes = generic & ~fails & ~np.isnan(worst) & (s_worst == PASS)
+    out = status.copy()
+    out[generic] = WARN
+    out[fails] = FAIL
+    out[passes] = PASS
+    return out, fails | passes
+
+
+
 def _evaluate_rule(rule: Rule, cols: _Columns, idx: np.ndarray, ctx: _Context,
                    bodies: list[str]) -> dict[str, np.ndarray]:
     k = len(idx)
@@ -323,24 +381,28 @@ def _evaluate_rule(rule: Rule, cols: _Columns, idx: np.ndarray, ctx: _Context,
     decisive = [rule.metric, *rule.axes, *rule.applies.columns()]
     nodata = np.logical_or.reduce([missing[c] for c in decisive])
 
-    with np.errstate(invalid="ignore"):
-        margin = kind.margin(value, limit)
-        over_fail = margin < -_REL_TOL * np.abs(limit)
-        over_warn = kind.margin(value, warn_limit) < -_REL_TOL * np.abs(warn_limit)
-    status = np.where(over_fail, FAIL, np.where(over_warn, WARN, PASS)).astype(np.int8)
-
-    basis = cols.text(f"{rule.metric}_basis")[idx]
-    generic = basis == "generic"
+    shown = _status(kind, value, limit, warn_limit)  # of the value the message shows
+    status = shown.copy()
+    generic = cols.text(f"{rule.metric}_basis")[idx] == "generic"
     for axis in rule.axes:
-        axis_generic = cols.text(f"{axis}_basis")[idx] == "generic"
-        basis = np.where(axis_generic & ~generic, "generic", basis)
-        generic = generic | axis_generic
-    capped = (status == FAIL) & (generic | (rule.severity == "warn")) & ~nodata
+        generic = generic | (cols.text(f"{axis}_basis")[idx] == "generic")
+    basis = np.where(generic, "generic", "firm").astype(object)
+    note = np.zeros(k, dtype=np.intp)
+    if generic.any():
+        status, bound = _bounded(rule, kind, cols, idx, generic, status, value, limit,
+                                 warn_limit)
+        basis[bound] = "bound"
+        note[generic] = NOTE_GENERIC
+        note[bound & (status == FAIL)] = NOTE_BOUND_FAIL
+        note[bound & (status == PASS)] = NOTE_BOUND_PASS
+    capped = (status == FAIL) & (rule.severity == "warn") & ~nodata
     status[capped] = WARN
+    note[capped] = NOTE_ADVISORY
     status[nodata] = NODATA
-    margin = np.where(nodata, np.nan, margin)
+    basis[nodata] = "missing"
+    margin = np.where(nodata, np.nan, kind.margin(value, limit))
 
-    body = _bodies(rule, kind, cols, idx, status, capped, generic, limit, warn_limit, ctx,
+    body = _bodies(rule, kind, cols, idx, status, shown, note, limit, warn_limit, ctx,
                    missing, bodies)
     return {
         "pidx": idx, "status": status, "value": value, "limit": limit,
@@ -349,7 +411,7 @@ def _evaluate_rule(rule: Rule, cols: _Columns, idx: np.ndarray, ctx: _Context,
 
 
 def _bodies(rule: Rule, kind: CheckKind, cols: _Columns, idx: np.ndarray, status: np.ndarray,
-            capped: np.ndarray, generic: np.ndarray, limit: np.ndarray, warn_limit: np.ndarray,
+            shown: np.ndarray, note: np.ndarray, limit: np.ndarray, warn_limit: np.ndarray,
             ctx: _Context, missing: dict[str, np.ndarray], bodies: list[str]) -> np.ndarray:
     """Message bodies (all of a message after the designator), e.g. ``: 14.2 V peak / 25 V
     rated = 56.8 % > 50 % limit (tantalum at 85 degC; NASA EEE-INST-002 Section C1 Table 4)``.
@@ -359,6 +421,7 @@ def _bodies(rule: Rule, kind: CheckKind, cols: _Columns, idx: np.ndarray, status
     """
     metric = METRICS[rule.metric]
     out = np.empty(len(idx), dtype=np.intp)
+
     src = rule.source
     nd = status == NODATA
     ok = np.flatnonzero(~nd)
@@ -368,10 +431,10 @@ def _bodies(rule: Rule, kind: CheckKind, cols: _Columns, idx: np.ndarray, status
         literals, fields = _template(metric.explain)
         parts = [cols.formatted(name, spec).take(rows) for name, spec in fields]
         parts.append(cols.formatted(rule.metric, metric.unit, metric.percent).take(rows))
-        st = status[ok]
+        st = shown[ok]  # the comparison printed is that of the value shown
         # "<= ", "> " or, past a warn limit, "> 50 % warn limit, <= "
         compare = _Coded((st != PASS).astype(np.intp), [f"{kind.inside} ", f"{kind.outside} "])
-        warned = (st == WARN) & ~capped[ok]
+        warned = st == WARN
         if warned.any():
             w = _coded_values(warn_limit[ok][warned], metric.unit, metric.percent)
             compare.codes[warned] = w.codes + 2
@@ -389,10 +452,9 @@ def _bodies(rule: Rule, kind: CheckKind, cols: _Columns, idx: np.ndarray, status
         else:
             parts.append(ctx.tech_semi.take(rows))
             tail = f"{src})"
-        note = np.where(generic[ok], 1, 0)
-        if rule.severity == "warn":
-            note = np.where(capped[ok] & ~generic[ok], 2, note)
-        parts.append(_Coded(note, ["", GENERIC_NOTE, ADVISORY_NOTE]))
+        parts.append(_Coded(note[ok], list(NOTES)))
+        _show_violations(parts, len(fields), kind, metric, st, cols.num(rule.metric)[rows],
+                         limit[ok])
         first, inverse = _distinct_rows(parts, k)
         texts = [np.array(p.lookup, dtype=object)[p.codes[first]].tolist() for p in parts]
         measured = _measured(literals, texts[: len(fields) + 1], rule.metric)
@@ -410,6 +472,28 @@ def _bodies(rule: Rule, kind: CheckKind, cols: _Columns, idx: np.ndarray, status
         bodies.extend(f": no data for {rule.title}: missing {lab}; {src}" for lab in labels)
         out[nd] = codes + start
     return out
+
+
+def _show_violations(parts: list[_Coded], at: int, kind: CheckKind, metric, shown: np.ndarray,
+                     value: np.ndarray, limit: np.ndarray) -> None:
+    """Where a failing value and its limit print alike at four digits (70.004 % against 70 %),
+    print both with the digits that show the failure: ``parts[at]`` is the value, ``parts[at +
+    2]`` the limit. Only the few such verdicts are formatted again."""
+    with np.errstate(invalid="ignore"):
+        rv, rl = _round_sig(value), _round_sig(limit)
+        visible = (rv > rl) if kind.name == "max" else (rv < rl)
+    hidden = np.flatnonzero((shown == FAIL) & ~visible & np.isfinite(value) & np.isfinite(limit))
+    if not hidden.size:
+        return
+    beyond = operator.gt if kind.name == "max" else operator.lt
+    for j in (at, at + 2):
+        parts[j] = _Coded(parts[j].codes.copy(), list(parts[j].lookup))
+    for i in hidden.tolist():
+        v, lim = visible_pair(float(value[i]), float(limit[i]), metric.unit, metric.percent,
+                              beyond)
+        for j, text in ((at, v), (at + 2, lim)):
+            parts[j].codes[i] = len(parts[j].lookup)
+            parts[j].lookup.append(text)
 
 
 def evaluate(table: pd.DataFrame, ruleset: RuleSet) -> pd.DataFrame:

@@ -13,6 +13,8 @@ from rich.table import Table
 from rich.text import Text
 from rich.theme import Theme
 
+from bomcheck.status import STATUS_ORDER
+
 THEME = Theme(
     {
         "status.pass": "green",
@@ -123,6 +125,13 @@ def _print_skipped(console: Console, skipped, limit: int = 20) -> None:
     console.print(table)
     if len(skipped) > limit:
         console.print(f"[muted]... {len(skipped) - limit} more rows not taken[/]")
+
+
+def verdict_line(report) -> Text:
+    """``Overall: FAIL (severe environment) - fail 13  nodata 10  warn 6  waived 0  pass 34``."""
+    counts = "  ".join(f"{s} {report.totals.get(s, 0)}" for s in reversed(STATUS_ORDER))
+    return Text.assemble("Overall: ", status_text(report.status),
+                         f" ({report.environment} environment) - placements: {counts}")
 
 
 def accounting_line(totals: dict) -> str:

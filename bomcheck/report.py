@@ -17,10 +17,8 @@ import pandas as pd
 from bomcheck.spec import SPEC_KEYS
 from bomcheck.vocabulary import CONDITIONS
 
-# Worst last. "nodata" ranks above "warn": an unchecked stress may be anything, a warning is known.
-# "waived" (an approved deviation, bomcheck.waivers) ranks just above "pass": it is known and signed.
-STATUS_ORDER: tuple[str, ...] = ("pass", "waived", "warn", "nodata", "fail")
-_RANK = {s: i for i, s in enumerate(STATUS_ORDER)}
+from bomcheck.status import RANK as _RANK
+from bomcheck.status import STATUS_ORDER, at_least, worst
 
 CAUTIONS: tuple[str, ...] = (
     "These results support engineering review; they do not replace it. A pass means the "
@@ -44,6 +42,7 @@ METRIC_FIELDS: tuple[str, ...] = (
 FINDING_FIELDS = {  # JSON key -> verdict column
     "rule": "rule_id", "status": "status", "value": "value", "limit": "limit",
     "warn_limit": "warn_limit", "margin": "margin", "message": "message", "source": "source",
+    "basis": "basis",
 }
 # Written only when the verdict table has the column (waivers were applied).
 OPTIONAL_FINDING_FIELDS = {"waived_from": "waived_from"}
@@ -63,19 +62,8 @@ def ruleset_summary(ruleset) -> tuple[dict, ...]:
     return tuple(out)
 
 
-def worst_status(statuses) -> str:
-    """The worst of some statuses (``STATUS_ORDER``); "pass" for none."""
-    best = 0
-    for s in statuses:
-        r = _RANK.get(s, 0)
-        if r > best:
-            best = r
-    return STATUS_ORDER[best]
-
-
-def status_at_least(status: str, level: str) -> bool:
-    """True when ``status`` is at or above ``level`` in ``STATUS_ORDER``."""
-    return _RANK.get(status, 0) >= _RANK[level]
+worst_status = worst  # kept for callers of the report module
+status_at_least = at_least
 
 
 @dataclass(frozen=True)
@@ -97,6 +85,7 @@ class Report:
     rules: Any = None  # the RuleSet in force, for renderers that list it
     waiver_findings: tuple = ()  # bomcheck.waivers.WaiverFinding: applied, expired, unused...
     groups: tuple[dict, ...] = ()  # banks and series stacks with their totals (bomcheck.circuit)
+    environment: str = "severe"  # the audit environment the limits were taken for
 
     @property
     def status(self) -> str:
@@ -152,6 +141,7 @@ class Report:
         return {
             "tool": {"name": "bomcheck", "version": self.tool_version},
             "status": self.status,
+            "environment": self.environment,
             "rulesets": list(self.rulesets),
             "inputs": list(self.inputs),
             "totals": {k: int(v) for k, v in self.totals.items()},

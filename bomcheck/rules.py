@@ -15,7 +15,7 @@ import functools
 import json
 import math
 import tomllib
-from collections.abc import Sequence
+from collections.abc import Callable, Sequence
 from dataclasses import asdict, dataclass, field, replace
 from importlib import resources
 from pathlib import Path
@@ -25,6 +25,7 @@ import numpy as np
 
 from bomcheck.errors import RuleError, RuleProblem, UnitError
 from bomcheck.spec import SAFETY_CLASSES, SPEC_KEYS, TECHNOLOGIES
+from bomcheck.status import RULE_STATUSES
 from bomcheck.units import SI_UNITS, check_plausible, to_si
 from bomcheck.vocabulary import CONDITIONS, METRICS, Metric
 
@@ -41,7 +42,11 @@ designs on the first run and bury the findings that matter. High-reliability wor
 """
 
 SHIPPED_PACKAGE = "bomcheck.rulesets"
-STATUSES = ("pass", "warn", "fail", "nodata")
+STATUSES = RULE_STATUSES
+ENVIRONMENTS: tuple[str, ...] = ("severe", "benign")
+"""Audit environments, stricter first. A rule may give its fail limit for the severe environment
+(``fail_severe``); in the benign one its ``fail`` and ``warn`` limits apply as written."""
+DEFAULT_ENVIRONMENT = "severe"
 
 # Keys of `applies` that bound a column: <name>_min, _max, _above, _below.
 # name -> (column, quantity, label in texts)
@@ -57,7 +62,7 @@ _BOUND_OPS = {"min": ">=", "max": "<=", "above": ">", "below": "<"}
 _LIST_KEYS = ("technology", "dielectric_class", "dielectric", "safety_class", "package")
 
 # Columns a placement table may carry (and an example may give).
-BASIS_COLUMNS = tuple(f"{m}_basis" for m in METRICS)
+BASIS_COLUMNS = tuple(f"{m}_{suffix}" for m in METRICS for suffix in ("basis", "best", "worst"))
 TABLE_COLUMNS: tuple[str, ...] = (
     ("refdes",) + SPEC_KEYS + tuple(CONDITIONS) + tuple(METRICS) + BASIS_COLUMNS
 )
@@ -69,18 +74,18 @@ _RATIO_SANE_MAX = 10.0
 # --------------------------------------------------------------------------------------------
 # Formatting shared by texts here and verdict messages in the engine.
 
-def format_number(x: float) -> str:
-    """A number in at most four significant digits, no exponent for everyday magnitudes."""
+def format_number(x: float, digits: int = 4) -> str:
+    """A number in at most ``digits`` significant digits, no exponent for everyday magnitudes."""
     if x != x:
         return "?"
     if x == 0:
         return "0"
-    if abs(x) >= 1e4:
+    if abs(x) >= 10.0 ** digits and abs(x) < 1e15:
         return f"{x:.0f}"
-    return f"{x:.4g}"
+    return f"{x:.{digits}g}"
 
 
-def format_farads(x: float) -> str:
+def format_farads(x: float, digits: int = 4) -> str:
     """Capacitance with the prefix an engineer writes: pF below 1 nF, nF below 1 uF, else uF."""
     if x != x:
         return "?"
@@ -88,21 +93,37 @@ def format_farads(x: float) -> str:
     if a == 0:
         return "0 F"
     if a < 1e-9:
-        return f"{format_number(x * 1e12)} pF"
+        return f"{format_number(x * 1e12, digits)} pF"
     if a < 1e-6:
-        return f"{format_number(x * 1e9)} nF"
+        return f"{format_number(x * 1e9, digits)} nF"
     if a < 1.0:
-        return f"{format_number(x * 1e6)} uF"
-    return f"{format_number(x)} F"
+        return f"{format_number(x * 1e6, digits)} uF"
+    return f"{format_number(x, digits)} F"
 
 
-def format_quantity(x: float, unit: str, percent: bool = False) -> str:
+def format_quantity(x: float, unit: str, percent: bool = False, digits: int = 4) -> str:
     """``x`` (SI) shown in ``unit``: ratios as percentages, farads prefixed, else number + unit."""
     if percent:
-        return f"{format_number(x * 100.0)} %"
+        return f"{format_number(x * 100.0, digits)} %"
     if unit == "F":
-        return format_farads(x)
-    return f"{format_number(x)} {unit}" if unit else format_number(x)
+        return format_farads(x, digits)
+    return f"{format_number(x, digits)} {unit}" if unit else format_number(x, digits)
+
+
+def visible_pair(value: float, limit: float, unit: str, percent: bool, beyond: Callable[
+        [float, float], bool]) -> tuple[str, str]:
+    """``value`` and ``limit`` formatted with just enough digits that the printed numbers show
+    ``beyond(value, limit)`` (a limit broken by 70.004 % never prints as "70 % > 70 %")."""
+    for digits in range(4, 16):
+        v, lim = (_rounded(x, digits) for x in (value, limit))
+        if beyond(v, lim):
+            break
+    return (format_quantity(value, unit, percent, digits),
+            format_quantity(limit, unit, percent, digits))
+
+
+def _rounded(x: float, digits: int) -> float:
+    return float(f"{x:.{digits}g}") if x == x and x not in (math.inf, -math.inf) else x
 
 
 def axis_quantity(column: str) -> tuple[str, str, bool] | None:
@@ -274,6 +295,15 @@ class Rule:
     examples: tuple[Example, ...] = ()
     origin: str = ""  # name of the rule set that defined it
     path: str = ""  # the file it came from
+    # A backstop (e.g. "never above the rated voltage") checks every part but is no derating:
+    # it does not count as the check family's verdict for a placement (see vocabulary.FAMILIES).
+    backstop: bool = False
+    fail_severe: Limit | None = None  # the fail limit in the severe environment, if different
+
+    @property
+    def family(self) -> str:
+        """The check family of the rule's metric (voltage, temperature, capacitance...)."""
+        return self.metric_def.family
 
     @property
     def metric_def(self) -> Metric:
@@ -392,6 +422,7 @@ class RuleSet:
     typical: TypicalRatings | None = None
     # The [circuit] table as read (schema-checked): typical data and options of bomcheck.circuit.
     circuit: dict[str, Any] | None = None
+    environment: str = "benign"  # the limits as written; see for_environment
 
     def rule(self, rule_id: str) -> Rule:
         """The rule with this id (KeyError if absent)."""
@@ -408,6 +439,18 @@ class RuleSet:
     def with_rules(self, rules: Sequence[Rule]) -> RuleSet:
         """A copy holding ``rules`` instead (e.g. one rule, for its examples)."""
         return replace(self, rules=tuple(rules))
+
+    def for_environment(self, environment: str) -> RuleSet:
+        """The set as it applies in ``environment`` (``ENVIRONMENTS``): in the severe one, a rule
+        with a ``fail_severe`` limit fails there and has no warn limit."""
+        if environment not in ENVIRONMENTS:
+            raise ValueError(f"unknown environment {environment!r}; expected one of: "
+                             + ", ".join(ENVIRONMENTS))
+        if environment == "benign":
+            return replace(self, environment=environment)
+        rules = tuple(replace(r, fail=r.fail_severe, warn=None) if r.fail_severe else r
+                      for r in self.rules)
+        return replace(self, rules=rules, environment=environment)
 
     def describe(self) -> list[RuleRow]:
         """Rows for the ``bomcheck rules [NAME]`` table, in rule-set order."""
@@ -884,6 +927,12 @@ def _build_rule(i: int, r: Any, head_name: str, display: str, c: _Collector) -> 
     applies = _applies(r.get("applies", {}), p + ["applies"], c)
     fail = _limit(r["fail"], metric, p + ["fail"], c) if "fail" in r else None
     warn = _limit(r["warn"], metric, p + ["warn"], c) if "warn" in r else None
+    severe = (_limit(r["fail_severe"], metric, p + ["fail_severe"], c) if "fail_severe" in r
+              else None)
+    if fail is not None and severe is not None and check in CHECKS and not _warn_side_ok(
+            fail, severe, check):
+        c.add(p + ["fail_severe"], f"severe-environment limit {severe.text(metric)} is kinder "
+              f"than the fail limit {fail.text(metric)}; expected it at least as strict")
     if fail is not None and warn is not None:
         if fail.is_curve and warn.is_curve and fail.over != warn.over:
             c.add(p + ["warn", "over"], f"warn curve is over {warn.over!r} but the fail curve "
@@ -911,6 +960,7 @@ def _build_rule(i: int, r: Any, head_name: str, display: str, c: _Collector) -> 
             fail=fail, warn=warn, severity=r["severity"], enabled=r.get("enabled", True),
             source=r["source"], confidence=r["confidence"], rationale=r["rationale"],
             examples=tuple(examples), origin=head_name, path=display,
+            backstop=bool(r.get("backstop", False)), fail_severe=severe,
         )
     except KeyError:  # a missing key the schema has reported
         return None

@@ -40,6 +40,17 @@ class StressData:
     # (common practice; the form C(t) = C(t0) x (1 - k/100 x log10(t/t0))).
     aging_t0_h: float = 1.0
     default_tol_pct: float = 20.0
+    # Worst plausible DC-bias keep of a class II/III ceramic without part data: derived from the
+    # published example of a small-case 4.7 uF 6.3 V X5R keeping about 7 % at 5 V (79 % of
+    # rated), drawn linear from none lost at 0 V and held beyond (common practice, derived).
+    dc_bias_worst: tuple[tuple[float, ...], tuple[float, ...]] = ((0.0, 0.79, 10.0),
+                                                                  (1.0, 0.07, 0.07))
+    # Longest plausible service life when the design gives none, for the worst aging bound
+    # (common practice: about 11 years of continuous service).
+    worst_life_h: float = 1.0e5
+    # Worst plausible change of a ceramic whose dielectric is not given: EIA-198 letter V
+    # (+22/-82 %), the widest class III code.
+    worst_class_change_pct: float = 82.0
     # Typical rated maximum temperature by technology (keys "ceramic-class1".. first), used where
     # the BOM text gives none; a temperature margin resting on it is marked generic.
     typical_temp_max_c: Mapping[str, float] = field(default_factory=dict)
@@ -59,22 +70,39 @@ def text_column(table: pd.DataFrame, name: str) -> pd.Series:
     return pd.Series("", index=table.index, dtype=object)
 
 
-def applied_voltages(table: pd.DataFrame) -> pd.DataFrame:
-    """Upper bound of the DC rail, applied peak (DC upper bound + ripple peak) and transient peak.
+SQRT2 = float(np.sqrt(2.0))
 
-    The rail's upper bound is ``v_dc_max`` where given, else ``v_dc x (1 + v_tol_pct/100)``, else
-    ``v_dc``. A ripple or transient not given is taken as none (0 V / the applied peak).
+
+def applied_voltages(table: pd.DataFrame) -> pd.DataFrame:
+    """Upper bound of the DC rail, applied peak and transient peak, all magnitudes.
+
+    The rail's upper bound is ``|v_dc_max|`` where given, else ``|v_dc| x (1 + v_tol_pct/100)``,
+    else ``|v_dc|`` (a negative rail stresses a part as much as a positive one). The applied peak
+    is DC upper bound + ripple peak + sqrt(2) x AC rms (NASA EEE-INST-002 Section C1 Table 4,
+    note 1: DC plus peak AC); with an AC voltage and no DC given, the DC is none. A ripple,
+    AC or transient not given is taken as none (0 V / the applied peak).
     """
-    v_dc = num_column(table, "v_dc")
-    upper = num_column(table, "v_dc_max")
-    from_tol = v_dc * (1.0 + num_column(table, "v_tol_pct") / 100.0)
+    v_dc = num_column(table, "v_dc").abs()
+    ac_peak = SQRT2 * num_column(table, "v_ac_rms")
+    v_dc = v_dc.where(v_dc.notna() | ac_peak.isna(), 0.0)
+    upper = num_column(table, "v_dc_max").abs()
+    from_tol = v_dc * (1.0 + num_column(table, "v_tol_pct").clip(lower=0.0) / 100.0)
     upper = upper.fillna(from_tol).fillna(v_dc)
-    applied = upper + num_column(table, "v_ripple_pk").fillna(0.0)
+    applied = upper + num_column(table, "v_ripple_pk").fillna(0.0) + ac_peak.fillna(0.0)
     transient = np.fmax(applied, num_column(table, "v_transient_pk"))
     return pd.DataFrame(
         {"v_upper_v": upper, "applied_peak_v": applied, "transient_peak_v": transient},
         index=table.index,
     )
+
+
+def reverse_voltage(table: pd.DataFrame, volts: pd.DataFrame) -> pd.Series:
+    """Peak reverse voltage: ``v_reverse_pk``, and on a negative rail (``v_dc`` < 0) the whole
+    applied peak, whichever is larger (a polarized part fitted on a negative rail is reversed
+    unless the design says otherwise through a positive ``v_dc``)."""
+    negative = num_column(table, "v_dc") < 0
+    from_rail = volts["applied_peak_v"].where(negative)
+    return np.fmax(num_column(table, "v_reverse_pk"), from_rail)
 
 
 def _class1_loss(tc: pd.Series, tol: pd.Series, t_op: pd.Series) -> pd.Series:
@@ -174,7 +202,25 @@ def capacitance_worst_case(
         "; ".join(t for i, t in enumerate(texts) if c >> i & 1) for c in range(1 << len(texts))
     ], dtype=object)
     notes = pd.Series(lookup[code], index=table.index, dtype=object)
-    generic = tol_assumed | bias_generic | bias_unknown | aging_unknown | class_assumed
+    # Bounds of the unknowns. At their most favourable (no tolerance, no DC-bias or aging loss,
+    # a class I dielectric) the margin can only be larger; at their worst plausible (the widest
+    # common tolerance, the worst DC-bias keep, aging over the longest plausible life, the widest
+    # class III change) it can only be smaller.
+    uncertain = tol_assumed | bias_generic | bias_unknown | aging_unknown | class_assumed
+    best_keep = np.where(bias_generic | bias_unknown, 1.0, bias_keep)
+    c_best = (nominal * np.where(tol_assumed, 1.0, tol_factor)
+              * np.where(class_assumed, 1.0, 1.0 - temp_loss) * best_keep
+              * np.where(aging_unknown, 1.0, 1.0 - aging_loss))
+    ratio = applied_peak_v / rated
+    worst_keep = np.where(bias_generic, np.interp(ratio.fillna(0.0), *data.dc_bias_worst),
+                          np.where(bias_unknown, np.nan, bias_keep))
+    worst_decades = np.log10(data.worst_life_h / data.aging_t0_h)
+    worst_aging = np.where(aging_unknown, (k / 100.0 * worst_decades).clip(0.0, 1.0), aging_loss)
+    worst_temp = np.where(class_assumed, data.worst_class_change_pct / 100.0, temp_loss)
+    # An assumed tolerance has no worst bound: the BOM should give it (no pass without it).
+    c_worst_bound = (nominal * tol_factor * (1.0 - worst_temp) * worst_keep * (1.0 - worst_aging)
+                     ).where(~tol_assumed)
+    need = c_min.where(c_min > 0)  # c_min_f = 0 is the design sheet's "none": no margin
     return pd.DataFrame(
         {
             "c_tol_factor": tol_factor,
@@ -182,9 +228,13 @@ def capacitance_worst_case(
             "c_bias_factor": bias_keep,
             "c_aging_factor": 1.0 - aging_loss,
             "c_worst_f": c_worst,
-            # c_min_f = 0 is the design sheet's "none": no need stated, so no margin.
-            "c_margin": (c_worst / c_min).where(c_min > 0),
-            "c_margin_basis": np.where(generic, "generic", np.where(bias_keep < 1.0, "part", "")),
+            "c_worst_f_best": c_best.where(uncertain, c_worst),
+            "c_worst_f_worst": c_worst_bound.where(uncertain, c_worst),
+            "c_margin": c_worst / need,
+            "c_margin_best": (c_best / need).where(uncertain),
+            "c_margin_worst": (c_worst_bound / need).where(uncertain),
+            "c_margin_basis": np.where(uncertain, "generic",
+                                       np.where(part_keep.notna() & class23, "part", "")),
             "c_margin_note": notes,
         },
         index=table.index,
@@ -214,6 +264,7 @@ def compute(table: pd.DataFrame, data: StressData) -> pd.DataFrame:
     polarized = (table["polarized"].astype(object).fillna(False).astype(bool) if "polarized" in table
                  else pd.Series(False, index=table.index))
     t_operating = num_column(table, "t_ambient_c") + num_column(table, "t_rise_c").fillna(0.0)
+    t_cold = num_column(table, "t_ambient_min_c").fillna(num_column(table, "t_ambient_c"))
     temp_max, temp_assumed = rated_temp_max(table, data)
     metrics = pd.DataFrame(
         {
@@ -222,12 +273,14 @@ def compute(table: pd.DataFrame, data: StressData) -> pd.DataFrame:
             "transient_peak_v": volts["transient_peak_v"],
             "voltage_ratio": dc_ratio.where(~is_ac, ac_ratio),
             "transient_ratio": (volts["transient_peak_v"] / rated).where(~is_ac),
-            "reverse_ratio": (num_column(table, "v_reverse_pk") / rated).where(polarized),
+            "reverse_ratio": (reverse_voltage(table, volts) / rated).where(polarized),
             "rated_voltage_v": rated,
             "t_operating_c": t_operating,
             "temp_max_used_c": temp_max,
             "temp_margin_c": temp_max - t_operating,
             "temp_margin_c_basis": np.where(temp_assumed, "generic", ""),
+            "t_cold_c": t_cold,
+            "temp_min_margin_c": t_cold - num_column(table, "temp_min_c"),
         },
         index=table.index,
     )

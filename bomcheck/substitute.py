@@ -75,6 +75,7 @@ class SubstituteOptions:
     parts: str | None = None  # parts file keyed by MPN, as for the audit
     margin_drop_pp: float = DEFAULT_MARGIN_DROP_PP
     temp_margin_drop_c: float = DEFAULT_TEMP_MARGIN_DROP_C
+    environment: str = "severe"  # as for the audit (rules.ENVIRONMENTS)
 
 
 @dataclass(frozen=True)
@@ -1387,7 +1388,8 @@ def _inputs_and_stages(design_path: str | None, options: SubstituteOptions
     from bomcheck import parts as parts_mod
     from bomcheck import rules
 
-    ruleset = rules.load_rules(options.rules or (rules.DEFAULT_RULESET,))
+    ruleset = rules.load_rules(options.rules or (rules.DEFAULT_RULESET,)).for_environment(
+        options.environment)
     inputs: list[dict] = []
     design = None
     if design_path is not None:

@@ -28,6 +28,16 @@ class Metric:
     # printed before the value (e.g. "14.2 V peak / 25 V rated = "). Unit "F" prints with an SI
     # prefix; any other unit is printed after the number as written.
     explain: str = ""
+    # The check family a rule on this metric belongs to (see FAMILIES); "" for a component.
+    family: str = ""
+    # A component is computed only to feed the stresses named here (never limited itself);
+    # every other metric is a stress, and a stress is limited by a rule or not reported.
+    feeds: tuple[str, ...] = ()
+
+    @property
+    def is_stress(self) -> bool:
+        """True for a stress a rule must limit (not a component of one)."""
+        return not self.feeds
 
 
 METRICS: dict[str, Metric] = {
@@ -35,25 +45,45 @@ METRICS: dict[str, Metric] = {
     for m in (
         Metric("voltage_ratio", "dimensionless", "", "applied peak voltage / rated voltage "
                "(AC-rated parts: applied AC rms / rated AC rms)", ("applied_peak_v", "voltage_v"), True,
-               "{applied_peak_v:V} peak / {voltage_v:V} rated = "),
+               "{applied_peak_v:V} peak / {voltage_v:V} rated = ", family="voltage"),
         Metric("reverse_ratio", "dimensionless", "", "peak reverse voltage / rated voltage "
                "(polarized parts)", ("v_reverse_pk", "voltage_v"), True,
-               "{v_reverse_pk:V} reverse / {voltage_v:V} rated = "),
+               "{v_reverse_pk:V} reverse / {voltage_v:V} rated = ", family="reverse"),
         Metric("applied_peak_v", "voltage", "V", "applied peak voltage: upper bound of DC + ripple "
-               "peak, or the transient peak where larger", ("v_dc",), explain="applied peak "),
+               "peak, or the transient peak where larger", ("v_dc",), explain="applied peak ", feeds=("voltage_ratio", "transient_ratio")),
         Metric("rated_voltage_v", "voltage", "V", "rated voltage of the part", ("voltage_v",),
-               explain="rated "),
+               explain="rated ", family="voltage"),
         Metric("t_operating_c", "temperature", "degC", "operating temperature: ambient + rise",
-               ("t_ambient_c",), explain="operating "),
+               ("t_ambient_c",), explain="operating ", family="temperature"),
         Metric("temp_margin_c", "temperature_delta", "degC", "rated maximum temperature - "
                "operating temperature", ("temp_max_used_c", "t_ambient_c"),
-               explain="{temp_max_used_c:degC} rated max - {t_operating_c:degC} operating = "),
+               explain="{temp_max_used_c:degC} rated max - {t_operating_c:degC} operating = ", family="temperature"),
+        Metric("transient_ratio", "dimensionless", "", "transient peak voltage / rated "
+               "voltage (DC-rated parts): the applied peak or the design's transient peak, "
+               "whichever is larger", ("applied_peak_v", "voltage_v"), True,
+               "{transient_peak_v:V} transient peak / {voltage_v:V} rated = ", family="transient"),
+        Metric("transient_peak_v", "voltage", "V", "transient peak voltage: the design's "
+               "transient peak, at least the applied peak", ("v_dc",), explain="transient peak ",
+               feeds=("transient_ratio",)),
+        Metric("v_upper_v", "voltage", "V", "upper bound of the DC rail: v_dc_max, else v_dc x "
+               "(1 + v_tol_pct)", ("v_dc",), explain="rail upper bound ",
+               feeds=("applied_peak_v",)),
+        Metric("temp_min_margin_c", "temperature_delta", "degC", "lowest operating (ambient) "
+               "temperature - rated minimum temperature", ("temp_min_c",),
+               explain="{t_cold_c:degC} coldest - {temp_min_c:degC} rated min = ",
+               family="temperature"),
+        Metric("t_cold_c", "temperature", "degC", "lowest operating temperature: t_ambient_min_c, "
+               "else t_ambient_c", ("t_ambient_c",), explain="coldest ",
+               feeds=("temp_min_margin_c",)),
+        Metric("temp_max_used_c", "temperature", "degC", "rated maximum temperature used: the "
+               "part's, else the technology's typical rating (generic)", ("temp_max_c",),
+               explain="rated max ", feeds=("temp_margin_c",)),
         Metric("c_margin", "dimensionless", "", "worst-case minimum capacitance / capacitance the "
                "circuit needs", ("capacitance_f", "c_min_f"), True,
-               "{c_worst_f:F} worst case / {c_min_f:F} required = "),
+               "{c_worst_f:F} worst case / {c_min_f:F} required = ", family="capacitance"),
         Metric("c_worst_f", "capacitance", "F", "worst-case minimum capacitance: nominal less "
                "tolerance, temperature, DC-bias and aging losses", ("capacitance_f",),
-               explain="worst-case "),
+               explain="worst-case ", feeds=("c_margin", "bank_c_margin")),
     )
 }
 
@@ -68,9 +98,14 @@ CONDITIONS: dict[str, tuple[str, str]] = {
     "v_ac_rms": ("voltage", "V"),
     "t_ambient_c": ("temperature", "degC"),
     "t_rise_c": ("temperature_delta", "delta_degC"),
+    "t_ambient_min_c": ("temperature", "degC"),  # coldest ambient, for the rated minimum
     "c_min_f": ("capacitance", "F"),
     "life_h": ("time", "h"),
 }
+
+# Check families every fitted placement needs a firm verdict in, from a rule made for its
+# technology (a backstop rule does not count): without one the placement is "nodata".
+REQUIRED_FAMILIES: tuple[str, ...] = ("voltage", "temperature")
 
 # How a missing input is named in a "no data" message.
 INPUT_LABELS: dict[str, str] = {
@@ -79,6 +114,7 @@ INPUT_LABELS: dict[str, str] = {
     "voltage_v": "rated voltage (not in the BOM text or parts data)",
     "v_reverse_pk": "reverse voltage (v_reverse_pk in the design sheet)",
     "t_ambient_c": "ambient temperature (t_ambient_c in the design sheet)",
+    "temp_min_c": "rated minimum temperature (not in the BOM text, dielectric code or parts data)",
     "temp_max_c": "rated maximum temperature (not in the BOM text or from the dielectric code)",
     "temp_max_used_c": "rated maximum temperature (not in the BOM text, the dielectric code or "
                        "the rule set's typical ratings)",
@@ -108,86 +144,86 @@ METRICS.update({
     m.name: m
     for m in (
         Metric("c_max_f", "capacitance", "F", "maximum capacitance: nominal + positive tolerance",
-               ("capacitance_f",), explain="maximum "),
+               ("capacitance_f",), explain="maximum ", feeds=("energy_j", "node_energy_j", "surge_a")),
         Metric("v_stored_v", "voltage", "V", "worst voltage the placement holds: applied peak, "
-               "or sqrt(2) x AC rms for AC-rated parts", ("v_dc",), explain="held "),
+               "or sqrt(2) x AC rms for AC-rated parts", ("v_dc",), explain="held ", feeds=("energy_j", "node_v")),
         Metric("energy_j", "energy", "J", "stored energy 1/2 C V^2 at the maximum capacitance "
                "and the worst voltage held", ("capacitance_f", "v_stored_v"),
-               explain="1/2 x {c_max_f:F} x ({v_stored_v:V})^2 = "),
+               explain="1/2 x {c_max_f:F} x ({v_stored_v:V})^2 = ", feeds=("node_energy_j",)),
         Metric("node_v", "voltage", "V", "voltage across the placement's node: a series stack's "
                "whole voltage, a bank's rail, else the placement's own", ("v_dc",),
-               explain="node "),
+               explain="node ", feeds=("node_energy_j", "discharge_s", "t_to_60v_s")),
         Metric("node_c_f", "capacitance", "F", "maximum capacitance on the node: a series "
                "stack's series combination, a bank's sum, else the placement's own",
-               ("capacitance_f",), explain="node "),
+               ("capacitance_f",), explain="node ", feeds=("node_energy_j", "discharge_s", "t_to_60v_s")),
         Metric("node_energy_j", "energy", "J", "stored energy of the node, 1/2 C V^2",
-               ("capacitance_f", "node_v"), explain="{node_c_f:F} at {node_v:V} stores "),
+               ("capacitance_f", "node_v"), explain="{node_c_f:F} at {node_v:V} stores ", feeds=("shock_energy_j",)),
         Metric("shock_energy_j", "energy", "J", "node energy where the node holds at least "
                "100 V (the shock-hazard practice); none below 100 V", ("node_energy_j",),
-               explain="{node_c_f:F} at {node_v:V} stores "),
+               explain="{node_c_f:F} at {node_v:V} stores ", family="safety"),
         Metric("r_discharge_ohm", "resistance", "ohm", "discharge resistance across the node: "
                "the bleeder, in parallel with a series stack's balancing resistors",
-               ("r_bleeder_ohm",), explain="discharge resistance "),
+               ("r_bleeder_ohm",), explain="discharge resistance ", feeds=("discharge_s", "t_to_60v_s", "v_after_1s_v", "charge_after_5s_uc")),
         Metric("v_safe_used_v", "voltage", "V", "safe voltage of the discharge time: v_safe_v, "
-               "else the rule set's default", ("v_safe_v",), explain="safe voltage "),
+               "else the rule set's default", ("v_safe_v",), explain="safe voltage ", feeds=("discharge_s",)),
         Metric("discharge_s", "seconds", "s", "time for the node to fall to the safe voltage, "
                "t = R C ln(V0 / V_safe); 0 where it starts at or below it",
                ("r_discharge_ohm", "node_v"),
                explain="{node_v:V} through {r_discharge_ohm:ohm} and {node_c_f:F} to "
-                       "{v_safe_used_v:V} in "),
+                       "{v_safe_used_v:V} in ", feeds=("discharge_ratio",)),
         Metric("discharge_ratio", "dimensionless", "", "discharge time to the safe voltage / "
                "the time the design allows", ("discharge_s", "t_discharge_max_s"), True,
-               "{discharge_s:s} to {v_safe_used_v:V} / {t_discharge_max_s:s} allowed = "),
+               "{discharge_s:s} to {v_safe_used_v:V} / {t_discharge_max_s:s} allowed = ", family="discharge"),
         Metric("t_to_60v_s", "seconds", "s", "time for the node to fall to 60 V after "
                "disconnection; 0 where it holds 60 V or less", ("r_discharge_ohm", "node_v"),
                explain="{node_v:V} through {r_discharge_ohm:ohm} and {node_c_f:F} falls to "
-                       "60 V in "),
+                       "60 V in ", family="safety"),
         Metric("v_after_1s_v", "voltage", "V", "node voltage 1 s after disconnection",
                ("r_discharge_ohm", "node_v"),
-               explain="{node_v:V} through {r_discharge_ohm:ohm} and {node_c_f:F} after 1 s: "),
+               explain="{node_v:V} through {r_discharge_ohm:ohm} and {node_c_f:F} after 1 s: ", family="safety"),
         Metric("charge_after_5s_uc", "charge", "uC", "charge left on the node 5 s after "
                "disconnection", ("r_discharge_ohm", "node_v"),
-               explain="{node_c_f:F} from {node_v:V} through {r_discharge_ohm:ohm} after 5 s: "),
+               explain="{node_c_f:F} from {node_v:V} through {r_discharge_ohm:ohm} after 5 s: ", family="safety"),
         Metric("surge_a", "current", "A", "peak surge current at switch-on: C dV/dt from the "
                "rail's slew rate, else V / R from the source resistance", ("capacitance_f",),
-               explain="surge "),
+               explain="surge ", feeds=("surge_ratio",)),
         Metric("surge_ratio", "dimensionless", "", "surge current / the part's surge current "
                "rating", ("surge_a", "surge_rated_a"), True,
-               "{surge_a:A} surge / {surge_rated_a:A} rated = "),
+               "{surge_a:A} surge / {surge_rated_a:A} rated = ", family="surge"),
         Metric("series_r_ohm", "resistance", "ohm", "effective series circuit resistance "
-               "feeding the part", ("r_source_ohm",), explain="series resistance "),
+               "feeding the part", ("r_source_ohm",), explain="series resistance ", family="surge"),
         Metric("series_r_ohm_per_v", "resistance_per_volt", "ohm/V", "series circuit "
                "resistance per volt applied", ("r_source_ohm", "applied_peak_v"),
-               explain="{series_r_ohm:ohm} / {applied_peak_v:V} = "),
+               explain="{series_r_ohm:ohm} / {applied_peak_v:V} = ", family="surge"),
         Metric("ripple_power_w", "power", "W", "ripple dissipation I^2 x ESR",
-               ("i_ripple_a", "esr_ohm"), explain="ripple dissipation "),
+               ("i_ripple_a", "esr_ohm"), explain="ripple dissipation ", feeds=("ripple_rise_c",)),
         Metric("ripple_rise_c", "temperature_delta", "degC", "temperature rise from ripple "
                "heating: I^2 x ESR x thermal resistance", ("i_ripple_a", "esr_ohm"),
-               explain="{ripple_power_w:W} ripple dissipation gives a rise of "),
+               explain="{ripple_power_w:W} ripple dissipation gives a rise of ", feeds=("t_operating_c", "temp_margin_c", "life_ratio")),
         Metric("ripple_allowed_a", "current", "A", "rated ripple current x frequency "
-               "multiplier x temperature multiplier", ("ripple_rated_a",), explain="allowed "),
+               "multiplier x temperature multiplier", ("ripple_rated_a",), explain="allowed ", feeds=("ripple_ratio",)),
         Metric("ripple_ratio", "dimensionless", "", "ripple current / the allowed ripple "
                "current", ("i_ripple_a", "ripple_rated_a"), True,
-               "{i_ripple_a:A} rms / {ripple_allowed_a:A} allowed = "),
+               "{i_ripple_a:A} rms / {ripple_allowed_a:A} allowed = ", family="ripple"),
         Metric("life_est_h", "time", "h", "estimated life L0 x 2^((T0 - T)/10), with the ripple "
                "factor 2^(-dT/5) where the rule set asks for it", ("life_l0_h", "t_ambient_c"),
-               explain="estimated "),
+               explain="estimated ", feeds=("life_ratio",)),
         Metric("life_ratio", "dimensionless", "", "estimated life / required life",
                ("life_l0_h", "life_h"), True,
-               "{life_est_h:h} estimated / {life_h:h} required = "),
+               "{life_est_h:h} estimated / {life_h:h} required = ", family="life"),
         Metric("v_share_cap_v", "voltage", "V", "series-stack member's worst share of the "
                "stack's DC upper bound by capacitive division (tolerances at their extremes)",
-               ("v_dc",), explain="capacitive share "),
+               ("v_dc",), explain="capacitive share ", feeds=("voltage_ratio",)),
         Metric("v_share_dc_v", "voltage", "V", "series-stack member's worst DC steady-state "
                "share from the balancing resistors and leakage currents", ("r_balance_ohm",),
-               explain="resistive share "),
+               explain="resistive share ", feeds=("voltage_ratio",)),
         Metric("bank_c_min_f", "capacitance", "F", "capacitance the bank the placement belongs "
-               "to must provide (the bank's c_min_f)", ("c_min_f",), explain="bank needs "),
+               "to must provide (the bank's c_min_f)", ("c_min_f",), explain="bank needs ", feeds=("bank_c_margin",)),
         Metric("bank_c_worst_f", "capacitance", "F", "sum of the bank members' worst-case "
-               "minimum capacitances", ("capacitance_f",), explain="bank worst case "),
+               "minimum capacitances", ("capacitance_f",), explain="bank worst case ", feeds=("bank_c_margin",)),
         Metric("bank_c_margin", "dimensionless", "", "bank worst-case capacitance / the bank's "
                "requirement", ("capacitance_f", "bank_c_min_f"), True,
-               "{bank_c_worst_f:F} bank worst case / {bank_c_min_f:F} required = "),
+               "{bank_c_worst_f:F} bank worst case / {bank_c_min_f:F} required = ", family="capacitance"),
     )
 })
 

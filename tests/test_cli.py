@@ -67,9 +67,18 @@ def test_exit_status_by_fail_on(board, capsys, kinds, level, code):
     assert audit(board(*kinds), "--fail-on", level, "--quiet") == code
 
 
-def test_default_fail_on_is_fail(board):
-    assert audit(board("pass", "warn", "nodata"), "--quiet") == 0
+def test_default_fail_on_is_nodata(board):
+    # No data never passes, at the exit status too (it was "fail" before the gate was tightened).
+    assert audit(board("pass", "warn"), "--quiet") == 0
+    assert audit(board("pass", "warn", "nodata"), "--quiet") == 1
     assert audit(board("pass", "fail"), "--quiet") == 1
+    assert audit(board("pass", "warn", "nodata"), "--quiet", "--fail-on", "fail") == 0
+
+
+def test_quiet_prints_the_overall_verdict_and_environment(board, capsys):
+    audit(board("pass", "fail"), "--quiet")
+    out = capsys.readouterr().out
+    assert out.startswith("Overall: FAIL (severe environment)") and "fail 1" in out
 
 
 @pytest.mark.parametrize("argv", [

@@ -182,13 +182,35 @@ def test_generic_basis_caps_at_warn_and_says_so(strict):
     generic = verdict(strict, "STRICT-CMARGIN", c_margin_basis="generic", **given)
     part = verdict(strict, "STRICT-CMARGIN", c_margin_basis="part", **given)
     assert (generic.status, part.status) == ("warn", "fail")
-    assert generic.basis == "generic" and part.basis == "part"
+    # a verdict's basis is firm, bound, generic or missing; part data make it firm
+    assert generic.basis == "generic" and part.basis == "firm"
     assert "rests on generic typical data (common practice)" in generic.message
     assert "part data" in generic.message
     assert "generic" not in part.message
+    # A pass on typical data with no worst bound is no pass: it depends on the data (no wrong
+    # pass; it was "pass" before bounds were evaluated).
     passing = verdict(strict, "STRICT-CMARGIN", c_margin_basis="generic",
                       **{**given, "c_worst_f": 6e-6, "c_margin": 6 / 4.7})
-    assert passing.status == "pass" and "generic typical data" in passing.message
+    assert passing.status == "warn" and "generic typical data" in passing.message
+
+
+# Bounds of the unknowns (common practice of worst-case analysis: an unknown that can only make
+# things worse is taken at its most favourable value; a failure there is a failure).
+@pytest.mark.parametrize("best, worst, status, basis", [
+    (4.4 / 4.7, None, "fail", "bound"),     # fails even at the favourable bound: firm failure
+    (5.0 / 4.7, None, "warn", "generic"),   # flips within the bounds: depends on the data
+    (6.0 / 4.7, 4.8 / 4.7, "pass", "bound"),  # passes even at the worst plausible bound
+    (6.0 / 4.7, 4.6 / 4.7, "warn", "generic"),
+])
+def test_bounds_decide_a_verdict_resting_on_unknowns(strict, best, worst, status, basis):
+    given = dict(refdes="C7", capacitance_f=10e-6, c_worst_f=4.5e-6, c_min_f=4.7e-6,
+                 c_margin=4.5 / 4.7, c_margin_basis="generic", c_margin_best=best)
+    if worst is not None:
+        given["c_margin_worst"] = worst
+    v = verdict(strict, "STRICT-CMARGIN", **given)
+    assert (v.status, v.basis) == (status, basis)
+    if status == "fail":
+        assert "most favourable" in v.message
 
 
 def test_generic_basis_of_the_curve_axis_caps_too(strict):

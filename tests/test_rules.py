@@ -358,7 +358,7 @@ def test_bad_file_reports_every_problem(tmp_path):
          "wrong dimension ([current]); found '5 A'; expected a temperature such as '85 degC'"),
         ("rule[1].fial (rule A-1)",
          "unknown key 'fial' (did you mean 'fail'?); expected one of: id, title, applies, "
-         "metric, check, fail, warn, severity, enabled, source, confidence, rationale, examples"),
+         "metric, check, fail, warn, fail_severe, backstop, severity, enabled, source, confidence, rationale, examples"),
         ("rule[1].id (rule A-1)",
          "duplicate id 'A-1' (first at rule[0]); expected each id once per file (override an "
          "inherited rule from another file)"),

@@ -93,7 +93,8 @@ def test_x5r_for_x7r_in_a_95_degc_placement_is_rejected(board):
 def test_lower_voltage_alternate_passes_low_placement_and_fails_high_one(board):
     # System Reliability Center derating sheet, ceramic benign column (industrial set
     # IND-CER-V): at most 70 % of rated. 16 V part: C1 at 3.3 V is 20.6 %, C2 at 24 V is 150 %.
-    (r,) = check(board, alt("TP-0805-105K-50-X7R", "CAP CER 1UF 16V 10% X7R 0805"))
+    (r,) = check(board, alt("TP-0805-105K-50-X7R", "CAP CER 1UF 16V 10% X7R 0805"),
+                 environment="benign")
     c1, c2 = by_refdes(r)["C1"], by_refdes(r)["C2"]
     assert c1.proposed_status == "pass"
     assert rules_of(c1, "proposed")["IND-CER-V"]["value"] == pytest.approx(3.3 / 16)
@@ -103,8 +104,10 @@ def test_lower_voltage_alternate_passes_low_placement_and_fails_high_one(board):
     assert c1.original_status == c2.original_status == "pass"
     assert r.verdict == "rejected"
     rejected = [i for i in r.reasons if i.severity == "reject"]
-    assert [i.refdes for i in rejected] == [("C2",)]
-    assert "24 V peak = 150 % of the rating, above the 70 % limit" in rejected[0].text
+    # C2 only; its 24 V also breaks the transient rule (within the rating, common practice)
+    assert {i.refdes for i in rejected} == {("C2",)}
+    assert any("24 V peak = 150 % of the rating, above the 70 % limit" in i.text
+               for i in rejected)
 
 
 def test_polymer_for_mno2_tantalum_changes_the_limit_that_applies(board):
@@ -112,7 +115,8 @@ def test_polymer_for_mno2_tantalum_changes_the_limit_that_applies(board):
     # sheet, tantalum solid) and IND-TAN-HALF 50 % (makers' MnO2 practice, common practice);
     # polymer tantalum rated above 10 V: IND-TPO-V-HIGH 80 % (makers' polymer practice, common
     # practice). C4 sees 12 V + 5 % = 12.6 V on 16 V: 78.75 %.
-    (r,) = check(board, alt("BW-C-226K-016", "CAP TANT POLYMER 22UF 16V 10% CASE C"))
+    (r,) = check(board, alt("BW-C-226K-016", "CAP TANT POLYMER 22UF 16V 10% CASE C"),
+                 environment="benign")
     c4 = by_refdes(r)["C4"]
     original, proposed = rules_of(c4, "original"), rules_of(c4, "proposed")
     assert original["IND-TAN-V"]["limit"] == pytest.approx(0.80)
@@ -122,7 +126,12 @@ def test_polymer_for_mno2_tantalum_changes_the_limit_that_applies(board):
     assert proposed["IND-TPO-V-HIGH"]["limit"] == pytest.approx(0.80)
     assert proposed["IND-TPO-V-HIGH"]["value"] == pytest.approx(12.6 / 16)
     assert proposed["IND-TPO-V-HIGH"]["status"] == "pass"
-    assert (c4.original_status, c4.proposed_status) == ("warn", "pass")
+    # The proposed text gives no rated temperature: its temperature verdicts rest on the typical
+    # rating and depend on data, so the placement is at best a warning (it was "pass" before a
+    # verdict on assumed data stopped passing).
+    assert (c4.original_status, c4.proposed_status) == ("warn", "warn")
+    warned = {k for k, v in proposed.items() if v["status"] == "warn"}
+    assert warned and warned <= {"IND-TPO-T", "IND-TMAX"}
     # A change of technology is never a drop-in (common practice: ESR and stability differ).
     assert r.verdict == "review"
     assert any(i.topic == "technology" for i in r.reasons)
@@ -214,7 +223,8 @@ def test_the_original_is_evaluated_exactly_as_the_audit_does():
 
     report = run_audit(str(SAMPLE_BOM), str(SAMPLE_DESIGN))
     d = design.read_design(str(SAMPLE_DESIGN))
-    stages = Stages.for_ruleset(rules.load_rules([rules.DEFAULT_RULESET]), groups=d.groups)
+    stages = Stages.for_ruleset(rules.load_rules([rules.DEFAULT_RULESET]).for_environment(
+        rules.DEFAULT_ENVIRONMENT), groups=d.groups)
     table, verdicts = evaluate(placement_table(importer.read_bom(str(SAMPLE_BOM)).placements, d),
                                stages)
     cols = ["pidx", "rule_id", "status", "value", "limit", "margin", "message"]
