@@ -263,7 +263,7 @@ _PIECES = st.sampled_from(["5", "-", "+", ".", ",", "e", "E", "400", "9" * 40, "
 _TEXT = st.one_of(st.text(max_size=30), st.lists(_PIECES, max_size=8).map("".join))
 
 
-@settings(max_examples=400, deadline=500)
+@settings(max_examples=400, deadline=None)  # pint may load on first use
 @given(text=_TEXT, quantity=st.sampled_from(["voltage", "capacitance", "temperature",
                                              "temperature_delta", "dimensionless", "time"]),
        sign=st.sampled_from(["any", "nonneg", "positive"]))
