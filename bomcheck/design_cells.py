@@ -248,14 +248,18 @@ _INFO_KEYS = frozenset(norm(h) for h in INFO_HEADERS)
 _SPELLING = {norm(s): s for spellings in ALIASES.values() for s in spellings}
 
 
-def closest_names(header: str, n: int = 3) -> list[str]:
-    """The known design-sheet names closest to ``header`` (difflib), as ``canonical ('alias')``."""
+def _name_part(header: str) -> str:
+    """A header without its bracketed unit: ``Temp rise (C)`` -> ``Temp rise``."""
     name = header.strip()
     m = _BRACKET_UNIT.match(name)
-    if m and m.group("name").strip():
-        name = m.group("name").strip()
+    return m.group("name").strip() if m and m.group("name").strip() else name
+
+
+def closest_names(header: str, n: int = 3) -> list[str]:
+    """The known design-sheet names closest to ``header`` (difflib), as ``canonical ('alias')``."""
     found: list[str] = []
-    for key in difflib.get_close_matches(norm(name), list(_ALIAS_KEY), n=12, cutoff=0.5):
+    for key in difflib.get_close_matches(norm(_name_part(header)), list(_ALIAS_KEY), n=12,
+                                         cutoff=0.5):
         canonical = _ALIAS_KEY[key]
         shown = canonical if _SPELLING[key] == canonical else f"{canonical} ({_SPELLING[key]!r})"
         if not any(f.split(" ")[0] == canonical for f in found):
@@ -268,13 +272,10 @@ def unknown_column(header: str, has_values: bool, *, path: str, row: int | None,
     """A header that names no design-sheet field: None for an informational column
     (``INFO_HEADERS``), a warning when its column is empty; an ``InputError`` listing the closest
     known names when it holds values (its data would otherwise be lost)."""
-    name = header.strip()
-    m = _BRACKET_UNIT.match(name)
-    if m and m.group("name").strip():
-        name = m.group("name").strip()
-    if norm(name.rsplit(".", 1)[-1]) in _INFO_KEYS:
+    name = _name_part(header).rsplit(".", 1)[-1]  # a TOML key's last part
+    if norm(name) in _INFO_KEYS:
         return None
-    near = closest_names(name.rsplit(".", 1)[-1])
+    near = closest_names(name)
     hint = ("closest known names: " + ", ".join(near)) if near else None
     if "rated" in norm(name) or "rating" in norm(name):  # a part's rating, not a condition
         hint = "a part's ratings belong in the BOM text or the parts file (--parts)"
@@ -293,7 +294,6 @@ def is_design_header(cells: list[str]) -> bool:
     """True for a header row of a design sheet: a designator or group column and a value column."""
     fields = {parse_header(str(c)).field for c in cells if str(c).strip()}
     return bool(fields & {"refdes", "group"}) and bool(fields & (set(CONDITIONS) | {"members"}))
-
 
 
 # --- values -----------------------------------------------------------------------------------
