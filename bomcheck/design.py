@@ -18,47 +18,16 @@ Example::
     +5V_LOGIC,  "C1-C9,C20",5,        5,         100,         ,           ,         logic rail
     C14,        ,           ,         ,          ,            85 degC,    ,         hot spot
 
-Headers are matched case- and punctuation-insensitively against ``ALIASES`` (``v_dc [V]``,
-``Vdc (V)``, ``working voltage``, ``t_amb (°C)``, ``ambient``, ``Ripple mVpp``, ``t_rise``,
-``c_min``, ``required capacitance``, ``life``, ``members``, ``group``/``rail``, ``kind``,
-``notes``...). A unit in brackets, or a unit written last (``Ripple mVpp``), is the unit of the
-column's bare numbers; without one a bare number takes the unit of ``CONDITIONS`` (V, degC,
-delta degC, F, h; ``v_tol_pct`` in %). A ``pp``/``p-p`` mark (header or cell) on a peak column
-(``v_ripple_pk``, ``v_transient_pk``, ``v_reverse_pk``) means peak-to-peak: peak = half;
-``pk`` and the words ``DC``/``AC`` are accepted where they agree with the column, ``rms`` only in
-``v_ac_rms``. Cells with units are read with pint (``13.2 V``, ``500 mV``, ``85 degC``,
-``2.2 uF``, ``10 years`` with pint's year of 365.25 days, ``50000 h``, ``±5 %``), each distinct
-text once. An empty cell, ``-`` or ``n/a`` gives no value; ``none`` in ``c_min_f`` says the
-circuit states no minimum capacitance (stored as 0 F, so the capacitance rule does not apply). An unknown column is left out and
-listed in ``Design.warnings``, as are suspicious values (``v_dc_max`` below ``v_dc``; a ``v_tol_pct``
-under 1 %, which is what a workbook cell formatted as a percentage gives for 5 %).
+Headers, units in headers, peak marks, the cell grammar, plausible ranges and signs are in
+``bomcheck.design_cells``: ``13.2 V``, ``500 mV``, ``85 degC``, ``2.2 uF``, ``10 years``,
+``50000 h``, ``±5 %`` (each distinct text read once, never evaluated); an empty cell, ``-`` or
+``n/a`` gives no value; ``none`` in ``c_min_f`` says the circuit states no minimum capacitance
+(stored as 0 F, so the capacitance rule does not apply). An unknown column holding values is an
+error; suspicious values (``v_dc_max`` below ``v_dc``; a ``v_tol_pct`` under 1 %, which is what a
+workbook cell formatted as a percentage gives for 5 %) and empty unknown columns are
+``Design.warnings`` (``InputWarning``: file, row, column, message).
 
-TOML
-----
-::
-
-    [defaults]                      # board-wide values (the ``*`` row of a table)
-    t_ambient_c = "45 degC"
-    life_h = "10 years"
-
-    [groups."+5V_LOGIC"]            # a group: its members and the values they share
-    members = "C1-C9, C20"          # or a list: ["C1-C9", "C20"]
-    kind = "rail"                   # optional: rail (default), bank or series
-    v_dc = "5 V"
-    v_tol_pct = 5                   # bare numbers take the CONDITIONS unit (here %)
-    v_ripple_pk = "50 mV"
-
-    [parts.C14]                     # one designator, a list or a range (quote lists:
-    t_ambient_c = "85 degC"         #  [parts."C30-C33, C35"])
-    notes = "next to the regulator"
-
-    [parts."C40-C43"]
-    v_dc = 12
-    group = "+12V_IN"               # optional: make these designators members of a group
-
-Keys follow the same aliases as table headers (``"ripple [mVpp]" = 100`` works); an unknown
-key is a warning, an unknown table an error. The row numbers in errors and in ``design_row``
-are the line of the entry's ``[...]`` header.
+TOML: see ``bomcheck.design_toml``.
 
 Precedence
 ----------
@@ -98,7 +67,7 @@ voltages, ``r_bleeder_ohm``, ``slew_v_per_s``, ``r_source_ohm``) stay in ``Group
 from __future__ import annotations
 
 import re
-from collections.abc import Callable, Mapping, Sequence
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field, replace
 from pathlib import Path
 from types import MappingProxyType
@@ -107,12 +76,16 @@ from typing import Any, NoReturn
 import numpy as np
 import pandas as pd
 
+from bomcheck.design_cells import (ALIASES, CONDITION_COLUMNS, SINGLE, Column, Entries,
+                                   InputWarning, Labels, convert, is_design_header, parse_header,
+                                   text_cells, unknown_column)
 from bomcheck.errors import InputError, UnitError
 from bomcheck.refdes import expand, is_designator
-from bomcheck.units import to_si
 from bomcheck.vocabulary import CONDITIONS
 
-CONDITION_COLUMNS: tuple[str, ...] = tuple(CONDITIONS)
+__all__ = ["ALIASES", "CONDITION_COLUMNS", "Design", "Group", "InputWarning", "design_from_table",
+           "design_from_toml", "is_design_header", "read_design"]
+
 SOURCES = ("row", "group", "defaults", "none")
 GROUP_KINDS = ("rail", "bank", "series")
 
@@ -123,140 +96,6 @@ _GROUP_ONLY: dict[str, tuple[str, ...]] = {
     "series": ("v_dc", "v_dc_max", "v_ripple_pk", "v_transient_pk", "v_reverse_pk", "v_ac_rms",
                "r_bleeder_ohm", "slew_v_per_s", "r_source_ohm", "c_min_f"),
 }
-_PEAK_FIELDS = frozenset({"v_ripple_pk", "v_transient_pk", "v_reverse_pk"})
-_TEXT_FIELDS = ("refdes", "members", "group", "kind", "notes")
-_NO_VALUE = frozenset({"", "-", "\u2013", "\u2014", "n/a", "na"})
-# Written in c_min_f: the circuit states no minimum capacitance (stored as 0 F; the capacitance
-# rule then does not apply). Different from an empty cell, which is missing data.
-_NONE_REQUIRED = frozenset({"none", "not required", "no requirement"})
-_EXPLICIT_NONE_FIELDS = frozenset({"c_min_f"})
-
-# Canonical field -> header spellings; compared after _norm (case and punctuation dropped).
-ALIASES: dict[str, tuple[str, ...]] = {
-    "refdes": ("refdes", "ref des", "designator", "designators", "ref", "refs", "reference",
-               "references", "reference designator", "placement", "placements"),
-    "members": ("members", "member", "member designators"),
-    "group": ("group", "rail", "net", "group name", "rail name", "net name"),
-    "kind": ("kind", "group kind", "group type"),
-    "notes": ("notes", "note", "comment", "comments", "remark", "remarks"),
-    "v_dc": ("v_dc", "v", "voltage", "dc voltage", "voltage dc", "working voltage",
-             "operating voltage", "applied voltage", "rail voltage", "bias voltage", "v bias",
-             "v work", "v nom", "nominal voltage"),
-    "v_dc_max": ("v_dc_max", "v max", "max voltage", "maximum voltage", "rail max",
-                 "voltage max", "upper voltage", "worst case voltage"),
-    "v_tol_pct": ("v_tol_pct", "v_tol", "voltage tolerance", "rail tolerance", "v tolerance",
-                  "tol pct", "regulation"),
-    "v_ripple_pk": ("v_ripple_pk", "v_ripple", "ripple", "ripple pk", "ripple peak",
-                    "ripple voltage", "ac ripple"),
-    "v_transient_pk": ("v_transient_pk", "v_transient", "transient", "transient peak",
-                       "transient voltage", "surge", "v surge", "surge voltage", "spike"),
-    "v_reverse_pk": ("v_reverse_pk", "v_reverse", "reverse", "reverse voltage", "v rev",
-                     "reverse peak"),
-    "v_ac_rms": ("v_ac_rms", "v_ac", "ac voltage", "voltage ac", "ac rms", "v rms",
-                 "ac working voltage"),
-    "t_ambient_c": ("t_ambient_c", "t_ambient", "t_amb", "ta", "ambient",
-                    "ambient temperature", "local ambient", "board temperature", "t_board",
-                    "temperature", "temp"),
-    "t_ambient_min_c": ("t_ambient_min_c", "t_ambient_min", "t_amb_min", "ta_min",
-                        "minimum ambient", "min ambient", "coldest ambient", "cold start"),
-    "t_rise_c": ("t_rise_c", "t_rise", "rise", "temperature rise", "self heating", "delta t"),
-    "c_min_f": ("c_min_f", "c_min", "required capacitance", "minimum capacitance",
-                "min capacitance", "c required", "c_req", "capacitance needed"),
-    "life_h": ("life_h", "life", "required life", "lifetime", "mission life", "service life",
-               "design life"),
-    # Circuit-level conditions (bomcheck.circuit); see "Circuit columns" in the module docstring.
-    "r_balance_ohm": ("r_balance_ohm", "r_balance", "balancing resistor", "balancing resistance",
-                      "balance resistor"),
-    "r_balance_tol_pct": ("r_balance_tol_pct", "r_balance_tol", "balancing resistor tolerance",
-                          "balance resistor tolerance"),
-    "r_bleeder_ohm": ("r_bleeder_ohm", "r_bleeder", "bleeder", "bleeder resistor",
-                      "bleeder resistance", "discharge resistance", "r_discharge"),
-    "v_safe_v": ("v_safe_v", "v_safe", "safe voltage"),
-    "t_discharge_max_s": ("t_discharge_max_s", "t_discharge_max", "t_discharge",
-                          "discharge time", "discharge time limit", "max discharge time"),
-    "slew_v_per_s": ("slew_v_per_s", "slew", "slew rate", "dv/dt", "rise rate"),
-    "r_source_ohm": ("r_source_ohm", "r_source", "source resistance", "series resistance",
-                     "inrush resistance"),
-    "i_ripple_a": ("i_ripple_a", "i_ripple", "ripple current", "ripple current rms"),
-    "f_ripple_hz": ("f_ripple_hz", "f_ripple", "ripple frequency"),
-}
-
-
-def _norm(name: str) -> str:
-    return re.sub(r"[^0-9a-z%]+", "", name.casefold())
-
-
-def _alias_index() -> dict[str, str]:
-    out: dict[str, str] = {}
-    for canonical, spellings in ALIASES.items():
-        for s in spellings:
-            key = _norm(s)
-            if out.setdefault(key, canonical) != canonical:  # pragma: no cover - a table typo
-                raise AssertionError(f"alias {s!r} given for {out[key]} and {canonical}")
-    return out
-
-
-_ALIAS_KEY = _alias_index()
-
-_BRACKET_UNIT = re.compile(r"^(?P<name>.*?)\s*[\[(](?P<unit>[^\[\]()]*)[\])]\s*$")
-# A unit written as the header's last word ("Ripple mVpp"); case matters (mV, not MV).
-_UNIT_WORD = re.compile(
-    r"^(?:[pnum\u00b5\u03bckM]?V|[pnum\u00b5\u03bc]?F|\u00b0C|\u00b0F|degC|degF|K|h|hours?|"
-    r"years?|%)(?:pp|p-p|pk|rms|dc|ac|DC|AC)?$"
-)
-_MARKS = r"p-?p|pk-?pk|peak[\s_-]*to[\s_-]*peak|pk|peak|rms"
-_QUALIFIER = re.compile(rf"^(?P<body>.*?)[\s_-]*(?P<q>{_MARKS}|dc|ac)$", re.IGNORECASE)
-# In a header name only the peak marks are split off: "Voltage AC" is not v_dc.
-_NAME_QUALIFIER = re.compile(rf"^(?P<body>.*?)[\s_-]*(?P<q>{_MARKS})$", re.IGNORECASE)
-_PLUS_MINUS = re.compile(r"^(?:\u00b1|\+/-|\+-)\s*")
-_SINGLE = r"[A-Za-z_]+\d+[A-Za-z]?"
-
-
-def _qualifier(text: str, pattern: re.Pattern[str] = _QUALIFIER) -> tuple[str, str | None]:
-    """Split a trailing mark off a unit or a cell: "pp" (peak-to-peak), "pk", "rms", "dc", "ac"."""
-    m = pattern.match(text)
-    if not m or not m.group("body").strip():
-        return text, None
-    q = m.group("q").lower()
-    kind = {"rms": "rms", "pk": "pk", "peak": "pk", "dc": "dc", "ac": "ac"}.get(q, "pp")
-    return m.group("body").strip(), kind
-
-
-@dataclass(frozen=True)
-class _Column:
-    header: str
-    field: str | None  # canonical name; None for a column bomcheck does not know
-    unit: str | None  # unit of the bare numbers, from the header
-    mark: str | None  # "pp", "pk", "rms", "dc" or "ac" from the header
-
-
-def _parse_header(header: str) -> _Column:
-    """Canonical field, unit and peak-to-peak mark of a header such as ``Ripple (mVpp)``."""
-    name, unit, mark = header.strip(), None, None
-    m = _BRACKET_UNIT.match(name)
-    if m and m.group("name").strip():
-        name, unit = m.group("name").strip(), (m.group("unit").strip() or None)
-    found = _ALIAS_KEY.get(_norm(name))
-    if found is None:
-        body, q = _qualifier(name, _NAME_QUALIFIER)
-        if q and _norm(body) in _ALIAS_KEY:
-            found, mark = _ALIAS_KEY[_norm(body)], q
-    if found is None and unit is None:
-        words = re.split(r"[\s_]+", name)
-        if len(words) > 1 and _UNIT_WORD.match(words[-1]):
-            head = " ".join(words[:-1])
-            if _norm(head) in _ALIAS_KEY:
-                found, unit = _ALIAS_KEY[_norm(head)], words[-1]
-    if unit is not None and found in CONDITIONS:
-        unit, q = _qualifier(unit)
-        mark = mark or q
-    return _Column(header, found, unit, mark)
-
-
-def is_design_header(cells: list[str]) -> bool:
-    """True for a header row of a design sheet: a designator or group column and a value column."""
-    fields = {_parse_header(str(c)).field for c in cells if str(c).strip()}
-    return bool(fields & {"refdes", "group"}) and bool(fields & (set(CONDITIONS) | {"members"}))
 
 
 @dataclass(frozen=True)
@@ -290,7 +129,7 @@ class Design:
     conditions: pd.DataFrame
     defaults: dict[str, float]
     groups: dict[str, Group]
-    warnings: tuple[str, ...] = ()
+    warnings: tuple[InputWarning, ...] = ()
     defaults_row: int | None = None
     format: str = ""
     sheet: str | None = None
@@ -353,134 +192,6 @@ def _merge_levels(specific: np.ndarray, general: np.ndarray) -> np.ndarray:
     return out
 
 
-# --- values -----------------------------------------------------------------------------------
-
-_Fail = Callable[[int | None, str, UnitError], NoReturn]
-
-
-def _text_cells(column: pd.Series | np.ndarray) -> np.ndarray:
-    """Stripped text of a column as an object array ("" for empty), each distinct cell once."""
-    codes, uniques = pd.factorize(np.asarray(column, dtype=object), use_na_sentinel=True)
-    stripped = np.array([str(u).strip() for u in uniques] + [""], dtype=object)
-    return stripped[codes]  # code -1 (missing) takes the trailing ""
-
-
-def _convert(cells: np.ndarray, col: _Column, fail: _Fail) -> np.ndarray:
-    """Float values (SI; v_tol_pct in %) of one column of text cells; NaN for no value.
-
-    Every distinct string is converted once (``pd.factorize``) and mapped back: plain numbers
-    by the header unit's scale, the others through pint. ``fail(position, text, error)`` raises
-    the located error (position None: the header).
-    """
-    name = col.field
-    assert name is not None
-    quantity, default_unit = CONDITIONS[name]
-    unit = col.unit or default_unit
-    pct = 100.0 if name.endswith("_pct") else 1.0
-    _check_mark(col.mark, name, lambda problem: fail(None, col.header, UnitError(problem)))
-    try:
-        offset = to_si("0", quantity, unit)
-        scale = to_si("1", quantity, unit) - offset
-    except UnitError as exc:
-        fail(None, col.unit or "", exc)
-    scale *= (0.5 if col.mark == "pp" else 1.0) * pct
-    offset *= pct
-    exact = scale == 1.0 and offset == 0.0
-
-    codes, uniques = pd.factorize(np.asarray(cells, dtype=object), use_na_sentinel=True)
-    values = np.full(len(uniques) + 1, np.nan)  # the last slot serves code -1 (missing)
-    for k, u in enumerate(uniques):
-        text = str(u).strip()
-        if text.casefold() in _NO_VALUE:
-            continue
-        if name in _EXPLICIT_NONE_FIELDS and text.casefold() in _NONE_REQUIRED:
-            values[k] = 0.0
-            continue
-        try:
-            number = float(text)
-        except ValueError:
-            number = np.nan
-        try:
-            if not np.isfinite(number):
-                values[k] = _round(_convert_one(text, name, quantity, unit, col.mark) * pct)
-            elif exact:
-                values[k] = number
-            else:
-                values[k] = _round(number * scale + offset)
-        except UnitError as exc:
-            fail(int(np.argmax(codes == k)), text, exc)
-    return values[codes]
-
-
-def _check_mark(mark: str | None, name: str, fail: Callable[[str], NoReturn]) -> None:
-    if mark == "pp" and name not in _PEAK_FIELDS:
-        fail(f"peak-to-peak given for {name}, which is not a peak value")
-    if mark == "rms" and name != "v_ac_rms":
-        fail(f"rms given for {name}; an rms voltage goes in v_ac_rms")
-    if mark in ("pk", "dc", "ac") and CONDITIONS[name][0] != "voltage":
-        fail(f"{mark} mark given for {name}, which is not a voltage")
-    if mark == "ac" and name in ("v_dc", "v_dc_max"):
-        fail(f"AC given for {name}; an AC voltage goes in v_ac_rms")
-    if mark == "dc" and name in ("v_ac_rms", "v_ripple_pk"):
-        fail(f"DC given for {name}, which is an AC quantity")
-
-
-def _convert_one(text: str, name: str, quantity: str, unit: str, header_mark: str | None) -> float:
-    """One distinct cell through pint, with its own pp/pk/rms mark (voltage columns only)."""
-    mark = None
-    if name.endswith("_pct"):
-        text = _PLUS_MINUS.sub("", text)
-    if quantity == "voltage":
-        text, mark = _qualifier(text)
-
-        def bad(problem: str) -> NoReturn:
-            raise UnitError(problem, text=text, expected="a voltage such as '13.2 V'")
-
-        _check_mark(mark, name, bad)
-    value = to_si(text, quantity, unit)
-    return value * 0.5 if (mark or header_mark) == "pp" else value
-
-
-def _round(value: float) -> float:
-    """Drop the last-digit noise of a unit conversion (100 uF -> 1e-4, not 9.99...e-05)."""
-    return float(f"{value:.15g}")
-
-
-# --- entries: the rows of any front end in one shape ------------------------------------------
-
-
-@dataclass(frozen=True)
-class _Labels:
-    """How the front end names its fields in errors (the header, or the TOML key)."""
-
-    refdes: str = "refdes"
-    members: str = "members"
-    group: str = "group"
-    kind: str = "kind"
-
-
-@dataclass(frozen=True, eq=False)
-class _Entries:
-    """One item per source row (table) or entry (TOML): its row, text fields, values (one column
-    per CONDITION_COLUMNS) and whether the front end already knows it is a group."""
-
-    rows: np.ndarray
-    text: dict[str, np.ndarray]
-    values: np.ndarray
-    is_group: np.ndarray
-
-    @classmethod
-    def make(cls, rows: np.ndarray, texts: Mapping[str, np.ndarray],
-             values: Mapping[str, np.ndarray], is_group: np.ndarray | None = None) -> _Entries:
-        n = len(rows)
-        text = {k: (np.asarray(texts[k], dtype=object) if k in texts
-                    else np.full(n, "", dtype=object)) for k in _TEXT_FIELDS}
-        vals = np.column_stack([values.get(k, np.full(n, np.nan)) for k in CONDITION_COLUMNS]) \
-            if n else np.empty((0, len(CONDITION_COLUMNS)))
-        flags = np.zeros(n, dtype=bool) if is_group is None else np.asarray(is_group, dtype=bool)
-        return cls(np.asarray(rows, dtype=np.int64), text, vals.astype(float), flags)
-
-
 def _error_rows(path: str, what: str, rows: Sequence[int] | np.ndarray, *, column: str,
                 text: str, expected: str) -> NoReturn:
     r = sorted(int(x) for x in rows)
@@ -497,10 +208,10 @@ def _expand(cell: str, *, path: str, row: int, column: str) -> list[str]:
         raise
 
 
-_SINGLE_RE = re.compile(_SINGLE)
+_SINGLE_RE = re.compile(SINGLE)
 
 
-def _build(e: _Entries, *, path: str, labels: _Labels, warnings: list[str]) -> Design:
+def _build(e: Entries, *, path: str, labels: Labels, warnings: list[InputWarning]) -> Design:
     """Classify the entries (defaults, group and designator rows), check that no designator is
     addressed twice at one level, and build the per-designator table."""
     target, members, group, kind = (e.text[k] for k in ("refdes", "members", "group", "kind"))
@@ -569,8 +280,8 @@ def _build(e: _Entries, *, path: str, labels: _Labels, warnings: list[str]) -> D
                   groups=groups, warnings=tuple(warnings), defaults_row=defaults_row)
 
 
-def _defaults(e: _Entries, is_default: np.ndarray, *, path: str,
-              labels: _Labels) -> tuple[dict[str, float], int | None]:
+def _defaults(e: Entries, is_default: np.ndarray, *, path: str,
+              labels: Labels) -> tuple[dict[str, float], int | None]:
     at = np.flatnonzero(is_default)
     if not len(at):
         return {}, None
@@ -587,9 +298,9 @@ def _defaults(e: _Entries, is_default: np.ndarray, *, path: str,
     return values, int(e.rows[i])
 
 
-def _groups(e: _Entries, is_group_row: np.ndarray, group_name: np.ndarray, d: pd.DataFrame, *,
-            path: str, labels: _Labels,
-            warnings: list[str]) -> tuple[dict[str, Group], pd.DataFrame]:
+def _groups(e: Entries, is_group_row: np.ndarray, group_name: np.ndarray, d: pd.DataFrame, *,
+            path: str, labels: Labels,
+            warnings: list[InputWarning]) -> tuple[dict[str, Group], pd.DataFrame]:
     """The groups with their members; membership has one row per (designator, group) with the
     position of the entry that put the designator there."""
     rows, target, group = e.rows, e.text["refdes"], e.text["group"]
@@ -650,12 +361,13 @@ def _groups(e: _Entries, is_group_row: np.ndarray, group_name: np.ndarray, d: pd
     for name, i in own.items():
         if name not in groups:
             groups[name] = _make_group(e, name, (), i, int(rows[i]), path=path, labels=labels)
-            warnings.append(f"{path}: group {name!r} (row {int(rows[i])}) has no members")
+            warnings.append(InputWarning(path, int(rows[i]), labels.members,
+                                         f"group {name!r} has no members"))
     return groups, m
 
 
-def _make_group(e: _Entries, name: str, members: tuple[str, ...], i: int | None,
-                first_row: int, *, path: str, labels: _Labels) -> Group:
+def _make_group(e: Entries, name: str, members: tuple[str, ...], i: int | None,
+                first_row: int, *, path: str, labels: Labels) -> Group:
     if i is None:  # named only by the group cells of designator rows
         return Group(name, members, first_row)
     kind = e.text["kind"][i].lower() or "rail"
@@ -667,7 +379,7 @@ def _make_group(e: _Entries, name: str, members: tuple[str, ...], i: int | None,
     return Group(name, members, int(e.rows[i]), kind, MappingProxyType(own), e.text["notes"][i])
 
 
-def _conditions(e: _Entries, d: pd.DataFrame, groups: dict[str, Group],
+def _conditions(e: Entries, d: pd.DataFrame, groups: dict[str, Group],
                 membership: pd.DataFrame) -> pd.DataFrame:
     """Per-designator table: designator rows over group rows, field by field."""
     index = pd.Index(pd.concat([d["refdes"], membership["refdes"]]).drop_duplicates(),
@@ -713,24 +425,26 @@ def _conditions(e: _Entries, d: pd.DataFrame, groups: dict[str, Group],
     return out.iloc[np.argsort(design_row, kind="stable")]
 
 
-def _warn_upper_bound(conditions: pd.DataFrame, warnings: list[str], path: str) -> None:
+def _warn_upper_bound(conditions: pd.DataFrame, warnings: list[InputWarning], path: str) -> None:
     low = (conditions["v_dc_max"].abs() < conditions["v_dc"].abs()).to_numpy()
     if low.any():
         first = np.argmax(low)
-        warnings.append(f"{path}: v_dc_max is below v_dc for {int(low.sum())} designator(s), "
-                        f"first {conditions.index[first]} (row "
-                        f"{int(conditions['design_row'].iloc[first])})")
+        warnings.append(InputWarning(
+            path, int(conditions["design_row"].iloc[first]), "v_dc_max",
+            f"v_dc_max is below v_dc for {int(low.sum())} designator(s), first "
+            f"{conditions.index[first]}"))
 
 
-def _warn_small_tolerance(e: _Entries, warnings: list[str], path: str) -> None:
+def _warn_small_tolerance(e: Entries, warnings: list[InputWarning], path: str) -> None:
     # A workbook cell formatted as a percentage stores 5 % as 0.05, which reads as 0.05 %.
     tol = e.values[:, CONDITION_COLUMNS.index("v_tol_pct")]
     small = (tol > 0) & (tol < 1)
     if small.any():
         i = int(np.argmax(small))
-        warnings.append(f"{path}: v_tol_pct of {tol[i]:g} % in row {int(e.rows[i])} is unusually "
-                        "small; a cell formatted as a percentage stores 5 % as 0.05: write 5 or "
-                        "'5 %'")
+        warnings.append(InputWarning(
+            path, int(e.rows[i]), "v_tol_pct", f"v_tol_pct of {tol[i]:g} % in row "
+            f"{int(e.rows[i])} is unusually small; a cell formatted as a percentage stores 5 % as "
+            "0.05: write 5 or '5 %'"))
 
 
 # --- tables (CSV, XLSX) -----------------------------------------------------------------------
@@ -749,16 +463,20 @@ def design_from_table(frame: pd.DataFrame, rows: Sequence[int] | np.ndarray | No
         src, header_row = np.arange(2, n + 2), 1 if header_row is None else header_row
     else:
         src = np.asarray(rows, dtype=np.int64)
-    columns = [_parse_header(str(h)) for h in frame.columns]
-    warnings: list[str] = []
+    columns = [parse_header(str(h)) for h in frame.columns]
+    warnings: list[InputWarning] = []
     taken: dict[str, str] = {}
     cells: dict[int, np.ndarray] = {}
     for pos, col in enumerate(columns):
-        cells[pos] = _text_cells(frame.iloc[:, pos])
+        cells[pos] = text_cells(frame.iloc[:, pos])
         if col.field is None:
-            if col.header.strip() or (cells[pos] != "").any():
-                warnings.append(f"{path}: column {col.header!r} is not a design-sheet column; "
-                                "ignored")
+            found = unknown_column(col.header, bool((cells[pos] != "").any()), path=path,
+                                   row=header_row)
+            if found is not None:
+                warnings.append(found)
+            continue
+        if col.field == "notes" and "notes" in taken:  # a second notes column: kept out
+            columns[pos] = Column(col.header, None, None, None)
             continue
         if col.field in taken:
             raise InputError(f"two columns give {col.field}: {taken[col.field]!r} and "
@@ -779,154 +497,23 @@ def design_from_table(frame: pd.DataFrame, rows: Sequence[int] | np.ndarray | No
             texts[col.field] = cells[pos]
             continue
 
-        def fail(at: int | None, text: str, exc: UnitError, col: _Column = col) -> NoReturn:
+        def fail(at: int | None, text: str, exc: UnitError, col: Column = col) -> NoReturn:
             raise InputError(f"{exc.problem} ({col.field})", path=path,
                              row=header_row if at is None else int(src[at]),
                              column=col.header, text=text, expected=exc.expected) from None
 
-        values[col.field] = _convert(cells[pos], col, fail)
-    labels = _Labels(**{k: taken.get(k, k) for k in ("refdes", "members", "group", "kind")})
-    return _build(_Entries.make(src, texts, values), path=path, labels=labels,
+        values[col.field] = convert(cells[pos], col, fail)
+    labels = Labels(**{k: taken.get(k, k) for k in ("refdes", "members", "group", "kind")})
+    return _build(Entries.make(src, texts, values), path=path, labels=labels,
                   warnings=warnings)
-
-
-# --- TOML -------------------------------------------------------------------------------------
-
-_TOML_TABLES = ("defaults", "groups", "parts")
-_TABLE_HEADER = re.compile(r"^\s*\[(?!\[)(?P<key>[^\]]+)\]\s*(?:#.*)?$")
-_KEY_PART = re.compile(r"\s*(?:\"((?:[^\"\\]|\\.)*)\"|'([^']*)'|([A-Za-z0-9_-]+))\s*(?:\.|$)")
-
-
-def _toml_key(text: str) -> tuple[str, ...]:
-    parts, pos = [], 0
-    while pos < len(text):
-        m = _KEY_PART.match(text, pos)
-        if not m or m.end() == pos:
-            return ()
-        parts.append(next(g for g in m.groups() if g is not None))
-        pos = m.end()
-    return tuple(parts)
-
-
-def _toml_lines(text: str) -> dict[tuple[str, ...], int]:
-    """Line of each ``[table]`` header (tomllib gives no positions)."""
-    out: dict[tuple[str, ...], int] = {}
-    for n, line in enumerate(text.splitlines(), start=1):
-        m = _TABLE_HEADER.match(line)
-        if m:
-            out.setdefault(_toml_key(m.group("key")), n)
-    return out
-
-
-def _toml_line(lines: dict[tuple[str, ...], int], text_lines: list[str], table: str,
-               name: str | None) -> int:
-    if name is None:
-        return lines.get((table,), 1)
-    if (table, name) in lines:
-        return lines[(table, name)]
-    quoted = re.compile(r"^\s*(?:" + re.escape(f'"{name}"') + "|" + re.escape(f"'{name}'") + "|"
-                        + re.escape(name) + r")\s*=")
-    for n, line in enumerate(text_lines, start=1):
-        if quoted.match(line):
-            return n
-    return lines.get((table,), 1)
 
 
 def design_from_toml(text: str, *, path: str = "<toml>") -> Design:
-    """Read a TOML design sheet (format in the module docstring)."""
-    from bomcheck.reader import load_toml
+    """Read a TOML design sheet (format in ``bomcheck.design_toml``)."""
+    from bomcheck.design_toml import entries_from_toml
 
-    data = load_toml(text, path)
-    lines, text_lines = _toml_lines(text), text.splitlines()
-    warnings: list[str] = []
-    entries: list[tuple[str, str | None, Mapping[str, Any]]] = []
-    for key, value in data.items():
-        if key not in _TOML_TABLES:
-            if isinstance(value, dict):
-                raise InputError("unknown table", path=path, row=lines.get((key,)), column=key,
-                                 expected="[defaults], [groups.NAME] or [parts.\"C1-C4\"]")
-            warnings.append(f"{path}: top-level key {key!r} is not part of a design; ignored")
-            continue
-        if not isinstance(value, dict):
-            raise InputError(f"{key} must be a table", path=path, column=key,
-                             expected=f"[{key}]" if key == "defaults" else f"[{key}.NAME]")
-        if key == "defaults":
-            entries.append(("defaults", None, value))
-            continue
-        for name, body in value.items():
-            if not isinstance(body, dict):
-                raise InputError(f"{key}.{name} must be a table", path=path,
-                                 row=_toml_line(lines, text_lines, key, name),
-                                 column=f"{key}.{name}", expected=f'[{key}."{name}"] with keys')
-            entries.append((key, str(name), body))
-
-    n = len(entries)
-    rows = np.array([_toml_line(lines, text_lines, t, nm) for t, nm, _ in entries], dtype=np.int64)
-    texts = {k: np.full(n, "", dtype=object) for k in _TEXT_FIELDS}
-    cells: dict[tuple[str, str | None, str | None], list[tuple[int, str, str]]] = {}
-    for i, (table, name, body) in enumerate(entries):
-        where = table if name is None else f"{table}.{_toml_quote(name)}"
-        texts["refdes"][i] = "*" if name is None else name.strip()
-        seen: dict[str, str] = {}
-        for k, v in body.items():
-            col = _parse_header(str(k))
-            label = f"{where}.{k}"
-            if col.field is None:
-                warnings.append(f"{path}: key {label!r} is not a design-sheet field; ignored")
-                continue
-            if col.field in seen:
-                raise InputError(f"two keys give {col.field}: {seen[col.field]!r} and {k!r}",
-                                 path=path, row=int(rows[i]), column=label,
-                                 expected="one key per field")
-            seen[col.field] = str(k)
-            if col.field == "refdes":
-                raise InputError("the designators are the table's name", path=path,
-                                 row=int(rows[i]), column=label,
-                                 expected='[parts."C1-C4"] with no refdes key')
-            if col.field == "members" and table != "groups":
-                raise InputError("members belong in a group", path=path, row=int(rows[i]),
-                                 column=label, expected="[groups.NAME] members = \"C1-C9\"")
-            if col.field in CONDITIONS:
-                if isinstance(v, bool) or not isinstance(v, (int, float, str)):
-                    raise InputError(f"not a value for {col.field}", path=path,
-                                     row=int(rows[i]), column=label, text=str(v),
-                                     expected="a number or a text with a unit, such as "
-                                              "\"13.2 V\"")
-                cells.setdefault((col.field, col.unit, col.mark), []).append((i, label, str(v)))
-            else:
-                texts[col.field][i] = _toml_text(v, path=path, row=int(rows[i]), label=label)
-
-    values = {c: np.full(n, np.nan) for c in CONDITION_COLUMNS}
-    for (fld, unit, mark), items in cells.items():
-        col = _Column(items[0][1], fld, unit, mark)
-
-        def fail(at: int | None, text: str, exc: UnitError, fld: str = fld,
-                 items: list[tuple[int, str, str]] = items) -> NoReturn:
-            i, label, _ = items[0 if at is None else at]
-            raise InputError(f"{exc.problem} ({fld})", path=path, row=int(rows[i]),
-                             column=label, text=text, expected=exc.expected) from None
-
-        texts_of = np.array([t for _, _, t in items], dtype=object)
-        values[fld][[i for i, _, _ in items]] = _convert(texts_of, col, fail)
-    if not n:
-        warnings.append(f"{path}: no [defaults], [groups] or [parts] entries")
-    labels = _Labels(refdes="table name", members="members", group="group", kind="kind")
-    is_group = np.array([t == "groups" for t, _, _ in entries], dtype=bool)
-    return _build(_Entries.make(rows, texts, values, is_group), path=path, labels=labels,
-                  warnings=warnings)
-
-
-def _toml_quote(key: str) -> str:
-    return key if re.fullmatch(r"[A-Za-z0-9_-]+", key) else '"' + key.replace('"', '\\"') + '"'
-
-
-def _toml_text(v: Any, *, path: str, row: int, label: str) -> str:
-    if isinstance(v, str):
-        return v.strip()
-    if isinstance(v, list) and all(isinstance(x, str) for x in v):
-        return ", ".join(x.strip() for x in v)
-    raise InputError("expected text", path=path, row=row, column=label, text=str(v),
-                     expected="a string (members may be a list of strings)")
+    entries, labels, warnings = entries_from_toml(text, path=path)
+    return _build(entries, path=path, labels=labels, warnings=warnings)
 
 
 # --- files ------------------------------------------------------------------------------------
@@ -944,8 +531,8 @@ def read_design(path: str, *, sheet: str | int | None = None) -> Design:
     if Path(path).suffix.lower() == ".toml":
         text = toml_text(data, str(path))
         design = design_from_toml(text, path=str(path))
-        extra = () if sheet is None else (f"{path}: a TOML design has no sheets; --sheet "
-                                          "ignored",)
+        extra = () if sheet is None else (
+            InputWarning(str(path), None, None, "a TOML design has no sheets; --sheet ignored"),)
         return replace(design, sha256=sha256, format="toml",
                        warnings=design.warnings + extra)
     from bomcheck.reader import read_input_table

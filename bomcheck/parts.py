@@ -17,7 +17,11 @@ column's bare numbers, else the unit shown): ``capacitance`` (F), ``rated_voltag
 frequency and over ambient temperature), ``surge_current`` (A), ``life`` (h, the rated life L0)
 at ``life_temp`` (degC, T0; default ``temp_max``), ``leakage`` (A, the rated maximum),
 ``thermal_resistance`` (degC/W), ``dc_bias`` (applied voltage against the capacitance left, as a
-fraction, a percentage or a capacitance), ``notes``.
+fraction, a percentage or a capacitance), ``tolerance`` (symmetric, ``±20 %``), ``dielectric``
+(an EIA code such as ``X7R``), ``override`` (``true`` lets this part's data replace what the BOM
+text says, see below) and ``notes``. Every value is read by the strict cell grammar of
+``bomcheck.units`` (``bomcheck.parts_cells``) and checked against its plausible range; ratings, ESR, currents, life and
+thermal resistance must be above zero, and ``temp_min`` below ``temp_max``.
 
 A curve is written ``x: y; x: y`` (``"120 Hz: 0.6; 1 kHz: 0.85; 100 kHz: 1"``); in TOML it may
 also be a list of pairs (``[["0 V", "100 %"], ["5 V", "30 %"]]``).
@@ -32,11 +36,16 @@ TOML
 
 Laying the data over the placements
 -----------------------------------
-A placement whose MPN (case-insensitive, stripped) is in the file takes the file's values:
-they override the spec columns the BOM text gave (rated voltage, rated temperatures,
-capacitance) and add the part's ratings (``esr_ohm``, ``ripple_rated_a``, ``surge_rated_a``,
-``life_l0_h``...). Where the BOM text says something else, the placement gets a warning naming
-both values (the parts data is used).
+A placement whose MPN (case-insensitive, stripped) is in the file gains the part's ratings
+(``esr_ohm``, ``ripple_rated_a``, ``surge_rated_a``, ``life_l0_h``...) and fills the spec
+columns the BOM text left empty (capacitance, rated voltage, rated temperatures, tolerance,
+dielectric). Where the BOM text says something else, the verdict uses the conservative value
+(lower rated voltage, lower rated maximum temperature, higher rated minimum temperature,
+smaller capacitance, wider tolerance, the dielectric with the narrower range or larger change)
+and the placement gets a ``parts.conflict`` warning naming both values. The parts data replaces
+the BOM text only when the user says so: ``override = true`` on the part, or ``override=True``
+for the whole file (``read_parts``; the command line's ``--parts-override``); the conflict is
+then still listed, as a ``pass`` finding that says the parts data was used.
 """
 
 from __future__ import annotations
@@ -50,8 +59,10 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
-from bomcheck.errors import InputError, UnitError
-from bomcheck.units import to_si
+from bomcheck.codes import Dielectric, decode_dielectric
+from bomcheck.design_cells import NO_VALUE, InputWarning
+from bomcheck.errors import InputError
+from bomcheck.parts_cells import TEXT_READERS, Curve, convert_column, read_curve
 
 PARTS_FINDING = "parts.conflict"
 
@@ -71,6 +82,10 @@ FIELDS: dict[str, tuple[str, str, str]] = {
     "leakage": ("current", "A", "leakage_a"),
     "thermal_resistance": ("thermal_resistance", "delta_degC / W", "rth_c_per_w"),
 }
+# Sign rule of each field (bomcheck.units.SIGNS); temperatures are points on a scale.
+_SIGNS = {"temp_min": "any", "temp_max": "any", "life_temp": "any"}
+# Fields read as text or flags rather than quantities.
+TEXT_FIELDS = ("tolerance", "dielectric", "override")
 # Curve -> (quantity of x, quantity of y; "fraction" for a multiplier or remaining fraction).
 CURVES: dict[str, tuple[str, str]] = {
     "dc_bias": ("voltage", "fraction"),
@@ -108,6 +123,9 @@ ALIASES: dict[str, tuple[str, ...]] = {
     "leakage": ("leakage", "leakage current", "dcl", "i_leak"),
     "thermal_resistance": ("thermal_resistance", "thermal resistance", "rth", "r_th"),
     "dc_bias": ("dc_bias", "dc bias", "dc bias curve", "dc-bias curve"),
+    "tolerance": ("tolerance", "tol", "capacitance tolerance"),
+    "dielectric": ("dielectric", "dielectric code", "temperature characteristic", "tc code"),
+    "override": ("override", "overrides bom", "use parts data"),
     "notes": ("notes", "note", "comment", "comments"),
 }
 
@@ -118,41 +136,24 @@ def _norm(name: str) -> str:
 
 _ALIAS_KEY = {_norm(s): canonical for canonical, spellings in ALIASES.items() for s in spellings}
 _BRACKET_UNIT = re.compile(r"^(?P<name>.*?)\s*[\[(](?P<unit>[^\[\]()]*)[\])]\s*$")
-_NO_VALUE = frozenset({"", "-", "\u2013", "\u2014", "n/a", "na"})
-
-
-@dataclass(frozen=True)
-class Curve:
-    """A part's curve: x values (SI, increasing) and y values (a fraction, or farads)."""
-
-    xs: tuple[float, ...]
-    ys: tuple[float, ...]
-    farads: bool = False  # y given as capacitance (DC-bias curves only)
-
-    def at(self, x: np.ndarray, *, log_x: bool = False) -> np.ndarray:
-        """Values at ``x`` by linear interpolation (in log10 x when ``log_x``), flat beyond."""
-        xs = np.asarray(self.xs, dtype=float)
-        ys = np.asarray(self.ys, dtype=float)
-        x = np.asarray(x, dtype=float)
-        with np.errstate(divide="ignore", invalid="ignore"):
-            out = (np.interp(np.log10(x), np.log10(xs), ys) if log_x else np.interp(x, xs, ys))
-        return np.where(np.isnan(x), np.nan, out)
 
 
 @dataclass(frozen=True, eq=False)
 class PartsData:
     """A parts file read: one row per MPN key (upper case) with SI values, plus the curves.
 
-    ``values`` is indexed by the MPN key with a float column per ``FIELDS`` name, ``mpn`` (as
-    written) and ``row`` (source row or TOML line); ``curves`` maps a ``CURVES`` name to the
-    parts that give one.
+    ``values`` is indexed by the MPN key with a float column per ``FIELDS`` name, ``tolerance``
+    (%), ``dielectric`` (canonical code or ""), ``override`` (bool), ``mpn`` (as written) and
+    ``row`` (source row or TOML line); ``curves`` maps a ``CURVES`` name to the parts that give
+    one. ``override_all`` lets every part's data replace the BOM text (an explicit user choice).
     """
 
     path: str
     sha256: str
     values: pd.DataFrame
     curves: Mapping[str, Mapping[str, Curve]] = field(default_factory=dict)
-    warnings: tuple[str, ...] = ()
+    warnings: tuple[InputWarning, ...] = ()
+    override_all: bool = False
 
 
 # --- reading ----------------------------------------------------------------------------------
@@ -161,7 +162,7 @@ class PartsData:
 def is_parts_header(cells: list[str]) -> bool:
     """True for the header row of a parts table: an MPN column and at least one data column."""
     found = {_field_of(str(c))[0] for c in cells if str(c).strip()}
-    return "mpn" in found and bool(found & (set(FIELDS) | set(CURVES)))
+    return "mpn" in found and bool(found & (set(FIELDS) | set(CURVES) | set(TEXT_FIELDS)))
 
 
 def _field_of(header: str) -> tuple[str | None, str | None]:
@@ -172,8 +173,11 @@ def _field_of(header: str) -> tuple[str | None, str | None]:
     return _ALIAS_KEY.get(_norm(name)), unit
 
 
-def read_parts(path: str, *, sheet: str | int | None = None) -> PartsData:
+def read_parts(path: str, *, sheet: str | int | None = None, override: bool = False) -> PartsData:
     """Read a parts file (CSV/TSV/XLSX through ``bomcheck.reader``, or TOML) into ``PartsData``.
+
+    ``override=True`` lets the file's values replace what the BOM text says for every part
+    (otherwise only parts with ``override = true`` do; see the module docstring).
 
     Raises ``InputError`` naming the file, row and column for a cell that cannot be used, an
     MPN given twice, or a file without an MPN column.
@@ -193,7 +197,7 @@ def read_parts(path: str, *, sheet: str | int | None = None) -> PartsData:
                      "esr or dc_bias")
         parts = parts_from_table(raw.frame, raw.rows, path=str(path))
     return PartsData(path=str(path), sha256=sha256, values=parts.values, curves=parts.curves,
-                     warnings=parts.warnings)
+                     warnings=parts.warnings, override_all=override)
 
 
 def parts_from_table(frame: pd.DataFrame, rows: Sequence[int] | np.ndarray | None = None, *,
@@ -202,12 +206,14 @@ def parts_from_table(frame: pd.DataFrame, rows: Sequence[int] | np.ndarray | Non
     n = len(frame)
     src = np.arange(2, n + 2) if rows is None else np.asarray(rows, dtype=np.int64)
     columns: dict[str, tuple[int, str, str | None]] = {}
-    warnings: list[str] = []
+    warnings: list[InputWarning] = []
     for pos, header in enumerate(frame.columns):
         canonical, unit = _field_of(str(header))
         if canonical is None:
             if str(header).strip():
-                warnings.append(f"{path}: column {header!r} is not a parts-file field; ignored")
+                warnings.append(InputWarning(path, None, str(header),
+                                             f"column {header!r} is not a parts-file field; "
+                                             "ignored"))
             continue
         if canonical in columns:
             raise InputError(f"two columns give {canonical}: {columns[canonical][1]!r} and "
@@ -238,7 +244,7 @@ def parts_from_toml(text: str, *, path: str = "<toml>") -> PartsData:
     cells: dict[str, np.ndarray] = {"mpn": np.array([str(n).strip() for n in names], dtype=object)}
     headers: dict[str, str] = {"mpn": "parts table name"}
     units: dict[str, str | None] = {}
-    warnings: list[str] = []
+    warnings: list[InputWarning] = []
     for i, name in enumerate(names):
         body = table[name]
         if not isinstance(body, dict):
@@ -247,8 +253,8 @@ def parts_from_toml(text: str, *, path: str = "<toml>") -> PartsData:
         for key, value in body.items():
             canonical, unit = _field_of(str(key))
             if canonical is None or canonical == "mpn":
-                warnings.append(f"{path}: key parts.{name}.{key} is not a parts-file field; "
-                                "ignored")
+                warnings.append(InputWarning(path, int(rows[i]), f"parts.{name}.{key}",
+                                             "not a parts-file field; ignored"))
                 continue
             if canonical in units and units[canonical] != unit:
                 raise InputError(f"{canonical} is written with two header units", path=path,
@@ -274,6 +280,8 @@ def _toml_lines(text: str) -> dict[str, int]:
 
 
 def _toml_cell(value: Any, canonical: str, *, path: str, row: int, label: str) -> str:
+    if canonical == "override" and isinstance(value, bool):
+        return "true" if value else "false"
     if isinstance(value, bool):
         raise InputError("not a value", path=path, row=row, column=label, text=str(value),
                          expected="a number or a text with a unit")
@@ -295,11 +303,11 @@ class _Entries:
     units: dict[str, str | None]
 
 
-def _build(e: _Entries, *, path: str, warnings: list[str]) -> PartsData:
+def _build(e: _Entries, *, path: str, warnings: list[InputWarning]) -> PartsData:
     mpn = e.cells["mpn"]
     keep = mpn != ""
     for k in e.cells:
-        if k not in ("mpn", "notes") and k in FIELDS | CURVES:
+        if k in FIELDS or k in CURVES or k in ("tolerance", "dielectric"):
             filled = e.cells[k] != ""
             if (filled & ~keep).any():
                 i = int(np.flatnonzero(filled & ~keep)[0])
@@ -323,8 +331,14 @@ def _build(e: _Entries, *, path: str, warnings: list[str]) -> PartsData:
             values[name] = np.nan
             continue
         unit = e.units.get(name) or default_unit
-        values[name] = _convert(e.cells[name][at], quantity, unit, path=path,
-                                rows=e.rows[at], column=e.headers[name])
+        values[name] = convert_column(e.cells[name][at], quantity, unit, path=path,
+                                rows=e.rows[at], column=e.headers[name],
+                                sign=_SIGNS.get(name, "positive"))
+    _check_range(values, e, path)
+    for name in TEXT_FIELDS:
+        cells = e.cells[name][at] if name in e.cells else np.full(len(at), "", dtype=object)
+        values[name] = TEXT_READERS[name](cells, path=path, rows=e.rows[at],
+                                           column=e.headers.get(name, name))
     curves: dict[str, dict[str, Curve]] = {}
     for name, (x_quantity, _) in CURVES.items():
         if name not in e.cells:
@@ -332,86 +346,27 @@ def _build(e: _Entries, *, path: str, warnings: list[str]) -> PartsData:
         found: dict[str, Curve] = {}
         for i in at:
             cell = e.cells[name][i]
-            if cell.casefold() in _NO_VALUE:
+            if cell.casefold() in NO_VALUE:
                 continue
-            found[keys[i]] = _curve(cell, name, x_quantity, path=path, row=int(e.rows[i]),
-                                    column=e.headers[name])
+            found[keys[i]] = read_curve(cell, name, x_quantity, path=path,
+                                        row=int(e.rows[i]), column=e.headers[name])
         if found:
             curves[name] = found
     if not len(values):
-        warnings.append(f"{path}: no parts entries")
+        warnings.append(InputWarning(path, None, None, "no parts entries"))
     return PartsData(path=path, sha256="", values=values, curves=curves,
                      warnings=tuple(warnings))
 
 
-def _convert(cells: np.ndarray, quantity: str, unit: str, *, path: str, rows: np.ndarray,
-             column: str) -> np.ndarray:
-    """Floats (SI) of a column of text cells, each distinct text converted once."""
-    codes, uniques = pd.factorize(np.asarray(cells, dtype=object), use_na_sentinel=True)
-    out = np.full(len(uniques) + 1, np.nan)
-    for k, u in enumerate(uniques):
-        text = str(u).strip()
-        if text.casefold() in _NO_VALUE:
-            continue
-        try:
-            out[k] = to_si(text, quantity, unit)
-        except UnitError as exc:
-            i = int(np.argmax(codes == k))
-            raise InputError(f"{exc.problem} ({column})", path=path, row=int(rows[i]),
-                             column=column, text=text, expected=exc.expected) from None
-    return out[codes]
-
-
-def _curve(cell: str, name: str, x_quantity: str, *, path: str, row: int, column: str) -> Curve:
-    """``"0 V: 100 %; 5 V: 30 %"`` to a Curve; points sorted by x, x strictly increasing."""
-    def bad(problem: str, text: str) -> InputError:
-        return InputError(f"{problem} ({name})", path=path, row=row, column=column, text=text,
-                          expected="points 'x: y' separated by ';', such as "
-                                   + ("'0 V: 100 %; 5 V: 45 %'" if name == "dc_bias"
-                                      else "'120 Hz: 0.6; 100 kHz: 1.0'"))
-
-    xs: list[float] = []
-    ys: list[float] = []
-    farads: set[bool] = set()
-    for point in (p for p in cell.split(";") if p.strip()):
-        if ":" not in point:
-            raise bad("curve point without ':'", point.strip())
-        x_text, y_text = (s.strip() for s in point.split(":", 1))
-        try:
-            xs.append(to_si(x_text, x_quantity))
-        except UnitError as exc:
-            raise bad(exc.problem, x_text) from None
-        y, is_f = _curve_y(y_text, name)
-        if y is None:
-            raise bad("not a fraction, percentage" + (" or capacitance" if name == "dc_bias"
-                                                      else ""), y_text)
-        ys.append(y)
-        farads.add(is_f)
-    if len(xs) < 1:
-        raise bad("empty curve", cell)
-    if len(farads) > 1:
-        raise bad("curve mixes capacitances and fractions", cell)
-    order = np.argsort(xs, kind="stable")
-    sx = [xs[i] for i in order]
-    if any(b <= a for a, b in zip(sx, sx[1:])):
-        raise bad("the same x twice", cell)
-    is_farads = farads == {True}
-    if not is_farads and name == "dc_bias" and any(not 0.0 <= y <= 1.0 for y in ys):
-        raise bad("remaining fraction outside 0..100 %", cell)
-    return Curve(tuple(sx), tuple(ys[i] for i in order), is_farads)
-
-
-def _curve_y(text: str, name: str) -> tuple[float | None, bool]:
-    try:
-        return to_si(text, "dimensionless"), False
-    except UnitError:
-        pass
-    if name == "dc_bias":
-        try:
-            return to_si(text, "capacitance"), True
-        except UnitError:
-            pass
-    return None, False
+def _check_range(values: pd.DataFrame, e: _Entries, path: str) -> None:
+    """A rated range must have its minimum below its maximum."""
+    bad = (values["temp_min"] >= values["temp_max"]).to_numpy()
+    if bad.any():
+        i = int(np.flatnonzero(bad)[0])
+        raise InputError("temp_min is not below temp_max", path=path,
+                         row=int(values["row"].iat[i]), column=e.headers.get("temp_min"),
+                         text=f"{values['temp_min'].iat[i]:g} .. {values['temp_max'].iat[i]:g}",
+                         expected="a rated range such as -55 .. 105 degC")
 
 
 # --- laying the data over the placements ------------------------------------------------------
@@ -433,22 +388,39 @@ def _float(table: pd.DataFrame, name: str) -> pd.Series:
     return pd.Series(np.nan, index=table.index, dtype=float)
 
 
-# (spec column, what the message calls it, display unit, relative or absolute tolerance)
+# (spec column, what the message calls it, display unit, relative and absolute tolerance of a
+# match, the conservative choice of the two values, and its word in messages)
 _CHECKED = (
-    ("capacitance_f", "capacitance", "F", 1e-3, 0.0),
-    ("voltage_v", "rated voltage", "V", 1e-3, 0.0),
-    ("temp_min_c", "minimum temperature", "degC", 0.0, 0.5),
-    ("temp_max_c", "maximum temperature", "degC", 0.0, 0.5),
+    ("capacitance_f", "capacitance", "F", 1e-3, 0.0, np.fmin, "smaller"),
+    ("voltage_v", "rated voltage", "V", 1e-3, 0.0, np.fmin, "lower"),
+    ("temp_min_c", "rated minimum temperature", "degC", 0.0, 0.5, np.fmax, "higher"),
+    ("temp_max_c", "rated maximum temperature", "degC", 0.0, 0.5, np.fmin, "lower"),
+    ("tol_minus_pct", "tolerance", "%", 0.0, 0.05, np.fmax, "wider"),
+    ("tol_plus_pct", "tolerance", "%", 0.0, 0.05, np.fmax, "wider"),
 )
+_DIELECTRIC_COLUMNS = {"dielectric_class": "eia_class", "cap_change_minus_pct": "change_minus_pct",
+                       "cap_change_plus_pct": "change_plus_pct", "tc_ppm": "tc_ppm",
+                       "tc_tol_ppm": "tc_tol_ppm"}
+
+
+def _worse(d: Dielectric) -> tuple[float, ...]:
+    """Order of dielectrics from favourable to unfavourable: class (III worst), then a lower
+    rated maximum, a higher rated minimum, a larger capacitance change, a wider TC tolerance."""
+    return (d.eia_class, -(d.temp_max_c if d.temp_max_c is not None else 1e3),
+            d.temp_min_c if d.temp_min_c is not None else -1e3, d.change_minus_pct or 0.0,
+            d.tc_tol_ppm or 0.0)
 
 
 def apply_parts(table: pd.DataFrame, parts: PartsData) -> tuple[pd.DataFrame, pd.DataFrame]:
-    """The placements with the parts data laid over them, and one warning verdict per value
-    that contradicts the BOM text.
+    """The placements with the parts data laid over them, and one verdict per value that
+    contradicts the BOM text.
 
-    Spec columns the file gives are overridden (a rated voltage of the kind the BOM names: AC
-    for an AC-rated part, else DC); the columns of ``PART_COLUMNS`` are added. Verdict columns:
-    pidx, refdes, rule_id (``parts.conflict``), status, message, source.
+    Spec columns the BOM text left empty are filled from the file (a rated voltage of the kind
+    the BOM names: AC for an AC-rated part, else DC); where both give a value and they differ,
+    the conservative one is kept and a ``warn`` verdict names both, unless the part (or the whole
+    file) is marked to override, when the parts data is kept and the verdict is a ``pass`` that
+    says so. The columns of ``PART_COLUMNS`` are added. Verdict columns: pidx, refdes, rule_id
+    (``parts.conflict``), status, message, source.
     """
     from bomcheck.rules import format_quantity
 
@@ -456,54 +428,117 @@ def apply_parts(table: pd.DataFrame, parts: PartsData) -> tuple[pd.DataFrame, pd
     keys = part_keys(out)
     at = parts.values.index.get_indexer(keys.to_numpy())
     matched = at >= 0
+    pick = np.where(matched, at, 0)
 
-    def take(name: str) -> pd.Series:
-        col = parts.values[name].to_numpy(dtype=float)
-        return pd.Series(np.where(matched, col[np.where(matched, at, 0)], np.nan),
-                         index=out.index)
+    def take(name: str, empty: Any = np.nan) -> pd.Series:
+        if name not in parts.values.columns:
+            return pd.Series(empty, index=out.index)
+        col = parts.values[name].to_numpy()
+        if not len(col):  # a file with a header only
+            return pd.Series(empty, index=out.index)
+        return pd.Series(np.where(matched, col[pick], empty), index=out.index)
 
     kind = (out["voltage_kind"].astype(object).where(out["voltage_kind"].notna(), "")
             if "voltage_kind" in out else pd.Series("", index=out.index, dtype=object))
     is_ac = (kind == "ac").to_numpy()
-    dc, ac = take("rated_voltage"), take("rated_voltage_ac")
+    dc, ac = take("rated_voltage").astype(float), take("rated_voltage_ac").astype(float)
     bom_v = _float(out, "voltage_v")
     part_v = pd.Series(np.where(is_ac, ac, dc), index=out.index)
     only_ac = ~is_ac & dc.isna().to_numpy() & ac.notna().to_numpy() & bom_v.isna().to_numpy()
     part_v[only_ac] = ac[only_ac]
-    new = {
-        "capacitance_f": take("capacitance"),
-        "voltage_v": part_v,
-        "temp_min_c": take("temp_min"),
-        "temp_max_c": take("temp_max"),
-    }
-    findings = []
-    mpn_text = pd.Series(np.where(matched, parts.values["mpn"].to_numpy(dtype=object)[
-        np.where(matched, at, 0)], ""), index=out.index, dtype=object)
-    part_row = np.where(matched, parts.values["row"].to_numpy()[np.where(matched, at, 0)], 0)
-    for column, label, unit, rel, absolute in _CHECKED:
+    tol = take("tolerance").astype(float)
+    new = {"capacitance_f": take("capacitance").astype(float), "voltage_v": part_v,
+           "temp_min_c": take("temp_min").astype(float),
+           "temp_max_c": take("temp_max").astype(float), "tol_minus_pct": tol,
+           "tol_plus_pct": tol}
+    override = (take("override", False).eq(True) | parts.override_all).to_numpy() & matched
+    mpn_text = take("mpn", "").astype(object)
+    part_row = take("row", 0).fillna(0).astype(np.int64).to_numpy()
+    findings: list[tuple[int, str, str, str, str]] = []
+
+    def report(i: int, label: str, part_text: str, bom_text: str, used: str) -> None:
+        head = (f"{out['refdes'].iat[i]}: parts data for {mpn_text.iat[i]} ({parts.path} row "
+                f"{int(part_row[i])}) gives {label} {part_text}; the BOM text says {bom_text}; ")
+        if override[i]:
+            findings.append((i, PARTS_FINDING, "pass", head + "the parts data is used "
+                             "(override)", "parts data"))
+        else:
+            findings.append((i, PARTS_FINDING, "warn", head + f"the verdict uses {used}; mark "
+                             "the part override = true to use the parts data", "parts data"))
+
+    tol_flagged = np.zeros(len(out), dtype=bool)  # one tolerance finding, not one per side
+    for column, label, unit, rel, absolute, choose, word in _CHECKED:
         bom, part = _float(out, column), new[column]
         with np.errstate(invalid="ignore"):
             differ = (bom.notna() & part.notna()
                       & ((bom - part).abs() > np.fmax(rel * part.abs(), absolute))).to_numpy()
-        for i in np.flatnonzero(differ):
-            findings.append((
-                int(i), PARTS_FINDING, "warn",
-                f"{out['refdes'].iat[i]}: parts data for {mpn_text.iat[i]} ({parts.path} row "
-                f"{int(part_row[i])}) gives {label} {format_quantity(part.iat[i], unit)}; the BOM "
-                f"text says {format_quantity(bom.iat[i], unit)}; the parts data is used",
-                "parts data"))
-        out[column] = part.fillna(bom) if column in out else part
+        used = pd.Series(np.where(override & part.notna().to_numpy(), part, choose(bom, part)),
+                         index=out.index)
+        for i in np.flatnonzero(differ & ~tol_flagged):  # conflicting placements only
+            report(int(i), label, format_quantity(part.iat[i], unit),
+                   format_quantity(bom.iat[i], unit),
+                   f"the {word} value, {format_quantity(used.iat[i], unit)}")
+        if column == "tol_minus_pct":
+            tol_flagged = differ
+        out[column] = used
+    _lay_dielectric(out, take("dielectric", "").astype(object), override, report)
     if "voltage_kind" in out:
         out["voltage_kind"] = out["voltage_kind"].astype(object).mask(
             pd.Series(only_ac, index=out.index), "ac")
     for name, (_, _, column) in FIELDS.items():
         if column in PART_COLUMNS:
-            out[column] = take(name)
+            out[column] = take(name).astype(float)
     out["part_row"] = pd.array(np.where(matched, part_row, pd.NA), dtype="Int64")
     verdicts = pd.DataFrame(findings, columns=["pidx", "rule_id", "status", "message", "source"])
     verdicts.insert(1, "refdes", out["refdes"].to_numpy(dtype=object)[
         verdicts["pidx"].to_numpy(dtype=np.int64)] if len(verdicts) else [])
     return out, verdicts
+
+
+def _lay_dielectric(out: pd.DataFrame, part: pd.Series, override: np.ndarray, report) -> None:
+    """Fill or resolve the dielectric code (in place): the parts file's where the BOM names none
+    or the part overrides, else the less favourable of the two (``_worse``); a switched code
+    brings its class, change limits and temperature range (the range only ever narrows, unless
+    the part overrides)."""
+    bom = (out["dielectric"].astype(object).where(out["dielectric"].notna(), "")
+           if "dielectric" in out else pd.Series("", index=out.index, dtype=object))
+    bom_u, part_u = bom.astype(str).str.upper(), part.astype(str).str.upper()
+    given = (part_u != "").to_numpy()
+    if not given.any():
+        return
+    codes, pairs = pd.factorize(pd.MultiIndex.from_arrays([bom_u, part_u]))
+    chosen = np.empty(len(pairs), dtype=object)
+    for k, (b, p) in enumerate(pairs):  # distinct pairs, not placements
+        db, dp = decode_dielectric(b) if b else None, decode_dielectric(p) if p else None
+        worse = dp is not None and (db is None or _worse(dp) > _worse(db))
+        chosen[k] = p if worse else b
+    used = np.where(given & override, part_u.to_numpy(dtype=object), chosen[codes])
+    differ = given & (bom_u != "").to_numpy() & (bom_u != part_u).to_numpy()
+    for i in np.flatnonzero(differ):
+        report(int(i), "dielectric", part_u.iat[i], bom_u.iat[i], f"{used[i]}, the less "
+               "favourable code")
+    switched = used != bom_u.to_numpy()
+    if not switched.any():
+        return
+    out["dielectric"] = pd.Series(np.where(switched, used, bom.to_numpy()), index=out.index)
+    for code in pd.unique(used[switched]):
+        d = decode_dielectric(code)
+        rows = switched & (used == code)
+        for column, attr in _DIELECTRIC_COLUMNS.items():
+            col = _float(out, column).to_numpy().copy()
+            value = getattr(d, attr)
+            col[rows] = np.nan if value is None else value
+            out[column] = col
+        for column, attr, choose in (("temp_min_c", "temp_min_c", np.fmax),
+                                     ("temp_max_c", "temp_max_c", np.fmin)):
+            value = getattr(d, attr)
+            if value is None:
+                continue
+            col = _float(out, column).to_numpy().copy()
+            narrowed = choose(col, value)
+            col[rows] = np.where(override[rows] & ~np.isnan(col[rows]), col[rows],
+                                 narrowed[rows])
+            out[column] = col
 
 
 def curve_values(table: pd.DataFrame, parts: PartsData | None, name: str, x: pd.Series, *,

@@ -14,7 +14,6 @@ import difflib
 import functools
 import json
 import math
-import re
 import tomllib
 from collections.abc import Callable, Sequence
 from dataclasses import asdict, dataclass, field, replace
@@ -27,7 +26,7 @@ import numpy as np
 from bomcheck.errors import RuleError, RuleProblem, UnitError
 from bomcheck.spec import SAFETY_CLASSES, SPEC_KEYS, TECHNOLOGIES
 from bomcheck.status import RULE_STATUSES
-from bomcheck.units import SI_UNITS, to_si
+from bomcheck.units import SI_UNITS, check_plausible, to_si
 from bomcheck.vocabulary import CONDITIONS, METRICS, Metric
 
 DEFAULT_RULESET = "industrial"
@@ -820,23 +819,6 @@ class _Collector:
         self.out.append((_path_key(parts), problem))
 
 
-_PLAIN = re.compile(r"^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*(\S+)\s*$")
-
-
-def _plain_si(text: str, quantity: str) -> float | None:
-    """``"110 degC"``, ``"100 V"``, ``"60 %"``: a number in the quantity's own SI unit, read
-    without pint (loading pint costs more than a whole small audit); None for anything else."""
-    m = _PLAIN.match(text)
-    if not m:
-        return None
-    unit = m.group(2)
-    if quantity == "dimensionless" and unit == "%":
-        return float(m.group(1)) / 100.0
-    if unit == SI_UNITS[quantity] or (quantity == "temperature_delta" and unit == "degC"):
-        return float(m.group(1))
-    return None
-
-
 def _si(raw: Any, quantity: str, parts: Sequence[Any], c: _Collector) -> float | None:
     """A number (already SI) or a unit string converted to SI; None and a problem if not."""
     if isinstance(raw, bool):
@@ -847,12 +829,15 @@ def _si(raw: Any, quantity: str, parts: Sequence[Any], c: _Collector) -> float |
         if not math.isfinite(value):
             c.add(parts, f"found {_show(raw)}; expected a finite number")
             return None
+        try:  # a ratio written as a number has its own check in _limit
+            if quantity != "dimensionless":
+                check_plausible(value, quantity)
+        except UnitError as exc:
+            c.add(parts, str(exc))
+            return None
         return value
     if isinstance(raw, str):
-        plain = _plain_si(raw, quantity)
-        if plain is not None:
-            return plain
-        try:
+        try:  # one number and a unit (bomcheck.units): never an expression, always plausible
             return to_si(raw, quantity)
         except UnitError as exc:
             c.add(parts, str(exc))

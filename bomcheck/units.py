@@ -1,7 +1,43 @@
-"""The one pint unit registry, built lazily, and conversion of unit-bearing text to SI floats.
+"""Parse stage helper: the one strict reader of quantity cells (a number and an optional unit) for
+the design sheet, parts data and rule limits, the plausible range of each quantity, and the one
+pint unit registry.
 
-pint is slow to import and to build (see DEVELOPERS.md, performance): it is only touched through
-these functions, once per distinct string, never in a per-row loop.
+A cell is read by a regular expression (number, then one unit token); pint only converts a unit
+token it does not know itself, once per distinct token, and never evaluates the cell: ``5 V * 0``,
+``9**9**9 V``, ``20V ±10%`` and ``-40..85 degC`` are refused, not computed. Accepted forms::
+
+    5 V   5V   4.7 uF   4,7 uF (decimal comma)   1e-6 F   85 degC   85 °C   85C   300 K
+    60 %   10 years   12 V/ms   40 degC/W   5 (a bare number: the header's unit, else the SI one)
+
+Plausible ranges (``PLAUSIBLE``; outside one is an input error naming the cell). They are wide on
+purpose: they only catch unit slips and absurd numbers, never a real part or circuit.
+
+===================== ========================= =================================================
+quantity              range (magnitude)         reason
+===================== ========================= =================================================
+voltage               <= 100 kV                 beyond any capacitor placed on a board; above is
+                                                a unit slip (mV read as V x 1000...)
+current               <= 10 kA                  ripple, surge and leakage of board-mounted parts
+capacitance           <= 10 kF                  the largest supercapacitor cells are a few kF
+temperature           -100 .. 400 degC          no capacitor is rated or used outside it; a bare
+                                                number under ``[K]`` that lands here is a slip
+temperature_delta     <= 500 degC               the whole span above
+time (life)           <= 1e7 h                  about 1,100 years
+seconds               <= 1e6 s                  a discharge-time limit of days at most
+resistance            <= 1e15 ohm               past any insulation resistance
+frequency             <= 10 GHz                 past any ripple or switching frequency
+slew                  <= 1e12 V/s               1 kV/ns
+thermal_resistance    <= 1e4 degC/W             a free-standing part in still air is ~1e3
+energy                <= 1e9 J                  rule limits only
+power                 <= 1e6 W                  rule limits only
+charge                <= 1e9 uC                 rule limits only
+resistance_per_volt   <= 1e9 ohm/V              rule limits only
+dimensionless         <= 10 (1000 %)            ratios and fractions; tolerances use 100 %
+===================== ========================= =================================================
+
+Every quantity also has a sign rule given by its caller (``SIGNS``): ``any`` (a negative rail,
+``v_dc``), ``nonneg`` (a magnitude such as a ripple peak or a rise) or ``positive`` (a rating or
+a resistance that is divided by). Temperatures are points on a scale: their range is signed.
 """
 
 from __future__ import annotations
@@ -9,6 +45,7 @@ from __future__ import annotations
 import functools
 import math
 import re
+from dataclasses import dataclass
 
 from bomcheck.errors import UnitError
 
@@ -33,6 +70,38 @@ SI_UNITS = {
 }
 
 
+@dataclass(frozen=True)
+class Plausible:
+    """The plausible values of a quantity in its SI unit: ``high`` bounds the magnitude; ``low``
+    is only set for a scale with its own zero (temperature), where the range is signed."""
+
+    high: float
+    reason: str
+    low: float | None = None
+
+
+PLAUSIBLE: dict[str, Plausible] = {
+    "voltage": Plausible(100e3, "no capacitor on a board is rated near 100 kV"),
+    "current": Plausible(10e3, "ripple, surge and leakage currents of board parts"),
+    "capacitance": Plausible(1e4, "the largest supercapacitor cells are a few kF"),
+    "temperature": Plausible(400.0, "no capacitor is rated or used outside -100..400 degC",
+                             low=-100.0),
+    "temperature_delta": Plausible(500.0, "the whole -100..400 degC span"),
+    "time": Plausible(1e7, "about 1,100 years"),
+    "seconds": Plausible(1e6, "a discharge time of days at most"),
+    "resistance": Plausible(1e15, "past any insulation resistance"),
+    "frequency": Plausible(10e9, "past any ripple or switching frequency"),
+    "slew": Plausible(1e12, "1 kV/ns"),
+    "thermal_resistance": Plausible(1e4, "a free-standing part in still air is about 1e3 degC/W"),
+    "energy": Plausible(1e9, "far past any stored energy on a board"),
+    "power": Plausible(1e6, "far past any dissipation in a capacitor"),
+    "charge": Plausible(1e9, "far past any stored charge on a board"),
+    "resistance_per_volt": Plausible(1e9, "far past any resistance per volt"),
+    "dimensionless": Plausible(10.0, "a ratio or fraction up to 1000 %"),
+}
+SIGNS = ("any", "nonneg", "positive")
+
+
 @functools.lru_cache(maxsize=1)
 def registry():
     """The shared ``pint.UnitRegistry`` (built on first use, cached on disk where possible)."""
@@ -53,73 +122,182 @@ _OFFSET_UNIT = re.compile(
 )
 _DELTA_OF = {"degC": "delta_degC", "degree_Celsius": "delta_degC", "celsius": "delta_degC",
              "degF": "delta_degF", "degree_Fahrenheit": "delta_degF", "fahrenheit": "delta_degF"}
+
+# The whole grammar of a quantity cell: a number, optional spaces, at most one unit token (a
+# word, a word per word, or %). No operators, no digits in the unit, no second number.
+_NUMBER = r"[-+]?(?:\d+(?:[.,]\d*)?|[.,]\d+)(?:[eE][-+]?\d+)?"
+_WORD = r"[A-Za-z_]+"
+_UNIT = rf"%|{_WORD}(?:\s*/\s*{_WORD})?"
+_CELL = re.compile(rf"^(?P<num>{_NUMBER})\s*(?P<unit>{_UNIT})?$")
+_UNIT_ONLY = re.compile(rf"^(?:{_UNIT})$")
+_NOT_FINITE = re.compile(r"^[-+]?(?:inf(?:inity)?|nan)\b", re.IGNORECASE)
 # "1,5" is a decimal comma; "1,500" could be 1.5 or 1500 and is refused rather than guessed.
 _THOUSANDS_COMMA = re.compile(r"\d,\d{3}(?!\d)")
-_DECIMAL_COMMA = re.compile(r"(?<=\d),(?=\d)")
+_MAX_DIGITS = 30  # more significant characters than any measurement has: refused, not rounded
+_MAX_UNIT = 40
+
+# Unit tokens converted without pint (pint costs more to load than a small audit): SI prefixes
+# on the quantity's own unit, and the temperature spellings.
+_PREFIX = {"p": 1e-12, "n": 1e-9, "u": 1e-6, "m": 1e-3, "": 1.0, "k": 1e3, "M": 1e6, "G": 1e9}
+_PLAIN_UNITS = {"voltage": "V", "current": "A", "capacitance": "F", "resistance": "ohm",
+                "energy": "J", "power": "W", "frequency": "Hz", "seconds": "s"}
+_KELVIN = 273.15
 
 
 def _clean(text: str) -> str:
     # Both micro glyphs (U+00B5 and U+03BC) are real input; pint knows only "u" or "micro".
-    t = text.strip().replace("\u00b5", "u").replace("\u03bc", "u").replace("\u00b0C", "degC")
-    t = t.replace("\u00b0F", "degF").replace("\u2126", "ohm").replace("\u03a9", "ohm")
+    t = text.strip().replace("\u00b5", "u").replace("\u03bc", "u")
+    t = re.sub(r"\u00b0\s*C", "degC", t)
+    t = re.sub(r"\u00b0\s*F", "degF", t)
+    t = t.replace("\u2126", "ohm").replace("\u03a9", "ohm")
     t = t.replace("\u2103", "degC").replace("\u2109", "degF")  # the one-glyph degree signs
     return t
 
 
+def _describe(quantity: str) -> str:
+    return f"a {quantity.replace('_', ' ')} such as {_example(quantity)}"
+
+
+def parse_number(text: str, quantity: str) -> tuple[float, str | None]:
+    """Split a cleaned cell into its number and unit token; ``UnitError`` for anything else."""
+    expected = _describe(quantity)
+    if not text:
+        raise UnitError("empty value", text=text, expected=expected)
+    if _NOT_FINITE.match(text):
+        raise UnitError("not a finite number", text=text, expected=expected)
+    m = _CELL.match(text)
+    if not m:
+        raise UnitError("not a quantity (one number with an optional unit)", text=text,
+                        expected=expected)
+    num, unit = m.group("num"), m.group("unit")
+    mantissa = re.split(r"[eE]", num)[0]
+    if sum(c.isdigit() for c in mantissa) > _MAX_DIGITS or len(num) > _MAX_DIGITS + 10:
+        raise UnitError("too many digits", text=text, expected=expected)
+    if "," in num:
+        if _THOUSANDS_COMMA.search(num):
+            raise UnitError("ambiguous comma (decimal or thousands?)", text=text,
+                            expected="a number without digit grouping, such as 1500 or 1.5")
+        num = num.replace(",", ".")
+    value = float(num)
+    if not math.isfinite(value):
+        raise UnitError("number out of range", text=text, expected=expected)
+    if unit is not None and len(unit) > _MAX_UNIT:
+        raise UnitError("not a unit", text=text, expected=expected)
+    return value, unit
+
+
+@functools.lru_cache(maxsize=1024)
+def unit_factor(unit: str, quantity: str) -> tuple[float, float]:
+    """``(scale, offset)`` taking a number in ``unit`` to the SI unit of ``quantity``:
+    ``si = number * scale + offset``. Known tokens are read from a table; others through pint,
+    once per distinct token. Raises ``UnitError`` for an unknown unit or a wrong dimension."""
+    unit = _clean(unit)
+    if not _UNIT_ONLY.match(unit):
+        raise UnitError("not a unit", text=unit, expected=_describe(quantity))
+    fast = _table_factor(unit, quantity)
+    if fast is not None:
+        return fast
+    target = SI_UNITS[quantity]
+    token = unit
+    if quantity in _DELTA_QUANTITIES:
+        token = _OFFSET_UNIT.sub(lambda m: _DELTA_OF[m.group(1)], token)
+    ureg = registry()
+    try:
+        one = ureg.Quantity(1.0, token)
+        zero = ureg.Quantity(0.0, token)
+    except Exception:
+        raise UnitError("unknown unit", text=unit, expected=_describe(quantity)) from None
+    try:
+        offset = float(zero.to(target).magnitude)
+        scale = float(one.to(target).magnitude) - offset
+    except Exception:
+        raise UnitError(f"wrong dimension ({one.dimensionality})", text=unit,
+                        expected=_describe(quantity)) from None
+    return scale, offset
+
+
+# Compound and time units by quantity (checked against pint in tests/test_units.py); the year is
+# pint's Julian year of 365.25 days.
+_TABLE: dict[str, dict[str, float]] = {
+    "time": {"h": 1.0, "hour": 1.0, "hours": 1.0, "hr": 1.0, "hrs": 1.0, "day": 24.0,
+             "days": 24.0, "year": 8766.0, "years": 8766.0, "yr": 8766.0, "yrs": 8766.0},
+    "slew": {"V/s": 1.0, "V/ms": 1e3, "V/us": 1e6, "kV/s": 1e3, "kV/ms": 1e6, "kV/us": 1e9},
+    "thermal_resistance": {"K/W": 1.0, "degC/W": 1.0, "C/W": 1.0, "delta_degC/W": 1.0},
+    "charge": {"uC": 1.0, "mC": 1e3, "nC": 1e-3, "C": 1e6},
+    "resistance_per_volt": {"ohm/V": 1.0, "kohm/V": 1e3, "Mohm/V": 1e6},
+}
+
+
+def _table_factor(unit: str, quantity: str) -> tuple[float, float] | None:
+    compact = re.sub(r"\s*/\s*", "/", unit)
+    if compact in _TABLE.get(quantity, {}):
+        return _TABLE[quantity][compact], 0.0
+    base = _PLAIN_UNITS.get(quantity)
+    if base and unit.endswith(base) and unit[:-len(base)] in _PREFIX:
+        return _PREFIX[unit[:-len(base)]], 0.0
+    if quantity == "temperature":
+        if unit in ("degC", "C"):  # "85C" as in a rated-temperature cell
+            return 1.0, 0.0
+        if unit == "K":
+            return 1.0, -_KELVIN
+    if quantity == "temperature_delta" and unit in ("degC", "C", "K", "delta_degC"):
+        return 1.0, 0.0
+    if quantity == "dimensionless" and unit == "%":
+        return 0.01, 0.0
+    return None
+
+
 @functools.lru_cache(maxsize=4096)
-def to_si(text: str, quantity: str, default_unit: str | None = None) -> float:
-    """Convert ``text`` (``"500 mV"``, ``"85 degC"``, ``"10 years"``, ``"4.7"``) to a float in the
-    project's unit for ``quantity`` (a key of ``SI_UNITS``).
+def to_si(text: str, quantity: str, default_unit: str | None = None, sign: str = "any") -> float:
+    """Convert a quantity cell (``"500 mV"``, ``"85 degC"``, ``"10 years"``, ``"4.7"``) to a float
+    in the project's unit for ``quantity`` (a key of ``SI_UNITS``), checked against its
+    plausible range (``PLAUSIBLE``) and ``sign`` (``SIGNS``).
 
     A bare number takes ``default_unit`` (or the SI unit when none is given). Raises
     ``UnitError`` (without file context; the caller adds path, row and column) when the text is
-    not a quantity or has the wrong dimension.
+    not one number with an optional unit, has the wrong dimension or is implausible.
     """
-    target = SI_UNITS[quantity]
-    if default_unit is not None:
-        default_unit = _clean(default_unit)
-    cleaned = _clean(str(text))
-    if not cleaned:
-        raise UnitError("empty value", text=str(text), expected=f"a {quantity.replace('_', ' ')}")
-    if _THOUSANDS_COMMA.search(cleaned):
-        raise UnitError("ambiguous comma (decimal or thousands?)", text=str(text),
-                        expected="a number without digit grouping, such as 1500 or 1.5")
-    cleaned = _DECIMAL_COMMA.sub(".", cleaned)
+    raw = str(text)
+    value, unit = parse_number(_clean(raw), quantity)
+    unit = unit if unit is not None else default_unit
     try:
-        number = float(cleaned)
-    except ValueError:
-        number = None
-    if number is not None:
-        if not math.isfinite(number):
-            raise UnitError("not a finite number", text=str(text),
-                            expected=f"a {quantity.replace('_', ' ')} such as {_example(quantity)}")
-        if default_unit is None or default_unit == target:
-            return number
-        cleaned = f"{number} {default_unit}"
-    if quantity in _DELTA_QUANTITIES:
-        cleaned = _OFFSET_UNIT.sub(lambda m: _DELTA_OF[m.group(1)], cleaned)
-    ureg = registry()
-    try:
-        q = ureg.Quantity(cleaned)
-    except Exception:
-        raise UnitError(
-            "not a quantity pint can read",
-            text=str(text),
-            expected=f"a number with a {quantity.replace('_', ' ')} unit such as {_example(quantity)}",
-        ) from None
-    if not isinstance(q, ureg.Quantity):  # a plain number after all
-        q = ureg.Quantity(float(q), default_unit or target)
-    try:
-        value = float(q.to(target).magnitude)
-    except Exception:
-        raise UnitError(
-            f"wrong dimension ({q.dimensionality})",
-            text=str(text),
-            expected=f"a {quantity.replace('_', ' ')} such as {_example(quantity)}",
-        ) from None
-    if math.isnan(value):
-        raise UnitError("not a number", text=str(text), expected=f"a {quantity}")
-    return value
+        scale, offset = unit_factor(unit, quantity) if unit else (1.0, 0.0)
+    except UnitError as exc:
+        raise UnitError(exc.problem, text=raw, expected=exc.expected) from None
+    si = value * scale + offset
+    if si != 0.0 and math.isfinite(si):
+        si = float(f"{si:.15g}")  # drop conversion noise: 100 uF is 1e-4, not 9.99...e-05
+    check_plausible(si, quantity, sign, text=raw)
+    return si
+
+
+def check_plausible(value: float, quantity: str, sign: str = "any", *, text: str | None = None,
+                    high: float | None = None) -> None:
+    """Raise ``UnitError`` when ``value`` (SI) is outside the plausible range of ``quantity`` or
+    breaks ``sign``; ``high`` narrows the bound (a tolerance up to 100 %)."""
+    if sign not in SIGNS:
+        raise ValueError(f"unknown sign rule {sign!r}; expected one of {SIGNS}")  # a bug
+    shown = str(value) if text is None else text
+    if not math.isfinite(value):
+        raise UnitError("number out of range", text=shown, expected=_describe(quantity))
+    p = PLAUSIBLE[quantity]
+    top = p.high if high is None else min(p.high, high)
+    if p.low is not None:
+        if not p.low <= value <= top:
+            raise UnitError(f"implausible {quantity.replace('_', ' ')} ({p.reason})", text=shown,
+                            expected=f"{p.low:g} to {top:g} {SI_UNITS[quantity]} after "
+                                     "conversion")
+        return
+    unit = SI_UNITS[quantity] or "(fraction)"
+    if value < 0 and sign != "any":
+        raise UnitError(f"negative {quantity.replace('_', ' ')}; this is a magnitude",
+                        text=shown, expected=f"a value from 0 to {top:g} {unit}")
+    if value == 0 and sign == "positive":
+        raise UnitError(f"zero {quantity.replace('_', ' ')}", text=shown,
+                        expected=f"a value above 0, up to {top:g} {unit}")
+    if abs(value) > top:
+        raise UnitError(f"implausible {quantity.replace('_', ' ')} ({p.reason})", text=shown,
+                        expected=f"a magnitude up to {top:g} {unit}")
 
 
 _EXAMPLES = {
@@ -134,7 +312,7 @@ _EXAMPLES = {
     "energy": "'10 J'",
     "power": "'0.5 W'",
     "frequency": "'100 kHz'",
-    "thermal_resistance": "'40 delta_degC/W'",
+    "thermal_resistance": "'40 degC/W'",
     "slew": "'12 V/ms'",
     "charge": "'45 uC'",
     "resistance_per_volt": "'0.1 ohm/V'",

@@ -89,10 +89,12 @@ def _placements():
     })
 
 
-def test_parts_override_the_bom_text_and_conflicts_are_warnings(parts):
+def test_conflicts_use_the_conservative_value_and_are_warnings(parts):
+    # Issue 9 class 6 (changed: the parts data used to win silently over the BOM text):
+    # common practice, the lower rating of two contradicting sources governs.
     out, verdicts = apply_parts(_placements(), parts)
-    assert out["voltage_v"].tolist() == [6.3, 35.0, 50.0]
-    assert out["temp_max_c"].tolist() == [85.0, 105.0, 125.0]
+    assert out["voltage_v"].tolist() == [6.3, 25.0, 50.0]
+    assert out["temp_max_c"].tolist() == [85.0, 85.0, 125.0]
     assert out["esr_ohm"].iloc[1] == pytest.approx(0.045) and math.isnan(out["esr_ohm"].iloc[0])
     assert out["life_l0_h"].tolist()[1] == 5000.0
     assert verdicts["rule_id"].unique().tolist() == [PARTS_FINDING]
@@ -101,6 +103,93 @@ def test_parts_override_the_bom_text_and_conflicts_are_warnings(parts):
     voltage = verdicts[verdicts.message.str.contains("rated voltage")].iloc[0]
     assert "35 V" in voltage.message and "25 V" in voltage.message
     assert "RX-108-35" in voltage.message
+    assert "the verdict uses the lower value, 25 V" in voltage.message
+
+
+@pytest.mark.parametrize("how", ["column", "option"])
+def test_parts_data_overrides_only_when_asked(tmp_path, how):
+    # Issue 9 class 6: an explicit override (a column per part, or the file-wide option).
+    rows = ["mpn,override,rated_voltage,temp_max", "KV-1006-X5R,,6.3 V,85 degC",
+            f"RX-108-35,{'true' if how == 'column' else ''},35,105"]
+    parts = read_parts(write(tmp_path, "p.csv", "\n".join(rows) + "\n"),
+                       override=how == "option")
+    out, verdicts = apply_parts(_placements(), parts)
+    assert out["voltage_v"].tolist() == [6.3, 35.0, 50.0]
+    assert out["temp_max_c"].tolist() == [85.0, 105.0, 125.0]
+    assert set(verdicts["status"]) == {"pass"}  # still listed, never silent
+    assert verdicts["message"].str.contains("parts data is used \\(override\\)").all()
+
+
+def test_the_worse_value_wins_whichever_source_gives_it(tmp_path):
+    # common practice: lower rated max, higher rated min, smaller C, wider tolerance.
+    parts = read_parts(write(tmp_path, "p.csv", "mpn,capacitance,rated_voltage,temp_min,temp_max,"
+                             "tolerance\nP1,22 uF,50 V,-25 degC,125 degC,\u00b120 %\n"))
+    table = pd.DataFrame({"refdes": ["C1"], "mpn": ["P1"], "capacitance_f": [10e-6],
+                          "voltage_v": [16.0], "temp_min_c": [-55.0], "temp_max_c": [105.0],
+                          "tol_minus_pct": [10.0], "tol_plus_pct": [10.0]})
+    out, verdicts = apply_parts(table, parts)
+    row = out.iloc[0]
+    assert (row.capacitance_f, row.voltage_v, row.temp_min_c, row.temp_max_c) == (
+        10e-6, 16.0, -25.0, 105.0)
+    assert (row.tol_minus_pct, row.tol_plus_pct) == (20.0, 20.0)
+    assert len(verdicts) == 5 and set(verdicts["status"]) == {"warn"}  # one per quantity
+
+
+def test_dielectric_conflict_takes_the_less_favourable_code(tmp_path):
+    # EIA-198: X5R is rated to 85 degC, X7R to 125 degC; both change 15 %.
+    parts = read_parts(write(tmp_path, "p.csv", "mpn,dielectric\nP1,X5R\nP2,x7r\n"))
+    table = pd.DataFrame({"refdes": ["C1", "C2", "C3"], "mpn": ["P1", "P2", "P2"],
+                          "dielectric": ["X7R", "X5R", None], "dielectric_class": [2, 2, np.nan],
+                          "temp_min_c": [-55.0, -55.0, np.nan],
+                          "temp_max_c": [125.0, 85.0, np.nan]})
+    out, verdicts = apply_parts(table, parts)
+    assert out["dielectric"].tolist() == ["X5R", "X5R", "X7R"]  # C3: the BOM named none
+    assert out["temp_max_c"].tolist() == [85.0, 85.0, 125.0]
+    assert verdicts["refdes"].tolist() == ["C1", "C2"]
+    assert verdicts["message"].str.contains("dielectric").all()
+
+
+def test_header_only_parts_file_is_clean(tmp_path):
+    # Issue 10: a parts file with a header only raised IndexError when laid over placements.
+    parts = read_parts(write(tmp_path, "p.csv", "mpn,rated_voltage\n"))
+    assert [w.message for w in parts.warnings] == ["no parts entries"]
+    out, verdicts = apply_parts(_placements(), parts)
+    assert out["voltage_v"].tolist() == [6.3, 25.0, 50.0] and not len(verdicts)
+
+
+@pytest.mark.parametrize("header, cell, problem", [
+    ("rated_voltage", "0 V", "zero voltage"),  # would give an infinite ratio
+    ("rated_voltage", "-16 V", "negative voltage"),
+    ("rated_voltage", "inf V", "not a finite number"),
+    ("rated_voltage", "1e400 mV", "out of range"),
+    ("rated_voltage", "9" * 400, "too many digits"),
+    ("rated_voltage", "5 V * 0", "not a quantity"),
+    ("capacitance", "20 kF", "implausible capacitance"),
+    ("temp_max", "500 degC", "implausible temperature"),
+    ("esr", "0 ohm", "zero resistance"),
+    ("tolerance", "150 %", "not a valid tolerance value"),
+    ("dielectric", "Q9Q", "not a valid dielectric value"),
+    ("override", "maybe", "not a valid override value"),
+])
+def test_implausible_parts_cells_are_input_errors(tmp_path, header, cell, problem):
+    # common practice: the ranges of bomcheck.units.PLAUSIBLE; issue 10 for inf and huge numbers.
+    with pytest.raises(InputError) as info:
+        read_parts(write(tmp_path, "p.csv", f"mpn,{header}\nP0,\nP1,{cell}\n"))
+    e = info.value
+    assert (e.row, e.column, e.text) == (3, header, cell)
+    assert problem in e.problem
+
+
+def test_rated_range_must_be_ordered(tmp_path):
+    with pytest.raises(InputError, match="temp_min is not below temp_max"):
+        read_parts(write(tmp_path, "p.csv", "mpn,temp_min,temp_max\nP1,105,-40\n"))
+
+
+def test_rated_minimum_temperature_reaches_the_table(tmp_path):
+    # The parts file's temp_min fills the placement's temp_min_c (the rule set limits it).
+    parts = read_parts(write(tmp_path, "p.csv", "mpn,temp_min\nP1,-25 degC\n"))
+    out, _ = apply_parts(pd.DataFrame({"refdes": ["C1"], "mpn": ["P1"]}), parts)
+    assert out["temp_min_c"].tolist() == [-25.0]
 
 
 def test_ac_rating_goes_to_an_ac_rated_part(tmp_path):
@@ -152,10 +241,10 @@ def test_missing_file_and_missing_mpn_column(tmp_path):
 
 
 def test_each_distinct_cell_is_converted_once(monkeypatch):
-    import bomcheck.parts as parts_mod
+    import bomcheck.parts_cells as cells_mod
 
     calls = []
-    monkeypatch.setattr(parts_mod, "to_si", lambda text, q, u=None: calls.append(text) or 1.0)
+    monkeypatch.setattr(cells_mod, "to_si", lambda text, q, u=None, *a: calls.append(text) or 1.0)
     frame = pd.DataFrame({"mpn": [f"P{i}" for i in range(50)], "esr": ["45 mohm"] * 50})
     parts_from_table(frame)
     assert calls == ["45 mohm"]

@@ -470,3 +470,24 @@ def test_only_if_given_names_known_columns(tmp_path):
     [p] = problems_of([path])
     assert p.where == "rule[0].applies.only_if_given[0] (rule A)"
     assert p.message.startswith("unknown column 'c_need'")
+
+
+@pytest.mark.parametrize("limit, problem", [
+    ('"5 V * 0"', "not a quantity"),  # issue 10: never evaluated as an expression
+    ('"9**9**9 V"', "not a quantity"),
+    ('"V"', "not a quantity"),
+    ('"1e400 V"', "out of range"),  # issue 10: was an infinite limit
+    ('"inf V"', "not a finite number"),
+    ('"200 kV"', "implausible voltage"),  # common practice: units.PLAUSIBLE
+    ("2e5", "implausible voltage"),
+])
+def test_limit_strings_are_strict_and_plausible(tmp_path, limit, problem):
+    [p] = problems_of([write(tmp_path, "bad", rule_toml(
+        "R", metric='"rated_voltage_v"', check='"min"', fail=limit))])
+    assert problem in p.message and "fail" in p.where
+
+
+def test_ratio_limit_1e400_percent_is_refused(tmp_path):
+    # issue 10: a rule limit "1e400 %" made the JSON report invalid.
+    [p] = problems_of([write(tmp_path, "bad", rule_toml("R", fail='"1e400 %"'))])
+    assert "out of range" in p.message

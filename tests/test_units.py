@@ -2,11 +2,15 @@
 
 from __future__ import annotations
 
+import math
+
 import pint
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from bomcheck.errors import InputError, UnitError
-from bomcheck.units import SI_UNITS, registry, to_si
+from bomcheck.units import PLAUSIBLE, SI_UNITS, registry, to_si
 
 MICRO_SIGN = "\u00b5"  # Unicode U+00B5 MICRO SIGN
 GREEK_MU = "\u03bc"  # Unicode U+03BC GREEK SMALL LETTER MU
@@ -148,3 +152,149 @@ def test_one_registry():
     # One registry for the project (pint docs, "pint in your projects").
     assert registry() is registry()
     assert isinstance(registry().Quantity("1 V"), registry().Quantity)
+
+
+# --- the strict cell grammar (issues 9 and 10): a number and one unit token, nothing evaluated ---
+
+REFUSED = [
+    ("V", "voltage", "not a quantity"),  # a unit alone is not 1 V
+    ("5 V * 0", "voltage", "not a quantity"),  # no arithmetic
+    ("9**9**9 V", "voltage", "not a quantity"),  # no arithmetic (pint would run for minutes)
+    ("20V \u00b110%", "voltage", "not a quantity"),  # a tolerance is its own column
+    ("-40..85 degC", "temperature", "not a quantity"),  # a range is two cells
+    ("inf V", "voltage", "not a finite number"),
+    ("nan", "voltage", "not a finite number"),
+    ("-Infinity", "voltage", "not a finite number"),
+    ("1e400 mV", "voltage", "out of range"),
+    ("1" * 400, "voltage", "too many digits"),
+    ("4u7", "capacitance", "not a quantity"),  # RKM is a BOM notation, not a design-sheet one
+    ("5 V 3", "voltage", "not a quantity"),
+    ("5 (V)", "voltage", "not a quantity"),
+    ("5 frobs", "voltage", "unknown unit"),
+]
+
+
+@pytest.mark.parametrize("text, quantity, problem", REFUSED, ids=[r[0][:20] for r in REFUSED])
+def test_cells_are_read_never_evaluated(text, quantity, problem):
+    # common practice: a quantity cell is data; anything but "number [unit]" is refused.
+    with pytest.raises(UnitError) as info:
+        to_si(text, quantity)
+    assert problem in info.value.problem
+    assert info.value.expected
+
+
+def test_long_expressions_are_refused_quickly():
+    # issue 10: "9**9**9 V" ran for minutes through pint; the grammar refuses it at once.
+    import time
+
+    start = time.perf_counter()
+    for n in range(200):
+        with pytest.raises(UnitError):
+            to_si("9**9**9" + " " * n + "V", "voltage")
+    assert time.perf_counter() - start < 1.0
+
+
+ACCEPTED = [
+    ("5 V", "voltage", None, 5.0),
+    ("5V", "voltage", None, 5.0),
+    ("4.7 uF", "capacitance", None, 4.7e-6),
+    ("4,7 uF", "capacitance", None, 4.7e-6),  # decimal comma
+    ("85 degC", "temperature", None, 85.0),
+    ("85 \u00b0C", "temperature", None, 85.0),
+    ("85C", "temperature", None, 85.0),  # C after a temperature is Celsius, never coulomb
+    ("60 %", "dimensionless", None, 0.6),
+    ("1e-6 F", "capacitance", None, 1e-6),
+    ("5", "voltage", "V", 5.0),
+    ("85", "temperature", "degC", 85.0),
+    ("300", "temperature", "K", 26.85),
+    ("500", "voltage", "mV", 0.5),
+    ("-12 V", "voltage", None, -12.0),
+]
+
+
+@pytest.mark.parametrize("text, quantity, unit, expected", ACCEPTED,
+                         ids=[f"{a[0]}|{a[2]}" for a in ACCEPTED])
+def test_documented_forms(ref, text, quantity, unit, expected):
+    # pint (independent registry) agrees on each unit; value from the SI definitions.
+    assert to_si(text, quantity, unit) == pytest.approx(expected)
+
+
+@pytest.mark.parametrize("text, quantity, unit, sign, problem", [
+    ("0", "temperature", "K", "any", "implausible temperature"),  # -273 degC
+    ("500 degC", "temperature", None, "any", "implausible temperature"),
+    ("-150 degC", "temperature", None, "any", "implausible temperature"),
+    ("200 kV", "voltage", None, "any", "implausible voltage"),
+    ("-200 kV", "voltage", None, "any", "implausible voltage"),
+    ("20 kF", "capacitance", None, "positive", "implausible capacitance"),
+    ("-5 V", "voltage", None, "nonneg", "negative voltage"),
+    ("0 ohm", "resistance", None, "positive", "zero resistance"),
+    ("2000 %", "dimensionless", None, "any", "implausible dimensionless"),
+], ids=["0K", "500C", "-150C", "200kV", "-200kV", "20kF", "negative", "zero-ohm", "2000pct"])
+def test_implausible_values_are_refused(text, quantity, unit, sign, problem):
+    # common practice: the ranges of units.PLAUSIBLE (stated with their reasons there).
+    with pytest.raises(UnitError) as info:
+        to_si(text, quantity, unit, sign)
+    assert problem in info.value.problem
+    assert info.value.expected
+
+
+def test_negative_allowed_where_the_sign_means_something():
+    # A negative rail keeps its sign (the stress stage uses its magnitude).
+    assert to_si("-48 V", "voltage", None, "any") == -48.0
+    assert to_si("-40 degC", "temperature", None, "nonneg") == -40.0  # a point on a scale
+
+
+def test_each_unit_token_converted_once(monkeypatch):
+    # Fast path: a second string with the same unit token does not call pint again.
+    from bomcheck import units
+
+    units.unit_factor.cache_clear()
+    to_si("3 years", "time")
+    info = units.unit_factor.cache_info()
+    to_si("4 years", "time")
+    assert units.unit_factor.cache_info().hits == info.hits + 1
+
+
+# --- fuzz (issue 10): any text is a plausible finite value or a UnitError, quickly --------------
+
+_PIECES = st.sampled_from(["5", "-", "+", ".", ",", "e", "E", "400", "9" * 40, "**", "*", " ",
+                           "V", "mV", "kV", "F", "uF", "\u00b5", "degC", "\u00b0C", "C", "K",
+                           "%", "\u00b1", "..", "/", "ms", "inf", "nan", "years", "(", ")", "x"])
+_TEXT = st.one_of(st.text(max_size=30), st.lists(_PIECES, max_size=8).map("".join))
+
+
+@settings(max_examples=400, deadline=None)  # pint may load on first use
+@given(text=_TEXT, quantity=st.sampled_from(["voltage", "capacitance", "temperature",
+                                             "temperature_delta", "dimensionless", "time"]),
+       sign=st.sampled_from(["any", "nonneg", "positive"]))
+def test_any_text_is_a_plausible_value_or_a_unit_error(text, quantity, sign):
+    # common practice: no traceback, no absurd number, whatever the cell holds.
+    try:
+        value = to_si(text, quantity, None, sign)
+    except UnitError as exc:
+        assert exc.problem and exc.expected
+        return
+    p = PLAUSIBLE[quantity]
+    assert math.isfinite(value)
+    if p.low is not None:
+        assert p.low <= value <= p.high
+    else:
+        assert abs(value) <= p.high and (sign == "any" or value >= 0)
+
+
+@pytest.mark.parametrize("text, quantity", [
+    ("10 years", "time"), ("3 yr", "time"), ("2 days", "time"), ("50000 hours", "time"),
+    ("12 V/ms", "slew"), ("12 V / ms", "slew"), ("3 kV/us", "slew"),
+    ("40 degC/W", "thermal_resistance"), ("40 K/W", "thermal_resistance"),
+    ("45 uC", "charge"), ("2 mC", "charge"),
+    ("0.1 ohm/V", "resistance_per_volt"), ("3 kohm/V", "resistance_per_volt"),
+])
+def test_table_units_agree_with_pint(ref, text, quantity):
+    # The units read without pint (faster start) give pint's own conversion.
+    from bomcheck import units
+
+    number, unit = text.split(" ", 1)
+    token = unit.replace(" ", "")
+    pint_unit = {"degC/W": "delta_degC/W", "yr": "year"}.get(token, token)
+    assert units._table_factor(token, quantity) is not None  # served by the table
+    assert to_si(text, quantity) == pytest.approx(_pint(ref, float(number), pint_unit, quantity))
