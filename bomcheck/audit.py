@@ -35,6 +35,7 @@ class AuditOptions:
     today: date | None = None  # the day waiver expiry is judged on (default: the clock's)
     parts: str | None = None  # parts file keyed by MPN (CSV, XLSX or TOML), see bomcheck.parts
     environment: str = "severe"  # rules.ENVIRONMENTS: which column of environment limits fails
+    parts_override: bool = False  # parts data replace the BOM text (else the conservative wins)
 
 
 def stress_data(ruleset):
@@ -205,7 +206,8 @@ def run_audit(bom_path: str, design_path: str | None, options: AuditOptions = Au
     )
     from bomcheck import circuit, parts as parts_mod  # circuit-level stresses and parts data
 
-    part_data = parts_mod.read_parts(options.parts) if options.parts else None
+    part_data = (parts_mod.read_parts(options.parts, override=options.parts_override)
+                 if options.parts else None)
     if part_data is not None:
         inputs.append({"role": "parts", "path": str(options.parts), "sha256": part_data.sha256})
     done = evaluate_table(table, ruleset, parts=part_data,
@@ -232,6 +234,9 @@ def run_audit(bom_path: str, design_path: str | None, options: AuditOptions = Au
         cautions=CAUTIONS + circuit.safety_cautions(verdicts, ruleset),
         groups=done.groups,
         environment=ruleset.environment,
+        input_warnings=tuple(sorted(
+            (*(design.warnings if design_path is not None else ()),
+             *(part_data.warnings if part_data is not None else ())))),
     )
     if options.waivers:
         from bomcheck.waivers import apply_waivers, load_waivers

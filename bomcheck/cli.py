@@ -131,6 +131,9 @@ def _add_audit_inputs(p: argparse.ArgumentParser) -> None:
     p.add_argument("--rules", action="append", default=[], metavar="NAME_OR_PATH",
                    help="rule set by shipped name or TOML path (repeatable; later ones override "
                    "rules of the same id). Default: the shipped default set")
+    p.add_argument("--parts-override", action="store_true",
+                   help="let the parts data replace what the BOM text says (default: where they "
+                   "disagree, the conservative value is used and the conflict reported)")
     p.add_argument("--environment", choices=("severe", "benign"), default=None,
                    help="which environment's limits apply where a rule gives both (default: "
                    "severe, the stricter); named in every report")

@@ -119,7 +119,8 @@ def run_audit(args: argparse.Namespace) -> int:
     options = AuditOptions(rules=tuple(args.rules), import_options=_import_options(args),
                            design_sheet=args.design_sheet, waivers=args.waivers,
                            today=args.today, parts=getattr(args, "parts", None),
-                           environment=args.environment)
+                           environment=args.environment,
+                           parts_override=getattr(args, "parts_override", False))
     diff = json_text = None
     with _progress(args, 1 + len(outputs)) as stage:
         stage("audit: read, parse, evaluate")
@@ -356,7 +357,8 @@ def run_substitute(args: argparse.Namespace) -> int:
         rules=tuple(args.rules), import_options=_import_options(args),
         design_sheet=args.design_sheet, parts=args.parts, margin_drop_pp=args.margin_drop,
         temp_margin_drop_c=args.temp_margin_drop,
-        environment=getattr(args, "environment", None) or "severe")
+        environment=getattr(args, "environment", None) or "severe",
+        parts_override=getattr(args, "parts_override", False))
     if args.bom is None:
         from bomcheck.refdes import expand
 

@@ -199,7 +199,10 @@ def print_audit(console: Console, report, *, show_all: bool = False) -> None:
         console.print("Not audited: " + ", ".join(f"{k.replace('_', ' ')} {n}" for k, n in kinds.items())
                       + " (each with its reason in the JSON report; bomcheck import lists them)")
     console.print(accounting_line(t))
-    console.print("Rule sets: " + ", ".join(f"{r['name']} {r['version']}" for r in report.rulesets))
+    for w in report.input_warnings:
+        console.print(Text.assemble(("warning ", "status.warn"), str(w)))
+    console.print("Rule sets: " + ", ".join(f"{r['name']} {r['version']}" for r in report.rulesets)
+                  + f"; environment: {report.environment}")
     for c in report.cautions:
         console.print(f"[caution]Caution: {c}[/]")
     console.print(Text.assemble("Overall: ", status_text(report.status)))

@@ -86,6 +86,9 @@ class Report:
     waiver_findings: tuple = ()  # bomcheck.waivers.WaiverFinding: applied, expired, unused...
     groups: tuple[dict, ...] = ()  # banks and series stacks with their totals (bomcheck.circuit)
     environment: str = "severe"  # the audit environment the limits were taken for
+    # Doubts about the input files that are no verdict (design sheet, parts data, reader):
+    # objects with ``to_dict()`` and ``str()``; every output lists them.
+    input_warnings: tuple = ()
 
     @property
     def status(self) -> str:
@@ -149,6 +152,7 @@ class Report:
             "not_audited": self.not_audited(),
             "design_unmatched": list(self.design_unmatched),
             "import_findings": [f.to_dict() for f in self.import_findings],
+            "input_warnings": [w.to_dict() for w in self.input_warnings],
             "waivers": [f.to_dict() for f in self.waiver_findings],
             "groups": list(self.groups),
         }

@@ -76,6 +76,7 @@ class SubstituteOptions:
     margin_drop_pp: float = DEFAULT_MARGIN_DROP_PP
     temp_margin_drop_c: float = DEFAULT_TEMP_MARGIN_DROP_C
     environment: str = "severe"  # as for the audit (rules.ENVIRONMENTS)
+    parts_override: bool = False  # as for the audit
 
 
 @dataclass(frozen=True)
@@ -1395,7 +1396,8 @@ def _inputs_and_stages(design_path: str | None, options: SubstituteOptions
     if design_path is not None:
         design = design_mod.read_design(design_path, sheet=options.design_sheet)
         inputs.append({"role": "design", "path": str(design_path), "sha256": design.sha256})
-    part_data = parts_mod.read_parts(options.parts) if options.parts else None
+    part_data = (parts_mod.read_parts(options.parts, override=options.parts_override)
+                 if options.parts else None)
     if part_data is not None:
         inputs.append({"role": "parts", "path": str(options.parts), "sha256": part_data.sha256})
     stages = Stages.for_ruleset(ruleset, parts=part_data,
