@@ -211,7 +211,7 @@ class CircuitOptions:
 JSON_FIELDS: tuple[str, ...] = (
     "energy_j", "shock_energy_j", "discharge_s", "discharge_ratio", "t_to_60v_s",
     "v_after_1s_v", "charge_after_5s_uc", "r_discharge_ohm", "surge_a", "surge_ratio",
-    "series_r_ohm", "series_r_ohm_per_v", "ripple_power_w", "ripple_rise_c", "ripple_allowed_a",
+    "series_r_ohm", "ripple_power_w", "ripple_rise_c", "ripple_allowed_a",
     "ripple_ratio", "life_est_h", "life_ratio", "v_share_cap_v", "v_share_dc_v",
     "bank_c_min_f", "bank_c_worst_f", "bank_c_margin", "dc_bias_keep", "esr_ohm",
     "ripple_rated_a", "ripple_rated_hz", "surge_rated_a", "life_l0_h", "life_t0_c", "leakage_a",
@@ -224,7 +224,7 @@ _NEW_COLUMNS = (
     "c_max_f", "v_stored_v", "energy_j", "node_v", "node_c_f", "node_energy_j", "shock_energy_j",
     "r_discharge_ohm", "v_safe_used_v", "discharge_s", "discharge_ratio", "t_to_60v_s",
     "v_after_1s_v", "charge_after_5s_uc", "surge_a", "surge_ratio", "series_r_ohm",
-    "series_r_ohm_per_v", "ripple_power_w", "ripple_rise_c", "ripple_allowed_a", "ripple_ratio",
+    "ripple_power_w", "ripple_rise_c", "ripple_allowed_a", "ripple_ratio",
     "life_est_h", "life_ratio", "v_share_cap_v", "v_share_dc_v", "bank_c_min_f",
     "bank_c_worst_f", "bank_c_margin", "bank_c_margin_best", "bank_c_margin_worst",
     "t_operating_c_best", "temp_margin_c_best", "life_ratio_best",
@@ -511,8 +511,7 @@ def apply(table: pd.DataFrame, data: Any, ruleset: Any = None, *,
     surge = np.where(np.isnan(node_v_group), surge, surge_group)
     series_r = np.where(np.isnan(node_v_group), _col(t, "r_source_ohm"), r_source_group)
     m.update({"surge_a": surge, "surge_ratio": surge / _col(t, "surge_rated_a").to_numpy(),
-              "series_r_ohm": series_r,
-              "series_r_ohm_per_v": series_r / _col(out, "applied_peak_v").to_numpy()})
+              "series_r_ohm": series_r})
 
     # Ripple and life.
     alu = (out["technology"].isin(ALUMINIUM).to_numpy() if "technology" in out

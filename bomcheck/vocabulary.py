@@ -52,7 +52,7 @@ METRICS: dict[str, Metric] = {
         Metric("applied_peak_v", "voltage", "V", "applied peak voltage: upper bound of DC + ripple "
                "peak, or the transient peak where larger", ("v_dc",), explain="applied peak ", feeds=("voltage_ratio", "transient_ratio")),
         Metric("rated_voltage_v", "voltage", "V", "rated voltage of the part", ("voltage_v",),
-               explain="rated ", family="voltage"),
+               explain="rated ", feeds=("voltage_ratio", "transient_ratio", "reverse_ratio")),
         Metric("t_operating_c", "temperature", "degC", "operating temperature: ambient + rise",
                ("t_ambient_c",), explain="operating ", family="temperature"),
         Metric("temp_margin_c", "temperature_delta", "degC", "rated maximum temperature - "
@@ -192,9 +192,6 @@ METRICS.update({
                "{surge_a:A} surge / {surge_rated_a:A} rated = ", family="surge"),
         Metric("series_r_ohm", "resistance", "ohm", "effective series circuit resistance "
                "feeding the part", ("r_source_ohm",), explain="series resistance ", family="surge"),
-        Metric("series_r_ohm_per_v", "resistance_per_volt", "ohm/V", "series circuit "
-               "resistance per volt applied", ("r_source_ohm", "applied_peak_v"),
-               explain="{series_r_ohm:ohm} / {applied_peak_v:V} = ", family="surge"),
         Metric("ripple_power_w", "power", "W", "ripple dissipation I^2 x ESR",
                ("i_ripple_a", "esr_ohm"), explain="ripple dissipation ", feeds=("ripple_rise_c",)),
         Metric("ripple_rise_c", "temperature_delta", "degC", "temperature rise from ripple "
