@@ -1,0 +1,133 @@
+"""No wrong pass: small invented boards, one per class of mistake, through the command line.
+
+Each board is a BOM and a design sheet written by the test; the expected verdict names its source
+(a standard's clause, or common practice)."""
+
+from __future__ import annotations
+
+import json
+
+import pytest
+
+from bomcheck.cli import main
+
+HEADER = "Designator,Qty,Description,Manufacturer Part Number\n"
+
+
+@pytest.fixture
+def run(tmp_path, monkeypatch, capsys):
+    monkeypatch.chdir(tmp_path)
+
+    def audit(bom_lines: str, design: str | None, *argv: str) -> tuple[int, dict]:
+        (tmp_path / "bom.csv").write_text(HEADER + bom_lines, encoding="utf-8")
+        args = ["audit", "bom.csv", "--json", "out.json", "--no-config", *argv]
+        if design is not None:
+            (tmp_path / "design.csv").write_text(design, encoding="utf-8")
+            args[2:2] = ["--design", "design.csv"]
+        code = main(args)
+        capsys.readouterr()
+        report = json.loads((tmp_path / "out.json").read_text(encoding="utf-8"))
+        return code, report
+
+    return audit
+
+
+def verdicts(report: dict, refdes: str) -> dict[str, dict]:
+    (p,) = [p for p in report["placements"] if p["refdes"] == refdes]
+    return {c["rule"]: c for c in p.get("findings", []) + p.get("checks", [])}, p["status"]
+
+
+def test_negative_rail_on_a_polarized_part_is_a_reverse_voltage(run):
+    # v_dc is the voltage across the part, + terminal to -: negative on an electrolytic is
+    # reverse bias (System Reliability Center sheet; makers' practice: no repeated reverse).
+    code, report = run("C1,1,CAP ALU 100UF 25V 20% 105C,AE-100-25\n",
+                       "refdes,v_dc [V],t_ambient_c [degC],c_min_f,v_reverse_pk [V]\n"
+                       "C1,-12,40,none,0\n")
+    got, status = verdicts(report, "C1")
+    assert got["IND-POL-REV"]["status"] == "fail" and status == "fail" and code == 1
+
+
+def test_transient_above_the_rating_fails(run):
+    # common practice: a transient above the rated voltage is outside the rating
+    code, report = run("C1,1,CAP CER 0.1UF 50V 10% X7R 0603,KC-104-50\n",
+                       "refdes,v_dc [V],v_transient_pk [V],t_ambient_c [degC],c_min_f\n"
+                       "C1,5,60,40,none\n")
+    got, status = verdicts(report, "C1")
+    assert got["IND-TRANSIENT"]["status"] == "fail" and status == "fail" and code == 1
+
+
+def test_ac_on_a_dc_rated_part_adds_its_peak(run):
+    # NASA EEE-INST-002 Section C1 Table 4 note 1: DC plus peak AC. 40 V + sqrt(2) x 30 V =
+    # 82.4 V on 100 V: 82 % against the film limit of 60 % (severe environment).
+    code, report = run("C1,1,CAP FILM 1UF 100V 10% PET 85C,KF-105-100\n",
+                       "refdes,v_dc [V],v_ac_rms [V],t_ambient_c [degC],c_min_f\n"
+                       "C1,40,30,40,none\n")
+    got, _ = verdicts(report, "C1")
+    v = got["IND-FLM-V"]
+    assert v["status"] == "fail" and v["value"] == pytest.approx((40 + 2 ** 0.5 * 30) / 100)
+
+
+def test_dc_rated_part_on_an_ac_node_is_judged_on_the_ac_peak(run):
+    # No DC given: the AC peak alone, sqrt(2) x 25 V = 35.4 V on 50 V = 71 % > 60 %: a firm fail,
+    # not "missing v_dc".
+    code, report = run("C1,1,CAP CER 0.1UF 50V 10% X7R 0603,KC-104-50\n",
+                       "refdes,v_ac_rms [V],t_ambient_c [degC],c_min_f\n"
+                       "C1,25,40,none\n")
+    got, status = verdicts(report, "C1")
+    assert got["IND-CER-V"]["status"] == "fail" and got["IND-CER-V"]["basis"] == "firm"
+
+
+def test_unknown_technology_is_no_data_not_a_pass(run):
+    # 33 V on a 35 V part of unknown technology: within the rating (backstop) but no derating
+    # rule applies, so the voltage family has no verdict.
+    code, report = run("C1,1,470uF 35V 105C,XX-470-35\n",
+                       "refdes,v_dc [V],t_ambient_c [degC],c_min_f\n"
+                       "C1,33,40,none\n")
+    got, status = verdicts(report, "C1")
+    assert status == "nodata" and "rules.no-voltage-rule" in got and code == 1
+
+
+def test_ripple_heating_with_no_esr_on_a_part_already_too_hot_is_a_firm_failure(run):
+    # Ripple heating is never negative: 110 degC ambient on a 105 degC part fails whatever the
+    # ESR (common practice: never above the rated maximum temperature).
+    code, report = run("C1,1,CAP ALU 100UF 25V 20% 105C,AE-100-25\n",
+                       "refdes,v_dc [V],t_ambient_c [degC],c_min_f,v_reverse_pk [V],i_ripple_a [A]\n"
+                       "C1,12,110,none,0,0.5\n")
+    got, status = verdicts(report, "C1")
+    assert got["IND-TMAX"]["status"] == "fail" and got["IND-TMAX"]["basis"] in ("firm", "bound")
+    assert status == "fail"
+
+
+def test_colder_than_the_rated_minimum_fails(run):
+    # EIA-198: Y5V is rated -30..+85 degC; a -40 degC cold start is outside it (common practice).
+    code, report = run("C1,1,CAP CER 1UF 16V 20% Y5V 0603,KC-105-16\n",
+                       "refdes,v_dc [V],t_ambient_c [degC],t_ambient_min_c [degC],c_min_f\n"
+                       "C1,3.3,40,-40,none\n")
+    got, status = verdicts(report, "C1")
+    assert got["IND-TMIN"]["status"] == "fail" and status == "fail"
+
+
+def test_no_design_sheet_fails_the_default_gate(run):
+    code, report = run("C1,1,CAP CER 0.1UF 50V 10% X7R 0603,KC-104-50\n", None)
+    assert report["status"] == "nodata" and code == 1
+
+
+@pytest.mark.parametrize("environment, status", [("severe", "fail"), ("benign", "warn")])
+def test_environment_is_explicit_and_severe_by_default(run, environment, status):
+    # System Reliability Center sheet, ceramic: 60 % severe, 70 % benign; 32.5 V on 50 V = 65 %.
+    argv = () if environment == "severe" else ("--environment", "benign")
+    code, report = run("C1,1,CAP CER 0.1UF 50V 10% X7R 0603,KC-104-50\n",
+                       "refdes,v_dc [V],t_ambient_c [degC],c_min_f\nC1,32.5,40,none\n", *argv)
+    got, _ = verdicts(report, "C1")
+    assert got["IND-CER-V"]["status"] == status and report["environment"] == environment
+
+
+def test_a_failing_value_never_prints_as_equal_to_its_limit(run):
+    # 35.002 V on 50 V = 70.004 % against the benign 70 % limit: the message must show it.
+    code, report = run("C1,1,CAP CER 0.1UF 50V 10% X7R 0603,KC-104-50\n",
+                       "refdes,v_dc [V],t_ambient_c [degC],c_min_f\nC1,35.002,40,none\n",
+                       "--environment", "benign")
+    got, _ = verdicts(report, "C1")
+    v = got["IND-CER-V"]
+    assert v["status"] == "fail"
+    assert "70.004 % > 70 % limit" in v["message"] or "70.004 % > 70.000 % limit" in v["message"]
