@@ -320,6 +320,7 @@ def apply(table: pd.DataFrame, data: Any, ruleset: Any = None, *,
     share_cap = np.full(n, np.nan)
     share_dc = np.full(n, np.nan)
     share_generic = np.zeros(n, dtype=bool)
+    share_best = np.full(n, np.nan)  # a member's share with the unknowns at their kindest
     node_v_group = np.full(n, np.nan)
     node_c_group = np.full(n, np.nan)
     r_dis_group = np.full(n, np.nan)
@@ -355,6 +356,13 @@ def apply(table: pd.DataFrame, data: Any, ruleset: Any = None, *,
                                     np.nan_to_num(leak, nan=0.0))
               if has_r else np.full(len(p), np.nan))
         share_cap[p], share_dc[p] = cap, dc
+        # Kindest bounds of the unknowns: an assumed capacitor tolerance at none (the nominal
+        # split), an unknown resistor tolerance at none, an unknown leakage at none.
+        cap_best = np.where(tol_assumed.to_numpy()[p], upper * series_share(1.0, c), cap)
+        dc_best = (series_share_worst_dc(upper, r, np.nan_to_num(r_tol, nan=0.0),
+                                         np.nan_to_num(leak, nan=0.0))
+                   if has_r else np.full(len(p), np.nan))
+        share_best[p] = np.fmax(cap_best, dc_best) + ripple * series_share(1.0, c)
         changed[p] = True
         # A share is generic only where the governing one rests on an assumption: an assumed
         # capacitor tolerance for the capacitive share; an assumed resistor tolerance or an
@@ -436,6 +444,8 @@ def apply(table: pd.DataFrame, data: Any, ruleset: Any = None, *,
         out["temp_margin_c_basis"] = np.where(generic_t, "generic",
                                               _text(out, "temp_margin_c_basis"))
     out["voltage_ratio_basis"] = np.where(share_generic, "generic", "")
+    out["voltage_ratio_best"] = np.where(share_generic, share_best / _col(out, "voltage_v"),
+                                         np.nan)
 
     tmult = parts_mod.curve_values(t, parts, "ripple_temp_mult", _col(out, "t_ambient_c"))
     fmult = parts_mod.curve_values(t, parts, "ripple_freq_mult", _col(t, "f_ripple_hz"),

@@ -131,3 +131,23 @@ def test_a_failing_value_never_prints_as_equal_to_its_limit(run):
     v = got["IND-CER-V"]
     assert v["status"] == "fail"
     assert "70.004 % > 70 % limit" in v["message"] or "70.004 % > 70.000 % limit" in v["message"]
+
+
+def test_series_stack_share_with_unknown_leakage_fails_firmly(run, tmp_path):
+    # Series sharing, DC steady state (textbook divider V1 = V R1 / (R1 + R2)): two 100 kohm
+    # +/-5 % balancing resistors on 400 V give at worst 400 x 1.05 / 2 = 210 V on one member,
+    # leakage taken at none (its kindest value); the capacitive share at +/-1 % is 202 V, so the
+    # DC share governs. 210 V on 250 V = 84 % > 70 % (severe, aluminium electrolytic): a failure
+    # whatever the leakage, so decided at the bound, not capped as "generic".
+    bom = ("C1,1,CAP ALU 100UF 250V 1% 105C,AE-101-250\n"
+           "C2,1,CAP ALU 100UF 250V 1% 105C,AE-101-250\n")
+    design = ("refdes,group,kind,v_dc [V],t_ambient_c [degC],c_min_f,v_reverse_pk [V],"
+              "r_balance_ohm [ohm],r_balance_tol_pct [%],r_bleeder_ohm [ohm]\n"
+              "LINK,LINK,series,400,40,none,0,100000,5,\n"
+              "C1,LINK,,,40,none,0,,,\n"
+              "C2,LINK,,,40,none,0,,,\n")
+    code, report = run(bom, design)
+    got, status = verdicts(report, "C1")
+    v = got["IND-ALE-V"]
+    assert v["status"] == "fail" and v["basis"] == "bound"
+    assert v["value"] == pytest.approx(210 / 250, rel=1e-3)
