@@ -178,20 +178,40 @@ def evaluate_table(table: pd.DataFrame, ruleset, *, parts=None, groups=None,
 def run_audit(bom_path: str, design_path: str | None, options: AuditOptions = AuditOptions()) -> Report:
     """Audit every fitted capacitor placement of ``bom_path`` under the design sheet's conditions."""
     from bomcheck import design as design_mod
-    from bomcheck import importer, rules
+    from bomcheck import importer
+    from bomcheck import parts as parts_mod
+
+    imported = importer.read_bom(bom_path, options.import_options or importer.ImportOptions())
+    design = (design_mod.read_design(design_path, sheet=options.design_sheet)
+              if design_path is not None else None)
+    part_data = (parts_mod.read_parts(options.parts, override=options.parts_override)
+                 if options.parts else None)
+    report = audit_inputs(imported, design, part_data, options)
+    if options.waivers:
+        from bomcheck.waivers import apply_waivers, load_waivers
+
+        report = apply_waivers(report, load_waivers(options.waivers), options.today or date.today())
+    return report
+
+
+def audit_inputs(imported, design=None, part_data=None,
+                 options: AuditOptions = AuditOptions()) -> Report:
+    """The audit of inputs already read: an ``importer.ImportResult``, a ``design.Design`` (or
+    None: no operating conditions, every placement "nodata") and a ``parts.PartsData`` (or None).
+    Pure: reads no file (the rule sets are loaded by name or path from ``options``)."""
+    from bomcheck import circuit, rules
 
     ruleset = rules.load_rules(options.rules or (rules.DEFAULT_RULESET,)).for_environment(
         options.environment)
-    imported = importer.read_bom(bom_path, options.import_options or importer.ImportOptions())
     placements = imported.placements
     fitted = placements[placements["fitted"]].reset_index(drop=True)
     not_fitted = placements[~placements["fitted"]].reset_index(drop=True)
 
-    inputs = [{"role": "bom", "path": str(bom_path), "sha256": imported.source.sha256}]
+    inputs = [{"role": "bom", "path": str(imported.source.path),
+               "sha256": imported.source.sha256}]
     design_unmatched: list[dict] = []
-    if design_path is not None:
-        design = design_mod.read_design(design_path, sheet=options.design_sheet)
-        inputs.append({"role": "design", "path": str(design_path), "sha256": design.sha256})
+    if design is not None:
+        inputs.append({"role": "design", "path": str(design.path), "sha256": design.sha256})
         conditions = design.for_placements(fitted["refdes"])
         for refdes, row in design.unmatched(set(placements["refdes"])):
             design_unmatched.append({
@@ -204,14 +224,10 @@ def run_audit(bom_path: str, design_path: str | None, options: AuditOptions = Au
     table = pd.concat(
         [fitted, conditions.drop(columns=[c for c in conditions if c in fitted])], axis=1
     )
-    from bomcheck import circuit, parts as parts_mod  # circuit-level stresses and parts data
-
-    part_data = (parts_mod.read_parts(options.parts, override=options.parts_override)
-                 if options.parts else None)
     if part_data is not None:
-        inputs.append({"role": "parts", "path": str(options.parts), "sha256": part_data.sha256})
+        inputs.append({"role": "parts", "path": str(part_data.path), "sha256": part_data.sha256})
     done = evaluate_table(table, ruleset, parts=part_data,
-                          groups=design.groups if design_path is not None else None,
+                          groups=design.groups if design is not None else None,
                           import_findings=imported.findings)
     table, verdicts = done.table, done.verdicts
 
@@ -219,7 +235,7 @@ def run_audit(bom_path: str, design_path: str | None, options: AuditOptions = Au
     totals = dict(imported.totals)
     totals.update({"audited": int(len(table)), "design_unmatched": len(design_unmatched)})
     totals.update({s: int(counts.get(s, 0)) for s in STATUS_ORDER})
-    report = Report(
+    return Report(
         tool_version=__version__,
         rulesets=ruleset_summary(ruleset),
         inputs=tuple(inputs),
@@ -235,11 +251,6 @@ def run_audit(bom_path: str, design_path: str | None, options: AuditOptions = Au
         groups=done.groups,
         environment=ruleset.environment,
         input_warnings=tuple(sorted(
-            (*(design.warnings if design_path is not None else ()),
+            (*(design.warnings if design is not None else ()),
              *(part_data.warnings if part_data is not None else ())))),
     )
-    if options.waivers:
-        from bomcheck.waivers import apply_waivers, load_waivers
-
-        report = apply_waivers(report, load_waivers(options.waivers), options.today or date.today())
-    return report
