@@ -322,7 +322,7 @@ def apply(table: pd.DataFrame, data: Any, ruleset: Any = None, *,
     t = table.copy(deep=False)  # every column changed below is replaced, never written in place
     extra: list[pd.DataFrame] = []
     changed = np.zeros(len(t), dtype=bool)  # placements whose stress inputs the stage changes
-    if parts is not None:
+    if parts is not None and len(parts.values):  # a parts file of a header only gives nothing
         t, conflicts = parts_mod.apply_parts(t, parts)
         extra.append(conflicts)
         changed |= t["part_row"].notna().to_numpy()
