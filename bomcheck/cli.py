@@ -37,13 +37,13 @@ def _add_limit_options(p: argparse.ArgumentParser) -> None:
     g.add_argument("--max-file-mb", type=_positive_int, metavar="MB", help="largest input "
                    "file, in MiB (default: 256)")
     g.add_argument("--max-rows", type=_positive_int, metavar="N", help="most rows of a table "
-                   "(default: 1,000,000)")
+                   "(default: 200,000)")
     g.add_argument("--max-columns", type=_positive_int, metavar="N", help="most columns of a "
                    "table (default: 1,024)")
     g.add_argument("--max-cells", type=_positive_int, metavar="N", help="most cells (rows x "
                    "columns) of a table (default: 5,000,000)")
     g.add_argument("--max-placements", type=_positive_int, metavar="N", help="most placements "
-                   "of a BOM after expanding designator ranges (default: 250,000)")
+                   "of a BOM after expanding designator ranges (default: 50,000)")
 
 
 def _add_import_options(p: argparse.ArgumentParser) -> None:

@@ -37,6 +37,7 @@ class Case:
     expect: tuple[int, ...]
     names: str
     commands: tuple[str, ...] = ("import", "audit")
+    big: bool = False  # a file near a default limit: for memory figures, not for the tests
 
 
 # --------------------------------------------------------------------------------------------
@@ -98,10 +99,13 @@ def xlsx_bytes(sheets: list[tuple[str, str, str]], *, styles: str | None = None,
             f'openxmlformats.org/package/2006/relationships">{rels}</Relationships>'),
         "xl/styles.xml": styles or (
             '<?xml version="1.0" encoding="UTF-8"?><styleSheet xmlns="http://schemas.'
-            'openxmlformats.org/spreadsheetml/2006/main"><fonts count="1"><font/></fonts>'
-            '<fills count="1"><fill/></fills><borders count="1"><border/></borders>'
-            '<cellStyleXfs count="1"><xf/></cellStyleXfs><cellXfs count="2"><xf numFmtId="0"/>'
-            '<xf numFmtId="9" applyNumberFormat="1"/></cellXfs></styleSheet>'),
+            'openxmlformats.org/spreadsheetml/2006/main"><fonts count="1"><font><sz val="11"/>'
+            '</font></fonts><fills count="1"><fill><patternFill patternType="none"/></fill>'
+            '</fills><borders count="1"><border><left/><right/><top/><bottom/><diagonal/>'
+            '</border></borders><cellStyleXfs count="1"><xf numFmtId="0" fontId="0" fillId="0" '
+            'borderId="0"/></cellStyleXfs><cellXfs count="2"><xf numFmtId="0" fontId="0" '
+            'fillId="0" borderId="0" xfId="0"/><xf numFmtId="9" fontId="0" fillId="0" '
+            'borderId="0" xfId="0" applyNumberFormat="1"/></cellXfs></styleSheet>'),
     }
     for i, (_, xml, _) in enumerate(sheets, start=1):
         parts[f"xl/worksheets/sheet{i}.xml"] = xml
@@ -249,7 +253,7 @@ def cases() -> list[Case]:
         Case("ranges-2m-placements", _bom("b.csv", _ranges(200)), REFUSED, "b.csv"),
         Case("cell-expands-too-far", _bom("b.csv", header + '"C1-C9999, D1-D9999",1,1uF,x\n'),
              OK, "b.csv"),
-        Case("columns-5000", _bom("b.csv", "Designator," + ",".join(f"h{i}" for i in range(5000))
+        Case("columns-5000", _bom("b.csv", "Designator,Value," + ",".join(f"h{i}" for i in range(5000))
                                   + "\nC1,1\n"), REFUSED, "b.csv"),
         Case("wide-data-row", _bom("b.csv", header + "C1,1,1uF" + "," * 20_000 + "\n"),
              REFUSED, "b.csv"),
@@ -342,6 +346,30 @@ def cases() -> list[Case]:
     else:
         c.append(Case("fifo", _fifo, REFUSED, "pipe.csv"))
     return c
+
+
+def _lines(n: int) -> str:
+    return "Designator,Qty,Value\n" + "".join(f"C{i},1,100nF 50V X7R 0603\n"
+                                               for i in range(1, n + 1))
+
+
+def big_cases() -> list[Case]:
+    """Files at or just past the default limits, to measure peak memory where it is largest."""
+    area = sheet_xml(BOM_ROWS, extra='<row r="4900"><c r="ALL4900"><v>1</v></c></row>')
+    return [
+        Case("big-csv-999k-lines", _bom("b.csv", _lines(999_000)), REFUSED, "b.csv", big=True),
+        Case("big-csv-49k-placements", _bom("b.csv", "Designator,Value\n" + "".join(
+            f'"C{i * 1000 + 1}-C{i * 1000 + 1000}",100nF 50V X7R 0603\n' for i in range(49))),
+             OK, "b.csv", big=True),
+        Case("big-csv-50k-lines", _bom("b.csv", _lines(50_000)), OK, "b.csv", big=True),
+        Case("big-csv-199k-unreadable", _bom("b.csv", "Designator,Value\n" + "x,y\n" * 199_000),
+             OK + REFUSED, "b.csv", big=True),
+        Case("big-xlsx-area-4.9m", _bom("b.xlsx", xlsx_bytes([("BOM", area, "visible")])), OK,
+             "b.xlsx", big=True),
+        Case("big-csv-field-1m", _bom("b.csv", "Designator,Value,Notes\n" + "".join(
+            f"C{i},1uF 25V X5R,{'n' * 1_000_000}\n" for i in range(1, 101))), OK, "b.csv",
+             big=True),
+    ]
 
 
 def is_special(path: str) -> bool:

@@ -470,3 +470,26 @@ def test_only_if_given_names_known_columns(tmp_path):
     [p] = problems_of([path])
     assert p.where == "rule[0].applies.only_if_given[0] (rule A)"
     assert p.message.startswith("unknown column 'c_need'")
+
+
+def test_extends_chain_is_capped_without_recursion_error(tmp_path):
+    # 1,500 files each extending the next once raised RecursionError (issue 10).
+    n = 1500
+    for i in range(n):
+        write(tmp_path, f"r{i}", rule_toml(f"R{i}"),
+              extends=f"r{i + 1}.toml" if i + 1 < n else "industrial")
+    problems = problems_of([str(tmp_path / "r0.toml")])
+    assert len(problems) == 1 and problems[0].where == "ruleset.extends"
+    assert "longer than 32 files" in problems[0].message
+    # A chain within the cap loads.
+    for i in range(5):
+        write(tmp_path, f"s{i}", rule_toml(f"S{i}"),
+              extends=f"s{i + 1}.toml" if i + 1 < 5 else "industrial")
+    assert "S0" in {r.id for r in load_rules([str(tmp_path / "s0.toml")]).rules}
+
+
+def test_rule_file_nested_thousands_deep_is_one_problem(tmp_path):
+    path = tmp_path / "deep.toml"
+    path.write_text("a = " + "[" * 5000 + "]" * 5000 + "\n", encoding="utf-8")
+    [p] = problems_of([str(path)])
+    assert p.path == str(path) and "nested more than 32 levels" in p.message
