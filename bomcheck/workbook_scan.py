@@ -246,17 +246,23 @@ def _scan_sheet(zf: zipfile.ZipFile, member: str, name: str, state: str, percent
 
 
 def scan_workbook(zf: zipfile.ZipFile, path: str, lim: Limits) -> WorkbookScan:
-    """Check the zip and every worksheet against ``lim``; raises ``InputError`` on a refusal."""
+    """Check the zip and every worksheet against ``lim``; raises ``InputError`` on a refusal.
+
+    A worksheet part that no sheet entry leads to (an odd relationship path, a damaged workbook
+    part) is still held to the limits: the library may find it where this scan did not."""
     check_zip(zf, path, lim)
     parts = _sheet_parts(zf)
-    if parts is None:
-        return WorkbookScan(scanned=False)
     names = set(zf.namelist())
     percent = _percent_styles(zf)
     sheets = []
-    for name, state, member in parts:
+    seen: set[str] = set()
+    for name, state, member in parts or ():
         if member is None or member not in names:
             sheets.append(SheetScan(name, state))
             continue
+        seen.add(member)
         sheets.append(_scan_sheet(zf, member, name, state, percent, path, lim))
-    return WorkbookScan(tuple(sheets))
+    for member in sorted(names - seen):
+        if member.startswith("xl/worksheets/") and member.endswith(".xml"):
+            _scan_sheet(zf, member, member, "visible", frozenset(), path, lim)
+    return WorkbookScan(tuple(sheets), scanned=parts is not None)
