@@ -223,11 +223,14 @@ def read_table(path: str, *, sheet: str | int | None = None, encoding: str | Non
                header_predicate: Callable[[list[str]], bool] | None = None) -> RawTable:
     """Read a BOM file to a ``RawTable`` of text cells below its header row.
 
-    ``sheet`` picks an XLSX sheet by name or 1-based index (default: the first sheet whose
-    leading rows hold a header row). ``encoding`` forces a text encoding (default: a UTF-8 or
-    UTF-16 byte-order mark, else UTF-8, else cp1252). ``header_predicate`` says whether a row of
-    cells is the header row (default: it has a designator-like column). Raises ``InputError``
-    for an empty, binary or unreadable file and ``HeaderNotFound`` when no header row is found.
+    ``path`` ``-`` reads standard input. ``sheet`` picks a workbook sheet by name or 1-based
+    index, hidden or not (default: the first visible sheet whose leading rows hold a header
+    row). ``encoding`` forces a text encoding (default: a UTF-8 or UTF-16 byte-order mark, else
+    UTF-8 with any non-UTF-8 lines read as cp1252 and named in ``RawTable.warnings``).
+    ``header_predicate`` says whether a row of cells is the header row (default: it has a
+    designator-like column). The limits of ``bomcheck.limits.current()`` apply. Raises
+    ``InputError`` for an empty, binary, unreadable or refused file and ``HeaderNotFound`` when
+    no header row is found.
     """
     path = os.fspath(path)
     predicate = header_predicate or _default_predicate()
@@ -680,9 +683,9 @@ class _Workbook:
             if python_calamine is not None:
                 self._calamine = python_calamine.CalamineWorkbook.from_filelike(io.BytesIO(data))
                 self.sheet_names = list(self._calamine.sheet_names)
-                meta = {m.name: m for m in self._calamine.sheets_metadata}
-                self.hidden = {n for n in self.sheet_names if n in meta
-                               and "visible" not in str(meta[n].visible).lower().rsplit(".")[-1]}
+                visible = python_calamine.SheetVisibleEnum.Visible
+                self.hidden = {m.name for m in self._calamine.sheets_metadata
+                               if m.visible != visible}
             else:
                 import openpyxl
 
