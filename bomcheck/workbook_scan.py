@@ -28,11 +28,8 @@ _SHEET = re.compile(_P + rb"sheet\b([^>]*)>")
 _ATTR = re.compile(rb'([\w:.-]+)\s*=\s*"([^"]*)"')
 _REL = re.compile(_P + rb"Relationship\b([^>]*)>")
 _DIMENSION = re.compile(_P + rb'dimension\b[^>]*?\sref="([^"]*)"')
-_ROW_R = re.compile(_P + rb'row\b[^>]*?\sr="(\d{1,12})"')
 _ROW_HIDDEN = re.compile(_P + rb'row\b[^>]*?\shidden="(?:1|true)"[^>]*>')
-_CELL_COL = re.compile(_P + rb'c\b[^>]*?\sr="([A-Za-z]{1,8})(\d{1,12})"')
 _COL_HIDDEN = re.compile(_P + rb'col\b[^>]*?\shidden="(?:1|true)"[^>]*>')
-_R = re.compile(rb'\sr="([A-Za-z]{0,8})(\d{1,12})"')
 _CELLXFS = re.compile(_P + rb"cellXfs\b.*?</(?:[A-Za-z_][\w.-]*:)?cellXfs>", re.S)
 _XF = re.compile(_P + rb'xf\b([^>]*)>')
 _NUMFMT = re.compile(_P + rb'numFmt\b([^>]*)>')
@@ -181,15 +178,29 @@ def _check_size(path: str, sheet: str, rows: int, cols: int, lim: Limits, what: 
                       "cells")
 
 
+# The r attribute of a row (digits) or a cell (letters and digits), after one space as every
+# writer puts it (a literal start keeps the search fast); after other white space only when the
+# part has such an attribute.
+_R_SPACE = re.compile(rb' r="([A-Za-z]{0,8})(\d{1,12})"')
+_R_ANY = re.compile(rb'\sr="([A-Za-z]{0,8})(\d{1,12})"')
+_ODD_SPACE = (b'\tr="', b'\nr="', b'\rr="')
+_ROW_NUMBER = re.compile(rb'\sr="(\d{1,12})"')
+_CELL_REF = re.compile(rb'\sr="([A-Za-z]{1,8})(\d{1,12})"')
+_TAG_C = re.compile(_P + rb"c\s")
+
+
 def _scan_sheet(zf: zipfile.ZipFile, member: str, name: str, state: str, percent: frozenset[int],
                 path: str, lim: Limits) -> SheetScan:
+    """Stream one worksheet part: its size (refused beyond ``lim``), hidden rows and columns
+    and percent-formatted cells. Patterns start with a literal, so each chunk costs a few
+    passes of the regular-expression engine's fast search."""
     last_row = last_col = rows_seen = cells_seen = 0
     hidden_rows: set[int] = set()
     hidden_cols: set[int] = set()
     pct_cells: set[tuple[int, int]] = set()
     dimension_checked = False
-    pct_re = (re.compile(_P + rb'c\b[^>]*?\ss="(?:' + b"|".join(str(i).encode() for i in
-                         sorted(percent)) + rb')"[^>]*>') if percent else None)
+    pct_re = (re.compile(rb'\ss="(?:' + b"|".join(str(i).encode() for i in sorted(percent))
+                         + rb')"') if percent else None)
     carry = b""
     with zf.open(member) as f:
         while True:
@@ -202,7 +213,9 @@ def _scan_sheet(zf: zipfile.ZipFile, member: str, name: str, state: str, percent
                     raise InputError(f"sheet {name!r}: damaged worksheet XML (no tag end in "
                                      "4 MiB)", path=path)
             if not dimension_checked:
-                m = _DIMENSION.search(buf)
+                data_at = buf.find(b"sheetData")  # the dimension comes before the data
+                m = _DIMENSION.search(buf, 0, len(buf) if data_at < 0 else data_at)
+                dimension_checked = data_at >= 0
                 if m:
                     dimension_checked = True
                     ends = [_REF.fullmatch(r) for r in m.group(1).decode("ascii", "replace")
@@ -211,31 +224,31 @@ def _scan_sheet(zf: zipfile.ZipFile, member: str, name: str, state: str, percent
                         r = max(int(e.group(2)) for e in ends)  # type: ignore[union-attr]
                         c = max(column_number(e.group(1)) for e in ends)  # type: ignore[union-attr]
                         _check_size(path, name, r, c, lim, "declared last")
-            rows_r = _ROW_R.findall(buf)
-            rows_seen += buf.count(b"<row ") + buf.count(b"<row>") + buf.count(b":row ")
-            if rows_r:
-                last_row = max(last_row, max(map(int, rows_r)))
-            for blob in _ROW_HIDDEN.findall(buf):
-                m = re.search(rb'\sr="(\d{1,12})"', blob)
-                if m:
-                    hidden_rows.add(int(m.group(1)))
-            for blob in _COL_HIDDEN.findall(buf):
-                a = _attrs(blob)
-                lo = int(a.get("min", "0")) if a.get("min", "").isdigit() else 0
-                hi = int(a.get("max", "0")) if a.get("max", "").isdigit() else 0
-                hidden_cols.update(range(max(lo, 1), min(hi, lim.columns + 1, 16384) + 1))
-            cols = _CELL_COL.findall(buf)
-            if cols:
-                letters = {c for c, _ in cols}
-                last_col = max(last_col, max(column_number(c.decode()) for c in letters))
-                last_row = max(last_row, max(int(r) for r in {r for _, r in cols}))
+            refs = (_R_ANY if any(w in buf for w in _ODD_SPACE) else _R_SPACE).findall(buf)
+            if refs:
+                last_col = max(last_col, max(column_number(c.decode()) for c in
+                                             {c for c, _ in refs}))
+                last_row = max(last_row, max(map(int, {r for _, r in refs})))
+            rows_seen += buf.count(b"<row") + buf.count(b":row ")  # rows without a number too
             cells_seen += buf.count(b"<c ") + buf.count(b"<c>") + buf.count(b":c ")
+            last_row = max(last_row, rows_seen)
+            if b'hidden="' in buf:
+                for blob in _ROW_HIDDEN.findall(buf):
+                    m = _ROW_NUMBER.search(blob)
+                    if m:
+                        hidden_rows.add(int(m.group(1)))
+                for blob in _COL_HIDDEN.findall(buf):
+                    a = _attrs(blob)
+                    lo = int(a.get("min", "0")) if a.get("min", "").isdigit() else 0
+                    hi = int(a.get("max", "0")) if a.get("max", "").isdigit() else 0
+                    hidden_cols.update(range(max(lo, 1), min(hi, lim.columns + 1, 16384) + 1))
             if pct_re is not None:
-                for blob in pct_re.findall(buf):
-                    m = _R.search(blob)
-                    if m and m.group(1):
-                        pct_cells.add((int(m.group(2)), column_number(m.group(1).decode())))
-            last_row = max(last_row, rows_seen)  # rows written without a number
+                for m in pct_re.finditer(buf):
+                    start = buf.rfind(b"<", 0, m.start())
+                    tag = buf[start:buf.find(b">", m.end()) + 1]
+                    ref = _CELL_REF.search(tag)
+                    if _TAG_C.match(tag) and ref:
+                        pct_cells.add((int(ref.group(2)), column_number(ref.group(1).decode())))
             _check_size(path, name, last_row, last_col, lim, "last")
             if cells_seen > lim.cells:
                 raise _refuse(path, name, "cell count", cells_seen, lim.cells, "cells")
