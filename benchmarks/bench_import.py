@@ -72,8 +72,9 @@ def main() -> None:
     import pandas as pd
 
     from bomcheck.importer import read_bom
+    from bomcheck.limits import Limits, use_limits
 
-    with tempfile.TemporaryDirectory() as tmp:
+    with tempfile.TemporaryDirectory() as tmp, use_limits(Limits(placements=args.placements)):
         path = Path(tmp) / "bench_bom.csv"
         write_bom(path, args.placements)
         size = path.stat().st_size

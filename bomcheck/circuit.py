@@ -23,6 +23,7 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
+from bomcheck.errors import InputError
 from bomcheck.stresses import num_column, text_column
 
 # --------------------------------------------------------------------------------------------
@@ -105,7 +106,8 @@ def discharge_r_max(t_s: float, c_f: float, v0: float, v_limit: float) -> float:
 def voltage_after(t_s: Any, r_ohm: Any, c_f: Any, v0: Any) -> Any:
     """Voltage ``t_s`` after disconnection: V(t) = V0 exp(-t / RC)."""
     r, c = np.asarray(r_ohm, dtype=float), np.asarray(c_f, dtype=float)
-    return np.asarray(v0, dtype=float) * np.exp(-np.asarray(t_s, dtype=float) / (r * c))
+    with np.errstate(divide="ignore", invalid="ignore"):
+        return np.asarray(v0, dtype=float) * np.exp(-np.asarray(t_s, dtype=float) / (r * c))
 
 
 def surge_current_a(c_f: Any, slew_v_per_s: Any = np.nan, v: Any = np.nan,
@@ -263,6 +265,28 @@ def _parallel_r(a: float, b: float) -> float:
     return a * b / (a + b)
 
 
+def _check_bleeders(table: pd.DataFrame, groups: Mapping[str, Any]) -> None:
+    """A bleeder of 0 ohm (or less) is an input error, not a short: it would hold the capacitor
+    at 0 V, which contradicts the voltage the design gives, and an empty cell, not 0, says there
+    is no bleeder. Treating it as a short would report a 0 s discharge: a wrong pass."""
+    bad: list[str] = []
+    if "r_bleeder_ohm" in table.columns:
+        r = pd.to_numeric(table["r_bleeder_ohm"], errors="coerce").to_numpy(dtype=float)
+        for i in np.flatnonzero(r <= 0)[:5]:
+            row = table["design_row"].iloc[i] if "design_row" in table.columns else None
+            bad.append(f"{table['refdes'].iloc[i]}" + (f" (design row {int(row)})"
+                                                      if row is not None and row == row else ""))
+    for g in groups.values():
+        v = dict(g.conditions).get("r_bleeder_ohm")
+        if v is not None and v == v and v <= 0:
+            bad.append(f"group {g.name}" + (f" (design row {g.row})" if g.row else ""))
+    if bad:
+        raise InputError(f"r_bleeder_ohm of 0 ohm or less for {', '.join(bad)}: a bleeder "
+                         "that shorts the capacitor", column="r_bleeder_ohm",
+                         expected="the bleeder's resistance above 0 ohm, or an empty cell when "
+                                  "there is no bleeder")
+
+
 def _finite(x: Any) -> float | None:
     """A JSON number: finite, the last-digit noise of the arithmetic dropped; else None."""
     x = float(x)
@@ -295,10 +319,11 @@ def apply(table: pd.DataFrame, data: Any, ruleset: Any = None, *,
 
     opts = CircuitOptions.from_ruleset(ruleset)
     groups = dict(groups or {})
+    _check_bleeders(table, groups)
     t = table.copy(deep=False)  # every column changed below is replaced, never written in place
     extra: list[pd.DataFrame] = []
     changed = np.zeros(len(t), dtype=bool)  # placements whose stress inputs the stage changes
-    if parts is not None:
+    if parts is not None and len(parts.values):  # a parts file of a header only gives nothing
         t, conflicts = parts_mod.apply_parts(t, parts)
         extra.append(conflicts)
         changed |= t["part_row"].notna().to_numpy()

@@ -16,6 +16,34 @@ from bomcheck.errors import BomcheckError
 EXIT_CLEAN = 0
 EXIT_FINDINGS = 1
 EXIT_UNUSABLE = 2
+EXIT_INTERNAL = 3  # a bug in bomcheck: never 0 (clean) or 1 (findings), so CI cannot mistake it
+
+
+def _positive_int(text: str) -> int:
+    """An argparse type: a whole number above 0 (``1e6`` and ``1_000_000`` are accepted)."""
+    try:
+        value = float(text.replace("_", ""))
+    except ValueError:
+        value = float("nan")
+    if not (value >= 1 and value == int(value) and value < 1e15):
+        raise argparse.ArgumentTypeError(f"not a whole number above 0: {text!r}")
+    return int(value)
+
+
+def _add_limit_options(p: argparse.ArgumentParser) -> None:
+    """The input size limits (``bomcheck.limits``), each overridable for a genuinely huge file."""
+    g = p.add_argument_group("input limits", "files beyond a limit are refused (exit status 2); "
+                             "raise a limit only for a genuine file")
+    g.add_argument("--max-file-mb", type=_positive_int, metavar="MB", help="largest input "
+                   "file, in MiB (default: 256)")
+    g.add_argument("--max-rows", type=_positive_int, metavar="N", help="most rows of a table "
+                   "(default: 200,000)")
+    g.add_argument("--max-columns", type=_positive_int, metavar="N", help="most columns of a "
+                   "table (default: 1,024)")
+    g.add_argument("--max-cells", type=_positive_int, metavar="N", help="most cells (rows x "
+                   "columns) of a table (default: 5,000,000)")
+    g.add_argument("--max-placements", type=_positive_int, metavar="N", help="most placements "
+                   "of a BOM after expanding designator ranges (default: 50,000)")
 
 
 def _add_import_options(p: argparse.ArgumentParser) -> None:
@@ -26,6 +54,9 @@ def _add_import_options(p: argparse.ArgumentParser) -> None:
     p.add_argument("--columns", action="append", default=[], metavar="FIELD=HEADER,...",
                    help="map canonical fields to headers, e.g. refdes=Designator,value=Comment")
     p.add_argument("--column-map", metavar="TOML", help="TOML file mapping fields to headers")
+    p.add_argument("--include-hidden", action="store_true", help="read hidden rows, columns "
+                   "and worksheets of XLSX inputs too (default: skipped, and counted)")
+    _add_limit_options(p)
 
 
 def _iso_date(text: str):
@@ -155,7 +186,8 @@ def build_parser() -> argparse.ArgumentParser:
     p = sub.add_parser("import", parents=[common], help="read a BOM and list its capacitor placements",
                        description="Read a BOM (CSV, TSV, XLSX) and list every capacitor "
                        "placement with its parsed specification; every row is accounted for.")
-    p.add_argument("bom", help="BOM file (.csv, .tsv, .txt, .xlsx)")
+    p.add_argument("bom", help="BOM file (.csv, .tsv, .txt, .xlsx, .xls, .ods) or '-' for "
+                   "standard input")
     _add_import_options(p)
     p.add_argument("--json", action="store_true", help="print JSON instead of a table")
     p.add_argument("--all", action="store_true", help="show every placement, not the first 50")
@@ -170,8 +202,10 @@ def build_parser() -> argparse.ArgumentParser:
                        description="Audit every fitted capacitor placement of a BOM: applied "
                        "voltage, temperature and worst-case capacitance against the derating "
                        "rules in force. Exit status 0: nothing at or above --fail-on; 1: "
-                       "findings at or above it; 2: inputs unusable.")
-    p.add_argument("bom", help="BOM file (.csv, .tsv, .txt, .xlsx)")
+                       "findings at or above it; 2: inputs unusable; 3: internal error (a "
+                       "bug).")
+    p.add_argument("bom", help="BOM file (.csv, .tsv, .txt, .xlsx, .xls, .ods) or '-' for "
+                   "standard input")
     _add_audit_inputs(p)
     p.add_argument("--json", metavar="OUT", help="write the JSON report to OUT ('-' for stdout)")
     p.add_argument("--fail-on", choices=("fail", "nodata", "warn", "new"), default=None,
@@ -207,7 +241,24 @@ def build_parser() -> argparse.ArgumentParser:
     return parser
 
 
+def _limits(args: argparse.Namespace):
+    """The input limits of this run: the defaults with the options given."""
+    from bomcheck.limits import MIB, Limits
+
+    mb = getattr(args, "max_file_mb", None)
+    return Limits().with_options(
+        file_bytes=mb * MIB if mb else None, rows=getattr(args, "max_rows", None),
+        columns=getattr(args, "max_columns", None), cells=getattr(args, "max_cells", None),
+        placements=getattr(args, "max_placements", None),
+        include_hidden=getattr(args, "include_hidden", None) or None)
+
+
+def _one_line(text: str) -> str:
+    return " ".join(str(text).split())[:300]
+
+
 def main(argv: Sequence[str] | None = None) -> int:
+    """Run one command; exit status 0 clean, 1 findings, 2 unusable input, 3 internal error."""
     parser = build_parser()
     args = parser.parse_args(argv)
     if args.command is None:
@@ -215,8 +266,10 @@ def main(argv: Sequence[str] | None = None) -> int:
         return EXIT_UNUSABLE
     try:
         from bomcheck import commands
+        from bomcheck.limits import use_limits
 
-        return getattr(commands, f"run_{args.command}")(args)
+        with use_limits(_limits(args)):
+            return getattr(commands, f"run_{args.command}")(args)
     except BomcheckError as exc:
         if args.debug:
             raise
@@ -226,3 +279,10 @@ def main(argv: Sequence[str] | None = None) -> int:
         return 130
     except BrokenPipeError:  # pragma: no cover - e.g. piped into head
         return EXIT_CLEAN
+    except Exception as exc:  # noqa: BLE001 - anything else is a bug: say so, in one line
+        if args.debug:
+            raise
+        print(f"bomcheck: internal error (a bug in bomcheck, not in your input): "
+              f"{type(exc).__name__}: {_one_line(exc)}; rerun with --debug for the traceback "
+              "and report it", file=sys.stderr)
+        return EXIT_INTERNAL

@@ -10,7 +10,6 @@ from __future__ import annotations
 import difflib
 import functools
 import re
-import tomllib
 import unicodedata
 from collections.abc import Callable, Iterable, Mapping, Sequence
 from dataclasses import dataclass, field
@@ -209,15 +208,10 @@ def _check_fields(names: Iterable[str], *, path: str | None, what: str) -> None:
 def load_column_map(path: str) -> ColumnOverrides:
     """Read a TOML mapping file: ``[columns]`` field = "header" (or the same at top level) and
     ``[aliases]`` field = ["header", ...] to add aliases."""
-    try:
-        with open(path, "rb") as fh:
-            data = tomllib.load(fh)
-    except FileNotFoundError:
-        raise InputError("column map file not found", path=path) from None
-    except OSError as exc:
-        raise InputError(f"cannot read column map file: {exc.strerror}", path=path) from None
-    except tomllib.TOMLDecodeError as exc:
-        raise InputError(f"column map is not valid TOML ({exc})", path=path) from None
+    from bomcheck.reader import load_toml, read_bytes, toml_text
+
+    # The shared readers: a regular file within the size limit, TOML nesting capped.
+    data = load_toml(toml_text(read_bytes(path, "column map file"), path), path)
     columns = dict(data.pop("columns", {}) or {})
     aliases = dict(data.pop("aliases", {}) or {})
     for key, val in data.items():

@@ -256,11 +256,12 @@ def _progress(args: argparse.Namespace, stages: int):
 
 def _read_report_json(path: str, role: str) -> dict:
     """A JSON report written by ``bomcheck audit --json``, parsed."""
-    try:
-        text = Path(path).read_text(encoding="utf-8")
-    except (OSError, UnicodeDecodeError) as exc:
-        why = exc.strerror if isinstance(exc, OSError) else "not UTF-8 text"
-        raise InputError(f"cannot read the {role} report: {why}", path=path) from None
+    from bomcheck.reader import read_bytes
+
+    try:  # a regular file within the size limit, like every input
+        text = read_bytes(path, f"{role} report").decode("utf-8")
+    except UnicodeDecodeError:
+        raise InputError(f"cannot read the {role} report: not UTF-8 text", path=path) from None
     try:
         data = json.loads(text)
     except json.JSONDecodeError as exc:

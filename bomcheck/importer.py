@@ -59,7 +59,7 @@ import pandas as pd
 from bomcheck import columns as colmod
 from bomcheck import reader
 from bomcheck.errors import InputError
-from bomcheck.refdes import MAX_RANGE, expand
+from bomcheck.refdes import MAX_RANGE, check_total, expand
 from bomcheck.spec import SPEC_KEYS
 
 if TYPE_CHECKING:
@@ -381,7 +381,7 @@ def _expand_one(text: str) -> tuple[list[str], str | None, str | None, str]:
     return items, None, mark, prefixes[0]
 
 
-def expand_lines(texts: np.ndarray) -> _Designators:
+def expand_lines(texts: np.ndarray, path: str | None = None) -> _Designators:
     """Expand every line's designator cell.
 
     A single designator (most lines of a flat export) takes a vectorised path: the cells'
@@ -423,7 +423,11 @@ def expand_lines(texts: np.ndarray) -> _Designators:
     slow = np.flatnonzero(~fast)
     if len(slow):
         codes, uniques = pd.factorize(texts[slow])
-        results = [_expand_one(str(u)) for u in uniques]
+        results, total = [], 0
+        for u in uniques:  # each distinct cell once, held to the placement limit as it goes
+            results.append(_expand_one(str(u)))
+            total += len(results[-1][0])
+            check_total(total, path=path)
         counts_u = np.array([len(r[0]) for r in results], dtype=np.int64)
         count[slow] = counts_u[codes]
         out.prefix[slow] = np.array([r[3] for r in results], dtype=object)[codes]
@@ -738,7 +742,8 @@ def read_bom(path: str, options: ImportOptions = ImportOptions()) -> ImportResul
     mapping = colmod.map_columns(list(table.frame.columns), overrides, path=path)
     # hashlib releases the GIL: the file's hash is computed beside the import.
     with ThreadPoolExecutor(max_workers=1) as pool:
-        digest = pool.submit(_sha256, path)
+        # Standard input cannot be read twice: the reader hashed its bytes.
+        digest = pool.submit(lambda: table.sha256 or _sha256(path))
         source = BomSource(
             path=path, sha256="", format=table.format, encoding=table.encoding,
             sheet=table.sheet, header_row=table.header_row,
@@ -796,7 +801,8 @@ def _build(table: reader.RawTable, mapping: dict[str, str], source: BomSource) -
 
     # Designators.
     ref_text = line["refdes"]
-    des = expand_lines(ref_text)
+    des = expand_lines(ref_text, source.path)
+    check_total(int(des.count.sum()), path=source.path)
 
     # Distinct combinations of the value-bearing cells, parsed once each.
     parser = _Parser(semicolon=table.format == "semicolon")

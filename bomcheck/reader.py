@@ -9,19 +9,24 @@ python-calamine when it is installed, else openpyxl in read-only mode.
 from __future__ import annotations
 
 import csv
+import hashlib
 import io
 import math
 import os
+import re
+import stat
+import sys
 import warnings
 import zipfile
 from collections import Counter
 from collections.abc import Callable
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from datetime import date, datetime, time, timedelta
 from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
+from bomcheck import limits as limits_mod
 from bomcheck.errors import InputError
 
 if TYPE_CHECKING:
@@ -33,8 +38,28 @@ SNIFF_LINES = 60
 DELIMITERS = (",", ";", "\t")
 FORMAT_OF_DELIMITER = {",": "csv", ";": "semicolon", "\t": "tsv"}
 XLSX_SUFFIXES = (".xlsx", ".xlsm", ".xltx", ".xltm")
+CALAMINE_SUFFIXES = (".xls", ".xlsb", ".ods")  # read through python-calamine only
+STDIN = "-"  # the path that means standard input
+FAST_EXTRA = 'pip install "bomcheck[fast]"'
 _ZIP_MAGIC = b"PK\x03\x04"
 _OLE_MAGIC = b"\xd0\xcf\x11\xe0\xa1\xb1\x1a\xe1"  # legacy .xls / .doc
+
+
+@dataclass(frozen=True)
+class ReadWarning:
+    """Something the reader skipped or doubts, for the report: ``code`` (``mixed-encoding``,
+    ``hidden-rows``, ``hidden-columns``, ``hidden-sheets``), a one-line ``message`` naming the
+    file, and the source ``rows`` concerned (lines or sheet rows; may be empty)."""
+
+    code: str
+    message: str
+    rows: tuple[int, ...] = ()
+
+    def to_dict(self) -> dict[str, Any]:
+        return {"code": self.code, "message": self.message, "rows": list(self.rows)}
+
+    def __str__(self) -> str:
+        return self.message
 
 
 @dataclass(frozen=True)
@@ -54,6 +79,8 @@ class RawTable:
     frame: pd.DataFrame
     rows: np.ndarray
     blank_rows: int = 0
+    warnings: tuple[ReadWarning, ...] = ()
+    sha256: str = ""  # set when the bytes came from standard input (no file to hash again)
 
 
 class HeaderNotFound(InputError):
@@ -76,18 +103,54 @@ class HeaderNotFound(InputError):
         return [c for c in best]
 
 
-def read_input(path: str, what: str) -> tuple[bytes, str]:
-    """The bytes of an input file and their SHA-256; ``what`` names it in errors ("parts file")."""
+_FILE_KINDS = ((stat.S_ISFIFO, "a FIFO (named pipe)"), (stat.S_ISCHR, "a character device"),
+               (stat.S_ISBLK, "a block device"), (stat.S_ISSOCK, "a socket"))
+
+
+def read_bytes(path: str, what: str = "file") -> bytes:
+    """The bytes of an input file, or of standard input for ``-``, within the size limit.
+
+    Only a regular file is opened (a FIFO or a device would block or never end); ``what``
+    names the input in errors ("parts file"). Raises ``InputError`` naming the file.
+    """
+    cap = limits_mod.current().file_bytes
+    too_big = (f"refused: the {what} is larger than the limit of {cap >> 20} MiB",
+               limits_mod.hint("file_bytes"))
+    if path == STDIN:
+        data = sys.stdin.buffer.read(cap + 1)
+        if len(data) > cap:
+            raise InputError(too_big[0], path="<stdin>", hint=too_big[1])
+        return data
+    try:
+        st = os.stat(path)
+    except FileNotFoundError:
+        raise InputError(f"{what} not found", path=path,
+                         expected="an existing CSV, TSV, XLSX or TOML file") from None
+    except (OSError, ValueError) as exc:
+        why = exc.strerror if isinstance(exc, OSError) else str(exc)
+        raise InputError(f"cannot read the {what} ({why})", path=path) from None
+    if stat.S_ISDIR(st.st_mode):
+        raise InputError(f"is a directory, not a {what}", path=path)
+    if not stat.S_ISREG(st.st_mode):
+        kind = next((k for test, k in _FILE_KINDS if test(st.st_mode)), "not a regular file")
+        raise InputError(f"refused: {kind}, not a regular file", path=path,
+                         expected=f"the {what} as a file on disk (or '-' for standard input "
+                                  "where a command takes it)")
+    if st.st_size > cap:
+        raise InputError(too_big[0], path=path, hint=too_big[1])
     try:
         with open(path, "rb") as f:
-            data = f.read()
-    except FileNotFoundError:
-        raise InputError(f"{what} not found", path=str(path),
-                         expected="an existing CSV, TSV, XLSX or TOML file") from None
+            data = f.read(cap + 1)
     except OSError as exc:
-        raise InputError(f"cannot read the {what} ({exc.strerror})", path=str(path)) from None
-    import hashlib
+        raise InputError(f"cannot read the {what} ({exc.strerror})", path=path) from None
+    if len(data) > cap:  # it grew while being read
+        raise InputError(too_big[0], path=path, hint=too_big[1])
+    return data
 
+
+def read_input(path: str, what: str) -> tuple[bytes, str]:
+    """The bytes of an input file and their SHA-256; ``what`` names it in errors ("parts file")."""
+    data = read_bytes(str(path), what)
     return data, hashlib.sha256(data).hexdigest()
 
 
@@ -100,17 +163,43 @@ def toml_text(data: bytes, path: str) -> str:
                          hint=f"undecodable byte at offset {exc.start}") from None
 
 
+# Tables and arrays nest at most this deep in any TOML input (rule sets nest 4 levels).
+TOML_MAX_DEPTH = 32
+
+
+def _toml_depth(doc: Any) -> int:
+    """How deep tables and arrays nest in a parsed TOML document (iterative: no recursion)."""
+    deepest, stack = 0, [(doc, 1)]
+    while stack:
+        obj, depth = stack.pop()
+        deepest = max(deepest, depth)
+        if depth > TOML_MAX_DEPTH:
+            break
+        if isinstance(obj, dict):
+            stack.extend((v, depth + 1) for v in obj.values() if isinstance(v, (dict, list)))
+        elif isinstance(obj, list):
+            stack.extend((v, depth + 1) for v in obj if isinstance(v, (dict, list)))
+    return deepest
+
+
 def load_toml(text: str, path: str) -> dict:
-    """Parse TOML text; a syntax error is an ``InputError`` naming the file and its line."""
-    import re
+    """Parse TOML text; a syntax error or nesting deeper than ``TOML_MAX_DEPTH`` is an
+    ``InputError`` naming the file (and the line of a syntax error)."""
     import tomllib
 
+    too_deep = InputError(f"refused: tables or arrays nested more than {TOML_MAX_DEPTH} "
+                          "levels deep", path=path, expected="a flat TOML file")
     try:
-        return tomllib.loads(text)
+        doc = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
         m = re.search(r"line (\d+)", str(exc))
         raise InputError(f"not valid TOML ({exc})", path=path,
                          row=int(m.group(1)) if m else None) from None
+    except RecursionError:
+        raise too_deep from None
+    if _toml_depth(doc) > TOML_MAX_DEPTH:
+        raise too_deep
+    return doc
 
 
 def read_input_table(path: str, *, sheet: str | int | None, header_predicate, what: str,
@@ -134,49 +223,50 @@ def read_table(path: str, *, sheet: str | int | None = None, encoding: str | Non
                header_predicate: Callable[[list[str]], bool] | None = None) -> RawTable:
     """Read a BOM file to a ``RawTable`` of text cells below its header row.
 
-    ``sheet`` picks an XLSX sheet by name or 1-based index (default: the first sheet whose
-    leading rows hold a header row). ``encoding`` forces a text encoding (default: a UTF-8 or
-    UTF-16 byte-order mark, else UTF-8, else cp1252). ``header_predicate`` says whether a row of
-    cells is the header row (default: it has a designator-like column). Raises ``InputError``
-    for an empty, binary or unreadable file and ``HeaderNotFound`` when no header row is found.
+    ``path`` ``-`` reads standard input. ``sheet`` picks a workbook sheet by name or 1-based
+    index, hidden or not (default: the first visible sheet whose leading rows hold a header
+    row). ``encoding`` forces a text encoding (default: a UTF-8 or UTF-16 byte-order mark, else
+    UTF-8 with any non-UTF-8 lines read as cp1252 and named in ``RawTable.warnings``).
+    ``header_predicate`` says whether a row of cells is the header row (default: it has a
+    designator-like column). The limits of ``bomcheck.limits.current()`` apply. Raises
+    ``InputError`` for an empty, binary, unreadable or refused file and ``HeaderNotFound`` when
+    no header row is found.
     """
     path = os.fspath(path)
     predicate = header_predicate or _default_predicate()
-    try:
-        with open(path, "rb") as fh:
-            data = fh.read()
-    except FileNotFoundError:
-        raise InputError("file not found", path=path) from None
-    except IsADirectoryError:
-        raise InputError("is a directory, not a BOM file", path=path) from None
-    except OSError as exc:
-        raise InputError(f"cannot read file: {exc.strerror}", path=path) from None
+    data = read_bytes(path, "file")
+    stdin = path == STDIN
+    shown = "<stdin>" if stdin else path
     if not data or data.isspace():
-        raise InputError("the file is empty", path=path,
+        raise InputError("the file is empty", path=shown,
                          expected="a BOM table (CSV, TSV or XLSX) with a header row")
     suffix = os.path.splitext(path)[1].lower()
-    if data.startswith(_ZIP_MAGIC) or suffix in XLSX_SUFFIXES:
-        return _read_xlsx(path, data, sheet, predicate)
-    if data.startswith(_OLE_MAGIC):
-        raise InputError("a legacy Excel (.xls) or other OLE2 file, not a table bomcheck reads",
-                         path=path, expected="an .xlsx workbook or a CSV/TSV text file",
-                         hint="save it as .xlsx or .csv")
-    if sheet is not None:
-        raise InputError("a sheet was asked for, but the file is a text table, not a workbook",
-                         path=path, text=str(sheet))
-    text, used = _decode(path, data, encoding)
-    if not text.strip():  # only a byte-order mark, or spaces in UTF-16
-        raise InputError("the file is empty", path=path,
-                         expected="a BOM table (CSV, TSV or XLSX) with a header row")
-    return _read_text(path, data, text, used, predicate)
+    if data.startswith(_OLE_MAGIC) or suffix in CALAMINE_SUFFIXES or _is_ods(data):
+        table = _read_calamine_only(shown, data, sheet, predicate, suffix)
+    elif data.startswith(_ZIP_MAGIC) or suffix in XLSX_SUFFIXES:
+        table = _read_xlsx(shown, data, sheet, predicate)
+    else:
+        if sheet is not None:
+            raise InputError("a sheet was asked for, but the file is a text table, not a "
+                             "workbook", path=shown, text=str(sheet))
+        text, used, notes = _decode(shown, data, encoding)
+        if not text.strip():  # only a byte-order mark, or spaces in UTF-16
+            raise InputError("the file is empty", path=shown,
+                             expected="a BOM table (CSV, TSV or XLSX) with a header row")
+        table = _read_text(shown, data, text, used, predicate, from_file=not stdin)
+        if notes:
+            table = replace(table, warnings=table.warnings + notes)
+    if stdin:
+        table = replace(table, sha256=hashlib.sha256(data).hexdigest())
+    return table
 
 
 # ---------------------------------------------------------------------------------------------
 # Text tables
 
 
-def _decode(path: str, data: bytes, forced: str | None) -> tuple[str, str]:
-    """Decode the whole file; returns (text, encoding name)."""
+def _decode(path: str, data: bytes, forced: str | None) -> tuple[str, str, tuple[ReadWarning, ...]]:
+    """Decode the whole file; returns (text, encoding name, warnings)."""
     if forced:
         try:
             text = data.decode(forced)
@@ -189,7 +279,7 @@ def _decode(path: str, data: bytes, forced: str | None) -> tuple[str, str]:
         if text.startswith("\ufeff"):
             text = text[1:]
         _check_not_binary(path, text)
-        return text, forced
+        return text, forced, ()
     if data.startswith((b"\xff\xfe\x00\x00", b"\x00\x00\xfe\xff")):
         enc = "utf-32"
     elif data.startswith((b"\xff\xfe", b"\xfe\xff")):
@@ -202,23 +292,64 @@ def _decode(path: str, data: bytes, forced: str | None) -> tuple[str, str]:
         try:
             text = data.decode(enc)
         except UnicodeDecodeError as exc:
-            raise InputError(f"has a {enc} byte-order mark but is not valid {enc} "
-                             f"(byte {exc.start})", path=path,
-                             hint="force an encoding with --encoding") from None
+            if enc != "utf-8-sig":
+                raise InputError(f"has a {enc} byte-order mark but is not valid {enc} "
+                                 f"(byte {exc.start})", path=path,
+                                 hint="force an encoding with --encoding") from None
+            text, enc, notes = _decode_mixed(path, data[3:])
+            _check_not_binary(path, text)
+            return text, enc, notes
         _check_not_binary(path, text)
-        return text, enc
+        return text, enc, ()
     _check_not_binary_bytes(path, data)
+    notes: tuple[ReadWarning, ...] = ()
     try:
         text, enc = data.decode("utf-8"), "utf-8"
     except UnicodeDecodeError:
-        # Windows exports: cp1252, where byte 0xB5 is the micro sign (as in latin-1). The five
-        # bytes cp1252 leaves undefined fall back to latin-1 control characters.
-        try:
-            text, enc = data.decode("cp1252"), "cp1252"
-        except UnicodeDecodeError:
-            text, enc = data.decode("latin-1"), "latin-1"
+        text, enc, notes = _decode_mixed(path, data)
     _check_not_binary(path, text)
-    return text, enc
+    return text, enc, notes
+
+
+_LINE_END = re.compile(r"\r\n|\r|\n")
+_UNDECODED = re.compile("[\udc80-\udcff]")  # bytes kept by surrogateescape
+_DECODED_NON_ASCII = re.compile("[^\x00-\x7f\udc80-\udcff]")
+MIXED_ENCODING = "utf-8 + cp1252 lines"
+
+
+def _cp1252(raw: bytes) -> tuple[str, str]:
+    """(text, encoding) of Windows-export bytes: cp1252, where byte 0xB5 is the micro sign (as
+    in latin-1); the five bytes cp1252 leaves undefined fall back to latin-1 control characters."""
+    try:
+        return raw.decode("cp1252"), "cp1252"
+    except UnicodeDecodeError:
+        return raw.decode("latin-1"), "latin-1"
+
+
+def _decode_mixed(path: str, data: bytes) -> tuple[str, str, tuple[ReadWarning, ...]]:
+    """Text that is not all UTF-8: a cp1252 file when no line holds UTF-8 beyond ASCII; else
+    UTF-8 line by line, the lines that are not UTF-8 read as cp1252 and named in a warning (one
+    stray byte must not turn every ``µ`` of the file into ``Âµ``)."""
+    loose = data.decode("utf-8", errors="surrogateescape")
+    if not _DECODED_NON_ASCII.search(loose):
+        text, enc = _cp1252(data)
+        return text, enc, ()
+    parts = _LINE_END.split(loose)  # lines only; the line ends come back from the original
+    ends = _LINE_END.findall(loose) + [""]
+    out, odd = [], []
+    for i, (line, end) in enumerate(zip(parts, ends)):
+        if _UNDECODED.search(line):
+            line = _cp1252(line.encode("utf-8", "surrogateescape"))[0]
+            odd.append(i + 1)
+        out.append(line + end)
+    shown = ", ".join(map(str, odd[:10])) + (f" and {len(odd) - 10} more" if len(odd) > 10 else "")
+    note = ReadWarning(
+        "mixed-encoding",
+        f"{path}: mixed text encoding: line{'s' if len(odd) > 1 else ''} {shown} "
+        f"{'are' if len(odd) > 1 else 'is'} not UTF-8 and {'were' if len(odd) > 1 else 'was'} "
+        "read as cp1252 (Windows); the rest of the file is UTF-8; check those lines' cells",
+        tuple(odd))
+    return "".join(out), MIXED_ENCODING, (note,)
 
 
 def _check_not_binary_bytes(path: str, data: bytes) -> None:
@@ -242,11 +373,39 @@ def _check_not_binary(path: str, text: str) -> None:
                          expected="a CSV/TSV text file or an .xlsx workbook")
 
 
+def _refuse(path: str, what: str, found: int, limit: int, name: str, *, row: int | None = None,
+            column: str | None = None) -> InputError:
+    """The one-line refusal of an input beyond a limit of ``bomcheck.limits``."""
+    return InputError(f"refused: {what} {found:,} is over the limit of {limit:,}", path=path,
+                      row=row, column=column, hint=limits_mod.hint(name))
+
+
+def _csv_setup() -> limits_mod.Limits:
+    """The limits in force, with the csv module's cell size limit set from them (the module's
+    own default, 128 KiB, is below a cell a real export can hold)."""
+    lim = limits_mod.current()
+    csv.field_size_limit(lim.cell_chars + 1)
+    return lim
+
+
+def _csv_failure(path: str, line: int, exc: csv.Error) -> InputError:
+    """A csv module error as a one-line input error naming the line."""
+    if "field larger than field limit" in str(exc):
+        lim = limits_mod.current()
+        return InputError(f"refused: a cell longer than the limit of {lim.cell_chars:,} "
+                          "characters", path=path, row=line,
+                          hint="a fixed limit; check the file is a BOM table")
+    return InputError(f"not a readable CSV line ({exc})", path=path, row=line)
+
+
 def _sniff_delimiter(lines: list[str]) -> str:
     """The delimiter that splits the most leading lines into the same number (>1) of fields."""
     best, best_score = ",", (-1, -1, -1)
     for pref, delim in enumerate(reversed(DELIMITERS)):
-        counts = [len(r) for r in csv.reader(lines, delimiter=delim) if len(r) > 1]
+        try:
+            counts = [len(r) for r in csv.reader(lines, delimiter=delim) if len(r) > 1]
+        except csv.Error:  # reported with its line when the header is parsed
+            continue
         if not counts:
             continue
         width, agree = Counter(counts).most_common(1)[0]
@@ -257,14 +416,17 @@ def _sniff_delimiter(lines: list[str]) -> str:
 
 
 def _leading_lines(text: str, n: int) -> tuple[list[str], list[int]]:
-    """The first ``n`` lines and the character offset of each."""
+    """The first ``n`` lines (ended by LF, CRLF or a lone CR) and the character offset of each."""
     lines, offsets, pos = [], [], 0
-    while len(lines) < n and pos < len(text):
-        end = text.find("\n", pos)
-        end = len(text) if end < 0 else end + 1
-        lines.append(text[pos:end].rstrip("\r\n"))
+    for m in _LINE_END.finditer(text):
+        lines.append(text[pos:m.start()])
         offsets.append(pos)
-        pos = end
+        pos = m.end()
+        if len(lines) >= n:
+            return lines, offsets
+    if pos < len(text):
+        lines.append(text[pos:])
+        offsets.append(pos)
     return lines, offsets
 
 
@@ -282,12 +444,20 @@ def _find_header(rows: list[list[str]], predicate: Callable[[list[str]], bool]) 
     return None
 
 
+def _parse_line(path: str, line: str, number: int, delim: str) -> list[str]:
+    try:
+        return next(csv.reader([line], delimiter=delim), [])
+    except csv.Error as exc:
+        raise _csv_failure(path, number, exc) from None
+
+
 def _read_text(path: str, data: bytes, text: str, encoding: str,
-               predicate: Callable[[list[str]], bool]) -> RawTable:
+               predicate: Callable[[list[str]], bool], *, from_file: bool = True) -> RawTable:
+    lim = _csv_setup()
     lines, offsets = _leading_lines(text, SNIFF_LINES)
     delim = _sniff_delimiter(lines)
     # The header is a single physical line in every export seen; csv handles quotes within it.
-    parsed = [next(csv.reader([ln], delimiter=delim), []) for ln in lines]
+    parsed = [_parse_line(path, ln, i + 1, delim) for i, ln in enumerate(lines)]
     h = _find_header(parsed, predicate)
     if h is None:
         raise HeaderNotFound(
@@ -299,6 +469,9 @@ def _read_text(path: str, data: bytes, text: str, encoding: str,
         )
     headers = [c.strip() for c in parsed[h]]
     header_line = h + 1
+    if len(headers) > lim.columns:
+        raise _refuse(path, "header columns", len(headers), lim.columns, "columns",
+                      row=header_line)
     start = offsets[h + 1] if h + 1 < len(offsets) else len(text)
     source: str | io.BytesIO
     if encoding in ("utf-8", "utf-8-sig"):
@@ -312,19 +485,28 @@ def _read_text(path: str, data: bytes, text: str, encoding: str,
             source, skip = io.BytesIO(data), 0
             source.seek(offset)
             codec = "utf-8"
-        else:
+        elif from_file:
             # pandas reads the file itself (in parallel threads for a large file), skipping the
             # lines down to the header: no re-encoding, no copy.
             source, skip = path, header_line
+        else:  # standard input: the bytes are all there is
+            source, skip = io.BytesIO(data), header_line
     else:
         buf, offset, skip, codec = text[start:].encode("utf-8"), 0, 0, "utf-8"
         source = io.BytesIO(buf)
     shape = _line_shape(buf, offset)
+    if shape.count > lim.rows:
+        raise _refuse(path, "lines", shape.count, lim.rows, "rows")
+    if shape.count * max(len(headers), 1) > lim.cells:
+        raise _refuse(path, "cells (lines x header columns)", shape.count * len(headers),
+                      lim.cells, "cells")
     # Exports written with ", " between cells: skip the spaces in the parser (it costs, so only
     # when the leading lines show it).
     spaced = sum(f"{delim} " in ln for ln in lines[h:]) > (len(lines) - h) // 2
     frame, rows = _parse_body(text, start, (source, skip, codec), shape, delim, len(headers),
-                              header_line, spaced=spaced)
+                              header_line, spaced=spaced, path=path)
+    if shape.longest > lim.cell_chars:
+        _check_cell_sizes(path, frame, rows, lim)
     width = frame.shape[1]
     headers = headers + [""] * (width - len(headers))
     return _finish(path, FORMAT_OF_DELIMITER[delim], encoding, None, header_line, headers,
@@ -337,6 +519,7 @@ class _LineShape:
 
     count: int  # physical lines
     lone_cr: bool  # a CR that does not end a CRLF (old Mac line ends)
+    longest: int = 0  # bytes between two LFs at most: no cell is longer
 
 
 def _line_shape(buf: bytes, offset: int) -> _LineShape:
@@ -344,17 +527,34 @@ def _line_shape(buf: bytes, offset: int) -> _LineShape:
     if not len(a):
         return _LineShape(0, False)
     nl = a == 10
-    count = int(np.count_nonzero(nl)) + (0 if a[-1] == 10 else 1)
+    ends = np.flatnonzero(nl)
+    count = len(ends) + (0 if a[-1] == 10 else 1)
+    longest = int(np.diff(ends, prepend=-1, append=len(a)).max())
     lone_cr = False
     if buf.find(b"\r", offset) >= 0:
         cr = a == 13
         lone_cr = int(np.count_nonzero(cr)) != int(np.count_nonzero(cr[:-1] & nl[1:]))
-    return _LineShape(count, lone_cr)
+        if lone_cr:
+            count += int(np.count_nonzero(cr)) - int(np.count_nonzero(cr[:-1] & nl[1:]))
+    return _LineShape(count, lone_cr, longest)
+
+
+def _check_cell_sizes(path: str, frame: pd.DataFrame, rows: np.ndarray,
+                      lim: limits_mod.Limits) -> None:
+    """Refuse a cell longer than the limit (only run when a line is longer than it)."""
+    for j, col in enumerate(frame.columns):
+        lengths = frame[col].str.len().to_numpy(dtype=float, na_value=0)
+        over = np.flatnonzero(lengths > lim.cell_chars)
+        if len(over):
+            raise InputError(f"refused: a cell longer than the limit of {lim.cell_chars:,} "
+                             "characters", path=path, row=int(rows[over[0]]),
+                             column=f"column {j + 1}",
+                             hint="a fixed limit; check the file is a BOM table")
 
 
 def _parse_body(text: str, start: int, source: tuple[str | io.BytesIO, int, str],
                 shape: _LineShape, delim: str, width: int, header_line: int, *,
-                spaced: bool) -> tuple[pd.DataFrame, np.ndarray]:
+                spaced: bool, path: str = "") -> tuple[pd.DataFrame, np.ndarray]:
     """Parse the lines from ``text[start:]`` with the pandas C engine, every cell as text;
     ``source`` is (path or UTF-8 stream, lines to skip, codec).
 
@@ -383,22 +583,38 @@ def _parse_body(text: str, start: int, source: tuple[str | io.BytesIO, int, str]
     if frame is not None and len(frame) == shape.count and not shape.lone_cr:
         rows = np.arange(header_line + 1, header_line + 1 + len(frame), dtype=np.int64)
         return frame, rows
-    return _parse_body_slow(text[start:], delim, width, header_line, spaced=spaced)
+    return _parse_body_slow(text[start:], delim, width, header_line, spaced=spaced, path=path)
 
 
 def _parse_body_slow(body: str, delim: str, width: int, header_line: int, *,
-                     spaced: bool) -> tuple[pd.DataFrame, np.ndarray]:
+                     spaced: bool, path: str = "") -> tuple[pd.DataFrame, np.ndarray]:
     import pandas as pd
 
+    lim = _csv_setup()
     reader = csv.reader(io.StringIO(body, newline=""), delimiter=delim, skipinitialspace=spaced)
     records: list[list[str]] = []
     rows: list[int] = []
     last = 0
-    for rec in reader:
+    widest = width
+    while True:
+        try:
+            rec = next(reader)
+        except StopIteration:
+            break
+        except csv.Error as exc:
+            raise _csv_failure(path, header_line + reader.line_num, exc) from None
         rows.append(header_line + 1 + last)
         last = reader.line_num
         records.append(rec)
-    width = max([width, *(len(r) for r in records)])
+        if len(rec) > widest:
+            widest = len(rec)
+            if widest > lim.columns:
+                raise _refuse(path, "columns in a line", widest, lim.columns, "columns",
+                              row=rows[-1])
+        if widest * len(records) > lim.cells:
+            raise _refuse(path, "cells (rows x widest row)", widest * len(records), lim.cells,
+                          "cells", row=rows[-1])
+    width = widest
     cols = {i: np.array([r[i] if i < len(r) else "" for r in records], dtype=object)
             for i in range(width)}
     frame = pd.DataFrame({i: pd.Series(v, dtype=object, copy=False) for i, v in cols.items()})
@@ -432,59 +648,84 @@ def _cell_text(v: Any) -> str:
     return str(v).strip()
 
 
-class _Workbook:
-    """Sheet names and rows of a workbook through calamine (fast) or openpyxl (fallback)."""
+def _percent_text(v: Any) -> str | None:
+    """A number shown with a percent format as the user sees it: 0.05 -> ``5%``."""
+    if isinstance(v, bool) or not isinstance(v, (int, float)):
+        return None
+    if isinstance(v, float) and not math.isfinite(v):
+        return None
+    return f"{v * 100:.10g}%"
 
-    def __init__(self, path: str) -> None:
+
+_KIND_LABEL = {"xlsx": "XLSX", "xls": "legacy Excel (.xls)", "xlsb": "Excel binary (.xlsb)",
+               "ods": "OpenDocument (.ods)"}
+
+
+class _Workbook:
+    """Sheet names, visibility and cell values of a workbook through python-calamine (fast,
+    and the only reader of .xls and .ods) or openpyxl (the default install's .xlsx reader)."""
+
+    def __init__(self, path: str, data: bytes, *, kind: str = "xlsx") -> None:
         self.path = path
         try:
             import python_calamine
         except ImportError:
             python_calamine = None
+        label = _KIND_LABEL.get(kind, kind)
+        if python_calamine is None and kind != "xlsx":
+            raise InputError(f"a {label} workbook: reading it needs python-calamine, which is "
+                             "not installed", path=path,
+                             hint=f'install it with {FAST_EXTRA}, or save the sheet as .xlsx '
+                                  "or .csv")
         self._calamine = None
         self._openpyxl = None
         try:
             if python_calamine is not None:
-                self._calamine = python_calamine.CalamineWorkbook.from_path(path)
+                self._calamine = python_calamine.CalamineWorkbook.from_filelike(io.BytesIO(data))
                 self.sheet_names = list(self._calamine.sheet_names)
+                visible = python_calamine.SheetVisibleEnum.Visible
+                self.hidden = {m.name for m in self._calamine.sheets_metadata
+                               if m.visible != visible}
             else:
                 import openpyxl
 
-                self._openpyxl = openpyxl.load_workbook(path, read_only=True, data_only=True)
+                with warnings.catch_warnings():
+                    warnings.simplefilter("ignore")  # openpyxl's notes on styles and extensions
+                    self._openpyxl = openpyxl.load_workbook(io.BytesIO(data), read_only=True,
+                                                            data_only=True)
                 self.sheet_names = list(self._openpyxl.sheetnames)
+                self.hidden = {n for n in self.sheet_names
+                               if getattr(self._openpyxl[n], "sheet_state", "visible") != "visible"}
+        except InputError:
+            raise
         except Exception as exc:  # each library raises its own zip/XML errors
             raise InputError(
-                "not an XLSX workbook (cannot open it as one: " + _short(exc) + ")", path=path,
-                expected="an .xlsx workbook saved by a spreadsheet program",
+                f"not a readable {label} workbook (cannot open it: " + _short(exc) + ")",
+                path=path, expected="a workbook saved by a spreadsheet program",
                 hint="if it is a text table, give it a .csv name",
             ) from None
 
-    def rows(self, name: str) -> list[list[str]]:
-        """All rows of a sheet from row 1, as text cells (merged ranges: top-left cell only)."""
-        if self._calamine is not None:
-            values = self._calamine.get_sheet_by_name(name).to_python(skip_empty_area=False)
-        else:
-            ws = self._openpyxl[name]
-            values = ws.iter_rows(values_only=True)
-        return [[_cell_text(v) for v in row] for row in values]
-
-    def head(self, name: str, n: int) -> list[list[str]]:
-        """The first ``n`` rows of a sheet, for finding the header row."""
+    def values(self, name: str, nrows: int | None = None) -> list[list[Any]]:
+        """The cell values of a sheet from row 1 (merged ranges: top-left cell only)."""
         if self._calamine is not None:
             sheet = self._calamine.get_sheet_by_name(name)
-            values = sheet.to_python(skip_empty_area=False, nrows=n)
-        else:
-            values = self._openpyxl[name].iter_rows(values_only=True, max_row=n)
-        return [[_cell_text(v) for v in row] for row in values]
+            if nrows is None:
+                return sheet.to_python(skip_empty_area=False)
+            return sheet.to_python(skip_empty_area=False, nrows=nrows)
+        ws = self._openpyxl[name]
+        return [list(r) for r in ws.iter_rows(values_only=True, max_row=nrows)]
 
     def close(self) -> None:
-        if self._openpyxl is not None:
-            self._openpyxl.close()
-        if self._calamine is not None:
-            self._calamine.close()
+        try:
+            if self._openpyxl is not None:
+                self._openpyxl.close()
+            if self._calamine is not None:
+                self._calamine.close()
+        except Exception:  # noqa: BLE001 - closing a damaged workbook must not hide the error
+            pass
 
 
-def _short(exc: Exception) -> str:
+def _short(exc: BaseException) -> str:
     msg = str(exc).strip().splitlines()[0] if str(exc).strip() else type(exc).__name__
     return msg[:120]
 
@@ -506,62 +747,199 @@ def _pick_sheet(path: str, names: list[str], sheet: str | int | None) -> str:
                      expected="one of " + ", ".join(map(repr, names)) + " or a 1-based index")
 
 
+@dataclass(frozen=True)
+class _SheetRows:
+    """A sheet's rows as text with their source row numbers, hidden ones left out (counted)."""
+
+    cells: list[list[str]]
+    rows: list[int]
+    hidden_rows: tuple[int, ...] = ()  # hidden rows left out that held data
+    hidden_columns: tuple[tuple[int, str], ...] = ()  # (column number, header) left out
+
+
+def _sheet_rows(wb: _Workbook, name: str, scan: Any, nrows: int | None,
+                include_hidden: bool) -> _SheetRows:
+    values = wb.values(name, nrows)
+    if scan is not None and scan.percent_cells:
+        for r, c in scan.percent_cells:
+            if r <= len(values) and c <= len(values[r - 1]):
+                shown = _percent_text(values[r - 1][c - 1])
+                if shown is not None:
+                    values[r - 1][c - 1] = shown
+    cells = [[_cell_text(v) for v in row] for row in values]
+    numbers = list(range(1, len(cells) + 1))
+    if include_hidden or scan is None or not (scan.hidden_rows or scan.hidden_columns):
+        return _SheetRows(cells, numbers)
+    dropped = [i for i in range(len(cells)) if i + 1 in scan.hidden_rows]
+    with_data = tuple(i + 1 for i in dropped if any(cells[i]))
+    keep = [i for i in range(len(cells)) if i + 1 not in scan.hidden_rows]
+    cells, numbers = [cells[i] for i in keep], [numbers[i] for i in keep]
+    gone: list[tuple[int, str]] = []
+    if scan.hidden_columns:
+        width = max((len(r) for r in cells), default=0)
+        drop = sorted(c for c in scan.hidden_columns if c <= width)
+        filled = [c for c in drop if any(c <= len(r) and r[c - 1] for r in cells)]
+        gone = [(c, next((r[c - 1] for r in cells if c <= len(r) and r[c - 1]), ""))
+                for c in filled]
+        if drop:
+            keep_c = [j for j in range(width) if j + 1 not in scan.hidden_columns]
+            cells = [[r[j] if j < len(r) else "" for j in keep_c] for r in cells]
+    return _SheetRows(cells, numbers, with_data, tuple(gone))
+
+
+def _is_ods(data: bytes) -> bool:
+    """An OpenDocument spreadsheet: a zip whose first member is its stored ``mimetype``."""
+    return (data.startswith(_ZIP_MAGIC) and data[30:38] == b"mimetype"
+            and b"opendocument.spreadsheet" in data[38:120])
+
+
+def _open_zip(path: str, data: bytes, kind: str) -> zipfile.ZipFile:
+    try:
+        return zipfile.ZipFile(io.BytesIO(data))
+    except (zipfile.BadZipFile, zipfile.LargeZipFile, ValueError, OSError, EOFError):
+        raise InputError(f"not an {kind} workbook (a damaged zip archive)", path=path,
+                         expected=f"an .{kind} workbook saved by a spreadsheet program") from None
+
+
+def _read_calamine_only(path: str, data: bytes, sheet: str | int | None,
+                        predicate: Callable[[list[str]], bool], suffix: str) -> RawTable:
+    """An .xls, .xlsb or .ods workbook, through python-calamine (the ``fast`` extra)."""
+    kind = "ods" if _is_ods(data) or suffix == ".ods" else suffix.lstrip(".") or "xls"
+    lim = limits_mod.current()
+    if data.startswith(_ZIP_MAGIC):
+        from bomcheck.workbook_scan import check_zip
+
+        with _open_zip(path, data, kind) as zf:
+            try:
+                check_zip(zf, path, lim)
+            except (zipfile.BadZipFile, OSError, ValueError) as exc:
+                raise InputError(f"not a readable {kind} workbook ({_short(exc)})",
+                                 path=path) from None
+    return _read_workbook(path, data, sheet, predicate, kind=kind, scan=None)
+
+
 def _read_xlsx(path: str, data: bytes, sheet: str | int | None,
                predicate: Callable[[list[str]], bool]) -> RawTable:
     if not data.startswith(_ZIP_MAGIC):
         raise InputError("not an XLSX workbook (an .xlsx file is a zip archive; this is not)",
                          path=path, expected="an .xlsx workbook saved by a spreadsheet program",
                          hint="if it is a text table, give it a .csv name")
-    try:
-        with zipfile.ZipFile(io.BytesIO(data)) as zf:
+    from bomcheck.workbook_scan import scan_workbook
+
+    with _open_zip(path, data, "XLSX") as zf:
+        try:
             if "xl/workbook.xml" not in zf.namelist():
                 raise InputError("not an XLSX workbook (a zip archive without xl/workbook.xml)",
                                  path=path, expected="an .xlsx workbook")
-    except zipfile.BadZipFile:
-        raise InputError("not an XLSX workbook (a damaged zip archive)", path=path,
-                         expected="an .xlsx workbook saved by a spreadsheet program") from None
-    wb = _Workbook(path)
+            scan = scan_workbook(zf, path, limits_mod.current())
+        except InputError:
+            raise
+        except Exception as exc:  # zlib, zip and decoding errors of a damaged member
+            raise InputError(f"not a readable XLSX workbook (a damaged part: {_short(exc)})",
+                             path=path, expected="an .xlsx workbook saved by a spreadsheet "
+                             "program") from None
+    return _read_workbook(path, data, sheet, predicate, kind="xlsx", scan=scan)
+
+
+def _read_workbook(path: str, data: bytes, sheet: str | int | None,
+                   predicate: Callable[[list[str]], bool], *, kind: str, scan: Any) -> RawTable:
+    lim = limits_mod.current()
+    wb = _Workbook(path, data, kind=kind)
+    current = None
     try:
         if not wb.sheet_names:
             raise InputError("the workbook has no sheets", path=path)
+        hidden = set(wb.hidden)
+        if scan is not None and scan.scanned:
+            hidden |= {s.name for s in scan.sheets if s.hidden}
+        notes: list[ReadWarning] = []
         if sheet is not None:
-            chosen = _pick_sheet(path, wb.sheet_names, sheet)
-            candidates = [chosen]
+            candidates = [_pick_sheet(path, wb.sheet_names, sheet)]
         else:
-            candidates = wb.sheet_names
+            candidates = [n for n in wb.sheet_names if lim.include_hidden or n not in hidden]
+            skipped = [n for n in wb.sheet_names if n not in candidates]
+            if skipped:
+                notes.append(ReadWarning(
+                    "hidden-sheets", f"{path}: {len(skipped)} hidden worksheet"
+                    f"{'s' if len(skipped) > 1 else ''} not read ("
+                    + ", ".join(map(repr, skipped)) + "); --include-hidden reads them, --sheet "
+                    "NAME picks one"))
         searched: list[list[str]] = []
         for name in candidates:
-            head = wb.head(name, HEADER_SEARCH_ROWS * 4)
-            h = _find_header(head, predicate)
+            current = name
+            s_scan = scan.sheet(name) if scan is not None else None
+            head = _sheet_rows(wb, name, s_scan, HEADER_SEARCH_ROWS * 4, lim.include_hidden)
+            h = _find_header(head.cells, predicate)
             if h is not None:
-                return _xlsx_table(path, name, wb.rows(name), h)
-            searched.extend([r for r in head if any(r)][:HEADER_SEARCH_ROWS])
+                full = _sheet_rows(wb, name, s_scan, None, lim.include_hidden)
+                notes.extend(_hidden_notes(path, name, full))
+                table = _xlsx_table(path, name, full, h, kind, lim)
+                return replace(table, warnings=table.warnings + tuple(notes))
+            searched.extend([r for r in head.cells if any(r)][:HEADER_SEARCH_ROWS])
+        current = None
         where = (f"sheet {candidates[0]!r}" if sheet is not None
-                 else "every sheet (" + ", ".join(map(repr, wb.sheet_names)) + ")")
+                 else "every visible sheet (" + ", ".join(map(repr, candidates)) + ")")
+        hint = "pick the sheet with --sheet or name the column with --columns refdes=HEADER"
+        if sheet is None and hidden:
+            hint += "; hidden sheets were not searched (--include-hidden)"
         raise HeaderNotFound(
             f"no header row with a designator column in the first {HEADER_SEARCH_ROWS} rows "
             f"of {where}",
             path=path, candidates=searched, where=where,
             expected="a header row naming a designator column such as Designator, RefDes or "
-                     "Reference",
-            hint="pick the sheet with --sheet or name the column with --columns refdes=HEADER",
-        )
+                     "Reference", hint=hint)
+    except InputError:
+        raise
+    except Exception as exc:  # noqa: BLE001 - a damaged sheet, whatever the library raises
+        place = f"sheet {current!r} " if current is not None else ""
+        raise InputError(f"cannot read {place}of the workbook ({type(exc).__name__}: "
+                         f"{_short(exc)})", path=path,
+                         expected="a workbook saved by a spreadsheet program") from None
     finally:
         wb.close()
 
 
-def _xlsx_table(path: str, name: str, all_rows: list[list[str]], h: int) -> RawTable:
+def _hidden_notes(path: str, name: str, rows: _SheetRows) -> list[ReadWarning]:
+    out = []
+    if rows.hidden_rows:
+        n = len(rows.hidden_rows)
+        shown = ", ".join(map(str, rows.hidden_rows[:10])) + (" ..." if n > 10 else "")
+        out.append(ReadWarning("hidden-rows", f"{path}: sheet {name!r}: {n} hidden row"
+                               f"{'s' if n > 1 else ''} with data not read ({shown}); "
+                               "--include-hidden reads them", rows.hidden_rows))
+    if rows.hidden_columns:
+        from bomcheck.workbook_scan import column_letters
+
+        n = len(rows.hidden_columns)
+        shown = ", ".join(f"{column_letters(c)}" + (f" {h!r}" if h else "")
+                          for c, h in rows.hidden_columns[:10])
+        out.append(ReadWarning("hidden-columns", f"{path}: sheet {name!r}: {n} hidden column"
+                               f"{'s' if n > 1 else ''} with data not read ({shown}); "
+                               "--include-hidden reads them"))
+    return out
+
+
+def _xlsx_table(path: str, name: str, sheet: _SheetRows, h: int, kind: str,
+                lim: limits_mod.Limits) -> RawTable:
     import pandas as pd
 
+    all_rows = sheet.cells
     headers = list(all_rows[h])
     body = all_rows[h + 1:]
     width = max([len(headers), *(len(r) for r in body)]) if body else len(headers)
+    # Checked before reading for an .xlsx (bomcheck.workbook_scan); again here for the others.
+    if len(all_rows) > lim.rows:
+        raise _refuse(path, f"sheet {name!r}: rows", len(all_rows), lim.rows, "rows")
+    if width > lim.columns:
+        raise _refuse(path, f"sheet {name!r}: columns", width, lim.columns, "columns")
+    if width * len(all_rows) > lim.cells:
+        raise _refuse(path, f"sheet {name!r}: cells", width * len(all_rows), lim.cells, "cells")
     headers += [""] * (width - len(headers))
     cols = {i: np.array([r[i] if i < len(r) else "" for r in body], dtype=object)
             for i in range(width)}
     frame = pd.DataFrame({i: pd.Series(v, dtype=object, copy=False) for i, v in cols.items()})
-    rows = np.arange(h + 2, h + 2 + len(body), dtype=np.int64)
-    return _finish(path, "xlsx", None, name, h + 1, headers, frame, rows)
+    rows = np.asarray(sheet.rows[h + 1:], dtype=np.int64)
+    return _finish(path, kind, None, name, sheet.rows[h], headers, frame, rows)
 
 
 # ---------------------------------------------------------------------------------------------

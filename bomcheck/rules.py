@@ -14,7 +14,6 @@ import difflib
 import functools
 import json
 import math
-import tomllib
 from collections.abc import Callable, Sequence
 from dataclasses import asdict, dataclass, field, replace
 from importlib import resources
@@ -23,13 +22,14 @@ from typing import Any
 
 import numpy as np
 
-from bomcheck.errors import RuleError, RuleProblem, UnitError
+from bomcheck.errors import InputError, RuleError, RuleProblem, UnitError
 from bomcheck.spec import SAFETY_CLASSES, SPEC_KEYS, TECHNOLOGIES
 from bomcheck.status import RULE_STATUSES
 from bomcheck.units import SI_UNITS, check_plausible, to_si
 from bomcheck.vocabulary import CONDITIONS, METRICS, Metric
 
 DEFAULT_RULESET = "industrial"
+MAX_EXTENDS_DEPTH = 32  # files in one extends chain (the shipped sets use 2 or 3)
 """The rule set used when no ``--rules`` is given: ``industrial``.
 
 Most BOMs hold commercial and industrial parts, and the industrial set is written for them: its
@@ -626,12 +626,23 @@ def _apply(spec: str, base: Path | None, state: _State, stack: tuple[str, ...],
         state.problems.append(RuleProblem(from_display or display, "ruleset.extends",
                                           f"extends chain loops back to {display}"))
         return
+    if len(stack) >= MAX_EXTENDS_DEPTH:
+        state.problems.append(RuleProblem(
+            from_display or display, "ruleset.extends",
+            f"extends chain longer than {MAX_EXTENDS_DEPTH} files; expected a short chain of "
+            "rule sets, each extending a shipped set or another file"))
+        return
+    from bomcheck.reader import load_toml, read_bytes
+
     try:
-        text = (path.read_text(encoding="utf-8") if path is not None else
-                shipped_root().joinpath(f"{spec}.toml").read_text("utf-8"))
-        doc = tomllib.loads(text)
-    except tomllib.TOMLDecodeError as exc:
-        state.problems.append(RuleProblem(display, "TOML", f"not valid TOML: {exc}"))
+        if path is not None:  # a regular file within the size limit, like every input
+            text = read_bytes(str(path), "rule file").decode("utf-8-sig")
+        else:
+            text = shipped_root().joinpath(f"{spec}.toml").read_text("utf-8")
+        doc = load_toml(text, display)
+    except InputError as exc:
+        state.problems.append(RuleProblem(display, "TOML" if "TOML" in exc.problem or "nested"
+                                          in exc.problem else "file", exc.problem))
         return
     except (OSError, UnicodeDecodeError) as exc:
         state.problems.append(RuleProblem(display, "file", f"cannot read: {exc}"))

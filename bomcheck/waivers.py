@@ -20,9 +20,9 @@ TOML::
     expires = 2027-06-30          # a TOML date or "YYYY-MM-DD"; valid through that day
     bom_text = "10uF | CAP CER 10UF 6.3V X5R 0603"   # optional
 
-CSV: a header row ``refdes,rule,reason,approved_by,expires,bom_text`` (``bom_text`` optional),
-then one waiver per line; comma, semicolon or tab separated; lines starting with ``#`` are
-comments.
+CSV (or TSV, semicolon CSV, XLSX; read by ``bomcheck.reader`` like every table): a header row
+``refdes,rule,reason,approved_by,expires,bom_text`` (``bom_text`` optional), then one waiver per
+line; lines starting with ``#`` are comments.
 
 This module reads files only in ``load_waivers``; ``waive_verdicts`` and ``apply_waivers`` are
 pure.
@@ -30,14 +30,10 @@ pure.
 
 from __future__ import annotations
 
-import csv
 import dataclasses
 import datetime as dt
 import fnmatch
-import hashlib
-import io
 import re
-import tomllib
 from collections.abc import Sequence
 from dataclasses import dataclass
 from pathlib import Path
@@ -107,27 +103,24 @@ class WaiverFinding:
 # Reading waiver files.
 
 def load_waivers(path: str | Path) -> WaiverFile:
-    """Read a TOML (``.toml``) or CSV (any other suffix) waiver file; bad entries raise
-    ``InputError`` naming the file, the entry and the key."""
+    """Read a TOML (``.toml``) or table (CSV/TSV/XLSX, through ``bomcheck.reader``) waiver file;
+    bad entries raise ``InputError`` naming the file, the entry and the key."""
+    from bomcheck.reader import read_input
+
     p = Path(path)
-    try:
-        data = p.read_bytes()
-    except OSError as exc:
-        raise InputError(f"cannot read waiver file: {exc.strerror}", path=str(path)) from None
-    sha = hashlib.sha256(data).hexdigest()
+    data, sha = read_input(str(path), "waiver file")
     if p.suffix.lower() == ".toml":
         entries = _toml_entries(data, str(path))
     else:
-        entries = _csv_entries(data, str(path))
+        entries = _table_entries(str(path))
     waivers = tuple(_waiver(raw, row, where, str(path)) for row, where, raw in entries)
     return WaiverFile(path=str(path), sha256=sha, waivers=waivers)
 
 
 def _toml_entries(data: bytes, path: str) -> list[tuple[int, str, dict]]:
-    try:
-        doc = tomllib.loads(data.decode("utf-8-sig"))
-    except (UnicodeDecodeError, tomllib.TOMLDecodeError) as exc:
-        raise InputError(f"not a readable TOML file ({exc})", path=path) from None
+    from bomcheck.reader import load_toml, toml_text
+
+    doc = load_toml(toml_text(data, path), path)
     extra = sorted(set(doc) - {"waiver"})
     if extra:
         raise InputError("unknown top-level key in waiver file", path=path, text=extra[0],
@@ -139,29 +132,31 @@ def _toml_entries(data: bytes, path: str) -> list[tuple[int, str, dict]]:
     return [(i + 1, f"waiver[{i + 1}]", item) for i, item in enumerate(items)]
 
 
-def _csv_entries(data: bytes, path: str) -> list[tuple[int, str, dict]]:
+def _is_waiver_header(cells: list[str]) -> bool:
+    keys = {_key(c) for c in cells if c.strip()}
+    return "refdes" in keys and "rule" in keys
+
+
+def _table_entries(path: str) -> list[tuple[int, str, dict]]:
+    """The entries of a CSV/TSV/XLSX waiver file, read by the shared table reader (its limits,
+    line ends, encodings and cell sizes); rows whose first cell starts with ``#`` are comments."""
+    from bomcheck.reader import HeaderNotFound, read_table
+
     try:
-        text = data.decode("utf-8-sig")
-    except UnicodeDecodeError:
-        raise InputError("waiver file is not UTF-8 text", path=path,
-                         expected="a UTF-8 CSV file") from None
-    lines = [ln for ln in text.splitlines() if ln.strip() and not ln.lstrip().startswith("#")]
-    if not lines:
-        return []
-    head = lines[0]
-    delimiter = max((",", ";", "\t"), key=head.count)
-    reader = csv.reader(io.StringIO(text), delimiter=delimiter)
-    header: list[str] | None = None
+        table = read_table(path, header_predicate=_is_waiver_header)
+    except HeaderNotFound:
+        raise InputError("no waiver header row in the first rows", path=path,
+                         expected="a header row " + ",".join(FIELDS) + " (bom_text optional)"
+                         ) from None
+    headers = [h.strip() for h in table.headers]
+    arrays = [table.frame[c].to_numpy(dtype=object) for c in table.frame.columns]
     out = []
-    for cells in reader:
-        if not any(c.strip() for c in cells) or cells[0].lstrip().startswith("#"):
+    for i, row in enumerate(table.rows.tolist()):
+        cells = [a[i] for a in arrays]
+        if not cells or cells[0].lstrip().startswith("#"):
             continue
-        if header is None:
-            header = [c.strip() for c in cells]
-            continue
-        row = reader.line_num
-        raw = {h: c for h, c in zip(header, cells) if h}
-        out.append((row, f"row {row}", raw))
+        raw = {h: c for h, c in zip(headers, cells) if h}
+        out.append((int(row), f"row {row}", raw))
     return out
 
 

@@ -429,3 +429,24 @@ def test_bank_discharges_through_every_bleeder_on_its_node():
     assert res.table["t_to_60v_s"].tolist() == pytest.approx(
         [5e3 * 240e-6 * math.log(400 / 60)] * 2)
     assert res.groups[0]["discharge_s"] == pytest.approx(5e3 * 240e-6 * math.log(400 / 60))
+
+
+@pytest.mark.parametrize("design", [
+    "refdes,v_dc,t_ambient_c,r_bleeder_ohm\nC1,12,40,0\n",
+    "refdes,members,kind,v_dc,r_bleeder_ohm\nBANK,C1,bank,12,0\n",
+])
+def test_a_0_ohm_bleeder_is_an_input_error_without_numpy_warnings(tmp_path, design, recwarn):
+    # A 0 ohm bleeder would short the capacitor: an entry error (an empty cell means "none"),
+    # never a 0 s discharge that passes.
+    from bomcheck.errors import InputError
+
+    (tmp_path / "b.csv").write_text("Designator,Value\nC1,10uF 50V X7R 1206\n", encoding="utf-8")
+    (tmp_path / "d.csv").write_text(design, encoding="utf-8")
+    with pytest.raises(InputError, match="r_bleeder_ohm"):
+        run_audit(str(tmp_path / "b.csv"), str(tmp_path / "d.csv"))
+    assert not [w for w in recwarn if issubclass(w.category, RuntimeWarning)]
+
+
+def test_voltage_after_a_zero_resistance_warns_nothing(recwarn):
+    assert circuit.voltage_after(1.0, 0.0, 1e-6, 10.0) == 0.0
+    assert not recwarn.list

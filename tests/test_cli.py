@@ -243,3 +243,49 @@ def test_progress_only_on_a_terminal_for_a_large_bom(tmp_path, monkeypatch):
     assert run(large, tty=False) == ""
     assert run(large, tty=True, quiet=True) == ""
     assert "write json" in run(large, tty=True)
+
+
+# --------------------------------------------------------------------------------------------
+# Internal errors, standard input and input limits (issue 10).
+
+def test_an_internal_error_has_its_own_exit_status_and_one_line(board, capsys, monkeypatch):
+    def broken(args):
+        raise KeyError("unexpected")
+
+    monkeypatch.setattr(commands, "run_import", broken)
+    assert main(["import", board("pass")]) == 3  # never 0 (clean), 1 (findings) or 2 (input)
+    err = capsys.readouterr().err
+    assert err.count("\n") == 1 and "internal error" in err and "--debug" in err
+    assert "Traceback" not in err
+    with pytest.raises(KeyError):
+        main(["--debug", "import", board("pass")])
+
+
+def test_bom_from_standard_input(board, capsys, monkeypatch):
+    data = (HEADER + LINES["pass"] + LINES["fail"]).encode("utf-8")
+    board("pass", "fail")  # the design sheet
+    for argv, code in ((["import", "-", "--json"], 0),
+                       (["audit", "-", "--design", "design.csv", "--json", "-"], 1)):
+        monkeypatch.setattr("sys.stdin", io.TextIOWrapper(io.BytesIO(data)))
+        assert main(argv) == code
+        out = json.loads(capsys.readouterr().out)
+        text = json.dumps(out)
+        assert "C1" in text and "C4" in text
+
+
+def test_placement_limit_refuses_with_its_option_and_the_option_raises_it(board, capsys):
+    lines = "".join(f'"C{p}1-C{p}9999",1,100nF,CAP CER 0.1UF 50V X7R 0603,KV-1\n'
+                    for p in "ABCDEF")  # 6 x 9,999 placements from 330 bytes
+    open("big.csv", "w", encoding="utf-8").write(HEADER + lines)
+    assert main(["import", "big.csv"]) == 2
+    err = capsys.readouterr().err
+    assert "more than 50,000 placements" in err and "--max-placements" in err
+    assert main(["import", "big.csv", "--max-placements", "60000", "--json"]) == 0
+    capsys.readouterr()
+
+
+@pytest.mark.parametrize("value", ["0", "-3", "abc", "1.5"])
+def test_limit_options_take_whole_numbers_above_zero(board, capsys, value):
+    with pytest.raises(SystemExit) as exc:
+        main(["import", board("pass"), "--max-rows", value])
+    assert exc.value.code == 2

@@ -448,7 +448,9 @@ def test_read_xlsx_file(tmp_path):
     assert c.at["C3", "c_min_f"] == pytest.approx(2.2e-6)
     assert c.at["C7", "v_dc"] == 0.5 and c.at["C7", "t_ambient_c"] == 85.5
     assert d.defaults == pytest.approx({"t_ambient_c": 40.0, "life_h": 87660.0})
-    assert any("v_tol_pct of 0.05 % in row 6" in str(w) for w in d.warnings)
+    # The cell formatted "0%" shows 5 %: it reads as 5 %, not 0.05 % (issue 9, class 9).
+    assert c.at["C8", "v_dc_max"] == pytest.approx(3.3 * 1.05)
+    assert not any("v_tol_pct of 0.05 %" in w for w in map(str, d.warnings))
     assert read_design(str(path), sheet="Conditions").conditions.equals(c)
 
 

@@ -297,3 +297,301 @@ def test_large_file_read_in_parallel_keeps_rows(tmp_path):
     assert t.rows[0] == 3 and t.rows[-1] == 80003
     assert t.frame.iloc[4997, 0] == "C4998" and t.rows[4997] == 5000
     assert t.frame.iloc[4998, 0] == "C4999" and t.rows[4998] == 5002
+
+
+# ---------------------------------------------------------------------------------------------
+# Hostile and unusual text tables (issue 10): cell sizes, line ends, mixed encodings, limits.
+
+from bomcheck.limits import Limits, use_limits  # noqa: E402
+
+
+def test_cell_over_128_kib_and_a_long_header_are_read(tmp_path):
+    # The csv module's own default limit is 128 KiB per cell; a BOM note can be longer.
+    note, head = "n" * 200_000, "H" * 150_000
+    path = _write(tmp_path / "b.csv", f"Designator,Value,{head}\nC1,1uF,\"{note}\"\nC2,2uF,x\n")
+    t = read_table(path)
+    assert t.headers == ["Designator", "Value", head]
+    assert _cells(t) == [["C1", "1uF", note], ["C2", "2uF", "x"]]
+
+
+@pytest.mark.parametrize("quoted", [False, True])
+def test_cell_over_the_limit_is_refused_naming_the_row(tmp_path, quoted):
+    big = "x" * 3000
+    cell = f'"{big}"' if quoted else big
+    path = _write(tmp_path / "b.csv", f"Designator,Value\nC1,1uF\nC2,{cell}\n")
+    with use_limits(Limits(cell_chars=2000)):
+        msg = _one_line_error(path)
+    assert "row 3" in msg and "2,000 characters" in msg
+
+
+@pytest.mark.parametrize("text, rows", [
+    ("Designator,Value\rC1,1uF\rC2,2uF\r", [2, 3]),  # lone CR (old Mac line ends)
+    ("Designator,Value\r\nC1,1uF\rC2,2uF\nC3,3uF\r\n", [2, 3, 4]),  # all three mixed
+    ("Title\rDesignator,Value\rC1,1uF\r", [3]),  # lone CR above the header
+])
+def test_lone_cr_and_mixed_line_ends(tmp_path, text, rows):
+    t = read_table(_write(tmp_path / "b.csv", text))
+    assert t.headers == ["Designator", "Value"]
+    assert [r[0] for r in _cells(t)] == [f"C{i}" for i in range(1, len(rows) + 1)]
+    assert t.rows.tolist() == rows
+
+
+def test_quoted_cell_holding_a_cr(tmp_path):
+    t = read_table(_write(tmp_path / "b.csv", 'Designator,Notes\r\nC1,"a\rb"\r\nC2,c\r\n'))
+    assert _cells(t) == [["C1", "a\rb"], ["C2", "c"]]
+    assert t.rows.tolist() == [2, 4]  # C2 starts on line 4: the quoted CR ends line 2
+
+
+def test_one_cp1252_line_in_a_utf8_file_is_read_per_line_and_reported(tmp_path):
+    raw = ("Designator,Value\nC1,4.7µF 25V\n").encode("utf-8") + \
+        "C2,10 µF 16V\n".encode("cp1252") + "C3,1µF\n".encode("utf-8")
+    path = tmp_path / "b.csv"
+    path.write_bytes(raw)
+    t = read_table(str(path))
+    assert _cells(t) == [["C1", "4.7µF 25V"], ["C2", "10 µF 16V"], ["C3", "1µF"]]
+    assert t.encoding == reader.MIXED_ENCODING
+    (w,) = t.warnings
+    assert w.code == "mixed-encoding" and w.rows == (3,)
+    assert str(path) in w.message and "line 3" in w.message
+
+
+def test_a_whole_cp1252_file_has_no_mixed_encoding_warning(tmp_path):
+    path = tmp_path / "b.csv"
+    path.write_bytes("Designator,Value\nC1,4.7µF\n".encode("cp1252"))
+    t = read_table(str(path))
+    assert t.encoding == "cp1252" and t.warnings == () and _cells(t) == [["C1", "4.7µF"]]
+
+
+@pytest.mark.skipif(not hasattr(__import__("os"), "mkfifo"), reason="needs FIFOs")
+def test_a_fifo_is_refused_without_blocking(tmp_path):
+    import os
+
+    fifo = tmp_path / "b.csv"
+    os.mkfifo(fifo)
+    assert "FIFO" in _one_line_error(fifo)  # opening it would wait for a writer forever
+
+
+def test_a_device_is_refused():
+    if not __import__("os").path.exists("/dev/zero"):
+        pytest.skip("no /dev/zero")
+    with pytest.raises(InputError, match="character device"):
+        read_table("/dev/zero")
+
+
+def test_file_size_limit_and_its_override(tmp_path):
+    path = _write(tmp_path / "b.csv", "Designator,Value\n" + "C1,1uF\n" * 200_000)
+    with use_limits(Limits(file_bytes=1 << 20)):
+        assert "larger than the limit of 1 MiB" in _one_line_error(path)
+        assert "--max-file-mb" in _one_line_error(path)
+    assert len(read_table(path).frame) == 200_000
+
+
+@pytest.mark.parametrize("text, needle", [
+    ("Designator,Value\n" + "C1,1uF\n" * 50, "lines 50 is over the limit of 40"),
+    ("Designator,Value," + ",".join(f"h{i}" for i in range(60)) + "\nC1\n", "header columns 62"),
+    ("Designator,Value\nC1,1uF" + ",x" * 70 + "\n", "columns in a line 72"),
+])
+def test_rows_and_columns_limits(tmp_path, text, needle):
+    with use_limits(Limits(rows=40, columns=50)):
+        assert needle in _one_line_error(_write(tmp_path / "b.csv", text))
+
+
+def test_standard_input(monkeypatch):
+    import io
+
+    data = "Designator,Value\nC1,1uF\n".encode("utf-8")
+    monkeypatch.setattr(sys, "stdin", io.TextIOWrapper(io.BytesIO(data)))
+    t = read_table("-")
+    assert _cells(t) == [["C1", "1uF"]]
+    import hashlib
+
+    assert t.sha256 == hashlib.sha256(data).hexdigest()
+
+
+def test_standard_input_is_held_to_the_size_limit(monkeypatch):
+    import io
+
+    monkeypatch.setattr(sys, "stdin", io.TextIOWrapper(io.BytesIO(b"Designator\n" * 1000)))
+    with use_limits(Limits(file_bytes=1000)), pytest.raises(InputError, match="<stdin>"):
+        read_table("-")
+
+
+def test_toml_nested_thousands_deep_is_an_input_error():
+    with pytest.raises(InputError, match="nested more than 32 levels"):
+        reader.load_toml("a = " + "[" * 3000 + "]" * 3000, "x.toml")
+    with pytest.raises(InputError, match="nested more than 32 levels"):
+        reader.load_toml("a = " + "[" * 40 + "]" * 40, "x.toml")  # below tomllib's recursion
+    assert reader.load_toml("a = [[1], [2]]", "x.toml") == {"a": [[1], [2]]}
+
+
+# ---------------------------------------------------------------------------------------------
+# Workbooks: both readers, hidden parts, percent cells, limits (issues 9 and 10).
+
+sys.path.insert(0, str(__import__("pathlib").Path(__file__).parent))
+from hostile_corpus import BOM_ROWS, sheet_xml, xlsx_bytes  # noqa: E402
+
+
+@pytest.fixture(params=["openpyxl", "calamine"])
+def workbook_reader(request, monkeypatch):
+    """Run a workbook test through each reader: openpyxl (the default install) and
+    python-calamine (the fast extra)."""
+    if request.param == "openpyxl":
+        monkeypatch.setitem(sys.modules, "python_calamine", None)
+    else:
+        pytest.importorskip("python_calamine")
+    return request.param
+
+
+def _book(tmp_path, wb) -> str:
+    path = tmp_path / "b.xlsx"
+    wb.save(path)
+    return str(path)
+
+
+def test_percent_formatted_cell_reads_as_shown(tmp_path, workbook_reader):
+    wb = openpyxl.Workbook()
+    ws = wb.active
+    ws.append(["Designator", "Value", "Tolerance"])
+    ws.append(["C1", "100nF 50V X7R", 0.05])
+    ws.append(["C2", "1uF 25V X5R", 0.125])
+    ws.append(["C3", "1uF 25V X5R", 0.2])
+    ws["C2"].number_format = "0%"  # shown as 5 %
+    ws["C3"].number_format = "0.0%"
+    path = _book(tmp_path, wb)
+    t = read_table(path)
+    # A percent format shows value x 100 with a % sign (ECMA-376 Part 1, 18.8.31 numFmt).
+    assert [r[2] for r in _cells(t)] == ["5%", "12.5%", "0.2"]
+
+
+def test_hidden_rows_columns_and_sheets_are_skipped_and_counted(tmp_path, workbook_reader):
+    wb = openpyxl.Workbook()
+    old = wb.active
+    old.title = "Rev A"
+    old.append(["Designator", "Value"])
+    old.append(["C9", "stale"])
+    old.sheet_state = "hidden"
+    ws = wb.create_sheet("BOM")
+    ws.append(["Designator", "Voltage (Rev A)", "Voltage (V)", "Value"])
+    ws.append(["C1", "16", "50", "100nF"])
+    ws.append(["C2", "16", "25", "1uF"])
+    ws.append(["C3", "16", "25", "old line"])
+    ws.column_dimensions["B"].hidden = True
+    ws.row_dimensions[4].hidden = True
+    path = _book(tmp_path, wb)
+
+    t = read_table(path)
+    assert t.sheet == "BOM" and t.headers == ["Designator", "Voltage (V)", "Value"]
+    assert _cells(t) == [["C1", "50", "100nF"], ["C2", "25", "1uF"]]
+    assert t.rows.tolist() == [2, 3]
+    codes = {w.code: w for w in t.warnings}
+    assert set(codes) == {"hidden-sheets", "hidden-rows", "hidden-columns"}
+    assert codes["hidden-rows"].rows == (4,)
+    assert "'Voltage (Rev A)'" in codes["hidden-columns"].message
+    assert "'Rev A'" in codes["hidden-sheets"].message
+
+    with use_limits(Limits(include_hidden=True)):
+        t = read_table(path)
+    assert t.sheet == "Rev A"  # the first sheet with a header, hidden or not
+    with use_limits(Limits(include_hidden=True)):
+        t = read_table(path, sheet="BOM")
+    assert len(t.headers) == 4 and len(t.frame) == 3 and t.warnings == ()
+    t = read_table(path, sheet="Rev A")  # named: a hidden sheet is read
+    assert _cells(t) == [["C9", "stale"]]
+
+
+@pytest.mark.parametrize("extra, dimension, needle", [
+    ('<row r="1048576"><c r="XFD1048576"><v>1</v></c></row>', None, "row 1,048,576"),
+    ("", "A1:XFD1048576", "declared last row 1,048,576"),
+    ('<row r="9"><c r="AMK9"><v>1</v></c></row>', None, "column 1,025"),
+])
+def test_sheet_beyond_the_limits_is_refused_before_reading(tmp_path, workbook_reader, extra,
+                                                           dimension, needle):
+    path = tmp_path / "b.xlsx"
+    path.write_bytes(xlsx_bytes([("BOM", sheet_xml(BOM_ROWS, extra=extra, dimension=dimension),
+                                  "visible")]))
+    msg = _one_line_error(path)
+    assert needle in msg and "'BOM'" in msg and "refused" in msg
+
+
+def test_cells_limit_counts_the_sheets_rectangle(tmp_path, workbook_reader):
+    path = tmp_path / "b.xlsx"
+    path.write_bytes(xlsx_bytes([("BOM", sheet_xml(
+        BOM_ROWS, extra='<row r="300"><c r="Z300"><v>1</v></c></row>'), "visible")]))
+    with use_limits(Limits(cells=5000)):
+        assert "area (rows x columns) 7,800" in _one_line_error(path)
+    assert read_table(str(path)).rows.tolist() == [2, 3, 300]  # within the default limits
+
+
+def test_zip_bomb_is_refused(tmp_path, workbook_reader):
+    buf = __import__("io").BytesIO()
+    with zipfile.ZipFile(buf, "w", zipfile.ZIP_DEFLATED) as zf:
+        zf.writestr("xl/workbook.xml", "<workbook/>")
+        zf.writestr("xl/worksheets/sheet1.xml", b"<row>" + bytes(40 << 20))
+    path = tmp_path / "b.xlsx"
+    path.write_bytes(buf.getvalue())
+    assert "zip bomb" in _one_line_error(path)
+
+
+@pytest.mark.parametrize("broken", ["truncated", "entity", "shared-string", "missing-part"])
+def test_damaged_workbook_parts_are_one_line_errors(tmp_path, workbook_reader, broken):
+    xml = sheet_xml(BOM_ROWS)
+    drop: tuple[str, ...] = ()
+    if broken == "truncated":
+        xml = xml[:-40]
+    elif broken == "entity":
+        xml = xml.replace("CAP CER", "&undefined;")
+    elif broken == "shared-string":
+        xml = xml.replace("</sheetData>", '<row r="4"><c r="A4" t="s"><v>99</v></c></row>'
+                                          "</sheetData>")
+    else:
+        drop = ("xl/worksheets/sheet1.xml",)
+    path = tmp_path / "b.xlsx"
+    path.write_bytes(xlsx_bytes([("BOM", xml, "visible")], drop=drop))
+    _one_line_error(path)
+
+
+def _ods(rows) -> bytes:
+    """A minimal OpenDocument spreadsheet (ISO/IEC 26300: stored mimetype first, content.xml)."""
+    cells = "".join(
+        "<table:table-row>" + "".join(
+            f'<table:table-cell office:value-type="string"><text:p>{v}</text:p>'
+            "</table:table-cell>" for v in row) + "</table:table-row>" for row in rows)
+    content = (
+        '<?xml version="1.0" encoding="UTF-8"?><office:document-content '
+        'xmlns:office="urn:oasis:names:tc:opendocument:xmlns:office:1.0" '
+        'xmlns:table="urn:oasis:names:tc:opendocument:xmlns:table:1.0" '
+        'xmlns:text="urn:oasis:names:tc:opendocument:xmlns:text:1.0" office:version="1.2">'
+        f'<office:body><office:spreadsheet><table:table table:name="BOM">{cells}'
+        "</table:table></office:spreadsheet></office:body></office:document-content>")
+    manifest = (
+        '<?xml version="1.0" encoding="UTF-8"?><manifest:manifest xmlns:manifest="urn:oasis:'
+        'names:tc:opendocument:xmlns:manifest:1.0" manifest:version="1.2"><manifest:file-entry '
+        'manifest:full-path="/" manifest:media-type="application/vnd.oasis.opendocument.'
+        'spreadsheet"/><manifest:file-entry manifest:full-path="content.xml" '
+        'manifest:media-type="text/xml"/></manifest:manifest>')
+    buf = __import__("io").BytesIO()
+    with zipfile.ZipFile(buf, "w") as zf:
+        zf.writestr("mimetype", "application/vnd.oasis.opendocument.spreadsheet",
+                    compress_type=zipfile.ZIP_STORED)
+        zf.writestr("META-INF/manifest.xml", manifest, compress_type=zipfile.ZIP_DEFLATED)
+        zf.writestr("content.xml", content, compress_type=zipfile.ZIP_DEFLATED)
+    return buf.getvalue()
+
+
+def test_ods_is_read_through_calamine(tmp_path):
+    pytest.importorskip("python_calamine")
+    path = tmp_path / "b.ods"
+    path.write_bytes(_ods(BOM_ROWS))
+    t = read_table(str(path))
+    assert t.format == "ods" and t.sheet == "BOM" and t.headers == BOM_ROWS[0]
+    assert _cells(t) == BOM_ROWS[1:]
+
+
+@pytest.mark.parametrize("name, data", [("b.ods", _ods(BOM_ROWS)),
+                                        ("b.xls", reader._OLE_MAGIC + bytes(504))])
+def test_xls_and_ods_without_calamine_name_the_extra(tmp_path, monkeypatch, name, data):
+    monkeypatch.setitem(sys.modules, "python_calamine", None)
+    path = tmp_path / name
+    path.write_bytes(data)
+    msg = _one_line_error(path)
+    assert 'pip install "bomcheck[fast]"' in msg and "python-calamine" in msg

@@ -87,3 +87,46 @@ def test_lists_of_ranges_round_trip(parts, sep):
     text = sep.join(f"{p}{n}-{p}{n + k}" if k else f"{p}{n}" for p, n, k in parts)
     expected = [f"{p}{i}" for p, n, k in parts for i in range(n, n + k + 1)]
     assert expand(text) == expected
+
+
+# Hostile designator cells (issue 10): linear time, bounded numbers and expansions.
+
+def _seconds(fn) -> float:
+    import time
+
+    t0 = time.perf_counter()
+    fn()
+    return time.perf_counter() - t0
+
+
+@pytest.mark.parametrize("cell", [
+    "C" * 100_000 + "x",  # a long letter run that never reaches a digit
+    "C1" + " " * 100_000 + "x",  # a long space run that is no range mark
+    ("C1" + "x" * 9 + "-") * 9000,  # range marks between letter runs
+    "Ab" * 50_000 + "1",
+])
+def test_a_100_kb_garbage_cell_is_linear(cell):
+    # The quadratic forms took minutes on such cells; linear ones take milliseconds.
+    def run():
+        is_designator(cell)
+        try:
+            expand(cell)
+        except InputError:
+            pass
+    assert _seconds(run) < 0.5
+
+
+def test_a_5000_digit_number_is_a_clean_error():
+    with pytest.raises(InputError, match="longer than 9 digits"):
+        expand("C1-C" + "9" * 5000)
+    assert not is_designator("C" + "9" * 5000)  # no int() of it anywhere
+
+
+def test_one_cell_is_held_to_the_cell_placement_limit():
+    from bomcheck.limits import Limits, use_limits
+
+    assert len(expand("C1-C5000, D1-D5000")) == 10_000
+    with pytest.raises(InputError, match="more than 10,000 placements"):
+        expand("C1-C9999, D1-D9999")
+    with use_limits(Limits(cell_placements=100)), pytest.raises(InputError, match="100 "):
+        expand("C1-C60 D1-D60")

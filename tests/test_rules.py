@@ -491,3 +491,26 @@ def test_ratio_limit_1e400_percent_is_refused(tmp_path):
     # issue 10: a rule limit "1e400 %" made the JSON report invalid.
     [p] = problems_of([write(tmp_path, "bad", rule_toml("R", fail='"1e400 %"'))])
     assert "out of range" in p.message
+
+
+def test_extends_chain_is_capped_without_recursion_error(tmp_path):
+    # 1,500 files each extending the next once raised RecursionError (issue 10).
+    n = 1500
+    for i in range(n):
+        write(tmp_path, f"r{i}", rule_toml(f"R{i}"),
+              extends=f"r{i + 1}.toml" if i + 1 < n else "industrial")
+    problems = problems_of([str(tmp_path / "r0.toml")])
+    assert len(problems) == 1 and problems[0].where == "ruleset.extends"
+    assert "longer than 32 files" in problems[0].message
+    # A chain within the cap loads.
+    for i in range(5):
+        write(tmp_path, f"s{i}", rule_toml(f"S{i}"),
+              extends=f"s{i + 1}.toml" if i + 1 < 5 else "industrial")
+    assert "S0" in {r.id for r in load_rules([str(tmp_path / "s0.toml")]).rules}
+
+
+def test_rule_file_nested_thousands_deep_is_one_problem(tmp_path):
+    path = tmp_path / "deep.toml"
+    path.write_text("a = " + "[" * 5000 + "]" * 5000 + "\n", encoding="utf-8")
+    [p] = problems_of([str(path)])
+    assert p.path == str(path) and "nested more than 32 levels" in p.message

@@ -257,3 +257,26 @@ def test_apply_waivers_recomputes_placement_status_and_totals(tmp_path):
     assert out.totals["waived"] == report.totals["waived"] + 1
     assert out.totals["fail"] == report.totals["fail"] - 1
     assert report.table.set_index("refdes").at["C2", "status"] == "fail"  # the input is untouched
+
+
+def test_csv_waivers_go_through_the_shared_table_reader(tmp_path):
+    # Lone CR line ends, a 200 KB reason and a semicolon export: what the BOM reader reads, the
+    # waiver reader reads (issue 10).
+    reason = "measured " + "r" * 200_000
+    path = tmp_path / "w.csv"
+    path.write_bytes((f"# comment\rrefdes;rule;reason;approved_by;expires\r"
+                      f"C1;R-V;\"{reason}\";R. Okafor;2027-06-30\r# done\r").encode("utf-8"))
+    (w,) = load_waivers(path).waivers
+    assert (w.row, w.refdes, w.rule, w.reason) == (3, "C1", "R-V", reason)
+
+
+def test_waiver_with_a_100_kb_garbage_designator_fails_fast(tmp_path):
+    import time
+
+    path = tmp_path / "w.csv"
+    path.write_text("refdes,rule,reason,approved_by,expires\n\"" + ("C1" + "x" * 9 + "-") * 9000
+                    + "\",R-V,why,R. Okafor,2027-06-30\n", encoding="utf-8")
+    t0 = time.perf_counter()
+    with pytest.raises(InputError, match="row 2"):
+        load_waivers(path)
+    assert time.perf_counter() - t0 < 2.0  # quadratic patterns took minutes (issue 10)
