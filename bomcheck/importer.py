@@ -60,12 +60,19 @@ from bomcheck import columns as colmod
 from bomcheck import reader
 from bomcheck.errors import InputError
 from bomcheck.refdes import MAX_RANGE, expand
-from bomcheck.spec import SPEC_KEYS
+from bomcheck.linespec import (
+    FLOAT_SPEC,
+    SPEC_COLUMNS,
+    SPEC_SOURCES,
+    Combo,
+    CellParser,
+    decimal_commas,
+    not_fitted_mark,
+    other_part_evidence,
+    spec_from_cells,
+    strip_not_fitted,
+)
 
-if TYPE_CHECKING:
-    from bomcheck.spec import CapSpec
-
-SPEC_COLUMNS: tuple[str, ...] = tuple(k for k in SPEC_KEYS if k != "text")
 PLACEMENT_COLUMNS: tuple[str, ...] = (
     "refdes", "row", "line", "fitted", "not_fitted_reason", "text", "value_text",
     "description", "mpn", "manufacturer", "qty", *SPEC_COLUMNS,
@@ -95,20 +102,6 @@ _CAP_KIND, _OTHER_KIND, _UNKNOWN_KIND = 1, -1, 0
 _CAP, _NONCAP, _UNREAD = 0, 1, 2
 _KIND_ARRAY = np.array(["capacitor", "not_capacitor", "unreadable"], dtype=object)
 
-# Not-fitted marks inside cell text. Upper-case NF/NC only, and NF not right after a number, so
-# "100 NF" stays a capacitance. "NP" (non-polar) is deliberately absent.
-_NOT_FITTED = re.compile(
-    r"(?<![\w.])(?:"
-    r"(?i:DNP|DNI|DNF|DNM|NO[\s-]?POP(?:ULATE[D]?)?"
-    r"|NOT\s+(?:FITTED|POPULATED|PLACED|MOUNTED|INSTALLED|ASSEMBLED|USED)"
-    r"|DO\s+NOT\s+(?:POPULATE|PLACE|FIT|INSTALL|MOUNT|ASSEMBLE|STUFF)"
-    r"|NICHT\s+BEST(?:Ü|UE|U)CKT|UNBEST(?:Ü|UE|U)CKT|NON[\s-]+MONT(?:É|E)(?:ES|E|S)?)"
-    r"|(?<![\d.,]\s)(?:NF|N/F|N\.F\.)|NC|N\.C\."
-    r")(?!\w)"
-)
-_EMPTY_BRACKETS = re.compile(r"\(\s*\)|\[\s*\]|\{\s*\}")
-_SPACES = re.compile(r"\s{2,}")
-
 # Fitted-column cells, folded (casefold, stripped).
 _FITTED_NO = frozenset({
     "no", "n", "0", "false", "f", "nein", "non", "dnp", "dni", "dnf", "nf", "nc",
@@ -120,58 +113,6 @@ _FITTED_YES = frozenset({
     "populated", "place", "placed", "mount", "mounted", "bestückt", "bestueckt", "monté", "monte",
     "\u2713", "\u2714",
 })
-
-# Text that says "capacitor" on its own: a farad unit, an RKM capacitance, capacitor words.
-_STRONG_CAP = re.compile(
-    r"\d\s*(?:[pnuµμm]|MF|UU|MM)?\s*F(?:D|ARAD)?S?\b|\d[pnuµμ]\d"
-    r"|\b(?:CAPS?|CAPACITORS?|KONDENSATOR(?:EN)?|KERKO|ELKO|TANTAL(?:UM)?|TANT|CONDENSATEURS?"
-    r"|MLCC|SUPERCAP|ELECTROLYTIC|ELEKTROLYT)\b",
-    re.IGNORECASE,
-)
-# Evidence of other parts: words anywhere, unit forms only in the value cell (a capacitor's
-# description may quote its ESR in ohms or its ripple frequency).
-_OTHER_WORDS = re.compile(
-    r"\b(?:(?P<resistor>RES|RESISTORS?|WIDERSTAND|WIDERST[ÄA]NDE|R[ÉE]SISTANCES?)"
-    r"|(?P<inductor>IND|INDUCTORS?|INDUCTANCE|CHOKE|COIL|SPULE|DROSSEL|BOBINE|FERRITE|BEAD)"
-    r"|(?P<crystal>CRYSTAL|XTAL|QUARZ|QUARTZ|RESONATOR|OSCILLATOR|OSC)"
-    r"|(?P<diode>DIODE|ZENER|TVS|SCHOTTKY|RECTIFIER|LED)"
-    r"|(?P<connector>CONN|CONNECTOR|HEADER|SOCKET|RECEPTACLE|STECKER|BUCHSE|STIFTLEISTE"
-    r"|CONNECTEUR))\b",
-    re.IGNORECASE,
-)
-_OTHER_VALUE = re.compile(
-    # IEC 60062 RKM for resistance: 4K7, 1M5, 4k7 (upper-case M; lower-case m is milli).
-    r"(?P<resistor>^\s*\d+(?:k|K|M)\d*\s*$|\d\s*[kKM]?\s*(?:Ω|Ω|[oO][hH][mM][sS]?)\b)"
-    r"|(?P<inductor>\d(?:[.,]\d+)?\s*[pnuµμm]H\b|\d[pnuµμ]\d+\s*H\b)"
-    r"|(?P<crystal>\d\s*[kMG][hH][zZ]\b)"
-)
-_RESISTOR_RKM_CAP_CODE = re.compile(r"^\s*\d{3}[KM]\s*$")  # 104K, 475M: pF code + tolerance
-
-# The cells parsed for the specification, with the parser context each one gets.
-SPEC_SOURCES: tuple[str, ...] = (
-    "value", "description", "voltage", "tolerance", "dielectric", "package", "temperature",
-)
-_SOURCE_LABELS = {
-    "value": "value", "description": "description", "voltage": "voltage column",
-    "tolerance": "tolerance column", "dielectric": "dielectric column",
-    "package": "package column", "temperature": "temperature column",
-}
-# Field groups taken whole from the first source that has the group's main (first) field.
-_GROUPS: tuple[tuple[tuple[str, ...], tuple[str, ...]], ...] = (
-    (("capacitance_f",), ("value", "description")),
-    (("voltage_v", "voltage_kind"), ("voltage", "value", "description")),
-    (("tol_minus_pct", "tol_plus_pct", "tol_abs_f"), ("tolerance", "value", "description")),
-    (("dielectric", "dielectric_class", "cap_change_minus_pct", "cap_change_plus_pct",
-      "tc_ppm", "tc_tol_ppm"), ("dielectric", "value", "description")),
-    (("technology", "film_material", "polarized"), ("dielectric", "value", "description")),
-    (("package", "package_note"), ("package", "value", "description")),
-    (("safety_class",), ("value", "description", "dielectric")),
-    (("emi_filter",), ("value", "description")),
-)
-_FLOAT_SPEC = ("capacitance_f", "voltage_v", "tol_minus_pct", "tol_plus_pct", "tol_abs_f",
-               "dielectric_class", "cap_change_minus_pct", "cap_change_plus_pct", "tc_ppm",
-               "tc_tol_ppm", "temp_min_c", "temp_max_c")
-
 
 @dataclass(frozen=True)
 class ImportOptions:
@@ -241,33 +182,6 @@ class ImportResult:
 # Small pure helpers (each called once per distinct string)
 
 
-def not_fitted_mark(text: str) -> str | None:
-    """The not-fitted mark in a cell (``DNP``, ``do not populate``, ``nicht bestückt``...)."""
-    m = _NOT_FITTED.search(text)
-    return m.group(0) if m else None
-
-
-def strip_not_fitted(text: str) -> str:
-    """The cell without its not-fitted marks (what is left to parse)."""
-    t = _EMPTY_BRACKETS.sub(" ", _NOT_FITTED.sub(" ", text))
-    return _SPACES.sub(" ", t).strip(" ,;/-")
-
-
-_DECIMAL_ANY = re.compile(r"(?<=\d),(?=\d)")
-# Outside semicolon files only an unambiguous decimal comma: 4,7 or 0,1 but not 1,000 (thousands)
-# and not 0603,1uF (a package code glued to the next token).
-_DECIMAL_SAFE = re.compile(r"(?<![\d,.])(0|[1-9]\d{0,2}),(\d{1,2})(?![\d,])")
-
-
-def decimal_commas(text: str, *, semicolon: bool) -> str:
-    """Decimal commas to points: every one in a semicolon file, only unambiguous ones elsewhere."""
-    if "," not in text:
-        return text
-    if semicolon:
-        return _DECIMAL_ANY.sub(".", text)
-    return _DECIMAL_SAFE.sub(r"\1.\2", text)
-
-
 def prefix_kind(pfx: str) -> int:
     """+1 capacitor prefix, -1 known prefix of another part, 0 unknown."""
     if pfx in CAPACITOR_PREFIXES:
@@ -275,19 +189,6 @@ def prefix_kind(pfx: str) -> int:
     if pfx in OTHER_PREFIXES:
         return _OTHER_KIND
     return _UNKNOWN_KIND
-
-
-def other_part_evidence(value: str, description: str) -> tuple[str, str] | None:
-    """(family, token) when the text names another kind of part: ``RES``, ``4u7H``, ``XTAL``."""
-    for text in (value, description):
-        m = _OTHER_WORDS.search(text)
-        if m:
-            return str(m.lastgroup), m.group(0)
-    if value and not _RESISTOR_RKM_CAP_CODE.match(value):
-        m = _OTHER_VALUE.search(value)
-        if m:
-            return str(m.lastgroup), m.group(0).strip()
-    return None
 
 
 def parse_qty(text: str) -> tuple[float, bool]:
@@ -446,229 +347,6 @@ def expand_lines(texts: np.ndarray) -> _Designators:
 # Parsing each distinct combination of value-bearing cells once
 
 
-@dataclass
-class _Combo:
-    """What one distinct combination of value-bearing cells says."""
-
-    spec: dict[str, Any]
-    evidence: int  # +1 capacitor, -1 another part, 0 nothing either way
-    strong: bool  # capacitor evidence that does not rest on a bare code
-    other: tuple[str, str] | None
-    conflicts: tuple[str, ...]
-    text: str
-    marks: dict[str, str]  # source -> not-fitted mark found in that cell
-    value_text: str
-    description: str
-
-
-def spec_from_cells(cells: Mapping[str, str]) -> tuple[dict, str, str, str]:
-    """(spec values, joined text, value text, description) of one line's BOM-style cells
-    (``{"value": ..., "description": ..., "voltage": ...}``), parsed and merged exactly as the
-    importer does, so the same text gives the same spec wherever it is written."""
-    combo = _Parser(semicolon=False).combo({k: str(v) for k, v in cells.items()})
-    return dict(combo.spec), combo.text, combo.value_text, combo.description
-
-
-class _Parser:
-    """Parse cells through ``parse_value`` with a cache per (context, text)."""
-
-    def __init__(self, semicolon: bool) -> None:
-        from bomcheck.values import format_capacitance, parse_value
-
-        self._parse = parse_value
-        self.fmt_c = format_capacitance
-        self.semicolon = semicolon
-        self._cache: dict[tuple[str, str], CapSpec | None] = {}
-        self._cleaned: dict[str, tuple[str, str | None]] = {}
-        self._group_cache: dict[int, list[tuple[Any, ...] | None]] = {}  # specs live in _cache
-
-    def clean(self, text: str) -> tuple[str, str | None]:
-        """(text to parse, not-fitted mark): spaces collapsed, marks removed, decimal commas."""
-        got = self._cleaned.get(text)
-        if got is None:
-            t = " ".join(text.split())
-            mark = not_fitted_mark(t)
-            if mark:
-                t = strip_not_fitted(t)
-            got = self._cleaned[text] = (decimal_commas(t, semicolon=self.semicolon), mark)
-        return got
-
-    def spec(self, context: str, text: str) -> CapSpec | None:
-        key = (context, text)
-        if key not in self._cache:
-            self._cache[key] = self._parse(text, context=context) if text else None
-        return self._cache[key]
-
-    def derived_temps(self, spec: CapSpec) -> tuple[float | None, float | None] | None:
-        """The temperature range the spec's dielectric code implies (None without a code)."""
-        if not spec.dielectric:
-            return None
-        d = self.spec("dielectric", spec.dielectric)
-        return (d.temp_min_c, d.temp_max_c) if d is not None else None
-
-    def combo(self, cells: dict[str, str]) -> _Combo:
-        done = {src: self.clean(t) for src, t in cells.items()}
-        cleaned = {src: c for src, (c, _) in done.items()}
-        marks = {src: m for src, (_, m) in done.items() if m}
-        specs = {src: self.spec(src, t) for src, t in cleaned.items()}
-        spec, conflicts = self._merge(specs)
-        value, desc = cleaned.get("value", ""), cleaned.get("description", "")
-        cap = any(s is not None and s.is_capacitor
-                  for s in (specs.get("value"), specs.get("description"), specs.get("dielectric")))
-        dielectric_col = specs.get("dielectric")
-        strong = cap and bool(
-            _STRONG_CAP.search(value) or _STRONG_CAP.search(desc)
-            or any(s is not None and s.dielectric for s in specs.values())
-            or (dielectric_col is not None and dielectric_col.technology)
-        )
-        other = other_part_evidence(value, desc)
-        evidence = 1 if cap else (-1 if other else 0)
-        text = " | ".join(" ".join(cells[s].split()) for s in SPEC_SOURCES
-                          if cells.get(s, "").strip())
-        return _Combo(spec, evidence, strong, other, tuple(conflicts), text, marks,
-                      " ".join(cells.get("value", "").split()),
-                      " ".join(cells.get("description", "").split()))
-
-    def _merge(self, specs: dict[str, CapSpec | None]) -> tuple[dict[str, Any], list[str]]:
-        """Merge the sources' specs field group by field group; a dedicated column wins over the
-        value, the value over the description; disagreements become conflict messages."""
-        out: dict[str, Any] = dict(_EMPTY_SPEC)
-        conflicts: list[str] = []
-        present = {s: sp for s, sp in specs.items() if sp is not None}
-        groups = {s: self._groups(sp) for s, sp in present.items()}
-        for gi, (group, order, keys) in enumerate(_GROUP_KEYS):
-            win_src = None
-            for src in order:
-                got = groups.get(src)
-                if got is None or got[gi] is None:
-                    continue
-                if win_src is None:
-                    win_src, win_vals = src, got[gi]
-                    out.update(zip(group, win_vals))
-                elif got[gi][:len(keys)] != win_vals[:len(keys)]:
-                    msg = self._disagree(keys, win_src, present[win_src], src, present[src])
-                    if msg:
-                        conflicts.append(msg)
-        if out["polarized"] is None:
-            out["polarized"] = next((sp.polarized for sp in present.values()
-                                     if sp.polarized is not None), None)
-        self._merge_temperature(present, out, conflicts)
-        out["is_capacitor"] = any(sp.is_capacitor for sp in present.values())
-        warnings: list[str] = []
-        unread: list[str] = []
-        for src in SPEC_SOURCES:
-            sp = present.get(src)
-            if sp is None:
-                continue
-            warnings.extend(w for w in sp.warnings if w not in warnings)
-            unread.extend(u for u in sp.unread if u not in unread)
-        out["warnings"], out["unread"] = tuple(warnings), tuple(unread)
-        return out, conflicts
-
-    def _groups(self, spec: CapSpec) -> list[tuple[Any, ...] | None]:
-        """Per field group of ``_GROUP_KEYS``: the spec's values (key fields first), or None when
-        the spec has none of the group's key fields. Cached per spec."""
-        got = self._group_cache.get(id(spec))
-        if got is None:
-            got = []
-            for get, nkeys in _GROUP_GETTERS:
-                vals = get(spec)
-                got.append(vals if vals[:nkeys] != _NONES[nkeys] else None)
-            self._group_cache[id(spec)] = got
-        return got
-
-    def _merge_temperature(self, present: dict[str, CapSpec], out: dict[str, Any],
-                           conflicts: list[str]) -> None:
-        # A temperature the text states beats one implied by a dielectric code (X7R -> 125 degC);
-        # only stated temperatures can conflict.
-        stated: list[tuple[str, CapSpec]] = []
-        for src in ("temperature", "value", "description"):
-            sp = present.get(src)
-            if sp is None or (sp.temp_min_c is None and sp.temp_max_c is None):
-                continue
-            derived = None if src == "temperature" else self.derived_temps(sp)
-            if derived is None or derived != (sp.temp_min_c, sp.temp_max_c):
-                stated.append((src, sp))
-        diel_src = next((s for s in ("dielectric", "value", "description")
-                         if s in present and present[s].dielectric == out["dielectric"]
-                         and out["dielectric"] is not None), None)
-        implied = self.derived_temps(present[diel_src]) if diel_src else None
-        for k, idx in (("temp_min_c", 0), ("temp_max_c", 1)):
-            vals = [(s, sp) for s, sp in stated if getattr(sp, k) is not None]
-            if vals:
-                out[k] = getattr(vals[0][1], k)
-                for src, sp in vals[1:]:
-                    msg = self._disagree((k,), vals[0][0], vals[0][1], src, sp)
-                    if msg:
-                        conflicts.append(msg)
-            elif implied is not None:
-                out[k] = implied[idx]
-            else:
-                out[k] = next((getattr(sp, k) for sp in present.values()
-                               if getattr(sp, k) is not None), None)
-
-    def _disagree(self, keys: tuple[str, ...], src1: str, sp1: CapSpec, src2: str,
-                  sp2: CapSpec) -> str | None:
-        """A conflict message when two sources give different values for the same fields."""
-        same = True
-        for k in keys:
-            v1, v2 = getattr(sp1, k), getattr(sp2, k)
-            if isinstance(v1, (int, float)) and isinstance(v2, (int, float)) \
-                    and not isinstance(v1, bool):
-                same &= math.isclose(float(v1), float(v2), rel_tol=1e-6, abs_tol=1e-15)
-            elif isinstance(v1, str) and isinstance(v2, str):
-                same &= _alnum(v1) == _alnum(v2)
-            else:
-                same &= v1 == v2
-        if same:
-            return None
-        name = _FIELD_NAMES.get(keys[0], keys[0].replace("_", " "))
-        return (f"{name}: {_SOURCE_LABELS[src1]} says {self._show(keys[0], sp1)} but "
-                f"{_SOURCE_LABELS[src2]} says {self._show(keys[0], sp2)}; using the "
-                f"{_SOURCE_LABELS[src1]}")
-
-    def _show(self, key: str, sp: CapSpec) -> str:
-        v = getattr(sp, key)
-        if key == "capacitance_f":
-            return self.fmt_c(float(v))
-        if key == "voltage_v":
-            return f"{float(v):g} V" + (f" {sp.voltage_kind.upper()}" if sp.voltage_kind else "")
-        if key == "tol_minus_pct":
-            if v is None:
-                if sp.tol_abs_f is not None:
-                    return "+/-" + self.fmt_c(float(sp.tol_abs_f))
-                return f"+{float(sp.tol_plus_pct):g} %"
-            plus = sp.tol_plus_pct
-            if plus is None or plus == v:
-                return f"+/-{float(v):g} %"
-            return f"+{float(plus):g}/-{float(v):g} %"
-        if key in ("temp_min_c", "temp_max_c"):
-            return f"{float(v):g} degC"
-        return str(v)
-
-
-# The fields that say whether a source has a group at all (tolerance may be absolute only).
-_KEY_FIELDS = {"tol_minus_pct": ("tol_minus_pct", "tol_plus_pct", "tol_abs_f")}
-_GROUP_KEYS = tuple((group, order, _KEY_FIELDS.get(group[0], group[:1]))
-                    for group, order in _GROUPS)
-# Getters returning each group's values as a tuple (attrgetter of one name returns the value).
-_GROUP_GETTERS = tuple(
-    (operator.attrgetter(*group) if len(group) > 1 else (lambda sp, k=group[0]: (getattr(sp, k),)),
-     len(keys))
-    for group, _, keys in _GROUP_KEYS
-)
-_NONES = {k: (None,) * k for k in range(1, 4)}
-_EMPTY_SPEC: dict[str, Any] = {**dict.fromkeys(SPEC_COLUMNS), "warnings": (), "unread": ()}
-_FIELD_NAMES = {"capacitance_f": "capacitance", "voltage_v": "rated voltage",
-                "tol_minus_pct": "tolerance", "temp_min_c": "minimum temperature",
-                "temp_max_c": "maximum temperature", "technology": "technology",
-                "dielectric": "dielectric", "package": "package"}
-
-
-def _alnum(text: str) -> str:
-    return re.sub(r"[\W_]", "", text).upper()
-
-
 def _combine_codes(code_arrays: list[np.ndarray], sizes: list[int]) -> tuple[np.ndarray, int]:
     """One code per distinct tuple of per-column codes (first-seen order)."""
     n = len(code_arrays[0]) if code_arrays else 0
@@ -744,7 +422,18 @@ def read_bom(path: str, options: ImportOptions = ImportOptions()) -> ImportResul
             sheet=table.sheet, header_row=table.header_row,
             columns={f: _original_header(table, h) for f, h in mapping.items()},
         )
+        header_findings = tuple(
+            ImportFinding(int(table.header_row), None, "column_ambiguous",
+                          f"two columns for the {colmod.FIELD_LABELS[fld]}: "
+                          f"{_original_header(table, used)!r} is used, "
+                          + ", ".join(repr(_original_header(table, o)) for o in others)
+                          + " not; check which one is current")
+            for fld, used, others in colmod.competing_columns(list(table.frame.columns),
+                                                               mapping, overrides))
         result = _build(table, mapping, source)
+        if header_findings:
+            result = replace(result, findings=tuple(sorted((*result.findings,
+                                                            *header_findings))))
         return replace(result, source=replace(source, sha256=digest.result()))
 
 
@@ -799,7 +488,9 @@ def _build(table: reader.RawTable, mapping: dict[str, str], source: BomSource) -
     des = expand_lines(ref_text)
 
     # Distinct combinations of the value-bearing cells, parsed once each.
-    parser = _Parser(semicolon=table.format == "semicolon")
+    units = {f: u for f in SPEC_SOURCES if f in mapping
+             if (u := colmod.header_unit(_original_header(table, mapping[f]), f))}
+    parser = CellParser(semicolon=table.format == "semicolon", units=units)
     present = [s for s in SPEC_SOURCES if s in mapping]
     code_arrays, sizes = [], []
     for s in present:
@@ -949,7 +640,7 @@ def _continuations(frame: pd.DataFrame, mapping: dict[str, str], arrays: list[np
 
 
 def _fitted(line: dict[str, np.ndarray], mapping: dict[str, str], table: reader.RawTable,
-            des: _Designators, combos: list[_Combo], combo_code: np.ndarray
+            des: _Designators, combos: list[Combo], combo_code: np.ndarray
             ) -> tuple[np.ndarray, np.ndarray, list[tuple[int, str]]]:
     """Per line: fitted?, the reason when not, and (line, message) for unclear fitted cells."""
     n = len(combo_code)
@@ -1017,7 +708,7 @@ def _fitted_cell(cell: str, negative: bool) -> tuple[bool, bool]:
 
 
 def _reason(li: int, repeated: np.ndarray, des: _Designators, pk: np.ndarray,
-            combo: _Combo) -> str:
+            combo: Combo) -> str:
     """Why a line is not taken as capacitor placements."""
     if repeated[li]:
         return "repeated header row"
@@ -1053,7 +744,7 @@ def _a(word: str) -> str:
 
 def _placements(cap_idx: np.ndarray, des: _Designators, line: dict[str, np.ndarray],
                 head_rows: np.ndarray, fitted: np.ndarray, nf_reason: np.ndarray,
-                qty: np.ndarray, combos: list[_Combo], combo_code: np.ndarray) -> pd.DataFrame:
+                qty: np.ndarray, combos: list[Combo], combo_code: np.ndarray) -> pd.DataFrame:
     counts = des.count[cap_idx]
     total = int(counts.sum())
     line_of = np.repeat(cap_idx, counts)
@@ -1079,21 +770,21 @@ def _placements(cap_idx: np.ndarray, des: _Designators, line: dict[str, np.ndarr
     }
     # Per-combination values as two blocks (floats, objects), each taken by code in one step.
     obj_cols = ["text", "value_text", "description",
-                *(k for k in SPEC_COLUMNS if k not in _FLOAT_SPEC and k != "is_capacitor")]
+                *(k for k in SPEC_COLUMNS if k not in FLOAT_SPEC and k != "is_capacitor")]
     obj_block = np.empty((len(combos), len(obj_cols)), dtype=object)
     for i, c in enumerate(combos):
         for j, k in enumerate(obj_cols):
             # One cell at a time: a tuple (warnings) must stay one object, not a sequence.
             obj_block[i, j] = getattr(c, k) if j < 3 else c.spec[k]
     float_block = np.array([[math.nan if c.spec[k] is None else float(c.spec[k])
-                             for k in _FLOAT_SPEC] for c in combos], dtype=float)
+                             for k in FLOAT_SPEC] for c in combos], dtype=float)
     if not combos:
-        float_block = float_block.reshape(0, len(_FLOAT_SPEC))
+        float_block = float_block.reshape(0, len(FLOAT_SPEC))
     obj_taken = obj_block.take(cc, axis=0)
     float_taken = float_block.take(cc, axis=0)
     for j, k in enumerate(obj_cols):
         data[k] = obj_taken[:, j]
-    for j, k in enumerate(_FLOAT_SPEC):
+    for j, k in enumerate(FLOAT_SPEC):
         data[k] = float_taken[:, j]
     data["is_capacitor"] = np.array([bool(c.spec["is_capacitor"]) for c in combos],
                                     dtype=bool)[cc] if combos else np.zeros(0, dtype=bool)
@@ -1102,7 +793,7 @@ def _placements(cap_idx: np.ndarray, des: _Designators, line: dict[str, np.ndarr
     return pd.DataFrame(series, columns=list(PLACEMENT_COLUMNS), copy=False)
 
 
-def _placement_findings(placements: pd.DataFrame, combos: list[_Combo],
+def _placement_findings(placements: pd.DataFrame, combos: list[Combo],
                         combo_code: np.ndarray) -> list[ImportFinding]:
     """Column conflicts on fitted placements, and designators listed more than once."""
     out: list[ImportFinding] = []
@@ -1115,8 +806,8 @@ def _placement_findings(placements: pd.DataFrame, combos: list[_Combo],
     refdes = placements["refdes"].to_numpy(dtype=object)
     rows = placements["row"].to_numpy()
     for p in np.flatnonzero(has_conflict & fitted):
-        for msg in combos[cc[p]].conflicts:
-            out.append(ImportFinding(int(rows[p]), str(refdes[p]), "column_conflict", msg))
+        for code, msg in combos[cc[p]].conflicts:
+            out.append(ImportFinding(int(rows[p]), str(refdes[p]), code, msg))
     if len(set(refdes)) < len(refdes):
         dup = pd.Series(refdes).duplicated(keep="first").to_numpy()
         first_row = pd.Series(rows).groupby(refdes).transform("first").to_numpy()
