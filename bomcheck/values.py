@@ -919,12 +919,25 @@ def _verdict(st: _State) -> bool:
     return is_cap
 
 
+_PLAUSIBLE_CHECKS = (("capacitance_f", "cap", "capacitance", "F"),
+                     ("voltage_v", "volt", "rated voltage", "V"),
+                     ("temp_c", "tmin", "minimum temperature", "degC"),
+                     ("temp_c", "tmax", "rated temperature", "degC"))
+_CAP_LO, _CAP_HI = codes.PLAUSIBLE["capacitance_f"]
+_V_LO, _V_HI = codes.PLAUSIBLE["voltage_v"]
+_T_LO, _T_HI = codes.PLAUSIBLE["temp_c"]
+
+
 def _plausible(st: _State) -> None:
     """Unread, with a warning, every number outside its plausible range (codes.PLAUSIBLE)."""
-    checks = (("capacitance_f", "cap", "capacitance", "F"), ("voltage_v", "volt", "rated voltage",
-              "V"), ("temp_c", "tmin", "minimum temperature", "degC"),
-              ("temp_c", "tmax", "rated temperature", "degC"))
-    for quantity, attr, name, unit in checks:
+    cap, volt, tmin, tmax, tol = st.cap, st.volt, st.tmin, st.tmax, st.tol
+    if ((cap is None or _CAP_LO <= cap <= _CAP_HI) and (volt is None or _V_LO < volt <= _V_HI)
+            and (tmin is None or _T_LO <= tmin <= _T_HI)
+            and (tmax is None or _T_LO <= tmax <= _T_HI)
+            and (tol is None or (tol[2] is None and (tol[0] is None or 0 <= tol[0] <= 100)
+                                 and (tol[1] is None or 0 <= tol[1] <= 200)))):
+        return  # the common case: everything in range (the full check is below)
+    for quantity, attr, name, unit in _PLAUSIBLE_CHECKS:
         v = getattr(st, attr)
         if v is not None and not codes.plausible(quantity, v):
             lo, hi = codes.PLAUSIBLE[quantity]
