@@ -46,19 +46,20 @@ from __future__ import annotations
 import functools
 import hashlib
 import math
-import operator
 import re
 from collections.abc import Mapping
 from concurrent.futures import ThreadPoolExecutor
 from dataclasses import asdict, dataclass, field, replace
-from typing import TYPE_CHECKING, Any
+from typing import Any
 
 import numpy as np
 import pandas as pd
 
 from bomcheck import columns as colmod
 from bomcheck import reader
+from bomcheck.accounting import ROW_CATEGORIES, accounting_identity
 from bomcheck.errors import InputError
+from bomcheck.layout import APPROVED_SOURCE, NOT_PLACEMENT, find_layout
 from bomcheck.refdes import MAX_RANGE, expand
 from bomcheck.linespec import (
     FLOAT_SPEC,
@@ -72,6 +73,14 @@ from bomcheck.linespec import (
     spec_from_cells,
     strip_not_fitted,
 )
+
+__all__ = [
+    "CAPACITOR_PREFIXES", "OTHER_PREFIXES", "PLACEMENT_COLUMNS", "ROW_CATEGORIES",
+    "SKIPPED_COLUMNS", "SOURCE_COLUMNS", "SPEC_COLUMNS", "SPEC_SOURCES", "BomSource",
+    "ImportFinding", "ImportOptions", "ImportResult", "accounting_identity", "decimal_commas",
+    "expand_lines", "not_fitted_mark", "other_part_evidence", "parse_qty", "prefix_kind",
+    "read_bom", "spec_from_cells", "strip_not_fitted",
+]
 
 PLACEMENT_COLUMNS: tuple[str, ...] = (
     "refdes", "row", "line", "fitted", "not_fitted_reason", "text", "value_text",
@@ -167,15 +176,30 @@ class ImportFinding:
         return asdict(self)
 
 
+SOURCE_COLUMNS: tuple[str, ...] = ("line", "source", "row", "manufacturer", "mpn", "text")
+
+def _empty_sources() -> pd.DataFrame:
+    return pd.DataFrame({c: pd.Series(dtype=np.int64 if c in ("line", "source", "row")
+                                      else object) for c in SOURCE_COLUMNS})
+
+
 @dataclass(frozen=True)
 class ImportResult:
-    """Placements (one row per designator), rows not taken, findings and the totals line."""
+    """Placements (one row per designator), rows not taken, findings and the totals line.
+
+    ``sources`` lists the approved sources of each BOM line, to join with ``placements`` on
+    ``line``: source 0 is the line's own manufacturer and MPN (for every capacitor line and
+    every line with approved sources), sources 1, 2... the approved-source rows under it, each
+    with its source ``row`` and its own ``text`` (description and notes; "" when it has none, and
+    always "" for source 0, whose text is the line's).
+    """
 
     source: BomSource
     placements: pd.DataFrame
     skipped: pd.DataFrame
     findings: tuple[ImportFinding, ...]
     totals: dict[str, int]
+    sources: pd.DataFrame = field(default_factory=_empty_sources)
 
 
 # ---------------------------------------------------------------------------------------------
@@ -452,6 +476,105 @@ def _row_texts(arrays: list[np.ndarray], idx: np.ndarray) -> list[str]:
 
 
 def _build(table: reader.RawTable, mapping: dict[str, str], source: BomSource) -> ImportResult:
+    """Take out the approved-source and multi-level structure rows (``bomcheck.layout``), build
+    the lines of the rest, and account for every row."""
+    frame = table.frame
+    n = len(frame)
+    cells = {f: frame[h].to_numpy(dtype=object) for f, h in mapping.items()}
+    repeated = cells["refdes"] == _original_header(table, mapping["refdes"]).strip() if n \
+        else np.zeros(0, dtype=bool)
+    lay = find_layout(cells, n, repeated)
+    out = lay.taken_out
+    if not out.any():
+        result, lines = _build_lines(table, mapping, source)
+        return replace(result, sources=_sources(lines, None, None, None, None))
+    keep = ~out
+    rows = np.asarray(table.rows, dtype=np.int64)
+    sub = replace(table, frame=frame[keep].reset_index(drop=True), rows=rows[keep])
+    result, lines = _build_lines(sub, mapping, source)
+    pos = np.cumsum(keep) - 1  # each row's position among the rows kept
+    approved = np.flatnonzero(lay.approved)
+    parent_line = lines.line_of_row[pos[lay.parent[approved]]] if len(approved) else \
+        np.zeros(0, dtype=np.int64)
+    # Approved sources of rows that are themselves taken out (an assembly row) have no line.
+    parent_out = out[lay.parent[approved]] if len(approved) else np.zeros(0, dtype=bool)
+    reason = lay.reason.copy()
+    for k, i in enumerate(approved):
+        p_row = int(rows[lay.parent[i]])
+        if parent_out[k]:
+            reason[i] = f"approved source of row {p_row}, which is not a placement line"
+        else:
+            what = "" if lines.kind[parent_line[k]] == _CAP else " (not a capacitor line)"
+            reason[i] = f"approved source {int(lay.source_index[i])} of the line on row {p_row}{what}"
+    taken = np.flatnonzero(out)
+    all_arrays = [frame[c].to_numpy(dtype=object) for c in frame.columns]
+    extra = pd.DataFrame({
+        "row": pd.Series(rows[taken], dtype=np.int64),
+        "kind": pd.Series(np.where(lay.approved[taken], APPROVED_SOURCE, NOT_PLACEMENT),
+                          dtype=object),
+        "reason": pd.Series(reason[taken], dtype=object),
+        "text": pd.Series(_row_texts(all_arrays, taken), dtype=object),
+    }, columns=list(SKIPPED_COLUMNS))
+    skipped = pd.concat([result.skipped, extra], ignore_index=True).sort_values(
+        "row", kind="stable").reset_index(drop=True)
+    totals = dict(result.totals)
+    totals["rows_read"] = int(n)
+    totals["approved_source_rows"] = int(lay.approved.sum())
+    totals["not_placement_rows"] = int(lay.structure.sum())
+    ok = approved[~parent_out]
+    sources = _sources(lines, parent_line[~parent_out], lay.source_index[ok],
+                       rows[ok], {f: cells[f][ok] for f in ("manufacturer", "mpn", "description",
+                                                            "notes") if f in cells})
+    return replace(result, skipped=skipped, totals=totals, sources=sources)
+
+
+@dataclass(frozen=True)
+class _Lines:
+    """What the line stage tells the layout step: the line of each row and each line's kind,
+    source row, manufacturer and MPN."""
+
+    line_of_row: np.ndarray
+    kind: np.ndarray
+    head_rows: np.ndarray
+    manufacturer: np.ndarray
+    mpn: np.ndarray
+
+
+def _sources(lines: _Lines, parent_line: np.ndarray | None, index: np.ndarray | None,
+             rows: np.ndarray | None, cells: dict[str, np.ndarray] | None) -> pd.DataFrame:
+    """The approved-source table: source 0 of every capacitor line and of every line with
+    approved sources, then the approved-source rows, ordered by line and source."""
+    own = lines.kind == _CAP
+    if parent_line is not None and len(parent_line):
+        own[np.unique(parent_line)] = True
+    li = np.flatnonzero(own)
+    parts = [pd.DataFrame({
+        "line": pd.Series(li, dtype=np.int64), "source": pd.Series(0, index=range(len(li)),
+                                                                   dtype=np.int64),
+        "row": pd.Series(lines.head_rows[li], dtype=np.int64),
+        "manufacturer": pd.Series(lines.manufacturer[li], dtype=object),
+        "mpn": pd.Series(lines.mpn[li], dtype=object),
+        "text": pd.Series("", index=range(len(li)), dtype=object),
+    }, columns=list(SOURCE_COLUMNS))]
+    if parent_line is not None and len(parent_line):
+        k = len(parent_line)
+        empty = np.full(k, "", dtype=object)
+        text = [" ".join(" ".join(str(c).split()) for c in pair if str(c).strip())
+                for pair in zip(cells.get("description", empty), cells.get("notes", empty))]
+        parts.append(pd.DataFrame({
+            "line": pd.Series(parent_line, dtype=np.int64),
+            "source": pd.Series(index, dtype=np.int64),
+            "row": pd.Series(rows, dtype=np.int64),
+            "manufacturer": pd.Series(cells.get("manufacturer", empty), dtype=object),
+            "mpn": pd.Series(cells.get("mpn", empty), dtype=object),
+            "text": pd.Series(text, dtype=object),
+        }, columns=list(SOURCE_COLUMNS)))
+    out = pd.concat(parts, ignore_index=True) if len(parts) > 1 else parts[0]
+    return out.sort_values(["line", "source"], kind="stable").reset_index(drop=True)
+
+
+def _build_lines(table: reader.RawTable, mapping: dict[str, str], source: BomSource
+                 ) -> tuple[ImportResult, _Lines]:
     frame = table.frame
     n = len(frame)
     all_arrays = [frame[c].to_numpy(dtype=object) for c in frame.columns]
@@ -594,8 +717,11 @@ def _build(table: reader.RawTable, mapping: dict[str, str], source: BomSource) -
         "blank_rows": int(table.blank_rows),
         "continuation_rows": int(cont.sum()),
     }
+    totals["approved_source_rows"] = 0
+    totals["not_placement_rows"] = 0
+    lines = _Lines(line_of_row, kind, head_rows, line["manufacturer"], line["mpn"])
     return ImportResult(source=source, placements=placements, skipped=skipped,
-                        findings=tuple(sorted(findings)), totals=totals)
+                        findings=tuple(sorted(findings)), totals=totals), lines
 
 
 _LIST_MARK = re.compile(r"[,;/\s]|\.\.|[-\u2013:]")
