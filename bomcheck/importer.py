@@ -62,6 +62,7 @@ from bomcheck.errors import InputError
 from bomcheck.layout import APPROVED_SOURCE, NOT_PLACEMENT, find_layout
 from bomcheck.refdes import MAX_RANGE, expand
 from bomcheck.linespec import (
+    DECISIVE_FAMILIES,
     FLOAT_SPEC,
     SPEC_COLUMNS,
     SPEC_SOURCES,
@@ -640,7 +641,11 @@ def _build_lines(table: reader.RawTable, mapping: dict[str, str], source: BomSou
         | ((pk == _CAP_KIND) & (evidence == 0) & ~fitted)
         | ((pk == _UNKNOWN_KIND) & (evidence > 0) & strong & ~has_other)
     )
-    other_line = ok & ~cap_line & ((pk == _OTHER_KIND) | (pk == _UNKNOWN_KIND))
+    decisive = np.array([c.other is not None and c.other[0] in DECISIVE_FAMILIES
+                         for c in combos], dtype=bool)[combo_code]
+    cap_line &= ~(decisive & ~strong)
+    other_line = ok & ~cap_line & ((pk == _OTHER_KIND) | (pk == _UNKNOWN_KIND)
+                                   | ((pk == _CAP_KIND) & decisive & ~strong))
     kind[cap_line] = _CAP
     kind[other_line] = _NONCAP
     # One reason per distinct (prefix, combination) among the lines not taken; lines with their
@@ -844,6 +849,9 @@ def _reason(li: int, repeated: np.ndarray, des: _Designators, pk: np.ndarray,
     if pk[li] == _CAP_KIND:
         if combo.other is not None:
             family, token = combo.other
+            if family in DECISIVE_FAMILIES and not combo.strong:
+                return (f"designator prefix {pfx!r}, but the text describes {_a(family)} "
+                        f"({token!r}): not a capacitor")
             return f"capacitor designator, but the text reads as {_a(family)} ({token!r})"
         if not combo.text:
             return "capacitor designator with no value or description"

@@ -56,7 +56,8 @@ _OTHER_WORDS = re.compile(
     r"|(?P<crystal>CRYSTAL|XTAL|QUARZ|QUARTZ|RESONATOR|OSCILLATOR|OSC)"
     r"|(?P<diode>DIODE|ZENER|TVS|SCHOTTKY|RECTIFIER|LED)"
     r"|(?P<connector>CONN|CONNECTOR|HEADER|SOCKET|RECEPTACLE|STECKER|BUCHSE|STIFTLEISTE"
-    r"|CONNECTEUR))\b",
+    r"|CONNECTEUR)"
+    r"|(?P<cable>CABLES?|FFC|FPC|WIRES?|HARNESS|KABEL|KABELBAUM|LITZE|C[ÂA]BLE|FAISCEAU))\b",
     re.IGNORECASE,
 )
 _OTHER_VALUE = re.compile(
@@ -65,6 +66,9 @@ _OTHER_VALUE = re.compile(
     r"|(?P<inductor>\d(?:[.,]\d+)?\s*[pnuµμm]H\b|\d[pnuµμ]\d+\s*H\b)"
     r"|(?P<crystal>\d\s*[kMG][hH][zZ]\b)"
 )
+# Families whose words settle "not a capacitor" even on a capacitor-like designator (C30 CABLE
+# ASSY FFC 24P: cables share the C/W prefixes in some conventions; common practice).
+DECISIVE_FAMILIES = frozenset({"cable"})
 _RESISTOR_RKM_CAP_CODE = re.compile(r"^\s*\d{3}[KM]\s*$")  # 104K, 475M: pF code + tolerance
 
 # The cells parsed for the specification, with the parser context each one gets.
