@@ -47,7 +47,7 @@ import functools
 import hashlib
 import math
 import re
-from collections.abc import Mapping
+from collections.abc import Callable, Mapping
 from concurrent.futures import ThreadPoolExecutor
 from dataclasses import asdict, dataclass, field, replace
 from typing import Any
@@ -200,7 +200,14 @@ class ImportResult:
     skipped: pd.DataFrame
     findings: tuple[ImportFinding, ...]
     totals: dict[str, int]
-    sources: pd.DataFrame = field(default_factory=_empty_sources)
+    # Builds ``sources`` on first use (most callers never ask for it).
+    source_table: Callable[[], pd.DataFrame] | None = field(default=None, repr=False,
+                                                            compare=False)
+
+    @functools.cached_property
+    def sources(self) -> pd.DataFrame:
+        """The approved-source table (``SOURCE_COLUMNS``), see the class docstring."""
+        return self.source_table() if self.source_table is not None else _empty_sources()
 
 
 # ---------------------------------------------------------------------------------------------
@@ -485,14 +492,15 @@ def _build(table: reader.RawTable, mapping: dict[str, str], source: BomSource) -
     repeated = cells["refdes"] == _original_header(table, mapping["refdes"]).strip() if n \
         else np.zeros(0, dtype=bool)
     lay = find_layout(cells, n, repeated)
+    if lay is None:
+        result, lines = _build_lines(table, mapping, source, repeated)
+        return replace(result, source_table=functools.partial(_sources, lines, None, None,
+                                                              None, None))
     out = lay.taken_out
-    if not out.any():
-        result, lines = _build_lines(table, mapping, source)
-        return replace(result, sources=_sources(lines, None, None, None, None))
     keep = ~out
     rows = np.asarray(table.rows, dtype=np.int64)
     sub = replace(table, frame=frame[keep].reset_index(drop=True), rows=rows[keep])
-    result, lines = _build_lines(sub, mapping, source)
+    result, lines = _build_lines(sub, mapping, source, repeated[keep])
     pos = np.cumsum(keep) - 1  # each row's position among the rows kept
     approved = np.flatnonzero(lay.approved)
     parent_line = lines.line_of_row[pos[lay.parent[approved]]] if len(approved) else \
@@ -523,10 +531,10 @@ def _build(table: reader.RawTable, mapping: dict[str, str], source: BomSource) -
     totals["approved_source_rows"] = int(lay.approved.sum())
     totals["not_placement_rows"] = int(lay.structure.sum())
     ok = approved[~parent_out]
-    sources = _sources(lines, parent_line[~parent_out], lay.source_index[ok],
-                       rows[ok], {f: cells[f][ok] for f in ("manufacturer", "mpn", "description",
-                                                            "notes") if f in cells})
-    return replace(result, skipped=skipped, totals=totals, sources=sources)
+    sources = functools.partial(
+        _sources, lines, parent_line[~parent_out], lay.source_index[ok], rows[ok],
+        {f: cells[f][ok] for f in ("manufacturer", "mpn", "description", "notes") if f in cells})
+    return replace(result, skipped=skipped, totals=totals, source_table=sources)
 
 
 @dataclass(frozen=True)
@@ -550,32 +558,35 @@ def _sources(lines: _Lines, parent_line: np.ndarray | None, index: np.ndarray | 
         own[np.unique(parent_line)] = True
     li = np.flatnonzero(own)
     parts = [pd.DataFrame({
-        "line": pd.Series(li, dtype=np.int64), "source": pd.Series(0, index=range(len(li)),
-                                                                   dtype=np.int64),
-        "row": pd.Series(lines.head_rows[li], dtype=np.int64),
-        "manufacturer": pd.Series(lines.manufacturer[li], dtype=object),
-        "mpn": pd.Series(lines.mpn[li], dtype=object),
-        "text": pd.Series("", index=range(len(li)), dtype=object),
-    }, columns=list(SOURCE_COLUMNS))]
-    if parent_line is not None and len(parent_line):
-        k = len(parent_line)
-        empty = np.full(k, "", dtype=object)
-        text = [" ".join(" ".join(str(c).split()) for c in pair if str(c).strip())
-                for pair in zip(cells.get("description", empty), cells.get("notes", empty))]
-        parts.append(pd.DataFrame({
-            "line": pd.Series(parent_line, dtype=np.int64),
-            "source": pd.Series(index, dtype=np.int64),
-            "row": pd.Series(rows, dtype=np.int64),
-            "manufacturer": pd.Series(cells.get("manufacturer", empty), dtype=object),
-            "mpn": pd.Series(cells.get("mpn", empty), dtype=object),
-            "text": pd.Series(text, dtype=object),
-        }, columns=list(SOURCE_COLUMNS)))
-    out = pd.concat(parts, ignore_index=True) if len(parts) > 1 else parts[0]
+        "line": li.astype(np.int64), "source": np.zeros(len(li), dtype=np.int64),
+        "row": lines.head_rows[li].astype(np.int64),
+        "manufacturer": lines.manufacturer[li], "mpn": lines.mpn[li],
+        "text": np.full(len(li), "", dtype=object),
+    }, columns=list(SOURCE_COLUMNS), copy=False)]
+    if parent_line is None or not len(parent_line):
+        return parts[0]
+    k = len(parent_line)
+    empty = np.full(k, "", dtype=object)
+    cells = cells or {}
+    text = [" ".join(" ".join(str(c).split()) for c in pair if str(c).strip())
+            for pair in zip(cells.get("description", empty), cells.get("notes", empty))]
+    parts.append(pd.DataFrame({
+        "line": pd.Series(parent_line, dtype=np.int64),
+        "source": pd.Series(index, dtype=np.int64),
+        "row": pd.Series(rows, dtype=np.int64),
+        "manufacturer": pd.Series(cells.get("manufacturer", empty), dtype=object),
+        "mpn": pd.Series(cells.get("mpn", empty), dtype=object),
+        "text": pd.Series(text, dtype=object),
+    }, columns=list(SOURCE_COLUMNS)))
+    out = pd.concat(parts, ignore_index=True)
     return out.sort_values(["line", "source"], kind="stable").reset_index(drop=True)
 
 
-def _build_lines(table: reader.RawTable, mapping: dict[str, str], source: BomSource
-                 ) -> tuple[ImportResult, _Lines]:
+def _build_lines(table: reader.RawTable, mapping: dict[str, str], source: BomSource,
+                 repeated: np.ndarray) -> tuple[ImportResult, _Lines]:
+    """The lines of a table with no approved-source or structure rows: continuation rows
+    joined, designators expanded, cells parsed, each line classified; ``repeated`` marks the
+    repeated header rows."""
     frame = table.frame
     n = len(frame)
     all_arrays = [frame[c].to_numpy(dtype=object) for c in frame.columns]
@@ -588,9 +599,7 @@ def _build_lines(table: reader.RawTable, mapping: dict[str, str], source: BomSou
     refdes_raw = get("refdes")
     src_rows = np.asarray(table.rows, dtype=np.int64)
 
-    # Repeated header rows and continuation rows (joined to the line above).
-    ref_header = _original_header(table, mapping["refdes"]).strip()
-    repeated = refdes_raw == ref_header if n else np.zeros(0, dtype=bool)
+    # Continuation rows (joined to the line above).
     cont = _continuations(frame, mapping, all_arrays, refdes_raw, repeated)
     line_of_row = np.cumsum(~cont) - 1
     heads = np.flatnonzero(~cont)

@@ -64,8 +64,8 @@ class Layout:
         return self.approved | self.structure
 
 
-def find_layout(cells: dict[str, np.ndarray], n: int, repeated: np.ndarray) -> Layout:
-    """Find approved-source and multi-level structure rows.
+def find_layout(cells: dict[str, np.ndarray], n: int, repeated: np.ndarray) -> Layout | None:
+    """Find approved-source and multi-level structure rows; None when there are none.
 
     ``cells`` maps the canonical fields present in the BOM to their text columns (``""`` for an
     empty cell); ``repeated`` marks repeated header rows (never taken out here).
@@ -75,8 +75,10 @@ def find_layout(cells: dict[str, np.ndarray], n: int, repeated: np.ndarray) -> L
         return np.ones(len(idx), dtype=bool) if c is None else c[idx] == ""
 
     no_ref = (cells["refdes"] == "") & ~repeated
-    levels = np.full(n, -1, dtype=np.int64)
     has_level = "level" in cells
+    if not has_level and not no_ref.any():
+        return None  # a flat export with a designator on every row (the common case)
+    levels = np.full(n, -1, dtype=np.int64)
     if has_level and n:
         codes, uniq = pd.factorize(cells["level"])
         parsed = np.array([-1 if (lv := parse_level(str(u))) is None else lv for u in uniq],
@@ -125,4 +127,6 @@ def find_layout(cells: dict[str, np.ndarray], n: int, repeated: np.ndarray) -> L
                                f"are on level {where})")
                      for lv in np.unique(levels[structure])}
             reason[structure] = [texts[int(lv)] for lv in levels[structure]]
+    if not (approved.any() or structure.any()):
+        return None
     return Layout(approved, structure, parent, source_index, reason, placement_levels)

@@ -193,6 +193,10 @@ class CellParser:
         self._cleaned: dict[str, tuple[str, str | None]] = {}
         self._group_cache: dict[int, list[tuple[Any, ...] | None]] = {}  # specs live in _cache
         self._single: dict[int, tuple[dict[str, Any], tuple[tuple[str, str], ...]]] = {}
+        # Per spec (by id; specs live in _cache): stated temperatures and conflict warnings.
+        self._stated: dict[tuple[int, str], tuple[float | None, float | None]] = {}
+        self._conflicts: dict[tuple[int, str], list[tuple[str, str]]] = {}
+        self._implied: dict[str, tuple[float | None, float | None] | None] = {}
 
     def clean(self, text: str) -> tuple[str, str | None]:
         """(text to parse, not-fitted mark): spaces collapsed, marks removed, decimal commas."""
@@ -262,10 +266,28 @@ class CellParser:
         return dict(got[0]), list(got[1])
 
     def _text_conflicts(self, src: str, sp: CapSpec) -> list[tuple[str, str]]:
-        """The parser's conflict warnings of one cell, as (code, message) findings."""
-        n = len(self._mark)
-        return [("text_conflict", f"{_SOURCE_LABELS[src]}: {w[n:]}") for w in sp.warnings
-                if w.startswith(self._mark)]
+        """The parser's conflict warnings of one cell, as (code, message) findings (cached)."""
+        key = (id(sp), src)
+        got = self._conflicts.get(key)
+        if got is None:
+            n = len(self._mark)
+            got = self._conflicts[key] = [("text_conflict", f"{_SOURCE_LABELS[src]}: {w[n:]}")
+                                          for w in sp.warnings if w.startswith(self._mark)]
+        return got
+
+    def _stated_temps(self, src: str, sp: CapSpec) -> tuple[float | None, float | None]:
+        """The rated temperatures a cell states itself, not the ones its dielectric code implies
+        (cached per spec)."""
+        key = (id(sp), src)
+        got = self._stated.get(key)
+        if got is None:
+            derived = None if src == "temperature" else self.derived_temps(sp)
+            lo, hi = sp.temp_min_c, sp.temp_max_c
+            if derived is not None:
+                lo = None if derived[0] == lo else lo
+                hi = None if derived[1] == hi else hi
+            got = self._stated[key] = (lo, hi)
+        return got
 
     def _merge(self, specs: dict[str, CapSpec | None]
                ) -> tuple[dict[str, Any], list[tuple[str, str]]]:
@@ -362,13 +384,17 @@ class CellParser:
             sp = present.get(src)
             if sp is None:
                 continue
-            derived = None if src == "temperature" else self.derived_temps(sp)
-            for k, idx in (("temp_min_c", 0), ("temp_max_c", 1)):
-                v = getattr(sp, k)
-                if v is not None and (derived is None or derived[idx] != v):
-                    cands[k].append((float(v), _SOURCE_LABELS[src]))
+            lo, hi = self._stated_temps(src, sp)
+            if lo is not None:
+                cands["temp_min_c"].append((float(lo), _SOURCE_LABELS[src]))
+            if hi is not None:
+                cands["temp_max_c"].append((float(hi), _SOURCE_LABELS[src]))
         diel = out["dielectric"]
-        implied = self.derived_temps(self.spec("dielectric", diel)) if diel else None  # type: ignore[arg-type]
+        implied = None
+        if diel:
+            if diel not in self._implied:
+                self._implied[diel] = self.derived_temps(self.spec("dielectric", diel))  # type: ignore[arg-type]
+            implied = self._implied[diel]
         for k, idx, pick, word in (("temp_min_c", 0, max, "higher"),
                                    ("temp_max_c", 1, min, "lower")):
             vals = list(cands[k])
