@@ -62,6 +62,7 @@ from bomcheck.errors import InputError
 from bomcheck.layout import APPROVED_SOURCE, NOT_PLACEMENT, find_layout
 from bomcheck.refdes import MAX_RANGE, expand
 from bomcheck.linespec import (
+    _STRONG_CAP,
     DECISIVE_FAMILIES,
     FLOAT_SPEC,
     SPEC_COLUMNS,
@@ -491,7 +492,7 @@ def _build(table: reader.RawTable, mapping: dict[str, str], source: BomSource) -
     cells = {f: frame[h].to_numpy(dtype=object) for f, h in mapping.items()}
     repeated = cells["refdes"] == _original_header(table, mapping["refdes"]).strip() if n \
         else np.zeros(0, dtype=bool)
-    lay = find_layout(cells, n, repeated)
+    lay = find_layout(cells, n, repeated, _reads_as_capacitor)
     if lay is None:
         result, lines = _build_lines(table, mapping, source, repeated)
         return replace(result, source_table=functools.partial(_sources, lines, None, None,
@@ -535,6 +536,14 @@ def _build(table: reader.RawTable, mapping: dict[str, str], source: BomSource) -
         _sources, lines, parent_line[~parent_out], lay.source_index[ok], rows[ok],
         {f: cells[f][ok] for f in ("manufacturer", "mpn", "description", "notes") if f in cells})
     return replace(result, skipped=skipped, totals=totals, source_table=sources)
+
+
+def _reads_as_capacitor(text: str) -> bool:
+    """Whether a row's text reads as a capacitor (a farad unit, capacitor words, a dielectric
+    code): the parser's verdict, or the capacitor-words test."""
+    from bomcheck.values import parse_value
+
+    return bool(_STRONG_CAP.search(text)) or parse_value(text, context="description").is_capacitor
 
 
 @dataclass(frozen=True)

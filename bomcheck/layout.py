@@ -11,6 +11,9 @@ placement lines (common practice of those exports; the names are this project's)
 - **multi-level structure**: in a BOM with a level column (``0``, ``1``, ``.1``, ``..2``), the
   levels at which some row carries designators are the placement levels; a row without
   designators at any other level is an assembly, sub-assembly or material row, not a placement.
+  At a placement level, a row without designators is one too (a bare board, solder paste, a
+  label) unless its text reads as a capacitor: a capacitor line that lost its designators stays
+  an unreadable row, never quietly "not a placement".
 
 Everything here works on whole columns; the importer removes these rows before it forms lines
 and accounts for each of them (kind ``approved_source`` or ``not_placement``, with its reason).
@@ -19,6 +22,7 @@ and accounts for each of them (kind ``approved_source`` or ``not_placement``, wi
 from __future__ import annotations
 
 import re
+from collections.abc import Callable
 from dataclasses import dataclass
 
 import numpy as np
@@ -64,11 +68,14 @@ class Layout:
         return self.approved | self.structure
 
 
-def find_layout(cells: dict[str, np.ndarray], n: int, repeated: np.ndarray) -> Layout | None:
+def find_layout(cells: dict[str, np.ndarray], n: int, repeated: np.ndarray,
+                looks_like_capacitor: Callable[[str], bool]) -> Layout | None:
     """Find approved-source and multi-level structure rows; None when there are none.
 
     ``cells`` maps the canonical fields present in the BOM to their text columns (``""`` for an
-    empty cell); ``repeated`` marks repeated header rows (never taken out here).
+    empty cell); ``repeated`` marks repeated header rows (never taken out here);
+    ``looks_like_capacitor`` tells whether a row's value and description text read as a
+    capacitor (called once per distinct text of the few rows concerned).
     """
     def blank(f: str, idx: np.ndarray) -> np.ndarray:
         c = cells.get(f)
@@ -119,14 +126,29 @@ def find_layout(cells: dict[str, np.ndarray], n: int, repeated: np.ndarray) -> L
     if has_level:
         with_des = np.unique(levels[~no_ref & ~repeated & (levels >= 0)])
         placement_levels = tuple(int(v) for v in with_des)
-        structure = no_ref & ~approved & (levels >= 0) & ~np.isin(levels, with_des)
+        structure = no_ref & ~approved & (levels >= 0)
+        other_level = ~np.isin(levels, with_des)
+        same = np.flatnonzero(structure & ~other_level)
+        if len(same):
+            # At a placement level: not a placement unless the text reads as a capacitor.
+            empty = np.full(n, "", dtype=object)
+            text = [f"{v} {d}" for v, d in zip(cells.get("value", empty)[same],
+                                               cells.get("description", empty)[same])]
+            verdict = {t: looks_like_capacitor(t) for t in set(text)}
+            cap = np.array([verdict[t] for t in text], dtype=bool)
+            structure[same[cap]] = False
         if structure.any():
             where = ", ".join(str(v) for v in placement_levels) or "none"
-            texts = {int(lv): (f"level {int(lv)} row without designators: an assembly or "
-                               f"material row of a multi-level BOM, not a placement (designators "
-                               f"are on level {where})")
-                     for lv in np.unique(levels[structure])}
-            reason[structure] = [texts[int(lv)] for lv in levels[structure]]
+            for lv in np.unique(levels[structure]):
+                at = structure & (levels == lv)
+                if lv in with_des:
+                    reason[at] = (f"level {int(lv)} row without designators and without "
+                                  "capacitor text: a material or assembly row of a multi-level "
+                                  "BOM, not a placement")
+                else:
+                    reason[at] = (f"level {int(lv)} row without designators: an assembly or "
+                                  "material row of a multi-level BOM, not a placement "
+                                  f"(designators are on level {where})")
     if not (approved.any() or structure.any()):
         return None
     return Layout(approved, structure, parent, source_index, reason, placement_levels)

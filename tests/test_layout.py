@@ -102,3 +102,16 @@ def test_a_row_with_its_own_value_is_not_an_approved_source(tmp_path):
             ",,4.7uF 25V X5R,Kvellon,KV-475\n")
     r = read_bom(_file(tmp_path, text))
     assert r.totals["unreadable_rows"] == 1 and r.totals["approved_source_rows"] == 0
+
+
+def test_material_at_the_placement_level_is_not_a_placement_but_a_capacitor_is_unreadable(
+        tmp_path):
+    # No wrong pass: a capacitor line that lost its designators is never quietly skipped.
+    text = ("Level,Description,Qty,Designator,MPN\n"
+            "1,Bare board rev C,1,,PCB-1\n"
+            "1,CAP CER 100NF 50V X7R 0603,2,\"C1,C2\",KV-104\n"
+            "1,CAP CER 1UF 25V X5R 0603,1,,KV-105\n")
+    r = read_bom(_file(tmp_path, text))
+    _identity_holds(r)
+    kinds = dict(zip(r.skipped["row"], r.skipped["kind"]))
+    assert kinds == {2: "not_placement", 4: "unreadable"}
