@@ -441,6 +441,27 @@ def competing_columns(headers: Sequence[str], mapping: Mapping[str, str],
     return out
 
 
+_TRAILING_NUMBER = re.compile(r"(\d+)\s*$")
+
+
+def numbered_sources(headers: Sequence[str], mapping: Mapping[str, str]
+                     ) -> list[tuple[str | None, str | None]]:
+    """Side-by-side approved sources: ``(manufacturer header, MPN header)`` pairs of numbered
+    copies of the source fields that the mapping did not take (``"Manufacturer 2"``,
+    ``"MPN 2"``), by their number; either header may be None."""
+    used = set(mapping.values())
+    index = _table_index()
+    pairs: dict[int, dict[str, str]] = {}
+    for h in headers:
+        m = _TRAILING_NUMBER.search(str(h))
+        if h in used or m is None:
+            continue
+        base = normalise_header(str(h)[:m.start()])
+        if base in index and index[base][0] in SOURCE_FIELDS:
+            pairs.setdefault(int(m.group(1)), {}).setdefault(index[base][0], h)
+    return [(p.get("manufacturer"), p.get("mpn")) for _, p in sorted(pairs.items())]
+
+
 def _quote_list(items: Iterable[str], limit: int = 12) -> str:
     items = [str(i) for i in items if str(i).strip()]
     shown = ", ".join(repr(i) for i in items[:limit])

@@ -1034,6 +1034,10 @@ def _build(text: str, st: _State) -> CapSpec:
         w.append(f"{st.safety!r} not taken as the safety class: the part is rated "
                  f"{st.volt:g} V, below the mains voltages IEC 60384-14 classes are for")
         st.safety = None
+    if st.safety is not None and tech in POLARIZED_TECHNOLOGIES:
+        w.append(f"{st.safety!r} not taken as the safety class: IEC 60384-14 classes are for "
+                 f"film, paper and ceramic parts, not {tech}")
+        st.safety = None
     if st.safety is not None and st.volt is not None and vkind is None:
         vkind = "ac"
         w.append(f"AC rating assumed for a safety-class {st.safety} capacitor")

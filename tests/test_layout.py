@@ -115,3 +115,17 @@ def test_material_at_the_placement_level_is_not_a_placement_but_a_capacitor_is_u
     _identity_holds(r)
     kinds = dict(zip(r.skipped["row"], r.skipped["kind"]))
     assert kinds == {2: "not_placement", 4: "unreadable"}
+
+
+def test_side_by_side_source_columns_are_approved_sources(tmp_path):
+    # Contract-manufacturer exports list further sources in numbered columns (common practice).
+    text = ("Designator,Value,Manufacturer 1,MPN 1,Manufacturer 2,MPN 2\n"
+            "C1,100nF 50V X7R,Kvellon,KV-104,Brisk Ceramics,BC-104\n"
+            "C2,1uF 25V X5R,Kvellon,KV-105,,\n"
+            ",,Tollin Passives,TP-105,,\n")
+    r = read_bom(_file(tmp_path, text))
+    _identity_holds(r)
+    assert not [f for f in r.findings if f.code == "column_ambiguous"]
+    src = r.sources
+    assert src[["line", "source", "mpn"]].values.tolist() == [
+        [0, 0, "KV-104"], [0, 1, "BC-104"], [1, 0, "KV-105"], [1, 1, "TP-105"]]

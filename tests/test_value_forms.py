@@ -126,6 +126,8 @@ def test_safety_class_on_a_low_voltage_part_is_not_taken():
     s = parse_value("CAP CER 47PF 50V C0G Y1")
     assert s.safety_class is None and s.voltage_kind is None and s.warnings
     assert parse_value("CAP CER 4.7NF 250VAC Y1").safety_class == "Y1"
+    # IEC 60384-14 covers film, paper and ceramic interference-suppression parts only.
+    assert parse_value("CAP ALU 100UF 400V Y2").safety_class is None
 
 
 # --- conservative reading of one text that says two things (issue 9 class 6) ------------------
