@@ -1,8 +1,9 @@
 """Normalise stage: a BOM file to one row per capacitor placement, every source row accounted for.
 
 ``read_bom`` reads the table (``bomcheck.reader``), maps the columns (``bomcheck.columns``),
-joins continuation rows to the line above, expands designator lists (``bomcheck.refdes``),
-parses each distinct combination of value-bearing cells once (``bomcheck.values.parse_value``)
+takes out approved-source rows and multi-level structure rows (``bomcheck.layout``), joins
+continuation rows to the line above, expands designator lists (``bomcheck.refdes``), parses
+each distinct combination of value-bearing cells once and merges it (``bomcheck.linespec``)
 and maps the results back to the lines by code, then decides for every line: capacitor
 placements (fitted or not), a non-capacitor row, or an unreadable row with its reason.
 
@@ -35,6 +36,11 @@ Kind ``not_capacitor``:
 - ``the text reads as a <family> ('token')``, ``designator prefix 'E' is not a capacitor
   prefix and only a bare code reads as a capacitor ('104')``, ``no capacitor evidence in the
   text ('text')`` and ``no value or description`` - for prefixes that are neither.
+
+- ``designator prefix 'C', but the text describes a cable ('CABLE'): not a capacitor``.
+
+Kinds ``approved_source`` (``approved source N of the line on row M``) and ``not_placement``
+(rows of a multi-level BOM without designators; see ``bomcheck.layout``).
 
 A continuation row not taken carries its line's reason with ``(continuation of row N)``.
 Placements of a line all carry the line's first source row, also for designators written on
