@@ -565,6 +565,29 @@ class _Lines:
     side_by_side: list[tuple[np.ndarray, np.ndarray]]  # per numbered column pair, per line
 
 
+def _competing_cells(table: reader.RawTable, mapping: dict[str, str], heads: np.ndarray,
+                     head_rows: np.ndarray, cap_line: np.ndarray) -> list[ImportFinding]:
+    """Capacitor lines where two columns competing for one field (``Voltage (Rev A)`` and
+    ``Voltage (V)``) hold different text: a finding on the line, so that its placements are
+    never a silent pass on the column that was picked."""
+    out: list[ImportFinding] = []
+    frame = table.frame
+    for fld, used, others in colmod.competing_columns(list(frame.columns), mapping):
+        a = frame[used].to_numpy(dtype=object)[heads]
+        for other in others:
+            b = frame[other].to_numpy(dtype=object)[heads]
+            differ = cap_line & (a != "") & (b != "") & (a != b)
+            for li in np.flatnonzero(differ):
+                if _fold(str(a[li])) == _fold(str(b[li])):
+                    continue
+                out.append(ImportFinding(
+                    int(head_rows[li]), None, "column_ambiguous",
+                    f"{colmod.FIELD_LABELS[fld]}: column {_original_header(table, used)!r} says "
+                    f"{a[li]!r} but column {_original_header(table, other)!r} says {b[li]!r}; "
+                    f"using {_original_header(table, used)!r}, check which column is current"))
+    return out
+
+
 def _side_by_side(table: reader.RawTable, mapping: dict[str, str], heads: np.ndarray
                   ) -> list[tuple[np.ndarray, np.ndarray]]:
     """(manufacturer, MPN) cells per line of each numbered source-column pair
@@ -741,6 +764,7 @@ def _build_lines(table: reader.RawTable, mapping: dict[str, str], source: BomSou
     for li, msg in unclear:
         if cap_line[li]:
             findings.append(ImportFinding(int(head_rows[li]), None, "fitted_unclear", msg))
+    findings.extend(_competing_cells(table, mapping, heads, head_rows, cap_line))
 
     placements = _placements(cap_idx, des, line, head_rows, fitted, nf_reason, qty, combos,
                              combo_code)
