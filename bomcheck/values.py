@@ -88,7 +88,8 @@ _LOOKALIKE_CLASS2 = re.compile(r"[XYZ]\d[A-Z]").fullmatch
 # Capacitor_SMD:C_0603_1608Metric, CP_Elec_8x10): a leading capacitor symbol name becomes the
 # word CAP and the underscores separate tokens (common practice of EDA symbol libraries).
 _LIBRARY_PREFIX = re.compile(r"(?<![A-Za-z0-9])(?:CAP|CP|C)_(?=[A-Za-z0-9])")
-# A safety class inside brackets describes something else ("(Y1 load)": the crystal's load).
+# A safety class inside brackets with other words describes something else ("(Y1 load)": the
+# crystal's load capacitor); "(X2)" or "(Class X2)" is this part's class.
 _BRACKET_GROUP = re.compile(r"\([^()]*\)|\[[^\[\]]*\]")
 _SAFETY_TOKEN = re.compile(r"(?<![A-Za-z0-9])(?:X[1-3]|Y[1-4])(?![A-Za-z0-9])", re.IGNORECASE)
 # IEC 60384-14 safety classes are for mains-connected parts; Y4, the lowest, covers rated
@@ -1126,14 +1127,27 @@ def parse_value(text: str, *, context: str = "any") -> CapSpec:
                        warnings=(f"internal parser error: {type(exc).__name__}: {exc}",))
 
 
+# Words a bracket may hold beside a safety class that still describe this part's rating
+# ("(Class X2)", "(X2, IEC 60384-14)"); any other word makes the bracket about something else.
+_SAFETY_CONTEXT_WORDS = frozenset({
+    "CLASS", "SUBCLASS", "SAFETY", "RATED", "CERTIFIED", "APPROVED", "TYPE", "AC", "VAC",
+    "IEC", "EN", "UL", "CSA", "ENEC", "VDE", "CQC", "KC", "AND", "OR",
+})
+_ALPHA_WORD = re.compile(r"[A-Za-z]+")
+
+
 def _bracketed_safety(group: str, warnings: list[str]) -> str:
-    """A bracketed remark without its safety-class words ("(Y1 load)" names another part)."""
+    """A bracketed remark without its safety-class words when it is about something else:
+    ``(Y1 load)`` names the load of another part; ``(X2)`` and ``(Class X2)`` stay."""
     found = _SAFETY_TOKEN.findall(group)
     if not found:
         return group
+    rest = _SAFETY_TOKEN.sub(" ", group)
+    if not any(w.upper() not in _SAFETY_CONTEXT_WORDS for w in _ALPHA_WORD.findall(rest)):
+        return group
     warnings.append(f"{'/'.join(found)} inside brackets ({group!r}) is not taken as this part's "
                     "safety class")
-    return _SAFETY_TOKEN.sub(" ", group)
+    return rest
 
 
 # Prefix steps for display: below the limit, use (prefix, power of ten).

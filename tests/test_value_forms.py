@@ -121,6 +121,13 @@ def test_bracketed_safety_class_belongs_to_another_part():
     assert s.voltage_v == 50.0
 
 
+@pytest.mark.parametrize("text", ["CAP FILM 100NF 275VAC (X2)", "CAP FILM 100NF 275VAC (Class X2)",
+                                  "CAP FILM 100NF 275VAC X2"])
+def test_safety_class_of_this_part_in_brackets_is_kept(text):
+    # IEC 60384-14 class X2 written as the part's own rating.
+    assert parse_value(text).safety_class == "X2"
+
+
 def test_safety_class_on_a_low_voltage_part_is_not_taken():
     # No IEC 60384-14 class is rated below 100 V (value from memory; Y4 covers up to 150 V AC).
     s = parse_value("CAP CER 47PF 50V C0G Y1")
