@@ -52,6 +52,7 @@ from __future__ import annotations
 import functools
 import hashlib
 import math
+import operator
 import re
 from collections.abc import Callable, Mapping
 from concurrent.futures import ThreadPoolExecutor
@@ -980,13 +981,15 @@ def _placements(cap_idx: np.ndarray, des: _Designators, line: dict[str, np.ndarr
     # Per-combination values as two blocks (floats, objects), each taken by code in one step.
     obj_cols = ["text", "value_text", "description",
                 *(k for k in SPEC_COLUMNS if k not in FLOAT_SPEC and k != "is_capacitor")]
-    obj_block = np.empty((len(combos), len(obj_cols)), dtype=object)
-    for i, c in enumerate(combos):
-        for j, k in enumerate(obj_cols):
-            # One cell at a time: a tuple (warnings) must stay one object, not a sequence.
-            obj_block[i, j] = getattr(c, k) if j < 3 else c.spec[k]
-    float_block = np.array([[math.nan if c.spec[k] is None else float(c.spec[k])
-                             for k in FLOAT_SPEC] for c in combos], dtype=float)
+    n_c = len(combos)
+    obj_block = np.empty((n_c, len(obj_cols)), dtype=object)
+    for j, k in enumerate(obj_cols):
+        # fromiter keeps a tuple (warnings) as one object, not a sequence to spread.
+        obj_block[:, j] = np.fromiter(
+            (getattr(c, k) for c in combos) if j < 3 else (c.spec[k] for c in combos),
+            dtype=object, count=n_c)
+    get_floats = operator.itemgetter(*FLOAT_SPEC)
+    float_block = np.array([get_floats(c.spec) for c in combos], dtype=float)  # None -> NaN
     if not combos:
         float_block = float_block.reshape(0, len(FLOAT_SPEC))
     obj_taken = obj_block.take(cc, axis=0)
