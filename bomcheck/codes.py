@@ -7,6 +7,7 @@ the project's reference sheet of capacitor figures, sections 2.1 to 2.5.
 
 from __future__ import annotations
 
+import re
 from dataclasses import dataclass
 
 from bomcheck.spec import SAFETY_CLASSES
@@ -24,6 +25,7 @@ __all__ = [
     "CLASS2_LOW_TEMP_C",
     "CLASS3_CHANGE_LETTERS",
     "IMPERIAL_TO_METRIC",
+    "PLAUSIBLE",
     "METRIC_TO_IMPERIAL",
     "SAFETY_CLASSES",
     "SAFETY_CLASS_USE",
@@ -37,6 +39,9 @@ __all__ = [
     "decode_class2",
     "decode_dielectric",
     "decode_tc_code",
+    "ipc_footprint",
+    "package_key",
+    "plausible",
     "tantalum_case",
     "tolerance_letter",
 ]
@@ -209,6 +214,9 @@ VOLTAGE_CODES: dict[str, float] = {
 IMPERIAL_TO_METRIC: dict[str, str] = {
     "01005": "0402", "0201": "0603", "0402": "1005", "0603": "1608", "0805": "2012",
     "1206": "3216", "1210": "3225", "1812": "4532", "2220": "5750",
+    # Moulded tantalum cases by their inch codes (EIA-535 case sizes, common practice): case B,
+    # C and D (case A is 1206/3216 above).
+    "1411": "3528", "2312": "6032", "2917": "7343",
 }
 METRIC_TO_IMPERIAL: dict[str, str] = {m: i for i, m in IMPERIAL_TO_METRIC.items()}
 # Tantalum case letters in the common lettering; makers' letters beyond these vary.
@@ -269,3 +277,98 @@ def tantalum_case(letter: str) -> tuple[str, str] | None:
 # --- Safety classes (mains interference-suppression capacitors) ----------------------------------
 
 SAFETY_CLASS_USE: dict[str, str] = {"X": "across the line", "Y": "line to protective earth"}
+
+
+# --- IPC-7351 footprint names ------------------------------------------------------------------
+
+# IPC-7351 land-pattern names: a family prefix, the body length and width in 0.1 mm (chip and
+# moulded families) or the base size in 0.01 mm (aluminium SMD cans), then X and the height in
+# 0.01 mm, then a density letter (M, N, L). Families read here: CAPC chip capacitor, CAPT
+# tantalum, CAPM moulded (polarised) body, CAPAE aluminium electrolytic SMD can.
+_IPC = re.compile(
+    r"(?P<fam>CAPC|CAPT|CAPM|CAPMP|CAPAE)(?P<body>\d{3,6})X(?P<h>\d{2,4})(?P<dens>[LMN])?",
+    re.IGNORECASE,
+)
+
+
+def ipc_footprint(name: str) -> tuple[str, str] | None:
+    """``(package, note)`` for an IPC-7351 capacitor land-pattern name, or None.
+
+    ``CAPC1608X90N`` is the chip 1.6 x 0.8 mm, package ``0603`` (the imperial code, as BOMs write
+    it); ``CAPT6032X280N`` the moulded tantalum 6.0 x 3.2 x 2.8 mm, package ``6032-28`` (the
+    metric case code, with its case letter in the note); ``CAPAE530X610N`` an aluminium SMD can
+    on a 5.3 mm base, 6.1 mm high, package ``CAPAE530X610`` with the sizes in the note.
+    """
+    m = _IPC.fullmatch(name.strip())
+    if m is None:
+        return None
+    fam, body, h = m.group("fam").upper(), m.group("body"), m.group("h")
+    height_mm = int(h) / 100
+    if fam == "CAPAE":
+        base_mm = int(body) / 100
+        return (f"CAPAE{body}X{h}",
+                f"IPC-7351 aluminium electrolytic SMD can, base {base_mm:g} mm, "
+                f"height {height_mm:g} mm")
+    if len(body) != 4:
+        return None
+    imperial = METRIC_TO_IMPERIAL.get(body)
+    if fam == "CAPC" and imperial is not None:
+        return imperial, (f"IPC-7351 chip {body[:2]}x{body[2:]} (0.1 mm): imperial {imperial} "
+                          f"(metric {body})")
+    case = _CASE_OF_METRIC.get(body)
+    code = f"{body}-{round(height_mm * 10):02d}"
+    note = f"IPC-7351 moulded body {body} (0.1 mm), height {height_mm:g} mm"
+    if case is not None:
+        note += f"; tantalum case {case} in the common lettering"
+    return code, note
+
+
+def package_key(package: str | None) -> str | None:
+    """One spelling per physical case, to tell whether two package texts name the same case:
+    a tantalum case letter, its metric code (``6032``, ``6032-28``) and its inch code (``2312``)
+    all give the metric code, and so do a chip's imperial and metric codes (``0603``, ``1608``;
+    a package field holds codes already read one way, so the digits are not ambiguous here). Other texts come back folded
+    (upper case, letters and digits only)."""
+    if package is None:
+        return None
+    p = package.strip().upper()
+    if p.startswith("CASE "):
+        metric = TANTALUM_CASES.get(p[5:].strip())
+        return metric.split("-")[0] if metric and "-" not in metric else (metric or p)
+    head = p.split("-")[0] if re.fullmatch(r"\d{4}-\d{2}", p) else p
+    if head.isdigit():
+        return IMPERIAL_TO_METRIC.get(head, head)
+    return re.sub(r"[^0-9A-Z]", "", p)
+
+
+# --- Plausible ranges of parsed quantities ------------------------------------------------------
+
+# What a capacitor in a BOM can have; a parsed number outside its range is a misreading or a typo
+# and is left unread with a warning (never used, never inf or nan). Reasons:
+# - capacitance 0.01 pF .. 10 kF: the smallest trimmed RF chip values are tenths of a pF; the
+#   largest single supercapacitor cells are a few kF (value from memory);
+# - rated voltage above 0 V and up to 100 kV: a 0 V rating is no rating (and divides by zero);
+#   the largest HV pulse and power capacitors are rated in tens of kV (value from memory);
+# - rated temperatures -100 .. 400 degC: EIA-198 codes span -55 .. +200 degC, high-temperature
+#   ceramics and glass reach about 250-300 degC (value from memory), nothing in a BOM beyond;
+# - tolerance: 0 .. 100 % on the minus side (a part cannot lose more than all of its value),
+#   0 .. 200 % on the plus side (old electrolytic tolerances such as -10/+150 %, value from
+#   memory); an absolute tolerance above 0 and up to 1 mF.
+PLAUSIBLE: dict[str, tuple[float, float]] = {
+    "capacitance_f": (0.01e-12, 10e3),
+    "voltage_v": (0.0, 100e3),  # lower bound exclusive
+    "temp_c": (-100.0, 400.0),
+    "tol_minus_pct": (0.0, 100.0),
+    "tol_plus_pct": (0.0, 200.0),
+    "tol_abs_f": (0.0, 1e-3),  # lower bound exclusive
+}
+_EXCLUSIVE_LOW = frozenset({"voltage_v", "tol_abs_f"})
+
+
+def plausible(quantity: str, value: float) -> bool:
+    """True when ``value`` is finite and inside the plausible range of ``quantity`` (a key of
+    ``PLAUSIBLE``); NaN and infinities are never plausible."""
+    lo, hi = PLAUSIBLE[quantity]
+    if not (lo <= value <= hi):  # also False for NaN
+        return False
+    return not (quantity in _EXCLUSIVE_LOW and value <= lo)

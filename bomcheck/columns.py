@@ -19,6 +19,7 @@ from bomcheck.errors import InputError
 FIELDS: tuple[str, ...] = (
     "refdes", "qty", "value", "description", "manufacturer", "mpn", "package",
     "voltage", "tolerance", "dielectric", "temperature", "fitted", "notes",
+    "category", "level", "item", "ipn", "uom",
 )
 
 # Aliases as written in real exports (English, German, French), best first: when two headers
@@ -28,17 +29,20 @@ ALIASES: dict[str, tuple[str, ...]] = {
     "refdes": (
         "Designator", "Designators", "RefDes", "Reference Designator", "Reference Designators",
         "Reference", "References", "Ref", "Refs", "Part Reference", "Part References",
-        "Designator List", "Refdes List", "Parts", "Part",
+        "Designator List", "Refdes List", "Ref Designator", "Ref Designators",
+        "Reference Designation", "Parts", "Part",
         "Bauteil", "Bauteile", "Referenz", "Referenzen", "Bezeichner", "Referenzbezeichner",
+        "Referenzkennzeichen", "Bauteilreferenz",
         "BMK", "Betriebsmittelkennzeichen",
         "Repère", "Repères", "Repère topologique", "Repères topologiques",
         "Référence topologique", "Repérage",
     ),
     "qty": (
         "Qty", "Quantity", "Qnty", "Qty per board", "Quantity per board", "Qty per PCB",
-        "Quantity per PCB", "Qty per assembly", "Count", "Pcs",
-        "Menge", "Anzahl", "Stückzahl", "Stück", "Stk",
-        "Quantité", "Qté", "Nombre", "Nb",
+        "Quantity per PCB", "Qty per assembly", "Qty Per", "Quantity Per", "Qty/Assy",
+        "Extended Qty", "Count", "Pcs",
+        "Menge", "Anzahl", "Stückzahl", "Stück", "Stk", "Menge pro", "Menge je Baugruppe",
+        "Quantité", "Qté", "Quantité par", "Nombre", "Nb",
     ),
     "value": (
         "Value", "Val", "Comment", "Capacitance", "Nominal Value", "Part Value",
@@ -58,7 +62,8 @@ ALIASES: dict[str, tuple[str, ...]] = {
     ),
     "mpn": (
         "MPN", "Manufacturer Part Number", "Manufacturer Part No", "Manufacturer PN",
-        "Mfr Part Number", "Mfr Part No", "Mfr PN", "Mfg Part Number", "Mfg PN",
+        "Mfr Part Number", "Mfr Part No", "Mfr Part", "Mfr PN", "Mfg Part Number", "Mfg Part No",
+        "Mfg PN", "Manufacturer Part",
         "Part Number", "Part No", "PN",
         "Herstellerteilenummer", "Hersteller Teilenummer", "Herstellerartikelnummer",
         "Herstellernummer", "Teilenummer",
@@ -84,7 +89,8 @@ ALIASES: dict[str, tuple[str, ...]] = {
         "Diélectrique",
     ),
     "temperature": (
-        "Temperature", "Temp", "Rated Temperature", "Max Temperature", "Temperature Rating",
+        "Temperature", "Temp", "Rated Temperature", "Rated Temp", "Max Temperature", "Max Temp",
+        "Temperature Rating", "Temp Rating", "Maximum Temperature",
         "Operating Temperature", "Operating Temp", "Temperature Range", "Temp Range",
         "Temperatur", "Betriebstemperatur", "Temperaturbereich", "Maximaltemperatur",
         "Température", "Température de fonctionnement", "Plage de température",
@@ -102,6 +108,25 @@ ALIASES: dict[str, tuple[str, ...]] = {
         "Bemerkung", "Bemerkungen", "Anmerkung", "Anmerkungen", "Hinweis", "Kommentar",
         "Remarque", "Remarques", "Commentaire", "Commentaires", "Observations",
     ),
+    # The part's kind as a catalogue or ERP names it ("Aluminum Electrolytic Capacitors"): read
+    # for the technology when no other cell states it.
+    "category": (
+        "Category", "Part Category", "Component Category", "Product Category", "Type",
+        "Part Type", "Component Type", "Family", "Part Family", "Product Family", "Commodity",
+        "Kategorie", "Typ", "Bauteiltyp", "Bauteilart", "Familie", "Warengruppe",
+        "Catégorie", "Famille", "Type de composant",
+    ),
+    # Multi-level (ERP/PLM) exports: the level of each row, its item (find) number, the internal
+    # part number and the unit of measure.
+    "level": ("Level", "Lvl", "BOM Level", "Indented Level", "Ebene", "Stufe", "Strukturstufe",
+              "Niveau"),
+    "item": ("Item", "Item No", "Item Number", "Find No", "Find Number", "Line No", "Position",
+             "Pos", "Positionsnummer", "Posnr", "Poste", "Numéro de poste"),
+    "ipn": ("Internal Part Number", "Internal PN", "IPN", "Company Part Number", "Our Part Number",
+            "Item Code", "Part Code", "Sachnummer", "Materialnummer", "Artikelnummer",
+            "Référence interne", "Code article"),
+    "uom": ("UoM", "Unit of Measure", "Unit", "Units", "ME", "Mengeneinheit", "Einheit", "Unité",
+            "Unité de mesure"),
 }
 
 # Fitted-column headers that ask the negative question ("DNP?"): a mark in them means NOT fitted.
@@ -115,7 +140,20 @@ FIELD_LABELS: dict[str, str] = {
     "manufacturer": "manufacturer", "mpn": "manufacturer part number", "package": "package",
     "voltage": "rated voltage", "tolerance": "tolerance", "dielectric": "dielectric",
     "temperature": "rated temperature", "fitted": "fitted/DNP", "notes": "notes",
+    "category": "category", "level": "level", "item": "item number",
+    "ipn": "internal part number", "uom": "unit of measure",
 }
+
+# Units a header may give in brackets ("Capacitance (uF)", "Voltage [kV]", "Rated Temp (°C)"),
+# per field, folded to lower case with the micro signs as u: what a bare number in that column
+# means (the unit written after it).
+HEADER_UNITS: dict[str, dict[str, str]] = {
+    "value": {"pf": "pF", "nf": "nF", "uf": "uF", "mf": "mF", "f": "F"},
+    "voltage": {"v": "V", "vdc": "VDC", "vac": "VAC", "kv": "kV"},
+    "temperature": {"°c": "°C", "c": "°C", "degc": "°C", "deg c": "°C"},
+    "tolerance": {"%": "%"},
+}
+_UNIT_BRACKET = re.compile(r"[(\[]\s*([^()\[\]]{1,8}?)\s*[)\]]")
 
 _BRACKETS = re.compile(r"[(\[{][^)\]}]*[)\]}]")
 
@@ -129,6 +167,28 @@ def normalise_header(text: str) -> str:
     t = unicodedata.normalize("NFKD", str(text).replace("ß", "ss").replace("ẞ", "ss"))
     t = "".join(ch for ch in t if not unicodedata.combining(ch)).casefold()
     return re.sub(r"[^0-9a-z]+", "", t)
+
+
+def header_unit(header: str, fld: str) -> str | None:
+    """The unit a header states in brackets for its field (``"Capacitance (uF)"`` -> ``"uF"``),
+    or None; only units that make sense for the field count."""
+    units = HEADER_UNITS.get(fld)
+    if not units:
+        return None
+    for m in _UNIT_BRACKET.finditer(str(header)):
+        key = m.group(1).strip().lower().replace("\u00b5", "u").replace("\u03bc", "u")
+        if key in units:
+            return units[key]
+    return None
+
+
+def _has_foreign_bracket(header: str) -> bool:
+    """True when the header carries a bracketed note that is not a unit (``"Voltage (Rev A)"``)."""
+    for m in _UNIT_BRACKET.finditer(str(header)):
+        key = m.group(1).strip().lower().replace("\u00b5", "u").replace("\u03bc", "u")
+        if not any(key in units for units in HEADER_UNITS.values()):
+            return True
+    return False
 
 
 def _variants(header: str) -> list[str]:
@@ -306,21 +366,11 @@ def map_columns(headers: Sequence[str], overrides: ColumnOverrides | None = None
                 hint=("closest: " + _quote_list(close)) if close else None,
             )
         mapping[fld] = found
-    taken = set(mapping.values())
-    index = _alias_index(ov.aliases)
-    best: dict[str, tuple[int, int, str]] = {}
-    for pos, h in enumerate(headers):
-        if h in taken or not str(h).strip():
-            continue
-        for v in _variants(h):
-            if v in index:
-                fld, prio = index[v]
-                if fld not in mapping and (fld not in best or (prio, pos) < best[fld][:2]):
-                    best[fld] = (prio, pos, h)
-                break
+    best = _candidates(headers, mapping, ov)
     # One header, one field: a header claimed by two fields keeps the better-ranked claim.
-    used: set[str] = set(taken)
-    for fld, (_, _, h) in sorted(best.items(), key=lambda kv: kv[1][:2]):
+    used: set[str] = set(mapping.values())
+    for fld, cands in sorted(best.items(), key=lambda kv: kv[1][0][:3]):
+        h = cands[0][3]
         if h not in used:
             mapping[fld] = h
             used.add(h)
@@ -331,6 +381,79 @@ def map_columns(headers: Sequence[str], overrides: ColumnOverrides | None = None
         raise layout_error(headers, "value", path=path, overrides=ov,
                            taken=set(mapping.values()))
     return {f: mapping[f] for f in FIELDS if f in mapping}
+
+
+def _candidates(headers: Sequence[str], mapping: Mapping[str, str], ov: ColumnOverrides
+                ) -> dict[str, list[tuple[int, int, int, str]]]:
+    """Per field not named by hand, the headers that match it, best first: by alias rank, then
+    a header without a bracketed note that is not a unit ("Voltage (V)" before
+    "Voltage (Rev A)"), then leftmost."""
+    taken = set(mapping.values())
+    index = _alias_index(ov.aliases)
+    out: dict[str, list[tuple[int, int, int, str]]] = {}
+    for pos, h in enumerate(headers):
+        if h in taken or not str(h).strip():
+            continue
+        for v in _variants(h):
+            if v in index:
+                fld, prio = index[v]
+                if fld not in mapping:
+                    out.setdefault(fld, []).append((prio, int(_has_foreign_bracket(h)), pos, h))
+                break
+    for cands in out.values():
+        cands.sort()
+    return out
+
+
+# Fields whose numbered copies ("Manufacturer 2", "MPN 2") list further approved sources: two of
+# them are not two columns competing for one field.
+SOURCE_FIELDS = ("manufacturer", "mpn")
+
+
+def competing_columns(headers: Sequence[str], mapping: Mapping[str, str],
+                      overrides: ColumnOverrides | None = None) -> list[tuple[str, str, list[str]]]:
+    """``(field, header used, [other headers])`` for every field that more than one header
+    matches by the same alias (``"Voltage (Rev A)"`` and ``"Voltage (V)"``): the choice between
+    them is a guess the user must see. Headers matching a weaker alias of the field lose without
+    a finding (``"Part Number"`` beside ``"Mfr Part Number"``), and so do numbered copies of the
+    source fields (``"MPN 2"``)."""
+    ov = overrides or ColumnOverrides()
+    named = {f for f in ov.columns}
+    out: list[tuple[str, str, list[str]]] = []
+    for fld, cands in _candidates(headers, {f: h for f, h in mapping.items() if f in named},
+                                  ov).items():
+        used = mapping.get(fld)
+        if used is None or len(cands) < 2:
+            continue
+        prio = next((c[0] for c in cands if c[3] == used), None)
+        others = [c[3] for c in cands if c[3] != used and c[0] == prio
+                  and c[3] not in mapping.values()]
+        if fld in SOURCE_FIELDS:
+            others = [h for h in others if normalise_header(h) == normalise_header(used)]
+        if others:
+            out.append((fld, used, others))
+    return out
+
+
+_TRAILING_NUMBER = re.compile(r"(\d+)\s*$")
+
+
+def numbered_sources(headers: Sequence[str], mapping: Mapping[str, str]
+                     ) -> list[tuple[str | None, str | None]]:
+    """Side-by-side approved sources: ``(manufacturer header, MPN header)`` pairs of numbered
+    copies of the source fields that the mapping did not take (``"Manufacturer 2"``,
+    ``"MPN 2"``), by their number; either header may be None."""
+    used = set(mapping.values())
+    index = _table_index()
+    pairs: dict[int, dict[str, str]] = {}
+    for h in headers:
+        m = _TRAILING_NUMBER.search(str(h))
+        if h in used or m is None:
+            continue
+        base = normalise_header(str(h)[:m.start()])
+        if base in index and index[base][0] in SOURCE_FIELDS:
+            pairs.setdefault(int(m.group(1)), {}).setdefault(index[base][0], h)
+    return [(p.get("manufacturer"), p.get("mpn")) for _, p in sorted(pairs.items())]
 
 
 def _quote_list(items: Iterable[str], limit: int = 12) -> str:

@@ -1,8 +1,9 @@
 """Normalise stage: a BOM file to one row per capacitor placement, every source row accounted for.
 
 ``read_bom`` reads the table (``bomcheck.reader``), maps the columns (``bomcheck.columns``),
-joins continuation rows to the line above, expands designator lists (``bomcheck.refdes``),
-parses each distinct combination of value-bearing cells once (``bomcheck.values.parse_value``)
+takes out approved-source rows and multi-level structure rows (``bomcheck.layout``), joins
+continuation rows to the line above, expands designator lists (``bomcheck.refdes``), parses
+each distinct combination of value-bearing cells once and merges it (``bomcheck.linespec``)
 and maps the results back to the lines by code, then decides for every line: capacitor
 placements (fitted or not), a non-capacitor row, or an unreadable row with its reason.
 
@@ -36,6 +37,11 @@ Kind ``not_capacitor``:
   prefix and only a bare code reads as a capacitor ('104')``, ``no capacitor evidence in the
   text ('text')`` and ``no value or description`` - for prefixes that are neither.
 
+- ``designator prefix 'C', but the text describes a cable ('CABLE'): not a capacitor``.
+
+Kinds ``approved_source`` (``approved source N of the line on row M``) and ``not_placement``
+(rows of a multi-level BOM without designators; see ``bomcheck.layout``).
+
 A continuation row not taken carries its line's reason with ``(continuation of row N)``.
 Placements of a line all carry the line's first source row, also for designators written on
 its continuation rows.
@@ -48,24 +54,43 @@ import hashlib
 import math
 import operator
 import re
-from collections.abc import Mapping
+from collections.abc import Callable, Mapping
 from concurrent.futures import ThreadPoolExecutor
 from dataclasses import asdict, dataclass, field, replace
-from typing import TYPE_CHECKING, Any
+from typing import Any
 
 import numpy as np
 import pandas as pd
 
 from bomcheck import columns as colmod
 from bomcheck import reader
+from bomcheck.accounting import ROW_CATEGORIES, accounting_identity
 from bomcheck.errors import InputError
+from bomcheck.layout import APPROVED_SOURCE, NOT_PLACEMENT, find_layout
 from bomcheck.refdes import MAX_RANGE, check_total, expand
-from bomcheck.spec import SPEC_KEYS
+from bomcheck.linespec import (
+    _STRONG_CAP,
+    DECISIVE_FAMILIES,
+    FLOAT_SPEC,
+    SPEC_COLUMNS,
+    SPEC_SOURCES,
+    Combo,
+    CellParser,
+    decimal_commas,
+    not_fitted_mark,
+    other_part_evidence,
+    spec_from_cells,
+    strip_not_fitted,
+)
 
-if TYPE_CHECKING:
-    from bomcheck.spec import CapSpec
+__all__ = [
+    "CAPACITOR_PREFIXES", "OTHER_PREFIXES", "PLACEMENT_COLUMNS", "ROW_CATEGORIES",
+    "SKIPPED_COLUMNS", "SOURCE_COLUMNS", "SPEC_COLUMNS", "SPEC_SOURCES", "BomSource",
+    "ImportFinding", "ImportOptions", "ImportResult", "accounting_identity", "decimal_commas",
+    "expand_lines", "not_fitted_mark", "other_part_evidence", "parse_qty", "prefix_kind",
+    "read_bom", "spec_from_cells", "strip_not_fitted",
+]
 
-SPEC_COLUMNS: tuple[str, ...] = tuple(k for k in SPEC_KEYS if k != "text")
 PLACEMENT_COLUMNS: tuple[str, ...] = (
     "refdes", "row", "line", "fitted", "not_fitted_reason", "text", "value_text",
     "description", "mpn", "manufacturer", "qty", *SPEC_COLUMNS,
@@ -95,20 +120,6 @@ _CAP_KIND, _OTHER_KIND, _UNKNOWN_KIND = 1, -1, 0
 _CAP, _NONCAP, _UNREAD = 0, 1, 2
 _KIND_ARRAY = np.array(["capacitor", "not_capacitor", "unreadable"], dtype=object)
 
-# Not-fitted marks inside cell text. Upper-case NF/NC only, and NF not right after a number, so
-# "100 NF" stays a capacitance. "NP" (non-polar) is deliberately absent.
-_NOT_FITTED = re.compile(
-    r"(?<![\w.])(?:"
-    r"(?i:DNP|DNI|DNF|DNM|NO[\s-]?POP(?:ULATE[D]?)?"
-    r"|NOT\s+(?:FITTED|POPULATED|PLACED|MOUNTED|INSTALLED|ASSEMBLED|USED)"
-    r"|DO\s+NOT\s+(?:POPULATE|PLACE|FIT|INSTALL|MOUNT|ASSEMBLE|STUFF)"
-    r"|NICHT\s+BEST(?:Ü|UE|U)CKT|UNBEST(?:Ü|UE|U)CKT|NON[\s-]+MONT(?:É|E)(?:ES|E|S)?)"
-    r"|(?<![\d.,]\s)(?:NF|N/F|N\.F\.)|NC|N\.C\."
-    r")(?!\w)"
-)
-_EMPTY_BRACKETS = re.compile(r"\(\s*\)|\[\s*\]|\{\s*\}")
-_SPACES = re.compile(r"\s{2,}")
-
 # Fitted-column cells, folded (casefold, stripped).
 _FITTED_NO = frozenset({
     "no", "n", "0", "false", "f", "nein", "non", "dnp", "dni", "dnf", "nf", "nc",
@@ -120,58 +131,6 @@ _FITTED_YES = frozenset({
     "populated", "place", "placed", "mount", "mounted", "bestückt", "bestueckt", "monté", "monte",
     "\u2713", "\u2714",
 })
-
-# Text that says "capacitor" on its own: a farad unit, an RKM capacitance, capacitor words.
-_STRONG_CAP = re.compile(
-    r"\d\s*(?:[pnuµμm]|MF|UU|MM)?\s*F(?:D|ARAD)?S?\b|\d[pnuµμ]\d"
-    r"|\b(?:CAPS?|CAPACITORS?|KONDENSATOR(?:EN)?|KERKO|ELKO|TANTAL(?:UM)?|TANT|CONDENSATEURS?"
-    r"|MLCC|SUPERCAP|ELECTROLYTIC|ELEKTROLYT)\b",
-    re.IGNORECASE,
-)
-# Evidence of other parts: words anywhere, unit forms only in the value cell (a capacitor's
-# description may quote its ESR in ohms or its ripple frequency).
-_OTHER_WORDS = re.compile(
-    r"\b(?:(?P<resistor>RES|RESISTORS?|WIDERSTAND|WIDERST[ÄA]NDE|R[ÉE]SISTANCES?)"
-    r"|(?P<inductor>IND|INDUCTORS?|INDUCTANCE|CHOKE|COIL|SPULE|DROSSEL|BOBINE|FERRITE|BEAD)"
-    r"|(?P<crystal>CRYSTAL|XTAL|QUARZ|QUARTZ|RESONATOR|OSCILLATOR|OSC)"
-    r"|(?P<diode>DIODE|ZENER|TVS|SCHOTTKY|RECTIFIER|LED)"
-    r"|(?P<connector>CONN|CONNECTOR|HEADER|SOCKET|RECEPTACLE|STECKER|BUCHSE|STIFTLEISTE"
-    r"|CONNECTEUR))\b",
-    re.IGNORECASE,
-)
-_OTHER_VALUE = re.compile(
-    # IEC 60062 RKM for resistance: 4K7, 1M5, 4k7 (upper-case M; lower-case m is milli).
-    r"(?P<resistor>^\s*\d+(?:k|K|M)\d*\s*$|\d\s*[kKM]?\s*(?:Ω|Ω|[oO][hH][mM][sS]?)\b)"
-    r"|(?P<inductor>\d(?:[.,]\d+)?\s*[pnuµμm]H\b|\d[pnuµμ]\d+\s*H\b)"
-    r"|(?P<crystal>\d\s*[kMG][hH][zZ]\b)"
-)
-_RESISTOR_RKM_CAP_CODE = re.compile(r"^\s*\d{3}[KM]\s*$")  # 104K, 475M: pF code + tolerance
-
-# The cells parsed for the specification, with the parser context each one gets.
-SPEC_SOURCES: tuple[str, ...] = (
-    "value", "description", "voltage", "tolerance", "dielectric", "package", "temperature",
-)
-_SOURCE_LABELS = {
-    "value": "value", "description": "description", "voltage": "voltage column",
-    "tolerance": "tolerance column", "dielectric": "dielectric column",
-    "package": "package column", "temperature": "temperature column",
-}
-# Field groups taken whole from the first source that has the group's main (first) field.
-_GROUPS: tuple[tuple[tuple[str, ...], tuple[str, ...]], ...] = (
-    (("capacitance_f",), ("value", "description")),
-    (("voltage_v", "voltage_kind"), ("voltage", "value", "description")),
-    (("tol_minus_pct", "tol_plus_pct", "tol_abs_f"), ("tolerance", "value", "description")),
-    (("dielectric", "dielectric_class", "cap_change_minus_pct", "cap_change_plus_pct",
-      "tc_ppm", "tc_tol_ppm"), ("dielectric", "value", "description")),
-    (("technology", "film_material", "polarized"), ("dielectric", "value", "description")),
-    (("package", "package_note"), ("package", "value", "description")),
-    (("safety_class",), ("value", "description", "dielectric")),
-    (("emi_filter",), ("value", "description")),
-)
-_FLOAT_SPEC = ("capacitance_f", "voltage_v", "tol_minus_pct", "tol_plus_pct", "tol_abs_f",
-               "dielectric_class", "cap_change_minus_pct", "cap_change_plus_pct", "tc_ppm",
-               "tc_tol_ppm", "temp_min_c", "temp_max_c")
-
 
 @dataclass(frozen=True)
 class ImportOptions:
@@ -226,46 +185,41 @@ class ImportFinding:
         return asdict(self)
 
 
+SOURCE_COLUMNS: tuple[str, ...] = ("line", "source", "row", "manufacturer", "mpn", "text")
+
+def _empty_sources() -> pd.DataFrame:
+    return pd.DataFrame({c: pd.Series(dtype=np.int64 if c in ("line", "source", "row")
+                                      else object) for c in SOURCE_COLUMNS})
+
+
 @dataclass(frozen=True)
 class ImportResult:
-    """Placements (one row per designator), rows not taken, findings and the totals line."""
+    """Placements (one row per designator), rows not taken, findings and the totals line.
+
+    ``sources`` lists the approved sources of each BOM line, to join with ``placements`` on
+    ``line``: source 0 is the line's own manufacturer and MPN (for every capacitor line and
+    every line with approved sources), sources 1, 2... the approved-source rows under it, each
+    with its source ``row`` and its own ``text`` (description and notes; "" when it has none, and
+    always "" for source 0, whose text is the line's).
+    """
 
     source: BomSource
     placements: pd.DataFrame
     skipped: pd.DataFrame
     findings: tuple[ImportFinding, ...]
     totals: dict[str, int]
+    # Builds ``sources`` on first use (most callers never ask for it).
+    source_table: Callable[[], pd.DataFrame] | None = field(default=None, repr=False,
+                                                            compare=False)
+
+    @functools.cached_property
+    def sources(self) -> pd.DataFrame:
+        """The approved-source table (``SOURCE_COLUMNS``), see the class docstring."""
+        return self.source_table() if self.source_table is not None else _empty_sources()
 
 
 # ---------------------------------------------------------------------------------------------
 # Small pure helpers (each called once per distinct string)
-
-
-def not_fitted_mark(text: str) -> str | None:
-    """The not-fitted mark in a cell (``DNP``, ``do not populate``, ``nicht bestückt``...)."""
-    m = _NOT_FITTED.search(text)
-    return m.group(0) if m else None
-
-
-def strip_not_fitted(text: str) -> str:
-    """The cell without its not-fitted marks (what is left to parse)."""
-    t = _EMPTY_BRACKETS.sub(" ", _NOT_FITTED.sub(" ", text))
-    return _SPACES.sub(" ", t).strip(" ,;/-")
-
-
-_DECIMAL_ANY = re.compile(r"(?<=\d),(?=\d)")
-# Outside semicolon files only an unambiguous decimal comma: 4,7 or 0,1 but not 1,000 (thousands)
-# and not 0603,1uF (a package code glued to the next token).
-_DECIMAL_SAFE = re.compile(r"(?<![\d,.])(0|[1-9]\d{0,2}),(\d{1,2})(?![\d,])")
-
-
-def decimal_commas(text: str, *, semicolon: bool) -> str:
-    """Decimal commas to points: every one in a semicolon file, only unambiguous ones elsewhere."""
-    if "," not in text:
-        return text
-    if semicolon:
-        return _DECIMAL_ANY.sub(".", text)
-    return _DECIMAL_SAFE.sub(r"\1.\2", text)
 
 
 def prefix_kind(pfx: str) -> int:
@@ -275,19 +229,6 @@ def prefix_kind(pfx: str) -> int:
     if pfx in OTHER_PREFIXES:
         return _OTHER_KIND
     return _UNKNOWN_KIND
-
-
-def other_part_evidence(value: str, description: str) -> tuple[str, str] | None:
-    """(family, token) when the text names another kind of part: ``RES``, ``4u7H``, ``XTAL``."""
-    for text in (value, description):
-        m = _OTHER_WORDS.search(text)
-        if m:
-            return str(m.lastgroup), m.group(0)
-    if value and not _RESISTOR_RKM_CAP_CODE.match(value):
-        m = _OTHER_VALUE.search(value)
-        if m:
-            return str(m.lastgroup), m.group(0).strip()
-    return None
 
 
 def parse_qty(text: str) -> tuple[float, bool]:
@@ -450,229 +391,6 @@ def expand_lines(texts: np.ndarray, path: str | None = None) -> _Designators:
 # Parsing each distinct combination of value-bearing cells once
 
 
-@dataclass
-class _Combo:
-    """What one distinct combination of value-bearing cells says."""
-
-    spec: dict[str, Any]
-    evidence: int  # +1 capacitor, -1 another part, 0 nothing either way
-    strong: bool  # capacitor evidence that does not rest on a bare code
-    other: tuple[str, str] | None
-    conflicts: tuple[str, ...]
-    text: str
-    marks: dict[str, str]  # source -> not-fitted mark found in that cell
-    value_text: str
-    description: str
-
-
-def spec_from_cells(cells: Mapping[str, str]) -> tuple[dict, str, str, str]:
-    """(spec values, joined text, value text, description) of one line's BOM-style cells
-    (``{"value": ..., "description": ..., "voltage": ...}``), parsed and merged exactly as the
-    importer does, so the same text gives the same spec wherever it is written."""
-    combo = _Parser(semicolon=False).combo({k: str(v) for k, v in cells.items()})
-    return dict(combo.spec), combo.text, combo.value_text, combo.description
-
-
-class _Parser:
-    """Parse cells through ``parse_value`` with a cache per (context, text)."""
-
-    def __init__(self, semicolon: bool) -> None:
-        from bomcheck.values import format_capacitance, parse_value
-
-        self._parse = parse_value
-        self.fmt_c = format_capacitance
-        self.semicolon = semicolon
-        self._cache: dict[tuple[str, str], CapSpec | None] = {}
-        self._cleaned: dict[str, tuple[str, str | None]] = {}
-        self._group_cache: dict[int, list[tuple[Any, ...] | None]] = {}  # specs live in _cache
-
-    def clean(self, text: str) -> tuple[str, str | None]:
-        """(text to parse, not-fitted mark): spaces collapsed, marks removed, decimal commas."""
-        got = self._cleaned.get(text)
-        if got is None:
-            t = " ".join(text.split())
-            mark = not_fitted_mark(t)
-            if mark:
-                t = strip_not_fitted(t)
-            got = self._cleaned[text] = (decimal_commas(t, semicolon=self.semicolon), mark)
-        return got
-
-    def spec(self, context: str, text: str) -> CapSpec | None:
-        key = (context, text)
-        if key not in self._cache:
-            self._cache[key] = self._parse(text, context=context) if text else None
-        return self._cache[key]
-
-    def derived_temps(self, spec: CapSpec) -> tuple[float | None, float | None] | None:
-        """The temperature range the spec's dielectric code implies (None without a code)."""
-        if not spec.dielectric:
-            return None
-        d = self.spec("dielectric", spec.dielectric)
-        return (d.temp_min_c, d.temp_max_c) if d is not None else None
-
-    def combo(self, cells: dict[str, str]) -> _Combo:
-        done = {src: self.clean(t) for src, t in cells.items()}
-        cleaned = {src: c for src, (c, _) in done.items()}
-        marks = {src: m for src, (_, m) in done.items() if m}
-        specs = {src: self.spec(src, t) for src, t in cleaned.items()}
-        spec, conflicts = self._merge(specs)
-        value, desc = cleaned.get("value", ""), cleaned.get("description", "")
-        cap = any(s is not None and s.is_capacitor
-                  for s in (specs.get("value"), specs.get("description"), specs.get("dielectric")))
-        dielectric_col = specs.get("dielectric")
-        strong = cap and bool(
-            _STRONG_CAP.search(value) or _STRONG_CAP.search(desc)
-            or any(s is not None and s.dielectric for s in specs.values())
-            or (dielectric_col is not None and dielectric_col.technology)
-        )
-        other = other_part_evidence(value, desc)
-        evidence = 1 if cap else (-1 if other else 0)
-        text = " | ".join(" ".join(cells[s].split()) for s in SPEC_SOURCES
-                          if cells.get(s, "").strip())
-        return _Combo(spec, evidence, strong, other, tuple(conflicts), text, marks,
-                      " ".join(cells.get("value", "").split()),
-                      " ".join(cells.get("description", "").split()))
-
-    def _merge(self, specs: dict[str, CapSpec | None]) -> tuple[dict[str, Any], list[str]]:
-        """Merge the sources' specs field group by field group; a dedicated column wins over the
-        value, the value over the description; disagreements become conflict messages."""
-        out: dict[str, Any] = dict(_EMPTY_SPEC)
-        conflicts: list[str] = []
-        present = {s: sp for s, sp in specs.items() if sp is not None}
-        groups = {s: self._groups(sp) for s, sp in present.items()}
-        for gi, (group, order, keys) in enumerate(_GROUP_KEYS):
-            win_src = None
-            for src in order:
-                got = groups.get(src)
-                if got is None or got[gi] is None:
-                    continue
-                if win_src is None:
-                    win_src, win_vals = src, got[gi]
-                    out.update(zip(group, win_vals))
-                elif got[gi][:len(keys)] != win_vals[:len(keys)]:
-                    msg = self._disagree(keys, win_src, present[win_src], src, present[src])
-                    if msg:
-                        conflicts.append(msg)
-        if out["polarized"] is None:
-            out["polarized"] = next((sp.polarized for sp in present.values()
-                                     if sp.polarized is not None), None)
-        self._merge_temperature(present, out, conflicts)
-        out["is_capacitor"] = any(sp.is_capacitor for sp in present.values())
-        warnings: list[str] = []
-        unread: list[str] = []
-        for src in SPEC_SOURCES:
-            sp = present.get(src)
-            if sp is None:
-                continue
-            warnings.extend(w for w in sp.warnings if w not in warnings)
-            unread.extend(u for u in sp.unread if u not in unread)
-        out["warnings"], out["unread"] = tuple(warnings), tuple(unread)
-        return out, conflicts
-
-    def _groups(self, spec: CapSpec) -> list[tuple[Any, ...] | None]:
-        """Per field group of ``_GROUP_KEYS``: the spec's values (key fields first), or None when
-        the spec has none of the group's key fields. Cached per spec."""
-        got = self._group_cache.get(id(spec))
-        if got is None:
-            got = []
-            for get, nkeys in _GROUP_GETTERS:
-                vals = get(spec)
-                got.append(vals if vals[:nkeys] != _NONES[nkeys] else None)
-            self._group_cache[id(spec)] = got
-        return got
-
-    def _merge_temperature(self, present: dict[str, CapSpec], out: dict[str, Any],
-                           conflicts: list[str]) -> None:
-        # A temperature the text states beats one implied by a dielectric code (X7R -> 125 degC);
-        # only stated temperatures can conflict.
-        stated: list[tuple[str, CapSpec]] = []
-        for src in ("temperature", "value", "description"):
-            sp = present.get(src)
-            if sp is None or (sp.temp_min_c is None and sp.temp_max_c is None):
-                continue
-            derived = None if src == "temperature" else self.derived_temps(sp)
-            if derived is None or derived != (sp.temp_min_c, sp.temp_max_c):
-                stated.append((src, sp))
-        diel_src = next((s for s in ("dielectric", "value", "description")
-                         if s in present and present[s].dielectric == out["dielectric"]
-                         and out["dielectric"] is not None), None)
-        implied = self.derived_temps(present[diel_src]) if diel_src else None
-        for k, idx in (("temp_min_c", 0), ("temp_max_c", 1)):
-            vals = [(s, sp) for s, sp in stated if getattr(sp, k) is not None]
-            if vals:
-                out[k] = getattr(vals[0][1], k)
-                for src, sp in vals[1:]:
-                    msg = self._disagree((k,), vals[0][0], vals[0][1], src, sp)
-                    if msg:
-                        conflicts.append(msg)
-            elif implied is not None:
-                out[k] = implied[idx]
-            else:
-                out[k] = next((getattr(sp, k) for sp in present.values()
-                               if getattr(sp, k) is not None), None)
-
-    def _disagree(self, keys: tuple[str, ...], src1: str, sp1: CapSpec, src2: str,
-                  sp2: CapSpec) -> str | None:
-        """A conflict message when two sources give different values for the same fields."""
-        same = True
-        for k in keys:
-            v1, v2 = getattr(sp1, k), getattr(sp2, k)
-            if isinstance(v1, (int, float)) and isinstance(v2, (int, float)) \
-                    and not isinstance(v1, bool):
-                same &= math.isclose(float(v1), float(v2), rel_tol=1e-6, abs_tol=1e-15)
-            elif isinstance(v1, str) and isinstance(v2, str):
-                same &= _alnum(v1) == _alnum(v2)
-            else:
-                same &= v1 == v2
-        if same:
-            return None
-        name = _FIELD_NAMES.get(keys[0], keys[0].replace("_", " "))
-        return (f"{name}: {_SOURCE_LABELS[src1]} says {self._show(keys[0], sp1)} but "
-                f"{_SOURCE_LABELS[src2]} says {self._show(keys[0], sp2)}; using the "
-                f"{_SOURCE_LABELS[src1]}")
-
-    def _show(self, key: str, sp: CapSpec) -> str:
-        v = getattr(sp, key)
-        if key == "capacitance_f":
-            return self.fmt_c(float(v))
-        if key == "voltage_v":
-            return f"{float(v):g} V" + (f" {sp.voltage_kind.upper()}" if sp.voltage_kind else "")
-        if key == "tol_minus_pct":
-            if v is None:
-                if sp.tol_abs_f is not None:
-                    return "+/-" + self.fmt_c(float(sp.tol_abs_f))
-                return f"+{float(sp.tol_plus_pct):g} %"
-            plus = sp.tol_plus_pct
-            if plus is None or plus == v:
-                return f"+/-{float(v):g} %"
-            return f"+{float(plus):g}/-{float(v):g} %"
-        if key in ("temp_min_c", "temp_max_c"):
-            return f"{float(v):g} degC"
-        return str(v)
-
-
-# The fields that say whether a source has a group at all (tolerance may be absolute only).
-_KEY_FIELDS = {"tol_minus_pct": ("tol_minus_pct", "tol_plus_pct", "tol_abs_f")}
-_GROUP_KEYS = tuple((group, order, _KEY_FIELDS.get(group[0], group[:1]))
-                    for group, order in _GROUPS)
-# Getters returning each group's values as a tuple (attrgetter of one name returns the value).
-_GROUP_GETTERS = tuple(
-    (operator.attrgetter(*group) if len(group) > 1 else (lambda sp, k=group[0]: (getattr(sp, k),)),
-     len(keys))
-    for group, _, keys in _GROUP_KEYS
-)
-_NONES = {k: (None,) * k for k in range(1, 4)}
-_EMPTY_SPEC: dict[str, Any] = {**dict.fromkeys(SPEC_COLUMNS), "warnings": (), "unread": ()}
-_FIELD_NAMES = {"capacitance_f": "capacitance", "voltage_v": "rated voltage",
-                "tol_minus_pct": "tolerance", "temp_min_c": "minimum temperature",
-                "temp_max_c": "maximum temperature", "technology": "technology",
-                "dielectric": "dielectric", "package": "package"}
-
-
-def _alnum(text: str) -> str:
-    return re.sub(r"[\W_]", "", text).upper()
-
-
 def _combine_codes(code_arrays: list[np.ndarray], sizes: list[int]) -> tuple[np.ndarray, int]:
     """One code per distinct tuple of per-column codes (first-seen order)."""
     n = len(code_arrays[0]) if code_arrays else 0
@@ -749,7 +467,18 @@ def read_bom(path: str, options: ImportOptions = ImportOptions()) -> ImportResul
             sheet=table.sheet, header_row=table.header_row,
             columns={f: _original_header(table, h) for f, h in mapping.items()},
         )
+        header_findings = tuple(
+            ImportFinding(int(table.header_row), None, "column_ambiguous",
+                          f"two columns for the {colmod.FIELD_LABELS[fld]}: "
+                          f"{_original_header(table, used)!r} is used, "
+                          + ", ".join(repr(_original_header(table, o)) for o in others)
+                          + " not; check which one is current")
+            for fld, used, others in colmod.competing_columns(list(table.frame.columns),
+                                                               mapping, overrides))
         result = _build(table, mapping, source)
+        if header_findings:
+            result = replace(result, findings=tuple(sorted((*result.findings,
+                                                            *header_findings))))
         return replace(result, source=replace(source, sha256=digest.result()))
 
 
@@ -768,6 +497,166 @@ def _row_texts(arrays: list[np.ndarray], idx: np.ndarray) -> list[str]:
 
 
 def _build(table: reader.RawTable, mapping: dict[str, str], source: BomSource) -> ImportResult:
+    """Take out the approved-source and multi-level structure rows (``bomcheck.layout``), build
+    the lines of the rest, and account for every row."""
+    frame = table.frame
+    n = len(frame)
+    cells = {f: frame[h].to_numpy(dtype=object) for f, h in mapping.items()}
+    repeated = cells["refdes"] == _original_header(table, mapping["refdes"]).strip() if n \
+        else np.zeros(0, dtype=bool)
+    lay = find_layout(cells, n, repeated, _reads_as_capacitor)
+    if lay is None:
+        result, lines = _build_lines(table, mapping, source, repeated)
+        return replace(result, source_table=functools.partial(_sources, lines, None, None,
+                                                              None, None))
+    out = lay.taken_out
+    keep = ~out
+    rows = np.asarray(table.rows, dtype=np.int64)
+    sub = replace(table, frame=frame[keep].reset_index(drop=True), rows=rows[keep])
+    result, lines = _build_lines(sub, mapping, source, repeated[keep])
+    pos = np.cumsum(keep) - 1  # each row's position among the rows kept
+    approved = np.flatnonzero(lay.approved)
+    parent_line = lines.line_of_row[pos[lay.parent[approved]]] if len(approved) else \
+        np.zeros(0, dtype=np.int64)
+    # Approved sources of rows that are themselves taken out (an assembly row) have no line.
+    parent_out = out[lay.parent[approved]] if len(approved) else np.zeros(0, dtype=bool)
+    reason = lay.reason.copy()
+    for k, i in enumerate(approved):
+        p_row = int(rows[lay.parent[i]])
+        if parent_out[k]:
+            reason[i] = f"approved source of row {p_row}, which is not a placement line"
+        else:
+            what = "" if lines.kind[parent_line[k]] == _CAP else " (not a capacitor line)"
+            reason[i] = f"approved source {int(lay.source_index[i])} of the line on row {p_row}{what}"
+    taken = np.flatnonzero(out)
+    all_arrays = [frame[c].to_numpy(dtype=object) for c in frame.columns]
+    extra = pd.DataFrame({
+        "row": pd.Series(rows[taken], dtype=np.int64),
+        "kind": pd.Series(np.where(lay.approved[taken], APPROVED_SOURCE, NOT_PLACEMENT),
+                          dtype=object),
+        "reason": pd.Series(reason[taken], dtype=object),
+        "text": pd.Series(_row_texts(all_arrays, taken), dtype=object),
+    }, columns=list(SKIPPED_COLUMNS))
+    skipped = pd.concat([result.skipped, extra], ignore_index=True).sort_values(
+        "row", kind="stable").reset_index(drop=True)
+    totals = dict(result.totals)
+    totals["rows_read"] = int(n)
+    totals["approved_source_rows"] = int(lay.approved.sum())
+    totals["not_placement_rows"] = int(lay.structure.sum())
+    ok = approved[~parent_out]
+    sources = functools.partial(
+        _sources, lines, parent_line[~parent_out], lay.source_index[ok], rows[ok],
+        {f: cells[f][ok] for f in ("manufacturer", "mpn", "description", "notes") if f in cells})
+    return replace(result, skipped=skipped, totals=totals, source_table=sources)
+
+
+def _reads_as_capacitor(text: str) -> bool:
+    """Whether a row's text reads as a capacitor (a farad unit, capacitor words, a dielectric
+    code): the parser's verdict, or the capacitor-words test."""
+    from bomcheck.values import parse_value
+
+    return bool(_STRONG_CAP.search(text)) or parse_value(text, context="description").is_capacitor
+
+
+@dataclass(frozen=True)
+class _Lines:
+    """What the line stage tells the layout step: the line of each row and each line's kind,
+    source row, manufacturer and MPN."""
+
+    line_of_row: np.ndarray
+    kind: np.ndarray
+    head_rows: np.ndarray
+    manufacturer: np.ndarray
+    mpn: np.ndarray
+    side_by_side: list[tuple[np.ndarray, np.ndarray]]  # per numbered column pair, per line
+
+
+def _competing_cells(table: reader.RawTable, mapping: dict[str, str], heads: np.ndarray,
+                     head_rows: np.ndarray, cap_line: np.ndarray) -> list[ImportFinding]:
+    """Capacitor lines where two columns competing for one field (``Voltage (Rev A)`` and
+    ``Voltage (V)``) hold different text: a finding on the line, so that its placements are
+    never a silent pass on the column that was picked."""
+    out: list[ImportFinding] = []
+    frame = table.frame
+    for fld, used, others in colmod.competing_columns(list(frame.columns), mapping):
+        a = frame[used].to_numpy(dtype=object)[heads]
+        for other in others:
+            b = frame[other].to_numpy(dtype=object)[heads]
+            differ = cap_line & (a != "") & (b != "") & (a != b)
+            for li in np.flatnonzero(differ):
+                if _fold(str(a[li])) == _fold(str(b[li])):
+                    continue
+                out.append(ImportFinding(
+                    int(head_rows[li]), None, "column_ambiguous",
+                    f"{colmod.FIELD_LABELS[fld]}: column {_original_header(table, used)!r} says "
+                    f"{a[li]!r} but column {_original_header(table, other)!r} says {b[li]!r}; "
+                    f"using {_original_header(table, used)!r}, check which column is current"))
+    return out
+
+
+def _side_by_side(table: reader.RawTable, mapping: dict[str, str], heads: np.ndarray
+                  ) -> list[tuple[np.ndarray, np.ndarray]]:
+    """(manufacturer, MPN) cells per line of each numbered source-column pair
+    (``Manufacturer 2``/``MPN 2``): further approved sources written beside the first."""
+    out = []
+    empty = np.full(len(heads), "", dtype=object)
+    for mfr_h, mpn_h in colmod.numbered_sources(list(table.frame.columns), mapping):
+        out.append(tuple(table.frame[h].to_numpy(dtype=object)[heads] if h else empty
+                         for h in (mfr_h, mpn_h)))
+    return out  # type: ignore[return-value]
+
+
+def _sources(lines: _Lines, parent_line: np.ndarray | None, index: np.ndarray | None,
+             rows: np.ndarray | None, cells: dict[str, np.ndarray] | None) -> pd.DataFrame:
+    """The approved-source table: source 0 of every capacitor line and of every line with
+    approved sources, then the sources written beside it (numbered columns), then the
+    approved-source rows under it; ordered by line and source."""
+    extra: list[pd.DataFrame] = []
+    for mfr, mpn in lines.side_by_side:
+        li = np.flatnonzero((mfr != "") | (mpn != ""))
+        if len(li):
+            extra.append(_source_frame(li, lines.head_rows[li], mfr[li], mpn[li],
+                                       np.full(len(li), "", dtype=object), 1 + len(extra)))
+    if parent_line is not None and len(parent_line):
+        k = len(parent_line)
+        empty = np.full(k, "", dtype=object)
+        cells = cells or {}
+        text = [" ".join(" ".join(str(c).split()) for c in pair if str(c).strip())
+                for pair in zip(cells.get("description", empty), cells.get("notes", empty))]
+        extra.append(_source_frame(parent_line, rows, cells.get("manufacturer", empty),
+                                   cells.get("mpn", empty), np.array(text, dtype=object),
+                                   1000 + index))
+    own = lines.kind == _CAP
+    for part in extra:
+        own[part["line"].to_numpy()] = True
+    li = np.flatnonzero(own)
+    first = _source_frame(li, lines.head_rows[li], lines.manufacturer[li], lines.mpn[li],
+                          np.full(len(li), "", dtype=object), 0)
+    if not extra:
+        return first
+    out = pd.concat([first, *extra], ignore_index=True).sort_values(
+        ["line", "source"], kind="stable").reset_index(drop=True)
+    out["source"] = out.groupby("line").cumcount().to_numpy(dtype=np.int64)
+    return out
+
+
+def _source_frame(line: np.ndarray, rows: np.ndarray, manufacturer: np.ndarray,
+                  mpn: np.ndarray, text: np.ndarray, order: int | np.ndarray) -> pd.DataFrame:
+    """Rows of the approved-source table; ``order`` sorts a line's sources (renumbered after)."""
+    k = len(line)
+    return pd.DataFrame({
+        "line": np.asarray(line, dtype=np.int64),
+        "source": np.broadcast_to(np.asarray(order, dtype=np.int64), (k,)).copy(),
+        "row": np.asarray(rows, dtype=np.int64), "manufacturer": manufacturer, "mpn": mpn,
+        "text": text,
+    }, columns=list(SOURCE_COLUMNS))
+
+
+def _build_lines(table: reader.RawTable, mapping: dict[str, str], source: BomSource,
+                 repeated: np.ndarray) -> tuple[ImportResult, _Lines]:
+    """The lines of a table with no approved-source or structure rows: continuation rows
+    joined, designators expanded, cells parsed, each line classified; ``repeated`` marks the
+    repeated header rows."""
     frame = table.frame
     n = len(frame)
     all_arrays = [frame[c].to_numpy(dtype=object) for c in frame.columns]
@@ -780,9 +669,7 @@ def _build(table: reader.RawTable, mapping: dict[str, str], source: BomSource) -
     refdes_raw = get("refdes")
     src_rows = np.asarray(table.rows, dtype=np.int64)
 
-    # Repeated header rows and continuation rows (joined to the line above).
-    ref_header = _original_header(table, mapping["refdes"]).strip()
-    repeated = refdes_raw == ref_header if n else np.zeros(0, dtype=bool)
+    # Continuation rows (joined to the line above).
     cont = _continuations(frame, mapping, all_arrays, refdes_raw, repeated)
     line_of_row = np.cumsum(~cont) - 1
     heads = np.flatnonzero(~cont)
@@ -805,7 +692,9 @@ def _build(table: reader.RawTable, mapping: dict[str, str], source: BomSource) -
     check_total(int(des.count.sum()), path=source.path)
 
     # Distinct combinations of the value-bearing cells, parsed once each.
-    parser = _Parser(semicolon=table.format == "semicolon")
+    units = {f: u for f in SPEC_SOURCES if f in mapping
+             if (u := colmod.header_unit(_original_header(table, mapping[f]), f))}
+    parser = CellParser(semicolon=table.format == "semicolon", units=units)
     present = [s for s in SPEC_SOURCES if s in mapping]
     code_arrays, sizes = [], []
     for s in present:
@@ -832,7 +721,11 @@ def _build(table: reader.RawTable, mapping: dict[str, str], source: BomSource) -
         | ((pk == _CAP_KIND) & (evidence == 0) & ~fitted)
         | ((pk == _UNKNOWN_KIND) & (evidence > 0) & strong & ~has_other)
     )
-    other_line = ok & ~cap_line & ((pk == _OTHER_KIND) | (pk == _UNKNOWN_KIND))
+    decisive = np.array([c.other is not None and c.other[0] in DECISIVE_FAMILIES
+                         for c in combos], dtype=bool)[combo_code]
+    cap_line &= ~(decisive & ~strong)
+    other_line = ok & ~cap_line & ((pk == _OTHER_KIND) | (pk == _UNKNOWN_KIND)
+                                   | ((pk == _CAP_KIND) & decisive & ~strong))
     kind[cap_line] = _CAP
     kind[other_line] = _NONCAP
     # One reason per distinct (prefix, combination) among the lines not taken; lines with their
@@ -878,6 +771,7 @@ def _build(table: reader.RawTable, mapping: dict[str, str], source: BomSource) -
     for li, msg in unclear:
         if cap_line[li]:
             findings.append(ImportFinding(int(head_rows[li]), None, "fitted_unclear", msg))
+    findings.extend(_competing_cells(table, mapping, heads, head_rows, cap_line))
 
     placements = _placements(cap_idx, des, line, head_rows, fitted, nf_reason, qty, combos,
                              combo_code)
@@ -909,8 +803,12 @@ def _build(table: reader.RawTable, mapping: dict[str, str], source: BomSource) -
         "blank_rows": int(table.blank_rows),
         "continuation_rows": int(cont.sum()),
     }
+    totals["approved_source_rows"] = 0
+    totals["not_placement_rows"] = 0
+    lines = _Lines(line_of_row, kind, head_rows, line["manufacturer"], line["mpn"],
+                   _side_by_side(table, mapping, heads))
     return ImportResult(source=source, placements=placements, skipped=skipped,
-                        findings=tuple(sorted(findings)), totals=totals)
+                        findings=tuple(sorted(findings)), totals=totals), lines
 
 
 _LIST_MARK = re.compile(r"[,;/\s]|\.\.|[-\u2013:]")
@@ -955,7 +853,7 @@ def _continuations(frame: pd.DataFrame, mapping: dict[str, str], arrays: list[np
 
 
 def _fitted(line: dict[str, np.ndarray], mapping: dict[str, str], table: reader.RawTable,
-            des: _Designators, combos: list[_Combo], combo_code: np.ndarray
+            des: _Designators, combos: list[Combo], combo_code: np.ndarray
             ) -> tuple[np.ndarray, np.ndarray, list[tuple[int, str]]]:
     """Per line: fitted?, the reason when not, and (line, message) for unclear fitted cells."""
     n = len(combo_code)
@@ -1023,7 +921,7 @@ def _fitted_cell(cell: str, negative: bool) -> tuple[bool, bool]:
 
 
 def _reason(li: int, repeated: np.ndarray, des: _Designators, pk: np.ndarray,
-            combo: _Combo) -> str:
+            combo: Combo) -> str:
     """Why a line is not taken as capacitor placements."""
     if repeated[li]:
         return "repeated header row"
@@ -1033,6 +931,9 @@ def _reason(li: int, repeated: np.ndarray, des: _Designators, pk: np.ndarray,
     if pk[li] == _CAP_KIND:
         if combo.other is not None:
             family, token = combo.other
+            if family in DECISIVE_FAMILIES and not combo.strong:
+                return (f"designator prefix {pfx!r}, but the text describes {_a(family)} "
+                        f"({token!r}): not a capacitor")
             return f"capacitor designator, but the text reads as {_a(family)} ({token!r})"
         if not combo.text:
             return "capacitor designator with no value or description"
@@ -1059,7 +960,7 @@ def _a(word: str) -> str:
 
 def _placements(cap_idx: np.ndarray, des: _Designators, line: dict[str, np.ndarray],
                 head_rows: np.ndarray, fitted: np.ndarray, nf_reason: np.ndarray,
-                qty: np.ndarray, combos: list[_Combo], combo_code: np.ndarray) -> pd.DataFrame:
+                qty: np.ndarray, combos: list[Combo], combo_code: np.ndarray) -> pd.DataFrame:
     counts = des.count[cap_idx]
     total = int(counts.sum())
     line_of = np.repeat(cap_idx, counts)
@@ -1085,21 +986,23 @@ def _placements(cap_idx: np.ndarray, des: _Designators, line: dict[str, np.ndarr
     }
     # Per-combination values as two blocks (floats, objects), each taken by code in one step.
     obj_cols = ["text", "value_text", "description",
-                *(k for k in SPEC_COLUMNS if k not in _FLOAT_SPEC and k != "is_capacitor")]
-    obj_block = np.empty((len(combos), len(obj_cols)), dtype=object)
-    for i, c in enumerate(combos):
-        for j, k in enumerate(obj_cols):
-            # One cell at a time: a tuple (warnings) must stay one object, not a sequence.
-            obj_block[i, j] = getattr(c, k) if j < 3 else c.spec[k]
-    float_block = np.array([[math.nan if c.spec[k] is None else float(c.spec[k])
-                             for k in _FLOAT_SPEC] for c in combos], dtype=float)
+                *(k for k in SPEC_COLUMNS if k not in FLOAT_SPEC and k != "is_capacitor")]
+    n_c = len(combos)
+    obj_block = np.empty((n_c, len(obj_cols)), dtype=object)
+    for j, k in enumerate(obj_cols):
+        # fromiter keeps a tuple (warnings) as one object, not a sequence to spread.
+        obj_block[:, j] = np.fromiter(
+            (getattr(c, k) for c in combos) if j < 3 else (c.spec[k] for c in combos),
+            dtype=object, count=n_c)
+    get_floats = operator.itemgetter(*FLOAT_SPEC)
+    float_block = np.array([get_floats(c.spec) for c in combos], dtype=float)  # None -> NaN
     if not combos:
-        float_block = float_block.reshape(0, len(_FLOAT_SPEC))
+        float_block = float_block.reshape(0, len(FLOAT_SPEC))
     obj_taken = obj_block.take(cc, axis=0)
     float_taken = float_block.take(cc, axis=0)
     for j, k in enumerate(obj_cols):
         data[k] = obj_taken[:, j]
-    for j, k in enumerate(_FLOAT_SPEC):
+    for j, k in enumerate(FLOAT_SPEC):
         data[k] = float_taken[:, j]
     data["is_capacitor"] = np.array([bool(c.spec["is_capacitor"]) for c in combos],
                                     dtype=bool)[cc] if combos else np.zeros(0, dtype=bool)
@@ -1108,7 +1011,7 @@ def _placements(cap_idx: np.ndarray, des: _Designators, line: dict[str, np.ndarr
     return pd.DataFrame(series, columns=list(PLACEMENT_COLUMNS), copy=False)
 
 
-def _placement_findings(placements: pd.DataFrame, combos: list[_Combo],
+def _placement_findings(placements: pd.DataFrame, combos: list[Combo],
                         combo_code: np.ndarray) -> list[ImportFinding]:
     """Column conflicts on fitted placements, and designators listed more than once."""
     out: list[ImportFinding] = []
@@ -1121,8 +1024,8 @@ def _placement_findings(placements: pd.DataFrame, combos: list[_Combo],
     refdes = placements["refdes"].to_numpy(dtype=object)
     rows = placements["row"].to_numpy()
     for p in np.flatnonzero(has_conflict & fitted):
-        for msg in combos[cc[p]].conflicts:
-            out.append(ImportFinding(int(rows[p]), str(refdes[p]), "column_conflict", msg))
+        for code, msg in combos[cc[p]].conflicts:
+            out.append(ImportFinding(int(rows[p]), str(refdes[p]), code, msg))
     if len(set(refdes)) < len(refdes):
         dup = pd.Series(refdes).duplicated(keep="first").to_numpy()
         first_row = pd.Series(rows).groupby(refdes).transform("first").to_numpy()

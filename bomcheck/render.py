@@ -135,11 +135,12 @@ def verdict_line(report) -> Text:
 
 
 def accounting_line(totals: dict) -> str:
-    """rows read = capacitor rows + non-capacitor rows + unreadable rows, with the counts."""
+    """rows read = capacitor rows + non-capacitor rows + unreadable rows (+ approved-source rows
+    + rows that are not placements, when there are any), with the counts."""
+    from bomcheck.accounting import accounting_identity
+
     return (
-        f"rows read {totals['rows_read']} = capacitor rows {totals['capacitor_rows']} + "
-        f"non-capacitor rows {totals['non_capacitor_rows']} + unreadable rows "
-        f"{totals['unreadable_rows']}; placements {totals['placements']} "
+        f"{accounting_identity(totals)[0]}; placements {totals['placements']} "
         f"(fitted {totals['fitted']}, not fitted {totals['not_fitted']})"
     )
 

@@ -18,11 +18,17 @@ from bomcheck import codes
 from bomcheck.codes import Dielectric
 from bomcheck.spec import POLARIZED_TECHNOLOGIES, CapSpec
 
-__all__ = ["CONTEXTS", "format_capacitance", "parse_value"]
+__all__ = ["CONFLICT_MARK", "CONTEXTS", "format_capacitance", "parse_value"]
 
 CONTEXTS = frozenset(
     {"any", "value", "description", "voltage", "tolerance", "dielectric", "package", "temperature"}
 )
+
+# Warnings that start with this mark report two readings of one quantity in the same text
+# ("10uF X5R 125C": 125 degC above X5R's 85 degC); the parser keeps the conservative one (smaller
+# capacitance, lower rated voltage, wider tolerance, lower rated maximum temperature) and the
+# importer turns these warnings into findings.
+CONFLICT_MARK = "conflict: "
 
 # --- text normalisation and tokens ---------------------------------------------------------------
 
@@ -55,7 +61,7 @@ _NUMERIC = re.compile(r"([-+±]?)(\d+(?:\.\d+)?|\.\d+)(.*)").fullmatch
 # Suffix forms that carry digits: RKM (4u7, 4n7J, 4m7), 2R2, 4K7, 6V3, 4u7H, can sizes 8x11.5.
 _SUFFIX_FORM = re.compile(
     r"(?P<rkm>[pPnNuUm])(?P<rk_b>\d{1,3})(?P<rk_t>[BCDFGJKMZ])?"
-    r"|R(?P<rdec>\d+)"
+    r"|R(?P<rdec>\d+)(?P<rd_t>[BCDFGJKMZ])?"
     r"|(?P<kres>[kKM]\d+)"
     r"|[vV](?P<vrkm>\d+)"
     r"|(?P<ind>[pPnNuUm]\d*[hH])"
@@ -78,6 +84,21 @@ _WORD_FORM = re.compile(
     r"|[DdØøΦφ⌀](?P<can_d>\d{1,2}(?:\.\d{1,2})?)[xX*](?P<can_l>\d{1,3}(?:\.\d{1,2})?)(?i:mm)?"
 ).fullmatch
 _LOOKALIKE_CLASS2 = re.compile(r"[XYZ]\d[A-Z]").fullmatch
+# Library-style values and footprints join fields with underscores (C_0603_100n_50V_X7R,
+# Capacitor_SMD:C_0603_1608Metric, CP_Elec_8x10): a leading capacitor symbol name becomes the
+# word CAP and the underscores separate tokens (common practice of EDA symbol libraries).
+_LIBRARY_PREFIX = re.compile(r"(?<![A-Za-z0-9])(?:CAP|CP|C)_(?=[A-Za-z0-9])")
+# A safety class inside brackets with other words describes something else ("(Y1 load)": the
+# crystal's load capacitor); "(X2)" or "(Class X2)" is this part's class.
+_BRACKET_GROUP = re.compile(r"\([^()]*\)|\[[^\[\]]*\]")
+_SAFETY_TOKEN = re.compile(r"(?<![A-Za-z0-9])(?:X[1-3]|Y[1-4])(?![A-Za-z0-9])", re.IGNORECASE)
+# IEC 60384-14 safety classes are for mains-connected parts; Y4, the lowest, covers rated
+# voltages up to 150 V AC and no certified X/Y part is rated below 100 V (value from memory).
+# A class named on a part rated below this is taken as a word about something else.
+_SAFETY_MIN_RATED_V = 100.0
+# Class I codes also read in lower or mixed case ("c0g"); the rest only as written in upper case,
+# as three-character lower-case words collide with other abbreviations.
+_ANY_CASE_CLASS1 = frozenset({"C0G", "U2J"})
 
 # --- unit tables ---------------------------------------------------------------------------------
 
@@ -112,6 +133,7 @@ _PLAIN_VOLTAGE_CODES = frozenset({"1V", "2V"})  # also a plain "1 V", "2 V" outs
 _TECH_WORDS: dict[str, str] = {
     **dict.fromkeys(("CER", "CERAMIC", "MLCC", "MLC", "KERKO", "KERAMIK", "CERAMIQUE"), "ceramic"),
     **dict.fromkeys(("TANT", "TANTALUM", "TANTAL", "MNO2"), "tantalum"),
+    "TA": "tantalum?",  # the chemical symbol: tantalum only when nothing else names a technology
     **dict.fromkeys(("POLYMER", "POLY", "POLYM", "POLYMR"), "polymer"),
     **dict.fromkeys(("ALU", "AL", "ALUM", "ALUMINUM", "ALUMINIUM", "ELKO", "ELCO"), "aluminium"),
     **dict.fromkeys(
@@ -163,6 +185,9 @@ _NONCAP_WORDS: dict[str, str] = {
                     "semiconductor"),
     **dict.fromkeys(("CONN", "CONNECTOR", "HEADER", "SOCKET", "JUMPER", "FUSE", "RELAY"),
                     "other part"),
+    # Cables and flat flexible cables: "C30 CABLE ASSY FFC 24P" is not 24 pF (common practice).
+    **dict.fromkeys(("CABLE", "CABLES", "FFC", "FPC", "WIRE", "WIRES", "HARNESS", "KABEL",
+                     "KABELBAUM", "LITZE", "CÂBLE", "FAISCEAU"), "cable"),
 }
 _EMI_WORDS: dict[str, str] = {
     **dict.fromkeys(("FEEDTHROUGH", "FEED-THROUGH", "FEEDTHRU", "FEED-THRU", "EMI-FILTER",
@@ -190,6 +215,7 @@ def _word_table() -> dict[str, tuple[str, object]]:
     table.update((w, ("cap", None)) for w in _CAP_WORDS)
     table.update((w, ("tech" if w not in _CAPACITOR_ONLY_TECH else "tech!", t))
                  for w, t in _TECH_WORDS.items())
+    table["TA"] = ("hint", "tantalum?")  # a hint only: it makes no text a capacitor
     table.update((w, ("film", m)) for w, m in _FILM_WORDS.items())
     table.update((w, ("noncap", k)) for w, k in _NONCAP_WORDS.items())
     table.update((w, ("emi", k)) for w, k in _EMI_WORDS.items())
@@ -224,6 +250,7 @@ class _State:
     tol: tuple[float | None, float | None, float | None] | None = None  # minus %, plus %, abs F
     tol_i = -9
     tol_letter: str | None = None
+    tol_tok = ""
     diel: Dielectric | None = None
     film: str | None = None
     tmin: float | None = None
@@ -244,6 +271,7 @@ class _State:
         self.noncap: list[str] = []  # kinds named by words: resistor, inductor, crystal...
         self.weak_noncap: list[tuple[str, str, bool]] = []  # (token, kind, warn if capacitor)
         self.weak_cap_toks: list[str] = []
+        self.more_tols: list[tuple[tuple[float | None, float | None, float | None], str]] = []
         # Decided in the second pass: (what, index, token, data...).
         self.deferred: list[tuple] = []
 
@@ -251,9 +279,12 @@ class _State:
         if self.cap is None:
             self.cap, self.cap_tok, self.cap_i, self.cap_weak = value, tok, i, weak
         elif not math.isclose(self.cap, value, rel_tol=1e-9):
+            kept = self.cap_tok if self.cap <= value else tok
             self.warnings.append(
-                f"two capacitance values ({self.cap_tok!r} and {tok!r}); kept {self.cap_tok!r}"
+                f"{CONFLICT_MARK}two capacitance values ({self.cap_tok!r} and {tok!r}); "
+                f"kept the smaller, {kept!r}"
             )
+            self.cap = min(self.cap, value)
         if weak:
             self.weak_cap_toks.append(tok)
         else:
@@ -263,16 +294,22 @@ class _State:
         if self.volt is None:
             self.volt, self.vkind, self.volt_i = value, kind, i
         elif not math.isclose(self.volt, value, rel_tol=1e-9):
-            self.warnings.append(f"second rated voltage {tok!r} ignored")
+            if kind and self.vkind and kind != self.vkind:  # "275VAC 630VDC": two ratings
+                self.warnings.append(f"second rated voltage {tok!r} ignored")
+            else:
+                self.warnings.append(f"{CONFLICT_MARK}two rated voltages ({self.volt:g} V and "
+                                     f"{tok!r}); kept the lower, {min(self.volt, value):g} V")
+                if value < self.volt:
+                    self.volt, self.vkind = value, kind or self.vkind
         elif kind and not self.vkind:
             self.vkind = kind
 
     def set_tol(self, tol: tuple[float | None, float | None, float | None], tok: str, i: int,
                 letter: str | None = None) -> None:
         if self.tol is None:
-            self.tol, self.tol_i, self.tol_letter = tol, i, letter
+            self.tol, self.tol_i, self.tol_letter, self.tol_tok = tol, i, letter, tok
         elif self.tol != tol:
-            self.warnings.append(f"second tolerance {tok!r} ignored")
+            self.more_tols.append((tol, tok))  # resolved in _build, where the value is known
 
     def set_diel(self, d: Dielectric, tok: str) -> None:
         if self.diel is None:
@@ -285,10 +322,17 @@ class _State:
         if value < 0:
             if self.tmin is None:
                 self.tmin = value
+            elif self.tmin != value:
+                self.warnings.append(f"{CONFLICT_MARK}two minimum temperatures ({self.tmin:g} "
+                                     f"and {tok!r}); kept the higher, {max(self.tmin, value):g} "
+                                     "degC")
+                self.tmin = max(self.tmin, value)
         elif self.tmax is None:
             self.tmax = value
         elif self.tmax != value:
-            self.warnings.append(f"second temperature {tok!r} ignored")
+            self.warnings.append(f"{CONFLICT_MARK}two rated temperatures ({self.tmax:g} degC "
+                                 f"and {tok!r}); kept the lower, {min(self.tmax, value):g} degC")
+            self.tmax = min(self.tmax, value)
 
     def set_pkg(self, found: tuple[str, str], tok: str) -> None:
         if self.pkg is None:
@@ -400,6 +444,16 @@ def _numeric(st: _State, tok: str, i: int) -> None:
     if low in _INDUCTANCE_UNITS:
         st.weak_noncap.append((tok, "inductor", True))
         return
+    if low == "metric" and num.isdigit():
+        _metric_chip(st, num, tok)
+        return
+    if suf[0] == "%":  # "-20%+80%"
+        m = _ASYMMETRIC(tok)
+        if m is not None and m.group(1) != m.group(3):
+            _asymmetric(st, m, tok, i)
+        else:
+            st.unread.append(tok)
+        return
     if "-" in suf or "~" in suf or ".." in suf or low[:2] == "to":
         _dashed(st, tok, i)
         return
@@ -418,7 +472,7 @@ def _numeric(st: _State, tok: str, i: int) -> None:
         if f.group("rk_t"):
             st.deferred.append(("letter", i, f.group("rk_t"), True))
     elif f.group("rdec") is not None:
-        st.deferred.append(("rdec", i, tok))
+        st.deferred.append(("rdec", i, tok, f"{num}.{f.group('rdec')}", f.group("rd_t")))
     elif f.group("kres") is not None:
         st.weak_noncap.append((tok, "resistor", True))
     elif f.group("vrkm") is not None:
@@ -427,6 +481,17 @@ def _numeric(st: _State, tok: str, i: int) -> None:
         st.weak_noncap.append((tok, "inductor", True))
     else:
         _can(st, num, f.group("can"), tok)
+
+
+def _metric_chip(st: _State, num: str, tok: str) -> None:
+    """``1608Metric`` (footprint names): a metric chip code, kept as its imperial code."""
+    imperial = codes.METRIC_TO_IMPERIAL.get(num)
+    if imperial is None:
+        st.unread.append(tok)
+    elif st.pkg == imperial:
+        st.pkg_note = f"imperial {imperial} (metric {num}), both written"
+    else:
+        st.set_pkg((imperial, f"imperial {imperial}, written as metric {num}"), tok)
 
 
 def _can(st: _State, diameter: str, length: str, tok: str) -> None:
@@ -566,7 +631,7 @@ def _word(st: _State, tok: str, i: int) -> None:
         elif kind == "diel":
             st.set_diel(val, tok)  # type: ignore[arg-type]
         elif kind == "diel1":
-            if tok == key:  # class I codes only as written, in upper case
+            if tok == key or key in _ANY_CASE_CLASS1:
                 st.set_diel(val, tok)  # type: ignore[arg-type]
             else:
                 st.unread.append(tok)
@@ -579,7 +644,7 @@ def _word(st: _State, tok: str, i: int) -> None:
             st.set_safety(val, tok)  # type: ignore[arg-type]
         elif kind == "noncap":
             st.noncap.append(val)  # type: ignore[arg-type]
-        elif kind == "emi":
+        elif kind in ("emi", "hint"):
             st.hints.append(val)  # type: ignore[arg-type]
         elif kind == "nonpolar":
             st.nonpolar = True
@@ -600,6 +665,11 @@ def _word(st: _State, tok: str, i: int) -> None:
             if part:
                 _token(st, part, i)
         return
+    if key[:3] == "CAP":
+        found = codes.ipc_footprint(key)
+        if found is not None:
+            st.set_pkg(found, tok)
+            return
     m = _WORD_FORM(tok)
     if m is None:
         if _LOOKALIKE_CLASS2(key):
@@ -729,12 +799,15 @@ def _settle(st: _State) -> None:
             _settle_code3(st, i, tok, item[3], item[4], blocked, letters)
         elif what == "rdec":
             if not blocked and (ctx in ("value", "any") or st.strong_cap):
-                value = _scaled(tok.replace("R", "."), -12)
+                number, letter = item[3], item[4]
+                value = _scaled(number, -12)
                 st.set_cap(value, tok, i, weak=True)
                 st.warnings.append(
-                    f"{tok!r} read as {format_capacitance(value)} (R as the decimal point in pF); "
-                    f"it is also the resistor value {tok.replace('R', '.')} ohm"
+                    f"{tok!r} read as {number} pF (R as the decimal point in pF); "
+                    f"it is also the resistor value {number} ohm"
                 )
+                if letter:  # IEC 60062: 2R2C = 2.2 pF +/-0.25 pF
+                    letters.append((i, letter, True))
             else:
                 st.weak_noncap.append((tok, "resistor", False))
         elif what == "letter":
@@ -791,7 +864,7 @@ def _technology(st: _State) -> str | None:
     families: list[str] = []
     for h in hints:
         f = "aluminium" if h == "electrolytic" else h
-        if f in ("polymer", "wet", "foil", "feedthrough", "emi", "filter"):
+        if f in ("polymer", "wet", "foil", "feedthrough", "emi", "filter", "tantalum?"):
             continue
         if f not in families:
             families.append(f)
@@ -800,6 +873,8 @@ def _technology(st: _State) -> str | None:
     if len(families) > 1:
         st.warnings.append(f"several technologies named ({', '.join(families)}); "
                            f"kept {families[0]}")
+    if not families and "tantalum?" in hints and not st.diel:
+        families.append("tantalum")  # "TA" alone
     if not families:
         if "polymer" in hints:
             st.warnings.append("'polymer' without tantalum or aluminium: technology unknown")
@@ -845,8 +920,73 @@ def _verdict(st: _State) -> bool:
     return is_cap
 
 
+_PLAUSIBLE_CHECKS = (("capacitance_f", "cap", "capacitance", "F"),
+                     ("voltage_v", "volt", "rated voltage", "V"),
+                     ("temp_c", "tmin", "minimum temperature", "degC"),
+                     ("temp_c", "tmax", "rated temperature", "degC"))
+_CAP_LO, _CAP_HI = codes.PLAUSIBLE["capacitance_f"]
+_V_LO, _V_HI = codes.PLAUSIBLE["voltage_v"]
+_T_LO, _T_HI = codes.PLAUSIBLE["temp_c"]
+
+
+def _plausible(st: _State) -> None:
+    """Unread, with a warning, every number outside its plausible range (codes.PLAUSIBLE)."""
+    cap, volt, tmin, tmax, tol = st.cap, st.volt, st.tmin, st.tmax, st.tol
+    if ((cap is None or _CAP_LO <= cap <= _CAP_HI) and (volt is None or _V_LO < volt <= _V_HI)
+            and (tmin is None or _T_LO <= tmin <= _T_HI)
+            and (tmax is None or _T_LO <= tmax <= _T_HI)
+            and (tol is None or (tol[2] is None and (tol[0] is None or 0 <= tol[0] <= 100)
+                                 and (tol[1] is None or 0 <= tol[1] <= 200)))):
+        return  # the common case: everything in range (the full check is below)
+    for quantity, attr, name, unit in _PLAUSIBLE_CHECKS:
+        v = getattr(st, attr)
+        if v is not None and not codes.plausible(quantity, v):
+            lo, hi = codes.PLAUSIBLE[quantity]
+            st.warnings.append(f"{name} {v:g} {unit} is outside the plausible range "
+                               f"({lo:g} .. {hi:g} {unit}); not read")
+            st.unread.append(st.cap_tok if attr == "cap" else f"{v:g} {unit}")
+            setattr(st, attr, None)
+            if attr == "volt":
+                st.vkind = None
+    tol = st.tol
+    if tol is not None:
+        ok = all(x is None or codes.plausible(q, x) for q, x in
+                 zip(("tol_minus_pct", "tol_plus_pct", "tol_abs_f"), tol))
+        if not ok:
+            st.warnings.append(f"tolerance {tol[0]}/{tol[1]} %, absolute {tol[2]} F is outside "
+                               "the plausible range (0..100 % minus, 0..200 % plus, up to 1 mF "
+                               "absolute); not read")
+            st.unread.append("tolerance")
+            st.tol = None
+
+
+def _wider_tolerance(st: _State) -> None:
+    """Several tolerances in one text: keep the widest reading of each side (the conservative
+    one); an absolute tolerance is compared through the capacitance when it is known."""
+    cap = st.cap
+    tols = [(st.tol, st.tol_tok)] + st.more_tols
+    sides: list[tuple[float, float]] = []
+    for (minus, plus, absf), _ in tols:
+        if absf is not None:
+            if not cap:
+                st.warnings.append(f"second tolerance {tols[1][1]!r} ignored")
+                return
+            minus = plus = absf / cap * 100.0
+        sides.append((minus if minus is not None else 0.0, plus if plus is not None else 0.0))
+    minus_w = max(m for m, _ in sides)
+    plus_w = max(p for _, p in sides)
+    st.warnings.append(f"{CONFLICT_MARK}several tolerances ("
+                       + ", ".join(repr(t) for _, t in tols)
+                       + f"); kept the widest, -{minus_w:g}/+{plus_w:g} %")
+    st.tol = (minus_w, plus_w, None)
+
+
 def _build(text: str, st: _State) -> CapSpec:
     _settle(st)
+    _plausible(st)
+    if st.more_tols and st.tol is not None:
+        _wider_tolerance(st)
+        _plausible(st)
     w = st.warnings
     tech = _technology(st) if st.hints else None
     diel = st.diel
@@ -871,8 +1011,13 @@ def _build(text: str, st: _State) -> CapSpec:
     if diel is not None and diel.temp_max_c is not None:
         if tmax is None:
             tmax = diel.temp_max_c
-        elif tmax != diel.temp_max_c:
-            w.append(f"rated temperature {tmax:g} degC differs from {diel.code}'s upper limit "
+        elif tmax > diel.temp_max_c:
+            w.append(f"{CONFLICT_MARK}rated temperature {tmax:g} degC is above {diel.code}'s "
+                     f"upper limit of {diel.temp_max_c:g} degC (EIA-198); kept "
+                     f"{diel.temp_max_c:g} degC")
+            tmax = diel.temp_max_c
+        elif tmax < diel.temp_max_c:
+            w.append(f"rated temperature {tmax:g} degC is below {diel.code}'s upper limit "
                      f"{diel.temp_max_c:g} degC; kept {tmax:g} degC")
         if tmin is None:
             tmin = diel.temp_min_c
@@ -886,6 +1031,14 @@ def _build(text: str, st: _State) -> CapSpec:
         polarized = False
 
     vkind = st.vkind
+    if st.safety is not None and st.volt is not None and st.volt < _SAFETY_MIN_RATED_V:
+        w.append(f"{st.safety!r} not taken as the safety class: the part is rated "
+                 f"{st.volt:g} V, below the mains voltages IEC 60384-14 classes are for")
+        st.safety = None
+    if st.safety is not None and tech in POLARIZED_TECHNOLOGIES:
+        w.append(f"{st.safety!r} not taken as the safety class: IEC 60384-14 classes are for "
+                 f"film, paper and ceramic parts, not {tech}")
+        st.safety = None
     if st.safety is not None and st.volt is not None and vkind is None:
         vkind = "ac"
         w.append(f"AC rating assumed for a safety-class {st.safety} capacitor")
@@ -955,6 +1108,10 @@ def parse_value(text: str, *, context: str = "any") -> CapSpec:
             s = _PM_SPACE.sub("±", s)
         if "," in s:
             s = _COMMA_NUMBER.sub(lambda m: _comma_number(m.group(), st.warnings), s)
+        if "_" in s:
+            s = _LIBRARY_PREFIX.sub("CAP ", s).replace("_", " ")
+        if "(" in s or "[" in s:
+            s = _BRACKET_GROUP.sub(lambda m: _bracketed_safety(m.group(), st.warnings), s)
         if st.context == "voltage":
             key = s.strip().upper()
             if key in codes.VOLTAGE_CODES:
@@ -968,6 +1125,29 @@ def parse_value(text: str, *, context: str = "any") -> CapSpec:
     except Exception as exc:  # a parser bug must not stop an import; the tests hunt for these
         return CapSpec(text=text, unread=(text,),
                        warnings=(f"internal parser error: {type(exc).__name__}: {exc}",))
+
+
+# Words a bracket may hold beside a safety class that still describe this part's rating
+# ("(Class X2)", "(X2, IEC 60384-14)"); any other word makes the bracket about something else.
+_SAFETY_CONTEXT_WORDS = frozenset({
+    "CLASS", "SUBCLASS", "SAFETY", "RATED", "CERTIFIED", "APPROVED", "TYPE", "AC", "VAC",
+    "IEC", "EN", "UL", "CSA", "ENEC", "VDE", "CQC", "KC", "AND", "OR",
+})
+_ALPHA_WORD = re.compile(r"[A-Za-z]+")
+
+
+def _bracketed_safety(group: str, warnings: list[str]) -> str:
+    """A bracketed remark without its safety-class words when it is about something else:
+    ``(Y1 load)`` names the load of another part; ``(X2)`` and ``(Class X2)`` stay."""
+    found = _SAFETY_TOKEN.findall(group)
+    if not found:
+        return group
+    rest = _SAFETY_TOKEN.sub(" ", group)
+    if not any(w.upper() not in _SAFETY_CONTEXT_WORDS for w in _ALPHA_WORD.findall(rest)):
+        return group
+    warnings.append(f"{'/'.join(found)} inside brackets ({group!r}) is not taken as this part's "
+                    "safety class")
+    return rest
 
 
 # Prefix steps for display: below the limit, use (prefix, power of ten).

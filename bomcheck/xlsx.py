@@ -806,9 +806,14 @@ def _identities(t: dict) -> list[list]:
     out = []
     keys = ("rows_read", "capacitor_rows", "non_capacitor_rows", "unreadable_rows")
     if all(k in t for k in keys):
-        a, b, c, d = (int(t[k]) for k in keys)
-        out.append(["rows read = capacitor rows + non-capacitor rows + unreadable rows",
-                    f"{a:,} = {b:,} + {c:,} + {d:,}", "holds" if a == b + c + d else "DOES NOT HOLD"])
+        from bomcheck.accounting import ROW_CATEGORIES
+
+        terms = [(k, label) for k, label in ROW_CATEGORIES
+                 if k in keys or int(t.get(k, 0))]  # approved-source... rows only when present
+        total = sum(int(t[k]) for k, _ in terms)
+        out.append(["rows read = " + " + ".join(label for _, label in terms),
+                    f"{int(t['rows_read']):,} = " + " + ".join(f"{int(t[k]):,}" for k, _ in terms),
+                    "holds" if int(t["rows_read"]) == total else "DOES NOT HOLD"])
     keys = ("placements", "fitted", "not_fitted")
     if all(k in t for k in keys):
         a, b, c = (int(t[k]) for k in keys)

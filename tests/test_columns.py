@@ -70,7 +70,7 @@ def test_headers_match_their_field(header, field):
     assert match_field(header) == field
 
 
-@pytest.mark.parametrize("header", ["Item", "Supplier", "Unit price", "Lead time", "", "###"])
+@pytest.mark.parametrize("header", ["Supplier", "Unit price", "Lead time", "", "###"])
 def test_unrelated_headers_match_nothing(header):
     assert match_field(header) is None
 
@@ -99,7 +99,7 @@ def test_map_columns_best_alias_wins_and_one_header_one_field():
     got = map_columns(headers)
     # "Value" beats "Comment" for value; the leftmost of two "Value" columns wins.
     assert got == {"refdes": "Designator", "qty": "Qty", "value": "Value",
-                   "package": "Footprint"}
+                   "package": "Footprint", "item": "Item"}
 
 
 def test_map_columns_user_columns_come_first():
@@ -212,3 +212,42 @@ def test_bad_column_map_names_the_file(tmp_path, text, problem):
 def test_missing_column_map_file(tmp_path):
     with pytest.raises(InputError, match="not found"):
         load_column_map(str(tmp_path / "none.toml"))
+
+
+# Headers of ERP/PLM and contract-manufacturer exports (issue 11), English, German, French.
+@pytest.mark.parametrize(
+    ("header", "field"),
+    [("Ref. Designator", "refdes"), ("Ref Des", "refdes"), ("Reference(s)", "refdes"),
+     ("Qty Per", "qty"), ("Quantity Per", "qty"), ("Menge pro", "qty"), ("Quantité par", "qty"),
+     ("Category", "category"), ("Type", "category"), ("Family", "category"),
+     ("Kategorie", "category"), ("Warengruppe", "category"), ("Catégorie", "category"),
+     ("Famille", "category"), ("Mfr Name", "manufacturer"), ("Mfr Part No", "mpn"),
+     ("Manufacturer Part Number", "mpn"), ("Level", "level"), ("Ebene", "level"),
+     ("Niveau", "level"), ("Item", "item"), ("Find No", "item"), ("UoM", "uom"),
+     ("Mengeneinheit", "uom"), ("Internal Part Number", "ipn"), ("Sachnummer", "ipn"),
+     ("Rated Temp (°C)", "temperature")],
+)
+def test_export_headers_match_their_field(header, field):
+    assert match_field(header) == field
+
+
+@pytest.mark.parametrize(
+    ("header", "fld", "unit"),
+    [("Capacitance (uF)", "value", "uF"), ("Capacitance (µF)", "value", "uF"),
+     ("Voltage [V]", "voltage", "V"), ("Voltage (kV)", "voltage", "kV"),
+     ("Rated Temp (°C)", "temperature", "°C"), ("Tolerance (%)", "tolerance", "%"),
+     ("Voltage (Rev A)", "voltage", None), ("Value", "value", None),
+     ("Capacitance (V)", "value", None)],
+)
+def test_header_units(header, fld, unit):
+    assert columns.header_unit(header, fld) == unit
+
+
+def test_two_columns_for_one_field_are_reported_and_the_unit_column_is_used():
+    # Issue 9 class 8: never a silent leftmost choice between "Voltage (Rev A)" and "Voltage (V)".
+    headers = ["Designator", "Voltage (Rev A)", "Value", "Voltage (V)", "MPN", "Part Number",
+               "MPN 2"]
+    got = map_columns(headers)
+    assert got["voltage"] == "Voltage (V)"
+    assert columns.competing_columns(headers, got) == [
+        ("voltage", "Voltage (V)", ["Voltage (Rev A)"])]

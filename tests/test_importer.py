@@ -420,33 +420,58 @@ def test_unknown_prefix_reasons(tmp_path, value, description, reason):
 # Columns against the text
 
 
-def test_separate_columns_win_and_conflicts_are_findings(tmp_path):
+def test_conservative_reading_wins_and_conflicts_are_findings(tmp_path):
+    # Issue 9 class 6: where the columns and the text disagree on a number, the conservative
+    # reading is used (smaller capacitance, lower rated voltage, wider tolerance); for a code
+    # such as the dielectric the dedicated column wins. Each disagreement is a finding.
     text = ("Designator,Value,Description,Voltage,Tolerance,Dielectric\n"
             "C1,10uF,CAP CER 1uF 25V X5R,,,\n"
             "C2,100nF,CAP CER 0.1UF 50V X7R,25V,,\n"
             "C3,1uF,CAP CER 1UF 16V X7R,,,X5R\n"
             "C4,1uF,CAP CER 1UF 16V 20%,,K,\n"
-            "C5,100nF,CAP CER 0.1UF 50V,50V,10%,\n")
+            "C5,100nF,CAP CER 0.1UF 50V,50V,10%,\n"
+            "C6,100nF,CAP CER 0.1UF 16V,50V,,\n")
     r = read_bom(_file(tmp_path, text))
     _check_accounting(r)
-    _same(_placements(r), [("C1", 2, True, 10e-6, 25.0), ("C2", 3, True, 100e-9, 25.0),
+    _same(_placements(r), [("C1", 2, True, 1e-6, 25.0), ("C2", 3, True, 100e-9, 25.0),
                            ("C3", 4, True, 1e-6, 16.0), ("C4", 5, True, 1e-6, 16.0),
-                           ("C5", 6, True, 100e-9, 50.0)])
+                           ("C5", 6, True, 100e-9, 50.0), ("C6", 7, True, 100e-9, 16.0)])
     p = r.placements
     # EIA-198 class II: X5R = -55..+85 degC (secondary); IEC 60062: K = +/-10 %.
     assert p["dielectric"].tolist()[2] == "X5R"
     assert (p["temp_min_c"].iloc[2], p["temp_max_c"].iloc[2]) == (-55.0, 85.0)
-    assert (p["tol_minus_pct"].iloc[3], p["tol_plus_pct"].iloc[3]) == (10.0, 10.0)
+    assert (p["tol_minus_pct"].iloc[3], p["tol_plus_pct"].iloc[3]) == (20.0, 20.0)
     assert [(f.row, f.refdes, f.code, f.message) for f in r.findings] == [
         (2, "C1", "column_conflict",
-         "capacitance: value says 10uF but description says 1uF; using the value"),
+         "capacitance: value says 10uF but description says 1uF; using the description "
+         "(smaller capacitance, the conservative reading)"),
         (3, "C2", "column_conflict", "rated voltage: voltage column says 25 V but description "
-                                     "says 50 V; using the voltage column"),
+                                     "says 50 V; using the voltage column (lower rated voltage, "
+                                     "the conservative reading)"),
         (4, "C3", "column_conflict", "dielectric: dielectric column says X5R but description "
                                      "says X7R; using the dielectric column"),
         (5, "C4", "column_conflict", "tolerance: tolerance column says +/-10 % but description "
-                                     "says +/-20 %; using the tolerance column"),
+                                     "says +/-20 %; using the description (wider tolerance, "
+                                     "the conservative reading)"),
+        (7, "C6", "column_conflict", "rated voltage: voltage column says 50 V but description "
+                                     "says 16 V; using the description (lower rated voltage, "
+                                     "the conservative reading)"),
     ]
+
+
+def test_rated_temperature_conflicts_keep_the_lower(tmp_path):
+    # Issue 9 class 6: 105 degC column vs 85C in the description; X5R's 85 degC limit
+    # (EIA-198) vs a 125 degC column. The lower rated maximum is used, with a finding.
+    text = ("Designator,Value,Description,Temperature\n"
+            "C1,470uF 35V,CAP ALU 470UF 35V 85C,105C\n"
+            "C2,10uF 16V,CAP CER X5R,125C\n"
+            "C3,10uF 16V,CAP CER X5R 125C,\n")
+    r = read_bom(_file(tmp_path, text))
+    assert r.placements["temp_max_c"].tolist() == [85.0, 85.0, 85.0]
+    codes = [(f.refdes, f.code) for f in r.findings]
+    assert codes == [("C1", "column_conflict"), ("C2", "column_conflict"),
+                     ("C3", "text_conflict")]
+    assert "using the lower, 85 degC" in r.findings[0].message
 
 
 def test_conflicts_not_reported_on_not_fitted_placements(tmp_path):

@@ -9,7 +9,7 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 from bomcheck.spec import CapSpec
-from bomcheck.values import format_capacitance, parse_value
+from bomcheck.values import CONFLICT_MARK, format_capacitance, parse_value
 
 U, N, P = 1e-6, 1e-9, 1e-12
 
@@ -225,11 +225,14 @@ def test_dielectric_codes(text, code, eia_class, tc):
     assert spec.technology == "ceramic" and spec.is_capacitor
 
 
-def test_rated_temperature_in_the_text_wins_over_the_code():
-    # EIA-198: X5R is an 85 degC code; a written 125 degC rating is kept, with a warning.
+def test_rated_temperature_above_the_code_keeps_the_code_limit():
+    # EIA-198: X5R is an 85 degC code; a written 125 degC contradicts it, and the conservative
+    # (lower) rating is kept, with a conflict warning (issue 9 class 6).
     spec = parse_value("10uF X5R 125C")
-    assert (spec.temp_min_c, spec.temp_max_c) == (-55.0, 125.0)
-    assert spec.warnings
+    assert (spec.temp_min_c, spec.temp_max_c) == (-55.0, 85.0)
+    assert any(w.startswith(CONFLICT_MARK) for w in spec.warnings)
+    # A written rating below the code's limit is the lower one already: kept.
+    assert parse_value("10uF X7R 85C").temp_max_c == 85.0
 
 
 def test_lookalike_dielectric_is_not_guessed():
@@ -525,7 +528,8 @@ def test_parser_never_raises(text):
 
 
 @settings(max_examples=300, deadline=None)
-@given(st.floats(min_value=0.0, max_value=1e4, allow_nan=False, allow_infinity=False))
+# The plausible capacitance range (bomcheck.codes.PLAUSIBLE, 0.01 pF .. 10 kF); 0 F is unread.
+@given(st.floats(min_value=1e-14, max_value=1e4, allow_nan=False, allow_infinity=False))
 def test_format_then_parse_round_trips(farads):
     spec = parse_value(format_capacitance(farads), context="value")
     assert spec.is_capacitor and spec.capacitance_f == farads
