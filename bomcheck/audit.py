@@ -56,6 +56,7 @@ def stress_data(ruleset):
         kwargs["aging_t0_h"] = aging.t0_h
     if ruleset.typical is not None:
         kwargs["typical_temp_max_c"] = dict(ruleset.typical.temp_max_c)
+        kwargs["lowest_temp_max_c"] = dict(ruleset.typical.lowest_temp_max_c)
     return StressData(**kwargs)
 
 
@@ -226,9 +227,22 @@ def audit_inputs(imported, design=None, part_data=None,
     )
     if part_data is not None:
         inputs.append({"role": "parts", "path": str(part_data.path), "sha256": part_data.sha256})
-    done = evaluate_table(table, ruleset, parts=part_data,
-                          groups=design.groups if design is not None else None,
-                          import_findings=imported.findings)
+    groups = design.groups if design is not None else None
+
+    def evaluate(placements: pd.DataFrame) -> Evaluated:
+        return evaluate_table(placements, ruleset, parts=part_data, groups=groups,
+                              import_findings=imported.findings)
+
+    done = evaluate(table)
+    source_status = None
+    approved = imported.sources
+    if len(approved) and (approved["source"] > 0).any() and len(table):
+        from bomcheck import sources
+        from bomcheck.importer import spec_from_cells
+
+        done_table, verdicts, source_status = sources.audit_sources(
+            table, done, approved, evaluate, lambda text: spec_from_cells({"description": text})[0])
+        done = Evaluated(done_table, verdicts, done.groups)
     table, verdicts = done.table, done.verdicts
 
     counts = table["status"].value_counts()
@@ -250,6 +264,7 @@ def audit_inputs(imported, design=None, part_data=None,
         cautions=CAUTIONS + circuit.safety_cautions(verdicts, ruleset),
         groups=done.groups,
         environment=ruleset.environment,
+        source_status=source_status,
         input_warnings=tuple(sorted(
             (*(design.warnings if design is not None else ()),
              *(part_data.warnings if part_data is not None else ())))),

@@ -89,6 +89,9 @@ class Report:
     # Doubts about the input files that are no verdict (design sheet, parts data, reader):
     # objects with ``to_dict()`` and ``str()``; every output lists them.
     input_warnings: tuple = ()
+    # Each approved source's status per placement (bomcheck.sources.SOURCE_STATUS_COLUMNS), or
+    # None when no line has an approved source beside its own.
+    source_status: pd.DataFrame | None = None
 
     @property
     def status(self) -> str:

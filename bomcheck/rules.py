@@ -373,6 +373,9 @@ class TypicalRatings:
     source: str
     confidence: str
     temp_max_c: tuple[tuple[str, float], ...]
+    # The lowest rated maximum temperature of the usual grades: the worst plausible rating of a
+    # part whose text gives none (a verdict that passes with it passes whatever the grade).
+    lowest_temp_max_c: tuple[tuple[str, float], ...] = ()
 
 
 @dataclass(frozen=True)
@@ -1078,6 +1081,8 @@ def _typical(raw: Any) -> TypicalRatings | None:
         return TypicalRatings(
             label=raw["label"], source=raw["source"], confidence=raw["confidence"],
             temp_max_c=tuple((k, float(v)) for k, v in raw["temp_max_c"].items()),
+            lowest_temp_max_c=tuple((k, float(v)) for k, v in
+                                    raw.get("lowest_temp_max_c", {}).items()),
         )
     except (KeyError, TypeError, ValueError, AttributeError):
         return None

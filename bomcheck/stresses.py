@@ -54,6 +54,8 @@ class StressData:
     # Typical rated maximum temperature by technology (keys "ceramic-class1".. first), used where
     # the BOM text gives none; a temperature margin resting on it is marked generic.
     typical_temp_max_c: Mapping[str, float] = field(default_factory=dict)
+    # The lowest rated maximum of the usual grades by the same keys: the worst plausible rating.
+    lowest_temp_max_c: Mapping[str, float] = field(default_factory=dict)
 
 
 def num_column(table: pd.DataFrame, name: str) -> pd.Series:
@@ -241,15 +243,19 @@ def capacitance_worst_case(
     )
 
 
+def _by_technology(table: pd.DataFrame, ratings: Mapping[str, float]) -> pd.Series:
+    """A per-technology figure (``ceramic-class1``.. keys first for ceramics); NaN where none."""
+    tech = text_column(table, "technology")
+    cls = num_column(table, "dielectric_class")
+    by_class = cls.map({float(c): ratings.get(f"ceramic-class{c}", np.nan) for c in (1, 2, 3)})
+    out = by_class.astype(float).where(tech == "ceramic")
+    return out.fillna(tech.map(dict(ratings)).astype(float))
+
+
 def rated_temp_max(table: pd.DataFrame, data: StressData) -> tuple[pd.Series, pd.Series]:
     """(rated maximum temperature, True where it is the typical value of the technology)."""
     stated = num_column(table, "temp_max_c")
-    tech = text_column(table, "technology")
-    cls = num_column(table, "dielectric_class")
-    ratings = dict(data.typical_temp_max_c)
-    by_class = cls.map({float(c): ratings.get(f"ceramic-class{c}", np.nan) for c in (1, 2, 3)})
-    typical = by_class.astype(float).where(tech == "ceramic")
-    typical = typical.fillna(tech.map(ratings).astype(float))
+    typical = _by_technology(table, data.typical_temp_max_c)
     assumed = stated.isna() & typical.notna()
     return stated.fillna(typical), assumed
 
@@ -279,6 +285,8 @@ def compute(table: pd.DataFrame, data: StressData) -> pd.DataFrame:
             "temp_max_used_c": temp_max,
             "temp_margin_c": temp_max - t_operating,
             "temp_margin_c_basis": np.where(temp_assumed, "generic", ""),
+            "temp_margin_c_worst": (_by_technology(table, data.lowest_temp_max_c)
+                                    - t_operating).where(temp_assumed),
             "t_cold_c": t_cold,
             "temp_min_margin_c": t_cold - num_column(table, "temp_min_c"),
         },

@@ -90,7 +90,11 @@ WORSE = {
     "more transient": lambda r: {**r, "v_transient_pk": (r["v_transient_pk"] or 0.0) * 2 + 50},
     "more AC": lambda r: {**r, "v_ac_rms": 20.0},
     "more reverse": lambda r: {**r, "v_reverse_pk": _less(r["v_reverse_pk"], -1.0)},
-    "hotter": lambda r: {**r, "t_ambient_c": r["t_ambient_c"] + 15.0},
+    # hotter at the top of the range, the coldest ambient unchanged (t_ambient_c is also the
+    # coldest where t_ambient_min_c is not given)
+    "hotter": lambda r: {**r, "t_ambient_c": r["t_ambient_c"] + 15.0,
+                         "t_ambient_min_c": _coldest(r)},
+    "colder start": lambda r: {**r, "t_ambient_min_c": _coldest(r) - 30.0},
     "more rise": lambda r: {**r, "t_rise_c": (r["t_rise_c"] or 0.0) + 10.0},
     "more C needed": lambda r: {**r, "c_min_f": None if r["c_min_f"] is None
                                 else r["c_min_f"] * 3 + 1e-9},
@@ -101,6 +105,10 @@ WORSE = {
     "wider tolerance": lambda r: {**r, "tol_minus_pct": _less(r["tol_minus_pct"], -10.0)},
     "longer life": lambda r: {**r, "life_h": None if r["life_h"] is None else r["life_h"] * 10},
 }
+
+
+def _coldest(r):
+    return r["t_ambient_c"] if r.get("t_ambient_min_c") is None else r["t_ambient_min_c"]
 
 
 def _less(x, by):
@@ -130,7 +138,7 @@ def test_worse_never_improves(key, rows):
     got = variants(rows, WORSE, RULESETS[key])
     for move in WORSE:
         for b, a, r in zip(got[""], got[move], rows):
-            assert RANK[a] >= RANK[b], (move, b, a, r)
+            assert RANK[a] >= RANK[b], f"{move}: {b} -> {a} for {r!r}"
 
 
 def _without(field: str):
@@ -150,7 +158,7 @@ def test_less_data_never_passes(key, rows):
     got = variants(rows, THINNER, RULESETS[key])
     for field in REQUIRED:
         for b, a, r in zip(got[""], got[field], rows):
-            assert a != "pass" or b == "pass", (field, b, a, r)
+            assert a != "pass" or b == "pass", f"without {field}: {b} -> {a} for {r!r}"
 
 
 def test_the_properties_can_fail():
