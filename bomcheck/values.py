@@ -96,6 +96,9 @@ _SAFETY_TOKEN = re.compile(r"(?<![A-Za-z0-9])(?:X[1-3]|Y[1-4])(?![A-Za-z0-9])", 
 # voltages up to 150 V AC and no certified X/Y part is rated below 100 V (value from memory).
 # A class named on a part rated below this is taken as a word about something else.
 _SAFETY_MIN_RATED_V = 100.0
+# Footprint names that put a short prefix before the chip code (common practice of PCB
+# libraries), read in a package column only.
+_PREFIXED_CHIP = re.compile(r"(?:C|CAP|CC|CP|SMD|SMC|EIA)-?(\d{4,5})[A-Z]?").fullmatch
 # Class I codes also read in lower or mixed case ("c0g"); the rest only as written in upper case,
 # as three-character lower-case words collide with other abbreviations.
 _ANY_CASE_CLASS1 = frozenset({"C0G", "U2J"})
@@ -660,6 +663,12 @@ def _word(st: _State, tok: str, i: int) -> None:
         else:
             st.unread.append(tok)
         return
+    if st.context == "package":
+        m = _PREFIXED_CHIP(key)
+        found = codes.chip_package(m.group(1)) if m else None
+        if found is not None:  # "C0603", "CAP0805", "SMD1206", "EIA-3528" footprint names
+            st.set_pkg(found, tok)
+            return
     if "-" in tok and _dashed_description(key):
         for part in tok.split("-"):
             if part:
