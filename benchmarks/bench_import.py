@@ -97,7 +97,7 @@ def main() -> None:
     from bomcheck.importer import read_bom
     from bomcheck.limits import Limits, use_limits
 
-    with tempfile.TemporaryDirectory() as tmp, use_limits(Limits(placements=args.placements)):
+    with tempfile.TemporaryDirectory() as tmp, use_limits(Limits(placements=2 * args.placements)):
         path = Path(tmp) / "bench_bom.csv"
         write_bom(path, args.placements, args.distinct, description_only=args.description_only)
         size = path.stat().st_size

@@ -85,6 +85,9 @@ def _tool_table(path: Path) -> dict:
         doc = tomllib.loads(text)
     except (OSError, UnicodeDecodeError, tomllib.TOMLDecodeError) as exc:
         raise InputError(f"cannot read pyproject.toml ({exc})", path=str(path)) from None
+    except RecursionError:  # tomllib recurses once per nesting level
+        raise InputError("cannot read pyproject.toml (nested thousands of levels deep)",
+                         path=str(path)) from None
     tool = doc.get("tool", {})
     return tool if isinstance(tool, dict) else {}
 

@@ -1,11 +1,13 @@
 """Parse stage: one BOM value or description text to a ``CapSpec`` (capacitance, voltage, codes...).
 
-The text is cut at separators into tokens; a number and the unit written after a space are joined
-(``50 V``). A token that starts with a digit is split once into sign, number and suffix and the
-suffix is looked up (``uF``, ``V``, ``%``...) or matched against the code forms (``4u7``, ``2R2``,
-``6V3``); a word is looked up in one table. A second pass settles what needs the whole text (a
-bare ``104``, a lone tolerance letter, a ``1H`` voltage code, capacitor or not). Code tables live
-in ``bomcheck.codes``; no pint here: this runs once per distinct string of a BOM.
+The text is normalised (``bomcheck.valuetext``) and cut at separators into tokens; a number and
+the unit written after a space are joined (``50 V``). A token that starts with a digit is split
+once into sign, number and suffix and the suffix is looked up (``uF``, ``V``, ``%``...) or
+matched against the code forms (``4u7``, ``2R2``, ``6V3``); a word is looked up in one table. A
+second pass settles what needs the whole text (a bare ``104``, a lone tolerance letter, a ``1H``
+voltage code, capacitor or not), and the readings are checked (``bomcheck.readings``: plausible
+ranges, the widest of several tolerances). Code tables live in ``bomcheck.codes``; no pint here:
+this runs once per distinct string of a BOM.
 """
 
 from __future__ import annotations
@@ -17,6 +19,8 @@ from decimal import Decimal
 from bomcheck import codes
 from bomcheck.codes import Dielectric
 from bomcheck.spec import POLARIZED_TECHNOLOGIES, CapSpec
+from bomcheck.readings import CONFLICT_MARK, keep_widest_tolerance, unread_implausible
+from bomcheck.valuetext import normalise
 
 __all__ = ["CONFLICT_MARK", "CONTEXTS", "format_capacitance", "parse_value"]
 
@@ -24,38 +28,11 @@ CONTEXTS = frozenset(
     {"any", "value", "description", "voltage", "tolerance", "dielectric", "package", "temperature"}
 )
 
-# Warnings that start with this mark report two readings of one quantity in the same text
-# ("10uF X5R 125C": 125 degC above X5R's 85 degC); the parser keeps the conservative one (smaller
-# capacitance, lower rated voltage, wider tolerance, lower rated maximum temperature) and the
-# importer turns these warnings into findings.
-CONFLICT_MARK = "conflict: "
+# --- tokens (normalisation: bomcheck.valuetext) -----------------------------------------------------------
 
-# --- text normalisation and tokens ---------------------------------------------------------------
-
-_TRANSLATE = str.maketrans(
-    {
-        "\u00b5": "u",  # micro sign
-        "\u03bc": "u",  # Greek small mu
-        "\u2212": "-",
-        "\u2013": "-",
-        "\u2014": "-",
-        "\u00a0": " ",
-        "\u2009": " ",
-        "\u202f": " ",
-        "\u2103": "°C",
-        "\u00d7": "x",
-        "\u2126": "Ω",  # ohm sign -> Greek capital omega
-    }
-)
 _SEPARATORS = r"\s,;|()\[\]{}=@:/"
 _HAS_SEPARATOR = re.compile(r"[,;|()\[\]{}=@:/]").search  # else str.split() will do
 _TOKENS = re.compile(rf"[^{_SEPARATORS}]+").findall
-_PM_SPACE = re.compile(r"±\s+")
-# A decimal comma (one or two digits each side) or thousands groups, with a unit right after.
-_COMMA_NUMBER = re.compile(
-    r"(?<![\d.,])(?:\d{1,3}(?:,\d{3})+(?:\.\d+)?|\d{1,2},\d{1,2})(?=\s?[A-Za-z%°])"
-)
-
 # One token that starts like a number: sign, number, the rest.
 _NUMERIC = re.compile(r"([-+±]?)(\d+(?:\.\d+)?|\.\d+)(.*)").fullmatch
 # Suffix forms that carry digits: RKM (4u7, 4n7J, 4m7), 2R2, 4K7, 6V3, 4u7H, can sizes 8x11.5.
@@ -84,18 +61,13 @@ _WORD_FORM = re.compile(
     r"|[DdØøΦφ⌀](?P<can_d>\d{1,2}(?:\.\d{1,2})?)[xX*](?P<can_l>\d{1,3}(?:\.\d{1,2})?)(?i:mm)?"
 ).fullmatch
 _LOOKALIKE_CLASS2 = re.compile(r"[XYZ]\d[A-Z]").fullmatch
-# Library-style values and footprints join fields with underscores (C_0603_100n_50V_X7R,
-# Capacitor_SMD:C_0603_1608Metric, CP_Elec_8x10): a leading capacitor symbol name becomes the
-# word CAP and the underscores separate tokens (common practice of EDA symbol libraries).
-_LIBRARY_PREFIX = re.compile(r"(?<![A-Za-z0-9])(?:CAP|CP|C)_(?=[A-Za-z0-9])")
-# A safety class inside brackets with other words describes something else ("(Y1 load)": the
-# crystal's load capacitor); "(X2)" or "(Class X2)" is this part's class.
-_BRACKET_GROUP = re.compile(r"\([^()]*\)|\[[^\[\]]*\]")
-_SAFETY_TOKEN = re.compile(r"(?<![A-Za-z0-9])(?:X[1-3]|Y[1-4])(?![A-Za-z0-9])", re.IGNORECASE)
 # IEC 60384-14 safety classes are for mains-connected parts; Y4, the lowest, covers rated
 # voltages up to 150 V AC and no certified X/Y part is rated below 100 V (value from memory).
 # A class named on a part rated below this is taken as a word about something else.
 _SAFETY_MIN_RATED_V = 100.0
+# Footprint names that put a short prefix before the chip code (common practice of PCB
+# libraries), read in a package column only.
+_PREFIXED_CHIP = re.compile(r"(?:C|CAP|CC|CP|SMD|SMC|EIA)-?(\d{4,5})[A-Z]?").fullmatch
 # Class I codes also read in lower or mixed case ("c0g"); the rest only as written in upper case,
 # as three-character lower-case words collide with other abbreviations.
 _ANY_CASE_CLASS1 = frozenset({"C0G", "U2J"})
@@ -361,17 +333,6 @@ class _State:
 
 
 # --- helpers -------------------------------------------------------------------------------------
-
-
-def _comma_number(text: str, warnings: list[str]) -> str:
-    """Decide between a decimal comma and a thousands separator ("4,7" / "4,700")."""
-    head, _, tail = text.partition(",")
-    if "." in text or "," in tail:
-        return text.replace(",", "")
-    if len(tail) == 3 and not head.startswith("0"):
-        warnings.append(f"{text}: ',' read as a thousands separator ({head}{tail})")
-        return head + tail
-    return f"{head}.{tail}"
 
 
 def _scaled(number: str, exp: int) -> float:
@@ -660,6 +621,12 @@ def _word(st: _State, tok: str, i: int) -> None:
         else:
             st.unread.append(tok)
         return
+    if st.context == "package":
+        m = _PREFIXED_CHIP(key)
+        found = codes.chip_package(m.group(1)) if m else None
+        if found is not None:  # "C0603", "CAP0805", "SMD1206", "EIA-3528" footprint names
+            st.set_pkg(found, tok)
+            return
     if "-" in tok and _dashed_description(key):
         for part in tok.split("-"):
             if part:
@@ -920,73 +887,12 @@ def _verdict(st: _State) -> bool:
     return is_cap
 
 
-_PLAUSIBLE_CHECKS = (("capacitance_f", "cap", "capacitance", "F"),
-                     ("voltage_v", "volt", "rated voltage", "V"),
-                     ("temp_c", "tmin", "minimum temperature", "degC"),
-                     ("temp_c", "tmax", "rated temperature", "degC"))
-_CAP_LO, _CAP_HI = codes.PLAUSIBLE["capacitance_f"]
-_V_LO, _V_HI = codes.PLAUSIBLE["voltage_v"]
-_T_LO, _T_HI = codes.PLAUSIBLE["temp_c"]
-
-
-def _plausible(st: _State) -> None:
-    """Unread, with a warning, every number outside its plausible range (codes.PLAUSIBLE)."""
-    cap, volt, tmin, tmax, tol = st.cap, st.volt, st.tmin, st.tmax, st.tol
-    if ((cap is None or _CAP_LO <= cap <= _CAP_HI) and (volt is None or _V_LO < volt <= _V_HI)
-            and (tmin is None or _T_LO <= tmin <= _T_HI)
-            and (tmax is None or _T_LO <= tmax <= _T_HI)
-            and (tol is None or (tol[2] is None and (tol[0] is None or 0 <= tol[0] <= 100)
-                                 and (tol[1] is None or 0 <= tol[1] <= 200)))):
-        return  # the common case: everything in range (the full check is below)
-    for quantity, attr, name, unit in _PLAUSIBLE_CHECKS:
-        v = getattr(st, attr)
-        if v is not None and not codes.plausible(quantity, v):
-            lo, hi = codes.PLAUSIBLE[quantity]
-            st.warnings.append(f"{name} {v:g} {unit} is outside the plausible range "
-                               f"({lo:g} .. {hi:g} {unit}); not read")
-            st.unread.append(st.cap_tok if attr == "cap" else f"{v:g} {unit}")
-            setattr(st, attr, None)
-            if attr == "volt":
-                st.vkind = None
-    tol = st.tol
-    if tol is not None:
-        ok = all(x is None or codes.plausible(q, x) for q, x in
-                 zip(("tol_minus_pct", "tol_plus_pct", "tol_abs_f"), tol))
-        if not ok:
-            st.warnings.append(f"tolerance {tol[0]}/{tol[1]} %, absolute {tol[2]} F is outside "
-                               "the plausible range (0..100 % minus, 0..200 % plus, up to 1 mF "
-                               "absolute); not read")
-            st.unread.append("tolerance")
-            st.tol = None
-
-
-def _wider_tolerance(st: _State) -> None:
-    """Several tolerances in one text: keep the widest reading of each side (the conservative
-    one); an absolute tolerance is compared through the capacitance when it is known."""
-    cap = st.cap
-    tols = [(st.tol, st.tol_tok)] + st.more_tols
-    sides: list[tuple[float, float]] = []
-    for (minus, plus, absf), _ in tols:
-        if absf is not None:
-            if not cap:
-                st.warnings.append(f"second tolerance {tols[1][1]!r} ignored")
-                return
-            minus = plus = absf / cap * 100.0
-        sides.append((minus if minus is not None else 0.0, plus if plus is not None else 0.0))
-    minus_w = max(m for m, _ in sides)
-    plus_w = max(p for _, p in sides)
-    st.warnings.append(f"{CONFLICT_MARK}several tolerances ("
-                       + ", ".join(repr(t) for _, t in tols)
-                       + f"); kept the widest, -{minus_w:g}/+{plus_w:g} %")
-    st.tol = (minus_w, plus_w, None)
-
-
 def _build(text: str, st: _State) -> CapSpec:
     _settle(st)
-    _plausible(st)
+    unread_implausible(st)
     if st.more_tols and st.tol is not None:
-        _wider_tolerance(st)
-        _plausible(st)
+        keep_widest_tolerance(st)
+        unread_implausible(st)
     w = st.warnings
     tech = _technology(st) if st.hints else None
     diel = st.diel
@@ -1101,17 +1007,7 @@ def parse_value(text: str, *, context: str = "any") -> CapSpec:
     if context not in CONTEXTS:
         st.warnings.append(f"unknown context {context!r}; read as 'any'")
     try:
-        s = text if text.isascii() else text.translate(_TRANSLATE)
-        if "+" in s:
-            s = s.replace("+/-", "±").replace("+-", "±")
-        if "±" in s:
-            s = _PM_SPACE.sub("±", s)
-        if "," in s:
-            s = _COMMA_NUMBER.sub(lambda m: _comma_number(m.group(), st.warnings), s)
-        if "_" in s:
-            s = _LIBRARY_PREFIX.sub("CAP ", s).replace("_", " ")
-        if "(" in s or "[" in s:
-            s = _BRACKET_GROUP.sub(lambda m: _bracketed_safety(m.group(), st.warnings), s)
+        s = normalise(text, st.warnings)
         if st.context == "voltage":
             key = s.strip().upper()
             if key in codes.VOLTAGE_CODES:
@@ -1125,29 +1021,6 @@ def parse_value(text: str, *, context: str = "any") -> CapSpec:
     except Exception as exc:  # a parser bug must not stop an import; the tests hunt for these
         return CapSpec(text=text, unread=(text,),
                        warnings=(f"internal parser error: {type(exc).__name__}: {exc}",))
-
-
-# Words a bracket may hold beside a safety class that still describe this part's rating
-# ("(Class X2)", "(X2, IEC 60384-14)"); any other word makes the bracket about something else.
-_SAFETY_CONTEXT_WORDS = frozenset({
-    "CLASS", "SUBCLASS", "SAFETY", "RATED", "CERTIFIED", "APPROVED", "TYPE", "AC", "VAC",
-    "IEC", "EN", "UL", "CSA", "ENEC", "VDE", "CQC", "KC", "AND", "OR",
-})
-_ALPHA_WORD = re.compile(r"[A-Za-z]+")
-
-
-def _bracketed_safety(group: str, warnings: list[str]) -> str:
-    """A bracketed remark without its safety-class words when it is about something else:
-    ``(Y1 load)`` names the load of another part; ``(X2)`` and ``(Class X2)`` stay."""
-    found = _SAFETY_TOKEN.findall(group)
-    if not found:
-        return group
-    rest = _SAFETY_TOKEN.sub(" ", group)
-    if not any(w.upper() not in _SAFETY_CONTEXT_WORDS for w in _ALPHA_WORD.findall(rest)):
-        return group
-    warnings.append(f"{'/'.join(found)} inside brackets ({group!r}) is not taken as this part's "
-                    "safety class")
-    return rest
 
 
 # Prefix steps for display: below the limit, use (prefix, power of ten).

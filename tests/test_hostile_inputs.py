@@ -37,3 +37,14 @@ def test_hostile_input(case: Case, tmp_path, capsys):
             # One line; rule data lists each problem on its own line under one heading.
             assert len(lines) == 1 or "in rule data" in lines[0], err
             assert case.names in err, err
+
+
+def test_pyproject_nested_thousands_deep_is_one_line(tmp_path, monkeypatch, capsys):
+    from hostile_corpus import DEEP, GOOD_BOM
+
+    monkeypatch.chdir(tmp_path)
+    (tmp_path / "pyproject.toml").write_text("[tool.bomcheck]\n" + DEEP, encoding="utf-8")
+    (tmp_path / "bom.csv").write_text(GOOD_BOM, encoding="utf-8")
+    assert main(["audit", "bom.csv"]) == 2
+    err = capsys.readouterr().err
+    assert err.count("\n") == 1 and "pyproject.toml" in err and "nested" in err

@@ -2,8 +2,13 @@
 
 from __future__ import annotations
 
+import json
+from importlib import resources
+
+import jsonschema
 import pytest
 
+from bomcheck.audit import run_audit
 from bomcheck.importer import ROW_CATEGORIES, accounting_identity, read_bom
 from bomcheck.layout import parse_level
 
@@ -129,3 +134,16 @@ def test_side_by_side_source_columns_are_approved_sources(tmp_path):
     src = r.sources
     assert src[["line", "source", "mpn"]].values.tolist() == [
         [0, 0, "KV-104"], [0, 1, "BC-104"], [1, 0, "KV-105"], [1, 1, "TP-105"]]
+
+
+def test_audit_json_of_a_multi_level_bom_validates(tmp_path):
+    # The new row kinds reach the report's not-audited list and its schema.
+    report = run_audit(_file(tmp_path, _ERP), None)
+    data = json.loads(report.to_json())
+    schema = json.loads(resources.files("bomcheck.schemas").joinpath("report.schema.json")
+                        .read_text())
+    jsonschema.validate(data, schema)
+    kinds = {d["kind"] for d in data["not_audited"]}
+    assert {"approved_source", "not_placement"} <= kinds
+    t = data["totals"]
+    assert t["rows_read"] == sum(t[k] for k, _ in ROW_CATEGORIES)

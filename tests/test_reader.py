@@ -595,3 +595,51 @@ def test_xls_and_ods_without_calamine_name_the_extra(tmp_path, monkeypatch, name
     path.write_bytes(data)
     msg = _one_line_error(path)
     assert 'pip install "bomcheck[fast]"' in msg and "python-calamine" in msg
+
+
+# ---------------------------------------------------------------------------------------------
+# Fuzz: whatever the bytes, the reader returns a table or raises InputError (issue 10).
+
+from unittest import mock  # noqa: E402
+
+from hypothesis import HealthCheck, given, settings  # noqa: E402
+from hypothesis import strategies as st  # noqa: E402
+
+_FUZZ = settings(max_examples=150, deadline=None, derandomize=True,
+                 suppress_health_check=[HealthCheck.too_slow])
+_TEXTISH = st.lists(st.sampled_from(["Designator", "Value", "C1", "C2-C4", ",", ";", "\t", '"',
+                                     "\r", "\n", "\r\n", " ", "4.7µF", "100n", "x" * 300, "\x00",
+                                     "\xb5", "#"]), max_size=60).map("".join)
+
+
+def _read_any(data: bytes, suffix: str) -> None:
+    import tempfile
+
+    with tempfile.TemporaryDirectory() as d:
+        path = __import__("pathlib").Path(d) / f"b{suffix}"
+        path.write_bytes(data)
+        try:
+            read_table(str(path))
+        except InputError as exc:
+            assert "\n" not in str(exc)
+
+
+@_FUZZ
+@given(text=_TEXTISH, encoding=st.sampled_from(["utf-8", "cp1252", "utf-16"]))
+def test_fuzzed_text_tables_never_raise_anything_but_input_error(text, encoding):
+    _read_any(text.encode(encoding, errors="replace"), ".csv")
+
+
+@settings(max_examples=25, deadline=None, derandomize=True,
+          suppress_health_check=[HealthCheck.too_slow])
+@given(cuts=st.lists(st.tuples(st.integers(0, 4000), st.binary(min_size=1, max_size=8)),
+                     min_size=1, max_size=4),
+       calamine=st.booleans())
+def test_fuzzed_workbooks_never_raise_anything_but_input_error(cuts, calamine):
+    data = bytearray(xlsx_bytes([("BOM", sheet_xml(BOM_ROWS), "visible")]))
+    for at, junk in cuts:
+        at %= len(data)
+        data[at:at + len(junk)] = junk
+    patch = {} if calamine else {"python_calamine": None}
+    with mock.patch.dict(sys.modules, patch):
+        _read_any(bytes(data), ".xlsx")

@@ -55,6 +55,14 @@ def test_package_forms_and_their_case_key(text, pkg, key):
     assert s.package == pkg and codes.package_key(s.package) == key
 
 
+@pytest.mark.parametrize(("text", "pkg"), [("C0603", "0603"), ("CAP0805", "0805"),
+                                           ("SMD1206", "1206"), ("EIA-3528", "3528"),
+                                           ("C1206N", "1206")])
+def test_prefixed_footprint_names_in_a_package_column(text, pkg):
+    # Common practice of PCB footprint libraries: a short prefix before the EIA chip code.
+    assert parse_value(text, context="package").package == pkg
+
+
 def test_ipc_aluminium_can_note_gives_the_sizes():
     # IPC-7351 CAPAE: base size and height in 0.01 mm.
     s = parse_value("CAPAE530X610N", context="package")
