@@ -72,7 +72,7 @@ def audit_sources(table: pd.DataFrame, primary, sources: pd.DataFrame,
     the per-placement source statuses ``SOURCE_STATUS_COLUMNS``).
     """
     out = primary.table.copy(deep=False)
-    verdicts = [primary.verdicts.assign(source=0)]
+    verdicts = [primary.verdicts.assign(approved_source=0)]
     n = len(out)
     mpn0 = out["mpn"].to_numpy(dtype=object) if "mpn" in out else np.full(n, None, object)
     statuses = [out["status"].to_numpy(dtype=object)]
@@ -107,14 +107,14 @@ def audit_sources(table: pd.DataFrame, primary, sources: pd.DataFrame,
         label = pd.Series(mpn, dtype=object).fillna("?").to_numpy()[v["pidx"].to_numpy()]
         refdes = v["refdes"].astype(str).to_numpy()
         body = [m[len(r):] for m, r in zip(v["message"].astype(str).tolist(), refdes.tolist())]
-        verdicts.append(v.assign(source=index, message=[
+        verdicts.append(v.assign(approved_source=index, message=[
             f"{r} (approved source {index}, {lab}){b}" for r, lab, b in zip(refdes, label, body)]))
     worst, governing = worst_of_sources(statuses)
     out["status"] = worst
     out["governing_source"] = governing
     out["governing_mpn"] = np.choose(governing, mpns) if len(mpns) > 1 else mpn0
     all_verdicts = pd.concat(verdicts, ignore_index=True).sort_values(
-        ["pidx", "source", "rule_id"], kind="stable").reset_index(drop=True)
+        ["pidx", "approved_source", "rule_id"], kind="stable").reset_index(drop=True)
     table_of_sources = pd.concat(rows, ignore_index=True).sort_values(
         ["pidx", "source"], kind="stable").reset_index(drop=True)
     return out, all_verdicts, table_of_sources
