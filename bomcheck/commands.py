@@ -260,7 +260,8 @@ def _read_report_json(path: str, role: str) -> dict:
     except json.JSONDecodeError as exc:
         raise InputError(f"the {role} report is not JSON ({exc.msg})", path=path, row=exc.lineno,
                          expected="the output of bomcheck audit --json") from None
-    if not isinstance(data, dict) or not isinstance(data.get("placements"), list):
+    if not isinstance(data, dict) or not (isinstance(data.get("placements"), list)
+                                          or isinstance(data.get("boards"), list)):
         raise InputError(f"the {role} report is not a bomcheck JSON report", path=path,
                          expected="the output of bomcheck audit --json")
     return data
