@@ -331,15 +331,19 @@ def _verdict_objects(v: pd.DataFrame, part: pd.DataFrame, owner: np.ndarray,
     for key, col in VERDICT_KEYS.items():
         if col not in v.columns:
             continue
-        texts, present = column_texts(v[col], key, only=not_pass if key == "message" else None)
+        only = not_pass if key == "message" else None
         if key in ("value", "limit", "warn_limit"):
             mine = pd.to_numeric(v[col], errors="coerce").to_numpy(dtype=float)
             other = defaults[key]
-            differs = ~((mine == other) | (np.isnan(mine) & np.isnan(other)))
-            texts = np.where(present, texts, "null")  # a null that overrides a default
-            present = differs
+            only = ~((mine == other) | (np.isnan(mine) & np.isnan(other)))
+            texts, present = column_texts(mine, key, only=only)
+            texts[only & ~present] = "null"  # a null that overrides a default
+            present = only
         elif key == "source":
-            present = present & (v[col].to_numpy(dtype=object) != defaults["source"])
+            only = v[col].to_numpy(dtype=object) != defaults["source"]
+            texts, present = column_texts(v[col], key, only=only)
+        else:
+            texts, present = column_texts(v[col], key, only=only)
         fields.append((key, texts, present))
     return objects(fields, n)
 

@@ -118,3 +118,15 @@ def test_conditions_and_metrics_leave_out_what_is_unknown(data):
     assert all(v is not None and v != "" for p in data["placements"]
                for part in ("conditions", "metrics") for v in p[part].values())
     assert c4["mpn"]  # where-used reads the part number from the placement
+
+
+def test_distinct_columns_leave_out_missing_values_too():
+    texts, present = column_texts(pd.Series(["C1", None, np.nan, ""], dtype=object), "refdes")
+    assert present.tolist() == [True, False, False, False] and texts[0] == '"C1"'
+
+
+def test_floats_round_trip_exactly():
+    values = np.array([0.1, 1 / 3, 4.23e-05, 1e300, -2.5e-310, 12.0, 0.038943750000000055])
+    texts, present = column_texts(pd.Series(values))
+    assert present.all()
+    assert [json.loads(t) for t in texts] == values.tolist()  # shortest round-trip text
