@@ -26,6 +26,7 @@ INT_FIELDS = frozenset({"row", "design_row", "spec"})
 DISTINCT_FIELDS = frozenset({"refdes", "message"})  # a different value on (nearly) every row
 _encode = json.encoder.encode_basestring  # JSON string literal, non-ASCII kept as is
 
+
 def _float_texts(values: np.ndarray) -> list[str]:
     """Shortest round-trip text of each finite float. orjson writes a column of floats about
     five times faster than ``repr`` one by one (benchmarks/bench_scale.py profile: float text
@@ -43,8 +44,8 @@ def dumps(value) -> str:
 def column_texts(values, key: str = "", only: np.ndarray | None = None
                  ) -> tuple[np.ndarray, np.ndarray]:
     """(JSON text of each value, whether it is present): null, NaN, infinity, "" and empty lists
-    are absent, and so is every row outside the mask ``only``. Each distinct value is written
-    once."""
+    are absent, and so is every row outside the mask ``only``. Floats are written a column at a
+    time; each distinct string once (designators and messages, nearly all distinct, directly)."""
     series = values if isinstance(values, pd.Series) else pd.Series(values)
     if only is not None:
         texts = np.full(len(series), "", dtype=object)
@@ -52,10 +53,10 @@ def column_texts(values, key: str = "", only: np.ndarray | None = None
         texts[only], present[only] = column_texts(series[only], key)
         return texts, present
     dtype = series.dtype
-    if pd.api.types.is_bool_dtype(dtype):
+    if dtype == np.bool_:  # a nullable boolean column (with NA) takes the object path
         arr = series.to_numpy(dtype=bool)
         return np.where(arr, "true", "false").astype(object), np.ones(len(arr), dtype=bool)
-    if pd.api.types.is_numeric_dtype(dtype):
+    if pd.api.types.is_numeric_dtype(dtype) and not pd.api.types.is_bool_dtype(dtype):
         arr = series.to_numpy(dtype=float, na_value=np.nan)
         present = np.isfinite(arr)
         if key in INT_FIELDS:

@@ -130,3 +130,10 @@ def test_floats_round_trip_exactly():
     texts, present = column_texts(pd.Series(values))
     assert present.all()
     assert [json.loads(t) for t in texts] == values.tolist()  # shortest round-trip text
+
+
+def test_flags_write_true_and_false_and_leave_out_unknown():
+    texts, present = column_texts(pd.Series([True, False]))
+    assert texts.tolist() == ["true", "false"] and present.all()
+    texts, present = column_texts(pd.Series([True, None], dtype="boolean"))
+    assert texts[0] == "true" and present.tolist() == [True, False]
