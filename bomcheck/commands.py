@@ -121,20 +121,19 @@ def run_audit(args: argparse.Namespace) -> int:
     options = AuditOptions(rules=tuple(args.rules), import_options=_import_options(args),
                            design_sheet=args.design_sheet, waivers=args.waivers,
                            today=args.today, parts=getattr(args, "parts", None))
-    diff = json_text = None
+    diff = None
     with _progress(args, 1 + len(outputs)) as stage:
         stage("audit: read, parse, evaluate")
         report = run_audit(args.bom, args.design, options)
         if baseline is not None:
-            from bomcheck.diff import compare
+            from bomcheck.diff import compare, report_digest
 
-            # Built once: the comparison reads it and --json writes the same text.
-            json_text = report.to_json()
-            diff = compare(baseline, json.loads(json_text), old_label=args.baseline,
+            # Compared from the report's tables: the JSON report is only ever streamed.
+            diff = compare(baseline, report_digest(report), old_label=args.baseline,
                            new_label=args.json or "this audit")
         for kind, path in outputs:
             stage(f"write {kind}: {path}")
-            _write_output(kind, path, report, args, diff, json_text)
+            _write_output(kind, path, report, args, diff)
     if all(path != "-" for _, path in outputs):
         from bomcheck.render import accounting_line, print_audit, print_diff
 
@@ -263,11 +262,10 @@ def _audit_outputs(args: argparse.Namespace) -> list[tuple[str, str]]:
     return outputs
 
 
-def _write_output(kind: str, path: str, report, args: argparse.Namespace, diff,
-                  json_text: str | None = None) -> None:
-    """Render one report and write it atomically (``json_text``: the JSON, if already built)."""
+def _write_output(kind: str, path: str, report, args: argparse.Namespace, diff) -> None:
+    """Render one report and write it atomically (the JSON report streamed in chunks)."""
     if kind == "json":
-        write_text_atomic(path, json_text if json_text is not None else report.iter_json())
+        write_text_atomic(path, report.iter_json())
     elif kind == "xlsx":
         try:
             from bomcheck.xlsx import write_workbook

@@ -162,6 +162,25 @@ def _verdicts(report: dict, which: str) -> tuple[dict[tuple[str, str], dict], se
     return out, names
 
 
+def report_digest(report) -> dict:
+    """What ``compare`` reads of a ``Report`` (tool, rule sets, status, and per placement its
+    verdicts' rule, status and message), taken from its tables without writing the JSON report."""
+    v = report.verdicts
+    by_placement: dict[int, list[dict]] = {}
+    if len(v):
+        messages = v["message"] if "message" in v.columns else [None] * len(v)
+        for pidx, rule, status, message in zip(v["pidx"].tolist(), v["rule_id"].tolist(),
+                                               v["status"].tolist(), list(messages)):
+            by_placement.setdefault(pidx, []).append(
+                {"rule": rule, "status": status,
+                 "message": message if status != "pass" and isinstance(message, str) else None})
+    placements = [{"refdes": r, "verdicts": by_placement.get(i, [])}
+                  for i, r in enumerate(report.table["refdes"].tolist())]
+    return {"tool": {"name": "bomcheck", "version": report.tool_version},
+            "rulesets": list(report.rulesets), "status": report.status,
+            "placements": placements}
+
+
 def _change(key: tuple[str, str], old: dict | None, new: dict | None) -> VerdictChange:
     return VerdictChange(
         refdes=key[0], rule=key[1],

@@ -185,3 +185,19 @@ def test_combined_reports_compare_board_by_board():
     d = compare(old, new)
     assert d.changed == (VerdictChange("B/C1", "R-V", "pass", "fail", None, "C1: R-V fail"),)
     assert d.added == ("B/C3",) and d.removed == ("B/C5",)
+
+
+def test_report_digest_compares_as_the_written_report():
+    """The digest `audit --baseline` compares (taken from the tables) gives the same comparison
+    as the JSON report written by --json."""
+    from pathlib import Path
+
+    from bomcheck.audit import run_audit
+    from bomcheck.diff import report_digest
+
+    root = Path(__file__).resolve().parents[1] / "sample_boms"
+    report = run_audit(str(root / "bw7-controller-bom.csv"), str(root / "bw7-design.csv"))
+    written = json.loads(report.to_json())
+    for old in (OLD, written):
+        assert compare(old, report_digest(report)).to_dict() == compare(old, written).to_dict()
+    assert compare(written, report_digest(report)).counts()["changed"] == 0
