@@ -195,8 +195,9 @@ def worst(results: tuple[BoardResult, ...]) -> str:
 
 
 def combined_json(results: tuple[BoardResult, ...], tool_version: str) -> Iterator[str]:
-    """The combined JSON report: the batch's status and a ``boards`` list, each with product,
-    status, totals and its whole report (schema ``report.schema.json``) under ``report``."""
+    """The combined JSON report (schema ``batch.schema.json``): the batch's status and a
+    ``boards`` list, each with product, status, totals and its whole report (schema
+    ``report.schema.json``) under ``report``."""
     from bomcheck.report_json import SCHEMA_VERSION, dumps
 
     yield dumps({"schema_version": SCHEMA_VERSION, "kind": "batch",

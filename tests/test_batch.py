@@ -19,6 +19,8 @@ from bomcheck.whereused import normalise_mpn, where_used
 ROOT = Path(__file__).resolve().parents[1]
 SCHEMA = json.loads(resources.files("bomcheck.schemas").joinpath("report.schema.json")
                     .read_text("utf-8"))
+BATCH_SCHEMA = json.loads(resources.files("bomcheck.schemas").joinpath("batch.schema.json")
+                          .read_text("utf-8"))
 HEADER = "Designator,Qty,Value,Description,Manufacturer Part Number\n"
 DESIGN_HEADER = "refdes,v_dc [V],t_ambient_c [°C],c_min_f\n"
 # Invented parts. 3.3 V on a 50 V ceramic passes every shipped ceramic rule; 15 V on a 16 V
@@ -84,6 +86,7 @@ def test_batch_writes_one_combined_report_per_output(boards, capsys):
     shown = capsys.readouterr().out
     assert "Tarn-A" in shown and "Tarn-B" in shown  # the per-board summary table
     data = json.loads((boards / "all.json").read_text(encoding="utf-8"))
+    jsonschema.validate(data, BATCH_SCHEMA)
     assert (data["kind"], data["status"]) == ("batch", "fail")  # the worst board's status
     assert [(b["product"], b["status"]) for b in data["boards"]] == [
         ("Tarn-A", "pass"), ("Tarn-B", "fail")]
