@@ -204,8 +204,11 @@ def build_parser() -> argparse.ArgumentParser:
                        "rules in force. Exit status 0: nothing at or above --fail-on; 1: "
                        "findings at or above it; 2: inputs unusable; 3: internal error (a "
                        "bug).")
-    p.add_argument("bom", help="BOM file (.csv, .tsv, .txt, .xlsx, .xls, .ods) or '-' for "
-                   "standard input")
+    p.add_argument("bom", nargs="?", help="BOM file (.csv, .tsv, .txt, .xlsx, .xls, .ods) or '-' "
+                   "for standard input; not with --manifest")
+    p.add_argument("--manifest", metavar="TOML", help="audit every [[board]] of a manifest "
+                   "(product, bom, design, parts, rules, waivers) on two worker processes: one "
+                   "combined report, a summary row per board, exit status the worst board's")
     _add_audit_inputs(p)
     p.add_argument("--json", metavar="OUT", help="write the JSON report to OUT ('-' for stdout)")
     p.add_argument("--fail-on", choices=("fail", "nodata", "warn", "new"), default=None,
@@ -231,6 +234,18 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--fail-on", choices=("new",), default=None,
                    help="'new': exit status 1 when there are new or worsened problems")
     p.add_argument("--all", action="store_true", help="show every change, passing ones too")
+
+    p = sub.add_parser("where-used", parents=[common], help="list every placement of a part "
+                       "(by MPN) in a JSON report, with its stress and status",
+                       description="List every product and placement of a part number in a "
+                       "JSON report of bomcheck audit (single or combined with --manifest), "
+                       "with its voltage ratio, temperature margin, status and the rules it "
+                       "does not pass. Exit status 0: the part is placed; 1: it is not; 2: the "
+                       "report is unusable.")
+    p.add_argument("report", help="JSON report of bomcheck audit --json (schema version 2)")
+    p.add_argument("mpn", help="manufacturer part number (case and spaces ignored)")
+    p.add_argument("--json", metavar="OUT", help="write the list as JSON ('-' for stdout)")
+    p.add_argument("--csv", metavar="OUT", help="write the list as CSV ('-' for stdout)")
 
     _add_substitute(sub, common)
 
@@ -269,7 +284,7 @@ def main(argv: Sequence[str] | None = None) -> int:
         from bomcheck.limits import use_limits
 
         with use_limits(_limits(args)):
-            return getattr(commands, f"run_{args.command}")(args)
+            return getattr(commands, f"run_{args.command.replace('-', '_')}")(args)
     except BomcheckError as exc:
         if args.debug:
             raise

@@ -111,6 +111,8 @@ def run_audit(args: argparse.Namespace) -> int:
     from bomcheck.report import status_at_least
 
     args = _with_config(args)
+    if args.manifest is not None or args.bom is None:
+        return _run_audit_manifest(args)
     outputs = _audit_outputs(args)
     baseline = _read_report_json(args.baseline, "baseline") if args.baseline else None
     if args.fail_on == "new" and baseline is None:
@@ -121,20 +123,19 @@ def run_audit(args: argparse.Namespace) -> int:
                            today=args.today, parts=getattr(args, "parts", None),
                            environment=args.environment,
                            parts_override=getattr(args, "parts_override", False))
-    diff = json_text = None
+    diff = None
     with _progress(args, 1 + len(outputs)) as stage:
         stage("audit: read, parse, evaluate")
         report = run_audit(args.bom, args.design, options)
         if baseline is not None:
-            from bomcheck.diff import compare
+            from bomcheck.diff import compare, report_digest
 
-            # Built once: the comparison reads it and --json writes the same text.
-            json_text = report.to_json()
-            diff = compare(baseline, json.loads(json_text), old_label=args.baseline,
+            # Compared from the report's tables: the JSON report is only ever streamed.
+            diff = compare(baseline, report_digest(report), old_label=args.baseline,
                            new_label=args.json or "this audit")
         for kind, path in outputs:
             stage(f"write {kind}: {path}")
-            _write_output(kind, path, report, args, diff, json_text)
+            _write_output(kind, path, report, args, diff)
     if all(path != "-" for _, path in outputs):
         from bomcheck.render import accounting_line, print_audit, print_diff
 
@@ -155,6 +156,85 @@ def run_audit(args: argparse.Namespace) -> int:
     if args.fail_on == "new":
         return EXIT_FINDINGS if diff.new_problems else EXIT_CLEAN
     return EXIT_FINDINGS if status_at_least(report.status, args.fail_on) else EXIT_CLEAN
+
+
+def _run_audit_manifest(args: argparse.Namespace) -> int:
+    """``audit --manifest``: every board on the worker pool, the combined outputs, a summary
+    row per board; the exit status follows the worst board."""
+    from bomcheck import __version__, batch
+    from bomcheck.audit import AuditOptions
+    from bomcheck.report import status_at_least
+
+    if args.manifest is None or args.bom is not None:
+        raise InputError("give either a BOM or --manifest", expected="bomcheck audit BOM "
+                         "[--design SHEET] or bomcheck audit --manifest boards.toml")
+    per_board = [f"--{k.replace('_', '-')}" for k in ("design", "design_sheet", "parts",
+                                                        "waivers", "baseline", "junit", "xlsx")
+                 if getattr(args, k, None)]
+    if per_board or args.fail_on == "new":
+        raise InputError(f"{(per_board or ['--fail-on new'])[0]} is not available with "
+                         "--manifest", path=args.manifest, expected="design, parts and "
+                         "waivers per board in the manifest; outputs --json, --markdown, --csv")
+    outputs = _audit_outputs(args)
+    boards = batch.read_manifest(args.manifest)
+    base = AuditOptions(rules=tuple(args.rules), import_options=_import_options(args),
+                        today=args.today)
+    with batch.temporary_folder() as folder:
+        results = batch.run_batch(boards, base, tuple(k for k, _ in outputs), folder)
+        for kind, path in outputs:
+            write_text_atomic(path, batch.COMBINERS[kind](
+                results, *((__version__,) if kind == "json" else ())))
+    if all(path != "-" for _, path in outputs):
+        _print_boards(_console(args), results)
+    return EXIT_FINDINGS if status_at_least(batch.worst(results), args.fail_on) else EXIT_CLEAN
+
+
+def _print_boards(console, results) -> None:
+    """The per-board summary table of a batch audit."""
+    from rich.table import Table
+
+    table = Table(title="bomcheck batch audit", title_justify="left")
+    for name in ("product", "status", "audited", "pass", "warn", "nodata", "fail"):
+        table.add_column(name, justify="left" if name in ("product", "status") else "right")
+    for r in results:
+        table.add_row(r.product, f"[status.{r.status}]{r.status}[/]",
+                      *(str(int(r.totals.get(k, 0))) for k in ("audited", "pass", "warn",
+                                                               "nodata", "fail")))
+    console.print(table)
+
+
+def run_where_used(args: argparse.Namespace) -> int:
+    from bomcheck.whereused import uses_csv, where_used
+
+    uses = where_used(_read_report_json(args.report, "audit"), args.mpn)
+    if args.json:
+        write_text_atomic(args.json, json.dumps([u.to_dict() for u in uses], ensure_ascii=False,
+                                                indent=2, allow_nan=False) + "\n")
+    if args.csv:
+        write_text_atomic(args.csv, uses_csv(uses))
+    if "-" not in (args.json, args.csv):
+        _print_uses(_console(args), args.mpn, uses)
+    return EXIT_CLEAN if uses else EXIT_FINDINGS
+
+
+def _print_uses(console, mpn: str, uses) -> None:
+    """The where-used list as a terminal table."""
+    from rich.table import Table
+
+    if not uses:
+        console.print(f"{mpn}: not placed in this report")
+        return
+    table = Table(title=f"{mpn}: {len(uses)} placement{'s' if len(uses) != 1 else ''}",
+                  title_justify="left")
+    for name in ("product", "refdes", "row", "voltage ratio", "temp margin", "status",
+                 "not passing"):
+        table.add_column(name)
+    for u in uses:
+        table.add_row(u.product or "", u.refdes, "" if u.row is None else str(u.row),
+                      "" if u.voltage_ratio is None else f"{u.voltage_ratio:.1%}",
+                      "" if u.temp_margin_c is None else f"{u.temp_margin_c:g} degC",
+                      f"[status.{u.status}]{u.status}[/]", " ".join(u.problems))
+    console.print(table)
 
 
 # Outputs of ``audit`` in the order they are written.
@@ -188,11 +268,10 @@ def _audit_outputs(args: argparse.Namespace) -> list[tuple[str, str]]:
     return outputs
 
 
-def _write_output(kind: str, path: str, report, args: argparse.Namespace, diff,
-                  json_text: str | None = None) -> None:
-    """Render one report and write it atomically (``json_text``: the JSON, if already built)."""
+def _write_output(kind: str, path: str, report, args: argparse.Namespace, diff) -> None:
+    """Render one report and write it atomically (the JSON report streamed in chunks)."""
     if kind == "json":
-        write_text_atomic(path, json_text if json_text is not None else report.iter_json())
+        write_text_atomic(path, report.iter_json())
     elif kind == "xlsx":
         try:
             from bomcheck.xlsx import write_workbook
@@ -267,7 +346,8 @@ def _read_report_json(path: str, role: str) -> dict:
     except json.JSONDecodeError as exc:
         raise InputError(f"the {role} report is not JSON ({exc.msg})", path=path, row=exc.lineno,
                          expected="the output of bomcheck audit --json") from None
-    if not isinstance(data, dict) or not isinstance(data.get("placements"), list):
+    if not isinstance(data, dict) or not (isinstance(data.get("placements"), list)
+                                          or isinstance(data.get("boards"), list)):
         raise InputError(f"the {role} report is not a bomcheck JSON report", path=path,
                          expected="the output of bomcheck audit --json")
     return data

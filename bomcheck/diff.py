@@ -112,31 +112,73 @@ def _describe(report: dict, label: str | None) -> dict:
             "rulesets": rulesets, "status": report.get("status")}
 
 
-def _verdicts(report: dict, which: str) -> tuple[dict[tuple[str, str], dict], set[str]]:
-    """(refdes, rule) -> finding (the worst when a designator repeats), and the designators."""
+def _placements(report: dict, which: str):
+    """(name, placement) of a single report, or of every board of a combined batch report (the
+    name then "PRODUCT/refdes")."""
+    boards = report.get("boards") if isinstance(report, dict) else None
+    if isinstance(boards, list):
+        for board in boards:
+            sub = board.get("report") if isinstance(board, dict) else None
+            if not isinstance(sub, dict) or not isinstance(sub.get("placements"), list):
+                raise InputError(f"the {which} report has a board without its report",
+                                 expected="the output of bomcheck audit --manifest --json")
+            for p in sub["placements"]:
+                yield f"{board.get('product')}/{p.get('refdes') if isinstance(p, dict) else p}", p
+        return
     placements = report.get("placements") if isinstance(report, dict) else None
     if not isinstance(placements, list):
         raise InputError(f"the {which} report is not a bomcheck JSON report",
                          expected="the output of bomcheck audit --json (a 'placements' list)")
+    for p in placements:
+        yield (str(p["refdes"]) if isinstance(p, dict) and "refdes" in p else None), p
+
+
+def _placement_verdicts(p: dict) -> list[dict]:
+    """A placement's verdicts: ``verdicts`` (schema 2), or ``findings`` and the passing
+    ``checks`` of schema 1 reports."""
+    if "verdicts" in p:
+        return [v for v in p["verdicts"] or []]
+    out = list(p.get("findings") or [])
+    return out + [{"status": "pass", "message": None, **c} for c in p.get("checks") or []]
+
+
+def _verdicts(report: dict, which: str) -> tuple[dict[tuple[str, str], dict], set[str]]:
+    """(refdes, rule) -> verdict (the worst when a designator repeats), and the designators."""
     out: dict[tuple[str, str], dict] = {}
     names: set[str] = set()
-    for p in placements:
+    for refdes, p in _placements(report, which):
         try:
-            refdes = str(p["refdes"])
-            # "findings" holds the verdicts that are not a pass; "checks" (where present) the
-            # passing ones, without status or message.
-            findings = list(p.get("findings") or [])
-            findings += [{"status": "pass", "message": None, **c} for c in p.get("checks") or []]
+            if refdes is None:
+                raise KeyError("refdes")
             names.add(refdes)
-            for f in findings:
+            for f in _placement_verdicts(p):
                 key = (refdes, str(f["rule"]))
                 old = out.get(key)
                 if old is None or _RANK.get(f["status"], 0) > _RANK.get(old["status"], 0):
                     out[key] = f
         except (KeyError, TypeError, AttributeError):
-            raise InputError(f"the {which} report has a placement without refdes or findings",
+            raise InputError(f"the {which} report has a placement without refdes or verdicts",
                              expected="the output of bomcheck audit --json") from None
     return out, names
+
+
+def report_digest(report) -> dict:
+    """What ``compare`` reads of a ``Report`` (tool, rule sets, status, and per placement its
+    verdicts' rule, status and message), taken from its tables without writing the JSON report."""
+    v = report.verdicts
+    by_placement: dict[int, list[dict]] = {}
+    if len(v):
+        messages = v["message"] if "message" in v.columns else [None] * len(v)
+        for pidx, rule, status, message in zip(v["pidx"].tolist(), v["rule_id"].tolist(),
+                                               v["status"].tolist(), list(messages)):
+            by_placement.setdefault(pidx, []).append(
+                {"rule": rule, "status": status,
+                 "message": message if status != "pass" and isinstance(message, str) else None})
+    placements = [{"refdes": r, "verdicts": by_placement.get(i, [])}
+                  for i, r in enumerate(report.table["refdes"].tolist())]
+    return {"tool": {"name": "bomcheck", "version": report.tool_version},
+            "rulesets": list(report.rulesets), "status": report.status,
+            "placements": placements}
 
 
 def _change(key: tuple[str, str], old: dict | None, new: dict | None) -> VerdictChange:

@@ -7,7 +7,6 @@ recompute anything. The JSON form holds no clock reading, so the same inputs giv
 from __future__ import annotations
 
 import json
-import json.encoder
 from dataclasses import dataclass, field
 from typing import Any
 
@@ -39,13 +38,6 @@ METRIC_FIELDS: tuple[str, ...] = (
     "c_tol_factor", "c_temp_factor", "c_bias_factor", "c_aging_factor", "c_worst_f", "c_margin",
     "c_margin_basis", "c_margin_note",
 )
-FINDING_FIELDS = {  # JSON key -> verdict column
-    "rule": "rule_id", "status": "status", "value": "value", "limit": "limit",
-    "warn_limit": "warn_limit", "margin": "margin", "message": "message", "source": "source",
-    "basis": "basis",
-}
-# Written only when the verdict table has the column (waivers were applied).
-OPTIONAL_FINDING_FIELDS = {"waived_from": "waived_from"}
 
 
 def ruleset_summary(ruleset) -> tuple[dict, ...]:
@@ -96,7 +88,7 @@ class Report:
     @property
     def status(self) -> str:
         """The worst status of all placements and of the design rows the BOM lacks."""
-        statuses = set(self.table["status"]) if len(self.table) else set()
+        statuses = set(pd.unique(self.table["status"])) if len(self.table) else set()
         if self.design_unmatched:
             statuses.add("nodata")
         return worst_status(statuses)
@@ -142,9 +134,22 @@ class Report:
         out.sort(key=lambda d: (d["row"], d["refdes"] or ""))
         return out
 
-    def _head(self) -> dict:
-        """Every top-level key of the JSON report but ``placements``."""
-        return {
+    def approved_sources(self) -> list[dict]:
+        """Each approved source's status in each placement of its line (empty when no line has
+        a source beside its own)."""
+        if self.source_status is None:
+            return []
+        t = self.source_status.drop(columns=["pidx"])
+        t = t.astype(object).where(t.notna(), None)
+        return [dict(zip(t.columns, (v.item() if isinstance(v, np.generic) else v for v in row)))
+                for row in t.itertuples(index=False)]
+
+    def _json_parts(self) -> tuple[dict, dict]:
+        """The JSON report's keys before ``placements`` and after it."""
+        from bomcheck.report_json import SCHEMA_VERSION
+
+        front = {
+            "schema_version": SCHEMA_VERSION,
             "tool": {"name": "bomcheck", "version": self.tool_version},
             "status": self.status,
             "environment": self.environment,
@@ -152,43 +157,38 @@ class Report:
             "inputs": list(self.inputs),
             "totals": {k: int(v) for k, v in self.totals.items()},
             "cautions": list(self.cautions),
+            "rules": _rules_seen(self.verdicts, self.rules),
+        }
+        back = {
             "not_audited": self.not_audited(),
             "design_unmatched": list(self.design_unmatched),
             "import_findings": [f.to_dict() for f in self.import_findings],
             "input_warnings": [w.to_dict() for w in self.input_warnings],
+            "approved_sources": self.approved_sources(),
             "waivers": [f.to_dict() for f in self.waiver_findings],
             "groups": list(self.groups),
         }
+        return front, back
 
     def to_json(self) -> str:
-        """The report as JSON text (schema ``report.schema.json``); the same inputs give
-        byte-identical text.
-
-        Placements are written from JSON fragments made once per distinct block (spec,
-        conditions, metrics, verdict) and joined, so a 100k-placement report costs little more
-        than its size; ``findings`` holds every verdict that is not a pass, with its message,
-        ``checks`` every passing verdict (rule, value, limit, margin).
-        """
+        """The report as JSON text (schema ``report.schema.json``, version 2); the same inputs
+        give byte-identical text. For a large report use ``iter_json``."""
         return "".join(self.iter_json())
 
     def iter_json(self):
-        """``to_json`` in pieces, for writing a large report without one huge string."""
-        head_text = _dumps(self._head())
-        # "placements" goes after "cautions": splice it into the head object.
-        i = head_text.index(',"not_audited":')
-        yield head_text[:i] + ',"placements":['
-        texts = _placement_texts(self.table, self.verdicts)
-        for start in range(0, len(texts), 5000):
-            chunk = ",".join(texts[start:start + 5000])
-            yield chunk if start == 0 else "," + chunk
-        yield "]" + head_text[i:] + "\n"
+        """The JSON report in pieces of at most one chunk of placements each, built column-wise
+        (``bomcheck.report_json``), so writing it never holds the whole text in memory."""
+        from bomcheck.report_json import write_chunks
+
+        front, back = self._json_parts()
+        spec_codes, specs = _specs(self.table)
+        front["specs"] = specs
+        return write_chunks(front, back, _placement_chunks(self.table, self.verdicts,
+                                                           spec_codes, front["rules"]))
 
     def to_dict(self) -> dict:
         """The JSON report as Python values (parsed from ``to_json``, so the two never differ)."""
         return json.loads(self.to_json())
-
-
-_encode = json.encoder.encode_basestring  # JSON string literal, non-ASCII kept as is
 
 
 def _dumps(value) -> str:
@@ -196,7 +196,8 @@ def _dumps(value) -> str:
 
 
 def _block_codes(frame: pd.DataFrame) -> np.ndarray:
-    """One code per row such that rows with equal values (NaN equal to NaN) share a code."""
+    """One code per row such that rows with equal values (NaN equal to NaN) share a code; codes
+    are numbered in order of first appearance."""
     key = np.zeros(len(frame), dtype=np.int64)
     for col in frame.columns:
         series = frame[col]
@@ -211,74 +212,152 @@ def _block_codes(frame: pd.DataFrame) -> np.ndarray:
     return key
 
 
-def _fragments(frame: pd.DataFrame, names: tuple[str, ...]) -> np.ndarray:
-    """For each row, the JSON object text of ``names`` (columns absent from ``frame`` are null),
-    built once per distinct row."""
-    present = [c for c in names if c in frame.columns]
-    block = frame[present]
-    codes = _block_codes(block) if len(block) else np.zeros(0, dtype=np.int64)
-    first = np.unique(codes, return_index=True)[1] if len(codes) else np.zeros(0, dtype=np.int64)
-    recs = _records(block.iloc[first], names)
-    texts = np.asarray([_dumps(r) for r in recs] or [""], dtype=object)
-    return texts[codes] if len(codes) else np.zeros(0, dtype=object)
+def _specs(table: pd.DataFrame) -> tuple[np.ndarray, list[dict]]:
+    """(per placement the index of its spec, the distinct specs in order of first appearance)."""
+    present = [c for c in SPEC_FIELDS if c in table.columns]
+    if not len(table):
+        return np.zeros(0, dtype=np.int64), []
+    codes = _block_codes(table[present])
+    first = np.unique(codes, return_index=True)[1]
+    return codes, _records(table.iloc[first], SPEC_FIELDS)
 
 
-_FINDING_KEYS = tuple(k for k in FINDING_FIELDS if k != "message")
-_CHECK_KEYS = ("rule", "value", "limit", "margin")
-
-
-def _placement_texts(table: pd.DataFrame, verdicts: pd.DataFrame) -> list[str]:
-    n = len(table)
-    if n == 0:
-        return []
-    spec = _fragments(table, SPEC_FIELDS).tolist()
-    # design_row differs on every placement: kept out of the shared fragment, spliced in after.
-    conditions = _fragments(table, tuple(f for f in CONDITION_FIELDS if f != "design_row")).tolist()
-    rows = (pd.to_numeric(table["design_row"], errors="coerce") if "design_row" in table
-            else pd.Series(np.nan, index=table.index))
-    design_rows = np.where(rows.isna(), "null",
-                           rows.fillna(0).astype(np.int64).astype(str)).tolist()
-    metrics = _fragments(table, METRIC_FIELDS).tolist()
-    from bomcheck.circuit import json_metric_texts  # circuit metrics, only where computed
-
-    circuit = json_metric_texts(table)
-    findings, checks = _verdict_texts(verdicts, n)
-    enc = _encode
-    # One pass over plain lists (iterating pandas columns directly costs more than the join).
-    return [
-        f'{{"refdes":{enc(r)},"row":{row},"text":{enc(text)},"status":"{st}","spec":{sp},'
-        f'"conditions":{c[:-1]},"design_row":{dr}}},"metrics":{m[:-1]}{x}}},'
-        f'"findings":[{f}],"checks":[{k}]}}'
-        for r, row, text, st, sp, c, dr, m, x, f, k in zip(
-            table["refdes"].tolist(), table["row"].astype(int).tolist(), table["text"].tolist(),
-            table["status"].tolist(), spec, conditions, design_rows, metrics, circuit,
-            findings, checks)
-    ]
-
-
-def _verdict_texts(verdicts: pd.DataFrame, n: int) -> tuple[list[str], list[str]]:
-    """Per placement, the joined JSON of its non-pass verdicts and of its passing ones."""
+def _rules_seen(verdicts: pd.DataFrame, ruleset) -> dict:
+    """Rule id -> title, metric, source and constant limits, for every rule id that gave a
+    verdict (sorted); a verdict leaves out what it shares with its rule's entry here."""
     if not len(verdicts):
-        return [""] * n, [""] * n
-    v = verdicts.sort_values(["pidx", "rule_id"], kind="stable").reset_index(drop=True)
-    v = v.rename(columns={c: k for k, c in FINDING_FIELDS.items()})
-    extra = tuple(k for k, c in OPTIONAL_FINDING_FIELDS.items() if c in verdicts.columns)
-    passed = (v["status"] == "pass").to_numpy()
-    out = []
-    for mask, keys in ((~passed, (*_FINDING_KEYS, *extra)), (passed, _CHECK_KEYS)):
-        part = v[mask]
-        texts = _fragments(part, keys)
-        if keys is not _CHECK_KEYS:
-            # The message names the designator, so it is unique: escape it alone, not its object.
-            messages = part["message"].fillna("").astype(str).tolist()
-            texts = [f'{t[:-1]},"message":{_encode(m)}}}' for t, m in
-                     zip(texts.tolist(), messages)]
+        return {}
+    codes, ids = pd.factorize(verdicts["rule_id"].to_numpy(dtype=object))
+    first = np.unique(codes, return_index=True)[1]
+    sources = (verdicts["source"].to_numpy(dtype=object)[first] if "source" in verdicts
+               else [None] * len(first))
+    known = {} if ruleset is None else {r.id: r for r in ruleset.rules}
+    out = {}
+    for rid, source in sorted(zip(ids.tolist(), sources), key=lambda x: x[0]):
+        rule = known.get(rid)
+        out[rid] = {"title": getattr(rule, "title", None), "metric": getattr(rule, "metric", None),
+                    "limit": _constant(getattr(rule, "fail", None)),
+                    "warn_limit": _constant(getattr(rule, "warn", None)),
+                    "source": source if isinstance(source, str) else None}
+    return out
+
+
+def _constant(limit) -> float | None:
+    """A rule limit's constant value; None for a curve or no limit."""
+    value = getattr(limit, "value", None)
+    if limit is None or getattr(limit, "is_curve", False) or value is None:
+        return None
+    return float(value) if np.isfinite(value) else None
+
+
+PLACEMENT_KEYS = ("refdes", "row", "text", "mpn", "manufacturer")
+VERDICT_KEYS = {  # JSON key -> verdict column
+    "rule": "rule_id", "status": "status", "value": "value", "limit": "limit",
+    "warn_limit": "warn_limit", "margin": "margin", "message": "message", "source": "source",
+    "basis": "basis", "waived_from": "waived_from", "approved_source": "approved_source",
+}
+# Keys written only where a verdict differs from the common case (absent: firm, the line's own
+# part).
+_UNLESS = {"basis": "firm", "approved_source": 0}
+
+
+def _placement_chunks(table: pd.DataFrame, verdicts: pd.DataFrame, spec_codes: np.ndarray,
+                      rules: dict):
+    """Lists of placement record texts, ``report_json.CHUNK`` placements at a time."""
+    from bomcheck.circuit import JSON_FIELDS
+    from bomcheck.report_json import CHUNK
+
+    pidx = (verdicts["pidx"].to_numpy(dtype=np.int64) if len(verdicts)
+            else np.zeros(0, dtype=np.int64))
+    if len(pidx) and (np.diff(pidx) < 0).any():
+        order = np.argsort(pidx, kind="stable")
+        verdicts, pidx = verdicts.iloc[order], pidx[order]
+    metric_keys = (*METRIC_FIELDS, *JSON_FIELDS)
+    for start in range(0, len(table), CHUNK):
+        stop = min(len(table), start + CHUNK)
+        a, b = np.searchsorted(pidx, [start, stop]).tolist()
+        yield _placement_records(table.iloc[start:stop], spec_codes[start:stop],
+                                 verdicts.iloc[a:b], pidx[a:b] - start, rules, metric_keys)
+
+
+def _placement_records(part: pd.DataFrame, spec: np.ndarray, verdicts: pd.DataFrame,
+                       owner: np.ndarray, rules: dict, metric_keys) -> list[str]:
+    """The JSON record of each placement of ``part`` (one chunk), built column by column."""
+    from bomcheck.report_json import column_texts, frame_objects, join_per_row, objects
+
+    m = len(part)
+    everywhere = np.ones(m, dtype=bool)
+    fields = []
+    for key in PLACEMENT_KEYS:
+        if key in part.columns:
+            texts, present = column_texts(part[key], key)
+            if key in ("refdes", "row", "text"):  # always written
+                texts = np.where(present, texts, '""' if key != "row" else "null")
+                present = everywhere
+            fields.append((key, texts, present))
+    fields.append(("spec", spec.astype(str).astype(object), everywhere))
+    fields.append(("status", *column_texts(part["status"])))
+    verdict_texts = _verdict_objects(verdicts, part, owner, rules)
+    for key, texts in (("conditions", frame_objects(part, CONDITION_FIELDS, m)),
+                       ("metrics", frame_objects(part, metric_keys, m)),
+                       ("verdicts", join_per_row(verdict_texts, owner, m))):
+        fields.append((key, np.asarray(texts, dtype=object), everywhere))
+    return objects(fields, m)
+
+
+def _verdict_defaults(v: pd.DataFrame, part: pd.DataFrame, owner: np.ndarray,
+                      rules: dict) -> dict[str, np.ndarray]:
+    """Per verdict, what a reader takes when a key is left out: value = the placement's metric
+    of the rule, limit and warn_limit = the rule's constant ones, source = the rule's."""
+    codes, ids = pd.factorize(v["rule_id"].to_numpy(dtype=object))
+    entry = [rules.get(i, {}) for i in ids.tolist()]
+    out = {key: np.asarray([np.nan if e.get(key) is None else e[key] for e in entry],
+                           dtype=float)[codes] for key in ("limit", "warn_limit")}
+    out["source"] = np.asarray([e.get("source") for e in entry] + [None], dtype=object)[codes]
+    value = np.full(len(v), np.nan)
+    for j, e in enumerate(entry):
+        metric = e.get("metric")
+        if metric in part.columns:
+            rows = codes == j
+            column = pd.to_numeric(part[metric], errors="coerce").to_numpy(dtype=float)
+            value[rows] = column[owner[rows]]
+    out["value"] = value
+    return out
+
+
+def _verdict_objects(v: pd.DataFrame, part: pd.DataFrame, owner: np.ndarray,
+                     rules: dict) -> list[str]:
+    """Each verdict's JSON object: rule, status and margin always (margin where known); value,
+    limit, warn_limit and source only where they differ from ``_verdict_defaults``; the message
+    only when it is not a pass."""
+    from bomcheck.report_json import column_texts, objects
+
+    n = len(v)
+    if not n:
+        return []
+    defaults = _verdict_defaults(v, part, owner, rules)
+    not_pass = (v["status"] != "pass").to_numpy()
+    fields = []
+    for key, col in VERDICT_KEYS.items():
+        if col not in v.columns:
+            continue
+        only = not_pass if key == "message" else None
+        if key in _UNLESS:
+            only = (v[col] != _UNLESS[key]).to_numpy()
+        if key in ("value", "limit", "warn_limit"):
+            mine = pd.to_numeric(v[col], errors="coerce").to_numpy(dtype=float)
+            other = defaults[key]
+            only = ~((mine == other) | (np.isnan(mine) & np.isnan(other)))
+            texts, present = column_texts(mine, key, only=only)
+            texts[only & ~present] = "null"  # a null that overrides a default
+            present = only
+        elif key == "source":
+            only = v[col].to_numpy(dtype=object) != defaults["source"]
+            texts, present = column_texts(v[col], key, only=only)
         else:
-            texts = texts.tolist()
-        pidx = part["pidx"].to_numpy(dtype=np.int64)
-        bounds = np.searchsorted(pidx, np.arange(n + 1)).tolist()
-        out.append([",".join(texts[bounds[i]:bounds[i + 1]]) for i in range(n)])
-    return out[0], out[1]
+            texts, present = column_texts(v[col], key, only=only)
+        fields.append((key, texts, present))
+    return objects(fields, n)
 
 
 def _records(table: pd.DataFrame, fields: tuple[str, ...]) -> list[dict]:

@@ -82,9 +82,13 @@ def test_json_report_validates_and_is_byte_identical(sample):
     assert c31["status"] == "fail"
     assert {"voltage_ratio", "applied_peak_v", "t_operating_c", "temp_margin_c", "c_worst_f",
             "c_margin"} <= set(c31["metrics"])
-    assert {f["rule"] for f in c31["findings"]} >= {"IND-CER-V", "IND-CMARGIN"}
-    assert all(f["status"] != "pass" for f in c31["findings"])
-    assert all(set(c) == {"rule", "value", "limit", "margin"} for c in c31["checks"])
+    problems = [v for v in c31["verdicts"] if v["status"] != "pass"]
+    assert {v["rule"] for v in problems} >= {"IND-CER-V", "IND-CMARGIN"}
+    assert all(v["message"].startswith("C31: ") for v in problems)
+    # Schema 2: a passing verdict has no message, and its source is the rule's in "rules".
+    passes = [v for v in c31["verdicts"] if v["status"] == "pass"]
+    assert passes and all("message" not in v and "source" not in v for v in passes)
+    assert all(data["rules"][v["rule"]]["source"] for v in c31["verdicts"])
 
 
 def write(tmp_path, name, text):

@@ -152,7 +152,7 @@ def test_waivers_and_today_through_the_cli(board, tmp_path, capsys):
     plain = json.loads((tmp_path / "plain.json").read_text(encoding="utf-8"))
     c4 = next(p for p in plain["placements"] if p["refdes"] == "C4")
     lines = [f"C4,{f['rule']},qualified by test report TR-3,R. Okafor,2027-06-30"
-             for f in c4["findings"]]
+             for f in c4["verdicts"] if f["status"] != "pass"]
     (tmp_path / "w.csv").write_text("refdes,rule,reason,approved_by,expires\n"
                                     + "\n".join(lines) + "\n", encoding="utf-8")
     assert audit(bom, "--waivers", "w.csv", "--today", "2027-06-30", "--json", "w.json") == 0

@@ -10,7 +10,7 @@ from bomcheck.errors import InputError
 
 
 def report(placements: dict, rulesets=("tiny 1",)) -> dict:
-    """A minimal JSON report: {refdes: [(rule, status), ...]} (pass verdicts under "checks")."""
+    """A minimal schema 1 JSON report: {refdes: [(rule, status), ...]} (passes under "checks")."""
     out = []
     for refdes, verdicts in placements.items():
         out.append({
@@ -25,18 +25,19 @@ def report(placements: dict, rulesets=("tiny 1",)) -> dict:
             "placements": out}
 
 
-OLD = report({
+OLD_SPEC = {
     "C1": [("R-V", "pass"), ("R-T", "pass")],
     "C2": [("R-V", "pass"), ("R-T", "warn")],
     "C10": [("R-V", "fail")],
     "C5": [("R-V", "fail")],
-})
-NEW = report({
+}
+NEW_SPEC = {
     "C1": [("R-V", "fail"), ("R-T", "pass")],    # changed: pass -> fail (worse)
     "C2": [("R-V", "pass")],                     # resolved: R-T warn gone
     "C3": [("R-V", "fail")],                     # added placement with a new failing verdict
     "C10": [("R-V", "fail")],                    # unchanged
-})
+}
+OLD, NEW = report(OLD_SPEC), report(NEW_SPEC)
 
 
 def test_one_new_one_resolved_one_changed():
@@ -155,3 +156,48 @@ def test_cli_diff_bad_file_is_one_line_error(tmp_path, capsys):
     err = capsys.readouterr().err
     assert err.startswith("bomcheck: error: ") and err.count("\n") == 1
     assert "Traceback" not in err
+
+
+def report_v2(placements: dict) -> dict:
+    """The same minimal report in schema 2: one "verdicts" list, no message on a pass."""
+    old = report(placements)
+    for p in old["placements"]:
+        p["verdicts"] = sorted(
+            [{"rule": f["rule"], "status": f["status"], "message": f["message"]}
+             for f in p.pop("findings")]
+            + [{"rule": c["rule"], "status": "pass", "margin": c["margin"]}
+               for c in p.pop("checks")], key=lambda v: v["rule"])
+    return {"schema_version": 2, **old}
+
+
+def test_schema_2_reports_compare_alike_and_with_schema_1():
+    assert compare(report_v2(OLD_SPEC), report_v2(NEW_SPEC)).to_dict() == \
+        compare(OLD, NEW).to_dict()
+    # a baseline written before schema 2 still compares with a new report
+    assert compare(OLD, report_v2(NEW_SPEC)).counts() == compare(OLD, NEW).counts()
+
+
+def test_combined_reports_compare_board_by_board():
+    old = {"boards": [{"product": "A", "report": report_v2(OLD_SPEC)},
+                      {"product": "B", "report": report_v2(OLD_SPEC)}]}
+    new = {"boards": [{"product": "A", "report": report_v2(OLD_SPEC)},
+                      {"product": "B", "report": report_v2(NEW_SPEC)}]}
+    d = compare(old, new)
+    assert d.changed == (VerdictChange("B/C1", "R-V", "pass", "fail", None, "C1: R-V fail"),)
+    assert d.added == ("B/C3",) and d.removed == ("B/C5",)
+
+
+def test_report_digest_compares_as_the_written_report():
+    """The digest `audit --baseline` compares (taken from the tables) gives the same comparison
+    as the JSON report written by --json."""
+    from pathlib import Path
+
+    from bomcheck.audit import run_audit
+    from bomcheck.diff import report_digest
+
+    root = Path(__file__).resolve().parents[1] / "sample_boms"
+    report = run_audit(str(root / "bw7-controller-bom.csv"), str(root / "bw7-design.csv"))
+    written = json.loads(report.to_json())
+    for old in (OLD, written):
+        assert compare(old, report_digest(report)).to_dict() == compare(old, written).to_dict()
+    assert compare(written, report_digest(report)).counts()["changed"] == 0

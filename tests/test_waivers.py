@@ -235,7 +235,7 @@ def test_audit_applies_waivers_and_reports_them(tmp_path):
     data = json.loads(report.to_json())
     assert [w["code"] for w in data["waivers"]][-1] == "expired"
     c1 = next(p for p in data["placements"] if p["refdes"] == "C1")
-    finding = next(f for f in c1["findings"] if f["rule"] == rule)
+    finding = next(f for f in c1["verdicts"] if f["rule"] == rule)
     assert finding["status"] == "waived" and finding["waived_from"] == "fail"
     assert "qualified by test" in finding["message"]
     # The parts of the report schema that waivers add (the whole report is validated where the
@@ -243,7 +243,7 @@ def test_audit_applies_waivers_and_reports_them(tmp_path):
     schema = json.loads(files("bomcheck.schemas").joinpath("report.schema.json").read_text())
     for part, value in (("waivers", data["waivers"]), ("totals", data["totals"])):
         jsonschema.validate(value, {**schema["properties"][part], "$defs": schema["$defs"]})
-    jsonschema.validate(finding, {"$ref": "#/$defs/finding", "$defs": schema["$defs"]})
+    jsonschema.validate(finding, {"$ref": "#/$defs/verdict", "$defs": schema["$defs"]})
 
 
 def test_apply_waivers_recomputes_placement_status_and_totals(tmp_path):
