@@ -14,7 +14,7 @@ import numpy as np
 import pandas as pd
 
 from bomcheck.spec import SPEC_KEYS
-from bomcheck.vocabulary import CONDITIONS
+from bomcheck.vocabulary import CONDITIONS, METRICS
 
 from bomcheck.status import RANK as _RANK
 from bomcheck.status import STATUS_ORDER, at_least, worst
@@ -31,12 +31,11 @@ CAUTIONS: tuple[str, ...] = (
 
 SPEC_FIELDS: tuple[str, ...] = tuple(k for k in SPEC_KEYS if k != "text")
 CONDITION_FIELDS: tuple[str, ...] = (*CONDITIONS, "notes", "group", "design_row", "condition_source")
+# Every metric of the registry, then the factors and notes behind the worst-case capacitance and
+# the bases of the metrics that can rest on assumed data (one source: vocabulary.METRICS).
 METRIC_FIELDS: tuple[str, ...] = (
-    "v_upper_v", "applied_peak_v", "transient_peak_v", "voltage_ratio", "transient_ratio",
-    "reverse_ratio", "rated_voltage_v", "t_operating_c", "temp_max_used_c", "temp_margin_c",
-    "temp_margin_c_basis",
-    "c_tol_factor", "c_temp_factor", "c_bias_factor", "c_aging_factor", "c_worst_f", "c_margin",
-    "c_margin_basis", "c_margin_note",
+    *METRICS, "c_tol_factor", "c_temp_factor", "c_bias_factor", "c_aging_factor",
+    "temp_margin_c_basis", "c_margin_basis", "c_margin_note",
 )
 
 
@@ -272,7 +271,7 @@ def _placement_chunks(table: pd.DataFrame, verdicts: pd.DataFrame, spec_codes: n
     if len(pidx) and (np.diff(pidx) < 0).any():
         order = np.argsort(pidx, kind="stable")
         verdicts, pidx = verdicts.iloc[order], pidx[order]
-    metric_keys = (*METRIC_FIELDS, *JSON_FIELDS)
+    metric_keys = tuple(dict.fromkeys((*METRIC_FIELDS, *JSON_FIELDS)))
     for start in range(0, len(table), CHUNK):
         stop = min(len(table), start + CHUNK)
         a, b = np.searchsorted(pidx, [start, stop]).tolist()

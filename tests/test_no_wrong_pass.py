@@ -32,9 +32,15 @@ def run(tmp_path, monkeypatch, capsys):
     return audit
 
 
-def verdicts(report: dict, refdes: str) -> dict[str, dict]:
+def verdicts(report: dict, refdes: str) -> tuple[dict[str, dict], str]:
+    """The placement's verdicts by rule, each with its value and basis filled in from the
+    report's defaults (schema 2 leaves out what a verdict shares with its rule)."""
     (p,) = [p for p in report["placements"] if p["refdes"] == refdes]
-    return {c["rule"]: c for c in p.get("findings", []) + p.get("checks", [])}, p["status"]
+    out = {}
+    for v in p["verdicts"]:
+        metric = report["rules"].get(v["rule"], {}).get("metric")
+        out[v["rule"]] = {"value": p.get("metrics", {}).get(metric), "basis": "firm", **v}
+    return out, p["status"]
 
 
 def test_negative_rail_on_a_polarized_part_is_a_reverse_voltage(run):
