@@ -9,7 +9,6 @@ complete.
 from __future__ import annotations
 
 import os
-import secrets
 from collections.abc import Sequence
 from dataclasses import dataclass
 from datetime import datetime, timezone
@@ -18,15 +17,16 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 from openpyxl import Workbook
-from openpyxl.cell.cell import ERROR_CODES, ILLEGAL_CHARACTERS_RE, WriteOnlyCell
+from openpyxl.cell.cell import ERROR_CODES, WriteOnlyCell
 from openpyxl.chart import Reference, ScatterChart, Series
 from openpyxl.chart.layout import Layout, ManualLayout
 from openpyxl.chart.marker import Marker
 from openpyxl.styles import Alignment, Border, Font, NamedStyle, PatternFill, Side
 from openpyxl.utils import get_column_letter
 
-from bomcheck.errors import InputError
+from bomcheck.outfiles import atomic_path
 from bomcheck.report import CONDITION_FIELDS, METRIC_FIELDS, SPEC_FIELDS, STATUS_ORDER
+from bomcheck.textsafe import FORMULA_LEADS, starts_formula, xml_text
 from bomcheck.vocabulary import METRICS
 
 # Excel's sheet limit, header row included.
@@ -36,7 +36,7 @@ MAX_CELL_CHARS = 32_767
 
 # A cell starting with one of these is a formula to Excel or to a CSV import; input text that
 # does is stored as a text cell with the Text number format.
-UNSAFE_START = ("=", "+", "-", "@", "\t", "\r")
+UNSAFE_START = FORMULA_LEADS
 
 # Status fills: lightness falls as severity rises, so the order survives greyscale printing and
 # red-green colour blindness. (fill, font colour, bold)
@@ -135,25 +135,19 @@ def write_workbook(report, path: str | os.PathLike, *, generated: datetime | Non
     temporary file in the same folder and renamed into place; on any error the temporary file
     is deleted and an existing file at ``path`` is left as it was.
     """
-    target = Path(path)
-    tmp = target.with_name(f".{target.name}.{os.getpid()}.{secrets.token_hex(4)}.tmp")
     book = None
     try:
-        book = _Book(report, generated)
-        book.build().save(tmp)
-        os.replace(tmp, target)
-    except OSError as exc:
-        _discard(book, tmp)
-        raise InputError(f"cannot write workbook: {exc.strerror or exc}", path=str(path)) from None
+        with atomic_path(path, private_tempdir=True, what="workbook") as tmp:
+            book = _Book(report, generated)
+            book.build().save(tmp)
     except BaseException:
-        _discard(book, tmp)
+        _discard(book)
         raise
 
 
-def _discard(book: _Book | None, tmp: Path) -> None:
-    """After a failure: delete the temporary file and close the sheets' streams (openpyxl
-    removes their own temporary files at exit)."""
-    tmp.unlink(missing_ok=True)
+def _discard(book: _Book | None) -> None:
+    """After a failure: close the sheets' streams (their files go with the private temporary
+    folder of ``atomic_path``)."""
     if book is None:
         return
     for ws in book.wb.worksheets:
@@ -165,11 +159,11 @@ def _discard(book: _Book | None, tmp: Path) -> None:
 
 
 def safe_text(value: str) -> str:
-    """Input text as a cell can hold it: control characters XML forbids become U+FFFD and the
+    """Input text as a cell can hold it: characters XML 1.0 forbids become U+FFFD
+    (``textsafe.xml_text``, shared by every XML writer) and the
     text is cut to Excel's cell size. A leading ``=``, ``+``, ``-``, ``@``, tab or CR is kept
     (the writer stores such text as a text cell)."""
-    if ILLEGAL_CHARACTERS_RE.search(value):
-        value = ILLEGAL_CHARACTERS_RE.sub("\ufffd", value)
+    value = xml_text(value)
     if len(value) > MAX_CELL_CHARS:
         value = value[: MAX_CELL_CHARS - 1] + "…"
     return value
@@ -177,7 +171,7 @@ def safe_text(value: str) -> str:
 
 def is_unsafe(value: str) -> bool:
     """True when a spreadsheet would read ``value`` as a formula or an error code."""
-    return value.startswith(UNSAFE_START) or value in ERROR_CODES
+    return starts_formula(value) or value in ERROR_CODES
 
 
 @dataclass
@@ -642,7 +636,7 @@ class _Book:
                     row.append(None)
                     continue
                 style = per_row[i] if per_row is not None else fixed
-                if type(v) is str and (v.startswith(UNSAFE_START) or v in ERROR_CODES):
+                if type(v) is str and (starts_formula(v) or v in ERROR_CODES):
                     cell = template(j, style or "bc text")
                     cell.value = v
                     cell.data_type = "s"

@@ -91,7 +91,9 @@ def test_junit_counts_match_the_report(warn_as, failures, skipped):
         assert node.get("tests") == str(len(report.table))
         assert node.get("failures") == str(failures)
         assert node.get("errors") == "1"  # nodata is an error: the check could not run
-        assert node.get("skipped") == str(skipped)
+    assert suite.get("skipped") == str(skipped)
+    # junit-10.xsd (Jenkins xunit) allows no "skipped" attribute on <testsuites>
+    assert root.get("skipped") is None
 
 
 def test_junit_carries_explanations_classnames_and_waiver_reason():
@@ -143,6 +145,8 @@ def test_junit_is_deterministic():
 EXPECTED_MARKDOWN = """\
 ## bomcheck audit: FAIL
 
+Inputs: bom bom.csv (SHA-256 `0000000000000000000000000000000000000000000000000000000000000000`).
+
 | status | placements |
 |:--|--:|
 | fail | 1 |
@@ -154,20 +158,24 @@ EXPECTED_MARKDOWN = """\
 
 Not audited: not fitted 1, not capacitor 1. Design-sheet rows not in the BOM: C9 (row 8).
 
-### Placements not passing: 4, the worst 3 shown
+### Verdicts not passing: 4 on 4 placements, the worst 3 shown (all in the JSON report)
 
-| refdes | status | stress | limit | rule |
-|:--|:--|--:|--:|:--|
-| C2 | fail | 80 % | 70 % | R-V |
-| C4 | nodata |  | 50 % | R-V |
-| C3 | warn | 65 % | 70 % | R-V |
+| refdes | status | rule | stress | limit | message |
+|:--|:--|:--|--:|--:|:--|
+| C2 | fail | R-V | 80 % | 70 % | C2: ratio 80 % \\> 70 % limit |
+| C4 | nodata | R-V |  | 50 % | C4: no data: missing applied voltage |
+| C3 | warn | R-V | 65 % | 70 % | C3: ratio 65 % \\> 60 % warn limit |
 
 **Waivers:** 0 applied, 1 not applied.
+
 - expired: waiver 2 (C2 R-V) expired on 2026-01-31; its verdicts stand
 
 Rule sets: tiny 1.
 
-**Cautions:** Check it by hand. Mind the charge.
+### Cautions
+
+- Check it by hand.
+- Mind the charge.
 """
 
 
@@ -185,6 +193,7 @@ def test_markdown_escapes_table_breaking_text():
 def test_markdown_when_everything_passes():
     report = tiny_report()
     report.table["status"] = "pass"
+    report.verdicts["status"] = "pass"
     out = markdown_summary(report)
     assert "Every one of the 5 audited placements passes." in out
     assert "### Placements" not in out
@@ -201,18 +210,18 @@ EXPECTED_CSV = (
     "C2,3,fail,,R-V,voltage_ratio,0.8,0.7,-0.1,ceramic,1e-07,16,X7R,0603,"
     "\"'=HYPERLINK(\"\"http://example.invalid\"\")\",C2: ratio 80 % > 70 % limit,S1,\r\n"
     "C3,3,warn,,R-V,voltage_ratio,0.65,0.7,0.05,ceramic,1e-07,16,X7R,0603,"
-    "'+1+1,C3: ratio 65 % > 60 % warn limit,S1,\r\n"
+    "\"'+1+1\",C3: ratio 65 % > 60 % warn limit,S1,\r\n"
     "C4,4,nodata,,R-V,voltage_ratio,,0.5,,tantalum,2.2e-05,,,C,"
-    "'@SUM(A1:A2),C4: no data: missing applied voltage,S1,\r\n"
+    "\"'@SUM(A1:A2)\",C4: no data: missing applied voltage,S1,\r\n"
     "C5,5,waived,fail,R-V,voltage_ratio,0.9,0.7,-0.2,,,25,,,"
     "KV-0603-104-C5 | CAP CER 100NF 50V X7R,"
-    "C5: ratio 90 % > 70 % limit; waived (was fail) by R. Okafor until 2027-06-30: test report "
-    "TR-9,S1,R-V (was fail): test report TR-9\r\n"
+    "\"C5: ratio 90 % > 70 % limit; waived (was fail) by R. Okafor until 2027-06-30: test report "
+    "TR-9\",S1,R-V (was fail): test report TR-9\r\n"
 )
 
 
 def test_csv_is_exact_and_guards_formula_cells():
-    # CSV injection: cells led by = + - @ tab CR are prefixed with a quote (OWASP practice).
+    # CSV injection: cells led by = + - @ tab CR are prefixed with a quote and quoted (OWASP).
     report = tiny_report({"C2": '=HYPERLINK("http://example.invalid")', "C3": "+1+1",
                           "C4": "@SUM(A1:A2)"})
     assert csv_rows(report) == EXPECTED_CSV
