@@ -24,6 +24,7 @@ from openpyxl.chart.marker import Marker
 from openpyxl.styles import Alignment, Border, Font, NamedStyle, PatternFill, Side
 from openpyxl.utils import get_column_letter
 
+from bomcheck.chartdata import UNKNOWN_TECHNOLOGY, chart_points, limit_lines  # noqa: F401
 from bomcheck.outfiles import atomic_path
 from bomcheck.report import CONDITION_FIELDS, METRIC_FIELDS, SPEC_FIELDS, STATUS_ORDER
 from bomcheck.textsafe import FORMULA_LEADS, starts_formula, xml_text
@@ -64,7 +65,6 @@ TECHNOLOGY_COLOURS: dict[str, str] = {
     "glass": "4C5B8F",
     "supercapacitor": "C44569",
 }
-UNKNOWN_TECHNOLOGY = "unknown technology"
 LIMIT_LINE_COLOUR = "33373D"
 LIMIT_DASHES = ("solid", "dash", "sysDot", "lgDash", "dashDot", "sysDash", "lgDashDot")
 
@@ -419,19 +419,16 @@ class _Book:
     def _chart(self) -> None:
         """Voltage ratio against operating temperature: one marker series per technology and
         one line per distinct voltage-ratio fail limit of the rules in force."""
-        t = self.report.table
-        has = [c for c in ("voltage_ratio", "t_operating_c") if c in t]
-        if len(has) == 2:
-            plotted = self.report.worst_first()
-            plotted = plotted[plotted["voltage_ratio"].notna() & plotted["t_operating_c"].notna()]
-        else:
-            plotted = t.iloc[:0].assign(voltage_ratio=np.nan, t_operating_c=np.nan)
+        points = chart_points(self.report)
+        if len(points.ac):
+            self.notes.append(f"Voltage chart: {len(points.ac)} AC-rated placements "
+                              "(rated V AC) are not plotted: the chart's limit lines are DC "
+                              "derating limits, which do not apply to them.")
+        plotted = points.dc
         n = self._fit(len(plotted), "Chart data")
         plotted = plotted.iloc[:n]
-        tech = plotted["technology"].fillna(UNKNOWN_TECHNOLOGY) if "technology" in plotted \
-            else pd.Series(UNKNOWN_TECHNOLOGY, index=plotted.index)
-        plotted = plotted.assign(_tech=tech.astype(str)).sort_values(["_tech", "refdes"],
-                                                                      kind="stable")
+        plotted = plotted.assign(_tech=plotted["technology"]).sort_values(
+            ["_tech"], kind="stable")
         temps = plotted["t_operating_c"].astype(float)
         lines = limit_lines(self.report.rules, temps.min() if len(temps) else None,
                             temps.max() if len(temps) else None)
@@ -649,63 +646,6 @@ class _Book:
                     row.append(cell)
             ws.append(row)
         return ws
-
-
-# ---- limit lines ---------------------------------------------------------------------------
-
-def limit_lines(ruleset, t_min: float | None, t_max: float | None
-                ) -> list[tuple[str, list[float], list[float]]]:
-    """The distinct voltage-ratio fail limits of the enabled rules as polylines over operating
-    temperature: (name, temperatures, ratios). Constants are flat lines over the temperature
-    range of the placements (widened to show every curve point); curves over ``t_operating_c``
-    follow their points, steps drawn as steps. Rules drawing the same line share it, named by
-    their ids."""
-    if ruleset is None:
-        return []
-    rules = [r for r in ruleset.rules if r.enabled and r.metric == "voltage_ratio"
-             and (not r.fail.is_curve or r.fail.over == "t_operating_c")]
-    knots = [x for r in rules for x in r.fail.xs]
-    lo_vals = [v for v in (t_min, *knots) if v is not None and v == v]
-    hi_vals = [v for v in (t_max, *knots) if v is not None and v == v]
-    lo, hi = (min(lo_vals), max(hi_vals)) if lo_vals else (25.0, 125.0)
-    pad = max(5.0, 0.05 * (hi - lo))
-    lo, hi = lo - pad, hi + pad
-    shapes: dict[tuple, list[str]] = {}
-    for r in rules:
-        xs, ys = _polyline(r.fail, lo, hi)
-        key = (tuple(round(x, 9) for x in xs), tuple(round(y, 9) for y in ys))
-        shapes.setdefault(key, []).append(r.id)
-    out = []
-    advisory = {r.id for r in rules if r.severity != "fail"}
-    for (xs, ys), ids in shapes.items():
-        fail = next(r.fail for r in rules if r.id == ids[0])
-        label = fail.text("voltage_ratio") if not fail.is_curve else "curve"
-        named = ", ".join(f"{i} (advisory)" if i in advisory else i for i in ids)
-        out.append((f"limit {label}: {named}", list(xs), list(ys)))
-    return out
-
-
-def _polyline(limit, lo: float, hi: float) -> tuple[list[float], list[float]]:
-    """Points drawing ``limit`` from ``lo`` to ``hi`` degC."""
-    if not limit.is_curve:
-        return [lo, hi], [float(limit.value)] * 2
-    xs, ys = list(limit.xs), list(limit.ys)
-    if limit.step:
-        # Each point's value holds up to and including its x; the next value starts after it.
-        px, py = [lo], [ys[0]]
-        for i, x in enumerate(xs):
-            px.append(x)
-            py.append(ys[i])
-            if i + 1 < len(xs):
-                px.append(x)
-                py.append(ys[i + 1])
-        px.append(hi)
-        py.append(ys[-1])
-        return px, py
-    inner = [x for x in xs if lo < x < hi]
-    px = [lo, *inner, hi]
-    py = limit.at(np.asarray(px, dtype=float), len(px)).tolist()
-    return px, py
 
 
 # ---- values for cells ----------------------------------------------------------------------
