@@ -54,6 +54,7 @@ font-weight:600;text-align:center}
 .controls input[type=search]{min-width:18rem;padding:.2rem .4rem}
 th.sortable{cursor:pointer}th.sortable::after{content:" \\2195";color:#6b737b}
 th[aria-sort=ascending]::after{content:" \\2191"}th[aria-sort=descending]::after{content:" \\2193"}
+td.bomtext{font-size:.8em;color:#3b4148;max-width:22rem;word-break:break-word}
 .chart{max-width:1000px}.chart text{font:11px sans-serif;fill:#1b1f24}
 .chart .lbl{font-size:9px}.muted{color:#5b636b}
 ul.cautions li{margin:.3rem 0}
@@ -358,7 +359,8 @@ def _placements_section(report) -> list[str]:
             f'<td class="num"{_num_attr(gcols["limit"][pos])}>'
             f'{esc(format_metric(gcols["limit"][pos], metric))}</td>'
             f'<td class="num"{_num_attr(rel)}>{"" if _isnan(rel) else f"{rel:.1%}"}</td>'
-            f'<td>{_t(gcols["basis"][pos])}</td><td>{_t(gcols["message"][pos])}</td></tr>')
+            f'<td>{_t(gcols["basis"][pos])}</td><td>{_t(gcols["message"][pos])}</td>'
+            f'<td class="bomtext">{_t(rec.get("text"))}</td></tr>')
     boxes = "".join(f'<label><input type="checkbox" value="{s}" checked> {s}</label>'
                     for s in STATUSES)
     return ["<h2 id=\"placements\">Placements, worst first</h2>",
@@ -370,7 +372,7 @@ def _placements_section(report) -> list[str]:
             f'{boxes}<span class="count muted"></span></div>',
             _table(("#", "refdes", "BOM row", "status", "part", "technology", "conditions",
                     "governing rule", "stress", "limit", "margin / limit", "basis",
-                    "explanation"), rows, table_id="placements-table", sortable=True)]
+                    "explanation", "BOM text"), rows, table_id="placements-table", sortable=True)]
 
 
 def _verdict_rows(v: pd.DataFrame, metric_of: dict, rows_of: pd.Series) -> list[str]:

@@ -11,9 +11,10 @@ every writer of that format uses:
   ASCII punctuation may be escaped).
 - ``html_text``: text for an HTML element or a quoted attribute.
 - ``starts_formula`` / ``csv_field``: the CSV-injection guard (OWASP "CSV Injection"): a cell
-  that starts with ``=``, ``+``, ``-``, ``@``, tab or CR gets a leading single quote, and such a
-  cell, or one that holds a separator followed by a formula lead (``x;=1+1``, which a
-  spreadsheet in a ``;`` locale would split into a formula cell), is always quoted.
+  that starts with ``=``, ``+``, ``-``, ``@``, tab or CR gets a leading single quote; in a cell
+  holding a separator followed by a formula lead (``x;=1+1``, which a spreadsheet reading with
+  another list separator splits into a formula cell, quotes or not) that lead gets a single
+  quote too (``x;'=1+1``); both kinds are always quoted.
 - ``json_dumps``: strict JSON, a NaN or infinity written as null.
 - ``natural_key``: designators in the order a reader expects (C7 before C10).
 """
@@ -33,10 +34,10 @@ _CONTROLS = re.compile("[\x00-\x1f\x7f-\x9f]")
 # raw HTML and comments, entities, table cells, strikethrough); and the starts of a line that
 # open a block (heading, list, thematic break, setext underline, ordered list).
 _MD_SPECIAL = re.compile(r"([\\`*_\[\]<>|&~])")
-_MD_BLOCK_LEAD = re.compile(r"^([#+\-=]|\d+(?=[.)]))")
+_MD_BLOCK_LEAD = re.compile(r"^(?:(#{1,6}|[+\-]|=+)(?=\s|$)|(\d{1,9})(?=[.)](?:\s|$)))")
 
 FORMULA_LEADS: tuple[str, ...] = ("=", "+", "-", "@", "\t", "\r")
-_HIDDEN_FORMULA = re.compile(r"[,;\t\r\n|]\s*[=+\-@]")
+_HIDDEN_FORMULA = re.compile(r"([,;\t\r\n|]\s*)([=+\-@])")
 _CSV_QUOTE_WHEN = re.compile(r'[,";\t\r\n]')
 
 
@@ -55,9 +56,10 @@ def md_text(value: object) -> str:
     text = _CONTROLS.sub("\ufffd", text)
     text = _MD_SPECIAL.sub(r"\\\1", text)
     lead = _MD_BLOCK_LEAD.match(text)
-    if lead:
-        end = lead.end()
-        text = ("\\" + text) if not lead.group(1).isdigit() else text[:end] + "\\" + text[end:]
+    if lead and lead.group(1):
+        text = "\\" + text
+    elif lead:
+        text = text[:lead.end()] + "\\" + text[lead.end():]
     return text
 
 
@@ -86,7 +88,12 @@ def csv_field(value: object) -> str:
     lead = starts_formula(text)
     if lead:
         text = "'" + text
-    if lead or hides_formula(text) or _CSV_QUOTE_WHEN.search(text):
+    hidden = hides_formula(text)
+    if hidden:
+        # Read with another list separator, the text after the separator is a cell of its
+        # own and the quotes around this one do not hold there: quote its lead too.
+        text = _HIDDEN_FORMULA.sub(r"\1'\2", text)
+    if lead or hidden or _CSV_QUOTE_WHEN.search(text):
         return '"' + text.replace('"', '""') + '"'
     return text
 
