@@ -18,6 +18,7 @@ as the workflow-command format requires: in the message ``%``, CR and LF become 
 from __future__ import annotations
 
 import math
+import os
 from urllib.parse import quote
 
 from bomcheck.textsafe import json_dumps
@@ -29,9 +30,24 @@ _LEVEL = {"fail": "error", "warn": "warning", "nodata": "warning", "waived": "no
 _ANNOTATION = {"fail": "error", "warn": "warning", "nodata": "warning"}
 
 
+def _where(path: str) -> str:
+    """A file path as code review sees it: relative to the working directory (the checkout)
+    when the file is inside it, else as given."""
+    path = str(path)
+    if os.path.isabs(path):
+        rel = os.path.relpath(path, os.getcwd())
+        if not rel.startswith(".."):
+            return rel
+    return path
+
+
 def _uri(path: str) -> str:
-    """A relative URI reference for a file path as given (bytes of a non-UTF-8 name kept)."""
-    raw = str(path).replace("\\", "/").encode("utf-8", "surrogateescape")
+    """A URI reference for a file path (RFC 3986): relative to the working directory where
+    possible, else a file URI; bytes of a non-UTF-8 name kept, percent-encoded."""
+    path = _where(path).replace("\\", "/")
+    raw = path.encode("utf-8", "surrogateescape")
+    if path.startswith("/"):
+        return "file://" + quote(raw, safe="/")
     return quote(raw, safe="/")
 
 
@@ -144,7 +160,7 @@ def _escape_property(text: str) -> str:
 
 def annotations(report) -> list[str]:
     """One workflow-command line per fail, warn and nodata verdict (module docstring)."""
-    bom = _escape_property(str(_bom(report).get("path") or ""))
+    bom = _escape_property(_where(_bom(report).get("path") or ""))
     bad = report.verdicts_worst_first()
     rows = report.table["row"]
     out = []

@@ -251,3 +251,44 @@ def test_csv_keeps_negative_numbers_numeric():
 ])
 def test_format_metric(value, metric, text):
     assert format_metric(value, metric) == text
+
+
+# --------------------------------------------------------------------------------------------
+# The sample board's outputs opened by their consumers' parsers
+
+ROOT = __import__("pathlib").Path(__file__).resolve().parents[1]
+
+
+@pytest.fixture(scope="module")
+def sample():
+    from bomcheck.audit import run_audit
+
+    return run_audit(str(ROOT / "sample_boms" / "bw7-controller-bom.csv"),
+                     str(ROOT / "sample_boms" / "bw7-design.csv"))
+
+
+@pytest.mark.parametrize("warn_as", ["failure", "skipped", "pass"])
+def test_junit_validates_against_the_junit_schema(sample, warn_as):
+    xmlschema = pytest.importorskip("xmlschema", reason="xmlschema (test extra) validates XSD")
+    # tests/data/junit-derived.xsd: derived from the structure of the Jenkins xunit
+    # junit-10.xsd (see its header); the tiny report has every status, the sample board a FAIL
+    schema = xmlschema.XMLSchema(str(ROOT / "tests" / "data" / "junit-derived.xsd"))
+    for report in (tiny_report({"C2": "\ufffe<x>"}), sample):
+        schema.validate(junit_xml(report, warn_as=warn_as))
+
+
+def test_sample_markdown_renders_as_gfm_tables(sample):
+    markdown_it = pytest.importorskip("markdown_it", reason="markdown-it-py (test extra)")
+    text = markdown_summary(sample)
+    html = markdown_it.MarkdownIt("commonmark").enable("table").render(text)
+    assert html.count("<table>") == 2  # totals, and the verdicts not passing
+    assert "bw7-controller-bom.csv" in text and sample.inputs[0]["sha256"] in text
+    # every non-passing verdict, not one per placement: C4 has a FAIL and nodata verdicts
+    bad = sample.verdicts[sample.verdicts["status"] != "pass"]
+    assert f"Verdicts not passing: {len(bad)} on {bad['pidx'].nunique()} placements" in text
+    c4 = [line for line in text.splitlines() if line.startswith("| C4 |")]
+    assert any("| fail |" in line for line in c4) and any("| nodata |" in line for line in c4)
+    # the nodata rows say what is missing
+    assert any("missing" in line for line in c4 if "| nodata |" in line)
+    # cautions are a list, one item each
+    assert html.count("<li>") >= len(sample.cautions)
