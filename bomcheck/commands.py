@@ -128,7 +128,8 @@ def run_audit(args: argparse.Namespace) -> int:
             for output, path in outputs:
                 stage(f"write {output.name}: {path}")
                 output.load()(report, path, context)
-    if all(path != "-" for _, path in outputs):
+    # Annotations share standard output with the terminal summary (CI logs read both).
+    if all(path != "-" for o, path in outputs if o.kind == "file"):
         from bomcheck.render import print_audit, print_diff, print_quiet
 
         console = _console(args)
