@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import csv
+import os
 import zipfile
 from dataclasses import replace
 from datetime import datetime, timezone
@@ -441,3 +442,43 @@ def test_empty_rule_set_and_no_design_still_writes(tmp_path):
     wb = openpyxl.load_workbook(path)
     header, rows = table(wb["Placements"])
     assert len(rows) == 1 and rows[0][header.index("status")] == "nodata"
+
+
+# ---- opened where reviewers open it: LibreOffice Calc, printed to PDF ------------------------
+
+def _soffice() -> str | None:
+    import shutil
+
+    return shutil.which("soffice") or shutil.which("libreoffice")
+
+
+def test_libreoffice_prints_the_workbook_with_its_chart_and_no_hash_cells(report, tmp_path):
+    import shutil
+    import subprocess
+
+    soffice = _soffice()
+    if soffice is None:
+        pytest.skip("LibreOffice (soffice) is not installed: this check renders the workbook "
+                    "as Calc does (Debian/Ubuntu: apt-get install libreoffice-calc)")
+    if shutil.which("pdftotext") is None:
+        pytest.skip("pdftotext is not installed: it reads the PDF's text (Debian/Ubuntu: "
+                    "apt-get install poppler-utils)")
+    path = tmp_path / "audit.xlsx"
+    xlsx.write_workbook(report, path, generated=GENERATED)
+    run = subprocess.run([soffice, "--headless", "--norestore",
+                          f"-env:UserInstallation={(tmp_path / 'lo').as_uri()}",
+                          "--convert-to", "pdf", "--outdir", str(tmp_path), str(path)],
+                         capture_output=True, text=True, timeout=300,
+                         env={**os.environ, "HOME": str(tmp_path)})
+    pdf = tmp_path / "audit.pdf"
+    assert pdf.exists(), run.stderr[-2000:]
+    text = subprocess.run(["pdftotext", "-layout", str(pdf), "-"], capture_output=True,
+                          text=True, check=True).stdout
+    assert "###" not in text  # no number too wide for its column
+    # the chart rendered: its title, axis titles and legend entries are drawn in the PDF
+    assert text.count("Voltage ratio against operating temperature") >= 2
+    assert "operating temperature [°C]" in text and "aluminium-electrolytic" in text
+    pages = subprocess.run(["pdfinfo", str(pdf)], capture_output=True, text=True).stdout
+    count = int(next(line.split()[-1] for line in pages.splitlines()
+                     if line.startswith("Pages:")))
+    assert count <= 25  # a 63-placement board prints to a sensible number of pages
