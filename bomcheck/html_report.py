@@ -54,7 +54,7 @@ font-weight:600;text-align:center}
 .controls input[type=search]{min-width:18rem;padding:.2rem .4rem}
 th.sortable{cursor:pointer}th.sortable::after{content:" \\2195";color:#6b737b}
 th[aria-sort=ascending]::after{content:" \\2191"}th[aria-sort=descending]::after{content:" \\2193"}
-td.bomtext{font-size:.8em;color:#3b4148;max-width:22rem;word-break:break-word}
+td.bomtext{font-size:.8em;color:#3b4148;min-width:12rem;max-width:22rem}
 .chart{max-width:1000px}.chart text{font:11px sans-serif;fill:#1b1f24}
 .chart .lbl{font-size:9px}.muted{color:#5b636b}
 ul.cautions li{margin:.3rem 0}
@@ -201,7 +201,8 @@ _TECH_COLOURS = ("#2f6690", "#b5651d", "#7a4e9c", "#3a7d44", "#8c6d1f", "#9e2a2b
 _DASHES = ("", "6 3", "2 3", "10 4", "6 3 2 3", "3 3", "10 4 2 4")
 
 
-def _svg_chart(points: pd.DataFrame, lines, title: str, *, chart_id: str) -> str:
+def _svg_chart(points: pd.DataFrame, lines, title: str, *, chart_id: str,
+               height: int = _H) -> str:
     """Voltage ratio against operating temperature as inline SVG: limit lines, one labelled
     point per placement, coloured by technology, legend on the right."""
     xs = [x for _, lx, _ in lines for x in lx] + points["t_operating_c"].tolist()
@@ -212,7 +213,7 @@ def _svg_chart(points: pd.DataFrame, lines, title: str, *, chart_id: str) -> str
     if x1 - x0 < 1:
         x0, x1 = x0 - 5, x1 + 5
     y1 = max(1.0, max(ys)) * 1.08
-    pw, ph = _W - _LEFT - _RIGHT, _H - _TOP - _BOTTOM
+    pw, ph = _W - _LEFT - _RIGHT, height - _TOP - _BOTTOM
 
     def px(x):
         return _LEFT + (x - x0) / (x1 - x0) * pw
@@ -221,7 +222,7 @@ def _svg_chart(points: pd.DataFrame, lines, title: str, *, chart_id: str) -> str
         return _TOP + ph - min(max(y, 0.0), y1) / y1 * ph
 
     out = [f'<figure class="chart" id="{chart_id}"><svg xmlns="http://www.w3.org/2000/svg" '
-           f'viewBox="0 0 {_W} {_H}" role="img" aria-labelledby="{chart_id}-t">'
+           f'viewBox="0 0 {_W} {height}" role="img" aria-labelledby="{chart_id}-t">'
            f'<title id="{chart_id}-t">{esc(title)}</title>'
            f'<rect x="{_LEFT}" y="{_TOP}" width="{pw}" height="{ph}" fill="#fff" '
            'stroke="#8a939c"/>']
@@ -242,7 +243,7 @@ def _svg_chart(points: pd.DataFrame, lines, title: str, *, chart_id: str) -> str
                    f'<text x="{px(t):.1f}" y="{_TOP + ph + 16}" text-anchor="middle">'
                    f'{t:g}</text>')
         t += tick
-    out.append(f'<text x="{_LEFT + pw / 2}" y="{_H - 10}" text-anchor="middle">operating '
+    out.append(f'<text x="{_LEFT + pw / 2}" y="{height - 10}" text-anchor="middle">operating '
                'temperature [°C]</text>'
                f'<text transform="translate(16 {_TOP + ph / 2}) rotate(-90)" '
                'text-anchor="middle">voltage ratio (applied peak / rated)</text>')
@@ -300,7 +301,8 @@ def _chart_section(report) -> list[str]:
                    "judged by their own rules, not by the DC limit lines above; they are "
                    "shown apart.</p>")
         out.append(_svg_chart(points.ac, [], "AC-rated parts: working voltage against the AC "
-                              "rating (no DC limit line applies)", chart_id="chart-ac"))
+                              "rating (no DC limit line applies)", chart_id="chart-ac",
+                              height=300))
     return out
 
 
@@ -498,9 +500,9 @@ def audit_html(report) -> str:
             "<a href=\"#inputs\">inputs</a> · <a href=\"#cautions\">cautions</a></nav>"
             "</header>"]
     body += _totals_section(report)
+    body += _chart_section(report)
     body += _placements_section(report)
     body += _verdicts_section(report)
-    body += _chart_section(report)
     body += _groups_section(report)
     body += _not_audited_section(report)
     body += _inputs_section(report.inputs, report.rulesets, report.tool_version)
