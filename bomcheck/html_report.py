@@ -494,7 +494,7 @@ def audit_html(report) -> str:
     title = f"bomcheck audit: {report.status.upper()}" + (f" — {bom}" if bom else "")
     body = [f"<header><h1>{esc(title)}</h1>",
             f"<p class=\"overall\">Overall: {_status(report.status)}</p>",
-            f"<nav class=\"noprint\"><a href=\"#totals\">totals</a> · "
+            "<nav class=\"noprint\"><a href=\"#totals\">totals</a> · "
             "<a href=\"#placements\">placements</a> · <a href=\"#verdicts\">verdicts</a> · "
             "<a href=\"#chart\">chart</a> · <a href=\"#groups\">banks and stacks</a> · "
             "<a href=\"#inputs\">inputs</a> · <a href=\"#cautions\">cautions</a></nav>"

@@ -13,7 +13,6 @@ import os
 from collections.abc import Sequence
 from dataclasses import dataclass
 from datetime import datetime, timezone
-from pathlib import Path
 
 import numpy as np
 import pandas as pd
@@ -418,12 +417,8 @@ class _Book:
         needed = ["pidx", "refdes", "rule_id", "status", "value", "limit", "warn_limit", "margin",
                   "message", "source", "basis"]
         waivers = "waived_from" in r.verdicts.columns
-        v = r.verdicts.reindex(columns=needed + (["waived_from"] if waivers else []))
-        v = v[v["status"] != "pass"]
-        place = pd.Series(np.arange(len(r.table)), index=r.worst_first().index, dtype=float)
-        rank = {s: i for i, s in enumerate(STATUS_ORDER)}
-        v = v.assign(_rank=-v["status"].map(rank).fillna(0.5), _place=v["pidx"].map(place))
-        v = v.sort_values(["_rank", "_place", "rule_id"], kind="stable")
+        v = r.verdicts_worst_first()  # the one findings order of every output
+        v = v.reindex(columns=needed + (["waived_from"] if waivers else []))
         v = v.iloc[:self._fit(len(v), "Findings")]
         metric_of = {} if r.rules is None else {x.id: x.metric for x in r.rules.rules}
         metric = v["rule_id"].map(metric_of)

@@ -16,7 +16,7 @@ from pathlib import Path
 import pytest
 
 from bomcheck.cli import main
-from bomcheck.outfiles import atomic_path, clean_stale, output_lock, write_text
+from bomcheck.outfiles import atomic_path, clean_stale, write_text
 from bomcheck.textsafe import csv_field, md_text, natural_key, xml_text
 
 # Hostile cell texts: characters XML 1.0 forbids (U+FFFE, U+FFFF, C0 controls), markup, a
@@ -321,3 +321,29 @@ def test_non_utf8_output_file_name(tmp_path, capsys):
     assert "missing\\xff/x.md" in err and "Traceback" not in err
     assert (tmp_path / os.fsdecode(b"r\xe9sultat.json")).exists()  # ...the others were written
     json.loads((tmp_path / name).read_bytes())
+
+
+def test_json_dumps_writes_non_finite_numbers_as_null():
+    from bomcheck.textsafe import json_dumps
+
+    value = {"a": float("inf"), "b": [float("nan"), -float("inf"), 1.5], "c": ("x", 2)}
+    text = json_dumps(value)
+    # RFC 8259 section 6: Infinity and NaN are not permitted
+    assert json.loads(text, parse_constant=lambda c: pytest.fail(c)) == {
+        "a": None, "b": [None, None, 1.5], "c": ["x", 2]}
+
+
+def test_report_json_survives_an_infinite_metric(tmp_path):
+    """A 0 V rating gives an infinite stress ratio: the JSON report stays strict JSON."""
+    import numpy as np
+
+    from bomcheck.audit import run_audit
+
+    (tmp_path / "bom.csv").write_text(HEADER + "C1,1,100nF 16V X7R,x,y,Yes\n", encoding="utf-8")
+    (tmp_path / "design.csv").write_text(DESIGN + "C1,5,55,none\n", encoding="utf-8")
+    report = run_audit(str(tmp_path / "bom.csv"), str(tmp_path / "design.csv"))
+    report.table.loc[:, "voltage_ratio"] = np.inf
+    report.verdicts.loc[:, "value"] = np.inf
+    text = report.to_json()
+    data = json.loads(text, parse_constant=lambda c: pytest.fail(c))
+    assert data["placements"][0]["metrics"]["voltage_ratio"] is None
