@@ -397,7 +397,7 @@ def _verdict_rows(v: pd.DataFrame, metric_of: dict, rows_of: pd.Series) -> list[
             f'{esc(format_metric(cols["value"][i], metric))}</td>'
             f'<td class="num"{_num_attr(cols["limit"][i])}>'
             f'{esc(format_metric(cols["limit"][i], metric))}</td>'
-            f'<td>{_t(cols["basis"][i]) or "firm"}</td>'
+            f'<td>{_t(cols["basis"][i])}</td>'
             f'<td>{_t(cols["message"][i])}</td><td>{_t(cols["source"][i])}</td></tr>')
     return out
 
