@@ -27,9 +27,10 @@ THEME = Theme(
 )
 
 DEFAULT_ROWS = 50
-# Below this width the audit prints a short list per placement instead of a wide table, so
-# that no cell is squeezed and no word broken.
-COMPACT_WIDTH = 100
+# Below this width the audit prints a short list per placement instead of the table, so that
+# no cell is squeezed and no word broken: the table's columns at their natural widths
+# ("aluminium-electrolytic", "bom.qty_mismatch", conditions) need about 130 columns.
+COMPACT_WIDTH = 130
 
 
 def make_console(*, file=None, no_color: bool = False, width: int | None = None) -> Console:
