@@ -54,15 +54,21 @@ font-weight:600;text-align:center}
 .controls input[type=search]{min-width:18rem;padding:.2rem .4rem}
 th.sortable{cursor:pointer}th.sortable::after{content:" \\2195";color:#6b737b}
 th[aria-sort=ascending]::after{content:" \\2191"}th[aria-sort=descending]::after{content:" \\2193"}
-td.bomtext{font-size:.8em;color:#3b4148;min-width:12rem;max-width:22rem}
+td.bomtext{font-size:.8em;color:#3b4148;min-width:9rem;max-width:14rem}
+td.expl{min-width:20rem}
 .chart{max-width:1000px}.chart text{font:11px sans-serif;fill:#1b1f24}
-.chart .lbl{font-size:9px}.muted{color:#5b636b}
+.chart .lbl{font-size:9px}.muted{color:#5b636b}.print-only{display:none}
 ul.cautions li{margin:.3rem 0}
 .signature{margin-top:2rem;break-inside:avoid}
 .signature table td{height:3.2rem;width:33%}
 .signature th{width:12rem}
 @media print{
-@page{size:A4 landscape;margin:12mm}
+@page{size:A4 landscape;margin:12mm 12mm 14mm;
+@bottom-right{content:"page " counter(page) " of " counter(pages);font:8pt sans-serif}}
+th.sortable::after,th[aria-sort]::after{content:none}
+table{font-size:8.5pt}td.bomtext{font-size:7.5pt}
+.screen-only{display:none}
+.print-only{display:block!important}
 body{margin:0;max-width:none;font-size:10pt}
 .controls,.noprint{display:none!important}
 thead{display:table-header-group}tr,.chart,figure{break-inside:avoid}
@@ -361,7 +367,7 @@ def _placements_section(report) -> list[str]:
             f'<td class="num"{_num_attr(gcols["limit"][pos])}>'
             f'{esc(format_metric(gcols["limit"][pos], metric))}</td>'
             f'<td class="num"{_num_attr(rel)}>{"" if _isnan(rel) else f"{rel:.1%}"}</td>'
-            f'<td>{_t(gcols["basis"][pos])}</td><td>{_t(gcols["message"][pos])}</td>'
+            f'<td>{_t(gcols["basis"][pos])}</td><td class="expl">{_t(gcols["message"][pos])}</td>'
             f'<td class="bomtext">{_t(rec.get("text"))}</td></tr>')
     boxes = "".join(f'<label><input type="checkbox" value="{s}" checked> {s}</label>'
                     for s in STATUSES)
@@ -398,7 +404,7 @@ def _verdict_rows(v: pd.DataFrame, metric_of: dict, rows_of: pd.Series) -> list[
             f'<td class="num"{_num_attr(cols["limit"][i])}>'
             f'{esc(format_metric(cols["limit"][i], metric))}</td>'
             f'<td>{_t(cols["basis"][i])}</td>'
-            f'<td>{_t(cols["message"][i])}</td><td>{_t(cols["source"][i])}</td></tr>')
+            f'<td class="expl">{_t(cols["message"][i])}</td><td>{_t(cols["source"][i])}</td></tr>')
     return out
 
 
@@ -423,8 +429,12 @@ def _verdicts_section(report) -> list[str]:
         passed = passed.assign(_p=passed["pidx"].map(place)).sort_values(
             ["_p", "rule_id"], kind="stable")
         out.append(f"<h3>Passing verdicts ({len(passed)})</h3>")
-        out.append(_table(_VERDICT_HEADERS, _verdict_rows(passed, metric_of, rows_of),
-                          table_id="checks-table", sortable=True))
+        out.append(f'<p class="print-only">The {len(passed)} passing verdicts are listed in '
+                   "the on-screen report and the JSON report; the printed record lists every "
+                   "verdict that is not a pass.</p>")
+        out.append('<div class="screen-only">' + _table(
+            _VERDICT_HEADERS, _verdict_rows(passed, metric_of, rows_of),
+            table_id="checks-table", sortable=True) + "</div>")
     return out
 
 
