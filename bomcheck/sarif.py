@@ -3,7 +3,8 @@ annotations.
 
 SARIF (OASIS Static Analysis Results Interchange Format 2.1.0): one run, the tool's rules
 (``tool.driver.rules``: id, title, source, metric), the inputs as artifacts with their SHA-256,
-and one result per verdict that is not a pass: ``level`` ``error`` for fail, ``warning`` for
+and one result per verdict that is not a pass (and per design-sheet row naming no BOM
+placement, located in the design sheet): ``level`` ``error`` for fail, ``warning`` for
 warn and nodata, ``note`` for a waived verdict (with an external suppression carrying the
 waiver); its location is the BOM file and the line of the placement's BOM row
 (``region.startLine``), its logical location the designator. Results are in the shared
@@ -25,9 +26,9 @@ from bomcheck.textsafe import json_dumps
 
 SARIF_SCHEMA = "https://json.schemastore.org/sarif-2.1.0.json"
 SARIF_VERSION = "2.1.0"
-INFORMATION_URI = "https://pypi.org/project/bomcheck/"
 _LEVEL = {"fail": "error", "warn": "warning", "nodata": "warning", "waived": "note"}
 _ANNOTATION = {"fail": "error", "warn": "warning", "nodata": "warning"}
+UNMATCHED_RULE = "design.not_in_bom"
 
 
 def _where(path: str) -> str:
@@ -130,12 +131,35 @@ def sarif_log(report) -> dict:
             result["suppressions"] = [{"kind": "external", "status": "accepted",
                                        "justification": f"waived (was {_text(was)})"}]
         results.append(result)
+    design_index = next((i for i, d in enumerate(report.inputs) if d.get("role") == "design"),
+                        None)
+    if report.design_unmatched and design_index is not None:
+        # Design-sheet rows that name no BOM placement: no data, located in the design sheet.
+        design = report.inputs[design_index]
+        if UNMATCHED_RULE not in index:
+            index[UNMATCHED_RULE] = len(descriptors)
+            descriptors.append({"id": UNMATCHED_RULE, "name": UNMATCHED_RULE,
+                                "shortDescription": {"text": "a design-sheet row names no "
+                                                             "placement of the BOM"}})
+        for d in report.design_unmatched:
+            results.append({
+                "ruleId": UNMATCHED_RULE, "ruleIndex": index[UNMATCHED_RULE],
+                "level": "warning", "message": {"text": _text(d.get("reason"))},
+                "locations": [{"physicalLocation": {
+                    "artifactLocation": {"uri": _uri(design.get("path") or ""),
+                                         "index": design_index},
+                    "region": {"startLine": max(1, int(d.get("row") or 1))}},
+                    "logicalLocations": [{"name": _text(d.get("refdes")), "kind": "element"}]}],
+                "partialFingerprints": {"placementRule/v1": f"{d.get('refdes')}:"
+                                                            f"{UNMATCHED_RULE}"},
+                "properties": {"status": "nodata", "refdes": _text(d.get("refdes"))},
+            })
     return {
         "$schema": SARIF_SCHEMA,
         "version": SARIF_VERSION,
         "runs": [{
             "tool": {"driver": {"name": "bomcheck", "version": report.tool_version,
-                                "informationUri": INFORMATION_URI, "rules": descriptors}},
+                                "rules": descriptors}},
             "artifacts": artifacts,
             "results": results,
             "properties": {"status": report.status,
@@ -175,4 +199,10 @@ def annotations(report) -> list[str]:
         title = _escape_property(f"bomcheck {status} {rule_id}")
         out.append(f"::{command} file={bom},line={line},title={title}::"
                    f"{_escape_data(_text(message))}")
+    design = next((d for d in report.inputs if d.get("role") == "design"), None)
+    for d in report.design_unmatched if design is not None else ():
+        out.append(f"::warning file={_escape_property(_where(design.get('path') or ''))},"
+                   f"line={int(d.get('row') or 1)},"
+                   f"title={_escape_property('bomcheck nodata ' + UNMATCHED_RULE)}::"
+                   f"{_escape_data(_text(d.get('reason')))}")
     return out

@@ -58,9 +58,15 @@ def test_sarif_validates_against_the_oasis_schema_when_given(log):
 
 def test_every_result_names_the_bom_line_rule_and_source(log, report):
     run = log["runs"][0]
-    results = run["results"]
+    unmatched = [r for r in run["results"] if r["ruleId"] == "design.not_in_bom"]
+    results = [r for r in run["results"] if r["ruleId"] != "design.not_in_bom"]
     bad = report.verdicts[report.verdicts["status"] != "pass"]
     assert len(results) == len(bad)  # one result per verdict that is not a pass
+    # C99 is on row 17 of the sample design sheet and in no BOM line
+    (c99,) = unmatched
+    loc = c99["locations"][0]["physicalLocation"]
+    assert loc["artifactLocation"]["uri"] == "sample_boms/bw7-design.csv"
+    assert loc["region"]["startLine"] == 17
     rules = {r["id"]: r for r in run["tool"]["driver"]["rules"]}
     rows = dict(zip(report.table["refdes"], report.table["row"]))
     for r in results:
@@ -89,7 +95,8 @@ def test_results_are_worst_first(log):
 def test_annotations_one_line_per_problem_and_escaped(report):
     lines = annotations(report)
     v = report.verdicts
-    assert len(lines) == int(v["status"].isin(["fail", "warn", "nodata"]).sum())
+    assert len(lines) == int(v["status"].isin(["fail", "warn", "nodata"]).sum()) + len(
+        report.design_unmatched)
     assert sum(line.startswith("::error ") for line in lines) == int((v["status"] == "fail").sum())
     first = lines[0]
     assert first.startswith("::error file=sample_boms/bw7-controller-bom.csv,line=23,title=")
