@@ -347,3 +347,16 @@ def test_report_json_survives_an_infinite_metric(tmp_path):
     text = report.to_json()
     data = json.loads(text, parse_constant=lambda c: pytest.fail(c))
     assert data["placements"][0]["metrics"]["voltage_ratio"] is None
+
+
+def test_substitute_markdown_escapes_hostile_part_text(tmp_path, capsys, monkeypatch):
+    markdown_it = pytest.importorskip("markdown_it", reason="markdown-it-py (test extra)")
+    monkeypatch.chdir(tmp_path)
+    code = main(["substitute", "--original", "<script>x|y 100nF 16V X7R", "--proposed",
+                 "<!-- 100nF 25V X7R `a` <img src=x onerror=alert(1)>", "--v-dc", "5",
+                 "--t-ambient", "25", "--markdown", "-"])
+    assert code in (0, 1)
+    text = capsys.readouterr().out
+    html = markdown_it.MarkdownIt("commonmark").enable("table").render(text)
+    assert "<script" not in html and "<img" not in html and "<!--" not in html
+    assert "&lt;script&gt;x|y" in html  # one cell: the pipe did not split it
