@@ -109,6 +109,8 @@ box.addEventListener('input',apply);apply();});
 """
 
 STATUSES = ("fail", "nodata", "warn", "waived", "pass")
+# Passing verdicts listed in the page at most (every verdict that is not a pass is always listed).
+MAX_PASSING_ROWS = 5_000
 
 
 def _isnan(v) -> bool:
@@ -429,6 +431,10 @@ def _verdicts_section(report) -> list[str]:
         passed = passed.assign(_p=passed["pidx"].map(place)).sort_values(
             ["_p", "rule_id"], kind="stable")
         out.append(f"<h3>Passing verdicts ({len(passed)})</h3>")
+        if len(passed) > MAX_PASSING_ROWS:  # keep a large board's page light for a browser
+            out.append(f"<p>The first {MAX_PASSING_ROWS:,} are listed (worst placements "
+                       "first); the JSON report holds them all.</p>")
+            passed = passed.head(MAX_PASSING_ROWS)
         out.append(f'<p class="print-only">The {len(passed)} passing verdicts are listed in '
                    "the on-screen report and the JSON report; the printed record lists every "
                    "verdict that is not a pass.</p>")

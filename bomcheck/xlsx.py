@@ -871,11 +871,12 @@ def _number_width(values: list, kind: _Kind, header: str) -> float:
     number = fmt.split('"')[0]
     decimals = len(number.split(".")[1].rstrip("%")) if "." in number else 0
     suffix = len(kind.unit) + 1 if kind.unit else 0
+    x = pd.to_numeric(pd.Series(values, dtype=object), errors="coerce").astype(float)
+    x = x[np.isfinite(x.to_numpy())]
     longest = 0
-    for v in values:
-        if isinstance(v, (int, float)) and not isinstance(v, bool) and math.isfinite(v):
-            x = abs(v) * (100 if number.endswith("%") else 1)
-            longest = max(longest, len(f"{x:,.0f}") + (v < 0))
+    if len(x):  # the widest number: the largest magnitude, a sign if any is negative
+        biggest = float(x.abs().max()) * (100 if number.endswith("%") else 1)
+        longest = len(f"{biggest:,.0f}") + bool((x < 0).any())
     need = longest + (decimals + 1 if decimals else 0) + suffix + 2
     return float(min(40, max(10, need, min(len(header), 18))))
 
