@@ -392,7 +392,7 @@ class _Book:
         out = []
         for name in names:
             values = pd.to_numeric(frame[name], errors="coerce").astype(float) * scale.to_numpy()
-            out.append(_Column(name, _floats(values), styles, width=11))
+            out.append(_Column(name.replace("_", " "), _floats(values), styles, width=11))
         return out
 
     def _field(self, frame: pd.DataFrame, name: str) -> _Column:
@@ -537,13 +537,14 @@ class _Book:
         cols = [
             _Column("technology", _text(plotted["_tech"]) + pad, width=24),
             _Column("designator", _text(plotted["refdes"]) + pad, width=12),
-            _Column("t_operating_c", _floats(temps) + pad, "bc degC", width=14),
-            _Column("voltage_ratio", _floats(plotted["voltage_ratio"].astype(float)) + pad,
+            _Column(header_of("t_operating_c"), _floats(temps) + pad, "bc degC", width=14),
+            _Column(header_of("voltage_ratio"),
+                    _floats(plotted["voltage_ratio"].astype(float)) + pad,
                     "bc ratio", width=14),
             _Column("", [None] * rows, width=3),
             _Column("limit line", line_name, width=40),
-            _Column("t_operating_c", line_x, "bc degC", width=14),
-            _Column("voltage_ratio limit", line_y, "bc ratio", width=18),
+            _Column(header_of("t_operating_c"), line_x, "bc degC", width=14),
+            _Column("voltage ratio limit [%]", line_y, "bc ratio", width=18),
         ]
         data = self._table("Chart data", cols, rows, freeze="A2", auto_filter=False)
 
