@@ -56,7 +56,7 @@ th.sortable{cursor:pointer}th.sortable::after{content:" \\2195";color:#6b737b}
 th[aria-sort=ascending]::after{content:" \\2191"}th[aria-sort=descending]::after{content:" \\2193"}
 td.bomtext{font-size:.8em;color:#3b4148;min-width:9rem;max-width:14rem}
 td.expl{min-width:20rem}
-.chart{max-width:1000px}.chart text{font:11px sans-serif;fill:#1b1f24}
+.chart{max-width:1100px}.chart text{font:11px sans-serif;fill:#1b1f24}
 .chart .lbl{font-size:9px}.muted{color:#5b636b}.print-only{display:none}
 ul.cautions li{margin:.3rem 0}
 .signature{margin-top:2rem;break-inside:avoid}
@@ -202,8 +202,8 @@ def _signature() -> str:
 
 # ---- the chart -------------------------------------------------------------------------------
 
-_W, _H = 960, 460
-_LEFT, _RIGHT, _TOP, _BOTTOM = 64, 300, 30, 50
+_W, _H = 1060, 460
+_LEFT, _RIGHT, _TOP, _BOTTOM = 64, 400, 30, 50
 _TECH_COLOURS = ("#2f6690", "#b5651d", "#7a4e9c", "#3a7d44", "#8c6d1f", "#9e2a2b", "#d08c60",
                  "#1b998b", "#6c757d", "#4c5b8f", "#c44569", "#555555")
 _DASHES = ("", "6 3", "2 3", "10 4", "6 3 2 3", "3 3", "10 4 2 4")
@@ -265,7 +265,7 @@ def _svg_chart(points: pd.DataFrame, lines, title: str, *, chart_id: str,
                    f'stroke-width="1.5"{dash_attr}><title>{esc(name)}</title></polyline>')
         out.append(f'<line x1="{lx}" x2="{lx + 24}" y1="{legend_y}" y2="{legend_y}" '
                    f'stroke="#33373d" stroke-width="1.5"{dash_attr}/>'
-                   f'<text x="{lx + 30}" y="{legend_y + 4}">{esc(_short(name, 40))}</text>')
+                   f'<text x="{lx + 30}" y="{legend_y + 4}">{esc(_short(name, 62))}</text>')
         legend_y += 16
     techs = sorted(points["technology"].unique()) if len(points) else []
     colour = {tch: _TECH_COLOURS[i % len(_TECH_COLOURS)] for i, tch in enumerate(techs)}
@@ -285,9 +285,15 @@ def _svg_chart(points: pd.DataFrame, lines, title: str, *, chart_id: str,
                    f'<title>{esc(refdes)}: {ratio:.1%} at {temp:g} °C ({esc(tch)}, '
                    f'{esc(status)})</title></circle>')
         spots.setdefault((round(cx), round(cy)), []).append(str(refdes))
-    for (cx, cy), names in spots.items():
+    placed: list[tuple[float, float]] = []
+    for (cx, cy), names in sorted(spots.items(), key=lambda kv: (kv[0][0], kv[0][1])):
         label = names[0] if len(names) == 1 else f"{names[0]} +{len(names) - 1}"
-        out.append(f'<text class="lbl" x="{cx + 6}" y="{cy - 5}">{esc(label)}</text>')
+        ly = cy - 5
+        # Move a label down past the labels already placed that it would overlap.
+        while any(abs(px_ - cx) < 48 and abs(py_ - ly) < 10 for px_, py_ in placed):
+            ly += 10
+        placed.append((cx, ly))
+        out.append(f'<text class="lbl" x="{cx + 6}" y="{ly}">{esc(label)}</text>')
     out.append(f'</svg><figcaption>{esc(title)}</figcaption></figure>')
     return "".join(out)
 
