@@ -70,3 +70,15 @@ def test_two_outputs_on_stdout_are_refused(tmp_path, monkeypatch, capsys):
                  str(sample / "bw7-design.csv"), "--no-config", "--json", "-", "--annotations"])
     assert code == 2
     assert "only one report can go to standard output" in capsys.readouterr().err
+
+
+def test_piped_output_is_80_columns_wide(tmp_path, monkeypatch, capsys):
+    """Not a terminal (a pipe, a CI log): 80 columns, so the list layout, no line longer."""
+    monkeypatch.chdir(tmp_path)
+    monkeypatch.delenv("COLUMNS", raising=False)
+    sample = ROOT / "sample_boms"
+    main(["audit", str(sample / "bw7-controller-bom.csv"), "--design",
+          str(sample / "bw7-design.csv"), "--no-config"])
+    out = capsys.readouterr().out
+    assert max(len(line) for line in out.splitlines()) <= 80
+    assert out.startswith("Capacitor derating audit (worst first)\nFAIL C43 row 23")
