@@ -4,6 +4,7 @@ checked with real parsers; atomic writes, stale temporary files, the output lock
 from __future__ import annotations
 
 import csv
+import html
 import io
 import json
 import os
@@ -14,6 +15,8 @@ import zipfile
 from pathlib import Path
 
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from bomcheck.cli import main
 from bomcheck.outfiles import atomic_path, clean_stale, write_text
@@ -360,3 +363,46 @@ def test_substitute_markdown_escapes_hostile_part_text(tmp_path, capsys, monkeyp
     html = markdown_it.MarkdownIt("commonmark").enable("table").render(text)
     assert "<script" not in html and "<img" not in html and "<!--" not in html
     assert "&lt;script&gt;x|y" in html  # one cell: the pipe did not split it
+
+
+# ---- properties over any text (hypothesis) ---------------------------------------------------
+
+ANY_TEXT = st.text(alphabet=st.characters(codec=None, min_codepoint=0, max_codepoint=0x10FFFF),
+                   max_size=60)
+NASTY = st.text(alphabet=st.sampled_from(list("<>&|\\`*_[]!#-=+@;,\t\r\n\"' x1.:")
+                                         + ["\ufffe", "\uffff", "\x00", "\x1b", "\ud800"]),
+                max_size=40)
+
+
+@settings(max_examples=300, deadline=None)
+@given(st.one_of(ANY_TEXT, NASTY))
+def test_xml_text_always_parses(text):
+    safe = xml_text(text)
+    root = ET.fromstring(f"<a b=\"{html_escape(safe)}\">{html_escape(safe)}</a>".encode(
+        "utf-8", "surrogatepass"))
+    assert root.tag == "a"
+
+
+@settings(max_examples=300, deadline=None)
+@given(st.one_of(ANY_TEXT, NASTY))
+def test_csv_field_is_one_field_and_never_a_formula(text):
+    line = csv_field(text) + ",end\r\n"
+    (row,) = list(csv.reader(io.StringIO(line, newline="")))
+    assert len(row) == 2 and row[1] == "end"
+    for delimiter in (",", ";", "\t"):
+        for field in next(csv.reader(io.StringIO(line, newline=""), delimiter=delimiter)):
+            assert not field.lstrip(" ").startswith(("=", "+", "-", "@")), (delimiter, field)
+
+
+@settings(max_examples=200, deadline=None)
+@given(st.one_of(ANY_TEXT, NASTY))
+def test_md_text_is_one_cell_of_literal_text(text):
+    markdown_it = pytest.importorskip("markdown_it", reason="markdown-it-py (test extra)")
+    md = markdown_it.MarkdownIt("commonmark").enable("table")
+    html = md.render(f"| a | b |\n|---|---|\n| {md_text(text)} | end |\n")
+    assert html.count("<td>") == 2 and "<td>end</td>" in html
+    assert "<script" not in html and "<!--" not in html and "<img" not in html
+
+
+def html_escape(text: str) -> str:
+    return html.escape(text, quote=True)
