@@ -406,3 +406,25 @@ def test_md_text_is_one_cell_of_literal_text(text):
 
 def html_escape(text: str) -> str:
     return html.escape(text, quote=True)
+
+
+def test_concurrent_runs_leave_one_runs_set_of_outputs(tmp_path):
+    """Two audits writing the same outputs at once: the JSON and the CSV on disk afterwards
+    come from the same run (the output lock makes each run write its set whole)."""
+    sample = Path(__file__).resolve().parents[1] / "sample_boms"
+    small = tmp_path / "small.csv"
+    small.write_text(HEADER + "C1,1,100nF 16V X7R,x,y,Yes\n", encoding="utf-8")
+    (tmp_path / "design.csv").write_text(DESIGN + "C1,5,55,none\n", encoding="utf-8")
+    runs = [(str(sample / "bw7-controller-bom.csv"), str(sample / "bw7-design.csv")),
+            (str(small), str(tmp_path / "design.csv"))]
+    for _ in range(2):
+        procs = [subprocess.Popen([sys.executable, "-m", "bomcheck", "audit", bom, "--design",
+                                   design, "--no-config", "--quiet", "--json", "out.json",
+                                   "--csv", "out.csv", "--xlsx", "out.xlsx"],
+                                  cwd=tmp_path, stdout=subprocess.DEVNULL)
+                 for bom, design in runs]
+        assert all(p.wait(timeout=120) in (0, 1) for p in procs)
+        data = json.loads((tmp_path / "out.json").read_text(encoding="utf-8"))
+        rows = (tmp_path / "out.csv").read_bytes().count(b"\r\n") - 1
+        assert rows == len(data["placements"])  # the CSV belongs to the JSON's run
+        assert not [p for p in tmp_path.iterdir() if ".bomcheck-" in p.name]
