@@ -3,7 +3,7 @@
 - A report is written to a temporary file in the target's own folder, named
   ``.<target>.bomcheck-<pid>-<random>.tmp`` so that it is recognisably ours, flushed and fsynced,
   then renamed over the target (``os.replace``, atomic on one file system) and the folder entry
-  fsynced. Any exit before the rename (an error, Ctrl-C) removes it; after a SIGKILL the next run
+  fsynced. Any exit before the rename (an error, Ctrl-C, SIGTERM) removes it; after a SIGKILL the next run
   writing the same target removes the leftovers of processes that no longer exist.
 - openpyxl's write-only sheets stream through temporary files of their own; while a workbook is
   written they go to a private folder beside the target (``.<target>.bomcheck-<pid>-<random>.d``),
@@ -24,6 +24,7 @@ import os
 import re
 import secrets
 import shutil
+import signal
 import sys
 import tempfile
 import threading
@@ -170,9 +171,36 @@ def _has_surrogate(text: str) -> bool:
     return any("\ud800" <= ch <= "\udfff" for ch in text) if not text.isascii() else False
 
 
+def _terminate(signum, frame):  # pragma: no cover - exercised by a signal
+    raise SystemExit(128 + signum)
+
+
+@contextmanager
+def _cleanup_on_sigterm():
+    """While outputs are written, SIGTERM exits through Python's unwinding, so the temporary
+    files are removed (the default action would end the process on the spot)."""
+    try:
+        previous = signal.signal(signal.SIGTERM, _terminate)
+    except (ValueError, AttributeError):  # not the main thread, or no SIGTERM
+        yield
+        return
+    try:
+        yield
+    finally:
+        signal.signal(signal.SIGTERM, previous)
+
+
 @contextmanager
 def output_lock(paths: Iterable[str]):
-    """Hold an advisory lock on every folder receiving one of ``paths`` (module docstring)."""
+    """Hold an advisory lock on every folder receiving one of ``paths`` (module docstring);
+    meanwhile a SIGTERM still removes the temporary files."""
+    with _cleanup_on_sigterm():
+        with _locked(paths):
+            yield
+
+
+@contextmanager
+def _locked(paths: Iterable[str]):
     folders = sorted({os.path.abspath(os.path.dirname(os.path.abspath(p)))
                       for p in paths if p != "-"})
     if fcntl is None or not folders:

@@ -428,3 +428,26 @@ def test_concurrent_runs_leave_one_runs_set_of_outputs(tmp_path):
         rows = (tmp_path / "out.csv").read_bytes().count(b"\r\n") - 1
         assert rows == len(data["placements"])  # the CSV belongs to the JSON's run
         assert not [p for p in tmp_path.iterdir() if ".bomcheck-" in p.name]
+
+
+def test_sigterm_during_a_write_leaves_no_temporary_file(tmp_path):
+    import signal
+    import time
+
+    lines = "".join(f"C{i},1,100nF 50V X7R 0402,x,y,Yes\n" for i in range(1, 4001))
+    (tmp_path / "bom.csv").write_text(HEADER + lines, encoding="utf-8")
+    (tmp_path / "design.csv").write_text(DESIGN, encoding="utf-8")
+    proc = subprocess.Popen([sys.executable, "-m", "bomcheck", "audit", "bom.csv", "--design",
+                             "design.csv", "--no-config", "--quiet", "--xlsx", "out.xlsx"],
+                            cwd=tmp_path, stdout=subprocess.DEVNULL, stderr=subprocess.PIPE)
+    deadline = time.monotonic() + 60
+    while time.monotonic() < deadline and proc.poll() is None:
+        if any(".bomcheck-" in p.name for p in tmp_path.iterdir()):
+            break
+        time.sleep(0.02)
+    if proc.poll() is not None:
+        pytest.fail("the workbook was written before a temporary file was seen")
+    proc.send_signal(signal.SIGTERM)
+    assert proc.wait(timeout=60) == 128 + signal.SIGTERM
+    assert not (tmp_path / "out.xlsx").exists()
+    assert not [p.name for p in tmp_path.iterdir() if ".bomcheck-" in p.name]
