@@ -15,11 +15,10 @@ fail_on         ``fail``, ``warn``, ``nodata`` or ``new`` (``--fail-on``)
 warn_as         ``failure``, ``skipped`` or ``pass`` (``--warn-as``, JUnit)
 waivers         waiver file (``--waivers``)
 baseline        previous JSON report to compare with (``--baseline``)
-json, junit,    the path of each output of ``bomcheck audit`` (``--json``, ``--junit``...):
-markdown, csv,  one key per output of the registry ``bomcheck.outputs.OUTPUTS``, which also
-xlsx, html,     makes the options
-sarif
-annotations     true or false (a flag output of the registry, ``--annotations``)
+*output name*   one key per output of the registry ``bomcheck.outputs.OUTPUTS`` (which also makes
+                the options of ``bomcheck audit``): the output's path for a file output
+                (``json = "build/report.json"``, like ``--json``), true or false for a flag
+                output (``annotations = true``, like ``--annotations``)
 ==============  ===============================================================================
 
 Relative paths are taken relative to the directory of the ``pyproject.toml`` (so the audit gives
