@@ -119,3 +119,20 @@ def test_sarif_uri_keeps_bytes_of_a_non_utf8_name():
     name = os.fsdecode(b"bom r\xe9v.csv")
     assert sarif._uri(name) == "bom%20r%E9v.csv"  # RFC 3986 percent-encoding of the bytes
     assert sarif_log.__doc__
+
+
+def test_the_derived_schema_rejects_what_sarif_does_not_allow(log):
+    import copy
+
+    schema = json.loads((DATA / "sarif-2.1.0-derived.schema.json").read_text(encoding="utf-8"))
+    validator = jsonschema.Draft7Validator(schema)
+    for path, bad in ((("runs", 0, "results", 0), {"severity": "high"}),     # not a SARIF key
+                      (("runs", 0, "results", 0), {"level": "fatal"}),       # not a level
+                      (("runs", 0, "results", 0, "locations", 0, "physicalLocation", "region"),
+                       {"startLine": 0})):                                   # lines start at 1
+        broken = copy.deepcopy(log)
+        node = broken
+        for key in path:
+            node = node[key]
+        node.update(bad)
+        assert not validator.is_valid(broken), bad
