@@ -292,3 +292,12 @@ def test_sample_markdown_renders_as_gfm_tables(sample):
     assert any("missing" in line for line in c4 if "| nodata |" in line)
     # cautions are a list, one item each
     assert html.count("<li>") >= len(sample.cautions)
+
+
+def test_junit_schema_rejects_skipped_on_testsuites():
+    xmlschema = pytest.importorskip("xmlschema", reason="xmlschema (test extra) validates XSD")
+    schema = xmlschema.XMLSchema(str(ROOT / "tests" / "data" / "junit-derived.xsd"))
+    text = junit_xml(tiny_report())
+    assert schema.is_valid(text)
+    # the output before the fix: <testsuites ... skipped="1">, refused by junit-10.xsd
+    assert not schema.is_valid(text.replace("<testsuites ", '<testsuites skipped="1" ', 1))
