@@ -59,6 +59,18 @@ def _add_import_options(p: argparse.ArgumentParser) -> None:
     _add_limit_options(p)
 
 
+def _add_outputs(p: argparse.ArgumentParser, command: str) -> None:
+    """One option per output of ``command`` in the registry (``bomcheck.outputs.OUTPUTS``)."""
+    from bomcheck.outputs import for_command
+
+    for output in for_command(command):
+        if output.kind == "flag":
+            p.add_argument(f"--{output.name}", action="store_true", default=None,
+                           help=output.help)
+        else:
+            p.add_argument(f"--{output.name}", metavar=output.metavar, help=output.help)
+
+
 def _iso_date(text: str):
     """An argparse type: YYYY-MM-DD to a date (a bad date is a usage error, exit status 2)."""
     import datetime
@@ -71,14 +83,9 @@ def _iso_date(text: str):
 
 def _add_audit_outputs(p: argparse.ArgumentParser) -> None:
     """Reports, waivers and the baseline of ``audit``; unset ones may come from pyproject.toml."""
-    p.add_argument("--junit", metavar="OUT.xml", help="write JUnit XML: one test case per fitted "
-                   "placement")
+    _add_outputs(p, "audit")
     p.add_argument("--warn-as", choices=("failure", "skipped", "pass"), default=None,
                    help="how a warning shows in the JUnit XML (default: failure)")
-    p.add_argument("--markdown", metavar="OUT", help="write a short Markdown summary (for a "
-                   "pull-request comment)")
-    p.add_argument("--csv", metavar="OUT", help="write one CSV row per fitted placement")
-    p.add_argument("--xlsx", metavar="OUT", help="write the reviewer's workbook (.xlsx)")
     p.add_argument("--waivers", metavar="FILE", help="approved deviations (TOML or CSV): "
                    "matching verdicts become 'waived'")
     p.add_argument("--today", metavar="YYYY-MM-DD", type=_iso_date, help="judge waiver expiry "
@@ -141,11 +148,7 @@ def _add_substitute(sub, common: argparse.ArgumentParser) -> None:
     p.add_argument("--temp-margin-drop", type=float, default=10.0, metavar="DEGC",
                    help="review when a temperature margin shrinks by more than this "
                    "(default: 10 degC)")
-    p.add_argument("--json", metavar="OUT", help="write the JSON result to OUT ('-' for "
-                   "stdout)")
-    p.add_argument("--markdown", metavar="OUT", help="write a Markdown summary ('-' for "
-                   "stdout)")
-    p.add_argument("--xlsx", metavar="OUT", help="write the Substitutes sheets (.xlsx)")
+    _add_outputs(p, "substitute")
     p.add_argument("--all", action="store_true", help="show every alternate and placement "
                    "in detail")
     _add_import_options(p)
@@ -210,7 +213,6 @@ def build_parser() -> argparse.ArgumentParser:
                    "(product, bom, design, parts, rules, waivers) on two worker processes: one "
                    "combined report, a summary row per board, exit status the worst board's")
     _add_audit_inputs(p)
-    p.add_argument("--json", metavar="OUT", help="write the JSON report to OUT ('-' for stdout)")
     p.add_argument("--fail-on", choices=("fail", "nodata", "warn", "new"), default=None,
                    help="lowest status that makes the exit status 1 (order: waived < warn < "
                    "nodata < fail; default: nodata, since no data never passes); 'new': only "

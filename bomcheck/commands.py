@@ -18,8 +18,8 @@ def _console(args: argparse.Namespace, *, stderr: bool = False):
     from bomcheck.render import make_console
 
     stream = sys.stderr if stderr else sys.stdout
-    # A pipe or a CI log has no width of its own; 132 columns keep the audit table readable.
-    width = None if stream.isatty() or os.environ.get("COLUMNS") else 132
+    # A terminal has its width (rich reads it, and COLUMNS); a pipe or a CI log gets 80.
+    width = None if stream.isatty() or os.environ.get("COLUMNS") else 80
     return make_console(file=stream, no_color=bool(os.environ.get("NO_COLOR")), width=width)
 
 
@@ -44,24 +44,11 @@ def _import_options(args: argparse.Namespace):
 
 
 def write_text_atomic(path: str, text) -> None:
-    """Write ``text`` (a string or an iterable of strings) to ``path`` through a temporary file
-    and a rename, so a failed run never leaves a half-written report ('-' is stdout)."""
-    pieces = [text] if isinstance(text, str) else text
-    if path == "-":
-        sys.stdout.writelines(pieces)
-        return
-    target = Path(path)
-    tmp = target.with_name(f".{target.name}.{os.getpid()}.tmp")
-    try:
-        with tmp.open("w", encoding="utf-8", newline="\n") as f:
-            f.writelines(pieces)
-        os.replace(tmp, target)
-    except OSError as exc:
-        tmp.unlink(missing_ok=True)
-        raise InputError(f"cannot write report: {exc.strerror}", path=path) from None
-    except BaseException:
-        tmp.unlink(missing_ok=True)
-        raise
+    """Write ``text`` (a string or an iterable of strings) to ``path`` atomically ('-' is
+    stdout); see ``bomcheck.outfiles``."""
+    from bomcheck.outfiles import write_text
+
+    write_text(path, text)
 
 
 def run_parse(args: argparse.Namespace) -> int:
@@ -69,7 +56,9 @@ def run_parse(args: argparse.Namespace) -> int:
 
     specs = [parse_value(t) for t in args.text]
     if args.json:
-        print(json.dumps([s.to_dict() for s in specs], ensure_ascii=False, indent=2))
+        from bomcheck.textsafe import json_dumps
+
+        print(json_dumps([s.to_dict() for s in specs], indent=2))
     else:
         from bomcheck.render import print_specs
 
@@ -98,7 +87,9 @@ def run_import(args: argparse.Namespace) -> int:
             "findings": [f.to_dict() for f in result.findings],
             "totals": result.totals,
         }
-        print(json.dumps(out, ensure_ascii=False, indent=2, allow_nan=False))
+        from bomcheck.textsafe import json_dumps
+
+        print(json_dumps(out, indent=2))
     else:
         from bomcheck.render import print_import
 
@@ -108,12 +99,14 @@ def run_import(args: argparse.Namespace) -> int:
 
 def run_audit(args: argparse.Namespace) -> int:
     from bomcheck.audit import AuditOptions, run_audit
+    from bomcheck.outfiles import output_lock
+    from bomcheck.outputs import OutputContext
     from bomcheck.report import status_at_least
 
     args = _with_config(args)
     if args.manifest is not None or args.bom is None:
         return _run_audit_manifest(args)
-    outputs = _audit_outputs(args)
+    outputs = _requested_outputs(args, "audit")
     baseline = _read_report_json(args.baseline, "baseline") if args.baseline else None
     if args.fail_on == "new" and baseline is None:
         raise InputError("--fail-on new compares with a baseline, and none was given",
@@ -133,18 +126,18 @@ def run_audit(args: argparse.Namespace) -> int:
             # Compared from the report's tables: the JSON report is only ever streamed.
             diff = compare(baseline, report_digest(report), old_label=args.baseline,
                            new_label=args.json or "this audit")
-        for kind, path in outputs:
-            stage(f"write {kind}: {path}")
-            _write_output(kind, path, report, args, diff)
-    if all(path != "-" for _, path in outputs):
-        from bomcheck.render import accounting_line, print_audit, print_diff
+        context = OutputContext(warn_as=args.warn_as, diff=diff, json_text=None)
+        with output_lock(path for _, path in outputs):
+            for output, path in outputs:
+                stage(f"write {output.name}: {path}")
+                output.load()(report, path, context)
+    # Annotations share standard output with the terminal summary (CI logs read both).
+    if all(path != "-" for o, path in outputs if o.kind == "file"):
+        from bomcheck.render import print_audit, print_diff, print_quiet
 
         console = _console(args)
         if args.quiet:
-            from bomcheck.render import verdict_line
-
-            console.print(verdict_line(report))
-            console.print(accounting_line(report.totals))
+            print_quiet(console, report)
             if diff is not None:
                 from bomcheck.diff import summary_line
 
@@ -175,10 +168,15 @@ def _run_audit_manifest(args: argparse.Namespace) -> int:
         raise InputError(f"{(per_board or ['--fail-on new'])[0]} is not available with "
                          "--manifest", path=args.manifest, expected="design, parts and "
                          "waivers per board in the manifest; outputs --json, --markdown, --csv")
-    outputs = _audit_outputs(args)
+    outputs = [(o.name, path) for o, path in _requested_outputs(args, "audit")]
+    unsupported = [name for name, _ in outputs if name not in batch.COMBINERS]
+    if unsupported:
+        raise InputError(f"--{unsupported[0]} is not available with --manifest",
+                         path=args.manifest, expected="outputs " + ", ".join(
+                             f"--{k}" for k in batch.COMBINERS))
     boards = batch.read_manifest(args.manifest)
     base = AuditOptions(rules=tuple(args.rules), import_options=_import_options(args),
-                        today=args.today)
+                        today=args.today, environment=args.environment)
     with batch.temporary_folder() as folder:
         results = batch.run_batch(boards, base, tuple(k for k, _ in outputs), folder)
         for kind, path in outputs:
@@ -237,8 +235,6 @@ def _print_uses(console, mpn: str, uses) -> None:
     console.print(table)
 
 
-# Outputs of ``audit`` in the order they are written.
-AUDIT_OUTPUTS = ("json", "junit", "markdown", "csv", "xlsx")
 # Above this many lines a BOM takes long enough to deserve a progress bar on a terminal.
 LARGE_BOM_LINES = 20_000
 LARGE_XLSX_BYTES = 2_000_000  # about as many rows of a typical BOM export
@@ -255,39 +251,30 @@ def _with_config(args: argparse.Namespace) -> argparse.Namespace:
     return args
 
 
-def _audit_outputs(args: argparse.Namespace) -> list[tuple[str, str]]:
-    """(kind, path) of each report asked for; at most one may go to standard output."""
-    outputs = [(kind, getattr(args, kind)) for kind in AUDIT_OUTPUTS if getattr(args, kind)]
-    to_stdout = [kind for kind, path in outputs if path == "-"]
+def _requested_outputs(args: argparse.Namespace, command: str) -> list:
+    """(Output, path) of each output asked for, in registry order; at most one may use
+    standard output (a flag output such as --annotations always does, as path '-')."""
+    from bomcheck.outputs import for_command
+
+    outputs = []
+    for output in for_command(command):
+        value = getattr(args, output.name, None)
+        if output.kind == "flag":
+            if value:
+                outputs.append((output, "-"))
+        elif value:
+            outputs.append((output, value))
+    to_stdout = [o for o, path in outputs if path == "-"]
     if len(to_stdout) > 1:
         raise InputError("only one report can go to standard output ('-')",
-                         text=", ".join(f"--{k} -" for k in to_stdout))
-    if "xlsx" in to_stdout:
-        raise InputError("the workbook cannot go to standard output", text="--xlsx -",
-                         expected="a file name such as audit.xlsx")
+                         text=", ".join(f"--{o.name}" + (" -" if o.kind == "file" else "")
+                                        for o in to_stdout))
+    for o in to_stdout:
+        if not o.stdout:
+            raise InputError(f"the {o.name} output cannot go to standard output",
+                             text=f"--{o.name} -", expected=f"a file name such as "
+                             f"{command}.{o.name}")
     return outputs
-
-
-def _write_output(kind: str, path: str, report, args: argparse.Namespace, diff) -> None:
-    """Render one report and write it atomically (the JSON report streamed in chunks)."""
-    if kind == "json":
-        write_text_atomic(path, report.iter_json())
-    elif kind == "xlsx":
-        try:
-            from bomcheck.xlsx import write_workbook
-        except ImportError as exc:
-            raise InputError(f"--xlsx is not available in this installation ({exc})") from None
-        write_workbook(report, path)
-    else:
-        from bomcheck import exports
-
-        if kind == "junit":
-            text = exports.junit_xml(report, warn_as=args.warn_as)
-        elif kind == "markdown":
-            text = exports.markdown_summary(report, diff=diff)
-        else:
-            text = exports.csv_rows(report)
-        write_text_atomic(path, text)
 
 
 def _large_bom(path: str) -> bool:
@@ -360,8 +347,9 @@ def run_diff(args: argparse.Namespace) -> int:
     new = _read_report_json(args.new, "new")
     diff = compare(old, new, old_label=args.old, new_label=args.new)
     if args.json:
-        write_text_atomic(args.json, json.dumps(diff.to_dict(), ensure_ascii=False, indent=2)
-                          + "\n")
+        from bomcheck.textsafe import json_dumps
+
+        write_text_atomic(args.json, json_dumps(diff.to_dict(), indent=2) + "\n")
     if args.markdown:
         write_text_atomic(args.markdown, diff_markdown(diff))
     if "-" not in (args.json, args.markdown):
@@ -426,13 +414,7 @@ def _substitute_request(args: argparse.Namespace):
 def run_substitute(args: argparse.Namespace) -> int:
     from bomcheck.substitute import SubstituteOptions, run_direct, run_substitute
 
-    outputs = [(kind, getattr(args, kind)) for kind in ("json", "markdown", "xlsx")
-               if getattr(args, kind)]
-    if sum(path == "-" for _, path in outputs) > 1:
-        raise InputError("only one output can go to standard output ('-')")
-    if args.xlsx == "-":
-        raise InputError("the workbook cannot go to standard output", text="--xlsx -",
-                         expected="a file name such as substitutes.xlsx")
+    outputs = _requested_outputs(args, "substitute")
     alternates, conditions = _substitute_request(args)
     options = SubstituteOptions(
         rules=tuple(args.rules), import_options=_import_options(args),
@@ -448,20 +430,13 @@ def run_substitute(args: argparse.Namespace) -> int:
     else:
         result = run_substitute(args.bom, args.design, alternates, options,
                                 alternates_path=args.alternates)
-    for kind, path in outputs:
-        if kind == "json":
-            write_text_atomic(path, result.to_json())
-        elif kind == "markdown":
-            from bomcheck.substitute import substitute_markdown
+    from bomcheck.outfiles import output_lock
+    from bomcheck.outputs import OutputContext
 
-            write_text_atomic(path, substitute_markdown(result))
-        else:
-            try:
-                from bomcheck.xlsx_substitutes import write_substitute_workbook
-            except ImportError as exc:
-                raise InputError(f"--xlsx is not available in this installation ({exc})") \
-                    from None
-            write_substitute_workbook(result, path)
+    context = OutputContext(substitutes=result)
+    with output_lock(path for _, path in outputs):
+        for output, path in outputs:
+            output.load()(None, path, context)
     if all(path != "-" for _, path in outputs):
         from bomcheck.render import print_substitutes
 

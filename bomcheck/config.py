@@ -16,11 +16,10 @@ environment     ``severe`` (default) or ``benign`` (``--environment``)
 warn_as         ``failure``, ``skipped`` or ``pass`` (``--warn-as``, JUnit)
 waivers         waiver file (``--waivers``)
 baseline        previous JSON report to compare with (``--baseline``)
-json            JSON report path (``--json``)
-junit           JUnit XML path (``--junit``)
-markdown        Markdown summary path (``--markdown``)
-csv             CSV path (``--csv``)
-xlsx            spreadsheet path (``--xlsx``)
+*output name*   one key per output of the registry ``bomcheck.outputs.OUTPUTS`` (which also makes
+                the options of ``bomcheck audit``): the output's path for a file output
+                (``json = "build/report.json"``, like ``--json``), true or false for a flag
+                output (``annotations = true``, like ``--annotations``)
 ==============  ===============================================================================
 
 Relative paths are taken relative to the directory of the ``pyproject.toml`` (so the audit gives
@@ -45,17 +44,18 @@ from pathlib import Path
 from typing import Any
 
 from bomcheck.errors import InputError
+from bomcheck.outputs import file_outputs, flag_outputs
 
 CHOICES: dict[str, tuple[str, ...]] = {
     "fail_on": ("fail", "warn", "nodata", "new"),
     "environment": ("severe", "benign"),
     "warn_as": ("failure", "skipped", "pass"),
 }
-PATH_KEYS: tuple[str, ...] = ("design", "parts", "waivers", "baseline", "json", "junit", "markdown",
-                              "csv", "xlsx")
-KEYS: tuple[str, ...] = (*PATH_KEYS[:2], "design_sheet", "rules", "fail_on", "environment",
-                         "warn_as",
-                         *PATH_KEYS[2:])
+# Output keys come from the output registry: a new output needs no entry here.
+PATH_KEYS: tuple[str, ...] = ("design", "parts", "waivers", "baseline", *file_outputs())
+FLAG_KEYS: tuple[str, ...] = flag_outputs()
+KEYS: tuple[str, ...] = (*PATH_KEYS[:2], "design_sheet", "rules", "fail_on", "environment", "warn_as",
+                         *PATH_KEYS[2:], *FLAG_KEYS)
 
 
 @dataclass(frozen=True)
@@ -128,6 +128,12 @@ def load_config(start: str | Path | None = None) -> Config:
                                  column=column, text=repr(value))
             values[key] = [_hand_on(Path(i), root, cwd) if ("/" in i or i.endswith(".toml"))
                            else i for i in items]
+            continue
+        if key in FLAG_KEYS:
+            if not isinstance(value, bool):
+                raise InputError("value must be true or false", path=where, column=column,
+                                 text=repr(value))
+            values[key] = value
             continue
         if key == "design_sheet" and isinstance(value, int) and not isinstance(value, bool):
             values[key] = str(value)

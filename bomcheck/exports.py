@@ -21,22 +21,25 @@ the suite's ``<system-out>``.
 
 CSV (RFC 4180, CRLF line ends): one row per fitted placement (BOM order) with its governing
 verdict, status and explanation; ``waived`` lists the placement's waived verdicts (``rule (was
-status): reason``). Text cells that start with ``=``, ``+``, ``-``, ``@``, a tab or a carriage
-return get a leading single quote so that no spreadsheet runs them as a formula (the usual
-CSV-injection guard); numbers written by bomcheck itself are left as numbers.
+status): reason``). Text cells go through ``textsafe.csv_field``, the CSV-injection guard used
+by every writer: a cell that starts with ``=``, ``+``, ``-``, ``@``, a tab or a carriage return
+gets a leading single quote and is quoted, and a cell holding a separator followed by such a
+lead (``x;=1+1``) is quoted, so that no spreadsheet runs either as a formula whatever its list
+separator (OWASP, "CSV Injection"); numbers written by bomcheck itself are left as numbers.
+
+Markdown: every text from the inputs goes through ``textsafe.md_text`` (one escaping function
+for every Markdown writer); XML text through ``textsafe.xml_text``.
 """
 
 from __future__ import annotations
 
-import csv
-import io
 import math
-import re
 import xml.etree.ElementTree as ET
 from typing import Any
 
 import pandas as pd
 
+from bomcheck.textsafe import FORMULA_LEADS, csv_field, csv_line, md_text, xml_text
 from bomcheck.vocabulary import METRICS
 
 WARN_AS: tuple[str, ...] = ("failure", "skipped", "pass")
@@ -45,12 +48,9 @@ CSV_COLUMNS: tuple[str, ...] = (
     "technology", "capacitance_f", "voltage_v", "dielectric", "package", "text", "explanation",
     "source", "waived",
 )
-INJECTION_LEAD = ("=", "+", "-", "@", "\t", "\r")
+INJECTION_LEAD = FORMULA_LEADS
 # Worst first, as a reviewer reads the totals.
 _TOTALS_ORDER = ("fail", "nodata", "warn", "waived", "pass")
-# Characters XML 1.0 cannot carry at all (BOM cells occasionally hold them).
-_XML_ILLEGAL = re.compile("[\x00-\x08\x0b\x0c\x0e-\x1f\ufffe\uffff]")
-_MD_SPECIAL = re.compile(r"([\\`*_\[\]<>|])")
 
 
 # --------------------------------------------------------------------------------------------
@@ -98,8 +98,7 @@ def _governing(report) -> pd.DataFrame:
 # --------------------------------------------------------------------------------------------
 # JUnit XML.
 
-def _x(text: Any) -> str:
-    return _XML_ILLEGAL.sub("\ufffd", "" if text is None else str(text))
+_x = xml_text
 
 
 def junit_xml(report, *, warn_as: str = "failure") -> str:
@@ -133,7 +132,8 @@ def junit_xml(report, *, warn_as: str = "failure") -> str:
         cases.append(case)
     attrs = {"name": "bomcheck audit", "tests": str(len(cases)),
              **{k: str(n) for k, n in counts.items()}}
-    root = ET.Element("testsuites", attrs)
+    # <testsuites> has no "skipped" attribute in the widely used junit-10.xsd; the suite has.
+    root = ET.Element("testsuites", {k: v for k, v in attrs.items() if k != "skipped"})
     suite = ET.SubElement(root, "testsuite", attrs)
     props = ET.SubElement(suite, "properties")
     prop_items = [("bomcheck.version", report.tool_version), ("status", report.status),
@@ -155,19 +155,32 @@ def junit_xml(report, *, warn_as: str = "failure") -> str:
 # --------------------------------------------------------------------------------------------
 # Markdown.
 
-def _md(text: Any) -> str:
-    """Text safe in a Markdown table cell: special characters escaped, one line."""
-    return _MD_SPECIAL.sub(r"\\\1", " ".join(str(text).split()))
+_md = md_text
 
 
-def markdown_summary(report, *, limit: int = 20, diff=None) -> str:
-    """A short summary for a pull-request comment: totals by status, the worst placements that
-    do not pass (status, stress, limit, rule), waiver problems, the comparison with a baseline
-    (``diff``, a ``bomcheck.diff.Diff``) and the cautions on one line."""
+def _input_line(report) -> str:
+    """The BOM (and other inputs) by file name and SHA-256, for the head of a summary."""
+    parts = []
+    for d in report.inputs:
+        name = str(d.get("path") or "").replace("\\", "/").rsplit("/", 1)[-1]
+        digest = str(d.get("sha256") or "")
+        digest = f" (SHA-256 `{digest}`)" if digest.isalnum() else ""
+        parts.append(f"{_md(d.get('role'))} {_md(name)}{digest}")
+    return "; ".join(parts)
+
+
+def markdown_summary(report, *, limit: int = 50, diff=None) -> str:
+    """A summary for a pull-request comment: the BOM and its hash, totals by status, every
+    verdict that is not a pass (worst first, up to ``limit``) with its stress, limit, rule and
+    message, waiver problems, the comparison with a baseline (``diff``, a
+    ``bomcheck.diff.Diff``) and the cautions as a list."""
     t = report.table
     totals = report.totals
-    out = [f"## bomcheck audit: {report.status.upper()}", "",
-           "| status | placements |", "|:--|--:|"]
+    out = [f"## bomcheck audit: {report.status.upper()}", ""]
+    inputs = _input_line(report)
+    if inputs:
+        out += [f"Inputs: {inputs}.", ""]
+    out += ["| status | placements |", "|:--|--:|"]
     out += [f"| {s} | {int(totals.get(s, 0))} |" for s in _TOTALS_ORDER]
     out += [f"| **audited** | **{int(totals.get('audited', len(t)))}** |", ""]
     not_audited: dict[str, int] = {}
@@ -183,22 +196,28 @@ def markdown_summary(report, *, limit: int = 20, diff=None) -> str:
     if notes:
         out += [" ".join(notes), ""]
 
-    ordered = report.worst_first()
-    bad = ordered[ordered["status"] != "pass"]
+    bad = report.verdicts_worst_first()
+    if len(bad):  # designators and statuses as the placement table has them
+        status_of = t["status"].reindex(bad["pidx"].to_numpy()).to_numpy()
+        bad = bad.assign(refdes=t["refdes"].reindex(bad["pidx"].to_numpy()).to_numpy())
+        bad = bad[status_of != "pass"]
     if len(bad):
         shown = bad.head(limit)
-        more = f", the worst {len(shown)} shown" if len(bad) > len(shown) else ""
-        out += [f"### Placements not passing: {len(bad)}{more}", "",
-                "| refdes | status | stress | limit | rule |", "|:--|:--|--:|--:|:--|"]
-        gov = _governing(report)
-        for i, refdes, status in zip(shown.index, shown["refdes"], shown["status"]):
-            g = gov.loc[i] if i in gov.index else None
-            metric = None if g is None else g.get("metric")
+        placements = bad["pidx"].nunique()
+        more = (f", the worst {len(shown)} shown (all in the JSON report)"
+                if len(bad) > len(shown) else "")
+        metric_of = {} if report.rules is None else {r.id: r.metric for r in report.rules.rules}
+        out += [f"### Verdicts not passing: {len(bad)} on {placements} "
+                f"placement{'s' if placements != 1 else ''}{more}", "",
+                "| refdes | status | rule | stress | limit | message |",
+                "|:--|:--|:--|--:|--:|:--|"]
+        for refdes, status, rule, value, lim, message in zip(
+                shown["refdes"], shown["status"], shown["rule_id"], shown["value"],
+                shown["limit"], shown["message"]):
+            metric = metric_of.get(rule)
             out.append("| " + " | ".join([
-                _md(refdes), status,
-                "" if g is None else _md(format_metric(g.get("value"), metric)),
-                "" if g is None else _md(format_metric(g.get("limit"), metric)),
-                "" if g is None else _md(g["rule_id"]),
+                _md(refdes), _md(status), _md(rule), _md(format_metric(value, metric)),
+                _md(format_metric(lim, metric)), _md("" if _isnan(message) else message),
             ]) + " |")
         out.append("")
     else:
@@ -208,6 +227,7 @@ def markdown_summary(report, *, limit: int = 20, diff=None) -> str:
     if found:
         applied = sum(1 for f in found if f.code == "applied")
         out.append(f"**Waivers:** {applied} applied, {len(found) - applied} not applied.")
+        out.append("")
         out += [f"- {f.code.replace('_', ' ')}: {_md(f.message)}" for f in found[:limit]]
         if len(found) > limit:
             out.append(f"- ... {len(found) - limit} more in the JSON report")
@@ -217,7 +237,8 @@ def markdown_summary(report, *, limit: int = 20, diff=None) -> str:
 
         out += [diff_markdown(diff, limit=limit, level=3).rstrip("\n"), ""]
     rulesets = ", ".join(f"{_md(r['name'])} {_md(r.get('version'))}" for r in report.rulesets)
-    out += [f"Rule sets: {rulesets}.", "", "**Cautions:** " + _md(" ".join(report.cautions))]
+    out += [f"Rule sets: {rulesets}.", "", "### Cautions", ""]
+    out += [f"- {_md(c)}" for c in report.cautions]
     return "\n".join(out) + "\n"
 
 
@@ -225,11 +246,8 @@ def markdown_summary(report, *, limit: int = 20, diff=None) -> str:
 # CSV.
 
 def _cell(value: Any) -> str:
-    """A text cell with the CSV-injection guard: a leading quote before = + - @ tab CR."""
-    if _isnan(value):
-        return ""
-    text = str(value)
-    return "'" + text if text.startswith(INJECTION_LEAD) else text
+    """A text field with the CSV-injection guard (``textsafe.csv_field``)."""
+    return "" if _isnan(value) else csv_field(value)
 
 
 def _num(value: Any) -> str:
@@ -255,11 +273,7 @@ def csv_rows(report) -> str:
     units), the part's key fields, its BOM text and the explanation."""
     t = report.table
     gov = _governing(report)
-    buf = io.StringIO()
-    # RFC 4180 line ends: with CRLF as the terminator the writer also quotes a cell holding a
-    # bare CR, which a spreadsheet would otherwise take as a row break.
-    w = csv.writer(buf, lineterminator="\r\n")
-    w.writerow(CSV_COLUMNS)
+    out = [csv_line(CSV_COLUMNS)]
 
     def col(name: str) -> pd.Series:
         return t[name] if name in t.columns else pd.Series(None, index=t.index, dtype=object)
@@ -277,10 +291,10 @@ def csv_rows(report) -> str:
                        gcol("source")):
         (refdes, row, status, waived_from, rule, metric, value, limit, margin, tech, cap, volt,
          diel, package, text, message, source) = rec
-        w.writerow([
+        out.append(csv_line([
             _cell(refdes), "" if _isnan(row) else str(int(row)), _cell(status), _cell(waived_from),
             _cell(rule), _cell(metric), _num(value), _num(limit), _num(margin), _cell(tech),
             _num(cap), _num(volt), _cell(diel), _cell(package), _cell(text), _cell(message),
             _cell(source), _cell(waived.get(int(i), "")),
-        ])
-    return buf.getvalue()
+        ]))
+    return "".join(out)

@@ -29,6 +29,10 @@ THEME = Theme(
 )
 
 DEFAULT_ROWS = 50
+# Below this width the audit prints a short list per placement instead of the table, so that
+# no cell is squeezed and no word broken: the table's columns at their natural widths
+# ("aluminium-electrolytic", "bom.qty_mismatch", conditions) need about 130 columns.
+COMPACT_WIDTH = 130
 
 
 def make_console(*, file=None, no_color: bool = False, width: int | None = None) -> Console:
@@ -128,10 +132,9 @@ def _print_skipped(console: Console, skipped, limit: int = 20) -> None:
 
 
 def verdict_line(report) -> Text:
-    """``Overall: FAIL (severe environment) - fail 13  nodata 10  warn 6  waived 0  pass 34``."""
-    counts = "  ".join(f"{s} {report.totals.get(s, 0)}" for s in reversed(STATUS_ORDER))
+    """``Overall: FAIL (severe environment)``: the audit's status and the environment it used."""
     return Text.assemble("Overall: ", status_text(report.status),
-                         f" ({report.environment} environment) - placements: {counts}")
+                         f" ({report.environment} environment)")
 
 
 def accounting_line(totals: dict) -> str:
@@ -160,27 +163,48 @@ def _conditions(rec) -> str:
 
 
 def print_audit(console: Console, report, *, show_all: bool = False) -> None:
-    """The audit table worst first, the findings behind it, the totals by status, what was not
-    audited, and the cautions."""
+    """The audit worst first (a table, or below ``COMPACT_WIDTH`` columns a short list per
+    placement), the findings behind it, the totals by status, what was not audited, and the
+    cautions."""
     gov = report.governing()
     ordered = report.worst_first()
-    table = Table(title="Capacitor derating audit (worst first)", header_style="heading")
-    for col, just in (("refdes", "left"), ("row", "right"), ("value", "left"), ("technology", "left"),
-                      ("conditions", "left"), ("stress", "right"), ("limit", "right"),
-                      ("status", "left"), ("rule", "left")):
-        table.add_column(col, justify=just, overflow="fold")
     limit = len(ordered) if show_all else DEFAULT_ROWS
     shown = ordered.head(limit)
+    compact = console.width < COMPACT_WIDTH
+    rows = []
     for i, rec in zip(shown.index, shown.itertuples(index=False)):
         g = gov.loc[i] if i in gov.index else None
-        table.add_row(
-            rec.refdes, str(rec.row), _short_value(rec), rec.technology or "?",
-            _conditions(rec),
-            "" if g is None else _fmt_metric(g.get("value"), g.get("metric")),
-            "" if g is None else _fmt_metric(g.get("limit"), g.get("metric")),
-            status_text(rec.status), "" if g is None else str(g["rule_id"]),
-        )
-    console.print(table)
+        rows.append((rec, "" if g is None else _fmt_metric(g.get("value"), g.get("metric")),
+                     "" if g is None else _fmt_metric(g.get("limit"), g.get("metric")),
+                     "" if g is None else str(g["rule_id"])))
+    if compact:
+        console.print(Text("Capacitor derating audit (worst first)", style="heading"))
+        passing = 0
+        for rec, stress, lim, rule in rows:
+            if rec.status == "pass" and not show_all:
+                passing += 1
+                continue
+            figures = f": {stress or '-'} / {lim or '-'}" if stress or lim else ""
+            console.print(Text.assemble(status_text(rec.status),
+                                        f" {rec.refdes} row {rec.row} {rule}{figures}"))
+            part = " ".join(p for p in (_short_value(rec), rec.technology or "?") if p)
+            where = _conditions(rec)
+            console.print(f"    {part}" + (f"; {where}" if where else ""))
+        if passing:
+            console.print(f"[muted]{passing} of these placements pass (listed with --all)[/]")
+    else:
+        table = Table(title="Capacitor derating audit (worst first)", header_style="heading")
+        for col, just, nowrap in (
+                ("refdes", "left", True), ("row", "right", True), ("value", "left", False),
+                ("technology", "left", False), ("conditions", "left", False),
+                ("stress", "right", True), ("limit", "right", True), ("status", "left", True),
+                ("rule", "left", True)):
+            table.add_column(col, justify=just, no_wrap=nowrap, overflow="ellipsis"
+                             if nowrap else "fold")
+        for rec, stress, lim, rule in rows:
+            table.add_row(rec.refdes, str(rec.row), _short_value(rec), rec.technology or "?",
+                          _conditions(rec), stress, lim, status_text(rec.status), rule)
+        console.print(table)
     if len(ordered) > limit:
         console.print(f"[muted]... {len(ordered) - limit} more placements (use --all)[/]")
     print_findings(console, report, shown.index if not show_all else None)
@@ -188,10 +212,7 @@ def print_audit(console: Console, report, *, show_all: bool = False) -> None:
         console.print(Text.assemble(status_text("nodata"), f" {d['reason']}"))
     print_waiver_findings(console, report.waiver_findings)
     print_groups(console, getattr(report, "groups", ()))
-    t = report.totals
-    counts = "  ".join(f"[status.{s}]{s} {t.get(s, 0)}[/]"
-                       for s in ("fail", "nodata", "warn", "waived", "pass"))
-    console.print(f"[heading]Placements audited {t['audited']}:[/] {counts}")
+    print_counts(console, report)
     not_audited = report.not_audited()
     if not_audited:
         kinds: dict[str, int] = {}
@@ -199,27 +220,40 @@ def print_audit(console: Console, report, *, show_all: bool = False) -> None:
             kinds[d["kind"]] = kinds.get(d["kind"], 0) + 1
         console.print("Not audited: " + ", ".join(f"{k.replace('_', ' ')} {n}" for k, n in kinds.items())
                       + " (each with its reason in the JSON report; bomcheck import lists them)")
-    console.print(accounting_line(t))
+    console.print(accounting_line(report.totals))
     for w in report.input_warnings:
         console.print(Text.assemble(("warning ", "status.warn"), str(w)))
     console.print("Rule sets: " + ", ".join(f"{r['name']} {r['version']}" for r in report.rulesets)
                   + f"; environment: {report.environment}")
     for c in report.cautions:
         console.print(f"[caution]Caution: {c}[/]")
-    console.print(Text.assemble("Overall: ", status_text(report.status)))
+    console.print(verdict_line(report))
+
+
+def print_counts(console: Console, report) -> None:
+    """Placements audited and the count of each status, worst first."""
+    t = report.totals
+    counts = "  ".join(f"[status.{s}]{s} {t.get(s, 0)}[/]"
+                       for s in ("fail", "nodata", "warn", "waived", "pass"))
+    console.print(f"[heading]Placements audited {t.get('audited', len(report.table))}:[/] "
+                  f"{counts}")
+
+
+def print_quiet(console: Console, report) -> None:
+    """``--quiet``: the counts by status, the accounting line and the overall verdict."""
+    print_counts(console, report)
+    console.print(accounting_line(report.totals))
+    console.print(verdict_line(report))
 
 
 def print_findings(console: Console, report, placements=None, limit: int = 40) -> None:
     """Every verdict that is not a pass, one line each, worst first (only for ``placements``
     when given: the rows the table showed)."""
-    v = report.verdicts
-    v = v[v["status"] != "pass"]
-    if placements is not None:
+    v = report.verdicts_worst_first()
+    if placements is not None and len(v):
         v = v[v["pidx"].isin(placements)]
     if not len(v):
         return
-    rank = {"fail": 0, "nodata": 1, "warn": 2, "waived": 3}
-    v = v.assign(_r=v["status"].map(rank)).sort_values(["_r", "pidx", "rule_id"], kind="stable")
     console.print(Text("Findings", style="heading"))
     for status, message in zip(v["status"].head(limit), v["message"].head(limit)):
         console.print(Text.assemble("  ", status_text(status), " ", str(message)))
@@ -321,28 +355,46 @@ def print_groups(console: Console, groups) -> None:
     energy and discharge, and each series member's worst voltage share."""
     if not groups:
         return
+    if console.width < COMPACT_WIDTH:
+        console.print(Text("Banks and series stacks", style="heading"))
+        for g in groups:
+            need, discharge, shares = _group_cells(g)
+            console.print(f"{g['name']} ({g['kind']}): {', '.join(g['members'])}")
+            bits = [f"node {fmt_si(g.get('v_node_v'), 'V')}", f"C eq {fmt_si(g.get('c_eq_f'), 'F')}"]
+            bits += [f"C worst / need {need}"] if need else []
+            bits += [f"energy {fmt_num(g.get('energy_j'), '{:.3g}', ' J')}"]
+            bits += [f"discharge {discharge}"] if discharge else []
+            bits += [f"shares (capacitive / DC) {shares}"] if shares else []
+            console.print("    " + "; ".join(bits))
+        return
     table = Table(title="Banks and series stacks", header_style="heading")
     for col in ("group", "kind", "members", "node", "C eq", "C worst / need", "energy",
                 "discharge", "member shares (capacitive / DC)"):
         table.add_column(col, overflow="fold")
     for g in groups:
-        need = ""
-        if g.get("c_min_f"):
-            need = f"{fmt_si(g.get('c_worst_f'), 'F')} / {fmt_si(g['c_min_f'], 'F')}"
-            if g.get("c_margin") is not None:
-                need += f" = {g['c_margin']:.0%}"
-        discharge = ""
-        if g.get("discharge_s") is not None:
-            discharge = f"{g['discharge_s']:.3g} s via {fmt_si(g.get('r_discharge_ohm'), 'ohm')}"
-        shares = ", ".join(
-            f"{s['refdes']} {fmt_num(s.get('v_share_cap_v'), '{:.4g}')} / "
-            f"{fmt_num(s.get('v_share_dc_v'), '{:.4g}')} V" for s in g.get("shares") or ())
+        need, discharge, shares = _group_cells(g)
         table.add_row(
             g["name"], g["kind"], ", ".join(g["members"]), fmt_si(g.get("v_node_v"), "V"),
             fmt_si(g.get("c_eq_f"), "F"), need, fmt_num(g.get("energy_j"), "{:.3g}", " J"),
             discharge, shares,
         )
     console.print(table)
+
+
+def _group_cells(g: dict) -> tuple[str, str, str]:
+    """A group's need, discharge and member shares as text."""
+    need = ""
+    if g.get("c_min_f"):
+        need = f"{fmt_si(g.get('c_worst_f'), 'F')} / {fmt_si(g['c_min_f'], 'F')}"
+        if g.get("c_margin") is not None:
+            need += f" = {g['c_margin']:.0%}"
+    discharge = ""
+    if g.get("discharge_s") is not None:
+        discharge = f"{g['discharge_s']:.3g} s via {fmt_si(g.get('r_discharge_ohm'), 'ohm')}"
+    shares = ", ".join(
+        f"{s['refdes']} {fmt_num(s.get('v_share_cap_v'), '{:.4g}')} / "
+        f"{fmt_num(s.get('v_share_dc_v'), '{:.4g}')} V" for s in g.get("shares") or ())
+    return need, discharge, shares
 
 
 # Verdicts of the substitute check (bomcheck.substitute) shown with the audit's status styles.

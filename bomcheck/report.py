@@ -14,6 +14,7 @@ import numpy as np
 import pandas as pd
 
 from bomcheck.spec import SPEC_KEYS
+from bomcheck.textsafe import json_dumps
 from bomcheck.vocabulary import CONDITIONS, METRICS
 
 from bomcheck.status import RANK as _RANK
@@ -51,6 +52,28 @@ def ruleset_summary(ruleset) -> tuple[dict, ...]:
                 "path": None, "extends": None}]
     out[-1]["sources"] = sources
     return tuple(out)
+
+
+NATURAL_COLUMNS = ("_n_prefix", "_n_len", "_n_digits", "_n_rest")
+
+
+def natural_columns(refdes: pd.Series) -> pd.DataFrame:
+    """Sort columns putting designators in natural order (C7 < C10 < C10A), computed on the
+    whole column: letters before the first number, the number by length then digits, the rest
+    (``bomcheck.textsafe.natural_key`` is the same order for one string)."""
+    parts = refdes.fillna("").astype(str).str.casefold().str.extract(r"^(\D*)(\d*)(.*)$")
+    digits = parts[1].str.lstrip("0")
+    return pd.DataFrame({"_n_prefix": parts[0], "_n_len": digits.str.len(), "_n_digits": digits,
+                         "_n_rest": parts[2]}, index=refdes.index)
+
+
+def relative_margin(verdicts: pd.DataFrame) -> pd.Series:
+    """Margin / |limit| per verdict: unit-free, negative beyond the limit (NaN without both)."""
+    if "margin" not in verdicts or "limit" not in verdicts:
+        return pd.Series(np.nan, index=verdicts.index)
+    limit = pd.to_numeric(verdicts["limit"], errors="coerce").abs()
+    margin = pd.to_numeric(verdicts["margin"], errors="coerce")
+    return margin / limit.where(limit != 0)
 
 
 worst_status = worst  # kept for callers of the report module
@@ -93,26 +116,45 @@ class Report:
         return worst_status(statuses)
 
     def worst_first(self) -> pd.DataFrame:
-        """Placements ordered worst status first, then by the smallest margin, then refdes."""
+        """Placements ordered worst status first, then by the smallest relative margin of the
+        governing verdict (margin / |limit|, unit-free, so a 96 % voltage failure outranks a
+        4.5 s discharge margin), then in natural designator order (C7 before C10). Every
+        output lists placements in this one order."""
         t = self.table
-        rank = t["status"].map(_RANK)
-        margin = self.verdicts.groupby("pidx")["margin"].min() if len(self.verdicts) else None
-        key = pd.DataFrame({"rank": -rank, "margin": margin.reindex(t.index) if margin is not None
-                            else np.nan, "refdes": t["refdes"], "pos": np.arange(len(t))})
-        order = key.sort_values(["rank", "margin", "refdes", "pos"], na_position="first").index
+        gov = self.governing()
+        rel = (gov["rel_margin"].reindex(t.index) if len(gov) and "rel_margin" in gov
+               else pd.Series(np.nan, index=t.index))
+        key = natural_columns(t["refdes"]).assign(
+            _rank=-t["status"].map(_RANK).fillna(0).to_numpy(), rel_margin=rel.to_numpy(),
+            _pos=np.arange(len(t)))
+        order = key.sort_values(["_rank", "rel_margin", *NATURAL_COLUMNS, "_pos"],
+                                na_position="last", kind="stable").index
         return t.loc[order]
+
+    def verdicts_worst_first(self) -> pd.DataFrame:
+        """The verdicts that are not a pass, worst status first, then placements in
+        ``worst_first`` order, then rule id: the one order of every findings list."""
+        v = self.verdicts
+        if not len(v):
+            return v
+        v = v[v["status"] != "pass"]
+        place = pd.Series(np.arange(len(self.table)), index=self.worst_first().index,
+                          dtype=float)
+        key = v.assign(_rank=-v["status"].map(_RANK).fillna(0.5), _place=v["pidx"].map(place))
+        key = key.sort_values(["_rank", "_place", "rule_id"], kind="stable")
+        return key.drop(columns=["_rank", "_place"])
 
     def governing(self) -> pd.DataFrame:
         """Per placement (index = table index), the verdict that sets its status: the worst
-        status, and among equals the smallest margin relative to the limit."""
+        status, and among equals the smallest margin relative to the limit (column ``_rel``,
+        unit-free)."""
         v = self.verdicts
         if not len(v):
             return v
         rank = v["status"].map(_RANK)
-        rel = v["margin"] / v["limit"].abs().where(v["limit"] != 0) if "margin" in v else np.nan
-        key = v.assign(_rank=-rank, _rel=rel)
-        key = key.sort_values(["pidx", "_rank", "_rel"], na_position="last", kind="stable")
-        gov = key.drop_duplicates("pidx").set_index("pidx").drop(columns=["_rank", "_rel"])
+        key = v.assign(_rank=-rank, rel_margin=relative_margin(v))
+        key = key.sort_values(["pidx", "_rank", "rel_margin"], na_position="last", kind="stable")
+        gov = key.drop_duplicates("pidx").set_index("pidx").drop(columns=["_rank"])
         metric_of = {} if self.rules is None else {r.id: r.metric for r in self.rules.rules}
         return gov.assign(metric=gov["rule_id"].map(metric_of))
 
@@ -191,7 +233,8 @@ class Report:
 
 
 def _dumps(value) -> str:
-    return json.dumps(value, ensure_ascii=False, allow_nan=False, separators=(",", ":"))
+    """Compact strict JSON: a non-finite number anywhere is written as null."""
+    return json_dumps(value)
 
 
 def _block_codes(frame: pd.DataFrame) -> np.ndarray:

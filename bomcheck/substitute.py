@@ -1500,7 +1500,10 @@ def run_direct(original_text: str, alternates: Sequence[Alternate], design_path:
 # Markdown (for a pull-request comment on a BOM change request).
 
 def _md(text: str) -> str:
-    return str(text).replace("|", "\\|").replace("\n", " ")
+    """Input text as literal Markdown: the one escaping function of every Markdown writer."""
+    from bomcheck.textsafe import md_text
+
+    return md_text(text)
 
 
 def substitute_markdown(result: SubstituteResult) -> str:
@@ -1513,13 +1516,15 @@ def substitute_markdown(result: SubstituteResult) -> str:
              "|---|---|---|---|---|"]
     for r in result.results:
         lines.append(f"| {_md(r.alternate.original)} | {_md(r.alternate.label)} | "
-                     f"{_md(designator_list(r.refdes))} | {r.verdict} | {_md(r.summary)} |")
+                     f"{_md(designator_list(r.refdes))} | {_md(r.verdict)} | {_md(r.summary)} |")
     for r in result.results:
         if r.verdict == "drop-in" and not r.reasons:
             continue
         lines += ["", f"### {_md(r.alternate.label)} for {_md(r.alternate.original)}: "
                       f"{r.verdict}", ""]
         lines += [f"- {_md(i.sentence)}" for i in r.reasons]
-    rules = ", ".join(f"{s['name']} {s['version']}" for s in result.rulesets)
-    lines += ["", f"Rule sets: {rules}. {result.cautions[0]}", ""]
+    rules = ", ".join(f"{_md(s['name'])} {_md(s['version'])}" for s in result.rulesets)
+    lines += ["", f"Rule sets: {rules}.", "", "### Cautions", ""]
+    lines += [f"- {_md(c)}" for c in result.cautions]
+    lines.append("")
     return "\n".join(lines)

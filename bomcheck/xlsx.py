@@ -8,26 +8,27 @@ complete.
 
 from __future__ import annotations
 
+import math
 import os
-import secrets
 from collections.abc import Sequence
 from dataclasses import dataclass
 from datetime import datetime, timezone
-from pathlib import Path
 
 import numpy as np
 import pandas as pd
 from openpyxl import Workbook
-from openpyxl.cell.cell import ERROR_CODES, ILLEGAL_CHARACTERS_RE, WriteOnlyCell
+from openpyxl.cell.cell import ERROR_CODES, WriteOnlyCell
 from openpyxl.chart import Reference, ScatterChart, Series
 from openpyxl.chart.layout import Layout, ManualLayout
 from openpyxl.chart.marker import Marker
 from openpyxl.styles import Alignment, Border, Font, NamedStyle, PatternFill, Side
 from openpyxl.utils import get_column_letter
 
-from bomcheck.errors import InputError
+from bomcheck.chartdata import UNKNOWN_TECHNOLOGY, chart_points, limit_lines  # noqa: F401
+from bomcheck.outfiles import atomic_path
 from bomcheck.report import CONDITION_FIELDS, METRIC_FIELDS, SPEC_FIELDS, STATUS_ORDER
-from bomcheck.vocabulary import METRICS
+from bomcheck.textsafe import FORMULA_LEADS, starts_formula, xml_text
+from bomcheck.vocabulary import CONDITIONS, METRICS
 
 # Excel's sheet limit, header row included.
 MAX_ROWS = 1_048_576
@@ -36,7 +37,7 @@ MAX_CELL_CHARS = 32_767
 
 # A cell starting with one of these is a formula to Excel or to a CSV import; input text that
 # does is stored as a text cell with the Text number format.
-UNSAFE_START = ("=", "+", "-", "@", "\t", "\r")
+UNSAFE_START = FORMULA_LEADS
 
 # Status fills: lightness falls as severity rises, so the order survives greyscale printing and
 # red-green colour blindness. (fill, font colour, bold)
@@ -64,7 +65,6 @@ TECHNOLOGY_COLOURS: dict[str, str] = {
     "glass": "4C5B8F",
     "supercapacitor": "C44569",
 }
-UNKNOWN_TECHNOLOGY = "unknown technology"
 LIMIT_LINE_COLOUR = "33373D"
 LIMIT_DASHES = ("solid", "dash", "sysDot", "lgDash", "dashDot", "sysDash", "lgDashDot")
 
@@ -81,37 +81,115 @@ class _Kind:
     unit: str = ""  # shown in the header when the stored number is not in the SI unit
 
 
+# Number formats show a unit and a bounded number of decimals (a General format lets a long
+# float overflow a column, which spreadsheets then show as ###).
 _KINDS: dict[str, _Kind] = {
     "text": _Kind(None),
     "bool": _Kind(None),
     "int": _Kind(None),  # General shows whole numbers as they are: no style needed
-    "num": _Kind(None),
-    "V": _Kind('General" V"'),
-    "degC": _Kind('General" °C"'),
-    "uF": _Kind('General" uF"', 1e6, "uF"),
-    "pF": _Kind('General" pF"', 1e12, "pF"),
-    "ratio": _Kind("0.0#%"),  # a fraction shown as a percentage
-    "pct": _Kind("0.0#%", 0.01),  # a number of percent, stored as a fraction
-    "ppm": _Kind('General" ppm/°C"'),
-    "h": _Kind('#,##0" h"'),
+    "num": _Kind("0.0###"),
+    "V": _Kind('0.0##" V"', unit="V"),
+    "degC": _Kind('0.0#" °C"', unit="°C"),
+    "uF": _Kind('0.0#####" uF"', 1e6, "uF"),
+    "pF": _Kind('0.0##" pF"', 1e12, "pF"),
+    "ratio": _Kind("0.0#%", unit="%"),  # a fraction shown as a percentage
+    "pct": _Kind("0.0#%", 0.01, "%"),  # a number of percent, stored as a fraction
+    "ppm": _Kind('0" ppm/°C"', unit="ppm/°C"),
+    "h": _Kind('#,##0" h"', unit="h"),
+    "J": _Kind('0.0###" J"', unit="J"),
+    "s": _Kind('0.0##" s"', unit="s"),
+    "ohm": _Kind('#,##0.0##" ohm"', unit="ohm"),
+    "ohm/V": _Kind('#,##0.0##" ohm/V"', unit="ohm/V"),
+    "A": _Kind('0.0###" A"', unit="A"),
+    "mA": _Kind('0.0###" mA"', 1e3, "mA"),
+    "W": _Kind('0.0###" W"', unit="W"),
+    "uC": _Kind('0.0##" uC"', unit="uC"),
+    "Hz": _Kind('#,##0" Hz"', unit="Hz"),
+    "V/s": _Kind('#,##0" V/s"', unit="V/s"),
+    "degC/W": _Kind('0.0#" °C/W"', unit="°C/W"),
     "date": _Kind("yyyy-mm-dd hh:mm:ss"),
 }
+
+# Metric display units (vocabulary.METRICS) and condition units to column kinds.
+_UNIT_KINDS = {"V": "V", "degC": "degC", "delta_degC": "degC", "F": "uF", "J": "J", "s": "s",
+               "ohm": "ohm", "ohm/V": "ohm/V", "A": "A", "W": "W", "h": "h", "uC": "uC",
+               "Hz": "Hz", "V / s": "V/s", "%": "pct"}
 
 _FIELD_KINDS: dict[str, str] = {
     "row": "int", "qty": "num", "is_capacitor": "bool", "capacitance_f": "uF", "voltage_v": "V",
     "tol_minus_pct": "pct", "tol_plus_pct": "pct", "tol_abs_f": "pF", "dielectric_class": "int",
     "cap_change_minus_pct": "pct", "cap_change_plus_pct": "pct", "tc_ppm": "ppm",
     "tc_tol_ppm": "ppm", "temp_min_c": "degC", "temp_max_c": "degC", "emi_filter": "bool",
-    "polarized": "bool",
-    "v_dc": "V", "v_dc_max": "V", "v_tol_pct": "pct", "v_ripple_pk": "V", "v_transient_pk": "V",
-    "v_reverse_pk": "V", "v_ac_rms": "V", "t_ambient_c": "degC", "t_rise_c": "degC",
-    "c_min_f": "uF", "life_h": "h", "design_row": "int",
-    "v_upper_v": "V", "applied_peak_v": "V", "transient_peak_v": "V", "voltage_ratio": "ratio",
-    "transient_ratio": "ratio", "reverse_ratio": "ratio", "rated_voltage_v": "V",
-    "t_operating_c": "degC", "temp_max_used_c": "degC", "temp_margin_c": "degC",
-    "c_tol_factor": "ratio", "c_temp_factor": "ratio", "c_bias_factor": "ratio",
-    "c_aging_factor": "ratio", "c_worst_f": "uF", "c_margin": "ratio",
+    "polarized": "bool", "design_row": "int",
+    "v_upper_v": "V", "transient_peak_v": "V", "voltage_ratio": "ratio",
+    "transient_ratio": "ratio", "reverse_ratio": "ratio",
+    "temp_max_used_c": "degC", "c_tol_factor": "ratio", "c_temp_factor": "ratio",
+    "c_bias_factor": "ratio", "c_aging_factor": "ratio", "c_worst_f": "uF",
+    "esr_ohm": "ohm", "ripple_rated_a": "A", "ripple_rated_hz": "Hz", "surge_rated_a": "A",
+    "life_l0_h": "h", "life_t0_c": "degC", "leakage_a": "mA", "rth_c_per_w": "degC/W",
+    "dc_bias_keep": "ratio",
 }
+
+# Column headers a reviewer reads, where the registries' labels do not give one.
+_LABELS: dict[str, str] = {
+    "refdes": "designator", "mpn": "manufacturer part number", "text": "BOM text",
+    "qty": "quantity", "is_capacitor": "capacitor", "capacitance_f": "capacitance",
+    "voltage_v": "rated voltage", "voltage_kind": "rated voltage kind (dc/ac)",
+    "tol_minus_pct": "tolerance (minus)", "tol_plus_pct": "tolerance (plus)",
+    "tol_abs_f": "tolerance (absolute)", "dielectric_class": "dielectric class",
+    "cap_change_minus_pct": "capacitance change over temperature (minus)",
+    "cap_change_plus_pct": "capacitance change over temperature (plus)",
+    "tc_ppm": "temperature coefficient", "tc_tol_ppm": "temperature coefficient tolerance",
+    "film_material": "film material", "temp_min_c": "rated minimum temperature",
+    "temp_max_c": "rated maximum temperature", "package_note": "package note",
+    "safety_class": "safety class", "emi_filter": "EMI filter", "warnings": "parser warnings",
+    "unread": "unread text", "v_dc": "working voltage (v_dc)",
+    "v_dc_max": "rail upper bound (v_dc_max)", "v_tol_pct": "rail tolerance (v_tol_pct)",
+    "v_ripple_pk": "peak ripple (v_ripple_pk)", "v_transient_pk": "peak transient",
+    "v_reverse_pk": "peak reverse voltage", "v_ac_rms": "AC voltage rms",
+    "t_ambient_c": "ambient temperature", "t_rise_c": "self-heating", "c_min_f":
+    "required capacitance", "life_h": "required life", "r_balance_ohm": "balancing resistor",
+    "r_balance_tol_pct": "balancing resistor tolerance", "r_bleeder_ohm": "bleeder resistor",
+    "v_safe_v": "safe voltage", "t_discharge_max_s": "discharge time allowed",
+    "slew_v_per_s": "slew rate at switch-on", "r_source_ohm": "source resistance",
+    "i_ripple_a": "ripple current rms", "f_ripple_hz": "ripple frequency",
+    "group": "design group", "design_row": "design-sheet row",
+    "condition_source": "conditions from", "v_upper_v": "rail upper bound",
+    "transient_peak_v": "transient peak voltage", "transient_ratio": "transient ratio",
+    "voltage_ratio": "voltage ratio (applied peak / rated)",
+    "temp_max_used_c": "rated maximum temperature used", "c_tol_factor": "tolerance factor",
+    "c_temp_factor": "temperature factor", "c_bias_factor": "DC-bias factor",
+    "c_aging_factor": "aging factor", "esr_ohm": "ESR", "ripple_rated_a": "rated ripple current",
+    "ripple_rated_hz": "rated ripple frequency", "surge_rated_a": "rated surge current",
+    "life_l0_h": "rated life L0", "life_t0_c": "rated life temperature",
+    "leakage_a": "leakage current", "rth_c_per_w": "thermal resistance",
+    "dc_bias_keep": "DC-bias capacitance kept", "c_margin_note": "capacitance margin note",
+}
+
+
+def header_of(name: str) -> str:
+    """The column header of a spec, condition or metric column: a label a reviewer reads and
+    the unit of the numbers under it (``voltage ratio (applied peak / rated) [%]``)."""
+    label = _LABELS.get(name)
+    if label is None and name in METRICS:
+        label = METRICS[name].description.split(":")[0].split(" (")[0]
+    if label is None:
+        base = name[:-6] if name.endswith("_basis") else None
+        label = (f"{header_of(base).split(' [')[0]}: basis" if base
+                 else name.replace("_", " "))
+    unit = _KINDS[_kind_of(name)].unit
+    return f"{label} [{unit}]" if unit else label
+
+
+def _kind_of(name: str) -> str:
+    """The column kind of a named field ("text" when none is known)."""
+    kind = _FIELD_KINDS.get(name)
+    if kind is None and name in METRICS:
+        kind = _metric_kind(name)
+    if kind is None and name in CONDITIONS:
+        kind = _UNIT_KINDS.get(CONDITIONS[name][1])
+    return kind or "text"
+
 
 _TOTAL_LABELS: tuple[tuple[str, str], ...] = (
     ("rows_read", "rows read"),
@@ -135,25 +213,19 @@ def write_workbook(report, path: str | os.PathLike, *, generated: datetime | Non
     temporary file in the same folder and renamed into place; on any error the temporary file
     is deleted and an existing file at ``path`` is left as it was.
     """
-    target = Path(path)
-    tmp = target.with_name(f".{target.name}.{os.getpid()}.{secrets.token_hex(4)}.tmp")
     book = None
     try:
-        book = _Book(report, generated)
-        book.build().save(tmp)
-        os.replace(tmp, target)
-    except OSError as exc:
-        _discard(book, tmp)
-        raise InputError(f"cannot write workbook: {exc.strerror or exc}", path=str(path)) from None
+        with atomic_path(path, private_tempdir=True, what="workbook") as tmp:
+            book = _Book(report, generated)
+            book.build().save(tmp)
     except BaseException:
-        _discard(book, tmp)
+        _discard(book)
         raise
 
 
-def _discard(book: _Book | None, tmp: Path) -> None:
-    """After a failure: delete the temporary file and close the sheets' streams (openpyxl
-    removes their own temporary files at exit)."""
-    tmp.unlink(missing_ok=True)
+def _discard(book: _Book | None) -> None:
+    """After a failure: close the sheets' streams (their files go with the private temporary
+    folder of ``atomic_path``)."""
     if book is None:
         return
     for ws in book.wb.worksheets:
@@ -165,11 +237,11 @@ def _discard(book: _Book | None, tmp: Path) -> None:
 
 
 def safe_text(value: str) -> str:
-    """Input text as a cell can hold it: control characters XML forbids become U+FFFD and the
+    """Input text as a cell can hold it: characters XML 1.0 forbids become U+FFFD
+    (``textsafe.xml_text``, shared by every XML writer) and the
     text is cut to Excel's cell size. A leading ``=``, ``+``, ``-``, ``@``, tab or CR is kept
     (the writer stores such text as a text cell)."""
-    if ILLEGAL_CHARACTERS_RE.search(value):
-        value = ILLEGAL_CHARACTERS_RE.sub("\ufffd", value)
+    value = xml_text(value)
     if len(value) > MAX_CELL_CHARS:
         value = value[: MAX_CELL_CHARS - 1] + "…"
     return value
@@ -177,7 +249,7 @@ def safe_text(value: str) -> str:
 
 def is_unsafe(value: str) -> bool:
     """True when a spreadsheet would read ``value`` as a formula or an error code."""
-    return value.startswith(UNSAFE_START) or value in ERROR_CODES
+    return starts_formula(value) or value in ERROR_CODES
 
 
 @dataclass
@@ -220,7 +292,7 @@ class _Book:
         self.wb.add_named_style(NamedStyle(
             name="bc header", font=Font(bold=True), border=Border(bottom=rule),
             fill=PatternFill("solid", fgColor=HEADER_FILL),
-            alignment=Alignment(vertical="center"), number_format="@"))
+            alignment=Alignment(vertical="center", wrap_text=True), number_format="@"))
         self.wb.add_named_style(NamedStyle(name="bc title", font=Font(bold=True, size=14)))
         self.wb.add_named_style(NamedStyle(name="bc section", font=Font(bold=True, size=12)))
         self.wb.add_named_style(NamedStyle(name="bc wrap", alignment=Alignment(wrap_text=True,
@@ -286,17 +358,30 @@ class _Book:
               if "waived_from" in gov else []),
             _Column("governing rule", _text(gov["rule_id"])),
             *self._metric_columns(gov, metric, ("value", "limit", "margin")),
+            _Column("explanation", _text(gov["message"]), "bc wrap", width=60),
             _Column("BOM row", _numbers(ordered["row"], "int"), width=9),
         ]
         # The source text holds the parsed BOM cells (value, description...); the MPN is not
         # parsed but is how a reviewer finds the part.
         for name in ("mpn", "text"):
             if name in ordered:
-                cols.append(self._field(ordered, name))
-        for name in (*SPEC_FIELDS, *CONDITION_FIELDS, *METRIC_FIELDS):
+                col = self._field(ordered, name)
+                cols.append(_Column(col.header, col.values, "bc wrap", 36) if name == "text"
+                            else col)
+        printed = len(cols)  # the review columns; the spec and metric columns follow
+        # Every metric the JSON carries: the core ones, then each circuit metric computed.
+        names = [*SPEC_FIELDS, *CONDITION_FIELDS, *METRIC_FIELDS]
+        names += [m for m in METRICS if m in ordered and m not in names]
+        names += [c for c in ordered.columns if c.endswith("_basis") and c not in names]
+        for name in names:
             cols.append(self._field(ordered, name))
-        cols.append(_Column("explanation", _text(gov["message"]), width=90))
-        self._table("Placements", cols, len(ordered), freeze="C2")
+        # No column that is empty on every row (a spreadsheet of blank columns hides the rest).
+        keep = [i < printed or any(v is not None for v in c.values) for i, c in enumerate(cols)]
+        cols = [c for c, k in zip(cols, keep) if k]
+        self.notes.append("Placements prints its review columns (designator to BOM text); the "
+                          "specification, condition and metric columns after them are on the "
+                          "sheet, outside the print area.")
+        self._table("Placements", cols, len(ordered), freeze="C2", print_cols=printed)
 
     def _metric_columns(self, frame: pd.DataFrame, metric: pd.Series,
                         names: Sequence[str]) -> list[_Column]:
@@ -307,36 +392,33 @@ class _Book:
         out = []
         for name in names:
             values = pd.to_numeric(frame[name], errors="coerce").astype(float) * scale.to_numpy()
-            out.append(_Column(name, _floats(values), styles, width=11))
+            out.append(_Column(name.replace("_", " "), _floats(values), styles, width=11))
         return out
 
     def _field(self, frame: pd.DataFrame, name: str) -> _Column:
-        """A spec, condition or metric column by its vocabulary name."""
+        """A spec, condition or metric column by its vocabulary name, under its human header."""
         series = frame[name] if name in frame else pd.Series([None] * len(frame), index=frame.index)
-        kind_name = _FIELD_KINDS.get(name)
-        if kind_name is None:
-            kind_name = "num" if pd.api.types.is_numeric_dtype(series.dtype) and \
-                not pd.api.types.is_bool_dtype(series.dtype) else "text"
-        kind = _KINDS[kind_name]
-        header = f"{name} [{kind.unit}]" if kind.unit else name
+        kind_name = _kind_of(name)
+        if kind_name == "text" and name not in _LABELS and pd.api.types.is_numeric_dtype(
+                series.dtype) and not pd.api.types.is_bool_dtype(series.dtype):
+            kind_name = "num"
+        header = header_of(name)
         if kind_name == "text":
             return _Column(header, _text(series))
         if kind_name == "bool":
             return _Column(header, _bools(series), width=max(8, len(header) + 2))
+        kind = _KINDS[kind_name]
         style = f"bc {kind_name}" if kind.fmt else None
-        return _Column(header, _numbers(series, kind_name), style, width=max(10, len(header) + 2))
+        values = _numbers(series, kind_name)
+        return _Column(header, values, style, width=_number_width(values, kind, header))
 
     def _findings(self) -> None:
         r = self.report
         needed = ["pidx", "refdes", "rule_id", "status", "value", "limit", "warn_limit", "margin",
                   "message", "source", "basis"]
         waivers = "waived_from" in r.verdicts.columns
-        v = r.verdicts.reindex(columns=needed + (["waived_from"] if waivers else []))
-        v = v[v["status"] != "pass"]
-        place = pd.Series(np.arange(len(r.table)), index=r.worst_first().index, dtype=float)
-        rank = {s: i for i, s in enumerate(STATUS_ORDER)}
-        v = v.assign(_rank=-v["status"].map(rank).fillna(0.5), _place=v["pidx"].map(place))
-        v = v.sort_values(["_rank", "_place", "rule_id"], kind="stable")
+        v = r.verdicts_worst_first()  # the one findings order of every output
+        v = v.reindex(columns=needed + (["waived_from"] if waivers else []))
         v = v.iloc[:self._fit(len(v), "Findings")]
         metric_of = {} if r.rules is None else {x.id: x.metric for x in r.rules.rules}
         metric = v["rule_id"].map(metric_of)
@@ -351,8 +433,8 @@ class _Book:
             *self._metric_columns(v, metric, ("value", "limit", "warn_limit", "margin")),
             _Column("basis", _text(v["basis"])),
             _Column("BOM row", _numbers(rows, "int"), width=9),
-            _Column("message", _text(v["message"]), width=90),
-            _Column("source", _text(v["source"]), width=50),
+            _Column("message", _text(v["message"]), "bc wrap", width=60),
+            _Column("source", _text(v["source"]), "bc wrap", width=40),
         ]
         self._table("Findings", cols, len(v), freeze="B2")
 
@@ -425,19 +507,16 @@ class _Book:
     def _chart(self) -> None:
         """Voltage ratio against operating temperature: one marker series per technology and
         one line per distinct voltage-ratio fail limit of the rules in force."""
-        t = self.report.table
-        has = [c for c in ("voltage_ratio", "t_operating_c") if c in t]
-        if len(has) == 2:
-            plotted = self.report.worst_first()
-            plotted = plotted[plotted["voltage_ratio"].notna() & plotted["t_operating_c"].notna()]
-        else:
-            plotted = t.iloc[:0].assign(voltage_ratio=np.nan, t_operating_c=np.nan)
+        points = chart_points(self.report)
+        if len(points.ac):
+            self.notes.append(f"Voltage chart: {len(points.ac)} AC-rated placements "
+                              "(rated V AC) are not plotted: the chart's limit lines are DC "
+                              "derating limits, which do not apply to them.")
+        plotted = points.dc
         n = self._fit(len(plotted), "Chart data")
         plotted = plotted.iloc[:n]
-        tech = plotted["technology"].fillna(UNKNOWN_TECHNOLOGY) if "technology" in plotted \
-            else pd.Series(UNKNOWN_TECHNOLOGY, index=plotted.index)
-        plotted = plotted.assign(_tech=tech.astype(str)).sort_values(["_tech", "refdes"],
-                                                                      kind="stable")
+        plotted = plotted.assign(_tech=plotted["technology"]).sort_values(
+            ["_tech"], kind="stable")
         temps = plotted["t_operating_c"].astype(float)
         lines = limit_lines(self.report.rules, temps.min() if len(temps) else None,
                             temps.max() if len(temps) else None)
@@ -458,13 +537,14 @@ class _Book:
         cols = [
             _Column("technology", _text(plotted["_tech"]) + pad, width=24),
             _Column("designator", _text(plotted["refdes"]) + pad, width=12),
-            _Column("t_operating_c", _floats(temps) + pad, "bc degC", width=14),
-            _Column("voltage_ratio", _floats(plotted["voltage_ratio"].astype(float)) + pad,
+            _Column(header_of("t_operating_c"), _floats(temps) + pad, "bc degC", width=14),
+            _Column(header_of("voltage_ratio"),
+                    _floats(plotted["voltage_ratio"].astype(float)) + pad,
                     "bc ratio", width=14),
             _Column("", [None] * rows, width=3),
             _Column("limit line", line_name, width=40),
-            _Column("t_operating_c", line_x, "bc degC", width=14),
-            _Column("voltage_ratio limit", line_y, "bc ratio", width=18),
+            _Column(header_of("t_operating_c"), line_x, "bc degC", width=14),
+            _Column("voltage ratio limit [%]", line_y, "bc ratio", width=18),
         ]
         data = self._table("Chart data", cols, rows, freeze="A2", auto_filter=False)
 
@@ -479,11 +559,14 @@ class _Book:
             chart.x_axis.scaling.max = max(max(xs) for _, xs, _ in lines)
         chart.x_axis.delete = False
         chart.y_axis.delete = False
-        # The limit-line names are long: give the plot a fixed share of the sheet so the legend
-        # on the right cannot squeeze it.
-        chart.legend.position = "r"
+        # The limit-line names are long: the legend goes below the plot, which keeps the full
+        # width (a legend at the right squeezes the plot to a strip in some spreadsheets).
+        chart.legend.position = "b"
+        chart.x_axis.majorUnit = 10
+        chart.y_axis.majorUnit = 0.1
+        chart.x_axis.number_format = '0" °C"'
         chart.plot_area.layout = Layout(manualLayout=ManualLayout(
-            layoutTarget="inner", xMode="edge", yMode="edge", x=0.07, y=0.1, w=0.58, h=0.75))
+            layoutTarget="inner", xMode="edge", yMode="edge", x=0.08, y=0.08, w=0.88, h=0.55))
         groups = plotted.groupby("_tech", sort=True).indices if len(plotted) else {}
         for name, idx in groups.items():
             first, last = int(idx.min()) + 2, int(idx.max()) + 2
@@ -505,8 +588,19 @@ class _Book:
             s.graphicalProperties.line.width = 19050  # EMU: 1.5 pt
             s.smooth = False
             chart.series.append(s)
-        sheet = self.wb.create_chartsheet("Voltage chart", index=len(self.wb.sheetnames) - 1)
-        sheet.add_chart(chart)
+        # A normal worksheet with the chart anchored to its cells at a real size renders in
+        # every spreadsheet (a chartsheet's drawing may import as a 0 x 0 frame).
+        sheet = self.wb.create_sheet("Voltage chart", index=len(self.wb.sheetnames) - 1)
+        sheet.column_dimensions["A"].width = 140
+        _print_setup(sheet, "A1:A56", landscape=True, one_page=True)
+        sheet.append([self._put_on(sheet, "Voltage ratio against operating temperature, with "
+                                   "each voltage-ratio fail limit of the rules in force; the "
+                                   "points are on the Chart data sheet.", "bc section")])
+        if len(points.ac):
+            sheet.append([f"AC-rated placements ({len(points.ac)}) are not plotted: the limit "
+                          "lines are DC derating limits, which do not apply to them."])
+        chart.width, chart.height = 25.0, 24.0  # cm: room for the legend below the plot
+        sheet.add_chart(chart, "A4")
 
     # ---- summary ---------------------------------------------------------------------------
 
@@ -515,89 +609,106 @@ class _Book:
         for col, width in zip("ABCD", (34, 72, 68, 14)):
             ws.column_dimensions[col].width = width
         put = self._put
-        ws.append([put("bomcheck capacitor derating audit", "bc title")])
-        ws.append(["overall status", put(r.status, self.status_style(r.status))])
-        ws.append(["tool version", f"bomcheck {r.tool_version}"])
-        ws.append([self.generated_label, put(self.generated, "bc date")])
-        ws.append([])
+        rows = [0]
+        _print_setup(ws, "A1:D1", landscape=False)
 
-        ws.append([put("Rule sets", "bc section")])
-        ws.append(self._header_cells(("rule set", "title", "file", "version")))
+        def append(values) -> None:
+            rows[0] += 1
+            ws.append(values)
+        append([put("bomcheck capacitor derating audit", "bc title")])
+        append(["overall status", put(r.status, self.status_style(r.status))])
+        append(["tool version", f"bomcheck {r.tool_version}"])
+        append([self.generated_label, put(self.generated, "bc date")])
+        append([])
+
+        append([put("Rule sets", "bc section")])
+        append(self._header_cells(("rule set", "title", "file", "version")))
         for d in r.rulesets:
             extends = f" (extends {d['extends']})" if d.get("extends") else ""
-            ws.append([put(d.get("name")), put(f"{d.get('title') or ''}{extends}"),
+            append([put(d.get("name")), put(f"{d.get('title') or ''}{extends}"),
                        put(d.get("path")), put(d.get("version"))])
         sources = r.rulesets[-1].get("sources", []) if r.rulesets else []
-        ws.append([])
-        ws.append([put("Sources of the rules", "bc section")])
-        ws.append(self._header_cells(("source", "title", "clause", "confidence")))
+        append([])
+        append([put("Sources of the rules", "bc section")])
+        append(self._header_cells(("source", "title", "clause", "confidence")))
         for s in sources:
-            ws.append([put(s.get("id")), put(s.get("title")), put(s.get("clause")),
+            append([put(s.get("id")), put(s.get("title")), put(s.get("clause")),
                        put(s.get("confidence"))])
-        ws.append([])
-        ws.append([put("Inputs", "bc section")])
-        ws.append(self._header_cells(("input", "path", "SHA-256")))
+        append([])
+        append([put("Inputs", "bc section")])
+        append(self._header_cells(("input", "path", "SHA-256")))
         for d in r.inputs:
-            ws.append([put(d.get("role")), put(d.get("path")), put(d.get("sha256"))])
+            append([put(d.get("role")), put(d.get("path")), put(d.get("sha256"))])
 
         t = r.totals
-        ws.append([])
-        ws.append([put("Placements by status (worst first)", "bc section")])
-        ws.append(self._header_cells(("status", "placements")))
+        append([])
+        append([put("Placements by status (worst first)", "bc section")])
+        append(self._header_cells(("status", "placements")))
         statuses = [s for s in reversed(STATUS_ORDER)]
         statuses += sorted(k for k in STATUS_PALETTE if k in t and k not in statuses)
         for s in statuses:
-            ws.append([put(s, self.status_style(s)), put(int(t.get(s, 0)), "bc count")])
-        ws.append(["placements audited", put(int(t.get("audited", len(r.table))), "bc count")])
+            append([put(s, self.status_style(s)), put(int(t.get(s, 0)), "bc count")])
+        append(["placements audited", put(int(t.get("audited", len(r.table))), "bc count")])
 
-        ws.append([])
-        ws.append([put("Where every row went", "bc section")])
+        append([])
+        append([put("Where every row went", "bc section")])
         labels = dict(_TOTAL_LABELS)
         keys = [k for k, _ in _TOTAL_LABELS if k in t]
         keys += [k for k in t if k not in labels and k not in STATUS_PALETTE and k not in keys]
         for k in keys:
-            ws.append([labels.get(k, k.replace("_", " ")), put(int(t[k]), "bc count")])
+            append([labels.get(k, k.replace("_", " ")), put(int(t[k]), "bc count")])
         for identity in _identities(t):
-            ws.append(identity)
+            append(identity)
         not_audited = len(r.not_audited()) + len(r.design_unmatched)
-        ws.append(["Not audited sheet rows", put(not_audited, "bc count"),
+        append(["Not audited sheet rows", put(not_audited, "bc count"),
                    "not-fitted placements + non-capacitor rows + unreadable rows + design rows "
                    "not in the BOM"])
 
         waivers = [f.to_dict() for f in getattr(r, "waiver_findings", ())]
         if waivers:
-            ws.append([])
-            ws.append([put("Waivers", "bc section")])
-            ws.append(self._header_cells(("waiver", "what became of it", "approved by / expires",
+            append([])
+            append([put("Waivers", "bc section")])
+            append(self._header_cells(("waiver", "what became of it", "approved by / expires",
                                           "file row")))
             for d in waivers:
-                ws.append([put(f"{d.get('code')}: {d.get('refdes')} {d.get('rule')}"),
+                append([put(f"{d.get('code')}: {d.get('refdes')} {d.get('rule')}"),
                            put(d.get("message")),
                            put(f"{d.get('approved_by') or ''} / {d.get('expires') or ''}"),
                            d.get("row")])
 
         if self.notes:
-            ws.append([])
-            ws.append([put("Notes", "bc section")])
+            append([])
+            append([put("Notes", "bc section")])
             for note in self.notes:
-                ws.append(["note", put(note, "bc wrap")])
-        ws.append([])
-        ws.append([put("Cautions", "bc section")])
+                lines = math.ceil(len(note) * 1.1 / ws.column_dimensions["B"].width)
+                ws.row_dimensions[rows[0] + 1].height = 15 * max(1, lines) + 3
+                append(["note", put(note, "bc wrap")])
+        append([])
+        append([put("Cautions", "bc section")])
         for i, caution in enumerate(r.cautions, 1):
-            ws.append([f"caution {i}", put(caution, "bc wrap")])
+            # Wrapped text needs its row height: about 1.1 characters of the column per
+            # character of Calibri 11, 15 points a line.
+            lines = math.ceil(len(caution) * 1.1 / ws.column_dimensions["B"].width)
+            ws.row_dimensions[rows[0] + 1].height = 15 * max(1, lines) + 3
+            append([f"caution {i}", put(caution, "bc wrap")])
+        ws.print_area = f"A1:D{rows[0]}"
 
     # ---- writing ---------------------------------------------------------------------------
 
     def _put(self, value, style: str | None = None):
         """A Summary value: text made safe (a formula-like text becomes a text cell), with a
         named style when given."""
+        return self._put_on(self.wb["Summary"], value, style)
+
+    def _put_on(self, ws, value, style: str | None = None):
+        """``_put`` for a cell of sheet ``ws``."""
         if isinstance(value, str):
             value = safe_text(value)
             if style is None and is_unsafe(value):
                 style = "bc text"
         if style is None or value is None:
             return value
-        cell = WriteOnlyCell(self.wb["Summary"], value)
+        cell = WriteOnlyCell(ws, value)
         cell.style = style
         if isinstance(value, str):
             cell.data_type = "s"
@@ -607,14 +718,31 @@ class _Book:
         return [self._put(h, "bc header") for h in headers]
 
     def _table(self, title: str, cols: list[_Column], n: int, *, freeze: str,
-               auto_filter: bool = True):
-        """A sheet of ``n`` rows under a frozen, filtered header row."""
+               auto_filter: bool = True, print_cols: int | None = None):
+        """A sheet of ``n`` rows under a frozen, filtered header row; it prints landscape, one
+        page wide, its first ``print_cols`` columns (default: all). Rows whose wrapped text
+        (columns styled ``bc wrap``) needs more than one line get the height for it."""
         ws = self.wb.create_sheet(title)
-        for i, col in enumerate(cols, 1):
-            ws.column_dimensions[get_column_letter(i)].width = col.width or _width(col)
+        widths = [col.width or _width(col) for col in cols]
+        for i, width in enumerate(widths, 1):
+            ws.column_dimensions[get_column_letter(i)].width = width
         ws.freeze_panes = freeze
+        last = get_column_letter(max(1, len(cols)))
         if auto_filter and cols:
-            ws.auto_filter.ref = f"A1:{get_column_letter(len(cols))}{n + 1}"
+            ws.auto_filter.ref = f"A1:{last}{n + 1}"
+        # Headers wrap within their column: as many lines as the longest needs.
+        lines = max((math.ceil(len(c.header) / max(1.0, w - 1)) for c, w in zip(cols, widths)),
+                    default=1)
+        ws.row_dimensions[1].height = 15 * min(lines, 5) + 2
+        printed = get_column_letter(max(1, min(len(cols), print_cols or len(cols))))
+        _print_setup(ws, f"A1:{printed}{n + 1}", landscape=True, title_rows="1:1")
+        wrapped = [(c.values, w) for c, w in zip(cols, widths) if c.style == "bc wrap"]
+        if wrapped:
+            for i in range(n):
+                need = max((len(v) * 1.1 / w for values, w in wrapped
+                            if isinstance(v := values[i], str)), default=0)
+                if need > 1:
+                    ws.row_dimensions[i + 2].height = 15 * min(8, math.ceil(need)) + 2
         header = []
         for col in cols:
             cell = WriteOnlyCell(ws, col.header)
@@ -642,7 +770,7 @@ class _Book:
                     row.append(None)
                     continue
                 style = per_row[i] if per_row is not None else fixed
-                if type(v) is str and (v.startswith(UNSAFE_START) or v in ERROR_CODES):
+                if type(v) is str and (starts_formula(v) or v in ERROR_CODES):
                     cell = template(j, style or "bc text")
                     cell.value = v
                     cell.data_type = "s"
@@ -657,63 +785,6 @@ class _Book:
         return ws
 
 
-# ---- limit lines ---------------------------------------------------------------------------
-
-def limit_lines(ruleset, t_min: float | None, t_max: float | None
-                ) -> list[tuple[str, list[float], list[float]]]:
-    """The distinct voltage-ratio fail limits of the enabled rules as polylines over operating
-    temperature: (name, temperatures, ratios). Constants are flat lines over the temperature
-    range of the placements (widened to show every curve point); curves over ``t_operating_c``
-    follow their points, steps drawn as steps. Rules drawing the same line share it, named by
-    their ids."""
-    if ruleset is None:
-        return []
-    rules = [r for r in ruleset.rules if r.enabled and r.metric == "voltage_ratio"
-             and (not r.fail.is_curve or r.fail.over == "t_operating_c")]
-    knots = [x for r in rules for x in r.fail.xs]
-    lo_vals = [v for v in (t_min, *knots) if v is not None and v == v]
-    hi_vals = [v for v in (t_max, *knots) if v is not None and v == v]
-    lo, hi = (min(lo_vals), max(hi_vals)) if lo_vals else (25.0, 125.0)
-    pad = max(5.0, 0.05 * (hi - lo))
-    lo, hi = lo - pad, hi + pad
-    shapes: dict[tuple, list[str]] = {}
-    for r in rules:
-        xs, ys = _polyline(r.fail, lo, hi)
-        key = (tuple(round(x, 9) for x in xs), tuple(round(y, 9) for y in ys))
-        shapes.setdefault(key, []).append(r.id)
-    out = []
-    advisory = {r.id for r in rules if r.severity != "fail"}
-    for (xs, ys), ids in shapes.items():
-        fail = next(r.fail for r in rules if r.id == ids[0])
-        label = fail.text("voltage_ratio") if not fail.is_curve else "curve"
-        named = ", ".join(f"{i} (advisory)" if i in advisory else i for i in ids)
-        out.append((f"limit {label}: {named}", list(xs), list(ys)))
-    return out
-
-
-def _polyline(limit, lo: float, hi: float) -> tuple[list[float], list[float]]:
-    """Points drawing ``limit`` from ``lo`` to ``hi`` degC."""
-    if not limit.is_curve:
-        return [lo, hi], [float(limit.value)] * 2
-    xs, ys = list(limit.xs), list(limit.ys)
-    if limit.step:
-        # Each point's value holds up to and including its x; the next value starts after it.
-        px, py = [lo], [ys[0]]
-        for i, x in enumerate(xs):
-            px.append(x)
-            py.append(ys[i])
-            if i + 1 < len(xs):
-                px.append(x)
-                py.append(ys[i + 1])
-        px.append(hi)
-        py.append(ys[-1])
-        return px, py
-    inner = [x for x in xs if lo < x < hi]
-    px = [lo, *inner, hi]
-    py = limit.at(np.asarray(px, dtype=float), len(px)).tolist()
-    return px, py
-
-
 # ---- values for cells ----------------------------------------------------------------------
 
 def _metric_kind(metric) -> str | None:
@@ -723,7 +794,7 @@ def _metric_kind(metric) -> str | None:
         return None
     if m.percent:
         return "ratio"
-    return {"V": "V", "degC": "degC", "F": "uF"}.get(m.unit, "num")
+    return _UNIT_KINDS.get(m.unit, "num")
 
 
 def _text(series) -> list:
@@ -776,6 +847,39 @@ def _numbers(series: pd.Series, kind: str) -> list:
 def _bools(series: pd.Series) -> list:
     return [v if isinstance(v, bool) else (bool(v) if isinstance(v, np.bool_) else None)
             for v in series.astype(object).tolist()]
+
+
+def _print_setup(ws, area: str, *, landscape: bool, title_rows: str | None = None,
+                 one_page: bool = False) -> None:
+    """Page setup for a printed record: A4, orientation, fit to one page wide (as many pages
+    tall as needed, or one page), the header row repeated on every page, the print area.
+    Called before the sheet's first row: a write-only sheet writes its properties first."""
+    ws.page_setup.orientation = "landscape" if landscape else "portrait"
+    ws.page_setup.paperSize = "9"  # A4 (ECMA-376 paper size code 9)
+    ws.page_setup.fitToWidth = 1
+    ws.page_setup.fitToHeight = 1 if one_page else 0
+    ws.sheet_properties.pageSetUpPr.fitToPage = True
+    ws.print_options.gridLines = False
+    if title_rows:
+        ws.print_title_rows = title_rows
+    ws.print_area = area
+
+
+def _number_width(values: list, kind: _Kind, header: str) -> float:
+    """A column width (characters) that shows every number in ``kind``'s format in full: its
+    integer digits with thousands separators, the format's decimals and its unit."""
+    fmt = kind.fmt or ""
+    number = fmt.split('"')[0]
+    decimals = len(number.split(".")[1].rstrip("%")) if "." in number else 0
+    suffix = len(kind.unit) + 1 if kind.unit else 0
+    x = pd.to_numeric(pd.Series(values, dtype=object), errors="coerce").astype(float)
+    x = x[np.isfinite(x.to_numpy())]
+    longest = 0
+    if len(x):  # the widest number: the largest magnitude, a sign if any is negative
+        biggest = float(x.abs().max()) * (100 if number.endswith("%") else 1)
+        longest = len(f"{biggest:,.0f}") + bool((x < 0).any())
+    need = longest + (decimals + 1 if decimals else 0) + suffix + 2
+    return float(min(40, max(10, need, min(len(header), 18))))
 
 
 def _width(col: _Column) -> float:

@@ -12,17 +12,15 @@ openpyxl is imported inside the functions, so importing this module costs nothin
 from __future__ import annotations
 
 import os
-import secrets
-from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
-from bomcheck.errors import InputError
+from bomcheck.outfiles import atomic_path
+from bomcheck.textsafe import starts_formula, xml_text
 
 if TYPE_CHECKING:
     from openpyxl import Workbook
 
 SHEETS = ("Substitutes", "Substitute placements", "Substitute verdicts")
-UNSAFE_START = ("=", "+", "-", "@", "\t", "\r")
 MAX_CELL_CHARS = 32_767
 # Fills by verdict and status: lightness falls as severity rises (readable in greyscale).
 FILLS: dict[str, tuple[str, str, bool]] = {
@@ -51,9 +49,7 @@ class _Styles:
 
 
 def _text_value(value: str) -> str:
-    from openpyxl.cell.cell import ILLEGAL_CHARACTERS_RE
-
-    value = ILLEGAL_CHARACTERS_RE.sub("\ufffd", value)
+    value = xml_text(value)
     if len(value) > MAX_CELL_CHARS:
         value = value[: MAX_CELL_CHARS - 1] + "\u2026"
     return value
@@ -68,7 +64,7 @@ def _cell(ws, value: Any, styles: _Styles, *, kind: str = "", number_format: str
         value = None
     cell = WriteOnlyCell(ws, _text_value(value) if isinstance(value, str) else value)
     if isinstance(value, str):
-        if value.startswith(UNSAFE_START) or value in ERROR_CODES:
+        if starts_formula(value) or value in ERROR_CODES:
             cell.data_type = "s"
             cell.number_format = "@"
         cell.alignment = styles.wrap if kind == "wrap" else styles.top
@@ -185,16 +181,7 @@ def write_substitute_workbook(result, path: str | os.PathLike) -> None:
     removed and an existing file at ``path`` is left as it was."""
     from openpyxl import Workbook
 
-    target = Path(path)
-    tmp = target.with_name(f".{target.name}.{os.getpid()}.{secrets.token_hex(4)}.tmp")
-    try:
+    with atomic_path(path, private_tempdir=True, what="workbook") as tmp:
         wb = Workbook(write_only=True)
         write_substitutes_sheet(wb, result)
         wb.save(tmp)
-        os.replace(tmp, target)
-    except OSError as exc:
-        tmp.unlink(missing_ok=True)
-        raise InputError(f"cannot write workbook: {exc.strerror or exc}", path=str(path)) from None
-    except BaseException:
-        tmp.unlink(missing_ok=True)
-        raise

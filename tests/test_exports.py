@@ -91,7 +91,9 @@ def test_junit_counts_match_the_report(warn_as, failures, skipped):
         assert node.get("tests") == str(len(report.table))
         assert node.get("failures") == str(failures)
         assert node.get("errors") == "1"  # nodata is an error: the check could not run
-        assert node.get("skipped") == str(skipped)
+    assert suite.get("skipped") == str(skipped)
+    # junit-10.xsd (Jenkins xunit) allows no "skipped" attribute on <testsuites>
+    assert root.get("skipped") is None
 
 
 def test_junit_carries_explanations_classnames_and_waiver_reason():
@@ -143,6 +145,8 @@ def test_junit_is_deterministic():
 EXPECTED_MARKDOWN = """\
 ## bomcheck audit: FAIL
 
+Inputs: bom bom.csv (SHA-256 `0000000000000000000000000000000000000000000000000000000000000000`).
+
 | status | placements |
 |:--|--:|
 | fail | 1 |
@@ -154,20 +158,24 @@ EXPECTED_MARKDOWN = """\
 
 Not audited: not fitted 1, not capacitor 1. Design-sheet rows not in the BOM: C9 (row 8).
 
-### Placements not passing: 4, the worst 3 shown
+### Verdicts not passing: 4 on 4 placements, the worst 3 shown (all in the JSON report)
 
-| refdes | status | stress | limit | rule |
-|:--|:--|--:|--:|:--|
-| C2 | fail | 80 % | 70 % | R-V |
-| C4 | nodata |  | 50 % | R-V |
-| C3 | warn | 65 % | 70 % | R-V |
+| refdes | status | rule | stress | limit | message |
+|:--|:--|:--|--:|--:|:--|
+| C2 | fail | R-V | 80 % | 70 % | C2: ratio 80 % \\> 70 % limit |
+| C4 | nodata | R-V |  | 50 % | C4: no data: missing applied voltage |
+| C3 | warn | R-V | 65 % | 70 % | C3: ratio 65 % \\> 60 % warn limit |
 
 **Waivers:** 0 applied, 1 not applied.
+
 - expired: waiver 2 (C2 R-V) expired on 2026-01-31; its verdicts stand
 
 Rule sets: tiny 1.
 
-**Cautions:** Check it by hand. Mind the charge.
+### Cautions
+
+- Check it by hand.
+- Mind the charge.
 """
 
 
@@ -185,6 +193,7 @@ def test_markdown_escapes_table_breaking_text():
 def test_markdown_when_everything_passes():
     report = tiny_report()
     report.table["status"] = "pass"
+    report.verdicts["status"] = "pass"
     out = markdown_summary(report)
     assert "Every one of the 5 audited placements passes." in out
     assert "### Placements" not in out
@@ -201,18 +210,18 @@ EXPECTED_CSV = (
     "C2,3,fail,,R-V,voltage_ratio,0.8,0.7,-0.1,ceramic,1e-07,16,X7R,0603,"
     "\"'=HYPERLINK(\"\"http://example.invalid\"\")\",C2: ratio 80 % > 70 % limit,S1,\r\n"
     "C3,3,warn,,R-V,voltage_ratio,0.65,0.7,0.05,ceramic,1e-07,16,X7R,0603,"
-    "'+1+1,C3: ratio 65 % > 60 % warn limit,S1,\r\n"
+    "\"'+1+1\",C3: ratio 65 % > 60 % warn limit,S1,\r\n"
     "C4,4,nodata,,R-V,voltage_ratio,,0.5,,tantalum,2.2e-05,,,C,"
-    "'@SUM(A1:A2),C4: no data: missing applied voltage,S1,\r\n"
+    "\"'@SUM(A1:A2)\",C4: no data: missing applied voltage,S1,\r\n"
     "C5,5,waived,fail,R-V,voltage_ratio,0.9,0.7,-0.2,,,25,,,"
     "KV-0603-104-C5 | CAP CER 100NF 50V X7R,"
-    "C5: ratio 90 % > 70 % limit; waived (was fail) by R. Okafor until 2027-06-30: test report "
-    "TR-9,S1,R-V (was fail): test report TR-9\r\n"
+    "\"C5: ratio 90 % > 70 % limit; waived (was fail) by R. Okafor until 2027-06-30: test report "
+    "TR-9\",S1,R-V (was fail): test report TR-9\r\n"
 )
 
 
 def test_csv_is_exact_and_guards_formula_cells():
-    # CSV injection: cells led by = + - @ tab CR are prefixed with a quote (OWASP practice).
+    # CSV injection: cells led by = + - @ tab CR are prefixed with a quote and quoted (OWASP).
     report = tiny_report({"C2": '=HYPERLINK("http://example.invalid")', "C3": "+1+1",
                           "C4": "@SUM(A1:A2)"})
     assert csv_rows(report) == EXPECTED_CSV
@@ -242,3 +251,53 @@ def test_csv_keeps_negative_numbers_numeric():
 ])
 def test_format_metric(value, metric, text):
     assert format_metric(value, metric) == text
+
+
+# --------------------------------------------------------------------------------------------
+# The sample board's outputs opened by their consumers' parsers
+
+ROOT = __import__("pathlib").Path(__file__).resolve().parents[1]
+
+
+@pytest.fixture(scope="module")
+def sample():
+    from bomcheck.audit import run_audit
+
+    return run_audit(str(ROOT / "sample_boms" / "bw7-controller-bom.csv"),
+                     str(ROOT / "sample_boms" / "bw7-design.csv"))
+
+
+@pytest.mark.parametrize("warn_as", ["failure", "skipped", "pass"])
+def test_junit_validates_against_the_junit_schema(sample, warn_as):
+    xmlschema = pytest.importorskip("xmlschema", reason="xmlschema (test extra) validates XSD")
+    # tests/data/junit-derived.xsd: derived from the structure of the Jenkins xunit
+    # junit-10.xsd (see its header); the tiny report has every status, the sample board a FAIL
+    schema = xmlschema.XMLSchema(str(ROOT / "tests" / "data" / "junit-derived.xsd"))
+    for report in (tiny_report({"C2": "\ufffe<x>"}), sample):
+        schema.validate(junit_xml(report, warn_as=warn_as))
+
+
+def test_sample_markdown_renders_as_gfm_tables(sample):
+    markdown_it = pytest.importorskip("markdown_it", reason="markdown-it-py (test extra)")
+    text = markdown_summary(sample)
+    html = markdown_it.MarkdownIt("commonmark").enable("table").render(text)
+    assert html.count("<table>") == 2  # totals, and the verdicts not passing
+    assert "bw7-controller-bom.csv" in text and sample.inputs[0]["sha256"] in text
+    # every non-passing verdict, not one per placement: C4 has a FAIL and nodata verdicts
+    bad = sample.verdicts[sample.verdicts["status"] != "pass"]
+    assert f"Verdicts not passing: {len(bad)} on {bad['pidx'].nunique()} placements" in text
+    c4 = [line for line in text.splitlines() if line.startswith("| C4 |")]
+    assert any("| fail |" in line for line in c4) and any("| nodata |" in line for line in c4)
+    # the nodata rows say what is missing
+    assert any("missing" in line for line in c4 if "| nodata |" in line)
+    # cautions are a list, one item each
+    assert html.count("<li>") >= len(sample.cautions)
+
+
+def test_junit_schema_rejects_skipped_on_testsuites():
+    xmlschema = pytest.importorskip("xmlschema", reason="xmlschema (test extra) validates XSD")
+    schema = xmlschema.XMLSchema(str(ROOT / "tests" / "data" / "junit-derived.xsd"))
+    text = junit_xml(tiny_report())
+    assert schema.is_valid(text)
+    # the output before the fix: <testsuites ... skipped="1">, refused by junit-10.xsd
+    assert not schema.is_valid(text.replace("<testsuites ", '<testsuites skipped="1" ', 1))

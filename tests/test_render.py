@@ -34,7 +34,7 @@ def test_audit_table_worst_first_with_findings_totals_and_cautions(sample_text):
     assert "rows read 65 = capacitor rows 37 + non-capacitor rows 28 + unreadable rows 0" in sample_text
     assert "Caution: Stored energy and high voltage can injure or kill" in sample_text
     assert "IEC 60204-1" in sample_text  # the discharge caution cites its clause
-    assert sample_text.rstrip().endswith("Overall: FAIL")
+    assert sample_text.rstrip().endswith("Overall: FAIL (severe environment)")
 
 
 def test_groups_table_shows_the_series_share(sample_text):
@@ -55,3 +55,26 @@ def test_specs_table():
 ])
 def test_fmt_si(value, unit, expected):
     assert fmt_si(value, unit) == expected
+
+
+def test_compact_layout_at_80_columns_breaks_no_word():
+    from bomcheck.render import print_quiet
+
+    report = run_audit(str(ROOT / "sample_boms" / "bw7-controller-bom.csv"),
+                       str(ROOT / "sample_boms" / "bw7-design.csv"))
+    out = StringIO()
+    print_audit(make_console(file=out, no_color=True, width=80), report)
+    text = out.getvalue()
+    lines = text.splitlines()
+    assert all(len(line) <= 80 for line in lines)
+    audit_part = text.split("Findings")[0]
+    assert "┃" not in audit_part and "│" not in audit_part  # a list, not a squeezed table
+    # the words a squeezed table broke (issue: 'cerami|c', 'IND-CE|R-TM') come out whole
+    assert "FAIL C43 row 23 IND-CER-TM: -10 °C / 10 °C" in text
+    assert "aluminium-electrolytic" in audit_part
+    assert len(lines) < 250  # was 326 lines at 80 columns
+    out = StringIO()
+    print_quiet(make_console(file=out, no_color=True, width=80), report)
+    quiet = out.getvalue().splitlines()
+    assert quiet[0].startswith("Placements audited 63: fail 17")
+    assert quiet[-1] == "Overall: FAIL"
