@@ -77,4 +77,4 @@ def test_compact_layout_at_80_columns_breaks_no_word():
     print_quiet(make_console(file=out, no_color=True, width=80), report)
     quiet = out.getvalue().splitlines()
     assert quiet[0].startswith("Placements audited 63: fail 17")
-    assert quiet[-1] == "Overall: FAIL"
+    assert quiet[-1] == "Overall: FAIL (severe environment)"
