@@ -98,7 +98,8 @@ def run_import(args: argparse.Namespace) -> int:
 
 
 def run_audit(args: argparse.Namespace) -> int:
-    from bomcheck.audit import AuditOptions, run_audit
+    from bomcheck.api import audit_files
+    from bomcheck.audit import AuditOptions
     from bomcheck.outfiles import output_lock
     from bomcheck.outputs import OutputContext
     from bomcheck.report import status_at_least
@@ -119,7 +120,7 @@ def run_audit(args: argparse.Namespace) -> int:
     diff = None
     with _progress(args, 1 + len(outputs)) as stage:
         stage("audit: read, parse, evaluate")
-        report = run_audit(args.bom, args.design, options)
+        report = audit_files(args.bom, args.design, options=options)
         if baseline is not None:
             from bomcheck.diff import compare, report_digest
 

@@ -457,6 +457,30 @@ def read_bom(path: str, options: ImportOptions = ImportOptions()) -> ImportResul
                 err.problem += f" (searched {missing.where})"
             raise err from None
         raise missing
+    return import_table(table, options)
+
+
+def import_frame(frame: pd.DataFrame, options: ImportOptions = ImportOptions(), *,
+                 path: str = "<table>") -> ImportResult:
+    """Import a BOM already in memory: ``frame`` columns are the headers, cells text ("" or NaN
+    for empty); rows are numbered as a file's would be (header in row 1, data from row 2). The
+    spec hash is that of the table written as CSV, so the same table gives the same report."""
+    cells = frame.astype(object).where(frame.notna(), "")
+    cells = cells.map(lambda v: v if isinstance(v, str) else str(v))
+    headers = [str(h) for h in cells.columns]
+    cells.columns = headers
+    digest = hashlib.sha256(cells.to_csv(index=False).encode("utf-8")).hexdigest()
+    table = reader.RawTable(path=path, format="table", encoding=None, sheet=None, header_row=1,
+                            headers=headers, frame=cells.reset_index(drop=True),
+                            rows=np.arange(2, len(cells) + 2), sha256=digest)
+    return import_table(table, options)
+
+
+def import_table(table: reader.RawTable, options: ImportOptions = ImportOptions()) -> ImportResult:
+    """The importer on a table of text cells (``reader.RawTable``): column mapping, the
+    placements, the rows not taken, the findings and the totals (see ``read_bom``)."""
+    path = table.path
+    overrides = _overrides(options)
     mapping = colmod.map_columns(list(table.frame.columns), overrides, path=path)
     # hashlib releases the GIL: the file's hash is computed beside the import.
     with ThreadPoolExecutor(max_workers=1) as pool:

@@ -109,9 +109,11 @@ class Report:
 
     @property
     def status(self) -> str:
-        """The worst status of all placements and of the design rows the BOM lacks."""
-        statuses = set(pd.unique(self.table["status"])) if len(self.table) else set()
-        if self.design_unmatched:
+        """The worst status of all placements, "nodata" too when a design row names a placement
+        the BOM lacks, when a BOM row could not be read, or when no placement was audited at
+        all (nothing read never passes)."""
+        statuses = set(pd.unique(self.table["status"])) if len(self.table) else {"nodata"}
+        if self.design_unmatched or self.totals.get("unreadable_rows", 0):
             statuses.add("nodata")
         return worst_status(statuses)
 

@@ -157,3 +157,19 @@ def test_series_stack_share_with_unknown_leakage_fails_firmly(run, tmp_path):
     v = got["IND-ALE-V"]
     assert v["status"] == "fail" and v["basis"] == "bound"
     assert v["value"] == pytest.approx(210 / 250, rel=1e-3)
+
+
+def test_an_unreadable_row_keeps_the_board_from_passing(run):
+    # A capacitor row with no designator was not audited: the board is not shown to pass.
+    code, report = run("C1,1,CAP CER 0.1UF 50V 10% X7R 0603,KC-104-50\n"
+                       ",1,CAP CER 10UF 6.3V 10% X5R 0805,KC-106-6\n",
+                       "refdes,v_dc [V],t_ambient_c [degC],c_min_f\nC1,5,40,none\n")
+    got, status = verdicts(report, "C1")
+    assert status == "pass" and report["totals"]["unreadable_rows"] == 1
+    assert report["status"] == "nodata" and code == 1
+
+
+def test_nothing_audited_is_not_a_pass(run):
+    code, report = run("R1,1,RES 10K 1% 0402,KR-103\n", "refdes,v_dc [V]\n")
+    assert report["totals"]["audited"] == 0
+    assert report["status"] == "nodata" and code == 1
