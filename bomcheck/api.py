@@ -8,12 +8,11 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 from dataclasses import replace
-from datetime import date
 from pathlib import Path
 
 import pandas as pd
 
-from bomcheck.audit import AuditOptions, audit_inputs, run_audit
+from bomcheck.audit import AuditOptions, audit_with_files, run_audit
 from bomcheck.report import Report
 
 
@@ -37,7 +36,6 @@ def audit_frames(bom: pd.DataFrame, design: pd.DataFrame | None = None, *,
     their files."""
     from bomcheck import design as design_mod
     from bomcheck import importer
-    from bomcheck import parts as parts_mod
 
     if option_values:
         options = replace(options, **option_values)
@@ -45,14 +43,7 @@ def audit_frames(bom: pd.DataFrame, design: pd.DataFrame | None = None, *,
                                      path=name)
     conditions = (design_mod.design_from_table(design, path=f"{name} design")
                   if design is not None else None)
-    part_data = (parts_mod.read_parts(options.parts, override=options.parts_override)
-                 if options.parts else None)
-    report = audit_inputs(imported, conditions, part_data, options)
-    if options.waivers:
-        from bomcheck.waivers import apply_waivers, load_waivers
-
-        report = apply_waivers(report, load_waivers(options.waivers), options.today or date.today())
-    return report
+    return audit_with_files(imported, conditions, options)
 
 
 def check_substitutes(bom: str | Path, design: str | Path | None, alternates: str | Path | Sequence,

@@ -180,11 +180,18 @@ def run_audit(bom_path: str, design_path: str | None, options: AuditOptions = Au
     """Audit every fitted capacitor placement of ``bom_path`` under the design sheet's conditions."""
     from bomcheck import design as design_mod
     from bomcheck import importer
-    from bomcheck import parts as parts_mod
 
     imported = importer.read_bom(bom_path, options.import_options or importer.ImportOptions())
     design = (design_mod.read_design(design_path, sheet=options.design_sheet)
               if design_path is not None else None)
+    return audit_with_files(imported, design, options)
+
+
+def audit_with_files(imported, design, options: AuditOptions = AuditOptions()) -> Report:
+    """``audit_inputs`` with the parts data and waivers that ``options`` names read from their
+    files (the BOM and design sheet already read, from files or from tables in memory)."""
+    from bomcheck import parts as parts_mod
+
     part_data = (parts_mod.read_parts(options.parts, override=options.parts_override)
                  if options.parts else None)
     report = audit_inputs(imported, design, part_data, options)
