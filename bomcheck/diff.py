@@ -14,9 +14,8 @@ from typing import Any
 
 from bomcheck import refdes as refdes_mod
 from bomcheck.errors import InputError
-from bomcheck.report import STATUS_ORDER
+from bomcheck.status import RANK as _RANK
 
-_RANK = {s: i for i, s in enumerate(STATUS_ORDER)}
 PROBLEM = "warn"  # the lowest status that counts as a problem
 
 

@@ -13,7 +13,6 @@ from rich.table import Table
 from rich.text import Text
 from rich.theme import Theme
 
-from bomcheck.status import STATUS_ORDER
 
 THEME = Theme(
     {

@@ -18,7 +18,7 @@ from bomcheck.textsafe import json_dumps
 from bomcheck.vocabulary import CONDITIONS, METRICS
 
 from bomcheck.status import RANK as _RANK
-from bomcheck.status import STATUS_ORDER, at_least, worst
+from bomcheck.status import at_least, worst
 
 CAUTIONS: tuple[str, ...] = (
     "These results support engineering review; they do not replace it. A pass means the "

@@ -27,7 +27,8 @@ import pandas as pd
 from bomcheck import __version__
 from bomcheck.errors import InputError
 from bomcheck.importer import spec_from_cells
-from bomcheck.report import CAUTIONS, STATUS_ORDER, ruleset_summary
+from bomcheck.report import CAUTIONS, ruleset_summary
+from bomcheck.status import RANK as _RANK
 from bomcheck.spec import SPEC_KEYS, CapSpec
 from bomcheck.vocabulary import METRICS
 
@@ -43,7 +44,6 @@ _FLOAT_FIELDS = frozenset(f.name for f in fields(CapSpec) if f.type in ("float |
 # BOM cells an alternate may give, parsed with the BOM's own parser and contexts.
 SPEC_CELLS: tuple[str, ...] = ("value", "description", "voltage", "tolerance", "dielectric",
                                "package", "temperature")
-_RANK = {s: i for i, s in enumerate(STATUS_ORDER)}
 _MATCH_KINDS = ("refdes", "mpn", "text")
 # Spec differences named beside a verdict on a metric: per group of alternatives, the first one
 # the placement has.

@@ -340,11 +340,11 @@ def apply_waivers(report, waivers: WaiverFile | Sequence[Waiver], today: dt.date
     """A new ``Report`` with ``waivers`` applied: verdicts waived, placement statuses and the
     totals by status recomputed, the findings in ``waiver_findings`` and the waiver file among
     the inputs (when a ``WaiverFile`` is given)."""
-    from bomcheck.report import STATUS_ORDER
+    from bomcheck.status import RANK as rank
+    from bomcheck.status import STATUS_ORDER
 
     entries = waivers.waivers if isinstance(waivers, WaiverFile) else tuple(waivers)
     verdicts, findings = waive_verdicts(report.verdicts, report.table, entries, today)
-    rank = {s: i for i, s in enumerate(STATUS_ORDER)}
     worst = verdicts["status"].map(rank).groupby(verdicts["pidx"]).max()
     table = report.table.copy()
     status = worst.reindex(table.index).map(dict(enumerate(STATUS_ORDER)))

@@ -26,7 +26,8 @@ from openpyxl.utils import get_column_letter
 
 from bomcheck.chartdata import UNKNOWN_TECHNOLOGY, chart_points, limit_lines  # noqa: F401
 from bomcheck.outfiles import atomic_path
-from bomcheck.report import CONDITION_FIELDS, METRIC_FIELDS, SPEC_FIELDS, STATUS_ORDER
+from bomcheck.report import CONDITION_FIELDS, METRIC_FIELDS, SPEC_FIELDS
+from bomcheck.status import STATUS_ORDER
 from bomcheck.textsafe import FORMULA_LEADS, starts_formula, xml_text
 from bomcheck.vocabulary import CONDITIONS, METRICS
 

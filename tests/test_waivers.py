@@ -10,7 +10,7 @@ import pytest
 
 from bomcheck.audit import AuditOptions, run_audit
 from bomcheck.errors import InputError
-from bomcheck.report import STATUS_ORDER
+from bomcheck.status import STATUS_ORDER
 from bomcheck.waivers import Waiver, WaiverFinding, apply_waivers, load_waivers, waive_verdicts
 
 TODAY = dt.date(2026, 12, 1)

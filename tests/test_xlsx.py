@@ -15,7 +15,7 @@ import pytest
 from bomcheck import xlsx
 from bomcheck.audit import AuditOptions, run_audit
 from bomcheck.errors import InputError
-from bomcheck.report import STATUS_ORDER
+from bomcheck.status import STATUS_ORDER
 
 ROOT = Path(__file__).resolve().parents[1]
 SAMPLE_BOM = ROOT / "sample_boms" / "bw7-controller-bom.csv"
