@@ -61,7 +61,9 @@ def limit_lines(ruleset, t_min: float | None, t_max: float | None
     their ids."""
     if ruleset is None:
         return []
+    # DC limits only: the points plotted against them are DC-rated parts
     rules = [r for r in ruleset.rules if r.enabled and r.metric == "voltage_ratio"
+             and r.applies.voltage_kind != "ac"
              and (not r.fail.is_curve or r.fail.over == "t_operating_c")]
     knots = [x for r in rules for x in r.fail.xs]
     lo_vals = [v for v in (t_min, *knots) if v is not None and v == v]
