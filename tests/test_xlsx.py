@@ -274,7 +274,9 @@ def test_chart_series_per_technology_and_limit_line(book, report):
     t = report.table
     plotted = t[t["voltage_ratio"].notna() & t["t_operating_c"].notna()]
     technologies = set(plotted["technology"].fillna(xlsx.UNKNOWN_TECHNOLOGY))
-    rules = [r for r in report.rules.rules if r.enabled and r.metric == "voltage_ratio"]
+    # DC voltage-ratio rules only: AC-rated parts are plotted apart from the DC limit lines
+    rules = [r for r in report.rules.rules if r.enabled and r.metric == "voltage_ratio"
+             and r.applies.voltage_kind != "ac"]
     # Distinct lines: constants by value, curves by their points.
     shapes = {(r.fail.value,) if not r.fail.is_curve else (r.fail.xs, r.fail.ys, r.fail.step)
               for r in rules}
