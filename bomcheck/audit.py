@@ -168,7 +168,7 @@ def evaluate_table(table: pd.DataFrame, ruleset, *, parts=None, groups=None,
     # The audit's own verdicts: no verdict is missing data; a finding on given data is firm.
     verdicts["basis"] = verdicts["basis"].where(
         verdicts["basis"].notna(), np.where(verdicts["status"] == "nodata", "missing", "firm"))
-    table = table.copy()
+    table = table.copy(deep=False)  # new columns only; the stages never write in place
     for name in unchecked_metrics(ruleset):  # computed on the way, limited by no rule in force
         if name in table:
             table[name] = np.nan
