@@ -12,7 +12,6 @@ import csv
 import dataclasses
 import io
 import tempfile
-import tomllib
 from collections.abc import Iterator
 from concurrent.futures import ProcessPoolExecutor
 from dataclasses import dataclass
@@ -90,12 +89,9 @@ def read_manifest(path: str) -> tuple[Board, ...]:
     """The boards of a TOML manifest: ``[[board]]`` tables (product, bom, and optional design,
     parts, rules, waivers, design_sheet, sheet); top-level keys of the same names are defaults
     for every board."""
-    try:
-        data = tomllib.loads(Path(path).read_text(encoding="utf-8"))
-    except OSError as exc:
-        raise InputError(f"cannot read the manifest: {exc.strerror}", path=path) from None
-    except (tomllib.TOMLDecodeError, UnicodeDecodeError) as exc:
-        raise InputError(f"the manifest is not TOML ({exc})", path=path) from None
+    from bomcheck.reader import load_toml, read_bytes, toml_text
+
+    data = load_toml(toml_text(read_bytes(path, "manifest"), path), path)
     boards = data.pop("board", None)
     if not isinstance(boards, list) or not boards:
         raise InputError("the manifest lists no boards", path=path,

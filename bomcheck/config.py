@@ -79,7 +79,9 @@ def find_pyproject(start: str | Path | None = None) -> Path | None:
 
 def _tool_table(path: Path) -> dict:
     try:
-        text = path.read_text(encoding="utf-8")
+        from bomcheck.reader import read_bytes
+
+        text = read_bytes(str(path), "pyproject.toml").decode("utf-8")
         if "bomcheck" not in text:  # skip parsing the many pyproject files that cannot have it
             return {}
         doc = tomllib.loads(text)

@@ -71,7 +71,7 @@ def test_manifest_paths_are_relative_to_it_and_defaults_apply(tmp_path):
     ('[[board]]\nproduct = "A"\nbom = "a.csv"\ncolour = "red"\n', "unknown key 'colour'"),
     ('[[board]]\nproduct = "A"\nbom = "a.csv"\n[[board]]\nproduct = "A"\nbom = "b.csv"\n',
      "listed twice"),
-    ("[[board]\n", "not TOML"),
+    ("[[board]\n", "not valid TOML"),  # the one TOML loader's message, with the line
 ], ids=["empty", "no-product", "unknown-key", "twice", "not-toml"])
 def test_manifest_errors_name_the_file_and_board(tmp_path, text, words):
     path = tmp_path / "m.toml"
