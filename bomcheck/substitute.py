@@ -1417,10 +1417,9 @@ def _result(ruleset: Any, inputs: Sequence[dict], results: Sequence[AlternateRes
 def _sha256(path: str) -> str:
     import hashlib
 
-    try:
-        return hashlib.sha256(Path(path).read_bytes()).hexdigest()
-    except OSError as exc:
-        raise InputError(f"cannot read file ({exc.strerror})", path=str(path)) from None
+    from bomcheck.reader import read_bytes
+
+    return hashlib.sha256(read_bytes(str(path), "alternates file")).hexdigest()
 
 
 def run_substitute(bom_path: str, design_path: str | None, alternates: Sequence[Alternate],

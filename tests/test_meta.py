@@ -65,3 +65,36 @@ def test_version_and_help_answer():
         out = subprocess.run([sys.executable, "-m", "bomcheck", flag], capture_output=True,
                              text=True)
         assert out.returncode == 0 and "bomcheck" in out.stdout
+
+
+# Modules that may open files themselves, and why; every other module reads its inputs through
+# bomcheck.reader (limits, regular files only, one TOML loader) and writes through outfiles.
+FILE_ACCESS = {
+    "reader.py": "the input reader",
+    "workbook_scan.py": "the input reader's look inside a workbook before a library reads it",
+    "outfiles.py": "the atomic writer",
+    "batch.py": "the per-board outputs its worker processes write and read back",
+    "commands.py": "counting a BOM's lines to decide on a progress bar",
+    "importer.py": "hashing the BOM file the reader has read",
+    "rules.py": "the shipped rule sets and schema (package data)",
+}
+
+
+def test_only_the_reader_and_writers_open_files():
+    import ast
+
+    offenders = []
+    for path in sorted((ROOT / "bomcheck").glob("*.py")):
+        if path.name in FILE_ACCESS:
+            continue
+        for node in ast.walk(ast.parse(path.read_text(encoding="utf-8"))):
+            if isinstance(node, ast.Call):
+                f = node.func
+                name = f.id if isinstance(f, ast.Name) else getattr(f, "attr", None)
+                direct = isinstance(f, ast.Name) and name == "open" or (
+                    isinstance(f, ast.Attribute)
+                    and name in ("open", "read_text", "read_bytes", "write_text", "write_bytes")
+                    and not (isinstance(f.value, ast.Name) and f.value.id in ("reader",)))
+                if direct:
+                    offenders.append(f"{path.name}:{node.lineno}")
+    assert offenders == []
