@@ -453,7 +453,7 @@ def _bodies(rule: Rule, kind: CheckKind, cols: _Columns, idx: np.ndarray, status
         else:
             parts.append(ctx.tech_semi.take(rows))
             tail = f"{src})"
-        parts.append(_Coded(note[ok], list(NOTES)))
+        parts.append(_notes(cols, rule.metric, note[ok], rows))
         _show_violations(parts, len(fields), kind, metric, st, cols.num(rule.metric)[rows],
                          limit[ok])
         first, inverse = _distinct_rows(parts, k)
@@ -473,6 +473,24 @@ def _bodies(rule: Rule, kind: CheckKind, cols: _Columns, idx: np.ndarray, status
         bodies.extend(f": no data for {rule.title}: missing {lab}; {src}" for lab in labels)
         out[nd] = codes + start
     return out
+
+
+def _notes(cols: _Columns, metric: str, note: np.ndarray, rows: np.ndarray) -> _Coded:
+    """The message note of each verdict; a verdict that depends on data not given names that
+    data where the stress stage wrote it (``<metric>_note``, e.g. "tolerance not given")."""
+    coded = _Coded(note, list(NOTES))
+    generic = note == NOTE_GENERIC
+    if not generic.any() or f"{metric}_note" not in cols.table.columns:
+        return coded
+    said = cols.coded_map(f"{metric}_note", lambda t: str(t) if t else "", "").take(rows)
+    named = generic & (np.array([bool(t) for t in said.lookup])[said.codes])
+    if named.any():
+        base = len(coded.lookup)
+        coded.lookup.extend(f"; rests on generic typical data (common practice) and depends on "
+                            f"data not given: {t}"
+                            for t in said.lookup)
+        coded.codes[named] = said.codes[named] + base
+    return coded
 
 
 def _show_violations(parts: list[_Coded], at: int, kind: CheckKind, metric, shown: np.ndarray,
