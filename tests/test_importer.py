@@ -331,6 +331,42 @@ def test_not_fitted_spellings(tmp_path):
     assert "'variant B', which is neither yes nor no" in r.findings[0].message
 
 
+def test_fitted_yes_wins_over_a_variant_dnp_and_the_conflict_is_nodata(tmp_path):
+    # Common practice: a Fitted column that says yes describes the variant of this BOM; a "DNP
+    # on variant B" note elsewhere in the row (or after the yes) does not unfit the part. The
+    # placement stays audited and the contradiction is a finding the audit gives as nodata.
+    text = ("Designator,Qty,Value,Description,Fitted,Notes\n"
+            "C7,1,10uF,CAP CER 10uF 16V X7R 10%,Yes,DNP on the 115 V variant only\n"
+            "C8,1,10uF,CAP CER 10uF 16V X7R 10%,Yes (DNP in variant B),\n"
+            "C9,1,10uF,CAP CER 10uF 16V X7R 10%,,DNP\n"
+            "C10,1,10uF,CAP CER 10uF 16V X7R 10%,not fitted,\n")
+    r = read_bom(_file(tmp_path, text))
+    _check_accounting(r)
+    assert r.placements["fitted"].tolist() == [True, True, False, False]
+    got = [(f.row, f.code, f.severity) for f in r.findings]
+    assert got == [(2, "fitted_conflict", "nodata"), (3, "fitted_conflict", "nodata")]
+    assert "'DNP' in notes" in r.findings[0].message
+    assert "Yes (DNP in variant B)" in r.findings[1].message
+
+
+def test_capacitor_rows_without_usable_designators_are_unreadable(tmp_path):
+    # Common practice: a capacitor row whose designator is empty or does not expand is
+    # counted unreadable with its reason, never dropped (the audit cannot pass it).
+    text = ("Designator,Qty,Value,Description\n"
+            "C1,1,10uF,CAP CER 10uF 50V X7R 10%\n"
+            ",1,10uF,CAP CER 10uF 6.3V X7R 10%\n"
+            "C5-C3,3,10uF,CAP CER 10uF 6.3V X7R 10%\n"
+            "C7..,1,10uF,CAP CER 10uF 6.3V X7R 10%\n")
+    r = read_bom(_file(tmp_path, text))
+    _check_accounting(r)
+    assert r.totals["unreadable_rows"] == 3 and r.totals["capacitor_rows"] == 1
+    rows = _skipped(r)
+    assert [(row, kind) for row, kind, _ in rows] == [(3, "unreadable"), (4, "unreadable"),
+                                                      (5, "unreadable")]
+    assert rows[0][2] == "no designator"
+    assert "runs backwards" in rows[1][2] and "not readable" in rows[2][2]
+
+
 def test_negative_fitted_column(tmp_path):
     r = read_bom(_file(tmp_path, "Designator,Value,DNP\nC1,100nF,x\nC2,100nF,\nC3,100nF,DNP\n"
                                  "C4,100nF,no\n"))
@@ -397,11 +433,23 @@ def test_traps(tmp_path):
     ]
 
 
-def test_other_prefix_with_capacitor_text_says_so(tmp_path):
-    r = read_bom(_file(tmp_path, "Designator,Value,Description\nR7,100nF,CAP CER 100NF 50V\n"))
+@pytest.mark.parametrize(
+    ("line", "pfx"),
+    [("R7,100nF,CAP CER 100NF 50V", "'R' (resistor)"),
+     ("U5,10uF,CAP CER 10uF 6.3V X7R 10%", "'U' (integrated circuit)"),
+     ("L1,4u7,CAP CER 4.7uF 6.3V X7R", "'L' (inductor)")],
+)
+def test_other_prefix_with_capacitor_text_is_unreadable(tmp_path, line, pfx):
+    # Common practice: text that says capacitor on its own (farad unit, CAP, a dielectric code)
+    # under the designator of another part means one of the two is a typo; the line is
+    # unreadable (counted, so the audit cannot pass it), not quietly a non-capacitor.
+    r = read_bom(_file(tmp_path, "Designator,Value,Description\n" + line + "\n"))
     _check_accounting(r)
-    assert _skipped(r) == [(2, "not_capacitor", "designator prefix 'R' (resistor) is not a "
-                            "capacitor; the text reads as a capacitor, check the designator")]
+    assert r.totals["unreadable_rows"] == 1 and r.totals["non_capacitor_rows"] == 0
+    (row, kind, reason), = _skipped(r)
+    assert (row, kind) == (2, "unreadable")
+    assert reason.startswith(f"designator prefix {pfx}, but the text reads as a capacitor")
+    assert "disagree" in reason
 
 
 @pytest.mark.parametrize(
@@ -547,7 +595,8 @@ def test_findings_sort_and_serialise():
     b = ImportFinding(4, "C1", "column_conflict", "m")
     c = ImportFinding(2, "C9", "column_conflict", "m")
     assert sorted([b, a, c]) == [c, a, b]
-    assert a.to_dict() == {"row": 4, "refdes": None, "code": "qty_mismatch", "message": "m"}
+    assert a.to_dict() == {"row": 4, "refdes": None, "code": "qty_mismatch", "message": "m",
+                           "severity": "warn"}
 
 
 def test_empty_table_below_the_header(tmp_path):
