@@ -193,10 +193,10 @@ class CellParser:
     """
 
     def __init__(self, semicolon: bool, units: Mapping[str, str] | None = None) -> None:
-        from bomcheck.values import CONFLICT_MARK, format_capacitance, parse_value
+        from bomcheck.values import CONFLICT_MARK, UNREAD_MARK, format_capacitance, parse_value
 
         self._parse = parse_value
-        self._mark = CONFLICT_MARK
+        self._marks = ((CONFLICT_MARK, "text_conflict"), (UNREAD_MARK, "value_unread"))
         self.fmt_c = format_capacitance
         self.semicolon = semicolon
         self.units = dict(units or {})
@@ -277,13 +277,14 @@ class CellParser:
         return dict(got[0]), list(got[1])
 
     def _text_conflicts(self, src: str, sp: CapSpec) -> list[tuple[str, str]]:
-        """The parser's conflict warnings of one cell, as (code, message) findings (cached)."""
+        """The parser's conflict and unread warnings of one cell, as (code, message) findings:
+        ``text_conflict`` and ``value_unread`` (cached)."""
         key = (id(sp), src)
         got = self._conflicts.get(key)
         if got is None:
-            n = len(self._mark)
-            got = self._conflicts[key] = [("text_conflict", f"{_SOURCE_LABELS[src]}: {w[n:]}")
-                                          for w in sp.warnings if w.startswith(self._mark)]
+            got = self._conflicts[key] = [
+                (code, f"{_SOURCE_LABELS[src]}: {w[len(mark):]}")
+                for w in sp.warnings for mark, code in self._marks if w.startswith(mark)]
         return got
 
     def _stated_temps(self, src: str, sp: CapSpec) -> tuple[float | None, float | None]:

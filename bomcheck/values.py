@@ -19,10 +19,15 @@ from decimal import Decimal
 from bomcheck import codes
 from bomcheck.codes import Dielectric
 from bomcheck.spec import POLARIZED_TECHNOLOGIES, CapSpec
-from bomcheck.readings import CONFLICT_MARK, keep_widest_tolerance, unread_implausible
+from bomcheck.readings import (
+    CONFLICT_MARK,
+    UNREAD_MARK,
+    keep_widest_tolerance,
+    unread_implausible,
+)
 from bomcheck.valuetext import normalise
 
-__all__ = ["CONFLICT_MARK", "CONTEXTS", "format_capacitance", "parse_value"]
+__all__ = ["CONFLICT_MARK", "CONTEXTS", "UNREAD_MARK", "format_capacitance", "parse_value"]
 
 CONTEXTS = frozenset(
     {"any", "value", "description", "voltage", "tolerance", "dielectric", "package", "temperature"}
@@ -243,6 +248,7 @@ class _State:
         self.noncap: list[str] = []  # kinds named by words: resistor, inductor, crystal...
         self.weak_noncap: list[tuple[str, str, bool]] = []  # (token, kind, warn if capacitor)
         self.weak_cap_toks: list[str] = []
+        self.bare_toks: list[str] = []
         self.more_tols: list[tuple[tuple[float | None, float | None, float | None], str]] = []
         # Decided in the second pass: (what, index, token, data...).
         self.deferred: list[tuple] = []
@@ -330,6 +336,7 @@ class _State:
     def unread_number(self, tok: str) -> None:
         self.unread.append(tok)
         self.bare_numbers += 1
+        self.bare_toks.append(tok)
 
 
 # --- helpers -------------------------------------------------------------------------------------
@@ -375,6 +382,12 @@ def _numeric(st: _State, tok: str, i: int) -> None:
         return
     if sign == "±":
         _plus_minus(st, num, suf, tok, i)
+        return
+    if sign == "-" and (suf.lower() in _CAP_UNIT_EXP or suf.lower() in _VOLT_UNITS):
+        # "-10uF", "-16V": a sign a rating cannot have (a lost tolerance? a typo?); not read.
+        st.warnings.append(f"{UNREAD_MARK}{tok!r}: a negative capacitance or rated voltage; "
+                           "not read")
+        st.unread.append(tok)
         return
     if len(suf) == 1:
         _one_letter_suffix(st, sign, num, suf, tok, i)
@@ -958,7 +971,8 @@ def _build(text: str, st: _State) -> CapSpec:
         pkg, pkg_note = text.strip(), "not a chip, case or can code this parser knows"
         st.unread.clear()
     if st.bare_numbers and st.context in ("value", "any", "description"):
-        w.append("a number without a unit was not read")
+        w.append(f"{UNREAD_MARK}a number without a unit was not read ("
+                 + ", ".join(repr(t) for t in st.bare_toks) + ")")
 
     return CapSpec(
         text=text,
@@ -1016,11 +1030,25 @@ def parse_value(text: str, *, context: str = "any") -> CapSpec:
                     st.warnings.append(f"{key!r} read as the two-character voltage code "
                                        f"({codes.VOLTAGE_CODES[key]:g} V), not {key[0]} V")
                 s = ""
+        elif st.context == "value" and "e" in s.lower() and _SI_NUMBER(s.strip()):
+            s = _si_farads(s.strip(), st.warnings)
         _scan(st, s)
         return _build(text, st)
     except Exception as exc:  # a parser bug must not stop an import; the tests hunt for these
         return CapSpec(text=text, unread=(text,),
                        warnings=(f"internal parser error: {type(exc).__name__}: {exc}",))
+
+
+# A plain number in scientific notation with a negative exponent: how a spreadsheet writes a
+# capacitance in farads (1E-05 = 10 uF) when the value cell holds a number, not text.
+_SI_NUMBER = re.compile(r"\d+(?:\.\d+)?[eE]-\d{1,2}").fullmatch
+
+
+def _si_farads(s: str, warnings: list[str]) -> str:
+    """``1E-05`` in a value column -> ``10000000pF`` (read as farads, SI), with a note."""
+    pf = format(Decimal(s).scaleb(12).normalize(), "f")
+    warnings.append(f"{s!r}: a plain number in scientific notation, read as farads (SI)")
+    return f"{pf}pF"
 
 
 # Prefix steps for display: below the limit, use (prefix, power of ten).

@@ -649,3 +649,42 @@ def test_cli_import_json(tmp_path, capsys):
     out = json.loads(capsys.readouterr().out)
     assert [p["refdes"] for p in out["placements"]] == ["C1"]
     assert out["totals"]["rows_read"] == 2 and out["skipped"][0]["row"] == 3
+
+
+# ---------------------------------------------------------------------------------------------
+# Numbers read by a guess, or not at all, are findings the audit gives as nodata
+
+
+def test_guessed_or_unread_numbers_are_nodata_findings(tmp_path):
+    # Common practice: "1,500uF" in a comma CSV may be 1500 uF or 1.5 uF; "-10uF" has a sign no
+    # capacitance has; "85" has no unit. None of these may pass silently.
+    text = ("Designator,Qty,Value,Description\n"
+            'C1,1,"1,500uF","CAP ALU ELEC 1,500uF 25V 105C 20%"\n'
+            "C2,1,-10uF,CAP CER 16V X7R\n"
+            "C3,1,10uF,CAP CER 10uF 16V X7R 85\n"
+            "C4,1,10uF,CAP CER 10uF 16V X7R\n")
+    r = read_bom(_file(tmp_path, text))
+    _check_accounting(r)
+    got = sorted({(f.refdes, f.code, f.severity) for f in r.findings})
+    assert got == [("C1", "value_unread", "nodata"), ("C2", "capacitance_missing", "warn"),
+                   ("C2", "value_unread", "nodata"), ("C3", "value_unread", "nodata")]
+    c2 = [f.message for f in r.findings if f.refdes == "C2" and f.code == "value_unread"]
+    assert c2 == ["value: '-10uF': a negative capacitance or rated voltage; not read"]
+
+
+def test_scientific_value_cell_is_read_as_farads(tmp_path):
+    # SI: a spreadsheet's numeric value cell written as 1E-05 is 10 uF in farads; read, so no
+    # capacitance finding.
+    text = "Designator,Qty,Value,Description\nC2,1,1E-05,CAP CER 16V X7R 10% 0805\n"
+    r = read_bom(_file(tmp_path, text))
+    assert r.placements["capacitance_f"].tolist() == [pytest.approx(1e-5)]
+    assert r.findings == ()
+
+
+def test_fitted_capacitor_without_capacitance_is_a_finding(tmp_path):
+    # Common practice: a capacitor line states its capacitance; when none is read the placement
+    # says so (a not-fitted one does not matter).
+    text = "Designator,Value,Description,Fitted\nC1,,CAP CER 16V X7R,\nC2,,CAP CER 16V X7R,no\n"
+    r = read_bom(_file(tmp_path, text))
+    assert [(f.refdes, f.code, f.severity) for f in r.findings] == [
+        ("C1", "capacitance_missing", "warn")]
