@@ -5,7 +5,8 @@ that states a unit gets that unit (``470`` under ``Capacitance (uF)`` is 470 uF)
 parsed with ``bomcheck.values.parse_value`` in its column's context. The specs are merged field
 group by field group. Where the cells disagree on a number, the conservative reading wins
 (smaller capacitance, lower rated voltage, wider tolerance, lower rated maximum and higher rated
-minimum temperature) and the disagreement is a finding; for the other fields a dedicated column
+minimum temperature, the dielectric code with the narrower temperature range or larger change)
+and the disagreement is a finding; for the other fields a dedicated column
 wins over the value, the value over the description. A line with one cell of text is that cell's
 spec, with no merge.
 """
@@ -182,7 +183,8 @@ def spec_from_cells(cells: Mapping[str, str]) -> tuple[dict, str, str, str]:
 _BARE_NUMBER = re.compile(r"[-+]?(?:\d+(?:\.\d*)?|\.\d+)").fullmatch
 # Numeric field groups resolved conservatively, with the direction that is conservative.
 _CONSERVATIVE = {"capacitance_f": "smaller capacitance", "voltage_v": "lower rated voltage",
-                 "tol_minus_pct": "wider tolerance"}
+                 "tol_minus_pct": "wider tolerance",
+                 "dielectric": "narrower temperature range or larger change"}
 
 
 class CellParser:
@@ -351,6 +353,8 @@ class CellParser:
         wider tolerance (an absolute one compared through the merged capacitance)."""
         if key == "capacitance_f":
             return min(cands, key=lambda c: c[1][0])
+        if key == "dielectric":
+            return min(cands, key=lambda c: self._dielectric_doubt(c[1]))
         if key == "voltage_v":
             kinds = {c[1][1] for c in cands if c[1][1]}
             if len(kinds) > 1:  # an AC and a DC rating are two ratings: source order decides
@@ -373,6 +377,15 @@ class CellParser:
         if widths[best] == (minus_w, plus_w) or math.isinf(minus_w):
             return cands[best]
         return cands[best][0], (minus_w, plus_w, None)  # each side at its widest
+
+    def _dielectric_doubt(self, vals: tuple[Any, ...]) -> tuple[float, float, float]:
+        """Sort key of a dielectric group, the least favourable code first (EIA-198: the lower
+        upper temperature, then the higher lower temperature, then the larger change)."""
+        d = self.spec("dielectric", str(vals[0]))
+        hi = d.temp_max_c if d is not None and d.temp_max_c is not None else math.inf
+        lo = d.temp_min_c if d is not None and d.temp_min_c is not None else -math.inf
+        change = max(vals[2] or 0.0, vals[3] or 0.0)
+        return (hi, -lo, -change)
 
     def _groups(self, spec: CapSpec) -> list[tuple[Any, ...] | None]:
         """Per field group of ``_GROUP_KEYS``: the spec's values (key fields first), or None when

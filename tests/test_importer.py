@@ -470,8 +470,8 @@ def test_unknown_prefix_reasons(tmp_path, value, description, reason):
 
 def test_conservative_reading_wins_and_conflicts_are_findings(tmp_path):
     # Issue 9 class 6: where the columns and the text disagree on a number, the conservative
-    # reading is used (smaller capacitance, lower rated voltage, wider tolerance); for a code
-    # such as the dielectric the dedicated column wins. Each disagreement is a finding.
+    # reading is used (smaller capacitance, lower rated voltage, wider tolerance, the dielectric
+    # code with the narrower range). Each disagreement is a finding.
     text = ("Designator,Value,Description,Voltage,Tolerance,Dielectric\n"
             "C1,10uF,CAP CER 1uF 25V X5R,,,\n"
             "C2,100nF,CAP CER 0.1UF 50V X7R,25V,,\n"
@@ -497,7 +497,9 @@ def test_conservative_reading_wins_and_conflicts_are_findings(tmp_path):
                                      "says 50 V; using the voltage column (lower rated voltage, "
                                      "the conservative reading)"),
         (4, "C3", "column_conflict", "dielectric: dielectric column says X5R but description "
-                                     "says X7R; using the dielectric column"),
+                                     "says X7R; using the dielectric column (narrower "
+                                     "temperature range or larger change, the conservative "
+                                     "reading)"),
         (5, "C4", "column_conflict", "tolerance: tolerance column says +/-10 % but description "
                                      "says +/-20 %; using the description (wider tolerance, "
                                      "the conservative reading)"),
@@ -505,6 +507,19 @@ def test_conservative_reading_wins_and_conflicts_are_findings(tmp_path):
                                      "says 16 V; using the description (lower rated voltage, "
                                      "the conservative reading)"),
     ]
+
+
+@pytest.mark.parametrize(("column", "text", "kept"), [("X7R", "X5R", "X5R"), ("X5R", "X7R", "X5R"),
+                                                     ("C0G", "X7R", "X7R"),
+                                                     ("X7R", "X7S", "X7S")])
+def test_dielectric_conflict_keeps_the_less_favourable_code(tmp_path, column, text, kept):
+    # EIA-198: X5R is rated to +85 degC, X7R to +125 degC; X7S allows +/-22 % against X7R's
+    # +/-15 %, C0G 0 +/-30 ppm/degC. Whichever cell holds it, the less favourable code is used.
+    r = read_bom(_file(tmp_path, "Designator,Value,Description,Dielectric\n"
+                                 f"C3,10uF,CAP CER 10uF 50V {text} 10%,{column}\n"))
+    assert r.placements["dielectric"].tolist() == [kept]
+    assert [f.code for f in r.findings] == ["column_conflict"]
+    assert "the conservative reading" in r.findings[0].message
 
 
 def test_rated_temperature_conflicts_keep_the_lower(tmp_path):
