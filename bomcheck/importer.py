@@ -926,9 +926,11 @@ def _fitted(line: dict[str, np.ndarray], mapping: dict[str, str], table: reader.
         codes = np.zeros(n, dtype=np.int64)
         codes[idx] = np.arange(1, len(idx) + 1)
         sources.append(("designator", [None, *des.mark.values()], codes))
-    for f, label in (("mpn", "part number"), ("description", "description"), ("notes", "notes")):
-        if f == "description":
-            sources.append((label, [c.marks.get("description") for c in combos], combo_code))
+    for f, label in (("mpn", "part number"), ("description", "description"),
+                     ("value_alt", "second value column"),
+                     ("description_alt", "second description column"), ("notes", "notes")):
+        if f in ("description", "value_alt", "description_alt"):
+            sources.append((label, [c.marks.get(f) for c in combos], combo_code))
         elif f in mapping:
             sources.append((label, *_marks_by_cell(line[f])))
     for label, marks, codes in sources:

@@ -84,28 +84,32 @@ _RESISTOR_RKM_CAP_CODE = re.compile(r"^\s*\d{3}[KM]\s*$")  # 104K, 475M: pF code
 # The cells parsed for the specification, with the parser context each one gets.
 SPEC_SOURCES: tuple[str, ...] = (
     "value", "description", "voltage", "tolerance", "dielectric", "package", "temperature",
-    "category",
+    "category", "value_alt", "description_alt",
 )
 _SOURCE_LABELS = {
     "value": "value", "description": "description", "voltage": "voltage column",
     "tolerance": "tolerance column", "dielectric": "dielectric column",
     "package": "package column", "temperature": "temperature column",
-    "category": "category column",
+    "category": "category column", "value_alt": "second value column",
+    "description_alt": "second description column",
 }
-# The parser context of each source (a category cell is free text).
-_CONTEXT = {**{s: s for s in SPEC_SOURCES}, "category": "description"}
+# The parser context of each source (a category cell is free text; a second value or
+# description column reads as the first).
+_CONTEXT = {**{s: s for s in SPEC_SOURCES}, "category": "description", "value_alt": "value",
+            "description_alt": "description"}
+_ALT = ("value_alt", "description_alt")
 # Field groups taken whole from the first source that has the group's main (first) field.
 _GROUPS: tuple[tuple[tuple[str, ...], tuple[str, ...]], ...] = (
-    (("capacitance_f",), ("value", "description")),
-    (("voltage_v", "voltage_kind"), ("voltage", "value", "description")),
-    (("tol_minus_pct", "tol_plus_pct", "tol_abs_f"), ("tolerance", "value", "description")),
+    (("capacitance_f",), ("value", "description", *_ALT)),
+    (("voltage_v", "voltage_kind"), ("voltage", "value", "description", *_ALT)),
+    (("tol_minus_pct", "tol_plus_pct", "tol_abs_f"), ("tolerance", "value", "description", *_ALT)),
     (("dielectric", "dielectric_class", "cap_change_minus_pct", "cap_change_plus_pct",
-      "tc_ppm", "tc_tol_ppm"), ("dielectric", "value", "description")),
+      "tc_ppm", "tc_tol_ppm"), ("dielectric", "value", "description", *_ALT)),
     (("technology", "film_material", "polarized"),
-     ("dielectric", "value", "description", "category")),
-    (("package", "package_note"), ("package", "value", "description")),
-    (("safety_class",), ("value", "description", "dielectric")),
-    (("emi_filter",), ("value", "description")),
+     ("dielectric", "value", "description", "category", *_ALT)),
+    (("package", "package_note"), ("package", "value", "description", *_ALT)),
+    (("safety_class",), ("value", "description", "dielectric", *_ALT)),
+    (("emi_filter",), ("value", "description", *_ALT)),
 )
 FLOAT_SPEC = ("capacitance_f", "voltage_v", "tol_minus_pct", "tol_plus_pct", "tol_abs_f",
                "dielectric_class", "cap_change_minus_pct", "cap_change_plus_pct", "tc_ppm",
@@ -254,7 +258,8 @@ class CellParser:
         value, desc = cleaned.get("value", ""), cleaned.get("description", "")
         cap = any(s is not None and s.is_capacitor
                   for s in (specs.get("value"), specs.get("description"), specs.get("dielectric"),
-                            specs.get("category")))
+                            specs.get("category"), specs.get("value_alt"),
+                            specs.get("description_alt")))
         stated_tech = [s for s in (specs.get("dielectric"), specs.get("category"))
                        if s is not None and s.technology]
         strong = cap and bool(
@@ -405,7 +410,7 @@ class CellParser:
         state and what the dielectric code allows (EIA-198: X5R -55..+85 degC); a stated value
         that differs is a conflict."""
         cands: dict[str, list[tuple[float, str]]] = {"temp_min_c": [], "temp_max_c": []}
-        for src in ("temperature", "value", "description", "category"):
+        for src in ("temperature", "value", "description", "category", *_ALT):
             sp = present.get(src)
             if sp is None:
                 continue

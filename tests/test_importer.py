@@ -703,3 +703,24 @@ def test_fitted_capacitor_without_capacitance_is_a_finding(tmp_path):
     r = read_bom(_file(tmp_path, text))
     assert [(f.refdes, f.code, f.severity) for f in r.findings] == [
         ("C1", "capacitance_missing", "warn")]
+
+
+def test_comment_and_part_description_columns_are_read_conservatively(tmp_path):
+    # Common practice of EDA BOM exports: a "Comment" or "Part Description" column beside
+    # "Value" and "Description" may carry the rating; the conservative reading of all of them
+    # is used (lower rated voltage; EIA-198 X5R to +85 degC against X7R to +125 degC) and each
+    # disagreement is a finding.
+    text = ("Comment,Description,Designator,Footprint,Quantity,Value,Part Description\n"
+            "10uF 6.3V X5R,CAP CER 10uF 50V X7R 10%,C1,0805,1,10uF,\n"
+            "Capacitor,CAP CER 10uF 50V X7R 10%,C2,0805,1,10uF,CAP CER 10uF 6.3V X5R\n"
+            "DNP,CAP CER 10uF 50V X7R 10%,C3,0805,1,10uF,\n")
+    r = read_bom(_file(tmp_path, text))
+    _check_accounting(r)
+    p = r.placements
+    assert p["voltage_v"].tolist()[:2] == [6.3, 6.3]
+    assert p["dielectric"].tolist()[:2] == ["X5R", "X5R"]
+    assert p["temp_max_c"].tolist()[:2] == [85.0, 85.0]
+    assert p["fitted"].tolist() == [True, True, False]
+    got = sorted((f.refdes, f.code) for f in r.findings)
+    assert got == [("C1", "column_conflict")] * 2 + [("C2", "column_conflict")] * 2
+    assert any("second value column says 6.3 V" in f.message for f in r.findings)
