@@ -96,6 +96,8 @@ _TEMP_UNITS = frozenset({"°c", "°", "degc", "deg.c", "c"})
 _IGNORED_UNITS = frozenset({"hz", "khz", "mhz", "ghz", "ma", "marms", "arms", "mw", "w"})
 _OHM_UNITS = frozenset({"ohm", "ohms", "ω", "mω", "kω", "mohm", "kohm", "mohms", "kohms"})
 _INDUCTANCE_UNITS = frozenset({"ph", "nh", "uh", "mh"})
+# One-letter suffixes of quantities that have no sign: a capacitance (F, RKM p/n/u) or volts.
+_SIGNLESS_LETTERS = frozenset("FfVvpnuPNU")
 _HOUR_UNITS = frozenset({"h", "hr", "hrs", "hour", "hours"})
 # Unit words joined to a number written before them with a space ("50 V", "0.1 uF", "125 °C").
 _UNIT_WORDS = (frozenset(_CAP_UNIT_EXP) | frozenset(_VOLT_UNITS) | _IGNORED_UNITS | _OHM_UNITS
@@ -383,7 +385,8 @@ def _numeric(st: _State, tok: str, i: int) -> None:
     if sign == "±":
         _plus_minus(st, num, suf, tok, i)
         return
-    if sign == "-" and (suf.lower() in _CAP_UNIT_EXP or suf.lower() in _VOLT_UNITS):
+    if sign == "-" and (suf.lower() in _CAP_UNIT_EXP or suf.lower() in _VOLT_UNITS
+                        or suf in _SIGNLESS_LETTERS):
         # "-10uF", "-16V": a sign a rating cannot have (a lost tolerance? a typo?); not read.
         st.warnings.append(f"{UNREAD_MARK}{tok!r}: a negative capacitance or rated voltage; "
                            "not read")
@@ -411,7 +414,8 @@ def _numeric(st: _State, tok: str, i: int) -> None:
     if low in _IGNORED_UNITS:
         return  # frequency, ripple current, power: no field here
     if low in _HOUR_UNITS:
-        return  # a life rating ("2000h"): no field here
+        _life(st, tok)
+        return
     if low in _OHM_UNITS:
         st.weak_noncap.append((tok, "resistor", False))  # an ESR in a capacitor text
         return
@@ -542,9 +546,15 @@ def _one_letter_suffix(st: _State, sign: str, num: str, suf: str, tok: str, i: i
     elif suf == "m" and integer and st.context == "value":
         st.set_cap(_scaled(num, -3), tok, i, weak=True)  # RKM "10m" = 10 mF, in a value column
     elif suf in "hH" and integer and len(num) >= 3:
-        return  # a life rating in hours
+        _life(st, tok)
     else:
         st.unread.append(tok)
+
+
+def _life(st: _State, tok: str) -> None:
+    """A life rating ("2000H"): no field of the spec; said, so it is not dropped unseen."""
+    st.warnings.append(f"{tok!r}: a rated life; not used from the BOM text (give the part's "
+                       "life in the parts data)")
 
 
 def _dashed(st: _State, tok: str, i: int) -> None:

@@ -565,7 +565,8 @@ def test_two_temperatures_around_a_slash(text, tmin, tmax, conflict):
     assert any(w.startswith(CONFLICT_MARK) for w in s.warnings) is conflict
 
 
-@pytest.mark.parametrize("text", ["-10uF", "CAP CER -10uF 16V X7R", "CAP CER 10uF -16V X7R"])
+@pytest.mark.parametrize("text", ["-10uF", "CAP CER -10uF 16V X7R", "CAP CER 10uF -16V X7R",
+                                  "-10u", "CAP ALU -1F 5V"])
 def test_negative_capacitance_or_voltage_is_unread_not_made_positive(text):
     # Common practice: a capacitance or rated voltage has no sign; a minus is a typo or a lost
     # tolerance, so the number is not read (and says so) rather than read without its sign.
@@ -598,3 +599,11 @@ def test_bare_number_warning_names_the_number():
     s = parse_value("CAP CER 10uF 16V X7R 85", context="description")
     assert s.unread == ("85",)
     assert f"{UNREAD_MARK}a number without a unit was not read ('85')" in s.warnings
+
+
+def test_life_rating_is_said_not_dropped():
+    # Common practice of electrolytic descriptions: "2000H" is the rated life (endurance); the
+    # spec has no field for it, so the parse says so instead of dropping it unseen.
+    s = parse_value("CAP ALU 10uF 16V 2000H 105C", context="description")
+    assert (s.capacitance_f, s.voltage_v, s.temp_max_c) == (1e-5, 16.0, 105.0)
+    assert any("2000H" in w and "rated life" in w for w in s.warnings)
