@@ -172,9 +172,11 @@ class ImportFinding:
     ``"nodata"`` when the placement's data cannot be trusted as read, so no verdict on it may
     pass (``fitted_conflict``: the fitted column says yes while a cell says not fitted;
     ``value_unread``: a number in the value text was not read, or read only by guessing, such as
-    ``1,500uF``, ``-10uF`` or a bare ``85``). ``NODATA_CODES`` lists the codes of the second
-    kind; ``capacitance_missing`` (a fitted capacitor whose text states no capacitance) is a
-    warning, since the checks that need the capacitance give nodata themselves.
+    ``1,500uF``, ``-10uF`` or a bare ``85``; ``capacitance_unread``: a fitted capacitor's value
+    cell has text but no capacitance was read from the line). ``NODATA_CODES`` lists the codes
+    of the second kind; ``capacitance_missing`` (a fitted capacitor with an empty value cell and
+    no capacitance in its other text) is a warning, since the checks that need the capacitance
+    give nodata themselves.
     """
 
     row: int
@@ -197,7 +199,8 @@ class ImportFinding:
 
 
 # Finding codes whose placements have no trustworthy data (severity "nodata", see ImportFinding).
-NODATA_CODES: frozenset[str] = frozenset({"fitted_conflict", "value_unread"})
+NODATA_CODES: frozenset[str] = frozenset({"fitted_conflict", "value_unread",
+                                          "capacitance_unread"})
 
 
 def _finding(row: int, refdes: str | None, code: str, message: str) -> ImportFinding:
@@ -1090,11 +1093,15 @@ def _placement_findings(placements: pd.DataFrame, combos: list[Combo],
             out.append(_finding(int(rows[p]), str(refdes[p]), code, msg))
     # A fitted capacitor with no capacitance read (common practice: every capacitor line states
     # its capacitance; the checks that need it have no data).
+    # A value cell with text gives capacitance_unread (the data is there but was not
+    # understood), none capacitance_missing.
     no_cap = np.array([c.spec["capacitance_f"] is None for c in combos], dtype=bool)[cc]
     for p in np.flatnonzero(no_cap & fitted):
-        out.append(_finding(int(rows[p]), str(refdes[p]), "capacitance_missing",
-                            "no capacitance could be read from the BOM text "
-                            f"({combos[cc[p]].text!r}); checks that need it have no data"))
+        combo = combos[cc[p]]
+        code = "capacitance_unread" if combo.value_text else "capacitance_missing"
+        out.append(_finding(int(rows[p]), str(refdes[p]), code,
+                            f"no capacitance could be read from the BOM text ({combo.text!r}); "
+                            "checks that need it have no data"))
     if len(set(refdes)) < len(refdes):
         dup = pd.Series(refdes).duplicated(keep="first").to_numpy()
         first_row = pd.Series(rows).groupby(refdes).transform("first").to_numpy()

@@ -681,7 +681,7 @@ def test_guessed_or_unread_numbers_are_nodata_findings(tmp_path):
     r = read_bom(_file(tmp_path, text))
     _check_accounting(r)
     got = sorted({(f.refdes, f.code, f.severity) for f in r.findings})
-    assert got == [("C1", "value_unread", "nodata"), ("C2", "capacitance_missing", "warn"),
+    assert got == [("C1", "value_unread", "nodata"), ("C2", "capacitance_unread", "nodata"),
                    ("C2", "value_unread", "nodata"), ("C3", "value_unread", "nodata")]
     c2 = [f.message for f in r.findings if f.refdes == "C2" and f.code == "value_unread"]
     assert c2 == ["value: '-10uF': a negative capacitance or rated voltage; not read"]
@@ -699,10 +699,12 @@ def test_scientific_value_cell_is_read_as_farads(tmp_path):
 def test_fitted_capacitor_without_capacitance_is_a_finding(tmp_path):
     # Common practice: a capacitor line states its capacitance; when none is read the placement
     # says so (a not-fitted one does not matter).
-    text = "Designator,Value,Description,Fitted\nC1,,CAP CER 16V X7R,\nC2,,CAP CER 16V X7R,no\n"
+    # A value cell with text that gives no capacitance ("TBD") is data not understood: nodata.
+    text = ("Designator,Value,Description,Fitted\nC1,,CAP CER 16V X7R,\nC2,,CAP CER 16V X7R,no\n"
+            "C3,TBD,CAP CER 16V X7R,\n")
     r = read_bom(_file(tmp_path, text))
     assert [(f.refdes, f.code, f.severity) for f in r.findings] == [
-        ("C1", "capacitance_missing", "warn")]
+        ("C1", "capacitance_missing", "warn"), ("C3", "capacitance_unread", "nodata")]
 
 
 def test_comment_and_part_description_columns_are_read_conservatively(tmp_path):
