@@ -894,7 +894,8 @@ def _fitted(line: dict[str, np.ndarray], mapping: dict[str, str], table: reader.
     variant B`` in the notes) and over a mark in its own cell after the yes (``Yes (DNP in
     variant B)``): the placement stays in the audit, and the contradiction is a
     ``fitted_conflict`` finding (common practice: a variant note does not unfit the part of the
-    variant the BOM describes)."""
+    variant the BOM describes). Without a yes, a mark limited to a variant (``DNP on the 115 V
+    variant only``, ``DNP for option B``) keeps the part fitted with the same finding."""
     n = len(combo_code)
     fitted = np.ones(n, dtype=bool)
     explicit_yes = np.zeros(n, dtype=bool)
@@ -921,43 +922,66 @@ def _fitted(line: dict[str, np.ndarray], mapping: dict[str, str], table: reader.
         contradict = [(int(li), f"{says[codes[li]]}: yes, but also {verdicts[codes[li]][2]!r}; "
                        "taken as fitted, check which variant the BOM describes")
                       for li in np.flatnonzero(own_mark)]
-    # Marks in cells, in order of precedence; each as (mark per distinct cell, code per line).
-    sources: list[tuple[str, list[str | None], np.ndarray]] = [
-        ("value", [c.marks.get("value") for c in combos], combo_code)]
+    # Marks in cells, in order of precedence; each as (mark per distinct cell, code per line,
+    # whether that cell limits the mark to a variant).
+    sources: list[tuple[str, list[str | None], np.ndarray, list[bool]]] = [
+        ("value", [c.marks.get("value") for c in combos], combo_code,
+         [_variant_only(c.text) for c in combos])]
     if des.mark:
         idx = np.fromiter(des.mark, dtype=np.int64, count=len(des.mark))
         codes = np.zeros(n, dtype=np.int64)
         codes[idx] = np.arange(1, len(idx) + 1)
-        sources.append(("designator", [None, *des.mark.values()], codes))
+        sources.append(("designator", [None, *des.mark.values()], codes,
+                        [False] * (len(idx) + 1)))
     for f, label in (("mpn", "part number"), ("description", "description"),
                      ("value_alt", "second value column"),
                      ("description_alt", "second description column"), ("notes", "notes")):
         if f in ("description", "value_alt", "description_alt"):
-            sources.append((label, [c.marks.get(f) for c in combos], combo_code))
+            sources.append((label, [c.marks.get(f) for c in combos], combo_code,
+                            [_variant_only(c.text) for c in combos]))
         elif f in mapping:
             sources.append((label, *_marks_by_cell(line[f])))
-    for label, marks, codes in sources:
+    for label, marks, codes, variant in sources:
         has = np.array([m is not None for m in marks], dtype=bool)
         if not has.any():
             continue
+        only = np.array(variant, dtype=bool)[codes] & has[codes]
         for li in np.flatnonzero(explicit_yes & has[codes]):
             contradict.append((int(li), f"{said_yes[li]} but {marks[codes[li]]!r} in {label}; "
                                "taken as fitted, check which variant the BOM describes"))
-        for li in np.flatnonzero(fitted & ~explicit_yes & has[codes]):
+        for li in np.flatnonzero(fitted & ~explicit_yes & only):
+            contradict.append((int(li), f"{marks[codes[li]]!r} in {label} names a variant; "
+                               "taken as fitted, check which variant the BOM describes"))
+        for li in np.flatnonzero(fitted & ~explicit_yes & has[codes] & ~only):
             fitted[li] = False
             reason[li] = f"{marks[codes[li]]!r} in {label}"
     return fitted, reason, unclear, contradict
 
 
-def _marks_by_cell(cells: np.ndarray) -> tuple[list[str | None], np.ndarray]:
-    """(not-fitted mark per distinct cell, code per line); code 0 is the empty cell."""
+def _marks_by_cell(cells: np.ndarray) -> tuple[list[str | None], np.ndarray, list[bool]]:
+    """(not-fitted mark per distinct cell, code per line, whether the cell limits it to a
+    variant); code 0 is the empty cell."""
     filled = np.flatnonzero(cells != "")
     codes = np.zeros(len(cells), dtype=np.int64)
     if not len(filled):
-        return [None], codes
+        return [None], codes, [False]
     sub, uniq = pd.factorize(cells[filled])
     codes[filled] = sub + 1
-    return [None, *(not_fitted_mark(str(u)) for u in uniq)], codes
+    marks = [not_fitted_mark(str(u)) for u in uniq]
+    return ([None, *marks], codes,
+            [False, *(m is not None and _variant_only(str(u)) for m, u in zip(marks, uniq))])
+
+
+# Words that limit a not-fitted mark to some builds ("DNP on the 115 V variant only", "DNP for
+# option B"): the part is fitted in the build this BOM may describe (common practice of
+# variant notes in BOMs).
+_VARIANT_WORDS = re.compile(r"\b(?:variants?|versions?|options?|only|builds?|except|unless)\b",
+                            re.IGNORECASE)
+
+
+def _variant_only(text: str) -> bool:
+    """Whether a cell's text limits a not-fitted mark to some variants."""
+    return bool(_VARIANT_WORDS.search(text))
 
 
 def _fitted_cell(cell: str, negative: bool) -> tuple[bool, bool, str | None]:

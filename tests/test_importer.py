@@ -349,6 +349,22 @@ def test_fitted_yes_wins_over_a_variant_dnp_and_the_conflict_is_nodata(tmp_path)
     assert "Yes (DNP in variant B)" in r.findings[1].message
 
 
+def test_dnp_limited_to_a_variant_keeps_the_part_fitted_with_a_finding(tmp_path):
+    # Common practice of variant notes: "DNP on the 115 V variant only" does not unfit the part
+    # in the build the BOM may describe; it stays audited and the audit shows the doubt
+    # (nodata). A plain "DNP" note still means not fitted.
+    text = ("Designator,Value,Description,Notes\n"
+            "C7,10uF,CAP CER 10uF 16V X7R 10%,DNP on the 115 V variant only\n"
+            "C8,10uF,CAP CER 10uF 16V X7R 10%,DNP for option B\n"
+            "C9,10uF,CAP CER 10uF 16V X7R 10%,DNP\n")
+    r = read_bom(_file(tmp_path, text))
+    _check_accounting(r)
+    assert r.placements["fitted"].tolist() == [True, True, False]
+    assert [(f.row, f.code, f.severity) for f in r.findings] == [
+        (2, "fitted_conflict", "nodata"), (3, "fitted_conflict", "nodata")]
+    assert "names a variant" in r.findings[0].message
+
+
 def test_capacitor_rows_without_usable_designators_are_unreadable(tmp_path):
     # Common practice: a capacitor row whose designator is empty or does not expand is
     # counted unreadable with its reason, never dropped (the audit cannot pass it).
