@@ -120,7 +120,7 @@ def _audit_verdicts(table: pd.DataFrame, rule_verdicts: pd.DataFrame,
         idx = np.flatnonzero(refdes == f.refdes) if f.refdes else np.flatnonzero(rows == f.row)
         if not len(idx) and f.refdes:
             idx = np.flatnonzero(rows == f.row)
-        add(idx, BOM_FINDING.format(code=f.code), "warn",
+        add(idx, BOM_FINDING.format(code=f.code), f.severity,
             [f"{r}: {f.message}" for r in refdes[idx]], "BOM data")
     if len(parts) == 1:
         return rule_verdicts

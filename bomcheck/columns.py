@@ -19,8 +19,13 @@ from bomcheck.errors import InputError
 FIELDS: tuple[str, ...] = (
     "refdes", "qty", "value", "description", "manufacturer", "mpn", "package",
     "voltage", "tolerance", "dielectric", "temperature", "fitted", "notes",
-    "category", "level", "item", "ipn", "uom",
+    "category", "level", "item", "ipn", "uom", "value_alt", "description_alt",
 )
+# Fields whose weaker-alias columns are read too, as a second source of the same text: an EDA
+# export may carry "Comment" beside "Value" and "Part Description" beside "Description", each
+# with its own rating text (common practice of EDA BOM exports); the second column is mapped to
+# ``<field>_alt`` and merged conservatively with the first.
+ALT_FIELDS: dict[str, str] = {"value": "value_alt", "description": "description_alt"}
 
 # Aliases as written in real exports (English, German, French), best first: when two headers
 # match the same field, the one matching the earlier alias wins and the other stays unmapped.
@@ -142,6 +147,7 @@ FIELD_LABELS: dict[str, str] = {
     "temperature": "rated temperature", "fitted": "fitted/DNP", "notes": "notes",
     "category": "category", "level": "level", "item": "item number",
     "ipn": "internal part number", "uom": "unit of measure",
+    "value_alt": "second value", "description_alt": "second description",
 }
 
 # Units a header may give in brackets ("Capacitance (uF)", "Voltage [kV]", "Rated Temp (°C)"),
@@ -374,6 +380,16 @@ def map_columns(headers: Sequence[str], overrides: ColumnOverrides | None = None
         if h not in used:
             mapping[fld] = h
             used.add(h)
+    for fld, alt in ALT_FIELDS.items():
+        # The best column of a weaker alias than the one used ("Comment" beside "Value").
+        if alt in mapping or fld not in mapping:
+            continue
+        won = next((c[0] for c in best.get(fld, ()) if c[3] == mapping[fld]), None)
+        weaker = [c for c in best.get(fld, ()) if c[3] not in used
+                  and (won is None or c[0] > won)]
+        if weaker:
+            mapping[alt] = weaker[0][3]
+            used.add(weaker[0][3])
     if "refdes" not in mapping:
         raise layout_error(headers, "refdes", path=path, overrides=ov,
                            taken=set(mapping.values()))

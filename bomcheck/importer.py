@@ -27,12 +27,14 @@ Reasons given for rows not taken (``skipped.reason``), kind ``unreadable``:
 - ``designators mix capacitor and other prefixes (C, R)``;
 - ``capacitor designator, but the text reads as a <family> ('token')`` - e.g. ``4u7H`` on C5;
 - ``capacitor designator, but no capacitor value could be read ('text')`` and
-  ``capacitor designator with no value or description``.
+  ``capacitor designator with no value or description``;
+- ``designator prefix 'U' (integrated circuit), but the text reads as a capacitor ('text'): the
+  designator and the text disagree, check the line`` - text that says capacitor on its own
+  under the designator of another part.
 
 Kind ``not_capacitor``:
 
-- ``designator prefix 'R' (resistor) is not a capacitor``, with ``; the text reads as a
-  capacitor, check the designator`` added when the text disagrees;
+- ``designator prefix 'R' (resistor) is not a capacitor``;
 - ``the text reads as a <family> ('token')``, ``designator prefix 'E' is not a capacitor
   prefix and only a bare code reads as a capacitor ('104')``, ``no capacitor evidence in the
   text ('text')`` and ``no value or description`` - for prefixes that are neither.
@@ -86,7 +88,7 @@ from bomcheck.linespec import (
 __all__ = [
     "CAPACITOR_PREFIXES", "OTHER_PREFIXES", "PLACEMENT_COLUMNS", "ROW_CATEGORIES",
     "SKIPPED_COLUMNS", "SOURCE_COLUMNS", "SPEC_COLUMNS", "SPEC_SOURCES", "BomSource",
-    "ImportFinding", "ImportOptions", "ImportResult", "accounting_identity", "decimal_commas",
+    "NODATA_CODES", "ImportFinding", "ImportOptions", "ImportResult", "accounting_identity", "decimal_commas",
     "expand_lines", "not_fitted_mark", "other_part_evidence", "parse_qty", "prefix_kind",
     "read_bom", "spec_from_cells", "strip_not_fitted",
 ]
@@ -164,13 +166,24 @@ class BomSource:
 class ImportFinding:
     """Something about a BOM line a reviewer must look at (quantity mismatch, column conflict).
 
-    ``refdes`` is None for a finding on a whole line.
+    ``refdes`` is None for a finding on a whole line. ``severity`` is the verdict status the
+    audit gives the placements it names: ``"warn"`` when the data read is usable but a reviewer
+    should look (quantity against designators, a column conflict resolved conservatively), and
+    ``"nodata"`` when the placement's data cannot be trusted as read, so no verdict on it may
+    pass (``fitted_conflict``: the fitted column says yes while a cell says not fitted;
+    ``value_unread``: a number in the value text was not read, or read only by guessing, such as
+    ``1,500uF``, ``-10uF`` or a bare ``85``; ``capacitance_unread``: a fitted capacitor's value
+    cell has text but no capacitance was read from the line). ``NODATA_CODES`` lists the codes
+    of the second kind; ``capacitance_missing`` (a fitted capacitor with an empty value cell and
+    no capacitance in its other text) is a warning, since the checks that need the capacitance
+    give nodata themselves.
     """
 
     row: int
     refdes: str | None
     code: str
     message: str
+    severity: str = "warn"
 
     def _key(self) -> tuple[int, str, str, str]:
         return (self.row, self.refdes or "", self.code, self.message)
@@ -183,6 +196,17 @@ class ImportFinding:
     def to_dict(self) -> dict:
         """Plain dict for JSON."""
         return asdict(self)
+
+
+# Finding codes whose placements have no trustworthy data (severity "nodata", see ImportFinding).
+NODATA_CODES: frozenset[str] = frozenset({"fitted_conflict", "value_unread",
+                                          "capacitance_unread"})
+
+
+def _finding(row: int, refdes: str | None, code: str, message: str) -> ImportFinding:
+    """An ImportFinding with the severity its code carries."""
+    return ImportFinding(row, refdes, code, message,
+                         "nodata" if code in NODATA_CODES else "warn")
 
 
 SOURCE_COLUMNS: tuple[str, ...] = ("line", "source", "row", "manufacturer", "mpn", "text")
@@ -492,7 +516,7 @@ def import_table(table: reader.RawTable, options: ImportOptions = ImportOptions(
             columns={f: _original_header(table, h) for f, h in mapping.items()},
         )
         header_findings = tuple(
-            ImportFinding(int(table.header_row), None, "column_ambiguous",
+            _finding(int(table.header_row), None, "column_ambiguous",
                           f"two columns for the {colmod.FIELD_LABELS[fld]}: "
                           f"{_original_header(table, used)!r} is used, "
                           + ", ".join(repr(_original_header(table, o)) for o in others)
@@ -610,7 +634,7 @@ def _competing_cells(table: reader.RawTable, mapping: dict[str, str], heads: np.
             for li in np.flatnonzero(differ):
                 if _fold(str(a[li])) == _fold(str(b[li])):
                     continue
-                out.append(ImportFinding(
+                out.append(_finding(
                     int(head_rows[li]), None, "column_ambiguous",
                     f"{colmod.FIELD_LABELS[fld]}: column {_original_header(table, used)!r} says "
                     f"{a[li]!r} but column {_original_header(table, other)!r} says {b[li]!r}; "
@@ -730,7 +754,8 @@ def _build_lines(table: reader.RawTable, mapping: dict[str, str], source: BomSou
     combos = [parser.combo({s: str(line[s][li]) for s in present}) for li in first_line]
 
     # Fitted or not, per line: the fitted column first, then marks in the cells.
-    fitted, nf_reason, unclear = _fitted(line, mapping, table, des, combos, combo_code)
+    fitted, nf_reason, unclear, contradict = _fitted(line, mapping, table, des, combos,
+                                                     combo_code)
 
     # Classification per line.
     pk = des.kind
@@ -750,8 +775,12 @@ def _build_lines(table: reader.RawTable, mapping: dict[str, str], source: BomSou
     cap_line &= ~(decisive & ~strong)
     other_line = ok & ~cap_line & ((pk == _OTHER_KIND) | (pk == _UNKNOWN_KIND)
                                    | ((pk == _CAP_KIND) & decisive & ~strong))
+    # A designator of another part on text that reads as a capacitor on its own (U5 "CAP CER
+    # 10uF 6.3V X7R"): the two sources disagree, so the line is unreadable, not a silent
+    # non-capacitor (common practice: either the designator or the text is a typo).
+    disagree = other_line & (pk == _OTHER_KIND) & (evidence > 0) & strong & ~has_other
     kind[cap_line] = _CAP
-    kind[other_line] = _NONCAP
+    kind[other_line & ~disagree] = _NONCAP
     # One reason per distinct (prefix, combination) among the lines not taken; lines with their
     # own reason (designator errors, repeated headers) one by one.
     not_taken = np.flatnonzero(~cap_line)
@@ -781,20 +810,23 @@ def _build_lines(table: reader.RawTable, mapping: dict[str, str], source: BomSou
     cap_idx = np.flatnonzero(cap_line)
     mismatch = cap_line & ~np.isnan(qty) & (qty != des.count) & ~(~fitted & (qty == 0))
     for li in np.flatnonzero(mismatch):
-        findings.append(ImportFinding(
+        findings.append(_finding(
             int(head_rows[li]), None, "qty_mismatch",
             f"Qty says {qty[li]:g} but the designators name {des.count[li]} "
             f"({ref_text[li].strip()!r}); the placements follow the designators, check the line",
         ))
     for li in np.flatnonzero(cap_line & ~qty_ok):
-        findings.append(ImportFinding(
+        findings.append(_finding(
             int(head_rows[li]), None, "qty_unreadable",
             f"Qty {line['qty'][li]!r} is not a number; not compared with the "
             f"{des.count[li]} designators",
         ))
     for li, msg in unclear:
         if cap_line[li]:
-            findings.append(ImportFinding(int(head_rows[li]), None, "fitted_unclear", msg))
+            findings.append(_finding(int(head_rows[li]), None, "fitted_unclear", msg))
+    for li, msg in contradict:
+        if cap_line[li]:
+            findings.append(_finding(int(head_rows[li]), None, "fitted_conflict", msg))
     findings.extend(_competing_cells(table, mapping, heads, head_rows, cap_line))
 
     placements = _placements(cap_idx, des, line, head_rows, fitted, nf_reason, qty, combos,
@@ -878,12 +910,23 @@ def _continuations(frame: pd.DataFrame, mapping: dict[str, str], arrays: list[np
 
 def _fitted(line: dict[str, np.ndarray], mapping: dict[str, str], table: reader.RawTable,
             des: _Designators, combos: list[Combo], combo_code: np.ndarray
-            ) -> tuple[np.ndarray, np.ndarray, list[tuple[int, str]]]:
-    """Per line: fitted?, the reason when not, and (line, message) for unclear fitted cells."""
+            ) -> tuple[np.ndarray, np.ndarray, list[tuple[int, str]], list[tuple[int, str]]]:
+    """Per line: fitted?, the reason when not, (line, message) for unclear fitted cells and
+    (line, message) for lines that say both fitted and not fitted.
+
+    A fitted column that says yes wins over a not-fitted mark elsewhere in the line (``DNP on
+    variant B`` in the notes) and over a mark in its own cell after the yes (``Yes (DNP in
+    variant B)``): the placement stays in the audit, and the contradiction is a
+    ``fitted_conflict`` finding (common practice: a variant note does not unfit the part of the
+    variant the BOM describes). Without a yes, a mark limited to a variant (``DNP on the 115 V
+    variant only``, ``DNP for option B``) keeps the part fitted with the same finding."""
     n = len(combo_code)
     fitted = np.ones(n, dtype=bool)
+    explicit_yes = np.zeros(n, dtype=bool)
     reason = np.full(n, None, dtype=object)
     unclear: list[tuple[int, str]] = []
+    contradict: list[tuple[int, str]] = []
+    said_yes = np.full(n, "", dtype=object)
     if "fitted" in mapping:
         header = _original_header(table, mapping["fitted"])
         negative = colmod.is_negative_fitted(header)
@@ -893,55 +936,100 @@ def _fitted(line: dict[str, np.ndarray], mapping: dict[str, str], table: reader.
         no = np.array([not v[0] for v in verdicts], dtype=bool)[codes]
         fitted[no] = False
         reason[no] = says[codes[no]]
+        explicit_yes = np.array([v[0] and v[1] and bool(str(u).strip())
+                                 for v, u in zip(verdicts, uniq)], dtype=bool)[codes]
+        said_yes[explicit_yes] = says[codes[explicit_yes]]
         odd = np.array([v[0] and not v[1] for v in verdicts], dtype=bool)[codes]
         unclear = [(int(li), f"{says[codes[li]]}, which is neither yes nor no; taken as fitted")
                    for li in np.flatnonzero(odd)]
-    # Marks in cells, in order of precedence; each as (mark per distinct cell, code per line).
-    sources: list[tuple[str, list[str | None], np.ndarray]] = [
-        ("value", [c.marks.get("value") for c in combos], combo_code)]
+        own_mark = np.array([v[2] is not None for v in verdicts], dtype=bool)[codes]
+        contradict = [(int(li), f"{says[codes[li]]}: yes, but also {verdicts[codes[li]][2]!r}; "
+                       "taken as fitted, check which variant the BOM describes")
+                      for li in np.flatnonzero(own_mark)]
+    # Marks in cells, in order of precedence; each as (mark per distinct cell, code per line,
+    # whether that cell limits the mark to a variant).
+    sources: list[tuple[str, list[str | None], np.ndarray, list[bool]]] = [
+        ("value", [c.marks.get("value") for c in combos], combo_code,
+         [_variant_only(c.text) for c in combos])]
     if des.mark:
         idx = np.fromiter(des.mark, dtype=np.int64, count=len(des.mark))
         codes = np.zeros(n, dtype=np.int64)
         codes[idx] = np.arange(1, len(idx) + 1)
-        sources.append(("designator", [None, *des.mark.values()], codes))
-    for f, label in (("mpn", "part number"), ("description", "description"), ("notes", "notes")):
-        if f == "description":
-            sources.append((label, [c.marks.get("description") for c in combos], combo_code))
+        sources.append(("designator", [None, *des.mark.values()], codes,
+                        [False] * (len(idx) + 1)))
+    for f, label in (("mpn", "part number"), ("description", "description"),
+                     ("value_alt", "second value column"),
+                     ("description_alt", "second description column"), ("notes", "notes")):
+        if f in ("description", "value_alt", "description_alt"):
+            sources.append((label, [c.marks.get(f) for c in combos], combo_code,
+                            [_variant_only(c.text) for c in combos]))
         elif f in mapping:
             sources.append((label, *_marks_by_cell(line[f])))
-    for label, marks, codes in sources:
+    for label, marks, codes, variant in sources:
         has = np.array([m is not None for m in marks], dtype=bool)
         if not has.any():
             continue
-        for li in np.flatnonzero(fitted & has[codes]):
+        only = np.array(variant, dtype=bool)[codes] & has[codes]
+        for li in np.flatnonzero(explicit_yes & has[codes]):
+            contradict.append((int(li), f"{said_yes[li]} but {marks[codes[li]]!r} in {label}; "
+                               "taken as fitted, check which variant the BOM describes"))
+        for li in np.flatnonzero(fitted & ~explicit_yes & only):
+            contradict.append((int(li), f"{marks[codes[li]]!r} in {label} names a variant; "
+                               "taken as fitted, check which variant the BOM describes"))
+        for li in np.flatnonzero(fitted & ~explicit_yes & has[codes] & ~only):
             fitted[li] = False
             reason[li] = f"{marks[codes[li]]!r} in {label}"
-    return fitted, reason, unclear
+    return fitted, reason, unclear, contradict
 
 
-def _marks_by_cell(cells: np.ndarray) -> tuple[list[str | None], np.ndarray]:
-    """(not-fitted mark per distinct cell, code per line); code 0 is the empty cell."""
+def _marks_by_cell(cells: np.ndarray) -> tuple[list[str | None], np.ndarray, list[bool]]:
+    """(not-fitted mark per distinct cell, code per line, whether the cell limits it to a
+    variant); code 0 is the empty cell."""
     filled = np.flatnonzero(cells != "")
     codes = np.zeros(len(cells), dtype=np.int64)
     if not len(filled):
-        return [None], codes
+        return [None], codes, [False]
     sub, uniq = pd.factorize(cells[filled])
     codes[filled] = sub + 1
-    return [None, *(not_fitted_mark(str(u)) for u in uniq)], codes
+    marks = [not_fitted_mark(str(u)) for u in uniq]
+    return ([None, *marks], codes,
+            [False, *(m is not None and _variant_only(str(u)) for m, u in zip(marks, uniq))])
 
 
-def _fitted_cell(cell: str, negative: bool) -> tuple[bool, bool]:
-    """(fitted, understood) for a fitted-column cell; ``negative`` for a "DNP?" column."""
+# Words that limit a not-fitted mark to some builds ("DNP on the 115 V variant only", "DNP for
+# option B"): the part is fitted in the build this BOM may describe (common practice of
+# variant notes in BOMs).
+_VARIANT_WORDS = re.compile(r"\b(?:variants?|versions?|options?|only|builds?|except|unless)\b",
+                            re.IGNORECASE)
+
+
+def _variant_only(text: str) -> bool:
+    """Whether a cell's text limits a not-fitted mark to some variants."""
+    return bool(_VARIANT_WORDS.search(text))
+
+
+def _fitted_cell(cell: str, negative: bool) -> tuple[bool, bool, str | None]:
+    """(fitted, understood, not-fitted mark said beside a yes) for a fitted-column cell;
+    ``negative`` for a "DNP?" column. ``Yes (DNP in variant B)`` is fitted, with its mark."""
     t = _fold(cell)
     if not t:
-        return True, True
+        return True, True, None
     if negative:
         if t in _FITTED_YES or not_fitted_mark(cell):
-            return False, True
-        return True, t in _FITTED_NO
-    if t in _FITTED_NO or not_fitted_mark(cell):
-        return False, True
-    return True, t in _FITTED_YES
+            return False, True, None
+        return True, t in _FITTED_NO, None
+    if t in _FITTED_NO:
+        return False, True, None
+    mark = not_fitted_mark(cell)
+    if mark:
+        rest = _WORDS(strip_not_fitted(cell).casefold())
+        if rest and rest[0] in _FITTED_YES:
+            return True, True, mark
+        return False, True, None
+    return True, t in _FITTED_YES, None
+
+
+_WORDS = re.compile(r"[^\W_]+|[\u2713\u2714]").findall
 
 
 def _reason(li: int, repeated: np.ndarray, des: _Designators, pk: np.ndarray,
@@ -963,10 +1051,11 @@ def _reason(li: int, repeated: np.ndarray, des: _Designators, pk: np.ndarray,
             return "capacitor designator with no value or description"
         return f"capacitor designator, but no capacitor value could be read ({combo.text!r})"
     if pk[li] == _OTHER_KIND:
-        out = f"designator prefix {pfx!r} ({OTHER_PREFIXES[pfx]}) is not a capacitor"
         if combo.evidence > 0 and combo.strong and combo.other is None:
-            out += "; the text reads as a capacitor, check the designator"
-        return out
+            return (f"designator prefix {pfx!r} ({OTHER_PREFIXES[pfx]}), but the text reads "
+                    f"as a capacitor ({combo.text!r}): the designator and the text disagree, "
+                    "check the line")
+        return f"designator prefix {pfx!r} ({OTHER_PREFIXES[pfx]}) is not a capacitor"
     if combo.other is not None:
         family, token = combo.other
         return f"the text reads as {_a(family)} ({token!r})"
@@ -1049,12 +1138,23 @@ def _placement_findings(placements: pd.DataFrame, combos: list[Combo],
     rows = placements["row"].to_numpy()
     for p in np.flatnonzero(has_conflict & fitted):
         for code, msg in combos[cc[p]].conflicts:
-            out.append(ImportFinding(int(rows[p]), str(refdes[p]), code, msg))
+            out.append(_finding(int(rows[p]), str(refdes[p]), code, msg))
+    # A fitted capacitor with no capacitance read (common practice: every capacitor line states
+    # its capacitance; the checks that need it have no data).
+    # A value cell with text gives capacitance_unread (the data is there but was not
+    # understood), none capacitance_missing.
+    no_cap = np.array([c.spec["capacitance_f"] is None for c in combos], dtype=bool)[cc]
+    for p in np.flatnonzero(no_cap & fitted):
+        combo = combos[cc[p]]
+        code = "capacitance_unread" if combo.value_text else "capacitance_missing"
+        out.append(_finding(int(rows[p]), str(refdes[p]), code,
+                            f"no capacitance could be read from the BOM text ({combo.text!r}); "
+                            "checks that need it have no data"))
     if len(set(refdes)) < len(refdes):
         dup = pd.Series(refdes).duplicated(keep="first").to_numpy()
         first_row = pd.Series(rows).groupby(refdes).transform("first").to_numpy()
         for p in np.flatnonzero(dup):
-            out.append(ImportFinding(
+            out.append(_finding(
                 int(rows[p]), str(refdes[p]), "duplicate_refdes",
                 f"{refdes[p]} is also listed on row {first_row[p]}; each designator should "
                 "appear once",

@@ -5,7 +5,8 @@ that states a unit gets that unit (``470`` under ``Capacitance (uF)`` is 470 uF)
 parsed with ``bomcheck.values.parse_value`` in its column's context. The specs are merged field
 group by field group. Where the cells disagree on a number, the conservative reading wins
 (smaller capacitance, lower rated voltage, wider tolerance, lower rated maximum and higher rated
-minimum temperature) and the disagreement is a finding; for the other fields a dedicated column
+minimum temperature, the dielectric code with the narrower temperature range or larger change)
+and the disagreement is a finding; for the other fields a dedicated column
 wins over the value, the value over the description. A line with one cell of text is that cell's
 spec, with no merge.
 """
@@ -83,28 +84,32 @@ _RESISTOR_RKM_CAP_CODE = re.compile(r"^\s*\d{3}[KM]\s*$")  # 104K, 475M: pF code
 # The cells parsed for the specification, with the parser context each one gets.
 SPEC_SOURCES: tuple[str, ...] = (
     "value", "description", "voltage", "tolerance", "dielectric", "package", "temperature",
-    "category",
+    "category", "value_alt", "description_alt",
 )
 _SOURCE_LABELS = {
     "value": "value", "description": "description", "voltage": "voltage column",
     "tolerance": "tolerance column", "dielectric": "dielectric column",
     "package": "package column", "temperature": "temperature column",
-    "category": "category column",
+    "category": "category column", "value_alt": "second value column",
+    "description_alt": "second description column",
 }
-# The parser context of each source (a category cell is free text).
-_CONTEXT = {**{s: s for s in SPEC_SOURCES}, "category": "description"}
+# The parser context of each source (a category cell is free text; a second value or
+# description column reads as the first).
+_CONTEXT = {**{s: s for s in SPEC_SOURCES}, "category": "description", "value_alt": "value",
+            "description_alt": "description"}
+_ALT = ("value_alt", "description_alt")
 # Field groups taken whole from the first source that has the group's main (first) field.
 _GROUPS: tuple[tuple[tuple[str, ...], tuple[str, ...]], ...] = (
-    (("capacitance_f",), ("value", "description")),
-    (("voltage_v", "voltage_kind"), ("voltage", "value", "description")),
-    (("tol_minus_pct", "tol_plus_pct", "tol_abs_f"), ("tolerance", "value", "description")),
+    (("capacitance_f",), ("value", "description", *_ALT)),
+    (("voltage_v", "voltage_kind"), ("voltage", "value", "description", *_ALT)),
+    (("tol_minus_pct", "tol_plus_pct", "tol_abs_f"), ("tolerance", "value", "description", *_ALT)),
     (("dielectric", "dielectric_class", "cap_change_minus_pct", "cap_change_plus_pct",
-      "tc_ppm", "tc_tol_ppm"), ("dielectric", "value", "description")),
+      "tc_ppm", "tc_tol_ppm"), ("dielectric", "value", "description", *_ALT)),
     (("technology", "film_material", "polarized"),
-     ("dielectric", "value", "description", "category")),
-    (("package", "package_note"), ("package", "value", "description")),
-    (("safety_class",), ("value", "description", "dielectric")),
-    (("emi_filter",), ("value", "description")),
+     ("dielectric", "value", "description", "category", *_ALT)),
+    (("package", "package_note"), ("package", "value", "description", *_ALT)),
+    (("safety_class",), ("value", "description", "dielectric", *_ALT)),
+    (("emi_filter",), ("value", "description", *_ALT)),
 )
 FLOAT_SPEC = ("capacitance_f", "voltage_v", "tol_minus_pct", "tol_plus_pct", "tol_abs_f",
                "dielectric_class", "cap_change_minus_pct", "cap_change_plus_pct", "tc_ppm",
@@ -182,7 +187,8 @@ def spec_from_cells(cells: Mapping[str, str]) -> tuple[dict, str, str, str]:
 _BARE_NUMBER = re.compile(r"[-+]?(?:\d+(?:\.\d*)?|\.\d+)").fullmatch
 # Numeric field groups resolved conservatively, with the direction that is conservative.
 _CONSERVATIVE = {"capacitance_f": "smaller capacitance", "voltage_v": "lower rated voltage",
-                 "tol_minus_pct": "wider tolerance"}
+                 "tol_minus_pct": "wider tolerance",
+                 "dielectric": "narrower temperature range or larger change"}
 
 
 class CellParser:
@@ -193,10 +199,10 @@ class CellParser:
     """
 
     def __init__(self, semicolon: bool, units: Mapping[str, str] | None = None) -> None:
-        from bomcheck.values import CONFLICT_MARK, format_capacitance, parse_value
+        from bomcheck.values import CONFLICT_MARK, UNREAD_MARK, format_capacitance, parse_value
 
         self._parse = parse_value
-        self._mark = CONFLICT_MARK
+        self._marks = ((CONFLICT_MARK, "text_conflict"), (UNREAD_MARK, "value_unread"))
         self.fmt_c = format_capacitance
         self.semicolon = semicolon
         self.units = dict(units or {})
@@ -252,7 +258,8 @@ class CellParser:
         value, desc = cleaned.get("value", ""), cleaned.get("description", "")
         cap = any(s is not None and s.is_capacitor
                   for s in (specs.get("value"), specs.get("description"), specs.get("dielectric"),
-                            specs.get("category")))
+                            specs.get("category"), specs.get("value_alt"),
+                            specs.get("description_alt")))
         stated_tech = [s for s in (specs.get("dielectric"), specs.get("category"))
                        if s is not None and s.technology]
         strong = cap and bool(
@@ -277,13 +284,14 @@ class CellParser:
         return dict(got[0]), list(got[1])
 
     def _text_conflicts(self, src: str, sp: CapSpec) -> list[tuple[str, str]]:
-        """The parser's conflict warnings of one cell, as (code, message) findings (cached)."""
+        """The parser's conflict and unread warnings of one cell, as (code, message) findings:
+        ``text_conflict`` and ``value_unread`` (cached)."""
         key = (id(sp), src)
         got = self._conflicts.get(key)
         if got is None:
-            n = len(self._mark)
-            got = self._conflicts[key] = [("text_conflict", f"{_SOURCE_LABELS[src]}: {w[n:]}")
-                                          for w in sp.warnings if w.startswith(self._mark)]
+            got = self._conflicts[key] = [
+                (code, f"{_SOURCE_LABELS[src]}: {w[len(mark):]}")
+                for w in sp.warnings for mark, code in self._marks if w.startswith(mark)]
         return got
 
     def _stated_temps(self, src: str, sp: CapSpec) -> tuple[float | None, float | None]:
@@ -350,6 +358,8 @@ class CellParser:
         wider tolerance (an absolute one compared through the merged capacitance)."""
         if key == "capacitance_f":
             return min(cands, key=lambda c: c[1][0])
+        if key == "dielectric":
+            return min(cands, key=lambda c: self._dielectric_doubt(c[1]))
         if key == "voltage_v":
             kinds = {c[1][1] for c in cands if c[1][1]}
             if len(kinds) > 1:  # an AC and a DC rating are two ratings: source order decides
@@ -373,6 +383,15 @@ class CellParser:
             return cands[best]
         return cands[best][0], (minus_w, plus_w, None)  # each side at its widest
 
+    def _dielectric_doubt(self, vals: tuple[Any, ...]) -> tuple[float, float, float]:
+        """Sort key of a dielectric group, the least favourable code first (EIA-198: the lower
+        upper temperature, then the higher lower temperature, then the larger change)."""
+        d = self.spec("dielectric", str(vals[0]))
+        hi = d.temp_max_c if d is not None and d.temp_max_c is not None else math.inf
+        lo = d.temp_min_c if d is not None and d.temp_min_c is not None else -math.inf
+        change = max(vals[2] or 0.0, vals[3] or 0.0)
+        return (hi, -lo, -change)
+
     def _groups(self, spec: CapSpec) -> list[tuple[Any, ...] | None]:
         """Per field group of ``_GROUP_KEYS``: the spec's values (key fields first), or None when
         the spec has none of the group's key fields. Cached per spec."""
@@ -391,7 +410,7 @@ class CellParser:
         state and what the dielectric code allows (EIA-198: X5R -55..+85 degC); a stated value
         that differs is a conflict."""
         cands: dict[str, list[tuple[float, str]]] = {"temp_min_c": [], "temp_max_c": []}
-        for src in ("temperature", "value", "description", "category"):
+        for src in ("temperature", "value", "description", "category", *_ALT):
             sp = present.get(src)
             if sp is None:
                 continue

@@ -11,13 +11,18 @@ from typing import Any
 
 from bomcheck import codes
 
-__all__ = ["CONFLICT_MARK", "keep_widest_tolerance", "unread_implausible"]
+__all__ = ["CONFLICT_MARK", "UNREAD_MARK", "keep_widest_tolerance", "unread_implausible"]
 
 # Warnings that start with this mark report two readings of one quantity in the same text
 # ("10uF X5R 125C": 125 degC above X5R's 85 degC); the parser keeps the conservative one (smaller
 # capacitance, lower rated voltage, wider tolerance, lower rated maximum temperature) and the
 # importer turns these warnings into findings.
 CONFLICT_MARK = "conflict: "
+# Warnings that start with this mark report a number in the text that was not read, or read only
+# by a guess ("-10uF": a sign a capacitance cannot have; "1,500uF": a thousands separator or a
+# decimal comma; "85" with no unit). The importer turns them into ``value_unread`` findings at
+# severity nodata: the placement's data cannot be trusted as read.
+UNREAD_MARK = "unread: "
 
 _PLAUSIBLE_CHECKS = (("capacitance_f", "cap", "capacitance", "F"),
                      ("voltage_v", "volt", "rated voltage", "V"),

@@ -19,10 +19,15 @@ from decimal import Decimal
 from bomcheck import codes
 from bomcheck.codes import Dielectric
 from bomcheck.spec import POLARIZED_TECHNOLOGIES, CapSpec
-from bomcheck.readings import CONFLICT_MARK, keep_widest_tolerance, unread_implausible
+from bomcheck.readings import (
+    CONFLICT_MARK,
+    UNREAD_MARK,
+    keep_widest_tolerance,
+    unread_implausible,
+)
 from bomcheck.valuetext import normalise
 
-__all__ = ["CONFLICT_MARK", "CONTEXTS", "format_capacitance", "parse_value"]
+__all__ = ["CONFLICT_MARK", "CONTEXTS", "UNREAD_MARK", "format_capacitance", "parse_value"]
 
 CONTEXTS = frozenset(
     {"any", "value", "description", "voltage", "tolerance", "dielectric", "package", "temperature"}
@@ -91,6 +96,8 @@ _TEMP_UNITS = frozenset({"°c", "°", "degc", "deg.c", "c"})
 _IGNORED_UNITS = frozenset({"hz", "khz", "mhz", "ghz", "ma", "marms", "arms", "mw", "w"})
 _OHM_UNITS = frozenset({"ohm", "ohms", "ω", "mω", "kω", "mohm", "kohm", "mohms", "kohms"})
 _INDUCTANCE_UNITS = frozenset({"ph", "nh", "uh", "mh"})
+# One-letter suffixes of quantities that have no sign: a capacitance (F, RKM p/n/u) or volts.
+_SIGNLESS_LETTERS = frozenset("FfVvpnuPNU")
 _HOUR_UNITS = frozenset({"h", "hr", "hrs", "hour", "hours"})
 # Unit words joined to a number written before them with a space ("50 V", "0.1 uF", "125 °C").
 _UNIT_WORDS = (frozenset(_CAP_UNIT_EXP) | frozenset(_VOLT_UNITS) | _IGNORED_UNITS | _OHM_UNITS
@@ -243,6 +250,7 @@ class _State:
         self.noncap: list[str] = []  # kinds named by words: resistor, inductor, crystal...
         self.weak_noncap: list[tuple[str, str, bool]] = []  # (token, kind, warn if capacitor)
         self.weak_cap_toks: list[str] = []
+        self.bare_toks: list[str] = []
         self.more_tols: list[tuple[tuple[float | None, float | None, float | None], str]] = []
         # Decided in the second pass: (what, index, token, data...).
         self.deferred: list[tuple] = []
@@ -330,6 +338,7 @@ class _State:
     def unread_number(self, tok: str) -> None:
         self.unread.append(tok)
         self.bare_numbers += 1
+        self.bare_toks.append(tok)
 
 
 # --- helpers -------------------------------------------------------------------------------------
@@ -376,6 +385,13 @@ def _numeric(st: _State, tok: str, i: int) -> None:
     if sign == "±":
         _plus_minus(st, num, suf, tok, i)
         return
+    if sign == "-" and (suf.lower() in _CAP_UNIT_EXP or suf.lower() in _VOLT_UNITS
+                        or suf in _SIGNLESS_LETTERS):
+        # "-10uF", "-16V": a sign a rating cannot have (a lost tolerance? a typo?); not read.
+        st.warnings.append(f"{UNREAD_MARK}{tok!r}: a negative capacitance or rated voltage; "
+                           "not read")
+        st.unread.append(tok)
+        return
     if len(suf) == 1:
         _one_letter_suffix(st, sign, num, suf, tok, i)
         return
@@ -398,7 +414,8 @@ def _numeric(st: _State, tok: str, i: int) -> None:
     if low in _IGNORED_UNITS:
         return  # frequency, ripple current, power: no field here
     if low in _HOUR_UNITS:
-        return  # a life rating ("2000h"): no field here
+        _life(st, tok)
+        return
     if low in _OHM_UNITS:
         st.weak_noncap.append((tok, "resistor", False))  # an ESR in a capacitor text
         return
@@ -529,9 +546,15 @@ def _one_letter_suffix(st: _State, sign: str, num: str, suf: str, tok: str, i: i
     elif suf == "m" and integer and st.context == "value":
         st.set_cap(_scaled(num, -3), tok, i, weak=True)  # RKM "10m" = 10 mF, in a value column
     elif suf in "hH" and integer and len(num) >= 3:
-        return  # a life rating in hours
+        _life(st, tok)
     else:
         st.unread.append(tok)
+
+
+def _life(st: _State, tok: str) -> None:
+    """A life rating ("2000H"): no field of the spec; said, so it is not dropped unseen."""
+    st.warnings.append(f"{tok!r}: a rated life; not used from the BOM text (give the part's "
+                       "life in the parts data)")
 
 
 def _dashed(st: _State, tok: str, i: int) -> None:
@@ -958,7 +981,8 @@ def _build(text: str, st: _State) -> CapSpec:
         pkg, pkg_note = text.strip(), "not a chip, case or can code this parser knows"
         st.unread.clear()
     if st.bare_numbers and st.context in ("value", "any", "description"):
-        w.append("a number without a unit was not read")
+        w.append(f"{UNREAD_MARK}a number without a unit was not read ("
+                 + ", ".join(repr(t) for t in st.bare_toks) + ")")
 
     return CapSpec(
         text=text,
@@ -1016,11 +1040,25 @@ def parse_value(text: str, *, context: str = "any") -> CapSpec:
                     st.warnings.append(f"{key!r} read as the two-character voltage code "
                                        f"({codes.VOLTAGE_CODES[key]:g} V), not {key[0]} V")
                 s = ""
+        elif st.context == "value" and "e" in s.lower() and _SI_NUMBER(s.strip()):
+            s = _si_farads(s.strip(), st.warnings)
         _scan(st, s)
         return _build(text, st)
     except Exception as exc:  # a parser bug must not stop an import; the tests hunt for these
         return CapSpec(text=text, unread=(text,),
                        warnings=(f"internal parser error: {type(exc).__name__}: {exc}",))
+
+
+# A plain number in scientific notation with a negative exponent: how a spreadsheet writes a
+# capacitance in farads (1E-05 = 10 uF) when the value cell holds a number, not text.
+_SI_NUMBER = re.compile(r"\d+(?:\.\d+)?[eE]-\d{1,2}").fullmatch
+
+
+def _si_farads(s: str, warnings: list[str]) -> str:
+    """``1E-05`` in a value column -> ``10000000pF`` (read as farads, SI), with a note."""
+    pf = format(Decimal(s).scaleb(12).normalize(), "f")
+    warnings.append(f"{s!r}: a plain number in scientific notation, read as farads (SI)")
+    return f"{pf}pF"
 
 
 # Prefix steps for display: below the limit, use (prefix, power of ten).

@@ -10,6 +10,8 @@ from __future__ import annotations
 
 import re
 
+from bomcheck.readings import UNREAD_MARK
+
 __all__ = ["normalise"]
 
 _TRANSLATE = str.maketrans(
@@ -32,6 +34,20 @@ _PM_SPACE = re.compile(r"±\s+")
 _COMMA_NUMBER = re.compile(
     r"(?<![\d.,])(?:\d{1,3}(?:,\d{3})+(?:\.\d+)?|\d{1,2},\d{1,2})(?=\s?[A-Za-z%°])"
 )
+# Two temperatures around a slash with one unit: "-40/110C" (a range: lower and upper category
+# temperature) or "85/105C" (two upper temperatures: both are read, the lower is kept and the
+# conflict reported). IEC 60068-1 climatic categories ("40/105/56") have no unit and stay.
+_TEMP_PAIR = re.compile(r"(?<![\w./])([-+]?\d{1,3})\s?/\s?([-+]?\d{1,3})\s?(°?\s?[Cc])(?![\w/])")
+
+
+def _temperature_pair(m: re.Match[str]) -> str:
+    """``-40/110C`` -> ``-40~110C`` (a range); ``85/105C`` -> ``85C 105C`` (two ratings)."""
+    lo, hi, unit = m.group(1), m.group(2), m.group(3).replace(" ", "")
+    if int(lo) <= 0 < int(hi):
+        return f"{lo}~{hi}{unit}"
+    return f"{lo}{unit} {hi}{unit}"
+
+
 # Library-style values and footprints join fields with underscores (C_0603_100n_50V_X7R,
 # Capacitor_SMD:C_0603_1608Metric, CP_Elec_8x10): a leading capacitor symbol name becomes the
 # word CAP and the underscores separate tokens (common practice of EDA symbol libraries).
@@ -51,6 +67,8 @@ def normalise(text: str, warnings: list[str]) -> str:
         s = _PM_SPACE.sub("±", s)
     if "," in s:
         s = _COMMA_NUMBER.sub(lambda m: _comma_number(m.group(), warnings), s)
+    if "/" in s:
+        s = _TEMP_PAIR.sub(_temperature_pair, s)
     if "_" in s:
         s = _LIBRARY_PREFIX.sub("CAP ", s).replace("_", " ")
     if "(" in s or "[" in s:
@@ -64,7 +82,9 @@ def _comma_number(text: str, warnings: list[str]) -> str:
     if "." in text or "," in tail:
         return text.replace(",", "")
     if len(tail) == 3 and not head.startswith("0"):
-        warnings.append(f"{text}: ',' read as a thousands separator ({head}{tail})")
+        warnings.append(f"{UNREAD_MARK}{text}: ',' read as a thousands separator ({head}{tail}), "
+                        f"but it may be a decimal comma ({float(head + '.' + tail):g}); check "
+                        "the value")
         return head + tail
     return f"{head}.{tail}"
 

@@ -97,9 +97,11 @@ def test_fitted_header_polarity(header, negative):
 def test_map_columns_best_alias_wins_and_one_header_one_field():
     headers = ["Item", "Comment", "Designator", "Value", "Value (2)", "Qty", "Footprint"]
     got = map_columns(headers)
-    # "Value" beats "Comment" for value; the leftmost of two "Value" columns wins.
+    # "Value" beats "Comment" for value; the leftmost of two "Value" columns wins. "Comment",
+    # a weaker alias of the value, is still read as the second value column (it may hold a
+    # rating the first lacks).
     assert got == {"refdes": "Designator", "qty": "Qty", "value": "Value",
-                   "package": "Footprint", "item": "Item"}
+                   "package": "Footprint", "item": "Item", "value_alt": "Comment"}
 
 
 def test_map_columns_user_columns_come_first():
@@ -251,3 +253,15 @@ def test_two_columns_for_one_field_are_reported_and_the_unit_column_is_used():
     assert got["voltage"] == "Voltage (V)"
     assert columns.competing_columns(headers, got) == [
         ("voltage", "Voltage (V)", ["Voltage (Rev A)"])]
+
+
+def test_weaker_value_and_description_columns_are_second_sources():
+    # Common practice of EDA BOM exports: "Comment" beside "Value" and "Part Description"
+    # beside "Description" each carry rating text; both are read (the second as ``_alt``).
+    headers = ["Comment", "Description", "Designator", "Footprint", "Quantity", "Value",
+               "Part Description"]
+    got = map_columns(headers)
+    assert got["value"] == "Value" and got["value_alt"] == "Comment"
+    assert got["description"] == "Description" and got["description_alt"] == "Part Description"
+    # Alone, "Comment" is the value column and nothing is second.
+    assert map_columns(["Designator", "Comment"]) == {"refdes": "Designator", "value": "Comment"}

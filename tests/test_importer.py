@@ -331,6 +331,58 @@ def test_not_fitted_spellings(tmp_path):
     assert "'variant B', which is neither yes nor no" in r.findings[0].message
 
 
+def test_fitted_yes_wins_over_a_variant_dnp_and_the_conflict_is_nodata(tmp_path):
+    # Common practice: a Fitted column that says yes describes the variant of this BOM; a "DNP
+    # on variant B" note elsewhere in the row (or after the yes) does not unfit the part. The
+    # placement stays audited and the contradiction is a finding the audit gives as nodata.
+    text = ("Designator,Qty,Value,Description,Fitted,Notes\n"
+            "C7,1,10uF,CAP CER 10uF 16V X7R 10%,Yes,DNP on the 115 V variant only\n"
+            "C8,1,10uF,CAP CER 10uF 16V X7R 10%,Yes (DNP in variant B),\n"
+            "C9,1,10uF,CAP CER 10uF 16V X7R 10%,,DNP\n"
+            "C10,1,10uF,CAP CER 10uF 16V X7R 10%,not fitted,\n")
+    r = read_bom(_file(tmp_path, text))
+    _check_accounting(r)
+    assert r.placements["fitted"].tolist() == [True, True, False, False]
+    got = [(f.row, f.code, f.severity) for f in r.findings]
+    assert got == [(2, "fitted_conflict", "nodata"), (3, "fitted_conflict", "nodata")]
+    assert "'DNP' in notes" in r.findings[0].message
+    assert "Yes (DNP in variant B)" in r.findings[1].message
+
+
+def test_dnp_limited_to_a_variant_keeps_the_part_fitted_with_a_finding(tmp_path):
+    # Common practice of variant notes: "DNP on the 115 V variant only" does not unfit the part
+    # in the build the BOM may describe; it stays audited and the audit shows the doubt
+    # (nodata). A plain "DNP" note still means not fitted.
+    text = ("Designator,Value,Description,Notes\n"
+            "C7,10uF,CAP CER 10uF 16V X7R 10%,DNP on the 115 V variant only\n"
+            "C8,10uF,CAP CER 10uF 16V X7R 10%,DNP for option B\n"
+            "C9,10uF,CAP CER 10uF 16V X7R 10%,DNP\n")
+    r = read_bom(_file(tmp_path, text))
+    _check_accounting(r)
+    assert r.placements["fitted"].tolist() == [True, True, False]
+    assert [(f.row, f.code, f.severity) for f in r.findings] == [
+        (2, "fitted_conflict", "nodata"), (3, "fitted_conflict", "nodata")]
+    assert "names a variant" in r.findings[0].message
+
+
+def test_capacitor_rows_without_usable_designators_are_unreadable(tmp_path):
+    # Common practice: a capacitor row whose designator is empty or does not expand is
+    # counted unreadable with its reason, never dropped (the audit cannot pass it).
+    text = ("Designator,Qty,Value,Description\n"
+            "C1,1,10uF,CAP CER 10uF 50V X7R 10%\n"
+            ",1,10uF,CAP CER 10uF 6.3V X7R 10%\n"
+            "C5-C3,3,10uF,CAP CER 10uF 6.3V X7R 10%\n"
+            "C7..,1,10uF,CAP CER 10uF 6.3V X7R 10%\n")
+    r = read_bom(_file(tmp_path, text))
+    _check_accounting(r)
+    assert r.totals["unreadable_rows"] == 3 and r.totals["capacitor_rows"] == 1
+    rows = _skipped(r)
+    assert [(row, kind) for row, kind, _ in rows] == [(3, "unreadable"), (4, "unreadable"),
+                                                      (5, "unreadable")]
+    assert rows[0][2] == "no designator"
+    assert "runs backwards" in rows[1][2] and "not readable" in rows[2][2]
+
+
 def test_negative_fitted_column(tmp_path):
     r = read_bom(_file(tmp_path, "Designator,Value,DNP\nC1,100nF,x\nC2,100nF,\nC3,100nF,DNP\n"
                                  "C4,100nF,no\n"))
@@ -397,11 +449,23 @@ def test_traps(tmp_path):
     ]
 
 
-def test_other_prefix_with_capacitor_text_says_so(tmp_path):
-    r = read_bom(_file(tmp_path, "Designator,Value,Description\nR7,100nF,CAP CER 100NF 50V\n"))
+@pytest.mark.parametrize(
+    ("line", "pfx"),
+    [("R7,100nF,CAP CER 100NF 50V", "'R' (resistor)"),
+     ("U5,10uF,CAP CER 10uF 6.3V X7R 10%", "'U' (integrated circuit)"),
+     ("L1,4u7,CAP CER 4.7uF 6.3V X7R", "'L' (inductor)")],
+)
+def test_other_prefix_with_capacitor_text_is_unreadable(tmp_path, line, pfx):
+    # Common practice: text that says capacitor on its own (farad unit, CAP, a dielectric code)
+    # under the designator of another part means one of the two is a typo; the line is
+    # unreadable (counted, so the audit cannot pass it), not quietly a non-capacitor.
+    r = read_bom(_file(tmp_path, "Designator,Value,Description\n" + line + "\n"))
     _check_accounting(r)
-    assert _skipped(r) == [(2, "not_capacitor", "designator prefix 'R' (resistor) is not a "
-                            "capacitor; the text reads as a capacitor, check the designator")]
+    assert r.totals["unreadable_rows"] == 1 and r.totals["non_capacitor_rows"] == 0
+    (row, kind, reason), = _skipped(r)
+    assert (row, kind) == (2, "unreadable")
+    assert reason.startswith(f"designator prefix {pfx}, but the text reads as a capacitor")
+    assert "disagree" in reason
 
 
 @pytest.mark.parametrize(
@@ -422,8 +486,8 @@ def test_unknown_prefix_reasons(tmp_path, value, description, reason):
 
 def test_conservative_reading_wins_and_conflicts_are_findings(tmp_path):
     # Issue 9 class 6: where the columns and the text disagree on a number, the conservative
-    # reading is used (smaller capacitance, lower rated voltage, wider tolerance); for a code
-    # such as the dielectric the dedicated column wins. Each disagreement is a finding.
+    # reading is used (smaller capacitance, lower rated voltage, wider tolerance, the dielectric
+    # code with the narrower range). Each disagreement is a finding.
     text = ("Designator,Value,Description,Voltage,Tolerance,Dielectric\n"
             "C1,10uF,CAP CER 1uF 25V X5R,,,\n"
             "C2,100nF,CAP CER 0.1UF 50V X7R,25V,,\n"
@@ -449,7 +513,9 @@ def test_conservative_reading_wins_and_conflicts_are_findings(tmp_path):
                                      "says 50 V; using the voltage column (lower rated voltage, "
                                      "the conservative reading)"),
         (4, "C3", "column_conflict", "dielectric: dielectric column says X5R but description "
-                                     "says X7R; using the dielectric column"),
+                                     "says X7R; using the dielectric column (narrower "
+                                     "temperature range or larger change, the conservative "
+                                     "reading)"),
         (5, "C4", "column_conflict", "tolerance: tolerance column says +/-10 % but description "
                                      "says +/-20 %; using the description (wider tolerance, "
                                      "the conservative reading)"),
@@ -457,6 +523,19 @@ def test_conservative_reading_wins_and_conflicts_are_findings(tmp_path):
                                      "says 16 V; using the description (lower rated voltage, "
                                      "the conservative reading)"),
     ]
+
+
+@pytest.mark.parametrize(("column", "text", "kept"), [("X7R", "X5R", "X5R"), ("X5R", "X7R", "X5R"),
+                                                     ("C0G", "X7R", "X7R"),
+                                                     ("X7R", "X7S", "X7S")])
+def test_dielectric_conflict_keeps_the_less_favourable_code(tmp_path, column, text, kept):
+    # EIA-198: X5R is rated to +85 degC, X7R to +125 degC; X7S allows +/-22 % against X7R's
+    # +/-15 %, C0G 0 +/-30 ppm/degC. Whichever cell holds it, the less favourable code is used.
+    r = read_bom(_file(tmp_path, "Designator,Value,Description,Dielectric\n"
+                                 f"C3,10uF,CAP CER 10uF 50V {text} 10%,{column}\n"))
+    assert r.placements["dielectric"].tolist() == [kept]
+    assert [f.code for f in r.findings] == ["column_conflict"]
+    assert "the conservative reading" in r.findings[0].message
 
 
 def test_rated_temperature_conflicts_keep_the_lower(tmp_path):
@@ -547,7 +626,8 @@ def test_findings_sort_and_serialise():
     b = ImportFinding(4, "C1", "column_conflict", "m")
     c = ImportFinding(2, "C9", "column_conflict", "m")
     assert sorted([b, a, c]) == [c, a, b]
-    assert a.to_dict() == {"row": 4, "refdes": None, "code": "qty_mismatch", "message": "m"}
+    assert a.to_dict() == {"row": 4, "refdes": None, "code": "qty_mismatch", "message": "m",
+                           "severity": "warn"}
 
 
 def test_empty_table_below_the_header(tmp_path):
@@ -600,3 +680,65 @@ def test_cli_import_json(tmp_path, capsys):
     out = json.loads(capsys.readouterr().out)
     assert [p["refdes"] for p in out["placements"]] == ["C1"]
     assert out["totals"]["rows_read"] == 2 and out["skipped"][0]["row"] == 3
+
+
+# ---------------------------------------------------------------------------------------------
+# Numbers read by a guess, or not at all, are findings the audit gives as nodata
+
+
+def test_guessed_or_unread_numbers_are_nodata_findings(tmp_path):
+    # Common practice: "1,500uF" in a comma CSV may be 1500 uF or 1.5 uF; "-10uF" has a sign no
+    # capacitance has; "85" has no unit. None of these may pass silently.
+    text = ("Designator,Qty,Value,Description\n"
+            'C1,1,"1,500uF","CAP ALU ELEC 1,500uF 25V 105C 20%"\n'
+            "C2,1,-10uF,CAP CER 16V X7R\n"
+            "C3,1,10uF,CAP CER 10uF 16V X7R 85\n"
+            "C4,1,10uF,CAP CER 10uF 16V X7R\n")
+    r = read_bom(_file(tmp_path, text))
+    _check_accounting(r)
+    got = sorted({(f.refdes, f.code, f.severity) for f in r.findings})
+    assert got == [("C1", "value_unread", "nodata"), ("C2", "capacitance_unread", "nodata"),
+                   ("C2", "value_unread", "nodata"), ("C3", "value_unread", "nodata")]
+    c2 = [f.message for f in r.findings if f.refdes == "C2" and f.code == "value_unread"]
+    assert c2 == ["value: '-10uF': a negative capacitance or rated voltage; not read"]
+
+
+def test_scientific_value_cell_is_read_as_farads(tmp_path):
+    # SI: a spreadsheet's numeric value cell written as 1E-05 is 10 uF in farads; read, so no
+    # capacitance finding.
+    text = "Designator,Qty,Value,Description\nC2,1,1E-05,CAP CER 16V X7R 10% 0805\n"
+    r = read_bom(_file(tmp_path, text))
+    assert r.placements["capacitance_f"].tolist() == [pytest.approx(1e-5)]
+    assert r.findings == ()
+
+
+def test_fitted_capacitor_without_capacitance_is_a_finding(tmp_path):
+    # Common practice: a capacitor line states its capacitance; when none is read the placement
+    # says so (a not-fitted one does not matter).
+    # A value cell with text that gives no capacitance ("TBD") is data not understood: nodata.
+    text = ("Designator,Value,Description,Fitted\nC1,,CAP CER 16V X7R,\nC2,,CAP CER 16V X7R,no\n"
+            "C3,TBD,CAP CER 16V X7R,\n")
+    r = read_bom(_file(tmp_path, text))
+    assert [(f.refdes, f.code, f.severity) for f in r.findings] == [
+        ("C1", "capacitance_missing", "warn"), ("C3", "capacitance_unread", "nodata")]
+
+
+def test_comment_and_part_description_columns_are_read_conservatively(tmp_path):
+    # Common practice of EDA BOM exports: a "Comment" or "Part Description" column beside
+    # "Value" and "Description" may carry the rating; the conservative reading of all of them
+    # is used (lower rated voltage; EIA-198 X5R to +85 degC against X7R to +125 degC) and each
+    # disagreement is a finding.
+    text = ("Comment,Description,Designator,Footprint,Quantity,Value,Part Description\n"
+            "10uF 6.3V X5R,CAP CER 10uF 50V X7R 10%,C1,0805,1,10uF,\n"
+            "Capacitor,CAP CER 10uF 50V X7R 10%,C2,0805,1,10uF,CAP CER 10uF 6.3V X5R\n"
+            "DNP,CAP CER 10uF 50V X7R 10%,C3,0805,1,10uF,\n")
+    r = read_bom(_file(tmp_path, text))
+    _check_accounting(r)
+    p = r.placements
+    assert p["voltage_v"].tolist()[:2] == [6.3, 6.3]
+    assert p["dielectric"].tolist()[:2] == ["X5R", "X5R"]
+    assert p["temp_max_c"].tolist()[:2] == [85.0, 85.0]
+    assert p["fitted"].tolist() == [True, True, False]
+    got = sorted((f.refdes, f.code) for f in r.findings)
+    assert got == [("C1", "column_conflict")] * 2 + [("C2", "column_conflict")] * 2
+    assert any("second value column says 6.3 V" in f.message for f in r.findings)

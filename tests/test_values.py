@@ -9,7 +9,7 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 from bomcheck.spec import CapSpec
-from bomcheck.values import CONFLICT_MARK, format_capacitance, parse_value
+from bomcheck.values import CONFLICT_MARK, UNREAD_MARK, format_capacitance, parse_value
 
 U, N, P = 1e-6, 1e-9, 1e-12
 
@@ -541,3 +541,69 @@ def test_format_then_parse_round_trips(farads):
 def test_parse_format_parse_gives_the_same_value(text):
     first = parse_value(text, context="value").capacitance_f
     assert parse_value(format_capacitance(first), context="value").capacitance_f == first
+
+
+# ---------------------------------------------------------------------------------------------
+# Numbers that must be read, or reported as unread, never silently changed
+
+
+@pytest.mark.parametrize(
+    ("text", "tmin", "tmax", "conflict"),
+    [  # Common practice of electrolytic descriptions: "-40/105C" is the category range (lower
+       # and upper category temperature, IEC 60384-4 wording); two positive temperatures are two
+       # ratings, and the lower rated maximum is the conservative reading.
+        ("CAP ALU 10uF 16V -40/110C", -40.0, 110.0, False),
+        ("CAP ALU 10uF 16V -55/+125 °C", -55.0, 125.0, False),
+        ("CAP ALU 100uF 35V 85/105C 20%", None, 85.0, True),
+        ("CAP ALU 100uF 35V 105C/85C 20%", None, 85.0, True),
+    ],
+)
+def test_two_temperatures_around_a_slash(text, tmin, tmax, conflict):
+    s = parse_value(text, context="description")
+    assert (s.temp_min_c, s.temp_max_c) == (tmin, tmax)
+    assert s.unread == ()
+    assert any(w.startswith(CONFLICT_MARK) for w in s.warnings) is conflict
+
+
+@pytest.mark.parametrize("text", ["-10uF", "CAP CER -10uF 16V X7R", "CAP CER 10uF -16V X7R",
+                                  "-10u", "CAP ALU -1F 5V"])
+def test_negative_capacitance_or_voltage_is_unread_not_made_positive(text):
+    # Common practice: a capacitance or rated voltage has no sign; a minus is a typo or a lost
+    # tolerance, so the number is not read (and says so) rather than read without its sign.
+    s = parse_value(text, context="value")
+    assert s.capacitance_f is None or s.voltage_v is None
+    assert any(w.startswith(UNREAD_MARK) and "negative" in w for w in s.warnings)
+    assert any(u.startswith("-") for u in s.unread)
+
+
+@pytest.mark.parametrize(("text", "farads"), [("1E-05", 10 * U), ("4.7e-7", 470 * N),
+                                              ("2.2E-11", 22 * P)])
+def test_scientific_notation_in_a_value_column_is_farads(text, farads):
+    # SI: a bare number in a capacitance column written by a spreadsheet is in farads (the
+    # coherent SI unit); only the e-notation with a negative exponent is unambiguous.
+    s = parse_value(text, context="value")
+    assert s.capacitance_f == pytest.approx(farads, rel=1e-12)
+    assert s.is_capacitor
+
+
+def test_thousands_comma_is_flagged_unread():
+    # Common practice: "1,500uF" is 1500 uF with a thousands separator or 1.5 uF with a decimal
+    # comma; the reading is a guess, so the warning carries the unread mark.
+    s = parse_value("CAP ALU ELEC 1,500uF 25V 105C 20%", context="description")
+    assert any(w.startswith(UNREAD_MARK) and "1,500" in w for w in s.warnings)
+
+
+def test_bare_number_warning_names_the_number():
+    # Common practice: a number with no unit in a description is not guessed at; the warning
+    # names it, with the unread mark the importer turns into a finding.
+    s = parse_value("CAP CER 10uF 16V X7R 85", context="description")
+    assert s.unread == ("85",)
+    assert f"{UNREAD_MARK}a number without a unit was not read ('85')" in s.warnings
+
+
+def test_life_rating_is_said_not_dropped():
+    # Common practice of electrolytic descriptions: "2000H" is the rated life (endurance); the
+    # spec has no field for it, so the parse says so instead of dropping it unseen.
+    s = parse_value("CAP ALU 10uF 16V 2000H 105C", context="description")
+    assert (s.capacitance_f, s.voltage_v, s.temp_max_c) == (1e-5, 16.0, 105.0)
+    assert any("2000H" in w and "rated life" in w for w in s.warnings)
