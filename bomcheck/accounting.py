@@ -23,4 +23,6 @@ def accounting_identity(totals: Mapping[str, int]) -> tuple[str, bool]:
     total = sum(int(totals[k]) for k, _ in terms)
     text = f"rows read {totals['rows_read']} = " + " + ".join(
         f"{label} {totals[k]}" for k, label in terms)
+    if int(totals.get("hidden_rows", 0)):
+        text += f"; hidden rows not read {totals['hidden_rows']} (--include-hidden reads them)"
     return text, total == int(totals["rows_read"])

@@ -77,6 +77,16 @@ def _families_missing(table: pd.DataFrame, rule_verdicts: pd.DataFrame,
     return out
 
 
+def _read_warnings(imported) -> tuple:
+    """The BOM reader's warnings (hidden rows, columns or sheets skipped; lines in another
+    encoding) as input warnings of the report, each naming the BOM file and its first row."""
+    from bomcheck.design_cells import InputWarning
+
+    return tuple(InputWarning(str(imported.source.path), w.rows[0] if w.rows else None, None,
+                              f"{w.code}: {w.message}")
+                 for w in getattr(imported, "read_warnings", ()))
+
+
 def unchecked_metrics(ruleset) -> tuple[str, ...]:
     """Metrics no enabled rule in force limits, nor feeds: the audit reports none of them (every
     stress it shows is checked by a rule)."""
@@ -273,6 +283,6 @@ def audit_inputs(imported, design=None, part_data=None,
         environment=ruleset.environment,
         source_status=source_status,
         input_warnings=tuple(sorted(
-            (*(design.warnings if design is not None else ()),
+            (*_read_warnings(imported), *(design.warnings if design is not None else ()),
              *(part_data.warnings if part_data is not None else ())))),
     )

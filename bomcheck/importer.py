@@ -232,6 +232,8 @@ class ImportResult:
     skipped: pd.DataFrame
     findings: tuple[ImportFinding, ...]
     totals: dict[str, int]
+    # What the reader skipped or doubted (hidden rows, columns and sheets; mixed encodings).
+    read_warnings: tuple = ()
     # Builds ``sources`` on first use (most callers never ask for it).
     source_table: Callable[[], pd.DataFrame] | None = field(default=None, repr=False,
                                                             compare=False)
@@ -527,7 +529,10 @@ def import_table(table: reader.RawTable, options: ImportOptions = ImportOptions(
         if header_findings:
             result = replace(result, findings=tuple(sorted((*result.findings,
                                                             *header_findings))))
-        return replace(result, source=replace(source, sha256=digest.result()))
+        hidden = sum(len(w.rows) for w in table.warnings if w.code == "hidden-rows")
+        totals = {**result.totals, "hidden_rows": hidden} if hidden else result.totals
+        return replace(result, source=replace(source, sha256=digest.result()),
+                       read_warnings=tuple(table.warnings), totals=totals)
 
 
 def _original_header(table: reader.RawTable, name: str) -> str:

@@ -173,3 +173,29 @@ def test_nothing_audited_is_not_a_pass(run):
     code, report = run("R1,1,RES 10K 1% 0402,KR-103\n", "refdes,v_dc [V]\n")
     assert report["totals"]["audited"] == 0
     assert report["status"] == "nodata" and code == 1
+
+
+def test_hidden_rows_are_counted_and_warned_not_lost(tmp_path, monkeypatch, capsys):
+    # Hidden rows are not BOM data unless --include-hidden; every output says how many were
+    # skipped (the totals, the accounting line and the input warnings).
+    import openpyxl
+
+    wb = openpyxl.Workbook()
+    ws = wb.active
+    ws.append(["Designator", "Description"])
+    ws.append(["C1", "CAP CER 0.1UF 50V 10% X7R 0603"])
+    ws.append(["C2", "CAP CER 10UF 6.3V 10% X5R 0805"])
+    ws.row_dimensions[3].hidden = True
+    wb.save(tmp_path / "bom.xlsx")
+    (tmp_path / "design.csv").write_text("refdes,v_dc [V],t_ambient_c [degC],c_min_f\n"
+                                         "C1,5,40,none\nC2,5,40,none\n", encoding="utf-8")
+    monkeypatch.chdir(tmp_path)
+    main(["audit", "bom.xlsx", "--design", "design.csv", "--json", "out.json", "--quiet",
+          "--no-config"])
+    out = capsys.readouterr().out
+    report = json.loads((tmp_path / "out.json").read_text(encoding="utf-8"))
+    assert report["totals"]["hidden_rows"] == 1 and "hidden rows not read 1" in out
+    assert any("hidden-rows" in w["message"] for w in report["input_warnings"])
+    # Asked for, the hidden row is read, and C2 (5 V on 6.3 V) fails.
+    assert main(["audit", "bom.xlsx", "--design", "design.csv", "--include-hidden", "--quiet",
+                 "--no-config"]) == 1
