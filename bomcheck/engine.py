@@ -16,6 +16,7 @@ from itertools import repeat
 import numpy as np
 import pandas as pd
 
+from bomcheck.stresses import BEST_ONLY
 from bomcheck.rules import (STATUSES, Applies, Rule, RuleSet, axis_quantity, format_quantity,
                             visible_pair)
 from bomcheck.vocabulary import INPUT_LABELS, METRICS
@@ -337,7 +338,7 @@ def _bounded(rule: Rule, kind: CheckKind, cols: _Columns, idx: np.ndarray, gener
     """
     best = cols.num(f"{rule.metric}_best")[idx]
     worst = cols.num(f"{rule.metric}_worst")[idx]
-    metric_generic = cols.text(f"{rule.metric}_basis")[idx] == "generic"
+    metric_generic = np.isin(cols.text(f"{rule.metric}_basis")[idx], ("generic", BEST_ONLY))
     best = np.where(metric_generic, best, value)
     worst = np.where(metric_generic, worst, value)
     limit_best, warn_best = limit, warn_limit
@@ -384,7 +385,9 @@ def _evaluate_rule(rule: Rule, cols: _Columns, idx: np.ndarray, ctx: _Context,
 
     shown = _status(kind, value, limit, warn_limit)  # of the value the message shows
     status = shown.copy()
-    generic = cols.text(f"{rule.metric}_basis")[idx] == "generic"
+    metric_basis = cols.text(f"{rule.metric}_basis")[idx]
+    best_only = metric_basis == BEST_ONLY  # value unknown: only its kindest bound is shown
+    generic = (metric_basis == "generic") | best_only
     for axis in rule.axes:
         generic = generic | (cols.text(f"{axis}_basis")[idx] == "generic")
     basis = np.where(generic, "generic", "firm").astype(object)
@@ -396,6 +399,9 @@ def _evaluate_rule(rule: Rule, cols: _Columns, idx: np.ndarray, ctx: _Context,
         note[generic] = NOTE_GENERIC
         note[bound & (status == FAIL)] = NOTE_BOUND_FAIL
         note[bound & (status == PASS)] = NOTE_BOUND_PASS
+    # A value known only by its kindest bound is decided only where that bound fails.
+    unknown = best_only & (status != FAIL)
+    nodata = nodata | unknown
     capped = (status == FAIL) & (rule.severity == "warn") & ~nodata
     status[capped] = WARN
     note[capped] = NOTE_ADVISORY
@@ -497,6 +503,25 @@ def _show_violations(parts: list[_Coded], at: int, kind: CheckKind, metric, show
             parts[j].lookup.append(text)
 
 
+def _show_best_only(table: pd.DataFrame) -> pd.DataFrame:
+    """The table with each metric known only by its kindest bound (``<metric>_basis`` =
+    ``BEST_ONLY``) showing that bound, so that a failure there reads with its value."""
+    out = table
+    for col in table.columns:
+        if not (isinstance(col, str) and col.endswith("_basis")):
+            continue
+        metric = col[: -len("_basis")]
+        rows = (table[col] == BEST_ONLY).to_numpy()
+        if metric in table and f"{metric}_best" in table and rows.any():
+            if out is table:
+                out = table.copy(deep=False)
+            value = pd.to_numeric(out[metric], errors="coerce").to_numpy(dtype=float, copy=True)
+            value[rows] = pd.to_numeric(out[f"{metric}_best"], errors="coerce").to_numpy(
+                dtype=float)[rows]
+            out[metric] = value
+    return out
+
+
 def evaluate(table: pd.DataFrame, ruleset: RuleSet) -> pd.DataFrame:
     """Verdicts of every enabled rule on every placement it applies to (long format).
 
@@ -505,7 +530,7 @@ def evaluate(table: pd.DataFrame, ruleset: RuleSet) -> pd.DataFrame:
     missing. Returns columns ``VERDICT_COLUMNS``, sorted by ``pidx`` then ``rule_id``; ``pidx``
     is the placement's position in ``table``.
     """
-    cols = _Columns(table.reset_index(drop=True))
+    cols = _Columns(_show_best_only(table.reset_index(drop=True)))
     ctx = _Context(
         refdes=cols.text("refdes"),
         tech_at=cols.coded_map("technology", lambda t: f"{t} at " if t else "at ", "at "),
