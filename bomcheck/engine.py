@@ -408,6 +408,7 @@ def _evaluate_rule(rule: Rule, cols: _Columns, idx: np.ndarray, ctx: _Context,
     status[nodata] = NODATA
     basis[nodata] = "missing"
     margin = np.where(nodata, np.nan, kind.margin(value, limit))
+    value = np.where(unknown, np.nan, value)
 
     body = _bodies(rule, kind, cols, idx, status, shown, note, limit, warn_limit, ctx,
                    missing, bodies)

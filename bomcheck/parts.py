@@ -542,8 +542,9 @@ def _lay_dielectric(out: pd.DataFrame, part: pd.Series, override: np.ndarray, re
 
 
 def curve_values(table: pd.DataFrame, parts: PartsData | None, name: str, x: pd.Series, *,
-                 log_x: bool = False) -> pd.Series:
-    """Each placement's part curve ``name`` evaluated at ``x`` (NaN where its part has none).
+                 log_x: bool = False, beyond: bool = True) -> pd.Series:
+    """Each placement's part curve ``name`` evaluated at ``x`` (NaN where its part has none, and
+    past the curve's last point with ``beyond=False``).
 
     DC-bias curves given as capacitance are divided by the placement's nominal capacitance, so
     the result is always a fraction. Loops over the distinct parts with a curve, not placements.
@@ -558,6 +559,6 @@ def curve_values(table: pd.DataFrame, parts: PartsData | None, name: str, x: pd.
         mask = keys == key
         if not mask.any():
             continue
-        y = curve.at(xv[mask], log_x=log_x)
+        y = curve.at(xv[mask], log_x=log_x, beyond=beyond)
         out[mask] = y / nominal[mask] if curve.farads else y
     return out
