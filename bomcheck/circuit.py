@@ -347,6 +347,7 @@ def apply(table: pd.DataFrame, data: Any, ruleset: Any = None, *,
     share_generic = np.zeros(n, dtype=bool)
     share_best = np.full(n, np.nan)  # a member's share with the unknowns at their kindest
     share_worst = np.full(n, np.nan)  # and at their worst plausible, where there is one
+    share_note = np.full(n, "", dtype=object)  # the unknowns behind a generic share
     node_v_group = np.full(n, np.nan)
     node_c_group = np.full(n, np.nan)
     r_dis_group = np.full(n, np.nan)
@@ -412,6 +413,13 @@ def apply(table: pd.DataFrame, data: Any, ruleset: Any = None, *,
             bounded = (~tol_assumed.to_numpy()[p] & ~np.isnan(r_tol)
                        & ~np.isnan(leak_worst).any())
             share_worst[p] = np.where(bounded, np.fmax(cap, dc_worst) + ripple * k, np.nan)
+            unknown = np.isnan(leak) & alu_e
+            share_note[p] = (
+                f"series stack {g.name}: leakage not given for "
+                f"{', '.join(np.asarray(fitted, dtype=object)[unknown])}, bounded by 0 A and the "
+                "IEC 60384-4 limit 0.01 C V or 3 uA (common practice; "
+                f"{', '.join(f'{x * 1e6:.4g} uA' for x in leak_limit[unknown])}): give the "
+                "leakage in the parts data")
         if not math.isnan(upper):
             t.loc[t.index[p], "v_dc"] = v_dc * series_f(c) / c
             # One member of unknown capacitance leaves every capacitive share unknown: no data,
@@ -487,6 +495,7 @@ def apply(table: pd.DataFrame, data: Any, ruleset: Any = None, *,
         out["temp_margin_c_basis"] = np.where(generic_t, "generic",
                                               _text(out, "temp_margin_c_basis"))
     out["voltage_ratio_basis"] = np.where(share_generic, "generic", "")
+    out["voltage_ratio_note"] = np.where(share_generic, share_note, "")
     out["voltage_ratio_worst"] = np.where(share_generic, share_worst / _col(out, "voltage_v"),
                                           np.nan)
     out["voltage_ratio_best"] = np.where(share_generic, share_best / _col(out, "voltage_v"),

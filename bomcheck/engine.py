@@ -460,7 +460,7 @@ def _bodies(rule: Rule, kind: CheckKind, cols: _Columns, idx: np.ndarray, status
         else:
             parts.append(ctx.tech_semi.take(rows))
             tail = f"{src})"
-        parts.append(_Coded(note[ok], list(NOTES)))
+        parts.append(_notes(cols, rule.metric, note[ok], rows))
         _show_violations(parts, len(fields), kind, metric, st, cols.num(rule.metric)[rows],
                          limit[ok])
         first, inverse = _distinct_rows(parts, k)
@@ -480,6 +480,18 @@ def _bodies(rule: Rule, kind: CheckKind, cols: _Columns, idx: np.ndarray, status
         bodies.extend(f": no data for {rule.title}: missing {lab}; {src}" for lab in labels)
         out[nd] = codes + start
     return out
+
+
+def _notes(cols: _Columns, metric: str, note: np.ndarray, rows: np.ndarray) -> _Coded:
+    """The message notes by code; a verdict left undecided by unknown data (a warning on generic
+    data) also names the unknowns from the ``<metric>_note`` column where the stress stage
+    gives one."""
+    if f"{metric}_note" not in cols.table.columns:
+        return _Coded(note, list(NOTES))
+    extra = cols.coded_map(f"{metric}_note", lambda t: f" ({t})" if t else "", "").take(rows)
+    m = len(extra.lookup)
+    codes = note * m + np.where(note == NOTE_GENERIC, extra.codes, m - 1)
+    return _Coded(codes, [n + x for n in NOTES for x in extra.lookup])
 
 
 def _show_violations(parts: list[_Coded], at: int, kind: CheckKind, metric, shown: np.ndarray,
