@@ -600,3 +600,45 @@ def _empty() -> pd.DataFrame:
         **{c: np.array([], dtype=float) for c in ("value", "limit", "warn_limit", "margin")},
         **{c: _obj(np.array([], dtype=object)) for c in ("message", "source", "basis")},
     })
+
+
+def without_unverdicted(table: pd.DataFrame, verdicts: pd.DataFrame,
+                        ruleset: RuleSet) -> pd.DataFrame:
+    """The table with every metric a placement has no rule verdict on set to NaN: a stress is
+    shown only where a rule on it (or on a curve over it) gave that placement a verdict, and a
+    component only where a stress it feeds is shown (a stress shown is a stress checked).
+
+    ``verdicts`` is ``evaluate``'s table (``pidx`` into ``table``); rows of ids that are no rule
+    of ``ruleset`` (the audit's own verdicts) count for nothing.
+    """
+    n = len(table)
+    pidx = verdicts["pidx"].to_numpy(dtype=np.int64) if len(verdicts) else np.zeros(0, np.int64)
+    ids = verdicts["rule_id"].to_numpy(dtype=object) if len(verdicts) else np.zeros(0, object)
+    shown: dict[str, np.ndarray] = {}
+    for rule in ruleset.rules:
+        at = pidx[ids == rule.id]
+        if not at.size:
+            continue
+        for name in (rule.metric, *rule.axes):
+            shown.setdefault(name, np.zeros(n, dtype=bool))[at] = True
+
+    def fed(name: str, seen: frozenset = frozenset()) -> np.ndarray:
+        if name in shown or name in seen:
+            return shown.get(name, np.zeros(n, dtype=bool))
+        out = np.zeros(n, dtype=bool)
+        for target in METRICS[name].feeds:
+            out |= fed(target, seen | {name})
+        shown[name] = out
+        return out
+
+    out = table.copy(deep=False)
+    for name in METRICS:
+        if name not in out.columns:
+            continue
+        keep = fed(name)
+        if keep.all():
+            continue
+        values = pd.to_numeric(out[name], errors="coerce").to_numpy(dtype=float, copy=True)
+        values[~keep] = np.nan
+        out[name] = values
+    return out
