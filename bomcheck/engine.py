@@ -622,14 +622,23 @@ def without_unverdicted(table: pd.DataFrame, verdicts: pd.DataFrame,
         for name in (rule.metric, *rule.axes):
             shown.setdefault(name, np.zeros(n, dtype=bool))[at] = True
 
-    def fed(name: str, seen: frozenset = frozenset()) -> np.ndarray:
-        if name in shown or name in seen:
-            return shown.get(name, np.zeros(n, dtype=bool))
-        out = np.zeros(n, dtype=bool)
-        for target in METRICS[name].feeds:
-            out |= fed(target, seen | {name})
-        shown[name] = out
-        return out
+    # The fields a shown stress's message prints (its operating temperature, its transient
+    # peak) are shown with it.
+    for name in list(shown):
+        for _, field_name, _, _ in string.Formatter().parse(METRICS[name].explain):
+            if field_name in METRICS:
+                shown.setdefault(field_name, np.zeros(n, dtype=bool))
+                shown[field_name] = shown[field_name] | shown[name]
+
+    done: dict[str, np.ndarray] = {}
+
+    def fed(name: str) -> np.ndarray:  # the feeds of the registry form no cycle
+        if name not in done:
+            out = shown.get(name, np.zeros(n, dtype=bool)).copy()
+            for target in METRICS[name].feeds:
+                out |= fed(target)
+            done[name] = out
+        return done[name]
 
     out = table.copy(deep=False)
     for name in METRICS:
