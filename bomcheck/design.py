@@ -36,9 +36,12 @@ twice at the same level (two designator rows, or two groups) is an ``InputError`
 rows. The upper bound of the rail travels with its DC value: a ``v_dc`` given at a more specific
 level drops a ``v_dc_max`` given at a less specific one (a ``v_tol_pct`` still applies); where
 only the tolerance is known, ``v_dc_max = v_dc x (1 + v_tol_pct/100)``. Values of a group that
-belong to the group as a whole are not copied to its members: a bank's ``c_min_f`` (the bank
-meets the requirement) and a series stack's voltages (each member carries a share); they stay
-in ``Group.conditions`` for the stress stage.
+belong to the group as a whole are not copied to its members: a bank's or series stack's
+``c_min_f`` (the group meets the requirement: a member's own need is "none") and a series
+stack's voltages (each member carries a share; its ``v_reverse_pk`` reaches every member
+whole, the conservative reading); they stay in ``Group.conditions`` for the stress stage. A
+designator row that sets a value its group's row also gives wins and is a warning naming both
+rows; ``t_ambient_min_c`` above ``t_ambient_c`` is a warning too.
 
 Circuit columns
 ---------------
@@ -61,7 +64,8 @@ Read by ``bomcheck.circuit`` (bare numbers in the unit shown):
   stack's flows through every member.
 
 Group-only values (a bank's ``c_min_f``, ``r_bleeder_ohm``, ``i_ripple_a``; a series stack's
-voltages, ``r_bleeder_ohm``, ``slew_v_per_s``, ``r_source_ohm``) stay in ``Group.conditions``.
+voltages but ``v_reverse_pk``, its ``c_min_f``, ``r_bleeder_ohm``, ``slew_v_per_s``,
+``r_source_ohm``) stay in ``Group.conditions``.
 """
 
 from __future__ import annotations
