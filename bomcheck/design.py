@@ -281,6 +281,13 @@ def _build(e: Entries, *, path: str, labels: Labels, warnings: list[InputWarning
                                  warnings=warnings)
     conditions = _conditions(e, d, groups, membership, warnings, path)
     _warn_upper_bound(conditions, warnings, path)
+    for g in groups.values():  # a series stack's voltages stay on its own row
+        gc = g.conditions
+        if "v_dc_max" in gc and "v_dc" in gc and abs(gc["v_dc_max"]) < abs(gc["v_dc"]):
+            warnings.append(InputWarning(
+                path, g.row, "v_dc_max", f"v_dc_max is below v_dc (in magnitude) for group "
+                f"{g.name} (row {g.row}): contradictory; the rail's upper bound is taken as the "
+                "larger"))
     _warn_coldest(conditions, warnings, path)
     _warn_small_tolerance(e, warnings, path)
     return Design(path=path, sha256="", conditions=conditions, defaults=defaults,

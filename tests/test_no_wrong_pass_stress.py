@@ -178,6 +178,12 @@ def test_a_designator_row_overriding_its_group_is_a_warning_naming_both_rows():
     assert "12" in w.message and "5" in w.message
 
 
+def test_a_group_rail_maximum_below_its_dc_value_is_a_warning():
+    d = _sheet(["refdes", "members", "kind", "v_dc", "v_dc_max"],
+               ["LINK", "C1-C2", "series", "400", "40"])
+    assert any(w.column == "v_dc_max" and w.row == 2 and "LINK" in w.message for w in d.warnings)
+
+
 def test_a_coldest_above_the_operating_ambient_is_a_warning():
     d = _sheet(["refdes", "v_dc", "t_ambient_c", "t_ambient_min_c"], ["C1", "5", "20", "40"])
     assert any(w.column == "t_ambient_min_c" and w.row == 2 for w in d.warnings)
