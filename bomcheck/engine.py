@@ -16,9 +16,9 @@ from itertools import repeat
 import numpy as np
 import pandas as pd
 
-from bomcheck.stresses import BEST_ONLY
 from bomcheck.rules import (STATUSES, Applies, Rule, RuleSet, axis_quantity, format_quantity,
                             visible_pair)
+from bomcheck.stresses import BEST_ONLY
 from bomcheck.vocabulary import INPUT_LABELS, METRICS
 
 PASS, WARN, FAIL, NODATA = range(4)

@@ -9,11 +9,10 @@ import math
 import numpy as np
 import pandas as pd
 import pytest
-from test_no_wrong_pass import run, verdicts  # noqa: F401 (fixture)
-
 from bomcheck import engine, rules
 from bomcheck.design import design_from_table
 from bomcheck.substitute import Alternate, run_direct
+from test_no_wrong_pass import run, verdicts  # noqa: F401 (the fixture and its reader)
 
 
 def _warnings(report: dict) -> list[str]:
