@@ -6,6 +6,7 @@ recompute anything.
 
 from __future__ import annotations
 
+import warnings
 from dataclasses import dataclass, field
 from datetime import date
 
@@ -169,7 +170,11 @@ def evaluate_table(table: pd.DataFrame, ruleset, *, parts=None, groups=None,
 
     data = stress_data(ruleset)
     table = stresses.compute(table.reset_index(drop=True), data)
-    run = circuit.apply(table, data, ruleset, parts=parts, groups=groups)
+    with warnings.catch_warnings():
+        # The circuit stage adds a handful of columns to a wide table one at a time; pandas'
+        # fragmentation hint is about speed, and a full copy to silence it costs more.
+        warnings.simplefilter("ignore", pd.errors.PerformanceWarning)
+        run = circuit.apply(table, data, ruleset, parts=parts, groups=groups)
     table = run.table
     verdicts = _audit_verdicts(table, engine.evaluate(table, ruleset), import_findings, ruleset)
     if len(run.verdicts):
@@ -178,11 +183,11 @@ def evaluate_table(table: pd.DataFrame, ruleset, *, parts=None, groups=None,
     # The audit's own verdicts: no verdict is missing data; a finding on given data is firm.
     verdicts["basis"] = verdicts["basis"].where(
         verdicts["basis"].notna(), np.where(verdicts["status"] == "nodata", "missing", "firm"))
-    table = table.copy(deep=False)  # new columns only; the stages never write in place
-    for name in unchecked_metrics(ruleset):  # computed on the way, limited by no rule in force
-        if name in table:
-            table[name] = np.nan
-    table["status"] = placement_status(verdicts, len(table))
+    # A stress is reported only where a rule gave the placement a verdict on it (or on what it
+    # feeds); new columns only below, the stages never write in place.
+    table = engine.without_unverdicted(table, verdicts, ruleset)
+    status = pd.Series(placement_status(verdicts, len(table)), index=table.index, name="status")
+    table = pd.concat([table.drop(columns=["status"], errors="ignore"), status], axis=1)
     return Evaluated(table, verdicts, run.groups)
 
 

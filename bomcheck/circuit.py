@@ -346,6 +346,8 @@ def apply(table: pd.DataFrame, data: Any, ruleset: Any = None, *,
     share_dc = np.full(n, np.nan)
     share_generic = np.zeros(n, dtype=bool)
     share_best = np.full(n, np.nan)  # a member's share with the unknowns at their kindest
+    share_worst = np.full(n, np.nan)  # and at their worst plausible, where there is one
+    share_note = np.full(n, "", dtype=object)  # the unknowns behind a generic share
     node_v_group = np.full(n, np.nan)
     node_c_group = np.full(n, np.nan)
     r_dis_group = np.full(n, np.nan)
@@ -367,7 +369,9 @@ def apply(table: pd.DataFrame, data: Any, ruleset: Any = None, *,
         member_tol = _col(t, "v_tol_pct").to_numpy()[p]
         member_tol = float(np.max(member_tol[np.isfinite(member_tol)])) if np.isfinite(
             member_tol).any() else 0.0
-        upper = gc.get("v_dc_max", v_dc * (1.0 + gc.get("v_tol_pct", member_tol) / 100.0))
+        # The stack's upper bound is never below |v_dc| (a lower v_dc_max contradicts it).
+        upper = float(np.fmax(abs(gc.get("v_dc_max", np.nan)),
+                              abs(v_dc) * (1.0 + gc.get("v_tol_pct", member_tol) / 100.0)))
         ripple = gc.get("v_ripple_pk", 0.0)
         c = c_nom.to_numpy()[p]
         cmax = c_max.to_numpy()[p]
@@ -395,6 +399,27 @@ def apply(table: pd.DataFrame, data: Any, ruleset: Any = None, *,
         dc_governs = has_r & ~(cap > dc)
         share_generic[p] = ((tol_assumed.to_numpy()[p] & ~dc_governs)
                             | (dc_governs & (np.isnan(r_tol) | np.isnan(leak))))
+        # An aluminium electrolytic's unknown leakage at its worst plausible value, the limit
+        # of IEC 60384-4 as common practice (0.01 C V in uA with C in uF and V in volts, or
+        # 3 uA, whichever is greater), gives the worst share; a leakage unknown for another
+        # technology has no published worst.
+        alu_e = _text(t, "technology").to_numpy()[p] == "aluminium-electrolytic"
+        leak_limit = np.fmax(0.01 * c * _col(t, "voltage_v").to_numpy()[p], 3e-6)
+        leak_worst = np.where(np.isnan(leak) & alu_e, leak_limit, leak)
+        if has_r and (np.isnan(leak) & alu_e).any():
+            dc_worst = series_share_worst_dc(upper, r, np.nan_to_num(
+                r_tol, nan=data.default_tol_pct), np.nan_to_num(leak_worst, nan=0.0))
+            share_generic[p] |= dc_worst > np.fmax(cap, dc) * (1.0 + 1e-9)
+            bounded = (~tol_assumed.to_numpy()[p] & ~np.isnan(r_tol)
+                       & ~np.isnan(leak_worst).any())
+            share_worst[p] = np.where(bounded, np.fmax(cap, dc_worst) + ripple * k, np.nan)
+            unknown = np.isnan(leak) & alu_e
+            share_note[p] = (
+                f"series stack {g.name}: leakage not given for "
+                f"{', '.join(np.asarray(fitted, dtype=object)[unknown])}, bounded by 0 A and the "
+                "IEC 60384-4 limit 0.01 C V or 3 uA (common practice; "
+                f"{', '.join(f'{x * 1e6:.4g} uA' for x in leak_limit[unknown])}): give the "
+                "leakage in the parts data")
         if not math.isnan(upper):
             t.loc[t.index[p], "v_dc"] = v_dc * series_f(c) / c
             # One member of unknown capacitance leaves every capacitive share unknown: no data,
@@ -442,9 +467,10 @@ def apply(table: pd.DataFrame, data: Any, ruleset: Any = None, *,
                           "i_ripple_a": _finite(gc.get("i_ripple_a", np.nan)),
                           "notes": g.notes})
 
-    # DC bias from the part's own curve, at the applied voltage (series shares included).
+    # DC bias from the part's own curve, at the applied voltage (series shares included). Past
+    # the curve's last point the part data says nothing: the generic curve and its bounds apply.
     volts = stresses.applied_voltages(t)
-    keep = parts_mod.curve_values(t, parts, "dc_bias", volts["applied_peak_v"])
+    keep = parts_mod.curve_values(t, parts, "dc_bias", volts["applied_peak_v"], beyond=False)
     t["dc_bias_keep"] = keep.where(keep.notna(), _col(t, "dc_bias_keep"))
     changed |= keep.notna().to_numpy()
 
@@ -469,6 +495,9 @@ def apply(table: pd.DataFrame, data: Any, ruleset: Any = None, *,
         out["temp_margin_c_basis"] = np.where(generic_t, "generic",
                                               _text(out, "temp_margin_c_basis"))
     out["voltage_ratio_basis"] = np.where(share_generic, "generic", "")
+    out["voltage_ratio_note"] = np.where(share_generic, share_note, "")
+    out["voltage_ratio_worst"] = np.where(share_generic, share_worst / _col(out, "voltage_v"),
+                                          np.nan)
     out["voltage_ratio_best"] = np.where(share_generic, share_best / _col(out, "voltage_v"),
                                          np.nan)
 

@@ -36,9 +36,12 @@ twice at the same level (two designator rows, or two groups) is an ``InputError`
 rows. The upper bound of the rail travels with its DC value: a ``v_dc`` given at a more specific
 level drops a ``v_dc_max`` given at a less specific one (a ``v_tol_pct`` still applies); where
 only the tolerance is known, ``v_dc_max = v_dc x (1 + v_tol_pct/100)``. Values of a group that
-belong to the group as a whole are not copied to its members: a bank's ``c_min_f`` (the bank
-meets the requirement) and a series stack's voltages (each member carries a share); they stay
-in ``Group.conditions`` for the stress stage.
+belong to the group as a whole are not copied to its members: a bank's or series stack's
+``c_min_f`` (the group meets the requirement: a member's own need is "none") and a series
+stack's voltages (each member carries a share; its ``v_reverse_pk`` reaches every member
+whole, the conservative reading); they stay in ``Group.conditions`` for the stress stage. A
+designator row that sets a value its group's row also gives wins and is a warning naming both
+rows; ``t_ambient_min_c`` above ``t_ambient_c`` is a warning too.
 
 Circuit columns
 ---------------
@@ -61,7 +64,8 @@ Read by ``bomcheck.circuit`` (bare numbers in the unit shown):
   stack's flows through every member.
 
 Group-only values (a bank's ``c_min_f``, ``r_bleeder_ohm``, ``i_ripple_a``; a series stack's
-voltages, ``r_bleeder_ohm``, ``slew_v_per_s``, ``r_source_ohm``) stay in ``Group.conditions``.
+voltages but ``v_reverse_pk``, its ``c_min_f``, ``r_bleeder_ohm``, ``slew_v_per_s``,
+``r_source_ohm``) stay in ``Group.conditions``.
 """
 
 from __future__ import annotations
@@ -93,9 +97,11 @@ GROUP_KINDS = ("rail", "bank", "series")
 _GROUP_ONLY: dict[str, tuple[str, ...]] = {
     "rail": (),
     "bank": ("c_min_f", "r_bleeder_ohm", "i_ripple_a"),
-    "series": ("v_dc", "v_dc_max", "v_ripple_pk", "v_transient_pk", "v_reverse_pk", "v_ac_rms",
+    "series": ("v_dc", "v_dc_max", "v_ripple_pk", "v_transient_pk", "v_ac_rms",
                "r_bleeder_ohm", "slew_v_per_s", "r_source_ohm", "c_min_f"),
 }
+# Groups whose c_min_f the group meets as a whole: a member has no need of its own ("none").
+_SHARED_NEED = ("bank", "series")
 
 
 @dataclass(frozen=True)
@@ -273,8 +279,16 @@ def _build(e: Entries, *, path: str, labels: Labels, warnings: list[InputWarning
 
     groups, membership = _groups(e, is_group_row, group_name, d, path=path, labels=labels,
                                  warnings=warnings)
-    conditions = _conditions(e, d, groups, membership)
+    conditions = _conditions(e, d, groups, membership, warnings, path)
     _warn_upper_bound(conditions, warnings, path)
+    for g in groups.values():  # a series stack's voltages stay on its own row
+        gc = g.conditions
+        if "v_dc_max" in gc and "v_dc" in gc and abs(gc["v_dc_max"]) < abs(gc["v_dc"]):
+            warnings.append(InputWarning(
+                path, g.row, "v_dc_max", f"v_dc_max is below v_dc (in magnitude) for group "
+                f"{g.name} (row {g.row}): contradictory; the rail's upper bound is taken as the "
+                "larger"))
+    _warn_coldest(conditions, warnings, path)
     _warn_small_tolerance(e, warnings, path)
     return Design(path=path, sha256="", conditions=conditions, defaults=defaults,
                   groups=groups, warnings=tuple(warnings), defaults_row=defaults_row)
@@ -380,8 +394,12 @@ def _make_group(e: Entries, name: str, members: tuple[str, ...], i: int | None,
 
 
 def _conditions(e: Entries, d: pd.DataFrame, groups: dict[str, Group],
-                membership: pd.DataFrame) -> pd.DataFrame:
-    """Per-designator table: designator rows over group rows, field by field."""
+                membership: pd.DataFrame, warnings: list[InputWarning],
+                path: str) -> pd.DataFrame:
+    """Per-designator table: designator rows over group rows, field by field (a designator
+    row that overrides a value its group gives is a warning naming both rows). A member of a
+    bank or series stack whose group gives c_min_f has no need of its own: the group meets it
+    (``bank_c_margin``), so the member's c_min_f is "none" unless its own row gives one."""
     index = pd.Index(pd.concat([d["refdes"], membership["refdes"]]).drop_duplicates(),
                      dtype=object, name="refdes")
     n, k = len(index), len(CONDITION_COLUMNS)
@@ -402,6 +420,11 @@ def _conditions(e: Entries, d: pd.DataFrame, groups: dict[str, Group],
     at_m = index.get_indexer(membership["refdes"])
     general = np.full((n, k), np.nan)
     general[at_m] = g_values[g_at]
+    _warn_overrides(specific, general, index, d, e, groups, membership, warnings, path)
+    i_need = CONDITION_COLUMNS.index("c_min_f")
+    shared = np.array([g.kind in _SHARED_NEED and "c_min_f" in g.conditions
+                       for g in groups.values()], dtype=bool)
+    general[at_m[shared[g_at]], i_need] = 0.0
 
     notes = np.full(n, "", dtype=object)
     notes[at_m] = g_notes[g_at]
@@ -425,14 +448,55 @@ def _conditions(e: Entries, d: pd.DataFrame, groups: dict[str, Group],
     return out.iloc[np.argsort(design_row, kind="stable")]
 
 
+def _warn_overrides(specific: np.ndarray, general: np.ndarray, index: pd.Index,
+                    d: pd.DataFrame, e: Entries, groups: dict[str, Group],
+                    membership: pd.DataFrame, warnings: list[InputWarning], path: str) -> None:
+    """One warning per condition a designator row sets differently from its group's row,
+    naming the first such designator, both rows and both values (the designator row wins)."""
+    with np.errstate(invalid="ignore"):
+        differ = (~np.isnan(specific) & ~np.isnan(general)
+                  & ~np.isclose(specific, general, rtol=1e-9, atol=0.0))
+    if not differ.any():
+        return
+    d_row = pd.Series(e.rows[d["pos"].to_numpy()], index=pd.Index(d["refdes"], dtype=object))
+    g_row = {name: g.row for name, g in groups.items()}
+    group_of = pd.Series(membership["group"].to_numpy(), index=pd.Index(membership["refdes"],
+                                                                        dtype=object))
+    for c in np.flatnonzero(differ.any(axis=0)):
+        at = np.flatnonzero(differ[:, c])
+        ref = index[at[0]]
+        grp = str(group_of.get(ref))
+        more = f" (and {len(at) - 1} more designator(s))" if len(at) > 1 else ""
+        warnings.append(InputWarning(
+            path, int(d_row[ref]), CONDITION_COLUMNS[c],
+            f"{CONDITION_COLUMNS[c]} of {ref} (row {int(d_row[ref])}) is {specific[at[0], c]:g}, "
+            f"overriding {general[at[0], c]:g} of its group {grp} (row {g_row.get(grp)}){more}: "
+            "the designator row is used; check which is meant"))
+
+
+def _warn_coldest(conditions: pd.DataFrame, warnings: list[InputWarning], path: str) -> None:
+    """t_ambient_min_c above t_ambient_c contradicts itself: warn naming the row (the stress
+    stage takes the lower of the two as the coldest)."""
+    high = (conditions["t_ambient_min_c"] > conditions["t_ambient_c"]).to_numpy()
+    if high.any():
+        first = int(np.argmax(high))
+        row = int(conditions["design_row"].iloc[first])
+        warnings.append(InputWarning(
+            path, row, "t_ambient_min_c",
+            f"t_ambient_min_c is above t_ambient_c for {int(high.sum())} designator(s), first "
+            f"{conditions.index[first]} (row {row}): the coldest ambient cannot be above the "
+            "operating ambient; the lower is used"))
+
+
 def _warn_upper_bound(conditions: pd.DataFrame, warnings: list[InputWarning], path: str) -> None:
     low = (conditions["v_dc_max"].abs() < conditions["v_dc"].abs()).to_numpy()
     if low.any():
         first = np.argmax(low)
         warnings.append(InputWarning(
             path, int(conditions["design_row"].iloc[first]), "v_dc_max",
-            f"v_dc_max is below v_dc for {int(low.sum())} designator(s), first "
-            f"{conditions.index[first]}"))
+            f"v_dc_max is below v_dc (in magnitude) for {int(low.sum())} designator(s), first "
+            f"{conditions.index[first]} (row {int(conditions['design_row'].iloc[first])}): "
+            "contradictory; the rail's upper bound is taken as the larger"))
 
 
 def _warn_small_tolerance(e: Entries, warnings: list[InputWarning], path: str) -> None:

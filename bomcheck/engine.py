@@ -18,6 +18,7 @@ import pandas as pd
 
 from bomcheck.rules import (STATUSES, Applies, Rule, RuleSet, axis_quantity, format_quantity,
                             visible_pair)
+from bomcheck.stresses import BEST_ONLY
 from bomcheck.vocabulary import INPUT_LABELS, METRICS
 
 PASS, WARN, FAIL, NODATA = range(4)
@@ -337,7 +338,7 @@ def _bounded(rule: Rule, kind: CheckKind, cols: _Columns, idx: np.ndarray, gener
     """
     best = cols.num(f"{rule.metric}_best")[idx]
     worst = cols.num(f"{rule.metric}_worst")[idx]
-    metric_generic = cols.text(f"{rule.metric}_basis")[idx] == "generic"
+    metric_generic = np.isin(cols.text(f"{rule.metric}_basis")[idx], ("generic", BEST_ONLY))
     best = np.where(metric_generic, best, value)
     worst = np.where(metric_generic, worst, value)
     limit_best, warn_best = limit, warn_limit
@@ -384,7 +385,9 @@ def _evaluate_rule(rule: Rule, cols: _Columns, idx: np.ndarray, ctx: _Context,
 
     shown = _status(kind, value, limit, warn_limit)  # of the value the message shows
     status = shown.copy()
-    generic = cols.text(f"{rule.metric}_basis")[idx] == "generic"
+    metric_basis = cols.text(f"{rule.metric}_basis")[idx]
+    best_only = metric_basis == BEST_ONLY  # value unknown: only its kindest bound is shown
+    generic = (metric_basis == "generic") | best_only
     for axis in rule.axes:
         generic = generic | (cols.text(f"{axis}_basis")[idx] == "generic")
     basis = np.where(generic, "generic", "firm").astype(object)
@@ -396,12 +399,16 @@ def _evaluate_rule(rule: Rule, cols: _Columns, idx: np.ndarray, ctx: _Context,
         note[generic] = NOTE_GENERIC
         note[bound & (status == FAIL)] = NOTE_BOUND_FAIL
         note[bound & (status == PASS)] = NOTE_BOUND_PASS
+    # A value known only by its kindest bound is decided only where that bound fails.
+    unknown = best_only & (status != FAIL)
+    nodata = nodata | unknown
     capped = (status == FAIL) & (rule.severity == "warn") & ~nodata
     status[capped] = WARN
     note[capped] = NOTE_ADVISORY
     status[nodata] = NODATA
     basis[nodata] = "missing"
     margin = np.where(nodata, np.nan, kind.margin(value, limit))
+    value = np.where(unknown, np.nan, value)
 
     body = _bodies(rule, kind, cols, idx, status, shown, note, limit, warn_limit, ctx,
                    missing, bodies)
@@ -476,21 +483,15 @@ def _bodies(rule: Rule, kind: CheckKind, cols: _Columns, idx: np.ndarray, status
 
 
 def _notes(cols: _Columns, metric: str, note: np.ndarray, rows: np.ndarray) -> _Coded:
-    """The message note of each verdict; a verdict that depends on data not given names that
-    data where the stress stage wrote it (``<metric>_note``, e.g. "tolerance not given")."""
-    coded = _Coded(note, list(NOTES))
-    generic = note == NOTE_GENERIC
-    if not generic.any() or f"{metric}_note" not in cols.table.columns:
-        return coded
-    said = cols.coded_map(f"{metric}_note", lambda t: str(t) if t else "", "").take(rows)
-    named = generic & (np.array([bool(t) for t in said.lookup])[said.codes])
-    if named.any():
-        base = len(coded.lookup)
-        coded.lookup.extend(f"; rests on generic typical data (common practice) and depends on "
-                            f"data not given: {t}"
-                            for t in said.lookup)
-        coded.codes[named] = said.codes[named] + base
-    return coded
+    """The message notes by code; a verdict left undecided by unknown data (a warning on generic
+    data) also names the unknowns from the ``<metric>_note`` column where the stress stage
+    gives one."""
+    if f"{metric}_note" not in cols.table.columns:
+        return _Coded(note, list(NOTES))
+    extra = cols.coded_map(f"{metric}_note", lambda t: f" ({t})" if t else "", "").take(rows)
+    m = len(extra.lookup)
+    codes = note * m + np.where(note == NOTE_GENERIC, extra.codes, m - 1)
+    return _Coded(codes, [n + x for n in NOTES for x in extra.lookup])
 
 
 def _show_violations(parts: list[_Coded], at: int, kind: CheckKind, metric, shown: np.ndarray,
@@ -515,6 +516,25 @@ def _show_violations(parts: list[_Coded], at: int, kind: CheckKind, metric, show
             parts[j].lookup.append(text)
 
 
+def _show_best_only(table: pd.DataFrame) -> pd.DataFrame:
+    """The table with each metric known only by its kindest bound (``<metric>_basis`` =
+    ``BEST_ONLY``) showing that bound, so that a failure there reads with its value."""
+    out = table
+    for col in table.columns:
+        if not (isinstance(col, str) and col.endswith("_basis")):
+            continue
+        metric = col[: -len("_basis")]
+        rows = (table[col] == BEST_ONLY).to_numpy()
+        if metric in table and f"{metric}_best" in table and rows.any():
+            if out is table:
+                out = table.copy(deep=False)
+            value = pd.to_numeric(out[metric], errors="coerce").to_numpy(dtype=float, copy=True)
+            value[rows] = pd.to_numeric(out[f"{metric}_best"], errors="coerce").to_numpy(
+                dtype=float)[rows]
+            out[metric] = value
+    return out
+
+
 def evaluate(table: pd.DataFrame, ruleset: RuleSet) -> pd.DataFrame:
     """Verdicts of every enabled rule on every placement it applies to (long format).
 
@@ -523,7 +543,7 @@ def evaluate(table: pd.DataFrame, ruleset: RuleSet) -> pd.DataFrame:
     missing. Returns columns ``VERDICT_COLUMNS``, sorted by ``pidx`` then ``rule_id``; ``pidx``
     is the placement's position in ``table``.
     """
-    cols = _Columns(table.reset_index(drop=True))
+    cols = _Columns(_show_best_only(table.reset_index(drop=True)))
     ctx = _Context(
         refdes=cols.text("refdes"),
         tech_at=cols.coded_map("technology", lambda t: f"{t} at " if t else "at ", "at "),
@@ -580,3 +600,58 @@ def _empty() -> pd.DataFrame:
         **{c: np.array([], dtype=float) for c in ("value", "limit", "warn_limit", "margin")},
         **{c: _obj(np.array([], dtype=object)) for c in ("message", "source", "basis")},
     })
+
+
+def without_unverdicted(table: pd.DataFrame, verdicts: pd.DataFrame,
+                        ruleset: RuleSet) -> pd.DataFrame:
+    """The table with every metric a placement has no rule verdict on set to NaN: a stress is
+    shown only where a rule on it (or on a curve over it) gave that placement a verdict, and a
+    component only where a stress it feeds is shown (a stress shown is a stress checked).
+
+    ``verdicts`` is ``evaluate``'s table (``pidx`` into ``table``); rows of ids that are no rule
+    of ``ruleset`` (the audit's own verdicts) count for nothing.
+    """
+    n = len(table)
+    pidx = verdicts["pidx"].to_numpy(dtype=np.int64) if len(verdicts) else np.zeros(0, np.int64)
+    ids = verdicts["rule_id"].to_numpy(dtype=object) if len(verdicts) else np.zeros(0, object)
+    shown: dict[str, np.ndarray] = {}
+    for rule in ruleset.rules:
+        at = pidx[ids == rule.id]
+        if not at.size:
+            continue
+        for name in (rule.metric, *rule.axes):
+            shown.setdefault(name, np.zeros(n, dtype=bool))[at] = True
+
+    # The fields a shown stress's message prints (its operating temperature, its transient
+    # peak) are shown with it.
+    for name in list(shown):
+        for _, field_name, _, _ in string.Formatter().parse(METRICS[name].explain):
+            if field_name in METRICS:
+                shown.setdefault(field_name, np.zeros(n, dtype=bool))
+                shown[field_name] = shown[field_name] | shown[name]
+
+    done: dict[str, np.ndarray] = {}
+
+    def fed(name: str) -> np.ndarray:  # the feeds of the registry form no cycle
+        if name not in done:
+            out = shown.get(name, np.zeros(n, dtype=bool)).copy()
+            for target in METRICS[name].feeds:
+                out |= fed(target)
+            done[name] = out
+        return done[name]
+
+    blanked: dict[str, np.ndarray] = {}
+    for name in METRICS:
+        if name not in table.columns:
+            continue
+        keep = fed(name)
+        if keep.all():
+            continue
+        values = pd.to_numeric(table[name], errors="coerce").to_numpy(dtype=float, copy=True)
+        values[~keep] = np.nan
+        blanked[name] = values
+    if not blanked:
+        return table.copy(deep=False)
+    # One concatenation, not a column at a time (a frame of many inserted columns fragments).
+    rest = table.drop(columns=list(blanked))
+    return pd.concat([rest, pd.DataFrame(blanked, index=table.index)], axis=1)[table.columns]

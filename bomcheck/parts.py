@@ -45,7 +45,7 @@ smaller capacitance, wider tolerance, the dielectric with the narrower range or 
 and the placement gets a ``parts.conflict`` warning naming both values. The parts data replaces
 the BOM text only when the user says so: ``override = true`` on the part, or ``override=True``
 for the whole file (``read_parts``; the command line's ``--parts-override``); the conflict is
-then still listed, as a ``pass`` finding that says the parts data was used.
+then still listed, as a ``warn`` finding naming both values and saying the parts data was used.
 """
 
 from __future__ import annotations
@@ -418,8 +418,8 @@ def apply_parts(table: pd.DataFrame, parts: PartsData) -> tuple[pd.DataFrame, pd
     Spec columns the BOM text left empty are filled from the file (a rated voltage of the kind
     the BOM names: AC for an AC-rated part, else DC); where both give a value and they differ,
     the conservative one is kept and a ``warn`` verdict names both, unless the part (or the whole
-    file) is marked to override, when the parts data is kept and the verdict is a ``pass`` that
-    says so. The columns of ``PART_COLUMNS`` are added. Verdict columns: pidx, refdes, rule_id
+    file) is marked to override, when the parts data is kept and the verdict is still a ``warn``
+    naming both values and saying so. The columns of ``PART_COLUMNS`` are added. Verdict columns: pidx, refdes, rule_id
     (``parts.conflict``), status, message, source.
     """
     from bomcheck.rules import format_quantity
@@ -460,8 +460,10 @@ def apply_parts(table: pd.DataFrame, parts: PartsData) -> tuple[pd.DataFrame, pd
         head = (f"{out['refdes'].iat[i]}: parts data for {mpn_text.iat[i]} ({parts.path} row "
                 f"{int(part_row[i])}) gives {label} {part_text}; the BOM text says {bom_text}; ")
         if override[i]:
-            findings.append((i, PARTS_FINDING, "pass", head + "the parts data is used "
-                             "(override)", "parts data"))
+            # Still a finding: the BOM and the parts data contradict each other, and which part
+            # is fitted is for a reviewer to confirm.
+            findings.append((i, PARTS_FINDING, "warn", head + "the parts data is used "
+                             "(override); confirm which part is fitted", "parts data"))
         else:
             findings.append((i, PARTS_FINDING, "warn", head + f"the verdict uses {used}; mark "
                              "the part override = true to use the parts data", "parts data"))
@@ -542,8 +544,9 @@ def _lay_dielectric(out: pd.DataFrame, part: pd.Series, override: np.ndarray, re
 
 
 def curve_values(table: pd.DataFrame, parts: PartsData | None, name: str, x: pd.Series, *,
-                 log_x: bool = False) -> pd.Series:
-    """Each placement's part curve ``name`` evaluated at ``x`` (NaN where its part has none).
+                 log_x: bool = False, beyond: bool = True) -> pd.Series:
+    """Each placement's part curve ``name`` evaluated at ``x`` (NaN where its part has none, and
+    past the curve's last point with ``beyond=False``).
 
     DC-bias curves given as capacitance are divided by the placement's nominal capacitance, so
     the result is always a fraction. Loops over the distinct parts with a curve, not placements.
@@ -558,6 +561,6 @@ def curve_values(table: pd.DataFrame, parts: PartsData | None, name: str, x: pd.
         mask = keys == key
         if not mask.any():
             continue
-        y = curve.at(xv[mask], log_x=log_x)
+        y = curve.at(xv[mask], log_x=log_x, beyond=beyond)
         out[mask] = y / nominal[mask] if curve.farads else y
     return out

@@ -29,14 +29,16 @@ class Curve:
     ys: tuple[float, ...]
     farads: bool = False  # y given as capacitance (DC-bias curves only)
 
-    def at(self, x: np.ndarray, *, log_x: bool = False) -> np.ndarray:
-        """Values at ``x`` by linear interpolation (in log10 x when ``log_x``), flat beyond."""
+    def at(self, x: np.ndarray, *, log_x: bool = False, beyond: bool = True) -> np.ndarray:
+        """Values at ``x`` by linear interpolation (in log10 x when ``log_x``), flat beyond the
+        ends; with ``beyond=False`` NaN past the last point (the curve says nothing there)."""
         xs = np.asarray(self.xs, dtype=float)
         ys = np.asarray(self.ys, dtype=float)
         x = np.asarray(x, dtype=float)
         with np.errstate(divide="ignore", invalid="ignore"):
             out = (np.interp(np.log10(x), np.log10(xs), ys) if log_x else np.interp(x, xs, ys))
-        return np.where(np.isnan(x), np.nan, out)
+        past = ~beyond & (x > xs[-1] * (1.0 + 1e-9))
+        return np.where(np.isnan(x) | past, np.nan, out)
 
 
 def convert_column(cells: np.ndarray, quantity: str, unit: str, *, path: str, rows: np.ndarray,

@@ -73,38 +73,57 @@ def text_column(table: pd.DataFrame, name: str) -> pd.Series:
 
 
 SQRT2 = float(np.sqrt(2.0))
+# A ``<metric>_basis`` saying the metric is not known and ``<metric>_best``, its kindest bound,
+# is: a failure at that bound is firm, anything else is no data (``bomcheck.engine``).
+BEST_ONLY = "best-only"
 
 
 def applied_voltages(table: pd.DataFrame) -> pd.DataFrame:
-    """Upper bound of the DC rail, applied peak and transient peak, all magnitudes.
+    """Upper and lower bounds of the DC rail, applied peak and transient peak, all magnitudes.
 
-    The rail's upper bound is ``|v_dc_max|`` where given, else ``|v_dc| x (1 + v_tol_pct/100)``,
-    else ``|v_dc|`` (a negative rail stresses a part as much as a positive one). The applied peak
-    is DC upper bound + ripple peak + sqrt(2) x AC rms (NASA EEE-INST-002 Section C1 Table 4,
-    note 1: DC plus peak AC); with an AC voltage and no DC given, the DC is none. A ripple,
-    AC or transient not given is taken as none (0 V / the applied peak).
+    The rail's upper bound is the larger of ``|v_dc_max|`` (where given) and ``|v_dc|`` x (1 +
+    v_tol_pct/100) (``|v_dc|`` without a tolerance): a ``v_dc_max`` below ``|v_dc|`` contradicts
+    the design and never lowers the bound (the design reader warns). The lower bound is ``|v_dc|``
+    x (1 - v_tol_pct/100), never below 0. The applied peak is DC upper bound + ripple peak +
+    sqrt(2) x AC rms (NASA EEE-INST-002 Section C1 Table 4, note 1: DC plus peak AC); with an AC
+    voltage and no DC given, the DC is none. A ripple, AC or transient not given is taken as none
+    (0 V / the applied peak).
     """
     v_dc = num_column(table, "v_dc").abs()
     ac_peak = SQRT2 * num_column(table, "v_ac_rms")
     v_dc = v_dc.where(v_dc.notna() | ac_peak.isna(), 0.0)
-    upper = num_column(table, "v_dc_max").abs()
-    from_tol = v_dc * (1.0 + num_column(table, "v_tol_pct").clip(lower=0.0) / 100.0)
-    upper = upper.fillna(from_tol).fillna(v_dc)
-    applied = upper + num_column(table, "v_ripple_pk").fillna(0.0) + ac_peak.fillna(0.0)
+    tol = num_column(table, "v_tol_pct").clip(lower=0.0).fillna(0.0) / 100.0
+    from_tol = v_dc * (1.0 + tol)
+    upper = pd.Series(np.fmax(num_column(table, "v_dc_max").abs(), from_tol), index=table.index)
+    lower = (v_dc * (1.0 - tol)).clip(lower=0.0)
+    swing = num_column(table, "v_ripple_pk").fillna(0.0) + ac_peak.fillna(0.0)
+    applied = upper + swing
     transient = np.fmax(applied, num_column(table, "v_transient_pk"))
     return pd.DataFrame(
-        {"v_upper_v": upper, "applied_peak_v": applied, "transient_peak_v": transient},
+        {"v_upper_v": upper, "v_lower_v": lower, "swing_pk_v": swing, "applied_peak_v": applied,
+         "transient_peak_v": transient},
         index=table.index,
     )
 
 
-def reverse_voltage(table: pd.DataFrame, volts: pd.DataFrame) -> pd.Series:
-    """Peak reverse voltage: ``v_reverse_pk``, and on a negative rail (``v_dc`` < 0) the whole
-    applied peak, whichever is larger (a polarized part fitted on a negative rail is reversed
-    unless the design says otherwise through a positive ``v_dc``)."""
+def reverse_voltage(table: pd.DataFrame, volts: pd.DataFrame) -> tuple[pd.Series, pd.Series]:
+    """(peak reverse voltage, its kindest bound where ``v_reverse_pk`` is not given).
+
+    The largest of ``v_reverse_pk``; the swing below zero, ripple peak + sqrt(2) x AC rms - the
+    rail's lower bound (NASA EEE-INST-002 Section C1 Table 4: the peak AC must not reverse-bias a
+    polarized part); and on a negative rail (``v_dc`` < 0) the whole applied peak (a polarized
+    part fitted on a negative rail is reversed unless the design says otherwise through a
+    positive ``v_dc``). Without ``v_reverse_pk`` on a positive rail the reverse voltage is not
+    known (NaN) and the swing alone is its kindest bound (a failure there is firm).
+    """
     negative = num_column(table, "v_dc") < 0
     from_rail = volts["applied_peak_v"].where(negative)
-    return np.fmax(num_column(table, "v_reverse_pk"), from_rail)
+    below_zero = (volts["swing_pk_v"] - volts["v_lower_v"]).clip(lower=0.0)
+    below_zero = below_zero.where(volts["v_lower_v"].notna())
+    given = num_column(table, "v_reverse_pk")
+    known = np.fmax(np.fmax(given, from_rail), below_zero.where(given.notna() | negative))
+    best = below_zero.where(known.isna())
+    return pd.Series(known, index=table.index), best
 
 
 def _class1_loss(tc: pd.Series, tol: pd.Series, t_op: pd.Series) -> pd.Series:
@@ -267,10 +286,22 @@ def compute(table: pd.DataFrame, data: StressData) -> pd.DataFrame:
     is_ac = text_column(table, "voltage_kind") == "ac"
     dc_ratio = volts["applied_peak_v"] / rated
     ac_ratio = num_column(table, "v_ac_rms") / rated
+    # An AC rating in rms is a peak of sqrt(2) x rated (common practice): the applied peak, DC
+    # included, and a transient are held against it.
+    rated_peak = (SQRT2 * rated).where(is_ac, rated)
     polarized = (table["polarized"].astype(object).fillna(False).astype(bool) if "polarized" in table
                  else pd.Series(False, index=table.index))
+    reverse, reverse_best = reverse_voltage(table, volts)
     t_operating = num_column(table, "t_ambient_c") + num_column(table, "t_rise_c").fillna(0.0)
-    t_cold = num_column(table, "t_ambient_min_c").fillna(num_column(table, "t_ambient_c"))
+    # The coldest ambient is the design's t_ambient_min_c; without it the check is made only
+    # where the operating ambient itself, an upper bound of the coldest, is below the rated
+    # minimum (a firm failure whatever the coldest is). A coldest above the operating ambient
+    # contradicts it (the design reader warns): the lower of the two is taken.
+    t_ambient = num_column(table, "t_ambient_c")
+    t_min_given = num_column(table, "t_ambient_min_c")
+    temp_min = num_column(table, "temp_min_c")
+    t_cold = pd.Series(np.fmin(t_min_given, t_ambient), index=table.index).where(
+        t_min_given.notna(), t_ambient.where(t_ambient < temp_min))
     temp_max, temp_assumed = rated_temp_max(table, data)
     metrics = pd.DataFrame(
         {
@@ -278,9 +309,15 @@ def compute(table: pd.DataFrame, data: StressData) -> pd.DataFrame:
             "applied_peak_v": volts["applied_peak_v"],
             "transient_peak_v": volts["transient_peak_v"],
             "voltage_ratio": dc_ratio.where(~is_ac, ac_ratio),
-            "transient_ratio": (volts["transient_peak_v"] / rated).where(~is_ac),
-            "reverse_ratio": (reverse_voltage(table, volts) / rated).where(polarized),
+            "ac_peak_ratio": (volts["applied_peak_v"] / rated_peak).where(is_ac),
+            "transient_ratio": (volts["transient_peak_v"] / rated_peak).where(
+                ~is_ac | num_column(table, "v_transient_pk").notna()),
+            "reverse_peak_v": reverse.where(polarized),
+            "reverse_ratio": (reverse / rated).where(polarized),
+            "reverse_ratio_best": (reverse_best / rated).where(polarized),
+            "reverse_ratio_basis": np.where(polarized & reverse_best.notna(), BEST_ONLY, ""),
             "rated_voltage_v": rated,
+            "rated_peak_v": rated_peak,
             "t_operating_c": t_operating,
             "temp_max_used_c": temp_max,
             "temp_margin_c": temp_max - t_operating,
@@ -288,7 +325,7 @@ def compute(table: pd.DataFrame, data: StressData) -> pd.DataFrame:
             "temp_margin_c_worst": (_by_technology(table, data.lowest_temp_max_c)
                                     - t_operating).where(temp_assumed),
             "t_cold_c": t_cold,
-            "temp_min_margin_c": t_cold - num_column(table, "temp_min_c"),
+            "temp_min_margin_c": t_cold - temp_min,
         },
         index=table.index,
     )

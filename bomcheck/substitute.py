@@ -1006,7 +1006,7 @@ def _phrase(metric: str | None, rec: Mapping[str, Any], v: Mapping[str, Any], n:
                 f"transients of {_fq(rec.get('transient_peak_v'), 'V')} = "
                 f"{_fq(value, '', True)}{beyond}")
     if metric == "reverse_ratio":
-        return (f"{_fq(rec.get('v_reverse_pk'), 'V')} reverse on a "
+        return (f"{_fq(rec.get('reverse_peak_v'), 'V')} reverse on a "
                 f"{_fq(rec.get('voltage_v'), 'V')} rating = {_fq(value, '', True)}{beyond}")
     if metric == "temp_margin_c":
         t_max, t_op = _num(rec.get("temp_max_used_c")), _num(rec.get("t_operating_c"))
@@ -1075,6 +1075,10 @@ def _verdict_issues(a_table: pd.DataFrame, pairs: pd.DataFrame, is_replaced: np.
             picked.setdefault(("reject", status, p, metric or v["rule_id"]), []).append(v)
         elif v["worse"] and status in ("warn", "nodata"):
             picked.setdefault(("review", status, p, metric or v["rule_id"]), []).append(v)
+        elif status == "nodata" or v["status_o"] == "nodata":
+            # No data on either side leaves the comparison open: never a drop-in.
+            key = "nodata" if status == "nodata" else "nodata-original"
+            picked.setdefault(("review", key, p, metric or v["rule_id"]), []).append(v)
     for (severity, status, p, topic), vs in picked.items():
         vs = sorted(vs, key=lambda v: (math.isnan(_num(v["margin_a"])), _num(v["margin_a"])))
         v = vs[0]
@@ -1085,7 +1089,9 @@ def _verdict_issues(a_table: pd.DataFrame, pairs: pd.DataFrame, is_replaced: np.
         elif severity == "reject" and any(x["status_o"] == "fail" for x in vs):
             bits += ("fails with the original part too",)
         if severity == "review":
-            v = {**v, "_prefix": "a warning appears: " if status == "warn" else ""}
+            v = {**v, "_prefix": {"warn": "a warning appears: ",
+                                  "nodata-original": "the original cannot be checked, so the "
+                                                     "two cannot be compared: "}.get(status, "")}
         prefix = v.get("_prefix", "")
         for x in vs:
             add(severity, "verdict", topic, p, prefix + _phrase(metric, recs[p], v, 1), bits,

@@ -48,7 +48,18 @@ METRICS: dict[str, Metric] = {
                "{applied_peak_v:V} peak / {voltage_v:V} rated = ", family="voltage"),
         Metric("reverse_ratio", "dimensionless", "", "peak reverse voltage / rated voltage "
                "(polarized parts)", ("v_reverse_pk", "voltage_v"), True,
-               "{v_reverse_pk:V} reverse / {voltage_v:V} rated = ", family="reverse"),
+               "{reverse_peak_v:V} reverse / {voltage_v:V} rated = ", family="reverse"),
+        Metric("reverse_peak_v", "voltage", "V", "peak reverse voltage of a polarized part: "
+               "v_reverse_pk, the ripple and AC swing below zero (ripple peak + sqrt(2) x AC rms "
+               "- the rail's lower bound), or the whole applied peak on a negative v_dc, the "
+               "largest", ("v_reverse_pk",), explain="reverse ", feeds=("reverse_ratio",)),
+        Metric("ac_peak_ratio", "dimensionless", "", "applied peak voltage (DC upper bound + "
+               "ripple peak + sqrt(2) x AC rms) / the rated peak sqrt(2) x rated AC rms "
+               "(AC-rated parts)", ("applied_peak_v", "voltage_v"), True,
+               "{applied_peak_v:V} peak / {rated_peak_v:V} rated peak = ", family="voltage"),
+        Metric("rated_peak_v", "voltage", "V", "rated peak voltage: the DC rating, or sqrt(2) x "
+               "the AC rms rating of an AC-rated part", ("voltage_v",), explain="rated peak ",
+               feeds=("ac_peak_ratio", "transient_ratio")),
         Metric("applied_peak_v", "voltage", "V", "applied peak voltage: upper bound of DC + ripple "
                "peak, or the transient peak where larger", ("v_dc",), explain="applied peak ", feeds=("voltage_ratio", "transient_ratio")),
         Metric("rated_voltage_v", "voltage", "V", "rated voltage of the part", ("voltage_v",),
@@ -59,9 +70,11 @@ METRICS: dict[str, Metric] = {
                "operating temperature", ("temp_max_used_c", "t_ambient_c"),
                explain="{temp_max_used_c:degC} rated max - {t_operating_c:degC} operating = ", family="temperature"),
         Metric("transient_ratio", "dimensionless", "", "transient peak voltage / rated "
-               "voltage (DC-rated parts): the applied peak or the design's transient peak, "
-               "whichever is larger", ("applied_peak_v", "voltage_v"), True,
-               "{transient_peak_v:V} transient peak / {voltage_v:V} rated = ", family="transient"),
+               "peak voltage (the DC rating; sqrt(2) x the AC rating of an AC-rated part, where "
+               "the design gives v_transient_pk): the applied peak or the design's transient "
+               "peak, whichever is larger", ("applied_peak_v", "voltage_v"), True,
+               "{transient_peak_v:V} transient peak / {rated_peak_v:V} rated peak = ",
+               family="transient"),
         Metric("transient_peak_v", "voltage", "V", "transient peak voltage: the design's "
                "transient peak, at least the applied peak", ("v_dc",), explain="transient peak ",
                feeds=("transient_ratio",)),
@@ -72,8 +85,9 @@ METRICS: dict[str, Metric] = {
                "temperature - rated minimum temperature", ("temp_min_c",),
                explain="{t_cold_c:degC} coldest - {temp_min_c:degC} rated min = ",
                family="temperature"),
-        Metric("t_cold_c", "temperature", "degC", "lowest operating temperature: t_ambient_min_c, "
-               "else t_ambient_c", ("t_ambient_c",), explain="coldest ",
+        Metric("t_cold_c", "temperature", "degC", "lowest operating temperature: t_ambient_min_c "
+               "(at most t_ambient_c); without it, t_ambient_c only where that is already below "
+               "the rated minimum", ("t_ambient_min_c",), explain="coldest ",
                feeds=("temp_min_margin_c",)),
         Metric("temp_max_used_c", "temperature", "degC", "rated maximum temperature used: the "
                "part's, else the technology's typical rating (generic)", ("temp_max_c",),

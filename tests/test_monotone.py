@@ -46,7 +46,9 @@ def placements(draw):
     dielectric = draw(st.sampled_from(dielectrics))
     row = {
         "refdes": "C1", "row": 2, "line": 1, "fitted": True, "technology": tech or np.nan,
-        "polarized": polarized, "voltage_kind": "dc",
+        "polarized": polarized,
+        # film may be AC-rated (X2 or plain AC film): checked at its rated rms and rated peak
+        "voltage_kind": draw(st.sampled_from(["dc", "ac"])) if tech == "film" else "dc",
         "capacitance_f": draw(st.sampled_from([1e-10, 1e-8, 1e-7, 1e-6, 1e-5, 4.7e-5, 1e-3])),
         "voltage_v": draw(st.sampled_from([6.3, 10.0, 16.0, 25.0, 50.0, 100.0, 400.0])),
         "tol_minus_pct": draw(maybe(st.sampled_from([1.0, 5.0, 10.0, 20.0]))),
@@ -55,6 +57,7 @@ def placements(draw):
         "v_ripple_pk": draw(maybe(st.floats(0.0, 30.0))),
         "v_transient_pk": draw(maybe(st.floats(0.0, 400.0))),
         "v_reverse_pk": draw(maybe(st.floats(0.0, 3.0))),
+        "v_ac_rms": draw(maybe(st.floats(0.0, 300.0))) if tech == "film" else None,
         "t_ambient_c": draw(st.floats(-40.0, 130.0)),
         "t_rise_c": draw(maybe(st.floats(0.0, 30.0))),
         "c_min_f": draw(maybe(st.sampled_from([0.0, 1e-10, 1e-8, 1e-6, 1e-4]))),
@@ -85,13 +88,18 @@ def status(row: dict, ruleset) -> str:
 
 # Moves that make a placement worse: (name, function of the row -> worse row).
 WORSE = {
-    "more DC": lambda r: {**r, "v_dc": r["v_dc"] * 1.5 + 1.0},
+    # more DC, the ripple raised alike: a higher DC alone lifts a ripple's swing below zero off a
+    # polarized part (less reverse voltage), which is no worse condition for it
+    "more DC": lambda r: {**r, "v_dc": r["v_dc"] * 1.5 + 1.0,
+                          "v_ripple_pk": (r["v_ripple_pk"] or 0.0) + r["v_dc"] * 0.5 + 1.0},
     "more ripple": lambda r: {**r, "v_ripple_pk": (r["v_ripple_pk"] or 0.0) + 5.0},
     "more transient": lambda r: {**r, "v_transient_pk": (r["v_transient_pk"] or 0.0) * 2 + 50},
-    "more AC": lambda r: {**r, "v_ac_rms": 20.0},
+    # an AC-rated part's AC voltage not given stays not given (that is missing data, not none)
+    "more AC": lambda r: {**r, "v_ac_rms": None if r["voltage_kind"] == "ac" and r.get(
+        "v_ac_rms") is None else (r.get("v_ac_rms") or 0.0) + 20.0},
     "more reverse": lambda r: {**r, "v_reverse_pk": _less(r["v_reverse_pk"], -1.0)},
-    # hotter at the top of the range, the coldest ambient unchanged (t_ambient_c is also the
-    # coldest where t_ambient_min_c is not given)
+    # hotter at the top of the range, the coldest ambient unchanged (where t_ambient_min_c is
+    # not given, the operating ambient bounds the coldest from above)
     "hotter": lambda r: {**r, "t_ambient_c": r["t_ambient_c"] + 15.0,
                          "t_ambient_min_c": _coldest(r)},
     "colder start": lambda r: {**r, "t_ambient_min_c": _coldest(r) - 30.0},
@@ -143,6 +151,8 @@ def test_worse_never_improves(key, rows):
 
 def _without(field: str):
     clear = {field: None}
+    if field == "v_dc":  # an AC voltage alone is read as an AC line with no DC (documented)
+        clear.update(v_ac_rms=None)
     if field == "dielectric":
         clear.update(dielectric_class=None, cap_change_minus_pct=None, tc_ppm=None)
     return lambda r: {**r, **clear}

@@ -116,7 +116,10 @@ def test_parts_data_overrides_only_when_asked(tmp_path, how):
     out, verdicts = apply_parts(_placements(), parts)
     assert out["voltage_v"].tolist() == [6.3, 35.0, 50.0]
     assert out["temp_max_c"].tolist() == [85.0, 105.0, 125.0]
-    assert set(verdicts["status"]) == {"pass"}  # still listed, never silent
+    # still listed, never silent: a warning naming both values (the override is the user's
+    # choice, the contradiction between BOM and parts data stays a finding)
+    assert set(verdicts["status"]) == {"warn"}
+    assert verdicts["message"].str.contains("gives rated voltage 35 V; the BOM text says 25 V").any()
     assert verdicts["message"].str.contains("parts data is used \\(override\\)").all()
 
 
