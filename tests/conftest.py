@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import functools
+import json
 from pathlib import Path
 
 import pytest
@@ -27,3 +28,40 @@ def sample_report_for():
     """``sample_report_for(name, environment="severe")``: the sample board's report (with its
     parts data) under a shipped rule set, audited once per session."""
     return _sample_report
+
+
+# A small board of one's own: the BOM header every regression board uses.
+BOARD_HEADER = "Designator,Qty,Description,Manufacturer Part Number\n"
+
+
+@pytest.fixture
+def run(tmp_path, monkeypatch, capsys):
+    monkeypatch.chdir(tmp_path)
+
+    from bomcheck.cli import main
+
+    def audit(bom_lines: str, design: str | None, *argv: str) -> tuple[int, dict]:
+        (tmp_path / "bom.csv").write_text(BOARD_HEADER + bom_lines, encoding="utf-8")
+        args = ["audit", "bom.csv", "--json", "out.json", "--no-config", *argv]
+        if design is not None:
+            (tmp_path / "design.csv").write_text(design, encoding="utf-8")
+            args[2:2] = ["--design", "design.csv"]
+        code = main(args)
+        capsys.readouterr()
+        report = json.loads((tmp_path / "out.json").read_text(encoding="utf-8"))
+        return code, report
+
+    return audit
+
+
+def verdicts(report: dict, refdes: str) -> tuple[dict[str, dict], str]:
+    """The placement's verdicts by rule, each with its value and basis filled in from the
+    report's defaults (schema 2 leaves out what a verdict shares with its rule)."""
+    (p,) = [p for p in report["placements"] if p["refdes"] == refdes]
+    out = {}
+    for v in p["verdicts"]:
+        metric = report["rules"].get(v["rule"], {}).get("metric")
+        out[v["rule"]] = {"value": p.get("metrics", {}).get(metric), "basis": "firm", **v}
+    return out, p["status"]
+
+

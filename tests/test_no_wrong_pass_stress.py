@@ -12,7 +12,7 @@ import pytest
 from bomcheck import engine, rules
 from bomcheck.design import design_from_table
 from bomcheck.substitute import Alternate, run_direct
-from test_no_wrong_pass import run, verdicts  # noqa: F401 (the fixture and its reader)
+from conftest import verdicts
 
 
 def _warnings(report: dict) -> list[str]:
