@@ -156,7 +156,8 @@ FIELD_LABELS: dict[str, str] = {
 HEADER_UNITS: dict[str, dict[str, str]] = {
     "value": {"pf": "pF", "nf": "nF", "uf": "uF", "mf": "mF", "f": "F"},
     "voltage": {"v": "V", "vdc": "VDC", "vac": "VAC", "kv": "kV"},
-    "temperature": {"°c": "°C", "c": "°C", "degc": "°C", "deg c": "°C"},
+    "temperature": {"°c": "°C", "c": "°C", "degc": "°C", "deg c": "°C", "k": "K",
+                    "°f": "°F", "degf": "°F", "f": "°F"},
     "tolerance": {"%": "%"},
 }
 _UNIT_BRACKET = re.compile(r"[(\[]\s*([^()\[\]]{1,8}?)\s*[)\]]")

@@ -183,6 +183,21 @@ def spec_from_cells(cells: Mapping[str, str]) -> tuple[dict, str, str, str]:
     return dict(combo.spec), combo.text, combo.value_text, combo.description
 
 
+# A temperature in kelvin or Fahrenheit, alone in a temperature cell (a header unit or its own).
+_OTHER_SCALE = re.compile(r"\s*([-+]?(?:\d+(?:\.\d*)?|\.\d+))\s*(K|°F|degF|F)\s*", re.I)
+
+
+def _in_celsius(text: str) -> str:
+    """A temperature cell in kelvin or Fahrenheit written in degC (358 K -> "84.85 °C"); any
+    other text as it is. Never read as degC: 358 K is not a 358 degC rating."""
+    m = _OTHER_SCALE.fullmatch(text)
+    if not m:
+        return text
+    x = float(m.group(1))
+    c = x - 273.15 if m.group(2).upper() == "K" else (x - 32.0) * 5.0 / 9.0
+    return f"{c:.6g} °C"
+
+
 # A cell that is only a number (what a header unit applies to).
 _BARE_NUMBER = re.compile(r"[-+]?(?:\d+(?:\.\d*)?|\.\d+)").fullmatch
 # Numeric field groups resolved conservatively, with the direction that is conservative.
@@ -231,6 +246,8 @@ class CellParser:
         unit = self.units.get(source)
         if unit is not None and _BARE_NUMBER(text):
             text = f"{text} {unit}"
+        if source == "temperature":
+            text = _in_celsius(text)
         key = (source, text)
         if key not in self._cache:
             self._cache[key] = self._parse(text, context=_CONTEXT.get(source, source)) \

@@ -170,3 +170,18 @@ def test_hidden_rows_are_counted_and_warned_not_lost(tmp_path, monkeypatch, caps
     # Asked for, the hidden row is read, and C2 (5 V on 6.3 V) fails.
     assert main(["audit", "bom.xlsx", "--design", "design.csv", "--include-hidden", "--quiet",
                  "--no-config"]) == 1
+
+
+@pytest.mark.parametrize("header, cell, rated", [
+    ("Temp (K)", "358", 84.85),     # 358 K = 84.85 degC (SI: T/degC = T/K - 273.15)
+    ("Temp", "358 K", 84.85),
+    ("Temp (degF)", "221", 105.0),  # (221 - 32) x 5/9 = 105 degC
+    ("Temp (°C)", "105", 105.0),
+])
+def test_a_rated_temperature_in_kelvin_or_fahrenheit_is_converted(tmp_path, header, cell, rated):
+    from bomcheck.importer import read_bom
+
+    (tmp_path / "bom.csv").write_text(f"Designator,Description,{header}\n"
+                                      f"C1,CAP ALU 100UF 35V 20%,{cell}\n", encoding="utf-8")
+    placements = read_bom(str(tmp_path / "bom.csv")).placements
+    assert placements["temp_max_c"].iat[0] == pytest.approx(rated)
