@@ -117,7 +117,7 @@ def read_bytes(path: str, what: str = "file") -> bytes:
     too_big = (f"refused: the {what} is larger than the limit of {cap >> 20} MiB",
                limits_mod.hint("file_bytes"))
     if path == STDIN:
-        data = sys.stdin.buffer.read(cap + 1)
+        data = _read_capped(sys.stdin.buffer, cap)
         if len(data) > cap:
             raise InputError(too_big[0], path="<stdin>", hint=too_big[1])
         return data
@@ -140,12 +140,25 @@ def read_bytes(path: str, what: str = "file") -> bytes:
         raise InputError(too_big[0], path=path, hint=too_big[1])
     try:
         with open(path, "rb") as f:
-            data = f.read(cap + 1)
+            data = _read_capped(f, cap)
     except OSError as exc:
         raise InputError(f"cannot read the {what} ({exc.strerror})", path=path) from None
     if len(data) > cap:  # it grew while being read
         raise InputError(too_big[0], path=path, hint=too_big[1])
     return data
+
+
+def _read_capped(stream, cap: int) -> bytes:
+    """At most ``cap`` + 1 bytes of ``stream``, read in chunks (``read(cap + 1)`` would
+    allocate the whole cap at once, which a raised limit makes gigabytes)."""
+    chunks, size = [], 0
+    while size <= cap:
+        chunk = stream.read(min(1 << 24, cap + 1 - size))
+        if not chunk:
+            break
+        chunks.append(chunk)
+        size += len(chunk)
+    return b"".join(chunks)
 
 
 def read_input(path: str, what: str) -> tuple[bytes, str]:

@@ -643,3 +643,13 @@ def test_fuzzed_workbooks_never_raise_anything_but_input_error(cuts, calamine):
     patch = {} if calamine else {"python_calamine": None}
     with mock.patch.dict(sys.modules, patch):
         _read_any(bytes(data), ".xlsx")
+
+
+def test_a_raised_file_limit_does_not_allocate_the_limit(tmp_path):
+    # A 100 GB limit (--max-file-mb 100000) once made read() ask for 100 GB up front.
+    from bomcheck.limits import Limits, use_limits
+    from bomcheck.reader import read_bytes
+
+    (tmp_path / "b.csv").write_bytes(b"Designator,Value\nC1,1uF\n")
+    with use_limits(Limits(file_bytes=100_000 << 20)):
+        assert read_bytes(str(tmp_path / "b.csv")) == b"Designator,Value\nC1,1uF\n"
