@@ -123,7 +123,7 @@ def _add_substitute(sub, common: argparse.ArgumentParser) -> None:
         "BOM and an alternates file (--alternates), or one pair directly (--original TEXT "
         "--proposed TEXT, with --design and --refdes or inline conditions such as --v-dc 12 "
         "--t-ambient 85). Exit status 0: no alternate rejected; 1: an alternate is rejected; "
-        "2: inputs unusable.")
+        "2: inputs unusable; 3: internal error (a bug).")
     p.add_argument("bom", nargs="?", help="BOM file (.csv, .tsv, .txt, .xlsx); not needed in "
                    "the direct form")
     p.add_argument("--alternates", metavar="FILE", help="alternates file (.csv, .xlsx, .toml): "
