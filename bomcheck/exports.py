@@ -137,7 +137,7 @@ def junit_xml(report, *, warn_as: str = "failure") -> str:
     suite = ET.SubElement(root, "testsuite", attrs)
     props = ET.SubElement(suite, "properties")
     prop_items = [("bomcheck.version", report.tool_version), ("status", report.status),
-                  ("warn_as", warn_as)]
+                  ("environment", report.environment), ("warn_as", warn_as)]
     prop_items += [(f"ruleset.{r['name']}", str(r.get("version"))) for r in report.rulesets]
     prop_items += [(f"input.{d['role']}", f"{d['path']} sha256:{d['sha256']}")
                    for d in report.inputs]
@@ -146,6 +146,7 @@ def junit_xml(report, *, warn_as: str = "failure") -> str:
     suite.extend(cases)
     notes = [f"NODATA {d['reason']}" for d in report.design_unmatched]
     notes += [f"WAIVER {f.code}: {f.message}" for f in report.waiver_findings]
+    notes += [f"INPUT WARNING {w}" for w in report.input_warnings]
     if notes:
         ET.SubElement(suite, "system-out").text = _x("\n".join(notes))
     ET.indent(root)
@@ -237,7 +238,12 @@ def markdown_summary(report, *, limit: int = 50, diff=None) -> str:
 
         out += [diff_markdown(diff, limit=limit, level=3).rstrip("\n"), ""]
     rulesets = ", ".join(f"{_md(r['name'])} {_md(r.get('version'))}" for r in report.rulesets)
-    out += [f"Rule sets: {rulesets}.", "", "### Cautions", ""]
+    if report.input_warnings:
+        out += ["### Input warnings", ""]
+        out += [f"- {_md(str(w))}" for w in report.input_warnings]
+        out += [""]
+    out += [f"Rule sets: {rulesets}; environment: {_md(report.environment)}.", "",
+            "### Cautions", ""]
     out += [f"- {_md(c)}" for c in report.cautions]
     return "\n".join(out) + "\n"
 

@@ -185,6 +185,17 @@ def _inputs_section(inputs, rulesets, tool_version: str) -> list[str]:
     return out
 
 
+def _input_warnings_section(report) -> list[str]:
+    """The doubts about the input files (design sheet, parts data, BOM reading) and the
+    environment the limits were taken for."""
+    out = [f"<p>Environment: {esc(report.environment)} (the limits of that environment apply "
+           "where a rule gives two).</p>"]
+    if report.input_warnings:
+        out += ["<h2 id=\"input-warnings\">Input warnings</h2>", "<ul>"
+                + "".join(f"<li>{esc(str(w))}</li>" for w in report.input_warnings) + "</ul>"]
+    return out
+
+
 def _cautions_section(cautions) -> list[str]:
     return ["<h2 id=\"cautions\">Cautions</h2>", "<ul class=\"cautions\">"
             + "".join(f"<li>{esc(c)}</li>" for c in cautions) + "</ul>",
@@ -528,6 +539,7 @@ def audit_html(report) -> str:
     body += _groups_section(report)
     body += _not_audited_section(report)
     body += _inputs_section(report.inputs, report.rulesets, report.tool_version)
+    body += _input_warnings_section(report)
     body += _cautions_section(report.cautions)
     body.append(_signature())
     return _page(title, body)

@@ -162,7 +162,10 @@ def sarif_log(report) -> dict:
                                 "rules": descriptors}},
             "artifacts": artifacts,
             "results": results,
-            "properties": {"status": report.status,
+            "invocations": [{"executionSuccessful": True, "toolExecutionNotifications": [
+                {"level": "warning", "message": {"text": _text(str(w))}}
+                for w in report.input_warnings]}],
+            "properties": {"status": report.status, "environment": report.environment,
                            "ruleSets": [f"{r.get('name')} {r.get('version')}"
                                         for r in report.rulesets]},
         }],

@@ -685,6 +685,12 @@ class _Book:
                 ws.row_dimensions[rows[0] + 1].height = 15 * max(1, lines) + 3
                 append(["note", put(note, "bc wrap")])
         append([])
+        append(["environment", put(r.environment)])
+        if r.input_warnings:
+            append([put("Input warnings", "bc section")])
+            for w in r.input_warnings:
+                append(["input warning", put(str(w), "bc wrap")])
+        append([])
         append([put("Cautions", "bc section")])
         for i, caution in enumerate(r.cautions, 1):
             # Wrapped text needs its row height: about 1.1 characters of the column per

@@ -170,7 +170,7 @@ Not audited: not fitted 1, not capacitor 1. Design-sheet rows not in the BOM: C9
 
 - expired: waiver 2 (C2 R-V) expired on 2026-01-31; its verdicts stand
 
-Rule sets: tiny 1.
+Rule sets: tiny 1; environment: severe.
 
 ### Cautions
 

@@ -185,3 +185,29 @@ def test_a_rated_temperature_in_kelvin_or_fahrenheit_is_converted(tmp_path, head
                                       f"C1,CAP ALU 100UF 35V 20%,{cell}\n", encoding="utf-8")
     placements = read_bom(str(tmp_path / "bom.csv")).placements
     assert placements["temp_max_c"].iat[0] == pytest.approx(rated)
+
+
+def test_design_warnings_reach_every_report(tmp_path, monkeypatch):
+    # A design warning (a coldest ambient above the operating one) is in every output a reviewer
+    # reads: terminal, JSON, Markdown, HTML, workbook, JUnit and SARIF.
+    import zipfile
+
+    (tmp_path / "bom.csv").write_text("Designator,Description\nC1,CAP CER 0.1UF 50V 10% X7R 0603\n",
+                                      encoding="utf-8")
+    (tmp_path / "design.csv").write_text(
+        "refdes,v_dc [V],t_ambient_c [degC],t_ambient_min_c [degC],c_min_f\nC1,5,40,50,none\n",
+        encoding="utf-8")
+    monkeypatch.chdir(tmp_path)
+    main(["audit", "bom.csv", "--design", "design.csv", "--no-config", "--quiet",
+          "--json", "r.json", "--markdown", "r.md", "--html", "r.html", "--xlsx", "r.xlsx",
+          "--junit", "r.xml", "--sarif", "r.sarif"])
+    warning = json.loads((tmp_path / "r.json").read_text())["input_warnings"][0]["message"]
+    key = "the coldest ambient cannot be above the operating ambient"
+    assert key in warning
+    for name in ("r.md", "r.html", "r.xml", "r.sarif"):
+        assert key in (tmp_path / name).read_text(encoding="utf-8"), name
+    with zipfile.ZipFile(tmp_path / "r.xlsx") as z:
+        strings = z.read("xl/sharedStrings.xml").decode("utf-8") if "xl/sharedStrings.xml" in \
+            z.namelist() else "".join(z.read(n).decode("utf-8") for n in z.namelist()
+                                      if n.startswith("xl/worksheets/"))
+    assert key in strings
