@@ -16,7 +16,7 @@ import pandas as pd
 from bomcheck import __version__
 from bomcheck.report import CAUTIONS, Report, ruleset_summary
 from bomcheck.status import RANK, STATUS_ORDER
-from bomcheck.vocabulary import METRICS, REQUIRED_FAMILIES
+from bomcheck.vocabulary import REQUIRED_FAMILIES
 
 # Verdict ids the audit itself gives (not from a rule file): data problems, never a silent pass.
 NO_DESIGN_ROW = "design.missing"
@@ -86,19 +86,6 @@ def _read_warnings(imported) -> tuple:
     return tuple(InputWarning(str(imported.source.path), w.rows[0] if w.rows else None, None,
                               f"{w.code}: {w.message}")
                  for w in getattr(imported, "read_warnings", ()))
-
-
-def unchecked_metrics(ruleset) -> tuple[str, ...]:
-    """Metrics no enabled rule in force limits, nor feeds: the audit reports none of them (every
-    stress it shows is checked by a rule)."""
-    kept = {r.metric for r in ruleset.enabled_rules}
-    kept |= {a for r in ruleset.enabled_rules for a in r.axes}
-    grew = True
-    while grew:
-        more = {m.name for m in METRICS.values() if set(m.feeds) & kept} - kept
-        grew = bool(more)
-        kept |= more
-    return tuple(m for m in METRICS if m not in kept)
 
 
 def _audit_verdicts(table: pd.DataFrame, rule_verdicts: pd.DataFrame,

@@ -680,32 +680,6 @@ def _balance_verdicts(table: pd.DataFrame, missing: list[tuple[int, str]]) -> pd
                                        "source"])
 
 
-def json_metric_texts(table: pd.DataFrame) -> list[str]:
-    """Per placement, the JSON members (``,"energy_j":0.29,...``) of the circuit metrics and
-    parts values that were computed (``JSON_FIELDS`` with a finite value), each distinct row
-    written once; "" where none was."""
-    import json
-
-    cols = [c for c in JSON_FIELDS if c in table.columns and table[c].notna().any()]
-    n = len(table)
-    if not cols or not n:
-        return [""] * n
-    block = np.column_stack([pd.to_numeric(table[c], errors="coerce").to_numpy(
-        dtype=float, na_value=np.nan) for c in cols])
-    key = np.zeros(n, dtype=np.int64)
-    for j in range(len(cols)):
-        codes, uniques = pd.factorize(block[:, j], use_na_sentinel=True)
-        key, _ = pd.factorize(key * (len(uniques) + 1) + (codes + 1))
-    distinct, first = np.unique(key, return_index=True)
-    texts = []
-    for i in first:
-        row = block[i]
-        texts.append("".join(f',"{cols[j]}":{json.dumps(_finite(row[j]))}'
-                             for j in np.flatnonzero(np.isfinite(row))))
-    lookup = np.asarray(texts, dtype=object)
-    return lookup[np.searchsorted(distinct, key)].tolist()
-
-
 def safety_cautions(verdicts: pd.DataFrame, ruleset: Any) -> tuple[str, ...]:
     """One caution per stored-energy or discharge rule that flagged placements, citing its clause
     and saying that local codes and licensed practice govern."""

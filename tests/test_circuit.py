@@ -277,13 +277,6 @@ def test_generic_thermal_resistance_marks_the_verdicts_generic():
     assert t["t_operating_c_basis"] == "generic" and t["life_ratio_basis"] == "generic"
 
 
-def test_json_metric_texts_only_where_computed():
-    res = run([electrolytic("C1", v_dc=24.0), electrolytic("C2")])
-    texts = circuit.json_metric_texts(res.table)
-    assert json.loads("{" + texts[0][1:] + "}")["energy_j"] == pytest.approx(0.5 * 120e-6 * 576)
-    assert texts[1] == ""  # no voltage, nothing computed
-
-
 # --- the sample board -------------------------------------------------------------------------
 
 
