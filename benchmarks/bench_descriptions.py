@@ -1,5 +1,5 @@
 """Benchmark of the importer on a BOM whose every line has its own description: 30k lines,
-``bomcheck.importer.read_bom`` against ``pandas.read_csv`` of the same file, in this process
+``bomcheck.parse.importer.read_bom`` against ``pandas.read_csv`` of the same file, in this process
 after both are imported, medians of alternating runs. Goal (issue 13): within 10x.
 
     python benchmarks/bench_descriptions.py [--lines 30000] [--runs 3]
@@ -40,7 +40,7 @@ def main() -> None:
     args = ap.parse_args()
     import pandas as pd
 
-    from bomcheck.importer import ImportOptions, read_bom
+    from bomcheck.parse.importer import ImportOptions, read_bom
 
     with tempfile.TemporaryDirectory() as tmp:
         bom = Path(tmp) / "descriptions.csv"

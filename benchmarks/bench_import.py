@@ -2,7 +2,7 @@
 
 Writes a synthetic BOM of 100k capacitor placements (a few hundred distinct value strings, some
 grouped designator lines, not-fitted lines and non-capacitor lines) to a temporary directory,
-then times ``pandas.read_csv`` of the file and ``bomcheck.importer.read_bom`` of the same file
+then times ``pandas.read_csv`` of the file and ``bomcheck.parse.importer.read_bom`` of the same file
 alternately in this process, after both are imported, and prints the medians and their ratio.
 
     python benchmarks/bench_import.py [--placements 100000] [--runs 7] [--distinct 300]
@@ -94,8 +94,8 @@ def main() -> None:
 
     import pandas as pd
 
-    from bomcheck.importer import read_bom
-    from bomcheck.limits import Limits, use_limits
+    from bomcheck.parse.importer import read_bom
+    from bomcheck.read.limits import Limits, use_limits
 
     with tempfile.TemporaryDirectory() as tmp, use_limits(Limits(placements=2 * args.placements)):
         path = Path(tmp) / "bench_bom.csv"

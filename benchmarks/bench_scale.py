@@ -3,7 +3,7 @@ and 1M placements (and 2M with --two-million), each with a design row per placem
 peak resident memory, the 100k -> 1M time ratio, and 10M extrapolated from the largest runs.
 
 Goals (issue 13): 1M placements under 10 s and 2 GB; 100k -> 1M within 12x (linear). Memory
-stays bounded because the JSON report is written chunk by chunk (bomcheck.report_json), never
+stays bounded because the JSON report is written chunk by chunk (bomcheck.report.jsonform), never
 as one string. --profile runs the largest size once more in this process under cProfile and
 prints the ten largest costs.
 
@@ -27,7 +27,7 @@ def _profile(bom: Path, design: Path, out: Path) -> None:
     import cProfile
     import pstats
 
-    from bomcheck.cli import main
+    from bomcheck.cli.main import main
 
     prof = cProfile.Profile()
     prof.runcall(main, ["audit", str(bom), "--design", str(design), "--json", str(out),

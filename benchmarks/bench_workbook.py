@@ -1,4 +1,4 @@
-"""Benchmark of the reviewer's workbook: ``bomcheck.xlsx.write_workbook`` against the fastest
+"""Benchmark of the reviewer's workbook: ``bomcheck.render.xlsx.write_workbook`` against the fastest
 writer floor for the same cells, measured in the same run: openpyxl in write-only mode, no
 styles, the values of every sheet of the workbook just written. Goal (issue 13): within 1.2x.
 
@@ -42,8 +42,8 @@ def main() -> None:
     ap.add_argument("--placements", type=int, default=10_000)
     ap.add_argument("--runs", type=int, default=3)
     args = ap.parse_args()
-    from bomcheck.audit import run_audit
-    from bomcheck.xlsx import write_workbook
+    from bomcheck.pipeline.audit import run_audit
+    from bomcheck.render.xlsx import write_workbook
 
     with tempfile.TemporaryDirectory() as tmp:
         folder = Path(tmp)

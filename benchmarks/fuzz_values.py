@@ -16,8 +16,8 @@ import math
 import random
 import time
 
-from bomcheck import codes
-from bomcheck.values import CONTEXTS, parse_value
+from bomcheck.parse import codes
+from bomcheck.parse.values import CONTEXTS, parse_value
 
 _SEEDS = (
     "100nF 50V X7R 0603", "C_0603_100n_50V_X7R", "4u7 16V X5R", "CAP CER 0.1UF 50V 10% X7R",

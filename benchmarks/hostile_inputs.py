@@ -58,7 +58,7 @@ def _valid(path: Path) -> str | None:
 
 # The default install has no python-calamine: --no-calamine runs bomcheck as it would there.
 _WITHOUT_CALAMINE = ("import sys; sys.modules['python_calamine'] = None; "
-                     "from bomcheck.cli import main; sys.argv[0] = 'bomcheck'; sys.exit(main())")
+                     "from bomcheck.cli.main import main; sys.argv[0] = 'bomcheck'; sys.exit(main())")
 
 
 # The limit is set by a small launcher that then becomes bomcheck (exec). /usr/bin/time starts

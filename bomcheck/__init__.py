@@ -20,16 +20,16 @@ __all__ = [
 _LAZY = {
     "audit_files": "bomcheck.api", "audit_frames": "bomcheck.api",
     "check_substitutes": "bomcheck.api",
-    "write": "bomcheck.api", "AuditOptions": "bomcheck.audit", "Report": "bomcheck.report",
+    "write": "bomcheck.api", "AuditOptions": "bomcheck.pipeline.audit", "Report": "bomcheck.report.model",
     "BomcheckError": "bomcheck.errors", "InputError": "bomcheck.errors",
     "STATUS_ORDER": "bomcheck.status",
 }
 
 if TYPE_CHECKING:  # pragma: no cover
     from bomcheck.api import audit_files, audit_frames, check_substitutes, write
-    from bomcheck.audit import AuditOptions
+    from bomcheck.pipeline.audit import AuditOptions
     from bomcheck.errors import BomcheckError, InputError
-    from bomcheck.report import Report
+    from bomcheck.report.model import Report
     from bomcheck.status import STATUS_ORDER
 
 

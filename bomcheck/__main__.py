@@ -1,5 +1,5 @@
 """Entry point for ``python -m bomcheck``."""
 
-from bomcheck.cli import main
+from bomcheck.cli.main import main
 
 raise SystemExit(main())

@@ -12,8 +12,8 @@ from pathlib import Path
 
 import pandas as pd
 
-from bomcheck.audit import AuditOptions, audit_with_files, run_audit
-from bomcheck.report import Report
+from bomcheck.pipeline.audit import AuditOptions, audit_with_files, run_audit
+from bomcheck.report.model import Report
 
 
 def audit_files(bom: str | Path, design: str | Path | None = None, *,
@@ -34,8 +34,8 @@ def audit_frames(bom: pd.DataFrame, design: pd.DataFrame | None = None, *,
     with the design sheet's headers (``refdes``, ``v_dc [V]``...). Rows are numbered as a file's
     would be (header in row 1). Parts data and waivers, when given in ``options``, are read from
     their files."""
-    from bomcheck import design as design_mod
-    from bomcheck import importer
+    from bomcheck.parse import design as design_mod
+    from bomcheck.parse import importer
 
     if option_values:
         options = replace(options, **option_values)
@@ -50,7 +50,7 @@ def check_substitutes(bom: str | Path, design: str | Path | None, alternates: st
                **option_values):
     """Check approved alternates (an alternates file, or ``substitute.Alternate`` values) in
     every placement of the parts they replace; returns a ``substitute.SubstituteResult``."""
-    from bomcheck import substitute as sub
+    from bomcheck.substitute import check as sub
 
     items = (sub.read_alternates(str(alternates)) if isinstance(alternates, (str, Path))
              else list(alternates))
@@ -62,8 +62,8 @@ def check_substitutes(bom: str | Path, design: str | Path | None, alternates: st
 
 def write(report: Report, output: str, path: str | Path, *, warn_as: str = "failure") -> None:
     """Write one registered output (``json``, ``html``, ``xlsx``, ``markdown``, ``junit``,
-    ``csv``, ``sarif``; see ``bomcheck.outputs.OUTPUTS``) of a report to ``path``."""
-    from bomcheck.outputs import OUTPUTS, OutputContext
+    ``csv``, ``sarif``; see ``bomcheck.render.registry.OUTPUTS``) of a report to ``path``."""
+    from bomcheck.render.registry import OUTPUTS, OutputContext
 
     if output not in OUTPUTS:
         raise ValueError(f"unknown output {output!r}; expected one of: " + ", ".join(OUTPUTS))

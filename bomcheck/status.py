@@ -2,7 +2,7 @@
 
 Every stage and renderer that compares statuses imports them from here. Worst last: "nodata"
 ranks above "warn" (an unchecked stress may be anything, a warning is known), "waived" (an
-approved deviation, see ``bomcheck.waivers``) just above "pass" (known and signed).
+approved deviation, see ``bomcheck.evaluate.waivers``) just above "pass" (known and signed).
 """
 
 from __future__ import annotations

@@ -2,7 +2,7 @@
 
 A *metric* is a column the stress stage computes for every placement; a rule limits one metric.
 A *condition* is a column the design sheet gives for a placement. Both are in SI units (see
-``bomcheck.units.SI_UNITS``) with the names below; a rule file naming anything else is an error.
+``bomcheck.parse.units.SI_UNITS``) with the names below; a rule file naming anything else is an error.
 """
 
 from __future__ import annotations
@@ -138,7 +138,7 @@ INPUT_LABELS: dict[str, str] = {
 }
 
 
-# --- Circuit-level stresses (bomcheck.circuit, bomcheck.parts) --------------------------------
+# --- Circuit-level stresses (bomcheck.stress.circuit, bomcheck.parse.parts) --------------------------------
 # Kept in one block: the design-sheet conditions of groups and drives, the metrics computed from
 # them and the parts data, and the labels of their inputs.
 

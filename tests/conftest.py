@@ -16,7 +16,7 @@ SAMPLE_PARTS = ROOT / "sample_boms" / "bw7-parts.csv"
 
 @functools.lru_cache(maxsize=None)
 def _sample_report(ruleset: str, environment: str = "severe"):
-    from bomcheck.audit import AuditOptions, run_audit
+    from bomcheck.pipeline.audit import AuditOptions, run_audit
 
     return run_audit(str(SAMPLE_BOM), str(SAMPLE_DESIGN),
                      AuditOptions(rules=(ruleset,), parts=str(SAMPLE_PARTS),
@@ -38,7 +38,7 @@ BOARD_HEADER = "Designator,Qty,Description,Manufacturer Part Number\n"
 def run(tmp_path, monkeypatch, capsys):
     monkeypatch.chdir(tmp_path)
 
-    from bomcheck.cli import main
+    from bomcheck.cli.main import main
 
     def audit(bom_lines: str, design: str | None, *argv: str) -> tuple[int, dict]:
         (tmp_path / "bom.csv").write_text(BOARD_HEADER + bom_lines, encoding="utf-8")

@@ -7,7 +7,7 @@ from pathlib import Path
 import jsonschema
 import pytest
 
-from bomcheck.audit import AuditOptions, run_audit
+from bomcheck.pipeline.audit import AuditOptions, run_audit
 from bomcheck.errors import InputError
 
 ROOT = Path(__file__).resolve().parents[1]

@@ -1,5 +1,5 @@
-"""Batch audits over a manifest (bomcheck.batch, `audit --manifest`) and where-used queries
-(bomcheck.whereused, `bomcheck where-used`) on small invented boards written by the tests."""
+"""Batch audits over a manifest (bomcheck.pipeline.batch, `audit --manifest`) and where-used queries
+(bomcheck.report.whereused, `bomcheck where-used`) on small invented boards written by the tests."""
 
 import csv
 import io
@@ -11,10 +11,10 @@ from pathlib import Path
 import jsonschema
 import pytest
 
-from bomcheck.batch import read_manifest
-from bomcheck.cli import main
+from bomcheck.pipeline.batch import read_manifest
+from bomcheck.cli.main import main
 from bomcheck.errors import InputError
-from bomcheck.whereused import normalise_mpn, where_used
+from bomcheck.report.whereused import normalise_mpn, where_used
 
 ROOT = Path(__file__).resolve().parents[1]
 SCHEMA = json.loads(resources.files("bomcheck.schemas").joinpath("report.schema.json")

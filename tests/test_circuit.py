@@ -12,12 +12,12 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from bomcheck import circuit
-from bomcheck.audit import AuditOptions, run_audit
-from bomcheck.design import Group
-from bomcheck.rules import load_rules
-from bomcheck.stresses import StressData, compute
-from bomcheck.units import to_si
+from bomcheck.stress import circuit
+from bomcheck.pipeline.audit import AuditOptions, run_audit
+from bomcheck.parse.design import Group
+from bomcheck.evaluate.rules import load_rules
+from bomcheck.stress.placement import StressData, compute
+from bomcheck.parse.units import to_si
 
 ROOT = Path(__file__).resolve().parents[1]
 BOM = ROOT / "sample_boms" / "bw7-controller-bom.csv"
@@ -366,7 +366,7 @@ def test_strict_set_asks_solid_tantalum_for_its_series_resistance(sample):
 
 
 def test_design_sheet_circuit_columns_csv_and_toml(tmp_path):
-    from bomcheck.design import read_design
+    from bomcheck.parse.design import read_design
 
     csv = tmp_path / "d.csv"
     csv.write_text(
@@ -402,7 +402,7 @@ def test_design_sheet_circuit_columns_csv_and_toml(tmp_path):
 
 
 def test_design_sheet_circuit_column_of_the_wrong_dimension(tmp_path):
-    from bomcheck.design import read_design
+    from bomcheck.parse.design import read_design
     from bomcheck.errors import InputError
 
     path = tmp_path / "d.csv"

@@ -1,4 +1,4 @@
-"""The command line end to end through bomcheck.cli.main: exit codes, outputs, colour, config."""
+"""The command line end to end through bomcheck.cli.main.main: exit codes, outputs, colour, config."""
 
 import csv
 import io
@@ -8,8 +8,8 @@ import xml.etree.ElementTree as ET
 
 import pytest
 
-from bomcheck import commands
-from bomcheck.cli import main
+from bomcheck.cli import commands
+from bomcheck.cli.main import main
 
 HEADER = "Designator,Qty,Value,Description,Manufacturer Part Number\n"
 # Invented parts. 3.3 V on a 50 V ceramic passes and 15 V on a 16 V ceramic fails every shipped
@@ -140,7 +140,7 @@ def test_every_ci_output_is_written(board, tmp_path, capsys):
 
 def test_xlsx_is_wired_to_the_workbook_writer(board, tmp_path):
     openpyxl = pytest.importorskip("openpyxl")
-    pytest.importorskip("bomcheck.xlsx")
+    pytest.importorskip("bomcheck.render.xlsx")
     assert audit(board("pass", "fail"), "--xlsx", "out.xlsx", "--quiet") == 1
     book = openpyxl.load_workbook(tmp_path / "out.xlsx")
     assert book.sheetnames  # the sheets themselves are the workbook module's tests

@@ -4,11 +4,11 @@ import itertools
 
 import pytest
 
-from bomcheck import codes
+from bomcheck.parse import codes
 
 # --- EIA-198 class II/III -------------------------------------------------------------------------
 # EIA-198 class II/III table (secondary; reference sheet section 2.1), written out here, not
-# imported, so that a slip in bomcheck.codes shows.
+# imported, so that a slip in bomcheck.parse.codes shows.
 EIA_LOW_C = {"X": -55.0, "Y": -30.0, "Z": 10.0}
 EIA_HIGH_C = {"2": 45.0, "4": 65.0, "5": 85.0, "6": 105.0, "7": 125.0, "8": 150.0, "9": 200.0}
 EIA_CHANGE = {  # letter: (minus %, plus %)

@@ -2,8 +2,8 @@
 
 import pytest
 
-from bomcheck import columns
-from bomcheck.columns import (
+from bomcheck.parse import columns
+from bomcheck.parse.columns import (
     ColumnOverrides,
     header_predicate,
     is_negative_fitted,

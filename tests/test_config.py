@@ -1,11 +1,11 @@
-"""Project defaults from [tool.bomcheck] in pyproject.toml (bomcheck.config)."""
+"""Project defaults from [tool.bomcheck] in pyproject.toml (bomcheck.cli.config)."""
 
 import argparse
 import os
 
 import pytest
 
-from bomcheck.config import Config, find_pyproject, load_config, merge
+from bomcheck.cli.config import Config, find_pyproject, load_config, merge
 from bomcheck.errors import InputError
 
 PYPROJECT = """

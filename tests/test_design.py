@@ -9,7 +9,7 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from bomcheck.design import (
+from bomcheck.parse.design import (
     ALIASES,
     CONDITION_COLUMNS,
     Design,
@@ -128,7 +128,7 @@ def test_no_value_markers(cell):
 
 
 def test_each_distinct_string_is_converted_once(monkeypatch):
-    import bomcheck.design_cells as cells_mod
+    import bomcheck.parse.design_cells as cells_mod
 
     calls: list[str] = []
     real = cells_mod.to_si
@@ -375,7 +375,7 @@ def test_is_design_header(cells, expected):
 
 
 def test_aliases_from_the_issue_are_known():
-    from bomcheck.design_cells import parse_header as _parse_header
+    from bomcheck.parse.design_cells import parse_header as _parse_header
 
     for header, field in [("v_dc [V]", "v_dc"), ("Vdc (V)", "v_dc"), ("working voltage", "v_dc"),
                           ("t_amb (\u00b0C)", "t_ambient_c"), ("ambient", "t_ambient_c"),

@@ -6,8 +6,8 @@ from __future__ import annotations
 import pandas as pd
 import pytest
 
-from bomcheck.design import InputWarning, design_from_table, design_from_toml
-from bomcheck.design_cells import closest_names, parse_header
+from bomcheck.parse.design import InputWarning, design_from_table, design_from_toml
+from bomcheck.parse.design_cells import closest_names, parse_header
 from bomcheck.errors import InputError
 
 
@@ -62,7 +62,7 @@ def test_expressions_and_absurd_numbers_are_input_errors(header, cell):
     ("f_ripple_hz", "0 Hz", "zero frequency"),
 ])
 def test_implausible_values_are_input_errors(header, cell, problem):
-    # common practice: the ranges of bomcheck.units.PLAUSIBLE and their reasons.
+    # common practice: the ranges of bomcheck.parse.units.PLAUSIBLE and their reasons.
     assert problem in refused(header, cell).problem
 
 

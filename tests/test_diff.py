@@ -1,11 +1,11 @@
-"""Release-to-release comparison of two JSON reports (bomcheck.diff) and `bomcheck diff`."""
+"""Release-to-release comparison of two JSON reports (bomcheck.report.diff) and `bomcheck diff`."""
 
 import json
 
 import pytest
 
-from bomcheck.cli import main
-from bomcheck.diff import VerdictChange, compare, diff_markdown, summary_line
+from bomcheck.cli.main import main
+from bomcheck.report.diff import VerdictChange, compare, diff_markdown, summary_line
 from bomcheck.errors import InputError
 
 
@@ -192,8 +192,8 @@ def test_report_digest_compares_as_the_written_report():
     as the JSON report written by --json."""
     from pathlib import Path
 
-    from bomcheck.audit import run_audit
-    from bomcheck.diff import report_digest
+    from bomcheck.pipeline.audit import run_audit
+    from bomcheck.report.diff import report_digest
 
     root = Path(__file__).resolve().parents[1] / "sample_boms"
     report = run_audit(str(root / "bw7-controller-bom.csv"), str(root / "bw7-design.csv"))

@@ -1,4 +1,4 @@
-"""Tests of bomcheck.engine: verdicts of rule sets on tables of placements."""
+"""Tests of bomcheck.evaluate.engine: verdicts of rule sets on tables of placements."""
 
 from __future__ import annotations
 
@@ -9,8 +9,8 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from bomcheck.engine import CHECKS, VERDICT_COLUMNS, check_kind, evaluate
-from bomcheck.rules import load_rules
+from bomcheck.evaluate.engine import CHECKS, VERDICT_COLUMNS, check_kind, evaluate
+from bomcheck.evaluate.rules import load_rules
 from bomcheck.vocabulary import INPUT_LABELS
 
 

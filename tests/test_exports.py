@@ -1,4 +1,4 @@
-"""CI outputs of a report: JUnit XML, the Markdown summary and CSV rows (bomcheck.exports)."""
+"""CI outputs of a report: JUnit XML, the Markdown summary and CSV rows (bomcheck.render.exports)."""
 
 import csv
 import io
@@ -9,9 +9,9 @@ from types import SimpleNamespace
 import pandas as pd
 import pytest
 
-from bomcheck.exports import INJECTION_LEAD, csv_rows, format_metric, junit_xml, markdown_summary
-from bomcheck.report import Report
-from bomcheck.waivers import WaiverFinding
+from bomcheck.render.exports import INJECTION_LEAD, csv_rows, format_metric, junit_xml, markdown_summary
+from bomcheck.report.model import Report
+from bomcheck.evaluate.waivers import WaiverFinding
 
 NAN = math.nan
 
@@ -261,7 +261,7 @@ ROOT = __import__("pathlib").Path(__file__).resolve().parents[1]
 
 @pytest.fixture(scope="module")
 def sample():
-    from bomcheck.audit import run_audit
+    from bomcheck.pipeline.audit import run_audit
 
     return run_audit(str(ROOT / "sample_boms" / "bw7-controller-bom.csv"),
                      str(ROOT / "sample_boms" / "bw7-design.csv"))

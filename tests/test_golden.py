@@ -57,7 +57,7 @@ def workbook_cells(path: Path) -> str:
 
 
 def _run(tmp_path, monkeypatch, args, files, xlsx_name):
-    from bomcheck.cli import main
+    from bomcheck.cli.main import main
 
     monkeypatch.chdir(ROOT)
     out = {name: tmp_path / name for name in files.values()}

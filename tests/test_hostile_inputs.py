@@ -13,7 +13,7 @@ sys.path.insert(0, str(Path(__file__).parent))
 
 from hostile_corpus import Case, cases  # noqa: E402
 
-from bomcheck.cli import main  # noqa: E402
+from bomcheck.cli.main import main  # noqa: E402
 
 CASE_SECONDS = 10.0  # no case may take longer (issue 10: "0 hangs over 10 s")
 

@@ -1,4 +1,4 @@
-"""The self-contained HTML report (bomcheck.html_report): content, no external asset, and a
+"""The self-contained HTML report (bomcheck.render.html): content, no external asset, and a
 render in a real browser (headless Chromium) when one is installed."""
 
 from __future__ import annotations
@@ -13,8 +13,8 @@ from pathlib import Path
 
 import pytest
 
-from bomcheck.audit import run_audit
-from bomcheck.html_report import audit_html, substitute_html
+from bomcheck.pipeline.audit import run_audit
+from bomcheck.render.html import audit_html, substitute_html
 
 ROOT = Path(__file__).resolve().parents[1]
 SAMPLE = ROOT / "sample_boms"
@@ -92,7 +92,7 @@ def test_chart_has_limit_lines_points_and_ac_apart(page, report):
 
 
 def test_substitute_page(tmp_path):
-    from bomcheck.substitute import SubstituteOptions, read_alternates, run_substitute
+    from bomcheck.substitute.check import SubstituteOptions, read_alternates, run_substitute
 
     result = run_substitute(str(SAMPLE / "bw7-controller-bom.csv"),
                             str(SAMPLE / "bw7-design.csv"),

@@ -5,7 +5,7 @@ from __future__ import annotations
 
 import pytest
 
-from bomcheck.importer import read_bom
+from bomcheck.parse.importer import read_bom
 
 
 def _file(tmp_path, text, name="bom.csv"):

@@ -13,9 +13,9 @@ import pytest
 from hypothesis import given
 from hypothesis import strategies as st
 
-from bomcheck.cli import main
+from bomcheck.cli.main import main
 from bomcheck.errors import InputError
-from bomcheck.importer import (
+from bomcheck.parse.importer import (
     PLACEMENT_COLUMNS,
     SKIPPED_COLUMNS,
     ImportFinding,
@@ -25,7 +25,7 @@ from bomcheck.importer import (
     not_fitted_mark,
     read_bom,
 )
-from bomcheck.refdes import expand, prefix
+from bomcheck.parse.refdes import expand, prefix
 from bomcheck.spec import SPEC_KEYS
 
 

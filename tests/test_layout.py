@@ -8,9 +8,9 @@ from importlib import resources
 import jsonschema
 import pytest
 
-from bomcheck.audit import run_audit
-from bomcheck.importer import ROW_CATEGORIES, accounting_identity, read_bom
-from bomcheck.layout import parse_level
+from bomcheck.pipeline.audit import run_audit
+from bomcheck.parse.importer import ROW_CATEGORIES, accounting_identity, read_bom
+from bomcheck.parse.layout import parse_level
 
 
 def _file(tmp_path, text, name="bom.csv"):

@@ -7,14 +7,71 @@ from pathlib import Path
 
 import pytest
 
-from bomcheck.cli import build_parser
+from bomcheck.cli.main import build_parser
 
 ROOT = Path(__file__).resolve().parents[1]
 PACKAGE = ROOT / "bomcheck"
-# The edges (reading files, writing the terminal and spreadsheets) may import rich/openpyxl;
-# the core may not.
-EDGE = {"cli.py", "commands.py", "render.py", "xlsx.py", "xlsx_substitutes.py", "reader.py",
-        "__main__.py"}
+MODULES = sorted(PACKAGE.rglob("*.py"))
+STAGES = ("read", "parse", "stress", "evaluate", "pipeline", "substitute", "report", "render", "cli")
+
+
+def _rel(path: Path) -> str:
+    return path.relative_to(PACKAGE).as_posix()
+
+
+def _package(module: str) -> str:
+    """``bomcheck.parse.values`` -> ``parse``; a top-level module (errors, status, vocabulary,
+    spec, api) -> ``core``, the shared leaves every stage may import."""
+    parts = module.split(".")
+    return parts[1] if len(parts) > 2 and parts[1] in STAGES else "core"
+
+
+# What each stage may import from the others: the pipeline's direction. The middle (parse to
+# report) imports no renderer and no command line; only ``read`` opens inputs.
+MAY_IMPORT = {
+    "core": {"core"},
+    "read": {"core"},
+    "parse": {"core", "read"},
+    "stress": {"core", "parse"},
+    "evaluate": {"core", "read", "parse", "stress"},
+    "report": {"core", "parse", "stress", "evaluate"},
+    "pipeline": {"core", "read", "parse", "stress", "evaluate", "report"},
+    "substitute": {"core", "read", "parse", "stress", "evaluate", "report", "pipeline"},
+    "render": {"core", "parse", "report", "evaluate", "substitute"},
+    "cli": set(STAGES) | {"core"},
+}
+# The library's front door may call any stage but the command line.
+API = {"api.py": set(STAGES) - {"cli"} | {"core"}, "__init__.py": set(STAGES) - {"cli"} | {"core"},
+       "__main__.py": {"core", "cli"}}
+# Ratchet while the stage packages are split: imports against the direction still to remove
+# (entries may only be removed).
+AGAINST_THE_PIPELINE = {
+    ("parse/parts.py", "bomcheck.evaluate.rules"), ("pipeline/batch.py", "bomcheck.render.exports"),
+    ("read/reader.py", "bomcheck.parse.columns"), ("report/diff.py", "bomcheck.render.exports"),
+    ("report/model.py", "bomcheck.render.textsafe"),
+    ("report/whereused.py", "bomcheck.render.exports"),
+    ("substitute/check.py", "bomcheck.render.textsafe"),
+}
+# Stages that may import these third-party libraries (the terminal and the workbook are edges).
+HEAVY_EDGES = {"rich": {"render", "cli"}, "openpyxl": {"read", "render"}}
+
+
+def _own_imports(path: Path):
+    """(imported bomcheck module, line, at function level?) for each import of the package's own
+    modules; ``from bomcheck.x import y`` counts ``bomcheck.x.y`` when that is a module."""
+    tree = ast.parse(path.read_text(encoding="utf-8"))
+    inner = {id(n) for f in ast.walk(tree) if isinstance(f, (ast.FunctionDef, ast.AsyncFunctionDef))
+             for n in ast.walk(f)}
+    for node in ast.walk(tree):
+        if isinstance(node, ast.Import):
+            names = [a.name for a in node.names]
+        elif isinstance(node, ast.ImportFrom) and node.module and node.level == 0:
+            names = [node.module]
+        else:
+            continue
+        for name in names:
+            if name.split(".")[0] == "bomcheck":
+                yield name, node.lineno, id(node) in inner
 
 
 def _imports(path: Path) -> set[str]:
@@ -28,13 +85,103 @@ def _imports(path: Path) -> set[str]:
     return names
 
 
-@pytest.mark.parametrize("module", sorted(p.name for p in PACKAGE.glob("*.py") if p.name not in EDGE))
-def test_core_modules_import_no_rich_or_openpyxl(module):
-    assert not _imports(PACKAGE / module) & {"rich", "openpyxl"}
+def _stage_of_file(path: Path) -> str:
+    rel = _rel(path)
+    return rel.split("/")[0] if "/" in rel and rel.split("/")[0] in STAGES else "core"
+
+
+@pytest.mark.parametrize("path", MODULES, ids=_rel)
+def test_imports_follow_the_pipeline(path):
+    rel = _rel(path)
+    allowed = API.get(rel, MAY_IMPORT[_stage_of_file(path)])
+    stage = _stage_of_file(path)
+    wrong = [f"{name} (line {line})" for name, line, _ in _own_imports(path)
+             if _package(name) not in allowed | {stage} and name != "bomcheck"
+             and (rel, name) not in AGAINST_THE_PIPELINE]
+    assert wrong == [], f"{rel} ({stage}) imports against the pipeline's direction: {wrong}"
+
+
+@pytest.mark.parametrize("path", MODULES, ids=_rel)
+def test_heavy_libraries_only_at_the_edges(path):
+    stage = _stage_of_file(path)
+    used = {lib for lib in HEAVY_EDGES if lib in _imports(path) and stage not in HEAVY_EDGES[lib]}
+    assert not used, f"{_rel(path)} ({stage}) imports {sorted(used)}"
+
+
+# Function-level imports of the package's own modules, each with its reason: they keep
+# ``bomcheck --help`` and a run light (pandas, openpyxl, rich and the stages load only when the
+# command needs them). Any other import of an own module belongs at the top of the module.
+LAZY_IMPORTS = {
+    "__init__.py": "the public API loads a stage on first use, so `import bomcheck` stays light",
+    "cli/main.py": "argument parsing and --help import no stage",
+    "render/registry.py": "the output registry names writers; a run loads only the ones it writes",
+    "render/writers.py": "each writer loads its library (openpyxl, the HTML page) only when used",
+}
+
+
+def test_function_level_imports_of_own_modules_have_a_reason():
+    found = sorted({_rel(p) for p in MODULES for _, _, inner in _own_imports(p) if inner}
+                   - set(LAZY_IMPORTS) - set(LAZY_IMPORTS_TO_MOVE))
+    assert found == [], f"move these imports to the top of the module: {found}"
+
+
+# Ratchet while the stage packages are split: entries may only be removed.
+LAZY_IMPORTS_TO_MOVE = {
+    "api.py", "cli/commands.py", "cli/config.py", "evaluate/rules.py", "evaluate/waivers.py",
+    "parse/columns.py", "parse/design.py", "parse/design_toml.py", "parse/importer.py",
+    "parse/linespec.py", "parse/parts.py", "pipeline/audit.py", "pipeline/batch.py",
+    "read/reader.py", "render/exports.py", "render/html.py", "render/terminal.py",
+    "render/xlsx.py", "render/xlsx_substitutes.py", "report/diff.py", "report/jsonform.py",
+    "report/model.py", "report/whereused.py", "stress/circuit.py", "substitute/check.py",
+}
+
+MAX_MODULE_LINES = 500
+MAX_FUNCTION_LINES = 60
+# Ratchet while the stage packages are split: entries may only be removed or shrink.
+OVERSIZE_MODULES = {
+    "parse/columns.py": 520, "parse/linespec.py": 525, "parse/parts.py": 566,
+    "render/html.py": 585, "parse/design.py": 609, "evaluate/engine.py": 657,
+    "stress/circuit.py": 704, "render/xlsx.py": 941, "read/reader.py": 1009,
+    "parse/values.py": 1086, "evaluate/rules.py": 1133, "parse/importer.py": 1167,
+    "substitute/check.py": 1535,
+}
+OVERSIZE_FUNCTIONS = {
+    "stress/circuit.py:apply": 325, "parse/importer.py:_build_lines": 165,
+    "substitute/check.py:_spec_differences": 121, "stress/placement.py:capacitance_worst_case": 102,
+    "parse/values.py:_build": 101, "substitute/check.py:_verdict_issues": 99,
+    "render/xlsx.py:_chart": 97, "render/sarif.py:sarif_log": 97, "render/xlsx.py:_summary": 94,
+    "parse/values.py:_word": 94, "render/html.py:_svg_chart": 87, "parse/values.py:_numeric": 87,
+    "parse/design_toml.py:entries_from_toml": 85, "parse/parts.py:apply_parts": 84,
+    "parse/layout.py:find_layout": 84, "cli/main.py:build_parser": 83,
+    "render/exports.py:markdown_summary": 76, "pipeline/audit.py:audit_inputs": 75,
+    "parse/design.py:_build": 75, "parse/importer.py:_fitted": 72,
+    "render/xlsx_substitutes.py:write_substitutes_sheet": 69, "evaluate/waivers.py:waive_verdicts": 68,
+    "read/workbook_scan.py:_scan_sheet": 67, "render/xlsx.py:_table": 66,
+    "render/terminal.py:print_audit": 66, "parse/design.py:_groups": 66,
+    "parse/importer.py:expand_lines": 63, "evaluate/engine.py:_bodies": 62,
+}
+
+
+def test_no_module_over_the_size_limit():
+    sizes = {_rel(p): len(p.read_text(encoding="utf-8").splitlines()) for p in MODULES}
+    over = {m: n for m, n in sizes.items()
+            if n > max(MAX_MODULE_LINES, OVERSIZE_MODULES.get(m, 0))}
+    assert over == {}, f"split these modules (limit {MAX_MODULE_LINES} lines): {over}"
+
+
+def test_no_function_over_the_size_limit():
+    over = {}
+    for path in MODULES:
+        for node in ast.walk(ast.parse(path.read_text(encoding="utf-8"))):
+            if isinstance(node, (ast.FunctionDef, ast.AsyncFunctionDef)):
+                key, n = f"{_rel(path)}:{node.name}", node.end_lineno - node.lineno + 1
+                if n > max(MAX_FUNCTION_LINES, OVERSIZE_FUNCTIONS.get(key, 0)):
+                    over[key] = n
+    assert over == {}, f"split these functions (limit {MAX_FUNCTION_LINES} lines): {over}"
 
 
 def test_help_path_imports_no_heavy_modules():
-    code = ("import sys, bomcheck.cli as c; c.build_parser().format_help(); "
+    code = ("import sys, bomcheck.cli.main as c; c.build_parser().format_help(); "
             "print(sorted(m for m in ('pandas', 'pint', 'openpyxl', 'numpy', 'rich', 'jsonschema') "
             "if m in sys.modules))")
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
@@ -55,7 +202,7 @@ def test_every_command_has_help_and_is_in_readme(name):
 
 
 def test_every_module_starts_with_a_sentence():
-    for path in PACKAGE.glob("*.py"):
+    for path in MODULES:
         doc = ast.get_docstring(ast.parse(path.read_text(encoding="utf-8")))
         assert doc and doc.strip().endswith((".", ")")) or doc.split("\n")[0].endswith("."), path.name
 
@@ -67,25 +214,22 @@ def test_version_and_help_answer():
         assert out.returncode == 0 and "bomcheck" in out.stdout
 
 
-# Modules that may open files themselves, and why; every other module reads its inputs through
-# bomcheck.reader (limits, regular files only, one TOML loader) and writes through outfiles.
+# Modules outside ``read`` that may open files themselves, and why; every other module reads its
+# inputs through bomcheck.read.reader (limits, regular files only, one TOML loader) and writes
+# through render/outfiles.
 FILE_ACCESS = {
-    "reader.py": "the input reader",
-    "workbook_scan.py": "the input reader's look inside a workbook before a library reads it",
-    "outfiles.py": "the atomic writer",
-    "batch.py": "the per-board outputs its worker processes write and read back",
-    "commands.py": "counting a BOM's lines to decide on a progress bar",
-    "importer.py": "hashing the BOM file the reader has read",
-    "rules.py": "the shipped rule sets and schema (package data)",
+    "render/outfiles.py": "the atomic writer",
+    "pipeline/batch.py": "the per-board outputs its worker processes write and read back",
+    "cli/commands.py": "counting a BOM's lines to decide on a progress bar",
+    "parse/importer.py": "hashing the BOM file the reader has read",
+    "evaluate/rules.py": "the shipped rule sets and schema (package data)",
 }
 
 
 def test_only_the_reader_and_writers_open_files():
-    import ast
-
     offenders = []
-    for path in sorted((ROOT / "bomcheck").glob("*.py")):
-        if path.name in FILE_ACCESS:
+    for path in MODULES:
+        if _rel(path) in FILE_ACCESS or _stage_of_file(path) == "read":
             continue
         for node in ast.walk(ast.parse(path.read_text(encoding="utf-8"))):
             if isinstance(node, ast.Call):
@@ -96,5 +240,5 @@ def test_only_the_reader_and_writers_open_files():
                     and name in ("open", "read_text", "read_bytes", "write_text", "write_bytes")
                     and not (isinstance(f.value, ast.Name) and f.value.id in ("reader",)))
                 if direct:
-                    offenders.append(f"{path.name}:{node.lineno}")
+                    offenders.append(f"{_rel(path)}:{node.lineno}")
     assert offenders == []

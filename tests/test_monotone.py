@@ -13,8 +13,8 @@ import pytest
 from hypothesis import HealthCheck, Phase, given, settings
 from hypothesis import strategies as st
 
-from bomcheck import rules
-from bomcheck.audit import evaluate_table
+from bomcheck.evaluate import rules
+from bomcheck.pipeline.audit import evaluate_table
 from bomcheck.status import RANK
 
 RULESETS = {(name, env): rules.load_rules([name]).for_environment(env)

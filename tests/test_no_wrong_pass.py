@@ -9,7 +9,7 @@ import json
 
 import pytest
 
-from bomcheck.cli import main
+from bomcheck.cli.main import main
 from conftest import verdicts
 
 
@@ -179,7 +179,7 @@ def test_hidden_rows_are_counted_and_warned_not_lost(tmp_path, monkeypatch, caps
     ("Temp (°C)", "105", 105.0),
 ])
 def test_a_rated_temperature_in_kelvin_or_fahrenheit_is_converted(tmp_path, header, cell, rated):
-    from bomcheck.importer import read_bom
+    from bomcheck.parse.importer import read_bom
 
     (tmp_path / "bom.csv").write_text(f"Designator,Description,{header}\n"
                                       f"C1,CAP ALU 100UF 35V 20%,{cell}\n", encoding="utf-8")

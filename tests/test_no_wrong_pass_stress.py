@@ -9,9 +9,10 @@ import math
 import numpy as np
 import pandas as pd
 import pytest
-from bomcheck import engine, rules
-from bomcheck.design import design_from_table
-from bomcheck.substitute import Alternate, run_direct
+from bomcheck.evaluate import engine
+from bomcheck.evaluate import rules
+from bomcheck.parse.design import design_from_table
+from bomcheck.substitute.check import Alternate, run_direct
 from conftest import verdicts
 
 

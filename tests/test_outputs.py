@@ -1,4 +1,4 @@
-"""The output registry (bomcheck.outputs): one list read by the CLI and by [tool.bomcheck]."""
+"""The output registry (bomcheck.render.registry): one list read by the CLI and by [tool.bomcheck]."""
 
 from __future__ import annotations
 
@@ -7,9 +7,9 @@ from pathlib import Path
 
 import pytest
 
-from bomcheck import config
-from bomcheck.cli import build_parser, main
-from bomcheck.outputs import OUTPUTS, for_command
+from bomcheck.cli import config
+from bomcheck.cli.main import build_parser, main
+from bomcheck.render.registry import OUTPUTS, for_command
 
 ROOT = Path(__file__).resolve().parents[1]
 

@@ -7,9 +7,9 @@ import pandas as pd
 import pytest
 
 from bomcheck.errors import InputError
-from bomcheck.parts import (PARTS_FINDING, apply_parts, curve_values, parts_from_table,
+from bomcheck.parse.parts import (PARTS_FINDING, apply_parts, curve_values, parts_from_table,
                             read_parts)
-from bomcheck.stresses import StressData, compute
+from bomcheck.stress.placement import StressData, compute
 
 CSV = ("mpn,rated_voltage,temp_max,esr [mohm],ripple_current,ripple_freq,ripple_freq_mult,"
        "life,life_temp,leakage,dc_bias\n"
@@ -175,7 +175,7 @@ def test_header_only_parts_file_is_clean(tmp_path):
     ("override", "maybe", "not a valid override value"),
 ])
 def test_implausible_parts_cells_are_input_errors(tmp_path, header, cell, problem):
-    # common practice: the ranges of bomcheck.units.PLAUSIBLE; issue 10 for inf and huge numbers.
+    # common practice: the ranges of bomcheck.parse.units.PLAUSIBLE; issue 10 for inf and huge numbers.
     with pytest.raises(InputError) as info:
         read_parts(write(tmp_path, "p.csv", f"mpn,{header}\nP0,\nP1,{cell}\n"))
     e = info.value
@@ -244,7 +244,7 @@ def test_missing_file_and_missing_mpn_column(tmp_path):
 
 
 def test_each_distinct_cell_is_converted_once(monkeypatch):
-    import bomcheck.parts_cells as cells_mod
+    import bomcheck.parse.parts_cells as cells_mod
 
     calls = []
     monkeypatch.setattr(cells_mod, "to_si", lambda text, q, u=None, *a: calls.append(text) or 1.0)

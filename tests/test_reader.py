@@ -6,9 +6,9 @@ import zipfile
 import openpyxl
 import pytest
 
-from bomcheck import reader
+from bomcheck.read import reader
 from bomcheck.errors import InputError
-from bomcheck.reader import HeaderNotFound, read_table, unique_headers
+from bomcheck.read.reader import HeaderNotFound, read_table, unique_headers
 
 
 def _write(path, text, encoding="utf-8"):
@@ -302,7 +302,7 @@ def test_large_file_read_in_parallel_keeps_rows(tmp_path):
 # ---------------------------------------------------------------------------------------------
 # Hostile and unusual text tables (issue 10): cell sizes, line ends, mixed encodings, limits.
 
-from bomcheck.limits import Limits, use_limits  # noqa: E402
+from bomcheck.read.limits import Limits, use_limits  # noqa: E402
 
 
 def test_cell_over_128_kib_and_a_long_header_are_read(tmp_path):
@@ -647,8 +647,8 @@ def test_fuzzed_workbooks_never_raise_anything_but_input_error(cuts, calamine):
 
 def test_a_raised_file_limit_does_not_allocate_the_limit(tmp_path):
     # A 100 GB limit (--max-file-mb 100000) once made read() ask for 100 GB up front.
-    from bomcheck.limits import Limits, use_limits
-    from bomcheck.reader import read_bytes
+    from bomcheck.read.limits import Limits, use_limits
+    from bomcheck.read.reader import read_bytes
 
     (tmp_path / "b.csv").write_bytes(b"Designator,Value\nC1,1uF\n")
     with use_limits(Limits(file_bytes=100_000 << 20)):

@@ -5,7 +5,7 @@ from hypothesis import given
 from hypothesis import strategies as st
 
 from bomcheck.errors import InputError
-from bomcheck.refdes import MAX_RANGE, expand, is_designator, prefix
+from bomcheck.parse.refdes import MAX_RANGE, expand, is_designator, prefix
 
 # Designator list forms as BOM exports write them (common practice).
 CASES = [
@@ -123,7 +123,7 @@ def test_a_5000_digit_number_is_a_clean_error():
 
 
 def test_one_cell_is_held_to_the_cell_placement_limit():
-    from bomcheck.limits import Limits, use_limits
+    from bomcheck.read.limits import Limits, use_limits
 
     assert len(expand("C1-C5000, D1-D5000")) == 10_000
     with pytest.raises(InputError, match="more than 10,000 placements"):

@@ -5,9 +5,9 @@ from pathlib import Path
 
 import pytest
 
-from bomcheck.audit import run_audit
-from bomcheck.render import fmt_si, make_console, print_audit, print_specs
-from bomcheck.values import parse_value
+from bomcheck.pipeline.audit import run_audit
+from bomcheck.render.terminal import fmt_si, make_console, print_audit, print_specs
+from bomcheck.parse.values import parse_value
 
 ROOT = Path(__file__).resolve().parents[1]
 
@@ -58,7 +58,7 @@ def test_fmt_si(value, unit, expected):
 
 
 def test_compact_layout_at_80_columns_breaks_no_word():
-    from bomcheck.render import print_quiet
+    from bomcheck.render.terminal import print_quiet
 
     report = run_audit(str(ROOT / "sample_boms" / "bw7-controller-bom.csv"),
                        str(ROOT / "sample_boms" / "bw7-design.csv"))

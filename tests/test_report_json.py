@@ -1,4 +1,4 @@
-"""The JSON report, schema version 2 (bomcheck.report_json and Report.iter_json): column-wise
+"""The JSON report, schema version 2 (bomcheck.report.jsonform and Report.iter_json): column-wise
 text, chunked streaming, defaults a reader can rebuild every verdict from."""
 
 import json
@@ -11,9 +11,9 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from bomcheck import report_json
-from bomcheck.audit import AuditOptions, run_audit
-from bomcheck.report_json import column_texts, objects
+from bomcheck.report import jsonform as report_json
+from bomcheck.pipeline.audit import AuditOptions, run_audit
+from bomcheck.report.jsonform import column_texts, objects
 
 ROOT = Path(__file__).resolve().parents[1]
 BOM = ROOT / "sample_boms" / "bw7-controller-bom.csv"

@@ -1,4 +1,4 @@
-"""The one order of every output (bomcheck.report.Report.worst_first and verdicts_worst_first)."""
+"""The one order of every output (bomcheck.report.model.Report.worst_first and verdicts_worst_first)."""
 
 from __future__ import annotations
 
@@ -7,7 +7,7 @@ from types import SimpleNamespace
 
 import pandas as pd
 
-from bomcheck.report import Report
+from bomcheck.report.model import Report
 
 NAN = math.nan
 

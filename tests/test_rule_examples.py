@@ -11,8 +11,8 @@ from dataclasses import replace
 import pandas as pd
 import pytest
 
-from bomcheck.engine import evaluate
-from bomcheck.rules import Rule, RuleSet, load_rules, shipped_names
+from bomcheck.evaluate.engine import evaluate
+from bomcheck.evaluate.rules import Rule, RuleSet, load_rules, shipped_names
 
 SETS: dict[str, RuleSet] = {name: load_rules([name]) for name in shipped_names()}
 

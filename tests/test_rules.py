@@ -1,4 +1,4 @@
-"""Tests of bomcheck.rules: loading, validating and merging rule sets."""
+"""Tests of bomcheck.evaluate.rules: loading, validating and merging rule sets."""
 
 from __future__ import annotations
 
@@ -11,7 +11,7 @@ import numpy as np
 import pytest
 
 from bomcheck.errors import RuleError, RuleProblem
-from bomcheck.rules import (
+from bomcheck.evaluate.rules import (
     DEFAULT_RULESET,
     Limit,
     json_path,

@@ -1,4 +1,4 @@
-"""Code-review outputs (bomcheck.sarif): SARIF 2.1.0 validated against a schema, and workflow
+"""Code-review outputs (bomcheck.render.sarif): SARIF 2.1.0 validated against a schema, and workflow
 annotations with the workflow-command escaping."""
 
 from __future__ import annotations
@@ -10,8 +10,8 @@ from pathlib import Path
 import jsonschema
 import pytest
 
-from bomcheck.audit import run_audit
-from bomcheck.sarif import annotations, sarif_json, sarif_log
+from bomcheck.pipeline.audit import run_audit
+from bomcheck.render.sarif import annotations, sarif_json, sarif_log
 
 ROOT = Path(__file__).resolve().parents[1]
 DATA = Path(__file__).resolve().parent / "data"
@@ -106,7 +106,7 @@ def test_annotations_one_line_per_problem_and_escaped(report):
 
 
 def test_annotation_escaping_of_properties_and_data():
-    from bomcheck import sarif
+    from bomcheck.render import sarif
 
     # workflow-command rules: data escapes % CR LF; property values also ':' and ','
     assert sarif._escape_data("a%b\r\nc") == "a%25b%0D%0Ac"
@@ -114,7 +114,7 @@ def test_annotation_escaping_of_properties_and_data():
 
 
 def test_sarif_uri_keeps_bytes_of_a_non_utf8_name():
-    from bomcheck import sarif
+    from bomcheck.render import sarif
 
     name = os.fsdecode(b"bom r\xe9v.csv")
     assert sarif._uri(name) == "bom%20r%E9v.csv"  # RFC 3986 percent-encoding of the bytes

@@ -6,7 +6,7 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from bomcheck.stresses import StressData, applied_voltages, compute
+from bomcheck.stress.placement import StressData, applied_voltages, compute
 
 AGING = StressData(aging_k={"class2": 2.5, "class3": 8.0, "class1": 0.0})
 

@@ -9,9 +9,9 @@ import jsonschema
 import pandas as pd
 import pytest
 
-from bomcheck.cli import main
+from bomcheck.cli.main import main
 from bomcheck.errors import InputError
-from bomcheck.substitute import (
+from bomcheck.substitute.check import (
     Alternate,
     SubstituteOptions,
     designator_list,
@@ -215,9 +215,11 @@ def test_an_original_not_in_the_bom_is_an_input_error(board):
 def test_the_original_is_evaluated_exactly_as_the_audit_does():
     # The substitute check runs the audit's stages; on the sample board the original's verdicts
     # are the audit's (less the BOM-line findings, which are the same for both parts).
-    from bomcheck import design, importer, rules
-    from bomcheck.audit import run_audit
-    from bomcheck.substitute import Stages, evaluate, placement_table
+    from bomcheck.parse import design
+    from bomcheck.parse import importer
+    from bomcheck.evaluate import rules
+    from bomcheck.pipeline.audit import run_audit
+    from bomcheck.substitute.check import Stages, evaluate, placement_table
 
     report = run_audit(str(SAMPLE_BOM), str(SAMPLE_DESIGN))
     d = design.read_design(str(SAMPLE_DESIGN))
@@ -359,7 +361,7 @@ def test_json_validates_against_its_schema_and_is_reproducible(tmp_path, capsys)
 def test_formula_like_alternate_text_stays_text_in_the_sheet(board, tmp_path):
     from openpyxl import load_workbook
 
-    from bomcheck.xlsx_substitutes import write_substitute_workbook
+    from bomcheck.render.xlsx_substitutes import write_substitute_workbook
 
     formula = '=HYPERLINK("http://example.invalid","click")'
     bom, design = board
@@ -377,7 +379,7 @@ def test_formula_like_alternate_text_stays_text_in_the_sheet(board, tmp_path):
 
 
 def test_markdown_and_terminal_show_verdicts_and_reasons(board):
-    from bomcheck.render import make_console, print_substitutes
+    from bomcheck.render.terminal import make_console, print_substitutes
 
     bom, design = board
     result = run_substitute(bom, design, [alt("C3", "CAP CER 10NF 100V 10% X5R 0603"),

@@ -1,4 +1,4 @@
-"""Output integrity (bomcheck.textsafe, bomcheck.outfiles): hostile cells through every writer,
+"""Output integrity (bomcheck.render.textsafe, bomcheck.render.outfiles): hostile cells through every writer,
 checked with real parsers; atomic writes, stale temporary files, the output lock."""
 
 from __future__ import annotations
@@ -18,9 +18,9 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from bomcheck.cli import main
-from bomcheck.outfiles import atomic_path, clean_stale, write_text
-from bomcheck.textsafe import csv_field, md_text, natural_key, xml_text
+from bomcheck.cli.main import main
+from bomcheck.render.outfiles import atomic_path, clean_stale, write_text
+from bomcheck.render.textsafe import csv_field, md_text, natural_key, xml_text
 
 # Hostile cell texts: characters XML 1.0 forbids (U+FFFE, U+FFFF, C0 controls), markup, a
 # Markdown table break, formula leads and a formula hidden behind a separator.
@@ -291,7 +291,7 @@ def test_output_lock_serialises_two_runs(tmp_path):
     pytest.importorskip("fcntl")
     log = tmp_path / "log"
     script = (
-        "import sys, time; from bomcheck.outfiles import output_lock\n"
+        "import sys, time; from bomcheck.render.outfiles import output_lock\n"
         f"with output_lock([{str(tmp_path / 'a.json')!r}]):\n"
         f"    open({str(log)!r}, 'a').write('start ' + sys.argv[1] + '\\n'); time.sleep(0.4)\n"
         f"    open({str(log)!r}, 'a').write('end ' + sys.argv[1] + '\\n')\n")
@@ -327,7 +327,7 @@ def test_non_utf8_output_file_name(tmp_path, capsys):
 
 
 def test_json_dumps_writes_non_finite_numbers_as_null():
-    from bomcheck.textsafe import json_dumps
+    from bomcheck.render.textsafe import json_dumps
 
     value = {"a": float("inf"), "b": [float("nan"), -float("inf"), 1.5], "c": ("x", 2)}
     text = json_dumps(value)
@@ -340,7 +340,7 @@ def test_report_json_survives_an_infinite_metric(tmp_path):
     """A 0 V rating gives an infinite stress ratio: the JSON report stays strict JSON."""
     import numpy as np
 
-    from bomcheck.audit import run_audit
+    from bomcheck.pipeline.audit import run_audit
 
     (tmp_path / "bom.csv").write_text(HEADER + "C1,1,100nF 16V X7R,x,y,Yes\n", encoding="utf-8")
     (tmp_path / "design.csv").write_text(DESIGN + "C1,5,55,none\n", encoding="utf-8")

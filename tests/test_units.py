@@ -1,4 +1,4 @@
-"""bomcheck.units checked against pint itself (a separate registry) as the reference library."""
+"""bomcheck.parse.units checked against pint itself (a separate registry) as the reference library."""
 
 from __future__ import annotations
 
@@ -10,7 +10,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from bomcheck.errors import InputError, UnitError
-from bomcheck.units import PLAUSIBLE, SI_UNITS, registry, to_si
+from bomcheck.parse.units import PLAUSIBLE, SI_UNITS, registry, to_si
 
 MICRO_SIGN = "\u00b5"  # Unicode U+00B5 MICRO SIGN
 GREEK_MU = "\u03bc"  # Unicode U+03BC GREEK SMALL LETTER MU
@@ -246,7 +246,7 @@ def test_negative_allowed_where_the_sign_means_something():
 
 def test_each_unit_token_converted_once(monkeypatch):
     # Fast path: a second string with the same unit token does not call pint again.
-    from bomcheck import units
+    from bomcheck.parse import units
 
     units.unit_factor.cache_clear()
     to_si("3 years", "time")
@@ -291,7 +291,7 @@ def test_any_text_is_a_plausible_value_or_a_unit_error(text, quantity, sign):
 ])
 def test_table_units_agree_with_pint(ref, text, quantity):
     # The units read without pint (faster start) give pint's own conversion.
-    from bomcheck import units
+    from bomcheck.parse import units
 
     number, unit = text.split(" ", 1)
     token = unit.replace(" ", "")

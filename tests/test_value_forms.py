@@ -8,8 +8,8 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from bomcheck import codes
-from bomcheck.values import CONFLICT_MARK, parse_value
+from bomcheck.parse import codes
+from bomcheck.parse.values import CONFLICT_MARK, parse_value
 
 # --- library-style values with underscores (common practice of EDA symbol libraries) ----------
 

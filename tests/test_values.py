@@ -9,7 +9,7 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 from bomcheck.spec import CapSpec
-from bomcheck.values import CONFLICT_MARK, UNREAD_MARK, format_capacitance, parse_value
+from bomcheck.parse.values import CONFLICT_MARK, UNREAD_MARK, format_capacitance, parse_value
 
 U, N, P = 1e-6, 1e-9, 1e-12
 
@@ -528,7 +528,7 @@ def test_parser_never_raises(text):
 
 
 @settings(max_examples=300, deadline=None)
-# The plausible capacitance range (bomcheck.codes.PLAUSIBLE, 0.01 pF .. 10 kF); 0 F is unread.
+# The plausible capacitance range (bomcheck.parse.codes.PLAUSIBLE, 0.01 pF .. 10 kF); 0 F is unread.
 @given(st.floats(min_value=1e-14, max_value=1e4, allow_nan=False, allow_infinity=False))
 def test_format_then_parse_round_trips(farads):
     spec = parse_value(format_capacitance(farads), context="value")

@@ -6,7 +6,7 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from bomcheck import rules
+from bomcheck.evaluate import rules
 from bomcheck.vocabulary import METRICS, REQUIRED_FAMILIES
 
 

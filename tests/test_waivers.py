@@ -1,4 +1,4 @@
-"""Approved deviations: reading waiver files and applying them to verdicts (bomcheck.waivers)."""
+"""Approved deviations: reading waiver files and applying them to verdicts (bomcheck.evaluate.waivers)."""
 
 import datetime as dt
 import json
@@ -8,10 +8,10 @@ import jsonschema
 import pandas as pd
 import pytest
 
-from bomcheck.audit import AuditOptions, run_audit
+from bomcheck.pipeline.audit import AuditOptions, run_audit
 from bomcheck.errors import InputError
 from bomcheck.status import STATUS_ORDER
-from bomcheck.waivers import Waiver, WaiverFinding, apply_waivers, load_waivers, waive_verdicts
+from bomcheck.evaluate.waivers import Waiver, WaiverFinding, apply_waivers, load_waivers, waive_verdicts
 
 TODAY = dt.date(2026, 12, 1)
 TEXT = "KV-0603-105-16 | CAP CER 1UF 16V X7R"

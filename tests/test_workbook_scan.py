@@ -14,8 +14,8 @@ sys.path.insert(0, str(Path(__file__).parent))
 from hostile_corpus import BOM_ROWS, sheet_xml, xlsx_bytes  # noqa: E402
 
 from bomcheck.errors import InputError  # noqa: E402
-from bomcheck.limits import Limits  # noqa: E402
-from bomcheck.workbook_scan import column_letters, column_number, scan_workbook  # noqa: E402
+from bomcheck.read.limits import Limits  # noqa: E402
+from bomcheck.read.workbook_scan import column_letters, column_number, scan_workbook  # noqa: E402
 
 
 @pytest.mark.parametrize("letters, n", [("A", 1), ("Z", 26), ("AA", 27), ("AMJ", 1024),

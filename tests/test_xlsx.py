@@ -1,4 +1,4 @@
-"""Tests of bomcheck.xlsx: the reviewer's workbook, reopened with openpyxl and its cells asserted."""
+"""Tests of bomcheck.render.xlsx: the reviewer's workbook, reopened with openpyxl and its cells asserted."""
 
 from __future__ import annotations
 
@@ -12,8 +12,8 @@ from pathlib import Path
 import openpyxl
 import pytest
 
-from bomcheck import xlsx
-from bomcheck.audit import AuditOptions, run_audit
+from bomcheck.render import xlsx
+from bomcheck.pipeline.audit import AuditOptions, run_audit
 from bomcheck.errors import InputError
 from bomcheck.status import STATUS_ORDER
 
@@ -299,7 +299,7 @@ def test_chart_data_holds_every_plotted_placement(book, report):
 
 
 def test_step_limit_drawn_as_a_step():
-    from bomcheck.rules import load_rules
+    from bomcheck.evaluate.rules import load_rules
 
     # NASA EEE-INST-002 Section C1 Table 4, step reading (strict-step): 50 % to 70 degC, 30 % above
     lines = xlsx.limit_lines(load_rules(["strict-step"]), 40.0, 100.0)
@@ -309,7 +309,7 @@ def test_step_limit_drawn_as_a_step():
 
 
 def test_linear_limit_passes_through_its_points():
-    from bomcheck.rules import load_rules
+    from bomcheck.evaluate.rules import load_rules
 
     # industrial.toml IND-FLM-CAT: 100 % to 85 degC, 75 % at 105 degC, 50 % at 125 degC
     lines = xlsx.limit_lines(load_rules(["industrial"]), 55.0, 95.0)

@@ -1,0 +1,1 @@
+"""JSON schemas of the report, substitute, batch and rule-set files (package data)."""

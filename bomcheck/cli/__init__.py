@@ -1,0 +1,1 @@
+"""Command line: arguments, commands, project configuration."""

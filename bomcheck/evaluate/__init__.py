@@ -1,0 +1,1 @@
+"""Evaluate stage: rule sets as data, the engine that applies them, waivers, approved sources."""

@@ -1,0 +1,1 @@
+"""Parse stage: value text, designators, BOM rows, design and parts tables to SI columns."""

@@ -1,0 +1,1 @@
+"""The pipeline end to end: one board (audit) or many (batch)."""

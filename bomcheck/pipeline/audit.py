@@ -1,0 +1,283 @@
+"""The whole pipeline in one library call: read -> parse -> stresses -> evaluate -> report value.
+
+The CLI and library users call ``run_audit``; renderers take the returned ``Report`` and never
+recompute anything.
+"""
+
+from __future__ import annotations
+
+import warnings
+from dataclasses import dataclass, field
+from datetime import date
+
+import numpy as np
+import pandas as pd
+
+from bomcheck import __version__
+from bomcheck.report.model import CAUTIONS, Report, ruleset_summary
+from bomcheck.status import RANK, STATUS_ORDER
+from bomcheck.vocabulary import REQUIRED_FAMILIES
+
+# Verdict ids the audit itself gives (not from a rule file): data problems, never a silent pass.
+NO_DESIGN_ROW = "design.missing"
+NO_FAMILY_RULE = "rules.no-{family}-rule"
+BOM_FINDING = "bom.{code}"
+
+
+@dataclass(frozen=True)
+class AuditOptions:
+    """What to audit with: rule sets (names or paths), import options and the design sheet's sheet."""
+
+    rules: tuple[str, ...] = ()
+    import_options: object | None = None  # bomcheck.parse.importer.ImportOptions
+    design_sheet: str | int | None = None
+    extra_inputs: tuple[tuple[str, str], ...] = field(default_factory=tuple)
+    waivers: str | None = None  # waiver file (TOML or CSV), see bomcheck.evaluate.waivers
+    today: date | None = None  # the day waiver expiry is judged on (default: the clock's)
+    parts: str | None = None  # parts file keyed by MPN (CSV, XLSX or TOML), see bomcheck.parse.parts
+    environment: str = "severe"  # rules.ENVIRONMENTS: which column of environment limits fails
+    parts_override: bool = False  # parts data replace the BOM text (else the conservative wins)
+
+
+def stress_data(ruleset):
+    """The rule set's assumed data (generic DC-bias curves, aging rates) for the stress stage."""
+    from bomcheck.stress.placement import StressData
+
+    kwargs: dict = {}
+    bias = ruleset.dc_bias
+    if bias is not None:
+        curves = {"default": (tuple(bias.xs), tuple(bias.ys))}
+        curves.update({name.upper(): (tuple(xs), tuple(ys)) for name, xs, ys in bias.packages})
+        kwargs["dc_bias"] = curves
+    aging = ruleset.aging
+    if aging is not None:
+        rates = {code.upper(): k for code, k in aging.k_by_dielectric}
+        rates.update({f"class{cls}": k for cls, k in aging.k_by_class})
+        kwargs["aging_k"] = rates
+        kwargs["aging_t0_h"] = aging.t0_h
+    if ruleset.typical is not None:
+        kwargs["typical_temp_max_c"] = dict(ruleset.typical.temp_max_c)
+        kwargs["lowest_temp_max_c"] = dict(ruleset.typical.lowest_temp_max_c)
+    return StressData(**kwargs)
+
+
+def _families_missing(table: pd.DataFrame, rule_verdicts: pd.DataFrame,
+                      ruleset) -> dict[str, np.ndarray]:
+    """Per required check family, the placements no derating rule of that family applies to
+    (backstop rules do not count)."""
+    family_of = {r.id: r.family for r in ruleset.enabled_rules if not r.backstop}
+    fam = (rule_verdicts["rule_id"].map(family_of).to_numpy(dtype=object) if len(rule_verdicts)
+           else np.array([], dtype=object))
+    pidx = rule_verdicts["pidx"].to_numpy(dtype=np.int64) if len(rule_verdicts) else fam
+    out = {}
+    for family in REQUIRED_FAMILIES:
+        covered = np.zeros(len(table), dtype=bool)
+        covered[pidx[fam == family].astype(np.int64)] = True
+        if not covered.all():
+            out[family] = np.flatnonzero(~covered)
+    return out
+
+
+def _read_warnings(imported) -> tuple:
+    """The BOM reader's warnings (hidden rows, columns or sheets skipped; lines in another
+    encoding) as input warnings of the report, each naming the BOM file and its first row."""
+    from bomcheck.parse.design_cells import InputWarning
+
+    return tuple(InputWarning(str(imported.source.path), w.rows[0] if w.rows else None, None,
+                              f"{w.code}: {w.message}")
+                 for w in getattr(imported, "read_warnings", ()))
+
+
+def _audit_verdicts(table: pd.DataFrame, rule_verdicts: pd.DataFrame,
+                    import_findings, ruleset) -> pd.DataFrame:
+    """Add the audit's own verdicts: placements with no design row, no derating rule of a
+    required family, and the importer's findings on a placement (quantity mismatch, column
+    conflict) as warnings."""
+    refdes = table["refdes"].to_numpy(dtype=object)
+    parts = [rule_verdicts]
+
+    def add(idx: np.ndarray, rule_id: str, status: str, messages, source: str) -> None:
+        if len(idx):
+            parts.append(pd.DataFrame({
+                "pidx": idx, "refdes": refdes[idx], "rule_id": rule_id, "status": status,
+                "message": messages, "source": source,
+            }))
+
+    no_row = np.flatnonzero(table["condition_source"].isin(["none", "defaults"]).to_numpy())
+    add(no_row, NO_DESIGN_ROW, "nodata",
+        [f"{r}: not in the design sheet; no operating conditions beyond board-wide defaults"
+         for r in refdes[no_row]], "design sheet")
+    for family, idx in _families_missing(table, rule_verdicts, ruleset).items():
+        tech = table["technology"].to_numpy(dtype=object)[idx]
+        add(idx, NO_FAMILY_RULE.format(family=family), "nodata",
+            [f"{r}: no {family} derating rule in force for {t or 'a part of unknown technology'}"
+             "; a backstop (within the rating) is not a derating check: give the technology or "
+             "add a rule" for r, t in zip(refdes[idx], tech)], "rule sets in force")
+    rows = table["row"].to_numpy()
+    for f in import_findings:
+        idx = np.flatnonzero(refdes == f.refdes) if f.refdes else np.flatnonzero(rows == f.row)
+        if not len(idx) and f.refdes:
+            idx = np.flatnonzero(rows == f.row)
+        add(idx, BOM_FINDING.format(code=f.code), f.severity,
+            [f"{r}: {f.message}" for r in refdes[idx]], "BOM data")
+    if len(parts) == 1:
+        return rule_verdicts
+    out = pd.concat(parts, ignore_index=True)
+    return out.sort_values(["pidx", "rule_id"], kind="stable").reset_index(drop=True)
+
+
+def placement_status(verdicts: pd.DataFrame, n: int) -> np.ndarray:
+    """Each placement's status: the worst of its verdicts (STATUS_ORDER); nodata when it has none."""
+    rank = RANK
+    worst = np.full(n, rank["nodata"], dtype=np.int64)
+    if len(verdicts):
+        r = verdicts["status"].map(rank).to_numpy(dtype=np.int64)
+        p = verdicts["pidx"].to_numpy(dtype=np.int64)
+        best = np.full(n, -1, dtype=np.int64)
+        np.maximum.at(best, p, r)
+        worst = np.where(best >= 0, best, worst)
+    return np.asarray(STATUS_ORDER, dtype=object)[worst]
+
+
+@dataclass(frozen=True)
+class Evaluated:
+    """A placement table after the stress, circuit and evaluate stages."""
+
+    table: pd.DataFrame  # metrics and ``status`` added
+    verdicts: pd.DataFrame
+    groups: tuple[dict, ...] = ()
+
+
+def evaluate_table(table: pd.DataFrame, ruleset, *, parts=None, groups=None,
+                   import_findings=()) -> Evaluated:
+    """The middle of the pipeline on a table of fitted placements (spec and condition columns):
+    stresses, circuit-level stresses with parts data, rule verdicts, the audit's own verdicts and
+    each placement's status. ``run_audit`` and the substitute check both call it."""
+    from bomcheck.stress import circuit
+    from bomcheck.evaluate import engine
+    from bomcheck.stress import placement as stresses
+
+    data = stress_data(ruleset)
+    table = stresses.compute(table.reset_index(drop=True), data)
+    with warnings.catch_warnings():
+        # The circuit stage adds a handful of columns to a wide table one at a time; pandas'
+        # fragmentation hint is about speed, and a full copy to silence it costs more.
+        warnings.simplefilter("ignore", pd.errors.PerformanceWarning)
+        run = circuit.apply(table, data, ruleset, parts=parts, groups=groups)
+    table = run.table
+    verdicts = _audit_verdicts(table, engine.evaluate(table, ruleset), import_findings, ruleset)
+    if len(run.verdicts):
+        verdicts = pd.concat([verdicts, run.verdicts], ignore_index=True).sort_values(
+            ["pidx", "rule_id"], kind="stable").reset_index(drop=True)
+    # The audit's own verdicts: no verdict is missing data; a finding on given data is firm.
+    verdicts["basis"] = verdicts["basis"].where(
+        verdicts["basis"].notna(), np.where(verdicts["status"] == "nodata", "missing", "firm"))
+    # A stress is reported only where a rule gave the placement a verdict on it (or on what it
+    # feeds); new columns only below, the stages never write in place.
+    table = engine.without_unverdicted(table, verdicts, ruleset)
+    status = pd.Series(placement_status(verdicts, len(table)), index=table.index, name="status")
+    table = pd.concat([table.drop(columns=["status"], errors="ignore"), status], axis=1)
+    return Evaluated(table, verdicts, run.groups)
+
+
+def run_audit(bom_path: str, design_path: str | None, options: AuditOptions = AuditOptions()) -> Report:
+    """Audit every fitted capacitor placement of ``bom_path`` under the design sheet's conditions."""
+    from bomcheck.parse import design as design_mod
+    from bomcheck.parse import importer
+
+    imported = importer.read_bom(bom_path, options.import_options or importer.ImportOptions())
+    design = (design_mod.read_design(design_path, sheet=options.design_sheet)
+              if design_path is not None else None)
+    return audit_with_files(imported, design, options)
+
+
+def audit_with_files(imported, design, options: AuditOptions = AuditOptions()) -> Report:
+    """``audit_inputs`` with the parts data and waivers that ``options`` names read from their
+    files (the BOM and design sheet already read, from files or from tables in memory)."""
+    from bomcheck.parse import parts as parts_mod
+
+    part_data = (parts_mod.read_parts(options.parts, override=options.parts_override)
+                 if options.parts else None)
+    report = audit_inputs(imported, design, part_data, options)
+    if options.waivers:
+        from bomcheck.evaluate.waivers import apply_waivers, load_waivers
+
+        report = apply_waivers(report, load_waivers(options.waivers), options.today or date.today())
+    return report
+
+
+def audit_inputs(imported, design=None, part_data=None,
+                 options: AuditOptions = AuditOptions()) -> Report:
+    """The audit of inputs already read: an ``importer.ImportResult``, a ``design.Design`` (or
+    None: no operating conditions, every placement "nodata") and a ``parts.PartsData`` (or None).
+    Pure: reads no file (the rule sets are loaded by name or path from ``options``)."""
+    from bomcheck.stress import circuit
+    from bomcheck.evaluate import rules
+
+    ruleset = rules.load_rules(options.rules or (rules.DEFAULT_RULESET,)).for_environment(
+        options.environment)
+    placements = imported.placements
+    fitted = placements[placements["fitted"]].reset_index(drop=True)
+    not_fitted = placements[~placements["fitted"]].reset_index(drop=True)
+
+    inputs = [{"role": "bom", "path": str(imported.source.path),
+               "sha256": imported.source.sha256}]
+    design_unmatched: list[dict] = []
+    if design is not None:
+        inputs.append({"role": "design", "path": str(design.path), "sha256": design.sha256})
+        conditions = design.for_placements(fitted["refdes"])
+        for refdes, row in design.unmatched(set(placements["refdes"])):
+            design_unmatched.append({
+                "refdes": refdes, "row": row, "status": "nodata",
+                "reason": f"{refdes} (design sheet row {row}) is not in the BOM",
+            })
+    else:
+        conditions = pd.DataFrame({"condition_source": ["none"] * len(fitted)})
+    conditions = conditions.reset_index(drop=True)
+    table = pd.concat(
+        [fitted, conditions.drop(columns=[c for c in conditions if c in fitted])], axis=1
+    )
+    if part_data is not None:
+        inputs.append({"role": "parts", "path": str(part_data.path), "sha256": part_data.sha256})
+    groups = design.groups if design is not None else None
+
+    def evaluate(placements: pd.DataFrame) -> Evaluated:
+        return evaluate_table(placements, ruleset, parts=part_data, groups=groups,
+                              import_findings=imported.findings)
+
+    done = evaluate(table)
+    source_status = None
+    approved = imported.sources
+    if len(approved) and (approved["source"] > 0).any() and len(table):
+        from bomcheck.evaluate import sources
+        from bomcheck.parse.importer import spec_from_cells
+
+        done_table, verdicts, source_status = sources.audit_sources(
+            table, done, approved, evaluate, lambda text: spec_from_cells({"description": text})[0])
+        done = Evaluated(done_table, verdicts, done.groups)
+    table, verdicts = done.table, done.verdicts
+
+    counts = table["status"].value_counts()
+    totals = dict(imported.totals)
+    totals.update({"audited": int(len(table)), "design_unmatched": len(design_unmatched)})
+    totals.update({s: int(counts.get(s, 0)) for s in STATUS_ORDER})
+    return Report(
+        tool_version=__version__,
+        rulesets=ruleset_summary(ruleset),
+        inputs=tuple(inputs),
+        table=table,
+        verdicts=verdicts,
+        not_fitted=not_fitted,
+        skipped=imported.skipped,
+        import_findings=tuple(imported.findings),
+        design_unmatched=tuple(design_unmatched),
+        totals=totals,
+        rules=ruleset,
+        cautions=CAUTIONS + circuit.safety_cautions(verdicts, ruleset),
+        groups=done.groups,
+        environment=ruleset.environment,
+        source_status=source_status,
+        input_warnings=tuple(sorted(
+            (*_read_warnings(imported), *(design.warnings if design is not None else ()),
+             *(part_data.warnings if part_data is not None else ())))),
+    )

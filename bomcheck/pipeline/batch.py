@@ -1,0 +1,249 @@
+"""Batch audit: many boards from a TOML manifest, audited on a pool of worker processes, with one
+combined JSON report, Markdown summary and CSV, streamed board by board.
+
+Each worker audits one board and writes that board's outputs to a temporary folder; the parent
+only stitches the pieces together in manifest order, so its memory holds one board's summary at
+a time and the combined report is byte-identical whichever worker finished first.
+"""
+
+from __future__ import annotations
+
+import csv
+import dataclasses
+import io
+import tempfile
+from collections.abc import Iterator
+from concurrent.futures import ProcessPoolExecutor
+from dataclasses import dataclass
+from pathlib import Path
+
+from bomcheck.errors import BomcheckError, InputError
+
+WORKERS = 2  # the machines this runs on have two cores or more
+BOARD_KEYS = ("product", "bom", "design", "parts", "rules", "waivers", "design_sheet", "sheet")
+BATCH_OUTPUTS = ("json", "markdown", "csv")  # what a batch run can write
+
+
+@dataclass(frozen=True)
+class Board:
+    """One board of a manifest: its product name, input files and own options."""
+
+    product: str
+    bom: str
+    design: str | None = None
+    parts: str | None = None
+    rules: tuple[str, ...] = ()
+    waivers: str | None = None
+    design_sheet: str | None = None
+    sheet: str | int | None = None
+
+
+@dataclass(frozen=True)
+class BoardResult:
+    """What a worker hands back: the board's status and totals, and its output pieces."""
+
+    product: str
+    status: str
+    totals: dict
+    inputs: tuple[dict, ...]
+    pieces: dict  # output kind -> path of this board's piece
+
+
+def _problem(manifest: str, where: str, problem: str, expected: str) -> InputError:
+    return InputError(f"{where}: {problem}", path=manifest, expected=expected)
+
+
+def _board(manifest: str, base: Path, i: int, entry, defaults: dict) -> Board:
+    """The ``i``-th ``[[board]]`` table, its paths taken relative to the manifest's folder."""
+    where = f"board {i + 1}"
+    if not isinstance(entry, dict):
+        raise _problem(manifest, where, "not a table", "[[board]] tables")
+    unknown = sorted(set(entry) - set(BOARD_KEYS))
+    if unknown:
+        raise _problem(manifest, where, f"unknown key {unknown[0]!r}", ", ".join(BOARD_KEYS))
+    values = {**defaults, **entry}
+    for key in ("product", "bom"):
+        if not isinstance(values.get(key), str) or not values[key].strip():
+            raise _problem(manifest, where, f"'{key}' is missing", f"{key} = \"...\" (text)")
+    for key in ("design", "parts", "waivers", "design_sheet"):
+        if values.get(key) is not None and not isinstance(values[key], str):
+            raise _problem(manifest, f"{where} ({values['product']})", f"'{key}' is not text",
+                           f"{key} = \"...\"")
+    rules = values.get("rules", ())
+    rules = (rules,) if isinstance(rules, str) else rules
+    if not isinstance(rules, (list, tuple)) or not all(isinstance(r, str) for r in rules):
+        raise _problem(manifest, f"{where} ({values['product']})", "'rules' is not a list of "
+                       "names or paths", 'rules = ["industrial"]')
+
+    def path(key: str) -> str | None:
+        value = values.get(key)
+        return None if value is None else str(base / value)
+
+    return Board(product=values["product"].strip(), bom=path("bom"), design=path("design"),
+                 parts=path("parts"), waivers=path("waivers"),
+                 rules=tuple(r if r.isidentifier() else str(base / r) for r in rules),
+                 design_sheet=values.get("design_sheet"), sheet=values.get("sheet"))
+
+
+def read_manifest(path: str) -> tuple[Board, ...]:
+    """The boards of a TOML manifest: ``[[board]]`` tables (product, bom, and optional design,
+    parts, rules, waivers, design_sheet, sheet); top-level keys of the same names are defaults
+    for every board."""
+    from bomcheck.read.reader import load_toml, read_bytes, toml_text
+
+    data = load_toml(toml_text(read_bytes(path, "manifest"), path), path)
+    boards = data.pop("board", None)
+    if not isinstance(boards, list) or not boards:
+        raise InputError("the manifest lists no boards", path=path,
+                         expected='[[board]] tables with product = "..." and bom = "..."')
+    unknown = sorted(set(data) - set(BOARD_KEYS) - {"product", "bom"})
+    if unknown or "product" in data or "bom" in data:
+        raise InputError(f"unknown top-level key {(unknown or ['product'])[0]!r}", path=path,
+                         expected="[[board]] tables, and defaults among " + ", ".join(
+                             k for k in BOARD_KEYS if k not in ("product", "bom")))
+    base = Path(path).parent
+    out = tuple(_board(path, base, i, entry, data) for i, entry in enumerate(boards))
+    seen: set[str] = set()
+    for board in out:
+        if board.product in seen:
+            raise InputError(f"product {board.product!r} is listed twice", path=path,
+                             expected="one [[board]] per product")
+        seen.add(board.product)
+    return out
+
+
+def _options(board: Board, base):
+    """The board's audit options: its own where given, else the batch's (``base``)."""
+    from bomcheck.parse.importer import ImportOptions
+
+    imports = base.import_options or ImportOptions()
+    if board.sheet is not None:
+        imports = dataclasses.replace(imports, sheet=board.sheet)
+    return dataclasses.replace(base, rules=board.rules or base.rules, import_options=imports,
+                               design_sheet=board.design_sheet, parts=board.parts,
+                               waivers=board.waivers)
+
+
+def audit_board(board: Board, base, kinds: tuple[str, ...], folder: str, index: int):
+    """Audit one board and write its output pieces into ``folder`` (run in a worker). Returns a
+    ``BoardResult``, or the error text of a ``BomcheckError`` (errors cross processes as text)."""
+    from bomcheck.pipeline.audit import run_audit
+
+    try:
+        report = run_audit(board.bom, board.design, _options(board, base))
+    except BomcheckError as exc:
+        return f"board {board.product!r}: {exc}"
+    pieces = {}
+    for kind in kinds:
+        target = Path(folder) / f"{index:05d}.{kind}"
+        with target.open("w", encoding="utf-8", newline="") as f:
+            f.writelines(_piece(kind, report, board.product))
+        pieces[kind] = str(target)
+    return BoardResult(board.product, report.status, dict(report.totals), tuple(report.inputs),
+                       pieces)
+
+
+def _piece(kind: str, report, product: str) -> Iterator[str]:
+    """One board's part of a combined output."""
+    if kind == "json":
+        for text in report.iter_json():
+            yield text.rstrip("\n")
+    elif kind == "markdown":
+        from bomcheck.render.exports import markdown_summary
+
+        text = markdown_summary(report)
+        _, _, rest = text.partition("\n")  # the board's own title line, replaced
+        yield f"## {product}: {report.status.upper()}\n{rest}\n"
+    else:
+        from bomcheck.render.exports import csv_rows
+
+        rows = csv.reader(io.StringIO(csv_rows(report), newline=""))
+        next(rows, None)  # the header is written once for all boards
+        buf = io.StringIO()
+        writer = csv.writer(buf, lineterminator="\r\n")
+        for row in rows:
+            writer.writerow([product, *row])
+        yield buf.getvalue()
+
+
+def run_batch(boards: tuple[Board, ...], base, kinds: tuple[str, ...], folder: str,
+              workers: int = WORKERS) -> tuple[BoardResult, ...]:
+    """Audit every board (``workers`` processes; in this process for one board) and write each
+    board's pieces of the outputs ``kinds`` into ``folder``. The first board whose inputs are
+    unusable stops the batch with an ``InputError`` naming the board and the file."""
+    jobs = [(b, base, kinds, folder, i) for i, b in enumerate(boards)]
+    if workers <= 1 or len(boards) == 1:
+        results = [audit_board(*job) for job in jobs]
+    else:
+        with ProcessPoolExecutor(max_workers=min(workers, len(boards))) as pool:
+            results = list(pool.map(audit_board, *zip(*jobs)))
+    for r in results:
+        if isinstance(r, str):
+            raise InputError(r)
+    return tuple(results)
+
+
+def worst(results: tuple[BoardResult, ...]) -> str:
+    """The worst status of the boards."""
+    from bomcheck.report.model import worst_status
+
+    return worst_status(r.status for r in results)
+
+
+def combined_json(results: tuple[BoardResult, ...], tool_version: str) -> Iterator[str]:
+    """The combined JSON report (schema ``batch.schema.json``): the batch's status and a
+    ``boards`` list, each with product, status, totals and its whole report (schema
+    ``report.schema.json``) under ``report``."""
+    from bomcheck.report.jsonform import SCHEMA_VERSION, dumps
+
+    yield dumps({"schema_version": SCHEMA_VERSION, "kind": "batch",
+                 "tool": {"name": "bomcheck", "version": tool_version},
+                 "status": worst(results)})[:-1] + ',"boards":['
+    for i, r in enumerate(results):
+        head = dumps({"product": r.product, "status": r.status, "totals": r.totals})
+        yield ("," if i else "") + head[:-1] + ',"report":'
+        yield from _file_text(r.pieces["json"])
+        yield "}"
+    yield "]}\n"
+
+
+def combined_markdown(results: tuple[BoardResult, ...]) -> Iterator[str]:
+    """A Markdown summary: one table row per board, then each board's own summary."""
+    from bomcheck.render.exports import _md
+
+    yield f"# bomcheck batch audit: {worst(results).upper()}\n\n"
+    yield "| product | status | audited | pass | warn | nodata | fail |\n"
+    yield "|:--|:--|--:|--:|--:|--:|--:|\n"
+    for r in results:
+        counts = " | ".join(str(int(r.totals.get(k, 0)))
+                            for k in ("audited", "pass", "warn", "nodata", "fail"))
+        yield f"| {_md(r.product)} | {r.status} | {counts} |\n"
+    for r in results:
+        yield "\n"
+        yield from _file_text(r.pieces["markdown"])
+
+
+def combined_csv(results: tuple[BoardResult, ...]) -> Iterator[str]:
+    """One CSV: the product column, then the audit's CSV columns, one row per placement."""
+    from bomcheck.render.exports import CSV_COLUMNS
+
+    buf = io.StringIO()
+    csv.writer(buf, lineterminator="\r\n").writerow(["product", *CSV_COLUMNS])
+    yield buf.getvalue()
+    for r in results:
+        yield from _file_text(r.pieces["csv"])
+
+
+def _file_text(path: str, size: int = 1 << 20) -> Iterator[str]:
+    with open(path, encoding="utf-8", newline="") as f:
+        while chunk := f.read(size):
+            yield chunk
+
+
+COMBINERS = {"json": combined_json, "markdown": combined_markdown, "csv": combined_csv}
+
+
+def temporary_folder() -> tempfile.TemporaryDirectory:
+    """Where the workers put their pieces; removed with everything in it when closed."""
+    return tempfile.TemporaryDirectory(prefix="bomcheck-batch-")
+

@@ -1,0 +1,1 @@
+"""Renderers: terminal, Markdown, JUnit, CSV, SARIF, HTML, workbook, and the output registry."""

@@ -1,0 +1,1 @@
+"""Stress stage: placement and circuit stresses as column arithmetic."""
