@@ -16,8 +16,8 @@ from itertools import repeat
 import numpy as np
 import pandas as pd
 
-from bomcheck.evaluate.rules import (STATUSES, Applies, Rule, RuleSet, axis_quantity, format_quantity,
-                            visible_pair)
+from bomcheck.evaluate.rules import STATUSES, Applies, Rule, RuleSet, axis_quantity
+from bomcheck.quantity import format_quantity, visible_pair
 from bomcheck.stress.placement import BEST_ONLY
 from bomcheck.vocabulary import INPUT_LABELS, METRICS
 

@@ -14,7 +14,7 @@ import difflib
 import functools
 import json
 import math
-from collections.abc import Callable, Sequence
+from collections.abc import Sequence
 from dataclasses import asdict, dataclass, field, replace
 from importlib import resources
 from pathlib import Path
@@ -26,6 +26,7 @@ from bomcheck.errors import InputError, RuleError, RuleProblem, UnitError
 from bomcheck.spec import SAFETY_CLASSES, SPEC_KEYS, TECHNOLOGIES
 from bomcheck.status import RULE_STATUSES
 from bomcheck.parse.units import SI_UNITS, check_plausible, to_si
+from bomcheck.quantity import format_number, format_quantity
 from bomcheck.vocabulary import CONDITIONS, METRICS, Metric
 
 DEFAULT_RULESET = "industrial"
@@ -69,61 +70,6 @@ TABLE_COLUMNS: tuple[str, ...] = (
 
 # A ratio limit written as a bare number this large was almost surely meant as a percentage.
 _RATIO_SANE_MAX = 10.0
-
-
-# --------------------------------------------------------------------------------------------
-# Formatting shared by texts here and verdict messages in the engine.
-
-def format_number(x: float, digits: int = 4) -> str:
-    """A number in at most ``digits`` significant digits, no exponent for everyday magnitudes."""
-    if x != x:
-        return "?"
-    if x == 0:
-        return "0"
-    if abs(x) >= 10.0 ** digits and abs(x) < 1e15:
-        return f"{x:.0f}"
-    return f"{x:.{digits}g}"
-
-
-def format_farads(x: float, digits: int = 4) -> str:
-    """Capacitance with the prefix an engineer writes: pF below 1 nF, nF below 1 uF, else uF."""
-    if x != x:
-        return "?"
-    a = abs(x)
-    if a == 0:
-        return "0 F"
-    if a < 1e-9:
-        return f"{format_number(x * 1e12, digits)} pF"
-    if a < 1e-6:
-        return f"{format_number(x * 1e9, digits)} nF"
-    if a < 1.0:
-        return f"{format_number(x * 1e6, digits)} uF"
-    return f"{format_number(x, digits)} F"
-
-
-def format_quantity(x: float, unit: str, percent: bool = False, digits: int = 4) -> str:
-    """``x`` (SI) shown in ``unit``: ratios as percentages, farads prefixed, else number + unit."""
-    if percent:
-        return f"{format_number(x * 100.0, digits)} %"
-    if unit == "F":
-        return format_farads(x, digits)
-    return f"{format_number(x, digits)} {unit}" if unit else format_number(x, digits)
-
-
-def visible_pair(value: float, limit: float, unit: str, percent: bool, beyond: Callable[
-        [float, float], bool]) -> tuple[str, str]:
-    """``value`` and ``limit`` formatted with just enough digits that the printed numbers show
-    ``beyond(value, limit)`` (a limit broken by 70.004 % never prints as "70 % > 70 %")."""
-    for digits in range(4, 16):
-        v, lim = (_rounded(x, digits) for x in (value, limit))
-        if beyond(v, lim):
-            break
-    return (format_quantity(value, unit, percent, digits),
-            format_quantity(limit, unit, percent, digits))
-
-
-def _rounded(x: float, digits: int) -> float:
-    return float(f"{x:.{digits}g}") if x == x and x not in (math.inf, -math.inf) else x
 
 
 def axis_quantity(column: str) -> tuple[str, str, bool] | None:
@@ -1128,6 +1074,6 @@ def _build_file(doc: dict, display: str, out: list[tuple[tuple, RuleProblem]]) -
 
 __all__ = [
     "DEFAULT_RULESET", "STATUSES", "Aging", "Applies", "Bound", "DcBias", "Example", "Layer",
-    "Limit", "Rule", "RuleRow", "RuleSet", "Source", "format_farads", "format_number",
-    "format_quantity", "json_path", "load_rules", "shipped_names",
+    "Limit", "Rule", "RuleRow", "RuleSet", "Source",
+    "json_path", "load_rules", "shipped_names",
 ]

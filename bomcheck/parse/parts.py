@@ -422,7 +422,7 @@ def apply_parts(table: pd.DataFrame, parts: PartsData) -> tuple[pd.DataFrame, pd
     naming both values and saying so. The columns of ``PART_COLUMNS`` are added. Verdict columns: pidx, refdes, rule_id
     (``parts.conflict``), status, message, source.
     """
-    from bomcheck.evaluate.rules import format_quantity
+    from bomcheck.quantity import format_quantity
 
     out = table.copy()
     keys = part_keys(out)

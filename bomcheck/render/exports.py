@@ -62,7 +62,7 @@ def _isnan(x: Any) -> bool:
 
 def format_metric(value: Any, metric: Any) -> str:
     """A verdict's value or limit in its metric's display unit ("87.2 %", "-10 degC"), or ""."""
-    from bomcheck.evaluate.rules import format_number, format_quantity
+    from bomcheck.quantity import format_number, format_quantity
 
     if _isnan(value):
         return ""

@@ -902,7 +902,8 @@ def _width(col: _Column) -> float:
 
 def _curve_points(metric: str, limit) -> str:
     """``85 °C: 100 %; 125 °C: 66.67 %`` (with ``step`` for a step curve)."""
-    from bomcheck.evaluate.rules import axis_quantity, format_quantity
+    from bomcheck.evaluate.rules import axis_quantity
+    from bomcheck.quantity import format_quantity
 
     m = METRICS.get(metric)
     unit, pct = (m.unit, m.percent) if m else ("", False)

@@ -375,7 +375,7 @@ def designator_list(refdes: Iterable[str], limit: int | None = 24) -> str:
 
 def _fq(value: Any, unit: str, percent: bool = False) -> str:
     """A value as engine messages show it (``16 V``, ``79.69 %``, ``4.7 uF``); "?" when unknown."""
-    from bomcheck.evaluate.rules import format_quantity
+    from bomcheck.quantity import format_quantity
 
     if value is None or (isinstance(value, float) and math.isnan(value)):
         return "?"
