@@ -128,7 +128,7 @@ def test_function_level_imports_of_own_modules_have_a_reason():
 # Ratchet while the stage packages are split: entries may only be removed.
 LAZY_IMPORTS_TO_MOVE = {
     "api.py", "cli/commands.py", "cli/config.py", "evaluate/rules.py", "evaluate/waivers.py",
-    "parse/columns.py", "parse/design.py", "parse/design_toml.py",
+    "parse/design.py", "parse/design_toml.py",
     "parse/parts.py", "pipeline/audit.py", "pipeline/batch.py",
     "read/reader.py", "render/exports.py", "render/html.py", "render/terminal.py",
     "render/xlsx.py", "render/xlsx_substitutes.py", "report/diff.py", "report/jsonform.py",
@@ -139,7 +139,7 @@ MAX_MODULE_LINES = 500
 MAX_FUNCTION_LINES = 60
 # Ratchet while the stage packages are split: entries may only be removed or shrink.
 OVERSIZE_MODULES = {
-    "parse/columns.py": 520, "parse/parts.py": 566,
+    "parse/parts.py": 566,
     "render/html.py": 585, "parse/design.py": 609, "evaluate/engine.py": 657,
     "stress/circuit.py": 704, "render/xlsx.py": 942, "read/reader.py": 1009,
     "evaluate/rules.py": 1133,
