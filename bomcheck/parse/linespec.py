@@ -107,18 +107,26 @@ def decimal_commas(text: str, *, semicolon: bool) -> str:
 
 def other_part_evidence(value: str, description: str) -> tuple[str, str] | None:
     """(family, token) when the text names another kind of part: ``RES``, ``4u7H``, ``XTAL``."""
-    for text in (value, description):
-        for word in _WORD_RUNS(text):
-            family = _OTHER_WORDS.get(word.upper())
-            if family is not None:
-                return family, word
+    return _other_word(value) or _other_word(description) or _other_value_form(value)
+
+
+def _other_word(text: str) -> tuple[str, str] | None:
+    """The first word of another kind of part in a text (``RES``, ``XTAL``), as (family, word)."""
+    for word in _WORD_RUNS(text):
+        family = _OTHER_WORDS.get(word.upper())
+        if family is not None:
+            return family, word
+    return None
+
+
+def _other_value_form(value: str) -> tuple[str, str] | None:
+    """A value written in another part's unit (``4K7``, ``10R`` ohms, ``4u7H``, ``8MHz``)."""
     if value and not _OTHER_VALUE_CHARS.isdisjoint(value) \
             and not _RESISTOR_RKM_CAP_CODE.match(value):
         m = _OTHER_VALUE.search(value)
         if m:
             return str(m.lastgroup), m.group(0).strip()
     return None
-
 
 
 @dataclass
@@ -163,6 +171,9 @@ def _in_celsius(text: str) -> str:
 _BARE_NUMBER = re.compile(r"[-+]?(?:\d+(?:\.\d*)?|\.\d+)").fullmatch
 
 
+_NO_CELL: tuple[str, str | None, CapSpec | None, str] = ("", None, None, "")
+
+
 class CellParser:
     """Parse cells through ``parse_value`` with a cache per (context, text).
 
@@ -175,6 +186,12 @@ class CellParser:
         self.units = dict(units or {})
         self._cache: dict[tuple[str, str], CapSpec | None] = {}
         self._cleaned: dict[str, tuple[str, str | None]] = {}
+        # Per (source, cell): (cleaned text, not-fitted mark, spec, text with spaces collapsed).
+        self._cells: dict[tuple[str, str], tuple[str, str | None, CapSpec | None, str]] = {}
+        # Per cleaned text: capacitor words or units; a word or value form of another part.
+        self._strong: dict[str, bool] = {}
+        self._other: dict[str, tuple[str, str] | None] = {}
+        self._form: dict[str, tuple[str, str] | None] = {}
         # Per spec (by id; specs live in _cache): a line with that one cell of text.
         self._single: dict[int, tuple[dict[str, Any], tuple[tuple[str, str], ...]]] = {}
         self.merger = SpecMerge(self.spec)
@@ -203,18 +220,28 @@ class CellParser:
                 if text else None
         return self._cache[key]
 
+    def cell(self, source: str, text: str) -> tuple[str, str | None, CapSpec | None, str]:
+        """(cleaned text, not-fitted mark, spec, text with spaces collapsed) of one cell, each
+        distinct cell of a source once."""
+        key = (source, text)
+        got = self._cells.get(key)
+        if got is None:
+            cleaned, mark = self.clean(text)
+            got = self._cells[key] = (cleaned, mark, self.spec(source, cleaned),
+                                      " ".join(text.split()))
+        return got
+
     def combo(self, cells: dict[str, str]) -> Combo:
         """What one distinct combination of a line's value-bearing cells says."""
-        done = {src: self.clean(t) for src, t in cells.items()}
-        cleaned = {src: c for src, (c, _) in done.items()}
-        marks = {src: m for src, (_, m) in done.items() if m}
-        specs = {src: self.spec(src, t) for src, t in cleaned.items()}
+        info = {src: self.cell(src, t) for src, t in cells.items()}
+        marks = {src: c[1] for src, c in info.items() if c[1]}
+        specs = {src: c[2] for src, c in info.items()}
         filled = [src for src, sp in specs.items() if sp is not None]
         if len(filled) == 1 and filled[0] in ("value", "description"):
             spec, conflicts = self._one_source(filled[0], specs[filled[0]])  # type: ignore[arg-type]
         else:
             spec, conflicts = self.merger.merge(specs)
-        value, desc = cleaned.get("value", ""), cleaned.get("description", "")
+        v, d = info.get("value", _NO_CELL), info.get("description", _NO_CELL)
         cap = any(s is not None and s.is_capacitor
                   for s in (specs.get("value"), specs.get("description"), specs.get("dielectric"),
                             specs.get("category"), specs.get("value_alt"),
@@ -222,17 +249,34 @@ class CellParser:
         stated_tech = [s for s in (specs.get("dielectric"), specs.get("category"))
                        if s is not None and s.technology]
         strong = cap and bool(
-            _STRONG_CAP.search(value) or _STRONG_CAP.search(desc)
+            self._says_capacitor(v[0]) or self._says_capacitor(d[0])
             or any(s is not None and s.dielectric for s in specs.values())
             or stated_tech
         )
-        other = other_part_evidence(value, desc)
+        other = self._other_part(v[0], d[0])
         evidence = 1 if cap else (-1 if other else 0)
-        text = " | ".join(" ".join(cells[s].split()) for s in SPEC_SOURCES
-                          if cells.get(s, "").strip())
-        return Combo(spec, evidence, strong, other, tuple(conflicts), text, marks,
-                     " ".join(cells.get("value", "").split()),
-                     " ".join(cells.get("description", "").split()))
+        text = " | ".join(info[s][3] for s in SPEC_SOURCES if s in info and info[s][3])
+        return Combo(spec, evidence, strong, other, tuple(conflicts), text, marks, v[3], d[3])
+
+    def _says_capacitor(self, text: str) -> bool:
+        """A farad unit, an RKM capacitance or capacitor words in a cleaned cell (cached)."""
+        got = self._strong.get(text)
+        if got is None:
+            got = self._strong[text] = bool(_STRONG_CAP.search(text))
+        return got
+
+    def _other_part(self, value: str, desc: str) -> tuple[str, str] | None:
+        """``other_part_evidence`` of the cleaned value and description, each cell's part
+        cached."""
+        for text in (value, desc):
+            if text not in self._other:
+                self._other[text] = _other_word(text)
+            hit = self._other[text]
+            if hit is not None:
+                return hit
+        if value not in self._form:
+            self._form[value] = _other_value_form(value)
+        return self._form[value]
 
     def _one_source(self, src: str, sp: CapSpec) -> tuple[dict[str, Any], list[tuple[str, str]]]:
         """A line with one cell of text: its spec as it is (what the merge would give), cached."""

@@ -96,17 +96,15 @@ class SpecMerge:
         if got is None:
             fields, found = self._merge_fields(present)
             got = self._merged[key] = (fields, tuple(found))
-        out, conflicts = dict(got[0]), list(got[1])
-        warnings: list[str] = []
-        unread: list[str] = []
-        for src in SPEC_SOURCES:
-            sp = present.get(src)
-            if sp is None:
-                continue
-            warnings.extend(w for w in sp.warnings if w not in warnings)
-            unread.extend(u for u in sp.unread if u not in unread)
-            conflicts.extend(self.text_conflicts(src, sp))
-        out["warnings"], out["unread"] = tuple(warnings), tuple(unread)
+        ordered = [(src, present[src]) for src in SPEC_SOURCES if src in present]
+        conflicts = list(got[1])
+        for src, sp in ordered:
+            if sp.warnings:
+                conflicts.extend(self.text_conflicts(src, sp))
+        # Each cell's warnings and unread tokens, first-seen order, each once.
+        out = {**got[0],
+               "warnings": tuple(dict.fromkeys(w for _, sp in ordered for w in sp.warnings)),
+               "unread": tuple(dict.fromkeys(u for _, sp in ordered for u in sp.unread))}
         return out, conflicts
 
     def _readings(self, sp: CapSpec) -> tuple[Any, ...]:
