@@ -127,7 +127,7 @@ def test_function_level_imports_of_own_modules_have_a_reason():
 
 # Ratchet while the stage packages are split: entries may only be removed.
 LAZY_IMPORTS_TO_MOVE = {
-    "api.py", "cli/commands.py", "cli/config.py", "evaluate/rules.py", "evaluate/waivers.py",
+    "evaluate/rules.py", "evaluate/waivers.py",
     "parse/columns.py", "parse/design.py", "parse/design_toml.py", "parse/importer.py",
     "parse/linespec.py", "parse/parts.py", "pipeline/audit.py", "pipeline/batch.py",
     "read/reader.py", "render/exports.py", "render/html.py", "render/terminal.py",
@@ -152,7 +152,7 @@ OVERSIZE_FUNCTIONS = {
     "render/xlsx.py:_chart": 97, "render/sarif.py:sarif_log": 97, "render/xlsx.py:_summary": 94,
     "parse/values.py:_word": 94, "render/html.py:_svg_chart": 87, "parse/values.py:_numeric": 87,
     "parse/design_toml.py:entries_from_toml": 85, "parse/parts.py:apply_parts": 84,
-    "parse/layout.py:find_layout": 84, "cli/main.py:build_parser": 83,
+    "parse/layout.py:find_layout": 84,
     "render/exports.py:markdown_summary": 76, "pipeline/audit.py:audit_inputs": 75,
     "parse/design.py:_build": 75, "parse/importer.py:_fitted": 72,
     "render/xlsx_substitutes.py:write_substitutes_sheet": 69, "evaluate/waivers.py:waive_verdicts": 68,
