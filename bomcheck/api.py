@@ -42,16 +42,18 @@ from bomcheck.report.whereused import Use, uses_csv, where_used
 from bomcheck.spec import CapSpec
 from bomcheck.status import at_least, worst
 from bomcheck.substitute import check as _sub
-from bomcheck.substitute.check import Alternate, SubstituteOptions, SubstituteResult, read_alternates
+from bomcheck.substitute.check import (Alternate, SubstituteOptions, SubstituteResult,
+                                       read_alternates)
 
 __all__ = [
     "DEFAULT_RULESET", "Alternate", "AuditOptions", "BoardResult", "CapSpec", "Diff",
     "ImportOptions", "ImportResult", "Limits", "MIB", "Report", "RuleSet", "SubstituteOptions",
     "SubstituteResult", "Use", "at_least", "audit_files", "audit_frames", "audit_manifest",
-    "batch_outputs", "batch_status", "check_substitutes", "diff", "diff_markdown", "diff_summary", "import_file",
-    "import_frame", "import_record", "json_text", "parse", "read_alternates", "read_report",
-    "rules", "ruleset_names", "substitute_direct", "substitute_files", "substitute_frames",
-    "use_limits", "uses_csv", "where_used", "write", "write_outputs", "write_text",
+    "batch_outputs", "batch_status", "check_substitutes", "diff", "diff_markdown",
+    "diff_summary", "import_file", "import_frame", "import_record", "json_text", "parse",
+    "read_alternates", "read_report", "rules", "ruleset_names", "substitute_direct",
+    "substitute_files", "substitute_frames", "use_limits", "uses_csv", "where_used", "write",
+    "write_outputs", "write_text",
 ]
 
 # Columns of ``bomcheck import --json``: a placement's place in the BOM, then its spec.
