@@ -2,7 +2,7 @@
 
 The public library is ``bomcheck.api``, whose names are also here: ``audit_files`` (paths),
 ``audit_frames`` (pandas tables in memory), ``substitute_files``/``substitute_frames``,
-``import_file``, ``parse``, ``rules``, ``diff``, ``where_used``, ``audit_manifest`` and ``write``
+``import_file``, ``parse_value``, ``rules``, ``diff``, ``where_used``, ``audit_manifest`` and ``write``
 (any registered output of a report). They load on first use, so ``import bomcheck`` stays light.
 """
 
@@ -18,7 +18,7 @@ _API = (
     "ImportOptions", "ImportResult", "Limits", "MIB", "Report", "RuleSet", "SubstituteOptions",
     "SubstituteResult", "Use", "at_least", "audit_files", "audit_frames", "audit_manifest",
     "batch_outputs", "batch_status", "check_substitutes", "diff", "diff_markdown", "diff_summary",
-    "import_file", "import_frame", "import_record", "json_text", "parse", "read_alternates",
+    "import_file", "import_frame", "import_record", "json_text", "parse_value", "read_alternates",
     "read_report", "rules", "ruleset_names", "substitute_direct", "substitute_files",
     "substitute_frames", "use_limits", "uses_csv", "where_used", "write", "write_outputs",
     "write_text",

@@ -50,7 +50,7 @@ __all__ = [
     "ImportOptions", "ImportResult", "Limits", "MIB", "Report", "RuleSet", "SubstituteOptions",
     "SubstituteResult", "Use", "at_least", "audit_files", "audit_frames", "audit_manifest",
     "batch_outputs", "batch_status", "check_substitutes", "diff", "diff_markdown",
-    "diff_summary", "import_file", "import_frame", "import_record", "json_text", "parse",
+    "diff_summary", "import_file", "import_frame", "import_record", "json_text", "parse_value",
     "read_alternates", "read_report", "rules", "ruleset_names", "substitute_direct",
     "substitute_files", "substitute_frames", "use_limits", "uses_csv", "where_used", "write",
     "write_outputs", "write_text",
@@ -66,13 +66,7 @@ def _path(value: str | Path | None) -> str | None:
 
 
 # --------------------------------------------------------------------------------------------
-# Reading a BOM and value text.
-
-def parse(text: str, *, context: str = "any") -> CapSpec:
-    """The capacitor specification that one value text says (``"4u7 50V X7R"``); never raises.
-    ``context`` names the BOM column the text came from (``bomcheck.parse.values.CONTEXTS``)."""
-    return parse_value(text, context=context)
-
+# Reading a BOM (value text: ``parse_value``, from the parse stage as it is).
 
 def import_file(bom: str | Path, options: ImportOptions = ImportOptions()) -> ImportResult:
     """A BOM file (CSV, TSV, XLSX, XLS, ODS; ``-`` for standard input) read into placements, rows

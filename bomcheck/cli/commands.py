@@ -67,7 +67,7 @@ def _import_options(args: argparse.Namespace) -> api.ImportOptions:
 
 
 def run_parse(args: argparse.Namespace) -> int:
-    specs = [api.parse(t) for t in args.text]
+    specs = [api.parse_value(t) for t in args.text]
     if args.json:
         print(api.json_text([s.to_dict() for s in specs]))
     else:
