@@ -127,7 +127,7 @@ def test_function_level_imports_of_own_modules_have_a_reason():
 
 # Ratchet while the stage packages are split: entries may only be removed.
 LAZY_IMPORTS_TO_MOVE = {
-    "api.py", "cli/commands.py", "cli/config.py", "evaluate/rules.py", "evaluate/waivers.py",
+    "api.py", "cli/commands.py", "cli/config.py", "evaluate/waivers.py",
     "parse/columns.py", "parse/design.py", "parse/design_toml.py", "parse/importer.py",
     "parse/linespec.py", "parse/parts.py", "pipeline/audit.py", "pipeline/batch.py",
     "read/reader.py", "render/exports.py", "render/html.py", "render/terminal.py",
@@ -142,7 +142,7 @@ OVERSIZE_MODULES = {
     "parse/columns.py": 520, "parse/linespec.py": 525, "parse/parts.py": 566,
     "render/html.py": 585, "parse/design.py": 609, "evaluate/engine.py": 657,
     "stress/circuit.py": 704, "render/xlsx.py": 942, "read/reader.py": 1009,
-    "parse/values.py": 1086, "evaluate/rules.py": 1133, "parse/importer.py": 1167,
+    "parse/values.py": 1086, "parse/importer.py": 1167,
     "substitute/check.py": 1535,
 }
 OVERSIZE_FUNCTIONS = {
