@@ -72,6 +72,15 @@ def text_column(table: pd.DataFrame, name: str) -> pd.Series:
     return pd.Series("", index=table.index, dtype=object)
 
 
+# Every column ``compute`` reads: a placement whose values here are unchanged gets the same
+# metrics (the circuit stage runs the stresses again only where one of them changed).
+INPUTS: tuple[str, ...] = (
+    "voltage_v", "voltage_kind", "polarized", "capacitance_f", "tol_minus_pct", "tol_abs_f",
+    "dielectric", "dielectric_class", "cap_change_minus_pct", "tc_ppm", "tc_tol_ppm",
+    "technology", "package", "temp_min_c", "temp_max_c", "v_dc", "v_dc_max", "v_tol_pct",
+    "v_ripple_pk", "v_ac_rms", "v_transient_pk", "v_reverse_pk", "t_ambient_c", "t_rise_c",
+    "t_ambient_min_c", "c_min_f", "life_h", "dc_bias_keep",
+)
 SQRT2 = float(np.sqrt(2.0))
 # A ``<metric>_basis`` saying the metric is not known and ``<metric>_best``, its kindest bound,
 # is: a failure at that bound is firm, anything else is no data (``bomcheck.evaluate.engine``).
