@@ -1,11 +1,13 @@
-"""Rule sets as data: load and merge the TOML derating rules the evaluate stage applies.
+"""Rule sets as data: load the TOML derating rules the evaluate stage applies and merge them.
 
 A rule set is a TOML file (schema: ``bomcheck/schemas/rules.schema.json``) with a ``[ruleset]``
 table, ``[[rule]]`` entries and optional typical data (``[dc_bias]``, ``[aging]``,
-``[typical_ratings]``, ``[circuit]``) for the
-stress stage. Shipped sets live in the package ``bomcheck.rulesets``; users pass their own files by path.
-Every limit is converted once, at load, to the SI quantity of the metric it limits. Every problem in
-every file is collected and raised together as one ``RuleError``.
+``[typical_ratings]``, ``[circuit]``) for the stress stage. Shipped sets live in the package
+``bomcheck.rulesets``; users pass their own files by path, each read through
+``bomcheck.read.reader``, and ``extends`` chains are followed. A user file is checked against the
+schema (``rule_schema``) and across its fields (``rule_build``), which builds the values of
+``rule_model``; every limit is converted once, at load, to the SI quantity of the metric it
+limits. Every problem in every file is collected and raised together as one ``RuleError``.
 """
 
 from __future__ import annotations

@@ -163,16 +163,31 @@ def _inputs_changed(run: CircuitRun, t_rise: np.ndarray) -> np.ndarray:
     changed = ~((run.num("t_rise_c") == t_rise) | (np.isnan(run.num("t_rise_c"))
                                                    & np.isnan(t_rise)))
     for c in stresses.INPUTS:
-        if c == "t_rise_c" or c not in run.columns or run.columns[c] is run.table.get(c):
+        if c == "t_rise_c" or c not in run.columns:
             continue
         after = pd.Series(run.columns[c], index=run.index)
         if c not in run.table.columns:
             changed |= after.notna().to_numpy()
             continue
         before = run.table[c]
+        if _same_values(after, before):
+            continue
         same = after.eq(before) | (after.isna() & before.isna())
         changed |= ~same.to_numpy(dtype=bool)
     return changed
+
+
+def _same_values(a: pd.Series, b: pd.Series) -> bool:
+    """True when two columns are the same memory (a column the stresses left alone): no need to
+    compare them value by value."""
+    if a.dtype != b.dtype:
+        return False
+    x, y = a.array, b.array
+    if x is y:
+        return True
+    x, y = np.asarray(x), np.asarray(y)
+    return (x.shape == y.shape and x.strides == y.strides
+            and x.__array_interface__["data"][0] == y.__array_interface__["data"][0])
 
 
 def _finish(run: CircuitRun) -> CircuitResult:
@@ -196,7 +211,9 @@ def _finish(run: CircuitRun) -> CircuitResult:
     columns = {c: v for c, v in run.columns.items() if c not in added}
     columns.update((c, run.columns[c]) for c in ADDED_COLUMNS if c in run.columns)
     groups = sorted(run.summaries, key=lambda s: (s["row"], s["name"]))
-    return CircuitResult(pd.DataFrame(columns, index=run.index), tuple(groups), verdicts)
+    # One join, no copy of the columns (a placement table is large; nothing writes into it).
+    table = pd.DataFrame(columns, index=run.index, copy=False)
+    return CircuitResult(table, tuple(groups), verdicts)
 
 
 def safety_cautions(verdicts: pd.DataFrame, ruleset: Any) -> tuple[str, ...]:

@@ -118,7 +118,7 @@ class CircuitRun:
         """A table of the named columns that exist (every column when ``names`` is None)."""
         chosen = self.columns if names is None else {
             c: self.columns[c] for c in names if c in self.columns}
-        return pd.DataFrame(chosen, index=self.index)
+        return pd.DataFrame(chosen, index=self.index, copy=False)
 
     def of_kind(self, kind: str) -> list[Any]:
         """The design's groups of ``kind`` (rail, bank or series), in design order."""
