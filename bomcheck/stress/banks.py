@@ -72,8 +72,8 @@ def metrics(run: CircuitRun) -> None:
                          ("bank_c_margin", worst / need), ("bank_c_margin_best", fav / need),
                          ("bank_c_margin_worst", low / need)):
         run.put(name, np.asarray(values, dtype=float))
-    member_generic = run.text("c_margin_basis") == "generic"
     generic = np.zeros(run.n, dtype=bool)
+    member_generic = (run.text("c_margin_basis") == "generic") if run.summaries else generic
     for s in run.summaries:
         generic[s["_pos"]] = member_generic[s["_pos"]].any()
     run.put("bank_c_margin_basis", np.where(generic & np.isfinite(need), "generic", ""))

@@ -95,8 +95,9 @@ class CircuitRun:
         once; never write into it."""
         if name not in self._numbers:
             values = self.columns.get(name)
-            if isinstance(values, np.ndarray) and values.dtype == float:
-                self._numbers[name] = values
+            array = values.to_numpy() if isinstance(values, pd.Series) else values
+            if isinstance(array, np.ndarray) and array.dtype == float:
+                self._numbers[name] = array  # already numbers: no conversion, no copy
             else:
                 self._numbers[name] = num_column(self.frame((name,)), name).to_numpy()
         return self._numbers[name]
