@@ -1,4 +1,4 @@
-"""CI outputs of a report: JUnit XML, the Markdown summary and CSV rows (bomcheck.render.exports)."""
+"""CI outputs of a report: JUnit XML, the Markdown summary and CSV rows (bomcheck.render.junit, markdown, csvrows)."""
 
 import csv
 import io
@@ -9,7 +9,10 @@ from types import SimpleNamespace
 import pandas as pd
 import pytest
 
-from bomcheck.render.exports import INJECTION_LEAD, csv_rows, format_metric, junit_xml, markdown_summary
+from bomcheck.quantity import format_metric
+from bomcheck.render.csvrows import INJECTION_LEAD, csv_rows
+from bomcheck.render.junit import junit_xml
+from bomcheck.render.markdown import markdown_summary
 from bomcheck.report.model import Report
 from bomcheck.evaluate.waivers import WaiverFinding
 

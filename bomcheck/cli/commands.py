@@ -204,7 +204,8 @@ def _print_boards(console, results) -> None:
 
 
 def run_where_used(args: argparse.Namespace) -> int:
-    from bomcheck.report.whereused import uses_csv, where_used
+    from bomcheck.render.csvrows import uses_csv
+    from bomcheck.report.whereused import where_used
 
     uses = where_used(_read_report_json(args.report, "audit"), args.mpn)
     if args.json:
@@ -343,7 +344,8 @@ def _read_report_json(path: str, role: str) -> dict:
 
 
 def run_diff(args: argparse.Namespace) -> int:
-    from bomcheck.report.diff import compare, diff_markdown
+    from bomcheck.render.markdown import diff_markdown
+    from bomcheck.report.diff import compare
 
     old = _read_report_json(args.old, "old")
     new = _read_report_json(args.new, "new")

@@ -15,16 +15,17 @@ every writer of that format uses:
   holding a separator followed by a formula lead (``x;=1+1``, which a spreadsheet reading with
   another list separator splits into a formula cell, quotes or not) that lead gets a single
   quote too (``x;'=1+1``); both kinds are always quoted.
-- ``json_dumps``: strict JSON, a NaN or infinity written as null.
+- ``json_dumps``: strict JSON, a NaN or infinity written as null (``bomcheck.report.jsontext``,
+  re-exported here for the writers).
 - ``natural_key``: designators in the order a reader expects (C7 before C10).
 """
 
 from __future__ import annotations
 
 import html
-import json
-import math
 import re
+
+from bomcheck.report.jsontext import json_dumps  # noqa: F401  (the writers' strict JSON)
 
 # XML 1.0 Char production: #x9 | #xA | #xD | [#x20-#xD7FF] | [#xE000-#xFFFD] | [#x10000-#x10FFFF]
 _XML_FORBIDDEN = re.compile("[^\t\n\r\x20-\ud7ff\ue000-\ufffd\U00010000-\U0010ffff]")
@@ -114,25 +115,3 @@ def natural_key(text: object) -> tuple:
     return tuple((0, len(p.lstrip("0")), p.lstrip("0")) if i % 2 else (1, 0, p)
                  for i, p in enumerate(parts) if p)
 
-
-def _finite(value):
-    """``value`` with every NaN and infinity (in nested dicts, lists and tuples) made None."""
-    if isinstance(value, float):
-        return value if math.isfinite(value) else None
-    if isinstance(value, dict):
-        return {k: _finite(v) for k, v in value.items()}
-    if isinstance(value, (list, tuple)):
-        return [_finite(v) for v in value]
-    return value
-
-
-def json_dumps(value, *, indent: int | None = None) -> str:
-    """Strict JSON text (RFC 8259): a NaN or an infinity anywhere is written as null, never as
-    ``NaN``/``Infinity``; non-ASCII kept as is. Compact separators unless ``indent``."""
-    separators = (",", ":") if indent is None else None
-    try:
-        return json.dumps(value, ensure_ascii=False, allow_nan=False, indent=indent,
-                          separators=separators)
-    except ValueError:
-        return json.dumps(_finite(value), ensure_ascii=False, allow_nan=False, indent=indent,
-                          separators=separators)
