@@ -10,6 +10,8 @@ every writer of that format uses:
   comment, link, emphasis or cell break passes (CommonMark 0.30, 2.4 "Backslash escapes": any
   ASCII punctuation may be escaped).
 - ``html_text``: text for an HTML element or a quoted attribute.
+- ``spreadsheet_unsafe``: the same guard for a workbook cell (a formula lead or an error value
+  such as ``#N/A`` makes the writer store a text cell).
 - ``starts_formula`` / ``csv_field``: the CSV-injection guard (OWASP "CSV Injection"): a cell
   that starts with ``=``, ``+``, ``-``, ``@``, tab or CR gets a leading single quote; in a cell
   holding a separator followed by a formula lead (``x;=1+1``, which a spreadsheet reading with
@@ -38,6 +40,9 @@ _MD_SPECIAL = re.compile(r"([\\`*_\[\]<>|&~])")
 _MD_BLOCK_LEAD = re.compile(r"^(?:(#{1,6}|[+\-]|=+)(?=\s|$)|(\d{1,9})(?=[.)](?:\s|$)))")
 
 FORMULA_LEADS: tuple[str, ...] = ("=", "+", "-", "@", "\t", "\r")
+# The seven error values a spreadsheet cell can hold (the same as openpyxl.cell.cell.ERROR_CODES,
+# which tests/test_textsafe.py compares).
+SPREADSHEET_ERRORS = frozenset({"#NULL!", "#DIV/0!", "#VALUE!", "#REF!", "#NAME?", "#NUM!", "#N/A"})
 _HIDDEN_FORMULA = re.compile(r"([,;\t\r\n|]\s*)([=+\-@])")
 _CSV_QUOTE_WHEN = re.compile(r'[,";\t\r\n]')
 
@@ -74,6 +79,12 @@ def starts_formula(text: str) -> bool:
     """True when a spreadsheet would take ``text`` as a formula: it starts (after spaces) with
     ``=``, ``+``, ``-``, ``@``, tab or CR."""
     return text.startswith(FORMULA_LEADS) or text.lstrip(" ").startswith(FORMULA_LEADS)
+
+
+def spreadsheet_unsafe(text: str) -> bool:
+    """True when a spreadsheet cell holding ``text`` would be read as a formula or an error
+    value (``#N/A``...): the workbook writers store such text as a text cell."""
+    return starts_formula(text) or text in SPREADSHEET_ERRORS
 
 
 def hides_formula(text: str) -> bool:
