@@ -18,7 +18,7 @@ from datetime import datetime, timezone
 import numpy as np
 import pandas as pd
 from openpyxl import Workbook
-from openpyxl.cell.cell import WriteOnlyCell
+from openpyxl.cell.cell import Cell, WriteOnlyCell
 from openpyxl.styles import Alignment, Border, Font, NamedStyle, PatternFill, Side
 from openpyxl.utils import get_column_letter
 
@@ -391,18 +391,34 @@ def _append_rows(ws, cols: list[_Column], n: int) -> None:
         ws.append(row)
 
 
+class _StyledCell(Cell):
+    """A write-only cell with a fixed named style, reused for many values: its style id is
+    looked up once, not for every value written (openpyxl asks for it per cell)."""
+
+    __slots__ = ("_fixed_id",)
+    has_style = True
+
+    def __init__(self, ws, style: str) -> None:
+        super().__init__(ws, row=1, column=1)
+        self.style = style
+        self._fixed_id = Cell.style_id.fget(self)
+
+    @property
+    def style_id(self) -> int:
+        return self._fixed_id
+
+
 def _cell_maker(ws, cols: list[_Column]):
     """A replacement of openpyxl's ``WriteOnlyWorksheet._values_to_row`` for one sheet: the
     cells of one row from its values. openpyxl writes each row as soon as it is appended, so
     one cell per column and style is reused for every row (its value rebound each time)."""
     plain = WriteOnlyCell(ws)
-    made: dict[tuple[int, str], WriteOnlyCell] = {}
+    made: dict[tuple[int, str], _StyledCell] = {}
 
-    def styled(j: int, style: str) -> WriteOnlyCell:
+    def styled(j: int, style: str) -> _StyledCell:
         cell = made.get((j, style))
         if cell is None:
-            cell = made[j, style] = WriteOnlyCell(ws)
-            cell.style = style
+            cell = made[j, style] = _StyledCell(ws, style)
         return cell
 
     fixed = [None if isinstance(c.style, list) or c.style is None else styled(j, c.style)
