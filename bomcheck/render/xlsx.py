@@ -176,8 +176,8 @@ class _Book:
         cols = filled(cols, len(ordered))
         printed = len(cols)  # the review columns; the spec and metric columns follow
         # Every field the JSON report carries: spec, conditions, metrics, parts data, bases.
-        cols += filled([self._field(ordered, name) for name in placement_fields(ordered.columns)],
-                       len(ordered))
+        names = [n for n in placement_fields(ordered.columns) if ordered[n].notna().any()]
+        cols += filled([self._field(ordered, name) for name in names], len(ordered))
         self.notes.append("Placements prints its review columns (designator to BOM text); the "
                           "specification, condition and metric columns after them are on the "
                           "sheet, outside the print area.")
@@ -425,23 +425,27 @@ def _cell_maker(ws, cols: list[_Column]):
              for j, c in enumerate(cols)]
     per_row = [c.style if isinstance(c.style, list) else None for c in cols]
     text_style = [None if isinstance(c.style, list) else c.style or "bc text" for c in cols]
+    # Only columns holding text need the formula guard.
+    texty = [any(type(v) is str for v in c.values) for c in cols]
+    columns = list(zip(range(1, len(cols) + 1), fixed, per_row, texty))
 
     def values_to_row(values, row_idx):
         i = row_idx - 2  # the data's first row is the sheet's second
-        for j, value in enumerate(values):
+        for (col, cell, styles, text), value in zip(columns, values):
             if value is None:
                 continue
-            if type(value) is str and value[:1] in _RISKY_FIRST and spreadsheet_unsafe(value):
-                cell = styled(j, per_row[j][i] or "bc text" if per_row[j] else text_style[j])
+            if text and type(value) is str and value[:1] in _RISKY_FIRST \
+                    and spreadsheet_unsafe(value):
+                j = col - 1
+                cell = styled(j, styles[i] or "bc text" if styles else text_style[j])
                 cell.value = value
                 cell.data_type = "s"
             else:
-                cell = fixed[j]
                 if cell is None:
-                    style = per_row[j][i] if per_row[j] is not None else None
-                    cell = plain if style is None else styled(j, style)
+                    cell = plain if styles is None or styles[i] is None else styled(col - 1,
+                                                                                    styles[i])
                 cell.value = value
-            cell.row, cell.column = row_idx, j + 1
+            cell.row, cell.column = row_idx, col
             yield cell
 
     return values_to_row
