@@ -19,7 +19,7 @@ from collections.abc import Iterable, Sequence
 
 import pandas as pd
 
-from bomcheck.quantity import format_metric, format_si
+from bomcheck.quantity import format_metric, format_si, is_missing
 from bomcheck.render.html_chart import chart_section
 from bomcheck.render.textparts import accounting_line, energy, group_cells
 from bomcheck.render.textsafe import html_text as esc
@@ -115,16 +115,12 @@ STATUSES = ("fail", "nodata", "warn", "waived", "pass")
 MAX_PASSING_ROWS = 5_000
 
 
-def _isnan(v) -> bool:
-    return v is None or v is pd.NA or (isinstance(v, float) and math.isnan(v))
-
-
 def _t(v) -> str:
-    return "" if _isnan(v) else esc(v)
+    return "" if is_missing(v) else esc(v)
 
 
 def _status(s) -> str:
-    s = "" if _isnan(s) else str(s)
+    s = "" if is_missing(s) else str(s)
     label = s.upper() if s in ("fail", "warn") else s
     return f'<span class="status s-{esc(s)}">{esc(label)}</span>'
 
@@ -218,12 +214,12 @@ def _signature() -> str:
 def _conditions(rec: dict) -> str:
     parts = []
     v = rec.get("v_upper_v")
-    if not _isnan(v):
+    if not is_missing(v):
         parts.append(f"{v:.4g} V")
-    elif not _isnan(rec.get("v_ac_rms")):
+    elif not is_missing(rec.get("v_ac_rms")):
         parts.append(f"{rec['v_ac_rms']:.4g} V rms")
     t = rec.get("t_operating_c")
-    if not _isnan(t):
+    if not is_missing(t):
         parts.append(f"{t:.4g} °C")
     return ", ".join(parts)
 
@@ -233,7 +229,7 @@ def _value_text(rec: dict) -> str:
     if rec.get("voltage_kind") == "ac" and bits[1]:
         bits[1] += " AC"
     for k in ("dielectric", "safety_class", "package"):
-        if not _isnan(rec.get(k)) and rec.get(k):
+        if not is_missing(rec.get(k)) and rec.get(k):
             bits.append(str(rec[k]))
     return " ".join(b for b in bits if b)
 
@@ -265,7 +261,7 @@ def _placements_section(report) -> list[str]:
             f'{esc(format_metric(gcols["value"][pos], metric))}</td>'
             f'<td class="num"{_num_attr(gcols["limit"][pos])}>'
             f'{esc(format_metric(gcols["limit"][pos], metric))}</td>'
-            f'<td class="num"{_num_attr(rel)}>{"" if _isnan(rel) else f"{rel:.1%}"}</td>'
+            f'<td class="num"{_num_attr(rel)}>{"" if is_missing(rel) else f"{rel:.1%}"}</td>'
             f'<td>{_t(gcols["basis"][pos])}</td><td class="expl">{_t(gcols["message"][pos])}</td>'
             f'<td class="bomtext">{_t(rec.get("text"))}</td></tr>')
     boxes = "".join(f'<label><input type="checkbox" value="{s}" checked> {s}</label>'
@@ -293,7 +289,7 @@ def _verdict_rows(v: pd.DataFrame, metric_of: dict, rows_of: pd.Series) -> list[
         row = rows_of.get(pidx) if pidx in rows_of.index else None
         waived = cols["waived_from"][i]
         status = _status(cols["status"][i]) + (
-            f' <span class="muted">(was {_t(waived)})</span>' if not _isnan(waived) else "")
+            f' <span class="muted">(was {_t(waived)})</span>' if not is_missing(waived) else "")
         out.append(
             f'<tr data-status="{_t(cols["status"][i])}" data-pos="{i}">'
             f'<td>{_t(cols["refdes"][i])}</td><td class="num"{_num_attr(row)}>{_t(row)}</td>'

@@ -13,7 +13,7 @@ from rich.table import Table
 from rich.text import Text
 from rich.theme import Theme
 
-from bomcheck.quantity import format_metric, format_si
+from bomcheck.quantity import format_metric, format_si, is_missing
 from bomcheck.render.verdicts import not_audited_counts
 from bomcheck.render.textparts import accounting_line, energy, group_cells, number
 from bomcheck.report.diff import summary_line
@@ -84,7 +84,7 @@ def print_import(console: Console, result, *, show_all: bool = False) -> None:
         table.add_column(col, overflow="fold")
     limit = len(p) if show_all else DEFAULT_ROWS
     for rec in p.head(limit).itertuples(index=False):
-        tol = "" if rec.tol_minus_pct is None or _isnan(rec.tol_minus_pct) else f"{rec.tol_minus_pct:g} %"
+        tol = "" if rec.tol_minus_pct is None or is_missing(rec.tol_minus_pct) else f"{rec.tol_minus_pct:g} %"
         table.add_row(
             rec.refdes, str(rec.row), "yes" if rec.fitted else Text("no", style="muted"),
             format_si(rec.capacitance_f, "F"), format_si(rec.voltage_v, "V"), tol,
@@ -97,10 +97,6 @@ def print_import(console: Console, result, *, show_all: bool = False) -> None:
     for f in result.findings:
         console.print(f"[status.warn]finding[/] row {f.row}: {f.message}")
     console.print(accounting_line(result.totals))
-
-
-def _isnan(v) -> bool:
-    return isinstance(v, float) and math.isnan(v)
 
 
 def _print_skipped(console: Console, skipped, limit: int = 20) -> None:
@@ -124,14 +120,14 @@ def verdict_line(report) -> Text:
 
 def _conditions(rec) -> str:
     parts = []
-    if not _isnan(rec.v_upper_v):
+    if not is_missing(rec.v_upper_v):
         v = f"{rec.v_upper_v:.4g} V"
-        if not _isnan(getattr(rec, "v_ripple_pk", math.nan)) and rec.v_ripple_pk:
+        if not is_missing(getattr(rec, "v_ripple_pk", math.nan)) and rec.v_ripple_pk:
             v += f"+{rec.v_ripple_pk:.3g}"
         parts.append(v)
-    elif not _isnan(getattr(rec, "v_ac_rms", math.nan)):
+    elif not is_missing(getattr(rec, "v_ac_rms", math.nan)):
         parts.append(f"{rec.v_ac_rms:.4g} V rms")
-    if not _isnan(rec.t_operating_c):
+    if not is_missing(rec.t_operating_c):
         parts.append(f"{rec.t_operating_c:.4g} °C")
     return ", ".join(parts)
 
