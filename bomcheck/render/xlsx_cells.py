@@ -193,23 +193,18 @@ def _metric_kind(metric) -> str | None:
 
 
 def _text(series) -> list:
-    """Cell values of a text column: None for missing, tuples joined, text made safe."""
+    """Cell values of a text column: None for missing, tuples joined, text made safe (each
+    distinct value once)."""
     if not isinstance(series, pd.Series):
         series = pd.Series(series, dtype=object)
-    values = series.astype(object).tolist()
-    cache: dict = {}
-    out = []
-    for v in values:
-        if v is None or v is pd.NA or (isinstance(v, float) and v != v):
-            out.append(None)
-            continue
-        got = cache.get(v) if isinstance(v, str) else None
-        if got is None:
-            got = _cell_text(v)
-            if isinstance(v, str):
-                cache[v] = got
-        out.append(got)
-    return out
+    values = series.astype(object)
+    try:
+        codes, uniques = pd.factorize(values, use_na_sentinel=True)
+    except TypeError:  # an unhashable cell (a list): one value at a time
+        return [_cell_text(v) for v in values.tolist()]
+    cells = np.empty(len(uniques) + 1, dtype=object)  # the last one for missing values (-1)
+    cells[:-1] = [_cell_text(u) for u in uniques.tolist()]
+    return cells[codes].tolist()
 
 
 def _cell_text(v) -> str | None:
@@ -260,18 +255,18 @@ def _print_setup(ws, area: str, *, landscape: bool, title_rows: str | None = Non
     ws.print_area = area
 
 
-def _number_width(values: list, kind: _Kind, header: str) -> float:
+def _number_width(values, kind: _Kind, header: str) -> float:
     """A column width (characters) that shows every number in ``kind``'s format in full: its
     integer digits with thousands separators, the format's decimals and its unit."""
     fmt = kind.fmt or ""
     number = fmt.split('"')[0]
     decimals = len(number.split(".")[1].rstrip("%")) if "." in number else 0
     suffix = len(kind.unit) + 1 if kind.unit else 0
-    x = pd.to_numeric(pd.Series(values, dtype=object), errors="coerce").astype(float)
-    x = x[np.isfinite(x.to_numpy())]
+    x = np.asarray(values, dtype=float)  # None becomes NaN
+    x = x[np.isfinite(x)]
     longest = 0
     if len(x):  # the widest number: the largest magnitude, a sign if any is negative
-        biggest = float(x.abs().max()) * (100 if number.endswith("%") else 1)
+        biggest = float(np.abs(x).max()) * (100 if number.endswith("%") else 1)
         longest = len(f"{biggest:,.0f}") + bool((x < 0).any())
     need = longest + (decimals + 1 if decimals else 0) + suffix + 2
     return float(min(40, max(10, need, min(len(header), 18))))
