@@ -9,8 +9,10 @@ from __future__ import annotations
 
 from bomcheck.quantity import format_metric
 from bomcheck.render.csvrows import CSV_COLUMNS, INJECTION_LEAD, csv_rows
+from bomcheck.render.csvrows import cell as _cell
 from bomcheck.render.junit import WARN_AS, junit_xml
 from bomcheck.render.markdown import markdown_summary
+from bomcheck.render.textsafe import md_text as _md
 
-__all__ = ["CSV_COLUMNS", "INJECTION_LEAD", "WARN_AS", "csv_rows", "format_metric", "junit_xml",
-           "markdown_summary"]
+__all__ = ["CSV_COLUMNS", "INJECTION_LEAD", "WARN_AS", "_cell", "_md", "csv_rows",
+           "format_metric", "junit_xml", "markdown_summary"]
