@@ -552,3 +552,17 @@ def test_every_metric_has_a_short_header_with_its_unit(name):
     assert header.startswith(m.title) and len(m.title) <= 50
     if m.percent:
         assert header.endswith("[%]")
+
+
+def test_wrapped_rows_get_the_height_of_their_lines(book):
+    # A Findings message longer than its column is wider wraps: its row is taller than one
+    # line (15 points a line), and a one-line row keeps the default height.
+    ws = book["Findings"]
+    headers = [c.value for c in ws[1]]
+    j = headers.index("message") + 1
+    width = ws.column_dimensions[openpyxl.utils.get_column_letter(j)].width
+    long_rows = [i for i in range(2, ws.max_row + 1)
+                 if len(ws.cell(row=i, column=j).value or "") * 1.1 > 2 * width]
+    assert long_rows
+    for i in long_rows:
+        assert ws.row_dimensions[i].height >= 2 * 15
