@@ -140,7 +140,7 @@ MAX_FUNCTION_LINES = 60
 # Ratchet while the stage packages are split: entries may only be removed or shrink.
 OVERSIZE_MODULES = {
     "parse/columns.py": 520, "parse/linespec.py": 525, "parse/parts.py": 566,
-    "render/html.py": 585, "parse/design.py": 609, "evaluate/engine.py": 657,
+    "render/html.py": 585, "parse/design.py": 609,
     "stress/circuit.py": 704, "render/xlsx.py": 942, "read/reader.py": 1009,
     "parse/values.py": 1086, "evaluate/rules.py": 1133, "parse/importer.py": 1167,
     "substitute/check.py": 1535,
@@ -158,7 +158,7 @@ OVERSIZE_FUNCTIONS = {
     "render/xlsx_substitutes.py:write_substitutes_sheet": 69, "evaluate/waivers.py:waive_verdicts": 68,
     "read/workbook_scan.py:_scan_sheet": 67, "render/xlsx.py:_table": 66,
     "render/terminal.py:print_audit": 66, "parse/design.py:_groups": 66,
-    "parse/importer.py:expand_lines": 63, "evaluate/engine.py:_bodies": 62,
+    "parse/importer.py:expand_lines": 63,
 }
 
 

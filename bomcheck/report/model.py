@@ -13,12 +13,15 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
-from bomcheck.spec import SPEC_KEYS
 from bomcheck.render.textsafe import json_dumps
-from bomcheck.vocabulary import CONDITIONS, METRICS
-
+from bomcheck.report import jsonform
+from bomcheck.report.jsonform import (SCHEMA_VERSION, column_texts, frame_objects, join_per_row,
+                                      objects, write_chunks)
+from bomcheck.spec import SPEC_KEYS
 from bomcheck.status import RANK as _RANK
 from bomcheck.status import at_least, worst
+from bomcheck.stress.circuit import JSON_FIELDS
+from bomcheck.vocabulary import CONDITIONS, METRICS
 
 CAUTIONS: tuple[str, ...] = (
     "These results support engineering review; they do not replace it. A pass means the "
@@ -189,8 +192,6 @@ class Report:
 
     def _json_parts(self) -> tuple[dict, dict]:
         """The JSON report's keys before ``placements`` and after it."""
-        from bomcheck.report.jsonform import SCHEMA_VERSION
-
         front = {
             "schema_version": SCHEMA_VERSION,
             "tool": {"name": "bomcheck", "version": self.tool_version},
@@ -221,12 +222,10 @@ class Report:
     def iter_json(self):
         """The JSON report in pieces of at most one chunk of placements each, built column-wise
         (``bomcheck.report.jsonform``), so writing it never holds the whole text in memory."""
-        from bomcheck.report.jsonform import write_chunks
-
         front, back = self._json_parts()
         spec_codes, specs = _specs(self.table)
         front["specs"] = specs
-        return write_chunks(front, back, _placement_chunks(self.table, self.verdicts,
+        return write_chunks(dumps(front), dumps(back), _placement_chunks(self.table, self.verdicts,
                                                            spec_codes, front["rules"]))
 
     def to_dict(self) -> dict:
@@ -234,7 +233,7 @@ class Report:
         return json.loads(self.to_json())
 
 
-def _dumps(value) -> str:
+def dumps(value) -> str:
     """Compact strict JSON: a non-finite number anywhere is written as null."""
     return json_dumps(value)
 
@@ -307,18 +306,15 @@ _UNLESS = {"basis": "firm", "approved_source": 0}
 
 def _placement_chunks(table: pd.DataFrame, verdicts: pd.DataFrame, spec_codes: np.ndarray,
                       rules: dict):
-    """Lists of placement record texts, ``report_json.CHUNK`` placements at a time."""
-    from bomcheck.stress.circuit import JSON_FIELDS
-    from bomcheck.report.jsonform import CHUNK
-
+    """Lists of placement record texts, ``jsonform.CHUNK`` placements at a time."""
     pidx = (verdicts["pidx"].to_numpy(dtype=np.int64) if len(verdicts)
             else np.zeros(0, dtype=np.int64))
     if len(pidx) and (np.diff(pidx) < 0).any():
         order = np.argsort(pidx, kind="stable")
         verdicts, pidx = verdicts.iloc[order], pidx[order]
     metric_keys = tuple(dict.fromkeys((*METRIC_FIELDS, *JSON_FIELDS)))
-    for start in range(0, len(table), CHUNK):
-        stop = min(len(table), start + CHUNK)
+    for start in range(0, len(table), jsonform.CHUNK):
+        stop = min(len(table), start + jsonform.CHUNK)
         a, b = np.searchsorted(pidx, [start, stop]).tolist()
         yield _placement_records(table.iloc[start:stop], spec_codes[start:stop],
                                  verdicts.iloc[a:b], pidx[a:b] - start, rules, metric_keys)
@@ -327,8 +323,6 @@ def _placement_chunks(table: pd.DataFrame, verdicts: pd.DataFrame, spec_codes: n
 def _placement_records(part: pd.DataFrame, spec: np.ndarray, verdicts: pd.DataFrame,
                        owner: np.ndarray, rules: dict, metric_keys) -> list[str]:
     """The JSON record of each placement of ``part`` (one chunk), built column by column."""
-    from bomcheck.report.jsonform import column_texts, frame_objects, join_per_row, objects
-
     m = len(part)
     everywhere = np.ones(m, dtype=bool)
     fields = []
@@ -374,8 +368,6 @@ def _verdict_objects(v: pd.DataFrame, part: pd.DataFrame, owner: np.ndarray,
     """Each verdict's JSON object: rule, status and margin always (margin where known); value,
     limit, warn_limit and source only where they differ from ``_verdict_defaults``; the message
     only when it is not a pass."""
-    from bomcheck.report.jsonform import column_texts, objects
-
     n = len(v)
     if not n:
         return []
