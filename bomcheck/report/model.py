@@ -109,6 +109,9 @@ class Report:
     # Each approved source's status per placement (bomcheck.evaluate.sources.SOURCE_STATUS_COLUMNS), or
     # None when no line has an approved source beside its own.
     source_status: pd.DataFrame | None = None
+    # Renders the messages of the verdicts that carry none (passes: most verdicts, rarely
+    # printed); bomcheck.evaluate.engine.Messages, or None when every verdict has its message.
+    messages: Any = field(default=None, compare=False, repr=False)
 
     @property
     def status(self) -> str:
@@ -159,9 +162,25 @@ class Report:
         rank = v["status"].map(_RANK)
         key = v.assign(_rank=-rank, rel_margin=relative_margin(v))
         key = key.sort_values(["pidx", "_rank", "rel_margin"], na_position="last", kind="stable")
-        gov = key.drop_duplicates("pidx").set_index("pidx").drop(columns=["_rank"])
+        gov = self.with_messages(
+            key.drop_duplicates("pidx").set_index("pidx", drop=False).drop(columns=["_rank"]))
+        gov = gov.drop(columns=["pidx"])
         metric_of = {} if self.rules is None else {r.id: r.metric for r in self.rules.rules}
         return gov.assign(metric=gov["rule_id"].map(metric_of))
+
+    def with_messages(self, verdicts: pd.DataFrame) -> pd.DataFrame:
+        """``verdicts`` (rows of ``self.verdicts``) with the message of each one that has none
+        rendered: an output calls it for the passing verdicts it prints."""
+        if self.messages is None or "message" not in verdicts or not len(verdicts):
+            return verdicts
+        missing = verdicts["message"].isna().to_numpy()
+        if not missing.any():
+            return verdicts
+        message = verdicts["message"].to_numpy(dtype=object).copy()
+        message[missing] = self.messages.for_verdicts(
+            verdicts["pidx"].to_numpy(dtype=np.int64)[missing],
+            verdicts["rule_id"].to_numpy(dtype=object)[missing])
+        return verdicts.assign(message=pd.Series(message, index=verdicts.index, dtype=object))
 
     def not_audited(self) -> list[dict]:
         """Not-fitted placements and skipped rows, each with its reason, in row order."""
