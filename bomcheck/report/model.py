@@ -86,7 +86,9 @@ status_at_least = at_least
 @dataclass(frozen=True)
 class Report:
     """Everything an audit found. ``table`` has one row per fitted placement (spec, conditions,
-    metrics, status); ``verdicts`` one row per placement and rule (see engine.evaluate)."""
+    metrics, status); ``verdicts`` one row per placement and rule (see engine.evaluate). A
+    passing verdict's message may be left out (None) until an output prints it:
+    ``with_messages`` renders it, and ``governing`` gives every placement's."""
 
     tool_version: str
     rulesets: tuple[dict, ...]
