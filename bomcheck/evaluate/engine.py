@@ -98,7 +98,7 @@ def _evaluate_rule(rule: Rule, cols: Columns,
     for axis in rule.axes:
         generic = generic | (cols.text(f"{axis}_basis")[idx] == "generic")
     basis = np.where(generic, "generic", "firm").astype(object)
-    note = np.zeros(k, dtype=np.intp)
+    note = np.zeros(k, dtype=np.int8)
     if generic.any():
         status, bound = _bounded(rule, kind, cols, idx, generic, status, value, limit,
                                  warn_limit)

@@ -246,6 +246,7 @@ def _notes(cols: Columns, metric: str, note: np.ndarray, rows: np.ndarray) -> Co
     """The message notes by code; a verdict left undecided by unknown data (a warning on generic
     data) also names the unknowns from the ``<metric>_note`` column where the stress stage
     gives one."""
+    note = note.astype(np.intp)
     if f"{metric}_note" not in cols.table.columns:
         return Coded(note, list(NOTES))
     extra = cols.coded_map(f"{metric}_note", lambda t: f" ({t})" if t else "", "").take(rows)

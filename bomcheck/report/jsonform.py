@@ -82,7 +82,7 @@ def _distinct_texts(values: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """``column_texts`` of an object column whose values nearly all differ: a column of strings
     is encoded in one pass, anything else value by value."""
     items = values.tolist()
-    if all(type(x) is str for x in items):
+    if pd.api.types.infer_dtype(values, skipna=False) in ("string", "empty"):
         texts = np.empty(len(items), dtype=object)
         texts[:] = list(map(_encode, items))
         return texts, values != ""
