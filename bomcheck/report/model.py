@@ -131,7 +131,7 @@ class Report:
         4.5 s discharge margin), then in natural designator order (C7 before C10). Every
         output lists placements in this one order."""
         t = self.table
-        gov = self.governing()
+        gov = self._governing_rows()  # the order needs no message
         rel = (gov["rel_margin"].reindex(t.index) if len(gov) and "rel_margin" in gov
                else pd.Series(np.nan, index=t.index))
         key = natural_columns(t["refdes"]).assign(
@@ -157,18 +157,24 @@ class Report:
     def governing(self) -> pd.DataFrame:
         """Per placement (index = table index), the verdict that sets its status: the worst
         status, and among equals the smallest margin relative to the limit (column ``_rel``,
-        unit-free)."""
+        unit-free); with its message."""
+        gov = self._governing_rows()
+        if not len(gov):
+            return gov
+        gov = self.with_messages(gov.assign(pidx=gov.index)).drop(columns=["pidx"])
+        metric_of = {} if self.rules is None else {r.id: r.metric for r in self.rules.rules}
+        return gov.assign(metric=gov["rule_id"].map(metric_of))
+
+    def _governing_rows(self) -> pd.DataFrame:
+        """``governing`` without the metric column, and a passing verdict's message left out
+        when the evaluation left it out."""
         v = self.verdicts
         if not len(v):
             return v
         rank = v["status"].map(_RANK)
         key = v.assign(_rank=-rank, rel_margin=relative_margin(v))
         key = key.sort_values(["pidx", "_rank", "rel_margin"], na_position="last", kind="stable")
-        gov = self.with_messages(
-            key.drop_duplicates("pidx").set_index("pidx", drop=False).drop(columns=["_rank"]))
-        gov = gov.drop(columns=["pidx"])
-        metric_of = {} if self.rules is None else {r.id: r.metric for r in self.rules.rules}
-        return gov.assign(metric=gov["rule_id"].map(metric_of))
+        return key.drop_duplicates("pidx").set_index("pidx").drop(columns=["_rank"])
 
     def with_messages(self, verdicts: pd.DataFrame) -> pd.DataFrame:
         """``verdicts`` (rows of ``self.verdicts``) with the message of each one that has none
