@@ -6,9 +6,18 @@ import zipfile
 import openpyxl
 import pytest
 
-from bomcheck.read import reader
 from bomcheck.errors import InputError
-from bomcheck.read.reader import HeaderNotFound, read_table, unique_headers
+from bomcheck.parse.columns import has_designator_column
+from bomcheck.read import reader
+from bomcheck.read.reader import HeaderNotFound, unique_headers
+from bomcheck.read.workbook import OLE_MAGIC
+
+
+def read_table(path, **kwargs):
+    """The reader with the importer's header test (a designator-like column): the caller says
+    what its header row holds."""
+    kwargs.setdefault("header_predicate", has_designator_column)
+    return reader.read_table(path, **kwargs)
 
 
 def _write(path, text, encoding="utf-8"):
@@ -265,7 +274,7 @@ def test_damaged_workbook(tmp_path):
 
 def test_legacy_xls(tmp_path):
     path = tmp_path / "b.xls"
-    path.write_bytes(reader._OLE_MAGIC + bytes(504))
+    path.write_bytes(OLE_MAGIC + bytes(504))
     assert "legacy Excel" in _one_line_error(path)
 
 
@@ -588,7 +597,7 @@ def test_ods_is_read_through_calamine(tmp_path):
 
 
 @pytest.mark.parametrize("name, data", [("b.ods", _ods(BOM_ROWS)),
-                                        ("b.xls", reader._OLE_MAGIC + bytes(504))])
+                                        ("b.xls", OLE_MAGIC + bytes(504))])
 def test_xls_and_ods_without_calamine_name_the_extra(tmp_path, monkeypatch, name, data):
     monkeypatch.setitem(sys.modules, "python_calamine", None)
     path = tmp_path / name

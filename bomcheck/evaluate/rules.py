@@ -581,11 +581,11 @@ def _apply(spec: str, base: Path | None, state: _State, stack: tuple[str, ...],
             f"extends chain longer than {MAX_EXTENDS_DEPTH} files; expected a short chain of "
             "rule sets, each extending a shipped set or another file"))
         return
-    from bomcheck.read.reader import load_toml, read_bytes
+    from bomcheck.read.reader import load_toml, read_bytes, toml_text
 
     try:
         if path is not None:  # a regular file within the size limit, like every input
-            text = read_bytes(str(path), "rule file").decode("utf-8-sig")
+            text = toml_text(read_bytes(str(path), "rule file"), display)
         else:
             text = shipped_root().joinpath(f"{spec}.toml").read_text("utf-8")
         doc = load_toml(text, display)

@@ -275,10 +275,10 @@ def _check_fields(names: Iterable[str], *, path: str | None, what: str) -> None:
 def load_column_map(path: str) -> ColumnOverrides:
     """Read a TOML mapping file: ``[columns]`` field = "header" (or the same at top level) and
     ``[aliases]`` field = ["header", ...] to add aliases."""
-    from bomcheck.read.reader import load_toml, read_bytes, toml_text
+    from bomcheck.read.reader import read_toml
 
     # The shared readers: a regular file within the size limit, TOML nesting capped.
-    data = load_toml(toml_text(read_bytes(path, "column map file"), path), path)
+    data, _ = read_toml(path, "column map file")
     columns = dict(data.pop("columns", {}) or {})
     aliases = dict(data.pop("aliases", {}) or {})
     for key, val in data.items():

@@ -59,10 +59,12 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
+from bomcheck.errors import InputError
 from bomcheck.parse.codes import Dielectric, decode_dielectric
 from bomcheck.parse.design_cells import NO_VALUE, InputWarning
-from bomcheck.errors import InputError
 from bomcheck.parse.parts_cells import TEXT_READERS, Curve, convert_column, read_curve
+from bomcheck.quantity import format_quantity
+from bomcheck.read.reader import load_toml, read_input, read_input_table, toml_text
 
 PARTS_FINDING = "parts.conflict"
 
@@ -182,20 +184,15 @@ def read_parts(path: str, *, sheet: str | int | None = None, override: bool = Fa
     Raises ``InputError`` naming the file, row and column for a cell that cannot be used, an
     MPN given twice, or a file without an MPN column.
     """
-    from bomcheck.read.reader import read_input, toml_text
-
-    data, sha256 = read_input(str(path), "parts file")
     if Path(path).suffix.lower() == ".toml":
-        text = toml_text(data, str(path))
-        parts = parts_from_toml(text, path=str(path))
+        data, sha256 = read_input(str(path), "parts file")
+        parts = parts_from_toml(toml_text(data, str(path)), path=str(path))
     else:
-        from bomcheck.read.reader import read_input_table
-
         raw = read_input_table(
             str(path), sheet=sheet, header_predicate=is_parts_header, what="parts-file",
             expected="a header row with an mpn column and data columns such as rated_voltage, "
                      "esr or dc_bias")
-        parts = parts_from_table(raw.frame, raw.rows, path=str(path))
+        parts, sha256 = parts_from_table(raw.frame, raw.rows, path=str(path)), raw.sha256
     return PartsData(path=str(path), sha256=sha256, values=parts.values, curves=parts.curves,
                      warnings=parts.warnings, override_all=override)
 
@@ -232,8 +229,6 @@ def parts_from_table(frame: pd.DataFrame, rows: Sequence[int] | np.ndarray | Non
 
 def parts_from_toml(text: str, *, path: str = "<toml>") -> PartsData:
     """Parts data from TOML: ``[parts."MPN"]`` tables whose keys are the fields."""
-    from bomcheck.read.reader import load_toml
-
     doc = load_toml(text, path)
     table = doc.get("parts")
     if not isinstance(table, dict):
@@ -422,7 +417,6 @@ def apply_parts(table: pd.DataFrame, parts: PartsData) -> tuple[pd.DataFrame, pd
     naming both values and saying so. The columns of ``PART_COLUMNS`` are added. Verdict columns: pidx, refdes, rule_id
     (``parts.conflict``), status, message, source.
     """
-    from bomcheck.quantity import format_quantity
 
     out = table.copy()
     keys = part_keys(out)

@@ -89,9 +89,9 @@ def read_manifest(path: str) -> tuple[Board, ...]:
     """The boards of a TOML manifest: ``[[board]]`` tables (product, bom, and optional design,
     parts, rules, waivers, design_sheet, sheet); top-level keys of the same names are defaults
     for every board."""
-    from bomcheck.read.reader import load_toml, read_bytes, toml_text
+    from bomcheck.read.reader import read_toml
 
-    data = load_toml(toml_text(read_bytes(path, "manifest"), path), path)
+    data, _ = read_toml(path, "manifest")
     boards = data.pop("board", None)
     if not isinstance(boards, list) or not boards:
         raise InputError("the manifest lists no boards", path=path,
