@@ -139,7 +139,7 @@ MAX_MODULE_LINES = 500
 MAX_FUNCTION_LINES = 60
 # Ratchet while the stage packages are split: entries may only be removed or shrink.
 OVERSIZE_MODULES = {
-    "parse/columns.py": 520, "parse/linespec.py": 525, "parse/parts.py": 566,
+    "parse/columns.py": 520, "parse/linespec.py": 525,
     "render/html.py": 585, "evaluate/engine.py": 657,
     "stress/circuit.py": 704, "render/xlsx.py": 942,
     "parse/values.py": 1086, "evaluate/rules.py": 1133, "parse/importer.py": 1167,
@@ -151,12 +151,11 @@ OVERSIZE_FUNCTIONS = {
     "parse/values.py:_build": 101, "substitute/check.py:_verdict_issues": 99,
     "render/xlsx.py:_chart": 97, "render/sarif.py:sarif_log": 97, "render/xlsx.py:_summary": 94,
     "parse/values.py:_word": 94, "render/html.py:_svg_chart": 87, "parse/values.py:_numeric": 87,
-    "parse/parts.py:apply_parts": 84,
     "parse/layout.py:find_layout": 84, "cli/main.py:build_parser": 83,
     "render/exports.py:markdown_summary": 76, "pipeline/audit.py:audit_inputs": 75,
     "parse/importer.py:_fitted": 72,
     "render/xlsx_substitutes.py:write_substitutes_sheet": 69, "evaluate/waivers.py:waive_verdicts": 68,
-    "read/workbook_scan.py:_scan_sheet": 67, "render/xlsx.py:_table": 66,
+    "render/xlsx.py:_table": 66,
     "render/terminal.py:print_audit": 66,
     "parse/importer.py:expand_lines": 63, "evaluate/engine.py:_bodies": 62,
 }

@@ -314,7 +314,7 @@ def apply(table: pd.DataFrame, data: Any, ruleset: Any = None, *,
     Returns the table with the stress metrics recomputed on the circuit's inputs and the circuit
     metrics added.
     """
-    from bomcheck.parse import parts as parts_mod
+    from bomcheck.parse import parts_apply as parts_mod
     from bomcheck.stress import placement as stresses
 
     opts = CircuitOptions.from_ruleset(ruleset)
