@@ -294,9 +294,8 @@ def plain_to_si(texts: Sequence[str], quantity: str, default_unit: str | None = 
         scale, offset = unit_factor(default_unit, quantity) if default_unit else (1.0, 0.0)
     except UnitError:
         return np.zeros(0, dtype=np.int64), np.zeros(0)
-    si = np.fromiter((float(texts[i]) for i in at), dtype=float, count=len(at))
-    if scale != 1.0 or offset != 0.0:
-        si = si * scale + offset
+    si = np.fromiter((float(texts[i]) for i in at), dtype=float, count=len(at)) * scale + offset
+    if scale != 1.0 or offset != 0.0:  # else each number round-trips (at most 15 digits)
         si = round_15(si)
     ok = plausible_mask(si, quantity, sign, high=high)
     return at[ok], si[ok]
