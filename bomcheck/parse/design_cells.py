@@ -415,7 +415,9 @@ class Entries:
         n = len(rows)
         text = {k: (np.asarray(texts[k], dtype=object) if k in texts
                     else np.full(n, "", dtype=object)) for k in TEXT_FIELDS}
-        vals = np.column_stack([values.get(k, np.full(n, np.nan)) for k in CONDITION_COLUMNS]) \
-            if n else np.empty((0, len(CONDITION_COLUMNS)))
+        vals = np.full((n, len(CONDITION_COLUMNS)), np.nan)  # only given columns are filled
+        for j, k in enumerate(CONDITION_COLUMNS):
+            if k in values:
+                vals[:, j] = values[k]
         flags = np.zeros(n, dtype=bool) if is_group is None else np.asarray(is_group, dtype=bool)
-        return cls(np.asarray(rows, dtype=np.int64), text, vals.astype(float), flags)
+        return cls(np.asarray(rows, dtype=np.int64), text, vals, flags)
