@@ -15,7 +15,8 @@ import pandas as pd
 from bomcheck.errors import InputError
 from bomcheck.parse.design_cells import (CONDITION_COLUMNS, SINGLE, Entries, InputWarning,
                                          Labels)
-from bomcheck.parse.design_model import GROUP_KINDS, Design, Group, merge_levels
+from bomcheck.parse.design_model import (GROUP_KINDS, RAIL_COLUMNS, Design, Group,
+                                         merge_levels)
 from bomcheck.parse.refdes import expand, is_designator
 
 # Group values that describe the group as a whole, kept off its members (see
@@ -279,30 +280,50 @@ def _conditions(e: Entries, d: pd.DataFrame, groups: dict[str, Group],
     (``bank_c_margin``), so the member's c_min_f is "none" unless its own row gives one."""
     index = pd.Index(pd.concat([d["refdes"], membership["refdes"]]).drop_duplicates(),
                      dtype=object, name="refdes")
-    n, k = len(index), len(CONDITION_COLUMNS)
+    n = len(index)
+    names = active_columns(~np.isnan(e.values).all(axis=0))
+    cols = [CONDITION_COLUMNS.index(c) for c in names]
     d_pos = d["pos"].to_numpy()
     at_d = index.get_indexer(d["refdes"])
-    specific = np.full((n, k), np.nan)
-    specific[at_d] = e.values[d_pos]
-
-    g_values = np.full((len(groups), k), np.nan)
-    g_rows = np.zeros(len(groups), dtype=np.int64)
-    g_notes = np.full(len(groups), "", dtype=object)
+    specific = np.full((n, len(cols)), np.nan)
+    specific[at_d] = e.values[np.ix_(d_pos, cols)]
+    g_values = np.full((len(groups), len(cols)), np.nan)
     for j, g in enumerate(groups.values()):
-        g_rows[j], g_notes[j] = g.row, g.notes
-        for c, col in enumerate(CONDITION_COLUMNS):
+        for c, col in enumerate(names):
             if col in g.conditions and col not in _GROUP_ONLY[g.kind]:
                 g_values[j, c] = g.conditions[col]
     g_at = pd.Index(list(groups), dtype=object).get_indexer(membership["group"])
     at_m = index.get_indexer(membership["refdes"])
-    general = np.full((n, k), np.nan)
+    general = np.full((n, len(cols)), np.nan)
     general[at_m] = g_values[g_at]
-    _warn_overrides(specific, general, index, d, e, groups, membership, warnings, path)
-    i_need = CONDITION_COLUMNS.index("c_min_f")
+    _warn_overrides(specific, general, names, index, d, e, groups, membership, warnings, path)
     shared = np.array([g.kind in _SHARED_NEED and "c_min_f" in g.conditions
                        for g in groups.values()], dtype=bool)
-    general[at_m[shared[g_at]], i_need] = 0.0
+    if "c_min_f" in names:  # a shared need is always given, so its column is active
+        general[at_m[shared[g_at]], names.index("c_min_f")] = 0.0
+    merged = merge_levels(specific, general, names)
+    del specific, general
+    return _conditions_table(e, index, merged, cols, (d_pos, at_d),
+                             (membership, at_m, g_at), groups)
 
+
+def active_columns(given: np.ndarray) -> list[str]:
+    """The condition columns that need arrays: those given anywhere (``given`` in
+    ``CONDITION_COLUMNS`` order) and the rail's DC value, upper bound and tolerance (the bound
+    is derived from the other two); every other column is NaN throughout."""
+    return [c for c, g in zip(CONDITION_COLUMNS, given) if g or c in RAIL_COLUMNS]
+
+
+def _conditions_table(e: Entries, index: pd.Index, merged: np.ndarray, cols: list[int],
+                      designators: tuple[np.ndarray, np.ndarray],
+                      members: tuple[pd.DataFrame, np.ndarray, np.ndarray],
+                      groups: dict[str, Group]) -> pd.DataFrame:
+    """The per-designator table in design-sheet order: every condition column (NaN where not
+    active), notes, group, the design row and the source of the values."""
+    (d_pos, at_d), (membership, at_m, g_at) = designators, members
+    n = len(index)
+    g_rows = np.array([g.row for g in groups.values()], dtype=np.int64)
+    g_notes = np.array([g.notes for g in groups.values()], dtype=object)
     notes = np.full(n, "", dtype=object)
     notes[at_m] = g_notes[g_at]
     d_notes = e.text["notes"][d_pos]
@@ -315,18 +336,19 @@ def _conditions(e: Entries, d: pd.DataFrame, groups: dict[str, Group],
     design_row[at_d] = e.rows[d_pos]
     source = np.full(n, "group", dtype=object)
     source[at_d] = "row"
+    order = np.argsort(design_row, kind="stable")
+    values = np.full((n, len(CONDITION_COLUMNS)), np.nan)
+    values[:, cols] = merged[order]
+    out = pd.DataFrame(values, index=index[order], columns=list(CONDITION_COLUMNS), copy=False)
+    out["notes"] = pd.Series(notes[order], index=out.index, dtype=object)
+    out["group"] = pd.Series(group_col[order], index=out.index, dtype=object)  # None, not NaN
+    out["design_row"] = design_row[order]
+    out["condition_source"] = pd.Series(source[order], index=out.index, dtype=object)
+    return out
 
-    out = pd.DataFrame(merge_levels(specific, general), index=index,
-                       columns=list(CONDITION_COLUMNS))
-    out["notes"] = pd.Series(notes, index=index, dtype=object)
-    out["group"] = pd.Series(group_col, index=index, dtype=object)  # None, not NaN
-    out["design_row"] = design_row
-    out["condition_source"] = pd.Series(source, index=index, dtype=object)
-    return out.iloc[np.argsort(design_row, kind="stable")]
 
-
-def _warn_overrides(specific: np.ndarray, general: np.ndarray, index: pd.Index,
-                    d: pd.DataFrame, e: Entries, groups: dict[str, Group],
+def _warn_overrides(specific: np.ndarray, general: np.ndarray, names: list[str],
+                    index: pd.Index, d: pd.DataFrame, e: Entries, groups: dict[str, Group],
                     membership: pd.DataFrame, warnings: list[InputWarning], path: str) -> None:
     """One warning per condition a designator row sets differently from its group's row,
     naming the first such designator, both rows and both values (the designator row wins)."""
@@ -348,8 +370,8 @@ def _warn_overrides(specific: np.ndarray, general: np.ndarray, index: pd.Index,
         grp = str(group_of.get(ref))
         more = f" (and {len(at) - 1} more designator(s))" if len(at) > 1 else ""
         warnings.append(InputWarning(
-            path, int(d_row[ref]), CONDITION_COLUMNS[c],
-            f"{CONDITION_COLUMNS[c]} of {ref} (row {int(d_row[ref])}) is {specific[at[0], c]:g}, "
+            path, int(d_row[ref]), names[c],
+            f"{names[c]} of {ref} (row {int(d_row[ref])}) is {specific[at[0], c]:g}, "
             f"overriding {general[at[0], c]:g} of its group {grp} (row {g_row.get(grp)}){more}: "
             "the designator row is used; check which is meant"))
 

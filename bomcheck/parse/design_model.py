@@ -15,6 +15,9 @@ from bomcheck.parse.design_cells import CONDITION_COLUMNS, InputWarning
 
 SOURCES = ("row", "group", "defaults", "none")
 GROUP_KINDS = ("rail", "bank", "series")
+# The rail's DC value, upper bound and tolerance: the bound travels with the value and is
+# derived from the tolerance, so the three are always merged together.
+RAIL_COLUMNS = ("v_dc", "v_dc_max", "v_tol_pct")
 
 
 @dataclass(frozen=True)
@@ -62,10 +65,16 @@ class Design:
         c = self.conditions
         at = positions(c.index, refdes)
         found = at >= 0
-        specific = _take(c[list(CONDITION_COLUMNS)].to_numpy(dtype=float), at, np.nan)
-        board = np.array([self.defaults.get(k, np.nan) for k in CONDITION_COLUMNS], dtype=float)
-        values = merge_levels(specific, np.broadcast_to(board, specific.shape))
-        out = pd.DataFrame(values, columns=list(CONDITION_COLUMNS), index=refdes.index)
+        given = c[list(CONDITION_COLUMNS)].notna().any().to_numpy()
+        names = [k for k, g in zip(CONDITION_COLUMNS, given)
+                 if g or k in self.defaults or k in RAIL_COLUMNS]  # the rest stays NaN
+        specific = _take(c[names].to_numpy(dtype=float), at, np.nan)
+        board = np.array([self.defaults.get(k, np.nan) for k in names], dtype=float)
+        values = np.full((len(at), len(CONDITION_COLUMNS)), np.nan)
+        values[:, [CONDITION_COLUMNS.index(k) for k in names]] = merge_levels(
+            specific, np.broadcast_to(board, specific.shape), names)
+        out = pd.DataFrame(values, columns=list(CONDITION_COLUMNS), index=refdes.index,
+                           copy=False)
         out.insert(0, "refdes", refdes.to_numpy())
         notes = _take(c["notes"].fillna("").to_numpy(dtype=object), at, "")
         out["notes"] = pd.Series(notes, index=out.index, dtype=object)
@@ -121,12 +130,12 @@ def _take(values: np.ndarray, at: np.ndarray, fill: Any) -> np.ndarray:
     return padded[at]
 
 
-def merge_levels(specific: np.ndarray, general: np.ndarray) -> np.ndarray:
-    """Field-by-field precedence of two levels (columns in CONDITION_COLUMNS order), with the
-    rail's upper bound travelling with its DC value and derived from the tolerance."""
-    i_dc = CONDITION_COLUMNS.index("v_dc")
-    i_max = CONDITION_COLUMNS.index("v_dc_max")
-    i_tol = CONDITION_COLUMNS.index("v_tol_pct")
+def merge_levels(specific: np.ndarray, general: np.ndarray,
+                 columns: Sequence[str] = CONDITION_COLUMNS) -> np.ndarray:
+    """Field-by-field precedence of two levels (columns named by ``columns``, which hold the
+    ``RAIL_COLUMNS``), with the rail's upper bound travelling with its DC value and derived
+    from the tolerance."""
+    i_dc, i_max, i_tol = (list(columns).index(c) for c in RAIL_COLUMNS)
     out = np.where(np.isnan(specific), general, specific)
     own_dc = ~np.isnan(specific[:, i_dc]) & np.isnan(specific[:, i_max])
     out[own_dc, i_max] = np.nan
