@@ -226,7 +226,7 @@ def audit_inputs(imported, design=None, part_data=None,
     if design is not None:
         inputs.append({"role": "design", "path": str(design.path), "sha256": design.sha256})
         conditions = design.for_placements(fitted["refdes"])
-        for refdes, row in design.unmatched(set(placements["refdes"])):
+        for refdes, row in design.unmatched(placements["refdes"]):
             design_unmatched.append({
                 "refdes": refdes, "row": row, "status": "nodata",
                 "reason": f"{refdes} (design sheet row {row}) is not in the BOM",
