@@ -1421,11 +1421,9 @@ def _result(ruleset: Any, inputs: Sequence[dict], results: Sequence[AlternateRes
 
 
 def _sha256(path: str) -> str:
-    import hashlib
+    from bomcheck.read.reader import read_input
 
-    from bomcheck.read.reader import read_bytes
-
-    return hashlib.sha256(read_bytes(str(path), "alternates file")).hexdigest()
+    return read_input(str(path), "alternates file")[1]
 
 
 def run_substitute(bom_path: str, design_path: str | None, alternates: Sequence[Alternate],
