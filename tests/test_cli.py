@@ -264,7 +264,7 @@ def test_an_internal_error_has_its_own_exit_status_and_one_line(board, capsys, m
 def test_bom_from_standard_input(board, capsys, monkeypatch):
     data = (HEADER + LINES["pass"] + LINES["fail"]).encode("utf-8")
     board("pass", "fail")  # the design sheet
-    for argv, code in ((["import", "-", "--json"], 0),
+    for argv, code in ((["import", "-", "--json", "-"], 0),
                        (["audit", "-", "--design", "design.csv", "--json", "-"], 1)):
         monkeypatch.setattr("sys.stdin", io.TextIOWrapper(io.BytesIO(data)))
         assert main(argv) == code
@@ -280,7 +280,7 @@ def test_placement_limit_refuses_with_its_option_and_the_option_raises_it(board,
     assert main(["import", "big.csv"]) == 2
     err = capsys.readouterr().err
     assert "more than 50,000 placements" in err and "--max-placements" in err
-    assert main(["import", "big.csv", "--max-placements", "60000", "--json"]) == 0
+    assert main(["import", "big.csv", "--max-placements", "60000", "--json", "-"]) == 0
     capsys.readouterr()
 
 

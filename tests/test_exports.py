@@ -99,7 +99,7 @@ def test_junit_counts_match_the_report(warn_as, failures, skipped):
     assert root.get("skipped") is None
 
 
-def test_junit_carries_explanations_classnames_and_waiver_reason():
+def test_junit_carries_messages_classnames_and_waiver_reason():
     root = _parse(junit_xml(tiny_report()))
     cases = {c.get("name"): c for c in root.iter("testcase")}
     assert cases["C2"].get("classname") == "bomcheck.ceramic"
@@ -207,7 +207,7 @@ def test_markdown_when_everything_passes():
 
 EXPECTED_CSV = (
     "refdes,row,status,waived_from,rule,metric,value,limit,margin,technology,capacitance_f,"
-    "voltage_v,dielectric,package,text,explanation,source,waived\r\n"
+    "voltage_v,dielectric,package,text,message,source,waived\r\n"
     "C1,2,pass,,R-V,voltage_ratio,0.5,0.7,0.2,ceramic,1e-07,50,X7R,0603,"
     "KV-0603-104-C1 | CAP CER 100NF 50V X7R,C1: ratio 50 % <= 70 % limit,S1,\r\n"
     "C2,3,fail,,R-V,voltage_ratio,0.8,0.7,-0.1,ceramic,1e-07,16,X7R,0603,"

@@ -621,7 +621,7 @@ def test_cli_import_json(tmp_path, capsys):
     import json
 
     path = _file(tmp_path, "Designator,Value\nC1,100nF\nR1,1K\n")
-    assert main(["import", path, "--json"]) == 0
+    assert main(["import", path, "--json", "-"]) == 0
     out = json.loads(capsys.readouterr().out)
     assert [p["refdes"] for p in out["placements"]] == ["C1"]
     assert out["totals"]["rows_read"] == 2 and out["skipped"][0]["row"] == 3

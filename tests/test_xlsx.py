@@ -145,7 +145,7 @@ def test_placements_carry_every_spec_condition_and_metric_field(book, report):
                  # circuit metrics the JSON carries (issue: discharge time, shock energy)
                  "discharge_s", "shock_energy_j", "energy_j", "v_share_cap_v"):
         assert xlsx.header_of(name) in header, name
-    for name in ("governing rule", "limit", "margin", "explanation", "BOM row", "status"):
+    for name in ("governing rule", "limit", "margin", "message", "BOM row", "status"):
         assert name in header, name
     # headers are words with units, not internal names
     assert xlsx.header_of("discharge_s").endswith("[s]")

@@ -69,8 +69,8 @@ def _import_options(args: argparse.Namespace) -> api.ImportOptions:
 def run_parse(args: argparse.Namespace) -> int:
     specs = [api.parse_value(t) for t in args.text]
     if args.json:
-        print(api.json_text([s.to_dict() for s in specs]))
-    else:
+        api.write_text(args.json, api.json_text([s.to_dict() for s in specs]) + "\n")
+    if args.json != "-":
         terminal.print_specs(_console(args), specs)
     return EXIT_CLEAN
 
@@ -78,8 +78,8 @@ def run_parse(args: argparse.Namespace) -> int:
 def run_import(args: argparse.Namespace) -> int:
     result = api.import_file(args.bom, _import_options(args))
     if args.json:
-        print(api.json_text(api.import_record(result)))
-    else:
+        api.write_text(args.json, api.json_text(api.import_record(result)) + "\n")
+    if args.json != "-":
         terminal.print_import(_console(args), result, show_all=args.all)
     return EXIT_CLEAN
 

@@ -148,7 +148,7 @@ def _add_audit_inputs(p: argparse.ArgumentParser) -> None:
     """The inputs an audit takes beside the BOM; shared by audit and substitute."""
     p.add_argument("--design", metavar="SHEET", help="design sheet of operating conditions "
                    "(.csv, .xlsx, .toml)")
-    p.add_argument("--design-sheet", metavar="NAME", help="sheet of an XLSX design file")
+    p.add_argument("--design-sheet", metavar="NAME", help="worksheet of an XLSX design sheet")
     p.add_argument("--parts", metavar="FILE", help="parts data keyed by MPN (.csv, .xlsx, "
                    ".toml): ratings, ESR, ripple, surge, life, leakage, DC-bias curves; "
                    "overrides the BOM text")
@@ -171,7 +171,8 @@ def _add_import(sub, common: argparse.ArgumentParser) -> None:
     p.add_argument("bom", help="BOM file (.csv, .tsv, .txt, .xlsx, .xls, .ods) or '-' for "
                    "standard input")
     _add_import_options(p)
-    p.add_argument("--json", action="store_true", help="print JSON instead of a table")
+    p.add_argument("--json", metavar="OUT", help="write the JSON form to OUT ('-' for stdout) "
+                   "instead of printing a table")
     p.add_argument("--all", action="store_true", help="show every placement, not the first 50")
 
 
@@ -180,7 +181,8 @@ def _add_parse(sub, common: argparse.ArgumentParser) -> None:
                        description="Parse capacitor value strings such as '4u7 50V X7R' or "
                        "'CAP CER 0.1UF 16V 10%% X5R 0402' into a specification.")
     p.add_argument("text", nargs="+", help="value text to parse")
-    p.add_argument("--json", action="store_true", help="print JSON instead of a table")
+    p.add_argument("--json", metavar="OUT", help="write the JSON form to OUT ('-' for stdout) "
+                   "instead of printing a table")
 
 
 def _add_audit(sub, common: argparse.ArgumentParser) -> None:

@@ -1,7 +1,7 @@
 """Report stage, CI edge: CSV (RFC 4180, CRLF line ends) of an audit, a batch and a where-used query.
 
 Audit: one row per fitted placement (BOM order) with its governing verdict, status and
-explanation; ``waived`` lists the placement's waived verdicts (``rule (was status): reason``).
+message; ``waived`` lists the placement's waived verdicts (``rule (was status): reason``).
 Text cells go through ``textsafe.csv_field``, the CSV-injection guard used by every writer: a
 cell that starts with ``=``, ``+``, ``-``, ``@``, a tab or a carriage return gets a leading single
 quote and is quoted, and a cell holding a separator followed by such a lead (``x;=1+1``) is
@@ -25,7 +25,7 @@ from bomcheck.report.whereused import Use
 
 CSV_COLUMNS: tuple[str, ...] = (
     "refdes", "row", "status", "waived_from", "rule", "metric", "value", "limit", "margin",
-    "technology", "capacitance_f", "voltage_v", "dielectric", "package", "text", "explanation",
+    "technology", "capacitance_f", "voltage_v", "dielectric", "package", "text", "message",
     "source", "waived",
 )
 INJECTION_LEAD = FORMULA_LEADS
@@ -34,7 +34,7 @@ _FROM_TABLE = {"refdes", "row", "status", "technology", "capacitance_f", "voltag
                "dielectric", "package", "text"}
 _FROM_VERDICT = {"waived_from": "waived_from", "rule": "rule_id", "metric": "metric",
                  "value": "value", "limit": "limit", "margin": "margin",
-                 "explanation": "message", "source": "source"}
+                 "message": "message", "source": "source"}
 _NUMBERS = {"value", "limit", "margin", "capacitance_f", "voltage_v"}
 
 
@@ -50,7 +50,7 @@ def _num(value: Any) -> str:
 def csv_rows(report) -> str:
     """One CSV row per fitted placement in BOM order: designator, BOM row, status (and the
     status a waiver replaced), the governing verdict with its value, limit and margin (SI
-    units), the part's key fields, its BOM text and the explanation."""
+    units), the part's key fields, its BOM text and the message."""
     t = report.table
     gov = governing(report)
     empty = pd.Series(None, index=t.index, dtype=object)

@@ -275,7 +275,7 @@ def _placements_section(report) -> list[str]:
             f'{boxes}<span class="count muted"></span></div>',
             _table(("#", "refdes", "BOM row", "status", "part", "technology", "conditions",
                     "governing rule", "stress", "limit", "margin / limit", "basis",
-                    "explanation", "BOM text"), rows, table_id="placements-table", sortable=True)]
+                    "message", "BOM text"), rows, table_id="placements-table", sortable=True)]
 
 
 def _verdict_rows(v: pd.DataFrame, metric_of: dict, rows_of: pd.Series) -> list[str]:

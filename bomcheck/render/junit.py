@@ -4,7 +4,7 @@ One ``<testsuite>``, one ``<testcase>`` per fitted placement, in BOM order, name
 ``classname`` ``bomcheck.<technology>``:
 
 - pass: no child element;
-- fail: ``<failure type="fail">``, message = the governing explanation, body = every verdict
+- fail: ``<failure type="fail">``, message = the governing verdict's message, body = every verdict
   that is not a pass, one per line;
 - nodata: ``<error type="nodata">`` (the check could not run for lack of data, which is what
   JUnit's "error" means, so it is never counted as a pass or a plain failure);

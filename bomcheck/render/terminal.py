@@ -295,7 +295,7 @@ def print_diff(console: Console, diff, *, show_all: bool = False) -> None:
         if all(labels):
             title += f" ({labels[0]} -> {labels[1]})"
         table = Table(title=title, header_style="heading")
-        for col in ("change", "refdes", "rule", "was", "now", "explanation"):
+        for col in ("change", "refdes", "rule", "was", "now", "message"):
             table.add_column(col, overflow="fold")
         limit = len(rows) if show_all else DEFAULT_ROWS
         for kind, c in rows[:limit]:

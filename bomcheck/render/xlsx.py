@@ -163,7 +163,7 @@ class _Book:
               if "waived_from" in gov else []),
             _Column("governing rule", _text(gov["rule_id"])),
             *self._metric_columns(gov, metric, ("value", "limit", "margin")),
-            _Column("explanation", _text(gov["message"]), "bc wrap", width=60),
+            _Column("message", _text(gov["message"]), "bc wrap", width=60),
             _Column("BOM row", _numbers(ordered["row"], "int"), width=9),
         ]
         # The source text holds the parsed BOM cells (value, description...); the MPN is not
