@@ -9,7 +9,6 @@ import os
 import subprocess
 import sys
 import textwrap
-from pathlib import Path
 
 from conftest import ROOT, SAMPLE_BOM, SAMPLE_DESIGN
 
