@@ -180,6 +180,27 @@ def evaluate_table(table: pd.DataFrame, ruleset, *, parts=None, groups=None,
     return Evaluated(table, verdicts, run.groups)
 
 
+def load_ruleset(names: tuple[str, ...] = (), environment: str = "severe"):
+    """The rule sets in force: ``names`` (names or paths; the default set when empty) judged
+    for ``environment`` (``rules.ENVIRONMENTS``). The audit and the substitute check both call it."""
+    from bomcheck.evaluate import rules
+
+    return rules.load_rules(names or (rules.DEFAULT_RULESET,)).for_environment(environment)
+
+
+def placement_table(placements: pd.DataFrame, design) -> pd.DataFrame:
+    """The fitted placements joined to their design-sheet conditions (``design`` None: no
+    conditions, ``condition_source`` "none"), the table the stress stage takes. The audit and the
+    substitute check both build it here."""
+    fitted = placements[placements["fitted"].astype(bool)].reset_index(drop=True)
+    if design is not None:
+        conditions = design.for_placements(fitted["refdes"]).reset_index(drop=True)
+    else:
+        conditions = pd.DataFrame({"condition_source": ["none"] * len(fitted)})
+    return pd.concat([fitted, conditions.drop(columns=[c for c in conditions if c in fitted])],
+                     axis=1)
+
+
 def run_audit(bom_path: str, design_path: str | None, options: AuditOptions = AuditOptions()) -> Report:
     """Audit every fitted capacitor placement of ``bom_path`` under the design sheet's conditions."""
     from bomcheck.parse import design as design_mod
@@ -212,12 +233,10 @@ def audit_inputs(imported, design=None, part_data=None,
     None: no operating conditions, every placement "nodata") and a ``parts.PartsData`` (or None).
     Pure: reads no file (the rule sets are loaded by name or path from ``options``)."""
     from bomcheck.stress import circuit
-    from bomcheck.evaluate import rules
 
-    ruleset = rules.load_rules(options.rules or (rules.DEFAULT_RULESET,)).for_environment(
-        options.environment)
+    ruleset = load_ruleset(options.rules, options.environment)
     placements = imported.placements
-    fitted = placements[placements["fitted"]].reset_index(drop=True)
+    table = placement_table(placements, design)
     not_fitted = placements[~placements["fitted"]].reset_index(drop=True)
 
     inputs = [{"role": "bom", "path": str(imported.source.path),
@@ -225,18 +244,11 @@ def audit_inputs(imported, design=None, part_data=None,
     design_unmatched: list[dict] = []
     if design is not None:
         inputs.append({"role": "design", "path": str(design.path), "sha256": design.sha256})
-        conditions = design.for_placements(fitted["refdes"])
         for refdes, row in design.unmatched(set(placements["refdes"])):
             design_unmatched.append({
                 "refdes": refdes, "row": row, "status": "nodata",
                 "reason": f"{refdes} (design sheet row {row}) is not in the BOM",
             })
-    else:
-        conditions = pd.DataFrame({"condition_source": ["none"] * len(fitted)})
-    conditions = conditions.reset_index(drop=True)
-    table = pd.concat(
-        [fitted, conditions.drop(columns=[c for c in conditions if c in fitted])], axis=1
-    )
     if part_data is not None:
         inputs.append({"role": "parts", "path": str(part_data.path), "sha256": part_data.sha256})
     groups = design.groups if design is not None else None
