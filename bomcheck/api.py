@@ -50,7 +50,7 @@ def check_substitutes(bom: str | Path, design: str | Path | None, alternates: st
                **option_values):
     """Check approved alternates (an alternates file, or ``substitute.Alternate`` values) in
     every placement of the parts they replace; returns a ``substitute.SubstituteResult``."""
-    from bomcheck.substitute import check as sub
+    from bomcheck import substitute as sub
 
     items = (sub.read_alternates(str(alternates)) if isinstance(alternates, (str, Path))
              else list(alternates))

@@ -11,14 +11,14 @@ import pytest
 
 from bomcheck.cli.main import main
 from bomcheck.errors import InputError
-from bomcheck.substitute.check import (
+from bomcheck.render.substitute_md import substitute_markdown
+from bomcheck.substitute import (
     Alternate,
     SubstituteOptions,
     designator_list,
     read_alternates,
     run_direct,
     run_substitute,
-    substitute_markdown,
 )
 
 ROOT = Path(__file__).resolve().parents[1]
@@ -218,8 +218,8 @@ def test_the_original_is_evaluated_exactly_as_the_audit_does():
     from bomcheck.parse import design
     from bomcheck.parse import importer
     from bomcheck.evaluate import rules
-    from bomcheck.pipeline.audit import run_audit
-    from bomcheck.substitute.check import Stages, evaluate, placement_table
+    from bomcheck.pipeline.audit import placement_table, run_audit
+    from bomcheck.substitute.table import Stages, evaluate
 
     report = run_audit(str(SAMPLE_BOM), str(SAMPLE_DESIGN))
     d = design.read_design(str(SAMPLE_DESIGN))

@@ -376,7 +376,7 @@ def run_rules(args: argparse.Namespace) -> int:
 def _substitute_request(args: argparse.Namespace):
     """(alternates, inline conditions) of ``substitute``, the usage checked."""
     from bomcheck.cli.main import SUBSTITUTE_CONDITIONS
-    from bomcheck.substitute.check import Alternate, read_alternates
+    from bomcheck.substitute import Alternate, read_alternates
 
     conditions = {name: getattr(args, flag.lstrip("-").replace("-", "_"))
                   for flag, name, _ in SUBSTITUTE_CONDITIONS
@@ -414,7 +414,7 @@ def _substitute_request(args: argparse.Namespace):
 
 
 def run_substitute(args: argparse.Namespace) -> int:
-    from bomcheck.substitute.check import SubstituteOptions, run_direct, run_substitute
+    from bomcheck.substitute import SubstituteOptions, run_direct, run_substitute
 
     outputs = _requested_outputs(args, "substitute")
     alternates, conditions = _substitute_request(args)

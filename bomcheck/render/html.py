@@ -550,7 +550,7 @@ def audit_html(report) -> str:
 def substitute_html(result) -> str:
     """The substitute check as one self-contained HTML page: one row per alternate with its
     verdict and reason, then each alternate's placements side by side and its reasons."""
-    from bomcheck.substitute.check import designator_list
+    from bomcheck.substitute.words import designator_list
 
     title = f"bomcheck substitute check: {result.status}"
     t = result.totals

@@ -420,7 +420,7 @@ def print_substitutes(console: Console, result, *, show_all: bool = False) -> No
     """The substitute check (``bomcheck.substitute.check.SubstituteResult``): one row per alternate
     with its verdict and reason; then, for every alternate that is not a drop-in (all with
     ``show_all``), its placements side by side and its reasons; the totals and cautions."""
-    from bomcheck.substitute.check import designator_list
+    from bomcheck.substitute.words import designator_list
 
     table = Table(title="Substitute check", header_style="heading")
     for col in ("original", "alternate", "placements", "verdict", "reason"):

@@ -1,1 +1,29 @@
-"""Substitute check: a proposed alternate audited in every placement of the part it replaces."""
+"""Substitute check: a proposed alternate audited in every placement of the part it replaces.
+
+Modules, in the order a check runs: ``alternates`` (reading the alternates file), ``table`` (the
+original's placements, the alternate's spec laid over them, the audit's stages run on them),
+``differences`` (spec against spec), ``verdicts`` (both parts' verdicts side by side),
+``phrases`` and ``reasons`` (the verdict in words), ``result`` (the values and their JSON form),
+``words`` (designator lists, quantities, conditions) and ``check`` (the check and its library
+calls). The Markdown, terminal, HTML and workbook forms live in ``bomcheck.render``.
+"""
+
+from bomcheck.substitute.alternates import (
+    alternates_from_records,
+    alternates_from_toml,
+    read_alternates,
+)
+from bomcheck.substitute.check import check_alternates, run_direct, run_substitute
+from bomcheck.substitute.result import (
+    Alternate,
+    AlternateResult,
+    SubstituteOptions,
+    SubstituteResult,
+)
+from bomcheck.substitute.words import designator_list
+
+__all__ = [
+    "Alternate", "AlternateResult", "SubstituteOptions", "SubstituteResult",
+    "alternates_from_records", "alternates_from_toml", "check_alternates", "designator_list",
+    "read_alternates", "run_direct", "run_substitute",
+]
