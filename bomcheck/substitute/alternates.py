@@ -5,6 +5,7 @@ from __future__ import annotations
 
 import re
 from collections.abc import Mapping, Sequence
+from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
@@ -82,51 +83,77 @@ def _flag(text: str, *, path: str, row: int | None, column: str) -> bool:
                      expected="yes or no (true/false, 1/0, x or empty)")
 
 
+@dataclass(frozen=True)
+class _Record:
+    """One row of an alternates table sorted by kind of column: the file's own fields
+    (field -> (header, text)), BOM-style cells and parts-data cells; ``path`` and ``row`` for
+    messages."""
+
+    own: Mapping[str, tuple[str, str]]
+    cells: Mapping[str, str]
+    parts_cells: Mapping[str, str]
+    path: str
+    row: int | None
+
+    def text(self, name: str) -> str:
+        """The text of the file's own field ``name`` ("" when no column gives it)."""
+        return self.own.get(name, ("", ""))[1]
+
+
+def _record(rec: Mapping[str, str], path: str, row: int | None) -> _Record:
+    """Sort one row's cells by kind of column; two columns that give one field are an error."""
+    own: dict[str, tuple[str, str]] = {}
+    cells: dict[str, str] = {}
+    parts_cells: dict[str, str] = {}
+    for header, value in rec.items():
+        text = " ".join(str(value).split()) if value is not None else ""
+        kind, name = _classify(str(header))
+        if kind == "own":
+            if name in own and own[name][1] and text:
+                raise InputError(f"two columns give {name}: {own[name][0]!r} and "
+                                 f"{header!r}", path=path, row=row, column=str(header),
+                                 expected="one column per field")
+            if text or name not in own:
+                own[name] = (str(header), text)
+        elif kind == "cell" and text:
+            cells[name] = text
+        elif kind == "parts" and text:
+            parts_cells[str(header)] = text
+    return _Record(own, cells, parts_cells, path, row)
+
+
+def _alternate(r: _Record) -> Alternate:
+    """The alternate one sorted row gives; raises ``InputError`` naming what is missing."""
+    original, forced = r.text("original"), None
+    if not original and r.text("original_refdes"):
+        original, forced = r.text("original_refdes"), "refdes"
+    if not original:
+        raise InputError("no original named", path=r.path, row=r.row,
+                         column=r.own.get("original", ("original", ""))[0],
+                         expected="the MPN, BOM line text or designators of the part the "
+                                  "alternate replaces")
+    cells = dict(r.cells)
+    if r.text("description") and "description" not in cells:
+        cells["description"] = r.text("description")
+    if not r.text("mpn") and not cells:
+        raise InputError("no alternate given", path=r.path, row=r.row,
+                         expected="the alternate's MPN and/or description")
+    fp_header, fp_text = r.own.get("footprint_checked", ("footprint_checked", ""))
+    return Alternate(
+        original=original, original_kind=forced, mpn=r.text("mpn"),
+        manufacturer=r.text("manufacturer"),
+        cells={k: cells[k] for k in SPEC_CELLS if k in cells}, parts_cells=dict(r.parts_cells),
+        footprint_checked=_flag(fp_text, path=r.path, row=r.row, column=fp_header),
+        notes=r.text("notes"), row=r.row, path=r.path,
+    )
+
+
 def alternates_from_records(records: Sequence[tuple[int | None, Mapping[str, str]]], *,
                             path: str = "<table>") -> tuple[Alternate, ...]:
     """Alternates from rows of header -> text cells, each with its source row."""
     out = []
     for row, rec in records:
-        own: dict[str, tuple[str, str]] = {}
-        cells: dict[str, str] = {}
-        parts_cells: dict[str, str] = {}
-        for header, value in rec.items():
-            text = " ".join(str(value).split()) if value is not None else ""
-            kind, name = _classify(str(header))
-            if kind == "own":
-                if name in own and own[name][1] and text:
-                    raise InputError(f"two columns give {name}: {own[name][0]!r} and "
-                                     f"{header!r}", path=path, row=row, column=str(header),
-                                     expected="one column per field")
-                if text or name not in own:
-                    own[name] = (str(header), text)
-            elif kind == "cell" and text:
-                cells[name] = text
-            elif kind == "parts" and text:
-                parts_cells[str(header)] = text
-        original, forced = own.get("original", ("", ""))[1], None
-        if not original and own.get("original_refdes", ("", ""))[1]:
-            original, forced = own["original_refdes"][1], "refdes"
-        if not original:
-            raise InputError("no original named", path=path, row=row,
-                             column=own.get("original", ("original", ""))[0],
-                             expected="the MPN, BOM line text or designators of the part the "
-                                      "alternate replaces")
-        desc = own.get("description", ("", ""))[1]
-        if desc and "description" not in cells:
-            cells["description"] = desc
-        mpn = own.get("mpn", ("", ""))[1]
-        if not mpn and not cells:
-            raise InputError("no alternate given", path=path, row=row,
-                             expected="the alternate's MPN and/or description")
-        fp_header, fp_text = own.get("footprint_checked", ("footprint_checked", ""))
-        alt = Alternate(
-            original=original, original_kind=forced, mpn=mpn,
-            manufacturer=own.get("manufacturer", ("", ""))[1],
-            cells={k: cells[k] for k in SPEC_CELLS if k in cells}, parts_cells=parts_cells,
-            footprint_checked=_flag(fp_text, path=path, row=row, column=fp_header),
-            notes=own.get("notes", ("", ""))[1], row=row, path=path,
-        )
+        alt = _alternate(_record(rec, path, row))
         alternate_parts(alt)  # a bad parts-data cell is an input error now, not mid-run
         out.append(alt)
     return tuple(out)

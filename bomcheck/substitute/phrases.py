@@ -38,9 +38,12 @@ class Said:
         return one[:-1] if self.many else one
 
 
-def _limit_words(value: float, limit: float, warn: float, check: str, unit: str,
-                 percent: bool) -> str:
-    """``, above the 70 % limit`` / ``, above the 60 % warn level`` / "" when inside both."""
+def _limit_words(value: float, limit: float, warn: float, check: str, metric: str | None) -> str:
+    """``, above the 70 % limit`` / ``, above the 60 % warn level`` / "" when inside both, in
+    the metric's unit."""
+    unit, percent = ("", False)
+    if metric in METRICS:
+        unit, percent = METRICS[metric].unit, METRICS[metric].percent
     over = (lambda x, lim: x > lim) if check != "min" else (lambda x, lim: x < lim)
     side = "above" if check != "min" else "below"
     if not math.isnan(limit) and over(value, limit):
@@ -107,11 +110,8 @@ def phrase(metric: str | None, rec: Mapping[str, Any], v: Mapping[str, Any], n: 
         m = re.search(r"missing (.*?)(?:; |$)", body)
         return f"cannot be checked, missing {m.group(1)}" if m else f"cannot be checked: {body}"
     value, limit = num(v.get("value_a")), num(v.get("limit_a"))
-    unit, percent = ("", False)
-    if metric in METRICS:
-        unit, percent = METRICS[metric].unit, METRICS[metric].percent
     beyond = _limit_words(value, limit, num(v.get("warn_limit_a")), str(v.get("check") or "max"),
-                          unit, percent)
+                          metric)
     said = PHRASES.get(metric or "")
     return said(Said(rec, value, limit, beyond, n > 1)) if said else body
 

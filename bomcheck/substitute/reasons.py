@@ -6,7 +6,7 @@ from __future__ import annotations
 import math
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
-from typing import Any
+from typing import Any, NamedTuple
 
 import numpy as np
 import pandas as pd
@@ -67,23 +67,34 @@ class Scene:
         return tuple(out)
 
 
+class _Said(NamedTuple):
+    """What placements and rules that read alike share: one sentence."""
+
+    severity: str
+    kind: str  # "verdict" or "margin"
+    topic: str
+    text: str
+    bits: tuple[str, ...]  # the differences behind it, and more, put in brackets
+
+
 @dataclass
 class _Sentences:
     """Issues being collected: placements and rules that read alike share one sentence."""
 
     scene: Scene
-    # (severity, kind, topic, text, bits) -> [placements, rule ids, the verdict speaking for all]
-    groups: dict[tuple, list] = field(default_factory=dict)
+    # sentence -> [placements, rule ids, the verdict speaking for all]
+    groups: dict[_Said, list] = field(default_factory=dict)
 
-    def add(self, severity: str, kind: str, topic: str, p: int, key_text: str,
-            bits: tuple[str, ...], rule_id: str, v: dict) -> None:
-        entry = self.groups.setdefault((severity, kind, topic, key_text, bits), [[], [], v])
+    def add(self, said: _Said, p: int, rule_id: str, v: dict) -> None:
+        """Placement ``p`` (and rule ``rule_id``, "" for none) share the sentence ``said``."""
+        entry = self.groups.setdefault(said, [[], [], v])
         if p not in entry[0]:
             entry[0].append(p)
         if rule_id and rule_id not in entry[1]:
             entry[1].append(rule_id)
 
     def issues(self) -> list[Issue]:
+        """The issues collected, in the order they were first added."""
         out = []
         for (severity, kind, topic, _, bits), (ps, rule_ids, v) in self.groups.items():
             if "_text" in v:
@@ -139,8 +150,9 @@ def _add_verdicts(out: _Sentences, pairs: pd.DataFrame) -> set[tuple[int, str | 
             v = {**v, "_prefix": _REVIEW_PREFIX.get(status, "")}
         prefix = v.get("_prefix", "")
         for x in vs:
-            out.add(severity, "verdict", topic, p, prefix + phrase(metric, scene.recs[p], v, 1),
-                    bits, x["rule_id"], v)
+            said = _Said(severity, "verdict", topic, prefix + phrase(metric, scene.recs[p], v, 1),
+                         bits)
+            out.add(said, p, x["rule_id"], v)
         flagged.add((p, metric))
     return flagged
 
@@ -174,8 +186,8 @@ def _add_margins(out: _Sentences, pairs: pd.DataFrame,
             continue
         if over:
             text = margin_phrase(metric, r, scene.recs[int(p)], amount)
-            out.add("review", "margin", metric, int(p), text, scene.related(metric, int(p)),
-                    "", {"_text": text})
+            out.add(_Said("review", "margin", metric, text, scene.related(metric, int(p))),
+                    int(p), "", {"_text": text})
 
 
 def verdict_issues(scene: Scene, pairs: pd.DataFrame) -> list[Issue]:
