@@ -6,7 +6,7 @@ Sheets: **Substitutes** (one row per alternate: verdict and the reason purchasin
 **Substitute verdicts** (one row per placement and rule, side by side). Nothing is recomputed.
 Text from input files is stored as text, never as a formula (a cell starting with ``=``, ``+``,
 ``-``, ``@``, tab or CR is a text cell), and the workbook file appears only once complete.
-openpyxl is imported inside the functions, so importing this module costs nothing.
+openpyxl is imported inside the functions, so importing this module loads no spreadsheet library.
 """
 
 from __future__ import annotations
@@ -16,6 +16,7 @@ from typing import TYPE_CHECKING, Any
 
 from bomcheck.render.outfiles import atomic_path
 from bomcheck.render.textsafe import starts_formula, xml_text
+from bomcheck.substitute.result import SubstituteResult
 from bomcheck.substitute.words import designator_list
 from bomcheck.vocabulary import METRICS
 
@@ -132,7 +133,7 @@ VERDICT_COLUMNS: tuple[tuple[str, float, str], ...] = (
 )
 
 
-def _substitutes_rows(result) -> list[list]:
+def _substitutes_rows(result: SubstituteResult) -> list[list]:
     """One row per alternate: verdict and the reason purchasing acts on."""
     rows = []
     for r in result.results:
@@ -146,7 +147,7 @@ def _substitutes_rows(result) -> list[list]:
     return rows
 
 
-def _placement_rows(result) -> tuple[list[list], list[list[str]]]:
+def _placement_rows(result: SubstituteResult) -> tuple[list[list], list[list[str]]]:
     """(rows, number formats): one row per placement, both parts' status and governing stress."""
     rows, formats = [], []
     for r in result.results:
@@ -165,7 +166,7 @@ def _placement_rows(result) -> tuple[list[list], list[list[str]]]:
     return rows, formats
 
 
-def _verdict_rows(result) -> tuple[list[list], list[list[str]]]:
+def _verdict_rows(result: SubstituteResult) -> tuple[list[list], list[list[str]]]:
     """(rows, number formats): one row per placement and rule, both parts side by side."""
     rows, formats = [], []
     for r in result.results:
@@ -183,7 +184,7 @@ def _verdict_rows(result) -> tuple[list[list], list[list[str]]]:
     return rows, formats
 
 
-def write_substitutes_sheet(wb: Workbook, result) -> None:
+def write_substitutes_sheet(wb: Workbook, result: SubstituteResult) -> None:
     """Add the Substitutes sheets (``SHEETS``) for ``result`` to the workbook ``wb`` (normal or
     write-only)."""
     styles = _Styles()
@@ -194,7 +195,7 @@ def write_substitutes_sheet(wb: Workbook, result) -> None:
     _sheet(wb, SHEETS[2], list(VERDICT_COLUMNS), rows, styles, formats)
 
 
-def write_substitute_workbook(result, path: str | os.PathLike) -> None:
+def write_substitute_workbook(result: SubstituteResult, path: str | os.PathLike) -> None:
     """Write a workbook holding the Substitutes sheets to ``path`` (an .xlsx file), through a
     temporary file in the same folder renamed into place; on any error the temporary file is
     removed and an existing file at ``path`` is left as it was."""
