@@ -67,7 +67,7 @@ class Scene:
         return tuple(out)
 
 
-class _Said(NamedTuple):
+class _Sentence(NamedTuple):
     """What placements and rules that read alike share: one sentence."""
 
     severity: str
@@ -78,16 +78,16 @@ class _Said(NamedTuple):
 
 
 @dataclass
-class _Sentences:
+class _Reasons:
     """Issues being collected: placements and rules that read alike share one sentence."""
 
     scene: Scene
     # sentence -> [placements, rule ids, the verdict speaking for all]
-    groups: dict[_Said, list] = field(default_factory=dict)
+    groups: dict[_Sentence, list] = field(default_factory=dict)
 
-    def add(self, said: _Said, p: int, rule_id: str, v: dict) -> None:
-        """Placement ``p`` (and rule ``rule_id``, "" for none) share the sentence ``said``."""
-        entry = self.groups.setdefault(said, [[], [], v])
+    def add(self, sentence: _Sentence, p: int, rule_id: str, v: dict) -> None:
+        """Placement ``p`` (and rule ``rule_id``, "" for none) share ``sentence``."""
+        entry = self.groups.setdefault(sentence, [[], [], v])
         if p not in entry[0]:
             entry[0].append(p)
         if rule_id and rule_id not in entry[1]:
@@ -132,7 +132,7 @@ def _picked(pairs: pd.DataFrame, is_replaced: np.ndarray) -> dict[tuple, list[di
     return picked
 
 
-def _add_verdicts(out: _Sentences, pairs: pd.DataFrame) -> set[tuple[int, str | None]]:
+def _add_verdicts(out: _Reasons, pairs: pd.DataFrame) -> set[tuple[int, str | None]]:
     """Add the verdict issues, the verdict furthest past its limit speaking for all on the same
     stress (one sentence naming every rule); returns the (placement, metric) pairs covered."""
     scene = out.scene
@@ -150,9 +150,8 @@ def _add_verdicts(out: _Sentences, pairs: pd.DataFrame) -> set[tuple[int, str | 
             v = {**v, "_prefix": _REVIEW_PREFIX.get(status, "")}
         prefix = v.get("_prefix", "")
         for x in vs:
-            said = _Said(severity, "verdict", topic, prefix + phrase(metric, scene.recs[p], v, 1),
-                         bits)
-            out.add(said, p, x["rule_id"], v)
+            text = prefix + phrase(metric, scene.recs[p], v, 1)
+            out.add(_Sentence(severity, "verdict", topic, text, bits), p, x["rule_id"], v)
         flagged.add((p, metric))
     return flagged
 
@@ -164,7 +163,7 @@ def _closest(ok: pd.DataFrame, side: str) -> pd.DataFrame:
     return part.drop_duplicates(["pidx", "metric"]).set_index(["pidx", "metric"])[cols]
 
 
-def _add_margins(out: _Sentences, pairs: pd.DataFrame,
+def _add_margins(out: _Reasons, pairs: pd.DataFrame,
                  flagged: set[tuple[int, str | None]]) -> None:
     """Add a review for each margin (per placement and metric, the closest approach to a limit)
     that shrinks past the options' amount, where no verdict issue already speaks."""
@@ -186,7 +185,7 @@ def _add_margins(out: _Sentences, pairs: pd.DataFrame,
             continue
         if over:
             text = margin_phrase(metric, r, scene.recs[int(p)], amount)
-            out.add(_Said("review", "margin", metric, text, scene.related(metric, int(p))),
+            out.add(_Sentence("review", "margin", metric, text, scene.related(metric, int(p))),
                     int(p), "", {"_text": text})
 
 
@@ -194,7 +193,7 @@ def verdict_issues(scene: Scene, pairs: pd.DataFrame) -> list[Issue]:
     """Issues from the alternate's verdicts: failures (reject), warnings and no-data that appear
     (review), and margins that shrink past the options' amounts (review). Placements and rules
     that read alike are joined into one sentence."""
-    out = _Sentences(scene)
+    out = _Reasons(scene)
     flagged = _add_verdicts(out, pairs)
     _add_margins(out, pairs, flagged)
     return out.issues()

@@ -46,8 +46,9 @@ class Alternate:
 
     ``original`` names the part it replaces: an MPN, the text of a BOM line or a designator list
     (``original_kind`` forces one reading; None tries designators, then MPN, then text).
-    ``cells`` are BOM-style cells (``SPEC_CELLS``) parsed as the BOM's are; ``parts_cells`` are
-    parts-data fields (header -> text) laid over the parsed spec, keyed by ``mpn``.
+    ``cells`` are BOM-style cells (``alternates.SPEC_CELLS``) parsed as the BOM's are;
+    ``parts_cells`` are parts-data fields (header -> text) laid over the parsed spec, keyed by
+    ``mpn``.
     """
 
     original: str
