@@ -164,7 +164,9 @@ def _spec_view(rec: Mapping[str, Any]) -> dict:
 # Running it on files.
 
 def _inputs_and_stages(design_path: str | None, options: SubstituteOptions
-                       ) -> tuple[Any, Any, Stages, list[dict]]:
+                       ) -> tuple[Any, Stages, list[dict]]:
+    """(design, stages, input records) for a run: the rule sets in force, the design sheet and
+    the parts file that ``options`` name, read."""
     ruleset = load_ruleset(options.rules, options.environment)
     inputs: list[dict] = []
     design = None
@@ -177,11 +179,12 @@ def _inputs_and_stages(design_path: str | None, options: SubstituteOptions
         inputs.append({"role": "parts", "path": str(options.parts), "sha256": part_data.sha256})
     stages = Stages.for_ruleset(ruleset, parts=part_data,
                                 groups=design.groups if design is not None else None)
-    return ruleset, design, stages, inputs
+    return design, stages, inputs
 
 
 def _result(ruleset: Any, inputs: Sequence[dict], results: Sequence[AlternateResult],
             options: SubstituteOptions) -> SubstituteResult:
+    """The result value of a run, with the rule sets and inputs behind it."""
     return SubstituteResult(
         tool_version=__version__, rulesets=ruleset_summary(ruleset), inputs=tuple(inputs),
         options={"margin_drop_pp": options.margin_drop_pp,
@@ -194,7 +197,7 @@ def run_substitute(bom_path: str, design_path: str | None, alternates: Sequence[
                    alternates_path: str | None = None) -> SubstituteResult:
     """Check every alternate against the BOM's placements of its original under the design
     sheet's conditions (the library call behind ``bomcheck substitute BOM``)."""
-    ruleset, design, stages, extra_inputs = _inputs_and_stages(design_path, options)
+    design, stages, extra_inputs = _inputs_and_stages(design_path, options)
     imported = importer.read_bom(bom_path, options.import_options or importer.ImportOptions())
     inputs = [{"role": "bom", "path": str(bom_path), "sha256": imported.source.sha256},
               *extra_inputs]
@@ -205,7 +208,7 @@ def run_substitute(bom_path: str, design_path: str | None, alternates: Sequence[
     requests = [(alt, *match_original(alt, placements)) for alt in alternates]
     base = placement_table(placements, design)
     results = check_alternates(base, placements, requests, stages, options)
-    return _result(ruleset, inputs, results, options)
+    return _result(stages.ruleset, inputs, results, options)
 
 
 def _with_inline_conditions(base: pd.DataFrame, refdes: list[str],
@@ -235,7 +238,7 @@ def run_direct(original_text: str, alternates: Sequence[Alternate], design_path:
     """Check alternates for an original given as text, at the designators ``refdes`` under the
     design sheet's conditions and/or ``conditions`` given inline (design-sheet column -> text,
     e.g. ``{"v_dc": "12 V", "t_ambient_c": "85"}``; inline values win)."""
-    ruleset, design, stages, inputs = _inputs_and_stages(design_path, options)
+    design, stages, inputs = _inputs_and_stages(design_path, options)
     refdes = [r.strip().upper() for r in refdes if r.strip()] or ["C1"]
     placements = direct_placements(original_text, refdes)
     base = placement_table(placements, design)
@@ -245,4 +248,4 @@ def run_direct(original_text: str, alternates: Sequence[Alternate], design_path:
     hits = np.arange(len(refdes))
     requests = [(alt, "direct", hits) for alt in alternates]
     results = check_alternates(base, placements, requests, stages, options)
-    return _result(ruleset, inputs, results, options)
+    return _result(stages.ruleset, inputs, results, options)
