@@ -289,3 +289,32 @@ def test_limit_options_take_whole_numbers_above_zero(board, capsys, value):
     with pytest.raises(SystemExit) as exc:
         main(["import", board("pass"), "--max-rows", value])
     assert exc.value.code == 2
+
+
+# Libraries and modules a CSV audit with a JSON report does not use (issue 13, start-up): units
+# come from bomcheck's own parser, the shipped rules need no schema validator, workbooks and the
+# HTML page are not read or written, one board needs no process pool.
+NOT_ON_THE_AUDIT_PATH = (
+    "pint", "jsonschema", "openpyxl", "python_calamine", "xlsxwriter", "multiprocessing",
+    "html", "bomcheck.render.xlsx", "bomcheck.render.html", "rich.progress",
+)
+
+
+def test_the_sample_audit_imports_only_what_it_needs(tmp_path):
+    import subprocess
+    import sys
+    from pathlib import Path
+
+    sample = Path(__file__).resolve().parents[1] / "sample_boms"
+    code = (
+        "import sys, io, contextlib\n"
+        "from bomcheck.cli.main import main\n"
+        "with contextlib.redirect_stdout(io.StringIO()):\n"
+        f"    code = main(['audit', {str(sample / 'bw7-controller-bom.csv')!r}, '--design', "
+        f"{str(sample / 'bw7-design.csv')!r}, '--parts', {str(sample / 'bw7-parts.csv')!r}, "
+        f"'--json', {str(tmp_path / 'r.json')!r}, '--quiet', '--no-config'])\n"
+        f"print(code, sorted(m for m in {NOT_ON_THE_AUDIT_PATH!r} if m in sys.modules))\n")
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
+                         check=True, cwd=tmp_path)
+    assert out.stdout.split(" ", 1) == ["1", "[]\n"]  # the sample board has failures: 1
+    assert json.loads((tmp_path / "r.json").read_text(encoding="utf-8"))["placements"]

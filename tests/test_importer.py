@@ -10,8 +10,6 @@ import math
 import numpy as np
 import openpyxl
 import pytest
-from hypothesis import given
-from hypothesis import strategies as st
 
 from bomcheck.cli.main import main
 from bomcheck.errors import InputError
@@ -20,12 +18,8 @@ from bomcheck.parse.importer import (
     SKIPPED_COLUMNS,
     ImportFinding,
     ImportOptions,
-    decimal_commas,
-    expand_lines,
-    not_fitted_mark,
     read_bom,
 )
-from bomcheck.parse.refdes import expand, prefix
 from bomcheck.spec import SPEC_KEYS
 
 
@@ -261,33 +255,6 @@ def test_duplicate_designator_is_a_finding(tmp_path):
     assert "also listed on row 2" in r.findings[0].message
 
 
-@pytest.mark.parametrize(
-    "text",
-    ["C1", "c12", " C3 ", "C12A", "C1, C3-C5", "C1 C2", "C1/C2", "C10..C12", "C1-3", "C7-C9",
-     "C001-C003", "c1-C3", "C5 - C7", "CP1-CP4", "C1-C3, CE4"],
-)
-def test_fast_paths_agree_with_refdes_expand(text):
-    des = expand_lines(np.array([text, "C99"], dtype=object))
-    got = des.lists.get(0) or [des.single[0]]
-    assert got == expand(text)
-    assert des.count[0] == len(got) and des.prefix[0] == prefix(got[0])
-
-
-@given(st.lists(st.tuples(st.sampled_from(["C", "CE", "c", "R"]), st.integers(1, 5000),
-                          st.integers(0, 6)), min_size=1, max_size=6),
-       st.sampled_from([", ", " ", "/", ";", ",", ", ,"]))
-def test_range_and_list_fast_paths_match_expand(parts, sep):
-    texts = [f"{p}{n}-{p}{n + k}" if k else f"{p}{n}" for p, n, k in parts]
-    texts.append(sep.join(f"{p}{n}" for p, n, _ in parts))  # a plain list
-    des = expand_lines(np.array(texts, dtype=object))
-    for i, t in enumerate(texts):
-        got = des.lists.get(i) or ([des.single[i]] if des.single[i] else [])
-        if i in des.error:  # only a list mixing C and R prefixes is refused
-            assert "mix capacitor and other prefixes" in des.error[i]
-        else:
-            assert got == expand(t)
-
-
 # ---------------------------------------------------------------------------------------------
 # Not fitted
 
@@ -390,18 +357,6 @@ def test_negative_fitted_column(tmp_path):
     assert r.placements["fitted"].tolist() == [False, True, False, True]
     assert r.placements["not_fitted_reason"].tolist()[:3] == [
         "DNP column says 'x'", None, "DNP column says 'DNP'"]
-
-
-@pytest.mark.parametrize(
-    ("text", "mark"),
-    [("DNP", "DNP"), ("dnp", "dnp"), ("C5 (DNI)", "DNI"), ("NF", "NF"), ("N/F", "N/F"),
-     ("100 NF", None), ("100NF", None), ("4n7 NC", "NC"), ("not populated", "not populated"),
-     ("Do Not Place", "Do Not Place"), ("NOPOP", "NOPOP"), ("470uF NP", None),
-     ("nicht bestueckt", "nicht bestueckt"), ("Non-Mont\u00e9", "Non-Mont\u00e9"),
-     ("CAP CER 100nF", None)],
-)
-def test_not_fitted_marks(text, mark):
-    assert not_fitted_mark(text) == mark
 
 
 # ---------------------------------------------------------------------------------------------
@@ -556,16 +511,6 @@ def test_rated_temperature_conflicts_keep_the_lower(tmp_path):
 def test_conflicts_not_reported_on_not_fitted_placements(tmp_path):
     r = read_bom(_file(tmp_path, "Designator,Value,Description\nC1,10uF,CAP 1uF DNP\n"))
     assert r.placements["fitted"].tolist() == [False] and not r.findings
-
-
-@pytest.mark.parametrize(
-    ("text", "semicolon", "expected"),
-    [("4,7uF", True, "4.7uF"), ("1,000pF", True, "1.000pF"), ("4,7uF", False, "4.7uF"),
-     ("0,1µF 6,3V", False, "0.1µF 6.3V"), ("1,000pF", False, "1,000pF"),
-     ("0603,1uF", False, "0603,1uF"), ("C1,C2", False, "C1,C2")],
-)
-def test_decimal_commas(text, semicolon, expected):
-    assert decimal_commas(text, semicolon=semicolon) == expected
 
 
 # ---------------------------------------------------------------------------------------------

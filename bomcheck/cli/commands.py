@@ -1,31 +1,54 @@
-"""The CLI's commands: each calls the library, then a renderer. Imported only after parsing."""
+"""Command-line edge, the commands: each calls the public library (``bomcheck.api``) and prints
+with the terminal renderer (``bomcheck.render.terminal``, the CLI being the terminal's edge);
+files are written through ``api.write_outputs``. Imported by ``main`` only after parsing.
+"""
 
 from __future__ import annotations
 
 import argparse
-import json
 import os
 import sys
+from collections.abc import Callable, Iterator
 from contextlib import contextmanager
 from pathlib import Path
+from typing import Any
 
+from bomcheck import api
+from bomcheck.cli.config import Config, load_config, merge
+from bomcheck.cli.options import SUBSTITUTE_CONDITIONS
 from bomcheck.errors import InputError
+from bomcheck.render import terminal
+from bomcheck.render.registry import Output, for_command
 
 EXIT_CLEAN, EXIT_FINDINGS = 0, 1
 
 
-def _console(args: argparse.Namespace, *, stderr: bool = False):
-    from bomcheck.render.terminal import make_console
+def run(args: argparse.Namespace) -> int:
+    """Run the command ``args.command`` (``run_<command>`` here) under the run's input limits."""
+    with api.use_limits(_limits(args)):
+        return globals()[f"run_{args.command.replace('-', '_')}"](args)
 
+
+def _limits(args: argparse.Namespace) -> api.Limits:
+    """The input limits of this run: the defaults with the options given."""
+    mb = getattr(args, "max_file_mb", None)
+    return api.Limits().with_options(
+        file_bytes=mb * api.MIB if mb else None, rows=getattr(args, "max_rows", None),
+        columns=getattr(args, "max_columns", None), cells=getattr(args, "max_cells", None),
+        placements=getattr(args, "max_placements", None),
+        include_hidden=getattr(args, "include_hidden", None) or None)
+
+
+def _console(args: argparse.Namespace, *, stderr: bool = False) -> Any:
+    """The terminal renderer's console on standard output (or error)."""
     stream = sys.stderr if stderr else sys.stdout
     # A terminal has its width (rich reads it, and COLUMNS); a pipe or a CI log gets 80.
     width = None if stream.isatty() or os.environ.get("COLUMNS") else 80
-    return make_console(file=stream, no_color=bool(os.environ.get("NO_COLOR")), width=width)
+    return terminal.make_console(file=stream, no_color=bool(os.environ.get("NO_COLOR")),
+                                 width=width)
 
 
-def _import_options(args: argparse.Namespace):
-    from bomcheck.parse.importer import ImportOptions
-
+def _import_options(args: argparse.Namespace) -> api.ImportOptions:
     columns: dict[str, str] = {}
     for item in args.columns:
         for pair in item.split(","):
@@ -39,127 +62,79 @@ def _import_options(args: argparse.Namespace):
     sheet = args.sheet
     if sheet is not None and sheet.isdigit():
         sheet = int(sheet)
-    return ImportOptions(sheet=sheet, encoding=args.encoding, columns=columns,
-                         column_map=args.column_map)
-
-
-def write_text_atomic(path: str, text) -> None:
-    """Write ``text`` (a string or an iterable of strings) to ``path`` atomically ('-' is
-    stdout); see ``bomcheck.render.outfiles``."""
-    from bomcheck.render.outfiles import write_text
-
-    write_text(path, text)
+    return api.ImportOptions(sheet=sheet, encoding=args.encoding, columns=columns,
+                             column_map=args.column_map)
 
 
 def run_parse(args: argparse.Namespace) -> int:
-    from bomcheck.parse.values import parse_value
-
-    specs = [parse_value(t) for t in args.text]
+    specs = [api.parse_value(t) for t in args.text]
     if args.json:
-        from bomcheck.render.textsafe import json_dumps
-
-        print(json_dumps([s.to_dict() for s in specs], indent=2))
+        print(api.json_text([s.to_dict() for s in specs]))
     else:
-        from bomcheck.render.terminal import print_specs
-
-        print_specs(_console(args), specs)
+        terminal.print_specs(_console(args), specs)
     return EXIT_CLEAN
 
 
 def run_import(args: argparse.Namespace) -> int:
-    from bomcheck.parse.importer import read_bom
-
-    result = read_bom(args.bom, _import_options(args))
+    result = api.import_file(args.bom, _import_options(args))
     if args.json:
-        from bomcheck.report.model import SPEC_FIELDS, _records
-
-        cols = ("refdes", "row", "fitted", "not_fitted_reason", "text", "value_text",
-                "description", "mpn", "manufacturer", "qty")
-        placements = [
-            {**base, **spec}
-            for base, spec in zip(_records(result.placements, cols),
-                                  _records(result.placements, SPEC_FIELDS))
-        ]
-        out = {
-            "source": result.source.to_dict(),
-            "placements": placements,
-            "skipped": _records(result.skipped, ("row", "kind", "reason", "text")),
-            "findings": [f.to_dict() for f in result.findings],
-            "totals": result.totals,
-        }
-        from bomcheck.render.textsafe import json_dumps
-
-        print(json_dumps(out, indent=2))
+        print(api.json_text(api.import_record(result)))
     else:
-        from bomcheck.render.terminal import print_import
-
-        print_import(_console(args), result, show_all=args.all)
+        terminal.print_import(_console(args), result, show_all=args.all)
     return EXIT_CLEAN
 
 
-def run_audit(args: argparse.Namespace) -> int:
-    from bomcheck.api import audit_files
-    from bomcheck.pipeline.audit import AuditOptions
-    from bomcheck.render.outfiles import output_lock
-    from bomcheck.render.registry import OutputContext
-    from bomcheck.report.model import status_at_least
+def _audit_options(args: argparse.Namespace) -> api.AuditOptions:
+    return api.AuditOptions(rules=tuple(args.rules), import_options=_import_options(args),
+                            design_sheet=args.design_sheet, waivers=args.waivers,
+                            today=args.today, parts=getattr(args, "parts", None),
+                            environment=args.environment,
+                            parts_override=getattr(args, "parts_override", False))
 
+
+def run_audit(args: argparse.Namespace) -> int:
     args = _with_config(args)
     if args.manifest is not None or args.bom is None:
         return _run_audit_manifest(args)
     outputs = _requested_outputs(args, "audit")
-    baseline = _read_report_json(args.baseline, "baseline") if args.baseline else None
+    baseline = api.read_report(args.baseline, "baseline") if args.baseline else None
     if args.fail_on == "new" and baseline is None:
         raise InputError("--fail-on new compares with a baseline, and none was given",
                          expected="--baseline OLD.json (or baseline in [tool.bomcheck])")
-    options = AuditOptions(rules=tuple(args.rules), import_options=_import_options(args),
-                           design_sheet=args.design_sheet, waivers=args.waivers,
-                           today=args.today, parts=getattr(args, "parts", None),
-                           environment=args.environment,
-                           parts_override=getattr(args, "parts_override", False))
     diff = None
     with _progress(args, 1 + len(outputs)) as stage:
         stage("audit: read, parse, evaluate")
-        report = audit_files(args.bom, args.design, options=options)
+        report = api.audit_files(args.bom, args.design, options=_audit_options(args))
         if baseline is not None:
-            from bomcheck.report.diff import compare, report_digest
-
             # Compared from the report's tables: the JSON report is only ever streamed.
-            diff = compare(baseline, report_digest(report), old_label=args.baseline,
-                           new_label=args.json or "this audit")
-        context = OutputContext(warn_as=args.warn_as, diff=diff, json_text=None)
-        with output_lock(path for _, path in outputs):
-            for output, path in outputs:
-                stage(f"write {output.name}: {path}")
-                output.load()(report, path, context)
+            diff = api.diff(baseline, report, old_label=args.baseline,
+                            new_label=args.json or "this audit")
+        api.write_outputs(report, [(o.name, path) for o, path in outputs], warn_as=args.warn_as,
+                          diff=diff, on_output=lambda name, path: stage(f"write {name}: {path}"))
     # Annotations share standard output with the terminal summary (CI logs read both).
     if all(path != "-" for o, path in outputs if o.kind == "file"):
-        from bomcheck.render.terminal import print_audit, print_diff, print_quiet
-
-        console = _console(args)
-        if args.quiet:
-            print_quiet(console, report)
-            if diff is not None:
-                from bomcheck.report.diff import summary_line
-
-                console.print("Baseline: " + summary_line(diff))
-        else:
-            print_audit(console, report, show_all=args.all)
-            if diff is not None:
-                print_diff(console, diff, show_all=args.all)
+        _print_audit(_console(args), args, report, diff)
     if args.fail_on == "new":
         return EXIT_FINDINGS if diff.new_problems else EXIT_CLEAN
-    return EXIT_FINDINGS if status_at_least(report.status, args.fail_on) else EXIT_CLEAN
+    return EXIT_FINDINGS if api.at_least(report.status, args.fail_on) else EXIT_CLEAN
+
+
+def _print_audit(console: Any, args: argparse.Namespace, report: api.Report,
+                 diff: api.Diff | None) -> None:
+    """The audit on the terminal: in full, or the counts with ``--quiet``; then the baseline."""
+    if args.quiet:
+        terminal.print_quiet(console, report)
+        if diff is not None:
+            console.print("Baseline: " + api.diff_summary(diff))
+    else:
+        terminal.print_audit(console, report, show_all=args.all)
+        if diff is not None:
+            terminal.print_diff(console, diff, show_all=args.all)
 
 
 def _run_audit_manifest(args: argparse.Namespace) -> int:
     """``audit --manifest``: every board on the worker pool, the combined outputs, a summary
     row per board; the exit status follows the worst board."""
-    from bomcheck import __version__
-    from bomcheck.pipeline import batch
-    from bomcheck.pipeline.audit import AuditOptions
-    from bomcheck.report.model import status_at_least
-
     if args.manifest is None or args.bom is not None:
         raise InputError("give either a BOM or --manifest", expected="bomcheck audit BOM "
                          "[--design SHEET] or bomcheck audit --manifest boards.toml")
@@ -171,27 +146,17 @@ def _run_audit_manifest(args: argparse.Namespace) -> int:
                          "--manifest", path=args.manifest, expected="design, parts and "
                          "waivers per board in the manifest; outputs --json, --markdown, --csv")
     outputs = [(o.name, path) for o, path in _requested_outputs(args, "audit")]
-    unsupported = [name for name, _ in outputs if name not in batch.COMBINERS]
-    if unsupported:
-        raise InputError(f"--{unsupported[0]} is not available with --manifest",
-                         path=args.manifest, expected="outputs " + ", ".join(
-                             f"--{k}" for k in batch.COMBINERS))
-    boards = batch.read_manifest(args.manifest)
-    base = AuditOptions(rules=tuple(args.rules), import_options=_import_options(args),
-                        today=args.today, environment=args.environment)
-    with batch.temporary_folder() as folder:
-        results = batch.run_batch(boards, base, tuple(k for k, _ in outputs), folder)
-        for kind, path in outputs:
-            write_text_atomic(path, batch.COMBINERS[kind](
-                results, *((__version__,) if kind == "json" else ())))
+    base = api.AuditOptions(rules=tuple(args.rules), import_options=_import_options(args),
+                            today=args.today, environment=args.environment)
+    results = api.audit_manifest(args.manifest, base, outputs)
     if all(path != "-" for _, path in outputs):
         _print_boards(_console(args), results)
-    return EXIT_FINDINGS if status_at_least(batch.worst(results), args.fail_on) else EXIT_CLEAN
+    return EXIT_FINDINGS if api.at_least(api.batch_status(results), args.fail_on) else EXIT_CLEAN
 
 
-def _print_boards(console, results) -> None:
+def _print_boards(console: Any, results: tuple[api.BoardResult, ...]) -> None:
     """The per-board summary table of a batch audit."""
-    from rich.table import Table
+    from rich.table import Table  # rich only when a table is printed
 
     table = Table(title="bomcheck batch audit", title_justify="left")
     for name in ("product", "status", "audited", "pass", "warn", "nodata", "fail"):
@@ -204,22 +169,19 @@ def _print_boards(console, results) -> None:
 
 
 def run_where_used(args: argparse.Namespace) -> int:
-    from bomcheck.report.whereused import uses_csv, where_used
-
-    uses = where_used(_read_report_json(args.report, "audit"), args.mpn)
+    uses = api.where_used(api.read_report(args.report, "audit"), args.mpn)
     if args.json:
-        write_text_atomic(args.json, json.dumps([u.to_dict() for u in uses], ensure_ascii=False,
-                                                indent=2, allow_nan=False) + "\n")
+        api.write_text(args.json, api.json_text([u.to_dict() for u in uses]) + "\n")
     if args.csv:
-        write_text_atomic(args.csv, uses_csv(uses))
+        api.write_text(args.csv, api.uses_csv(uses))
     if "-" not in (args.json, args.csv):
         _print_uses(_console(args), args.mpn, uses)
     return EXIT_CLEAN if uses else EXIT_FINDINGS
 
 
-def _print_uses(console, mpn: str, uses) -> None:
+def _print_uses(console: Any, mpn: str, uses: tuple[api.Use, ...]) -> None:
     """The where-used list as a terminal table."""
-    from rich.table import Table
+    from rich.table import Table  # rich only when a table is printed
 
     if not uses:
         console.print(f"{mpn}: not placed in this report")
@@ -244,8 +206,6 @@ LARGE_XLSX_BYTES = 2_000_000  # about as many rows of a typical BOM export
 
 def _with_config(args: argparse.Namespace) -> argparse.Namespace:
     """Options the command line left unset, from [tool.bomcheck] (unless --no-config)."""
-    from bomcheck.cli.config import Config, load_config, merge
-
     merge(args, Config() if args.no_config else load_config())
     args.fail_on = args.fail_on or "nodata"  # no data never passes, at the exit status too
     args.environment = getattr(args, "environment", None) or "severe"
@@ -253,11 +213,9 @@ def _with_config(args: argparse.Namespace) -> argparse.Namespace:
     return args
 
 
-def _requested_outputs(args: argparse.Namespace, command: str) -> list:
+def _requested_outputs(args: argparse.Namespace, command: str) -> list[tuple[Output, str]]:
     """(Output, path) of each output asked for, in registry order; at most one may use
     standard output (a flag output such as --annotations always does, as path '-')."""
-    from bomcheck.render.registry import for_command
-
     outputs = []
     for output in for_command(command):
         value = getattr(args, output.name, None)
@@ -297,7 +255,7 @@ def _large_bom(path: str) -> bool:
 
 
 @contextmanager
-def _progress(args: argparse.Namespace, stages: int):
+def _progress(args: argparse.Namespace, stages: int) -> Iterator[Callable[[str], None]]:
     """A stage callback; it drives a rich progress bar on standard error only when that is an
     interactive terminal, the run is not --quiet and the BOM is large."""
     if args.quiet or not sys.stderr.isatty() or not _large_bom(args.bom):
@@ -322,65 +280,30 @@ def _progress(args: argparse.Namespace, stages: int):
         bar.update(task, completed=stages)
 
 
-def _read_report_json(path: str, role: str) -> dict:
-    """A JSON report written by ``bomcheck audit --json``, parsed."""
-    from bomcheck.read.reader import read_bytes
-
-    try:  # a regular file within the size limit, like every input
-        text = read_bytes(path, f"{role} report").decode("utf-8")
-    except UnicodeDecodeError:
-        raise InputError(f"cannot read the {role} report: not UTF-8 text", path=path) from None
-    try:
-        data = json.loads(text)
-    except json.JSONDecodeError as exc:
-        raise InputError(f"the {role} report is not JSON ({exc.msg})", path=path, row=exc.lineno,
-                         expected="the output of bomcheck audit --json") from None
-    if not isinstance(data, dict) or not (isinstance(data.get("placements"), list)
-                                          or isinstance(data.get("boards"), list)):
-        raise InputError(f"the {role} report is not a bomcheck JSON report", path=path,
-                         expected="the output of bomcheck audit --json")
-    return data
-
-
 def run_diff(args: argparse.Namespace) -> int:
-    from bomcheck.report.diff import compare, diff_markdown
-
-    old = _read_report_json(args.old, "old")
-    new = _read_report_json(args.new, "new")
-    diff = compare(old, new, old_label=args.old, new_label=args.new)
+    old = api.read_report(args.old, "old")
+    new = api.read_report(args.new, "new")
+    diff = api.diff(old, new, old_label=args.old, new_label=args.new)
     if args.json:
-        from bomcheck.render.textsafe import json_dumps
-
-        write_text_atomic(args.json, json_dumps(diff.to_dict(), indent=2) + "\n")
+        api.write_text(args.json, api.json_text(diff.to_dict()) + "\n")
     if args.markdown:
-        write_text_atomic(args.markdown, diff_markdown(diff))
+        api.write_text(args.markdown, api.diff_markdown(diff))
     if "-" not in (args.json, args.markdown):
-        from bomcheck.render.terminal import print_diff
-
-        print_diff(_console(args), diff, show_all=args.all)
+        terminal.print_diff(_console(args), diff, show_all=args.all)
     return EXIT_FINDINGS if args.fail_on == "new" and diff.new_problems else EXIT_CLEAN
 
 
 def run_rules(args: argparse.Namespace) -> int:
-    from bomcheck.evaluate import rules
-    from bomcheck.render.terminal import print_rules, print_ruleset_names
-
     console = _console(args)
     if not args.name:
-        print_ruleset_names(console, rules.shipped_names(), rules.DEFAULT_RULESET)
+        terminal.print_ruleset_names(console, api.ruleset_names(), api.DEFAULT_RULESET)
         return EXIT_CLEAN
-    print_rules(console, rules.load_rules(tuple(args.name)))
+    terminal.print_rules(console, api.rules(tuple(args.name)))
     return EXIT_CLEAN
 
 
-def _substitute_request(args: argparse.Namespace):
-    """(alternates, inline conditions) of ``substitute``, the usage checked."""
-    from bomcheck.cli.main import SUBSTITUTE_CONDITIONS
-    from bomcheck.substitute import Alternate, read_alternates
-
-    conditions = {name: getattr(args, flag.lstrip("-").replace("-", "_"))
-                  for flag, name, _ in SUBSTITUTE_CONDITIONS
-                  if getattr(args, flag.lstrip("-").replace("-", "_")) is not None}
+def _check_substitute_usage(args: argparse.Namespace, conditions: dict[str, str]) -> None:
+    """The forms of ``substitute``: a BOM with alternates, or the direct form."""
     direct = args.original is not None
     if direct and not (args.proposed or args.proposed_mpn):
         raise InputError("--original needs the alternate", expected="--proposed TEXT and/or "
@@ -404,43 +327,40 @@ def _substitute_request(args: argparse.Namespace):
             raise InputError("inline conditions and --refdes are for the direct form without "
                              "a BOM", expected="the BOM's placements and the design sheet "
                              "(name placements with --original C12)")
-    alternates = list(read_alternates(args.alternates)) if args.alternates else []
-    if direct:
+
+
+def _substitute_request(args: argparse.Namespace) -> tuple[list[api.Alternate], dict[str, str]]:
+    """(alternates, inline conditions) of ``substitute``, the usage checked."""
+    conditions = {name: getattr(args, flag.lstrip("-").replace("-", "_"))
+                  for flag, name, _ in SUBSTITUTE_CONDITIONS
+                  if getattr(args, flag.lstrip("-").replace("-", "_")) is not None}
+    _check_substitute_usage(args, conditions)
+    alternates = list(api.read_alternates(args.alternates)) if args.alternates else []
+    if args.original is not None:
         cells = {"description": args.proposed} if args.proposed else {}
-        alternates.append(Alternate(original=args.original, mpn=args.proposed_mpn or "",
-                                    cells=cells, footprint_checked=args.footprint_checked,
-                                    path="command line"))
+        alternates.append(api.Alternate(original=args.original, mpn=args.proposed_mpn or "",
+                                        cells=cells, footprint_checked=args.footprint_checked,
+                                        path="command line"))
     return alternates, conditions
 
 
 def run_substitute(args: argparse.Namespace) -> int:
-    from bomcheck.substitute import SubstituteOptions, run_direct, run_substitute
-
     outputs = _requested_outputs(args, "substitute")
     alternates, conditions = _substitute_request(args)
-    options = SubstituteOptions(
+    options = api.SubstituteOptions(
         rules=tuple(args.rules), import_options=_import_options(args),
         design_sheet=args.design_sheet, parts=args.parts, margin_drop_pp=args.margin_drop,
         temp_margin_drop_c=args.temp_margin_drop,
         environment=getattr(args, "environment", None) or "severe",
         parts_override=getattr(args, "parts_override", False))
     if args.bom is None:
-        from bomcheck.parse.refdes import expand
-
-        refdes = [r for item in args.refdes for r in expand(item)]
-        result = run_direct(args.original, alternates, args.design, refdes, conditions, options)
+        result = api.substitute_direct(args.original, alternates, design=args.design,
+                                       refdes=args.refdes, conditions=conditions,
+                                       options=options)
     else:
-        result = run_substitute(args.bom, args.design, alternates, options,
-                                alternates_path=args.alternates)
-    from bomcheck.render.outfiles import output_lock
-    from bomcheck.render.registry import OutputContext
-
-    context = OutputContext(substitutes=result)
-    with output_lock(path for _, path in outputs):
-        for output, path in outputs:
-            output.load()(None, path, context)
+        result = api.substitute_files(args.bom, args.design, alternates, options=options,
+                                      alternates_path=args.alternates)
+    api.write_outputs(result, [(o.name, path) for o, path in outputs])
     if all(path != "-" for _, path in outputs):
-        from bomcheck.render.terminal import print_substitutes
-
-        print_substitutes(_console(args), result, show_all=args.all)
+        terminal.print_substitutes(_console(args), result, show_all=args.all)
     return EXIT_FINDINGS if result.rejected else EXIT_CLEAN

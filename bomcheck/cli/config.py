@@ -44,6 +44,7 @@ from pathlib import Path
 from typing import Any
 
 from bomcheck.errors import InputError
+from bomcheck.read.reader import read_bytes
 from bomcheck.render.registry import file_outputs, flag_outputs
 
 CHOICES: dict[str, tuple[str, ...]] = {
@@ -79,8 +80,6 @@ def find_pyproject(start: str | Path | None = None) -> Path | None:
 
 def _tool_table(path: Path) -> dict:
     try:
-        from bomcheck.read.reader import read_bytes
-
         text = read_bytes(str(path), "pyproject.toml").decode("utf-8")
         if "bomcheck" not in text:  # skip parsing the many pyproject files that cannot have it
             return {}

@@ -77,10 +77,6 @@ def find_layout(cells: dict[str, np.ndarray], n: int, repeated: np.ndarray,
     ``looks_like_capacitor`` tells whether a row's value and description text read as a
     capacitor (called once per distinct text of the few rows concerned).
     """
-    def blank(f: str, idx: np.ndarray) -> np.ndarray:
-        c = cells.get(f)
-        return np.ones(len(idx), dtype=bool) if c is None else c[idx] == ""
-
     no_ref = (cells["refdes"] == "") & ~repeated
     has_level = "level" in cells
     if not has_level and not no_ref.any():
@@ -91,10 +87,33 @@ def find_layout(cells: dict[str, np.ndarray], n: int, repeated: np.ndarray,
         parsed = np.array([-1 if (lv := parse_level(str(u))) is None else lv for u in uniq],
                           dtype=np.int64)
         levels = parsed[codes]
+    approved, parent, source_index = _approved_sources(cells, n, repeated, no_ref,
+                                                       levels if has_level else None)
+    reason = np.full(n, None, dtype=object)
+    if approved.any():
+        reason[approved] = "approved source of the line above"
+    structure = np.zeros(n, dtype=bool)
+    placement_levels: tuple[int, ...] = ()
+    if has_level:
+        structure, placement_levels = _structure_rows(cells, repeated, no_ref, approved, levels,
+                                                      looks_like_capacitor, reason)
+    if not (approved.any() or structure.any()):
+        return None
+    return Layout(approved, structure, parent, source_index, reason, placement_levels)
 
-    # Approved sources: no designator, no quantity, no value, no internal part number, and a
-    # manufacturer or an MPN; the level, when given, empty or the parent's. Only the rows
-    # without a designator are looked at (few in a flat export).
+
+def _approved_sources(cells: dict[str, np.ndarray], n: int, repeated: np.ndarray,
+                      no_ref: np.ndarray, levels: np.ndarray | None
+                      ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """(approved source?, parent row, source number) per row.
+
+    Approved sources: no designator, no quantity, no value, no internal part number, and a
+    manufacturer or an MPN; the level, when given, empty or the parent's. Only the rows
+    without a designator are looked at (few in a flat export)."""
+    def blank(f: str, idx: np.ndarray) -> np.ndarray:
+        c = cells.get(f)
+        return np.ones(len(idx), dtype=bool) if c is None else c[idx] == ""
+
     rows = np.flatnonzero(no_ref)
     rows = rows[blank("qty", rows) & blank("value", rows) & blank("ipn", rows)
                 & ~(blank("mpn", rows) & blank("manufacturer", rows))]
@@ -109,7 +128,7 @@ def find_layout(cells: dict[str, np.ndarray], n: int, repeated: np.ndarray,
         nearest = np.maximum.accumulate(idx)
         ok = candidate & (nearest >= 0)
         ok &= ~repeated[np.maximum(nearest, 0)]
-        if has_level:
+        if levels is not None:
             above = levels[np.maximum(nearest, 0)]
             ok &= (levels == -1) | (levels == above)
         approved = ok
@@ -117,38 +136,39 @@ def find_layout(cells: dict[str, np.ndarray], n: int, repeated: np.ndarray,
         if approved.any():
             run = pd.Series(np.where(approved, parent, -1))
             source_index[approved] = (run.groupby(run).cumcount() + 1).to_numpy()[approved]
+    return approved, parent, source_index
 
-    reason = np.full(n, None, dtype=object)
-    if approved.any():
-        reason[approved] = "approved source of the line above"
-    structure = np.zeros(n, dtype=bool)
-    placement_levels: tuple[int, ...] = ()
-    if has_level:
-        with_des = np.unique(levels[~no_ref & ~repeated & (levels >= 0)])
-        placement_levels = tuple(int(v) for v in with_des)
-        structure = no_ref & ~approved & (levels >= 0)
-        other_level = ~np.isin(levels, with_des)
-        same = np.flatnonzero(structure & ~other_level)
-        if len(same):
-            # At a placement level: not a placement unless the text reads as a capacitor.
-            empty = np.full(n, "", dtype=object)
-            text = [f"{v} {d}" for v, d in zip(cells.get("value", empty)[same],
-                                               cells.get("description", empty)[same])]
-            verdict = {t: looks_like_capacitor(t) for t in set(text)}
-            cap = np.array([verdict[t] for t in text], dtype=bool)
-            structure[same[cap]] = False
-        if structure.any():
-            where = ", ".join(str(v) for v in placement_levels) or "none"
-            for lv in np.unique(levels[structure]):
-                at = structure & (levels == lv)
-                if lv in with_des:
-                    reason[at] = (f"level {int(lv)} row without designators and without "
-                                  "capacitor text: a material or assembly row of a multi-level "
-                                  "BOM, not a placement")
-                else:
-                    reason[at] = (f"level {int(lv)} row without designators: an assembly or "
-                                  "material row of a multi-level BOM, not a placement "
-                                  f"(designators are on level {where})")
-    if not (approved.any() or structure.any()):
-        return None
-    return Layout(approved, structure, parent, source_index, reason, placement_levels)
+
+def _structure_rows(cells: dict[str, np.ndarray], repeated: np.ndarray, no_ref: np.ndarray,
+                    approved: np.ndarray, levels: np.ndarray,
+                    looks_like_capacitor: Callable[[str], bool], reason: np.ndarray
+                    ) -> tuple[np.ndarray, tuple[int, ...]]:
+    """(structure row?, the levels that carry designators) of a multi-level BOM; the reasons
+    of the structure rows are written into ``reason``."""
+    n = len(levels)
+    with_des = np.unique(levels[~no_ref & ~repeated & (levels >= 0)])
+    placement_levels = tuple(int(v) for v in with_des)
+    structure = no_ref & ~approved & (levels >= 0)
+    other_level = ~np.isin(levels, with_des)
+    same = np.flatnonzero(structure & ~other_level)
+    if len(same):
+        # At a placement level: not a placement unless the text reads as a capacitor.
+        empty = np.full(n, "", dtype=object)
+        text = [f"{v} {d}" for v, d in zip(cells.get("value", empty)[same],
+                                           cells.get("description", empty)[same])]
+        verdict = {t: looks_like_capacitor(t) for t in set(text)}
+        cap = np.array([verdict[t] for t in text], dtype=bool)
+        structure[same[cap]] = False
+    if structure.any():
+        where = ", ".join(str(v) for v in placement_levels) or "none"
+        for lv in np.unique(levels[structure]):
+            at = structure & (levels == lv)
+            if lv in with_des:
+                reason[at] = (f"level {int(lv)} row without designators and without "
+                              "capacitor text: a material or assembly row of a multi-level "
+                              "BOM, not a placement")
+            else:
+                reason[at] = (f"level {int(lv)} row without designators: an assembly or "
+                              "material row of a multi-level BOM, not a placement "
+                              f"(designators are on level {where})")
+    return structure, placement_levels

@@ -13,7 +13,6 @@ import dataclasses
 import io
 import tempfile
 from collections.abc import Iterator
-from concurrent.futures import ProcessPoolExecutor
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -175,6 +174,8 @@ def run_batch(boards: tuple[Board, ...], base, kinds: tuple[str, ...], folder: s
     if workers <= 1 or len(boards) == 1:
         results = [audit_board(*job) for job in jobs]
     else:
+        from concurrent.futures import ProcessPoolExecutor  # multiprocessing: only for a pool
+
         with ProcessPoolExecutor(max_workers=min(workers, len(boards))) as pool:
             results = list(pool.map(audit_board, *zip(*jobs)))
     for r in results:

@@ -1,0 +1,105 @@
+"""Normalise stage: the capacitor lines expanded to one row per placement (columns taken by
+code from the distinct combinations of cells), and the findings on placements."""
+
+from __future__ import annotations
+
+import operator
+from typing import Any
+
+import numpy as np
+import pandas as pd
+
+from bomcheck.parse.bomresult import PLACEMENT_COLUMNS, ImportFinding, finding
+from bomcheck.parse.designators import Designators
+from bomcheck.parse.linespec import FLOAT_SPEC, SPEC_COLUMNS, Combo
+
+def placements_of(cap_idx: np.ndarray, des: Designators, line: dict[str, np.ndarray],
+                head_rows: np.ndarray, fitted: np.ndarray, nf_reason: np.ndarray,
+                qty: np.ndarray, combos: list[Combo], combo_code: np.ndarray) -> pd.DataFrame:
+    counts = des.count[cap_idx]
+    total = int(counts.sum())
+    line_of = np.repeat(cap_idx, counts)
+    if not des.lists:
+        refdes = des.single[cap_idx]
+    else:
+        refdes = np.empty(total, dtype=object)
+        starts = np.cumsum(counts) - counts
+        single = counts == 1
+        refdes[starts[single]] = des.single[cap_idx[single]]
+        for pos, k, li in zip(starts[~single], counts[~single], cap_idx[~single]):
+            refdes[pos:pos + k] = des.lists[int(li)]
+    cc = combo_code[line_of]
+    data: dict[str, Any] = {
+        "refdes": refdes,
+        "row": head_rows[line_of],
+        "line": line_of.astype(np.int64),
+        "fitted": fitted[line_of],
+        "not_fitted_reason": nf_reason[line_of],
+        "mpn": line["mpn"][line_of],
+        "manufacturer": line["manufacturer"][line_of],
+        "qty": qty[line_of],
+    }
+    # Per-combination values as two blocks (floats, objects), each taken by code in one step.
+    obj_cols = ["text", "value_text", "description",
+                *(k for k in SPEC_COLUMNS if k not in FLOAT_SPEC and k != "is_capacitor")]
+    n_c = len(combos)
+    obj_block = np.empty((n_c, len(obj_cols)), dtype=object)
+    for j, k in enumerate(obj_cols):
+        # fromiter keeps a tuple (warnings) as one object, not a sequence to spread.
+        obj_block[:, j] = np.fromiter(
+            (getattr(c, k) for c in combos) if j < 3 else (c.spec[k] for c in combos),
+            dtype=object, count=n_c)
+    get_floats = operator.itemgetter(*FLOAT_SPEC)
+    float_block = np.array([get_floats(c.spec) for c in combos], dtype=float)  # None -> NaN
+    if not combos:
+        float_block = float_block.reshape(0, len(FLOAT_SPEC))
+    obj_taken = obj_block.take(cc, axis=0)
+    float_taken = float_block.take(cc, axis=0)
+    for j, k in enumerate(obj_cols):
+        data[k] = obj_taken[:, j]
+    for j, k in enumerate(FLOAT_SPEC):
+        data[k] = float_taken[:, j]
+    data["is_capacitor"] = np.array([bool(c.spec["is_capacitor"]) for c in combos],
+                                    dtype=bool)[cc] if combos else np.zeros(0, dtype=bool)
+    series = {k: pd.Series(data[k], dtype=object if data[k].dtype == object else None,
+                           copy=False) for k in PLACEMENT_COLUMNS}
+    return pd.DataFrame(series, columns=list(PLACEMENT_COLUMNS), copy=False)
+
+
+def placement_findings(placements: pd.DataFrame, combos: list[Combo],
+                        combo_code: np.ndarray) -> list[ImportFinding]:
+    """Column conflicts on fitted placements, and designators listed more than once."""
+    out: list[ImportFinding] = []
+    if not len(placements):
+        return out
+    line_of = placements["line"].to_numpy()
+    cc = combo_code[line_of]
+    has_conflict = np.array([bool(c.conflicts) for c in combos], dtype=bool)[cc]
+    fitted = placements["fitted"].to_numpy()
+    refdes = placements["refdes"].to_numpy(dtype=object)
+    rows = placements["row"].to_numpy()
+    for p in np.flatnonzero(has_conflict & fitted):
+        for code, msg in combos[cc[p]].conflicts:
+            out.append(finding(int(rows[p]), str(refdes[p]), code, msg))
+    # A fitted capacitor with no capacitance read (common practice: every capacitor line states
+    # its capacitance; the checks that need it have no data).
+    # A value cell with text gives capacitance_unread (the data is there but was not
+    # understood), none capacitance_missing.
+    no_cap = np.array([c.spec["capacitance_f"] is None for c in combos], dtype=bool)[cc]
+    for p in np.flatnonzero(no_cap & fitted):
+        combo = combos[cc[p]]
+        code = "capacitance_unread" if combo.value_text else "capacitance_missing"
+        out.append(finding(int(rows[p]), str(refdes[p]), code,
+                            f"no capacitance could be read from the BOM text ({combo.text!r}); "
+                            "checks that need it have no data"))
+    if len(set(refdes)) < len(refdes):
+        dup = pd.Series(refdes).duplicated(keep="first").to_numpy()
+        first_row = pd.Series(rows).groupby(refdes).transform("first").to_numpy()
+        for p in np.flatnonzero(dup):
+            out.append(finding(
+                int(rows[p]), str(refdes[p]), "duplicate_refdes",
+                f"{refdes[p]} is also listed on row {first_row[p]}; each designator should "
+                "appear once",
+            ))
+    return out
+
