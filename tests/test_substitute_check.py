@@ -6,7 +6,9 @@ from substitute_boards import board  # noqa: F401 (a fixture)
 from substitute_boards import SAMPLE_DESIGN, alt, by_refdes, check, rules_of, sample_result
 
 from bomcheck.cli.main import main
-from bomcheck.substitute import Alternate, run_direct
+from bomcheck.parse.design import read_design
+from bomcheck.parse.importer import read_bom
+from bomcheck.substitute import Alternate, run_direct, run_substitute, substitute_inputs
 
 
 def test_x5r_for_x7r_in_a_95_degc_placement_is_rejected(board):
@@ -71,6 +73,16 @@ def test_sample_alternates_show_every_verdict():
     result = sample_result()
     assert {r.verdict for r in result.results} == {"drop-in", "review", "rejected"}
     assert result.rejected and result.status == "rejected"
+
+
+def test_inputs_already_read_give_what_the_files_give(board):
+    # The pure call on read values is the one the file call makes: same verdicts, same inputs.
+    bom, design = board
+    alternates = [alt("C3", "CAP CER 10NF 100V 10% X5R 0603"),
+                  alt("C5", "CAP CER 100PF 50V 5% C0G 0402")]
+    pure = substitute_inputs(read_bom(bom), read_design(design), None, alternates)
+    assert pure.to_json() == run_substitute(bom, design, alternates).to_json()
+    assert [r.verdict for r in pure.results] == ["rejected", "drop-in"]
 
 
 # --- direct form ------------------------------------------------------------------------------

@@ -13,7 +13,12 @@ from bomcheck.substitute.alternates import (
     alternates_from_toml,
     read_alternates,
 )
-from bomcheck.substitute.check import check_alternates, run_direct, run_substitute
+from bomcheck.substitute.check import (
+    check_alternates,
+    run_direct,
+    run_substitute,
+    substitute_inputs,
+)
 from bomcheck.substitute.result import (
     Alternate,
     AlternateResult,
@@ -25,5 +30,5 @@ from bomcheck.substitute.words import designator_list
 __all__ = [
     "Alternate", "AlternateResult", "SubstituteOptions", "SubstituteResult",
     "alternates_from_records", "alternates_from_toml", "check_alternates", "designator_list",
-    "read_alternates", "run_direct", "run_substitute",
+    "read_alternates", "run_direct", "run_substitute", "substitute_inputs",
 ]

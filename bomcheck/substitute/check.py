@@ -204,11 +204,38 @@ def run_substitute(bom_path: str, design_path: str | None, alternates: Sequence[
     if alternates_path:
         inputs.append({"role": "alternates", "path": str(alternates_path),
                        "sha256": read_input(str(alternates_path), "alternates file")[1]})
-    placements = imported.placements
+    results = _check_placements(imported.placements, design, stages, alternates, options)
+    return _result(stages.ruleset, inputs, results, options)
+
+
+def _check_placements(placements: pd.DataFrame, design: Any, stages: Stages,
+                      alternates: Sequence[Alternate], options: SubstituteOptions
+                      ) -> tuple[AlternateResult, ...]:
+    """Each alternate checked in the placements of its original (found among ``placements``)
+    under the design sheet's conditions."""
     requests = [(alt, *match_original(alt, placements)) for alt in alternates]
     base = placement_table(placements, design)
-    results = check_alternates(base, placements, requests, stages, options)
-    return _result(stages.ruleset, inputs, results, options)
+    return check_alternates(base, placements, requests, stages, options)
+
+
+def substitute_inputs(imported: Any, design: Any = None, part_data: Any = None,
+                      alternates: Sequence[Alternate] = (),
+                      options: SubstituteOptions = SubstituteOptions()) -> SubstituteResult:
+    """The substitute check on inputs already read (as ``audit.audit_inputs`` takes them): an
+    ``importer.ImportResult``, a ``design.Design`` (or None: no operating conditions) and a
+    ``parts.PartsData`` (or None). Pure: reads no file (the rule sets are loaded by name or path
+    from ``options``); the inputs are named by the paths the values carry."""
+    ruleset = load_ruleset(options.rules, options.environment)
+    stages = Stages.for_ruleset(ruleset, parts=part_data,
+                                groups=design.groups if design is not None else None)
+    inputs = [{"role": "bom", "path": str(imported.source.path),
+               "sha256": imported.source.sha256}]
+    if design is not None:
+        inputs.append({"role": "design", "path": str(design.path), "sha256": design.sha256})
+    if part_data is not None:
+        inputs.append({"role": "parts", "path": str(part_data.path), "sha256": part_data.sha256})
+    results = _check_placements(imported.placements, design, stages, alternates, options)
+    return _result(ruleset, inputs, results, options)
 
 
 def _with_inline_conditions(base: pd.DataFrame, refdes: list[str],
