@@ -34,11 +34,13 @@ from bomcheck.read.limits import MIB, Limits, use_limits
 from bomcheck.read.reader import read_bytes
 from bomcheck.render.outfiles import output_lock, write_text
 from bomcheck.render.registry import OUTPUTS, OutputContext
-from bomcheck.render.textsafe import json_dumps
+from bomcheck.render.csvrows import uses_csv
+from bomcheck.render.markdown import diff_markdown as _diff_markdown
+from bomcheck.report.jsontext import json_dumps
 from bomcheck.report import diff as _diff
 from bomcheck.report.diff import Diff
 from bomcheck.report.model import SPEC_FIELDS, Report, _records
-from bomcheck.report.whereused import Use, uses_csv, where_used
+from bomcheck.report.whereused import Use, where_used
 from bomcheck.spec import CapSpec
 from bomcheck.status import at_least, worst
 from bomcheck.substitute import check as _sub
@@ -258,7 +260,7 @@ def diff_summary(comparison: Diff) -> str:
 
 def diff_markdown(comparison: Diff) -> str:
     """A comparison as Markdown (for a pull-request comment)."""
-    return _diff.diff_markdown(comparison)
+    return _diff_markdown(comparison)
 
 
 # --------------------------------------------------------------------------------------------

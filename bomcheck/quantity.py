@@ -1,11 +1,14 @@
 """The one quantity formatter: SI numbers as an engineer reads them (prefixed farads, percentages,
-just enough digits to show that a limit is broken), used by every verdict message and output."""
+just enough digits to show that a limit is broken), used by every verdict message and output;
+``format_metric`` shows a verdict's figure in its metric's display unit (``vocabulary.METRICS``)."""
 
 from __future__ import annotations
 
 import math
 from collections.abc import Callable
+from typing import Any
 
+from bomcheck.vocabulary import METRICS
 
 
 def format_number(x: float, digits: int = 4) -> str:
@@ -58,3 +61,43 @@ def visible_pair(value: float, limit: float, unit: str, percent: bool, beyond: C
 
 def _rounded(x: float, digits: int) -> float:
     return float(f"{x:.{digits}g}") if x == x and x not in (math.inf, -math.inf) else x
+
+
+_PREFIXES = ((1e-12, "p"), (1e-9, "n"), (1e-6, "u"), (1e-3, "m"), (1.0, ""), (1e3, "k"),
+             (1e6, "M"))
+
+
+def is_missing(value: Any) -> bool:
+    """True for None, NaN and pandas' NA (a figure or text a table does not have)."""
+    if value is None:
+        return True
+    try:
+        return bool(value != value)
+    except (TypeError, ValueError):  # pandas.NA refuses a truth value
+        return True
+
+
+def format_si(value: Any, unit: str) -> str:
+    """A number with an SI prefix and unit, 4 significant digits: 4.7e-06, "F" -> "4.7 uF",
+    38056.68, "ohm" -> "38.06 kohm"; "" for a missing value."""
+    if is_missing(value):
+        return ""
+    if value == 0:
+        return f"0 {unit}"
+    scale, prefix = _PREFIXES[0]
+    for s, p in _PREFIXES:
+        if abs(value) >= s * 0.9999999:
+            scale, prefix = s, p
+    return f"{value / scale:.4g} {prefix}{unit}"
+
+
+def format_metric(value: Any, metric: Any, *, glyphs: bool = False) -> str:
+    """A verdict's value or limit in its metric's display unit ("87.2 %", "-10 degC"), "" for
+    a missing value, the bare number for an unknown metric. ``glyphs`` writes degC as °C (the
+    terminal and the HTML page; the text files keep ASCII units)."""
+    if is_missing(value):
+        return ""
+    m = METRICS.get(metric) if isinstance(metric, str) else None
+    text = (format_number(float(value)) if m is None
+            else format_quantity(float(value), m.unit, m.percent))
+    return text.replace("degC", "°C") if glyphs else text

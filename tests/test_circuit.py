@@ -1,280 +1,24 @@
-"""Circuit-level stresses: the worked examples of the reference sheet, the stage on small tables,
-and the sample board's series stack, bank and bleeder end to end."""
+"""Tests of bomcheck.stress.circuit: the registry of circuit stresses and the stage end to end on
+the sample board (series stack, bank, bleeder, parts data, JSON keys)."""
 
 import json
 import math
 from importlib import resources
 from pathlib import Path
-from types import MappingProxyType
 
 import jsonschema
-import numpy as np
 import pandas as pd
 import pytest
+from circuitcases import DATA, electrolytic, group, run
 
-from bomcheck.stress import circuit
 from bomcheck.pipeline.audit import AuditOptions, run_audit
-from bomcheck.parse.design import Group
-from bomcheck.evaluate.rules import load_rules
-from bomcheck.stress.placement import StressData, compute
-from bomcheck.parse.units import to_si
+from bomcheck.stress import circuit
+from bomcheck.stress.placement import compute
 
 ROOT = Path(__file__).resolve().parents[1]
 BOM = ROOT / "sample_boms" / "bw7-controller-bom.csv"
 DESIGN = ROOT / "sample_boms" / "bw7-design.csv"
 PARTS = ROOT / "sample_boms" / "bw7-parts.csv"
-
-
-# --- formulas: reference sheet section 4 (derived from the textbook formulas) -----------------
-
-
-@pytest.mark.parametrize("c_f, v, energy, charge", [
-    # Reference sheet section 4: 470 uF at 35 V: 0.287875 J, 16.45 mC.
-    pytest.param(470e-6, 35.0, 0.287875, 16.45e-3, id="470uF-35V"),
-    # Reference sheet section 4: 220 uF at 400 V: 17.6 J.
-    pytest.param(220e-6, 400.0, 17.6, 88e-3, id="220uF-400V"),
-    # Reference sheet section 4: 0.1 uF at 450 V: 10.125 mJ, 45 uC.
-    pytest.param(0.1e-6, 450.0, 10.125e-3, 45e-6, id="100nF-450V"),
-])
-def test_stored_energy_and_charge(c_f, v, energy, charge):
-    assert circuit.energy_j(c_f, v) == pytest.approx(energy, rel=1e-12)
-    assert circuit.charge_c(c_f, v) == pytest.approx(charge, rel=1e-12)
-
-
-def test_series_and_parallel_combination():
-    # Reference sheet section 4: 10 uF + 22 uF in series: 6.875 uF; in parallel the sum.
-    assert circuit.series_f([10e-6, 22e-6]) == pytest.approx(6.875e-6, rel=1e-12)
-    assert circuit.parallel_f([10e-6, 22e-6]) == pytest.approx(32e-6, rel=1e-12)
-    # Reference sheet section 4: 10 uF + 22 uF on 50 V: 34.375 V and 15.625 V.
-    assert circuit.series_share(50.0, [10e-6, 22e-6]) == pytest.approx([34.375, 15.625])
-
-
-@pytest.mark.parametrize("tol, worst", [
-    # Reference sheet section 4: 2 x 100 uF +/-20 % on 400 V: worst 240 V on one (nominal 200 V).
-    pytest.param(20.0, 240.0, id="20pct"),
-    # Reference sheet section 4: +/-10 %: 220 V.
-    pytest.param(10.0, 220.0, id="10pct"),
-])
-def test_series_capacitive_share_worst_case(tol, worst):
-    v = circuit.series_share_worst_cap(400.0, [100e-6, 100e-6], [tol, tol], [tol, tol])
-    assert v == pytest.approx([worst, worst], rel=1e-12)
-    assert circuit.series_share(400.0, [100e-6, 100e-6]) == pytest.approx([200.0, 200.0])
-
-
-def test_series_dc_share_from_balancing_resistors():
-    # Reference sheet section 4: 2 x 100 kohm +/-1 % on 400 V: worst 202.0 V.
-    v = circuit.series_share_worst_dc(400.0, [100e3, 100e3], 1.0)
-    assert v == pytest.approx([202.0, 202.0], rel=1e-12)
-    # Leakage through the other member's side raises the share (arithmetic of the divider
-    # model: 101k x (400 V + 99k x 0.5 mA) / 200k = 227.0 V).
-    v = circuit.series_share_worst_dc(400.0, [100e3, 100e3], 1.0, [0.5e-3, 0.5e-3])
-    assert v == pytest.approx([101e3 * (400 + 99e3 * 0.5e-3) / 200e3] * 2, rel=1e-12)
-
-
-def test_discharge_resistance_and_time():
-    # Reference sheet section 4: V0 = 325.27 V (230 V rms peak), 1 uF, 60 V within 5 s:
-    # R at most 2.958 Mohm.
-    r = circuit.discharge_r_max(5.0, 1e-6, 325.27, 60.0)
-    assert r == pytest.approx(2.958e6, rel=2e-4)
-    assert circuit.discharge_time_s(r, 1e-6, 325.27, 60.0) == pytest.approx(5.0, rel=1e-12)
-    assert circuit.voltage_after(5.0, r, 1e-6, 325.27) == pytest.approx(60.0, rel=1e-12)
-    # Already at or below the safe voltage: no time needed; no resistance known: unknown.
-    assert circuit.discharge_time_s(1e6, 1e-6, 48.0, 60.0) == 0.0
-    assert math.isnan(circuit.discharge_time_s(np.nan, 1e-6, 400.0, 60.0))
-
-
-def test_surge_current():
-    # Reference sheet section 4: 100 uF ramped 0 -> 12 V in 1 ms: 1.2 A.
-    slew = to_si("12 V/ms", "slew")
-    assert slew == pytest.approx(12000.0)
-    assert circuit.surge_current_a(100e-6, slew) == pytest.approx(1.2, rel=1e-12)
-    # Without a slew rate, the step V / R at switch-on (arithmetic): 400 V / 47 ohm.
-    assert circuit.surge_current_a(100e-6, np.nan, 400.0, 47.0) == pytest.approx(400 / 47)
-
-
-@pytest.mark.parametrize("t_op, life", [
-    # Reference sheet section 4 (10 degC rule, common practice): 2000 h at 105 degC.
-    pytest.param(95.0, 4000.0, id="95C"),
-    pytest.param(85.0, 8000.0, id="85C"),
-    pytest.param(65.0, 32000.0, id="65C"),
-])
-def test_electrolytic_life_ten_degree_rule(t_op, life):
-    assert circuit.electrolytic_life_h(2000.0, 105.0, t_op) == pytest.approx(life, rel=1e-12)
-
-
-def test_electrolytic_life_ripple_factor():
-    # Reference sheet 1.4 (common practice): ripple factor 2^(-dT/5) on the ripple rise. 2000 h at
-    # 105 degC, 80 degC ambient + 5 degC rise: 2000 x 2^(25/10) x 2^(-1) (arithmetic).
-    got = circuit.electrolytic_life_h(2000.0, 105.0, 85.0, 5.0, ripple_factor=True)
-    assert got == pytest.approx(2000.0 * 2 ** 2.5 * 0.5, rel=1e-12)
-
-
-def test_tantalum_series_resistance_top_grade():
-    # Reference sheet 1.1 note 4, derived check value: solid tantalum at 5 V applied, top grade:
-    # at least max(0.3 x 5, 1) = 1.5 ohm. (The per-volt reading itself is uncertain: not tested.)
-    assert circuit.tantalum_min_series_r(5.0, ohm_per_v=0.3) == pytest.approx(1.5)
-    rule = load_rules(["strict"]).rule("EEE-TAN-SERIES-R-TOP")
-    assert rule.fail.at(np.array([5.0]), 1)[0] == pytest.approx(1.5, rel=1e-12)
-    assert not rule.enabled  # optional, as the grade is the project's choice
-    assert "uncertain" in rule.rationale.lower()
-
-
-def test_ripple_heating():
-    # P = I^2 x ESR (arithmetic): 1.5 A in 45 mohm = 0.10125 W; through 36.2 degC/W: 3.665 degC.
-    p, rise = circuit.ripple_heating(1.5, 0.045, 36.2)
-    assert p == pytest.approx(0.10125)
-    assert rise == pytest.approx(0.10125 * 36.2)
-
-
-@pytest.mark.parametrize("name", ["strict", "industrial"])
-def test_typical_can_table_is_the_formula_it_cites(name):
-    # Reference sheet 1.4 (common practice): dT = I^2 x ESR / (beta x can area); the shipped
-    # table is that formula at its beta (value from memory), rounded to 0.1 degC/W.
-    data = load_rules([name]).circuit
-    assert data["label"].startswith("typical")
-    for size, rth in data["thermal_resistance_c_per_w"].items():
-        d, length = (float(x) for x in size.split("x"))
-        expected = circuit.can_thermal_resistance(d, length, data["can_beta_w_per_cm2_k"])
-        assert rth == pytest.approx(expected, abs=0.06), size
-
-
-# --- the stage on small tables ----------------------------------------------------------------
-
-DATA = StressData()
-
-
-def electrolytic(refdes, c_f=100e-6, v=250.0, tol=20.0, **more):
-    return {"refdes": refdes, "row": 2, "technology": "aluminium-electrolytic", "polarized": True,
-            "capacitance_f": c_f, "voltage_v": v, "tol_minus_pct": tol, "tol_plus_pct": tol,
-            "temp_max_c": 105.0, "t_ambient_c": 40.0, "package": "", **more}
-
-
-def group(name, members, kind, **conditions):
-    return Group(name, tuple(members), 2, kind, MappingProxyType(conditions))
-
-
-def run(rows, groups=None, ruleset=None):
-    table = compute(pd.DataFrame(rows), DATA)
-    return circuit.apply(table, DATA, ruleset, groups={g.name: g for g in groups or []})
-
-
-def test_series_stack_feeds_each_member_its_worst_share():
-    res = run([electrolytic("C1", r_balance_ohm=100e3, r_balance_tol_pct=1.0),
-               electrolytic("C2", r_balance_ohm=100e3, r_balance_tol_pct=1.0)],
-              [group("LINK", ["C1", "C2"], "series", v_dc=400.0)])
-    t = res.table
-    # Reference sheet section 4: 240 V capacitive (the worse), 202.0 V resistive.
-    assert t["v_share_cap_v"].tolist() == pytest.approx([240.0, 240.0])
-    assert t["v_share_dc_v"].tolist() == pytest.approx([202.0, 202.0])
-    assert t["applied_peak_v"].tolist() == pytest.approx([240.0, 240.0])
-    assert t["voltage_ratio"].tolist() == pytest.approx([240 / 250] * 2)
-    assert t["v_dc"].tolist() == pytest.approx([200.0, 200.0])  # the nominal share
-    # The stack is one node: 400 V on 120 uF / 2 = 60 uF (maximum capacitances): 4.8 J.
-    assert t["node_energy_j"].tolist() == pytest.approx([0.5 * 60e-6 * 400 ** 2] * 2)
-    (g,) = res.groups
-    assert (g["kind"], g["members"], g["v_stack_v"]) == ("series", ["C1", "C2"], 400.0)
-    assert g["c_eq_f"] == pytest.approx(50e-6)
-    assert [s["v_share_cap_v"] for s in g["shares"]] == pytest.approx([240.0, 240.0])
-    assert not len(res.verdicts)
-
-
-def test_series_stack_resistive_share_can_govern():
-    # Balancing resistors of 10 % tolerance on two 1 % capacitors: 110k/(110k+90k) x 400 V = 220 V
-    # beats the capacitive 1.01/0.99 split (arithmetic).
-    res = run([electrolytic("C1", tol=1.0, r_balance_ohm=100e3, r_balance_tol_pct=10.0),
-               electrolytic("C2", tol=1.0, r_balance_ohm=100e3, r_balance_tol_pct=10.0)],
-              [group("LINK", ["C1", "C2"], "series", v_dc=400.0)])
-    assert res.table["v_share_dc_v"].tolist() == pytest.approx([220.0, 220.0])
-    assert res.table["applied_peak_v"].tolist() == pytest.approx([220.0, 220.0])
-
-
-def test_series_stack_without_balancing_resistors_is_no_data():
-    res = run([electrolytic("C1"), electrolytic("C2")],
-              [group("LINK", ["C1", "C2"], "series", v_dc=400.0)])
-    v = res.verdicts
-    assert v["rule_id"].tolist() == [circuit.SERIES_BALANCE] * 2
-    assert v["status"].tolist() == ["nodata"] * 2
-    assert "r_balance_ohm" in v["message"].iloc[0]
-    assert res.table["v_share_dc_v"].isna().all()
-    assert res.table["applied_peak_v"].tolist() == pytest.approx([240.0, 240.0])
-
-
-def test_bank_meets_the_requirement_as_a_whole():
-    # Three 100 uF -20 % parts: 240 uF worst case together, 80 uF each; need 200 uF.
-    rows = [electrolytic(f"C{i}", v_dc=24.0) for i in (1, 2, 3)]
-    res = run(rows, [group("BULK", ["C1", "C2", "C3"], "bank", c_min_f=200e-6)])
-    t = res.table
-    assert t["bank_c_worst_f"].tolist() == pytest.approx([240e-6] * 3)
-    assert t["bank_c_margin"].tolist() == pytest.approx([1.2] * 3)
-    assert t["c_margin"].isna().all()  # no member has to meet it alone
-    (g,) = res.groups
-    assert (g["kind"], g["c_eq_f"], g["c_min_f"]) == ("bank", pytest.approx(300e-6), 200e-6)
-    assert g["c_margin"] == pytest.approx(1.2)
-    # Energy of the bank: 360 uF (maximum) at 24 V (arithmetic, 1/2 C V^2).
-    assert g["energy_j"] == pytest.approx(0.5 * 360e-6 * 24 ** 2)
-
-
-def test_bank_shares_its_ripple_current_by_capacitance():
-    rows = [electrolytic("C1", c_f=300e-6, v_dc=24.0), electrolytic("C2", c_f=100e-6, v_dc=24.0)]
-    res = run(rows, [group("BULK", ["C1", "C2"], "bank", i_ripple_a=2.0)])
-    assert res.table["i_ripple_a"].tolist() == pytest.approx([1.5, 0.5])
-
-
-def test_bleeder_discharge_and_safety_metrics():
-    # 100 uF (+20 %: 120 uF) at 400 V through 20 kohm (arithmetic of V0 exp(-t/RC)).
-    res = run([electrolytic("C1", v_dc=400.0, voltage_v=450.0, r_bleeder_ohm=20e3,
-                            t_discharge_max_s=10.0)])
-    t = res.table.iloc[0]
-    tau = 20e3 * 120e-6
-    assert t["t_to_60v_s"] == pytest.approx(tau * math.log(400 / 60))
-    assert t["discharge_s"] == pytest.approx(tau * math.log(400 / 60))  # default safe 60 V
-    assert t["v_after_1s_v"] == pytest.approx(400 * math.exp(-1 / tau))
-    assert t["charge_after_5s_uc"] == pytest.approx(120e-6 * 400 * math.exp(-5 / tau) * 1e6)
-    assert t["discharge_ratio"] == pytest.approx(tau * math.log(400 / 60) / 10.0)
-    assert t["shock_energy_j"] == pytest.approx(0.5 * 120e-6 * 400 ** 2)
-
-
-def test_no_shock_energy_below_100_volts():
-    res = run([electrolytic("C1", c_f=0.1, v_dc=48.0)])
-    assert math.isnan(res.table["shock_energy_j"].iat[0])
-    assert res.table["energy_j"].iat[0] == pytest.approx(0.5 * 0.12 * 48 ** 2)
-
-
-def test_surge_from_slew_or_source_resistance_and_stack_current():
-    res = run([electrolytic("C1", v_dc=12.0, slew_v_per_s=12000.0),
-               electrolytic("C2", v_dc=12.0, r_source_ohm=2.0)])
-    # 120 uF (maximum) x 12 V/ms = 1.44 A; 12 V / 2 ohm = 6 A (arithmetic).
-    assert res.table["surge_a"].tolist() == pytest.approx([1.44, 6.0])
-    res = run([electrolytic("C1", r_balance_ohm=1e5, r_balance_tol_pct=1.0),
-               electrolytic("C2", r_balance_ohm=1e5, r_balance_tol_pct=1.0)],
-              [group("LINK", ["C1", "C2"], "series", v_dc=400.0, slew_v_per_s=1000.0)])
-    # The stack's current flows through both: 60 uF x 1 V/ms = 60 mA.
-    assert res.table["surge_a"].tolist() == pytest.approx([0.06, 0.06])
-
-
-def test_ripple_rise_feeds_the_operating_temperature_and_life():
-    rules = load_rules(["industrial"])
-    row = electrolytic("C1", v_dc=24.0, i_ripple_a=1.0, esr_ohm=0.2, rth_c_per_w=40.0,
-                       life_l0_h=2000.0, life_t0_c=105.0, life_h=10000.0, t_rise_c=3.0)
-    table = compute(pd.DataFrame([row]), DATA)
-    t = circuit.apply(table, DATA, rules).table.iloc[0]
-    # 1 A^2 x 0.2 ohm x 40 degC/W = 8 degC > the stated 3 degC: operating 48 degC (arithmetic).
-    assert t["ripple_rise_c"] == pytest.approx(8.0)
-    assert t["t_operating_c"] == pytest.approx(48.0)
-    assert t["t_rise_c"] == 3.0  # the condition as given stays
-    assert t["life_est_h"] == pytest.approx(2000.0 * 2 ** ((105 - 48) / 10))
-    assert t["life_ratio"] == pytest.approx(t["life_est_h"] / 10000.0)
-    assert t["t_operating_c_basis"] == ""  # the part's own thermal resistance
-
-
-def test_generic_thermal_resistance_marks_the_verdicts_generic():
-    rules = load_rules(["industrial"])
-    row = electrolytic("C1", v_dc=24.0, i_ripple_a=1.0, esr_ohm=0.2, package="12.5x25",
-                       life_l0_h=2000.0, life_h=10000.0)
-    table = compute(pd.DataFrame([row]), DATA)
-    t = circuit.apply(table, DATA, rules).table.iloc[0]
-    assert t["ripple_rise_c"] == pytest.approx(0.2 * 36.2)
-    assert t["t_operating_c_basis"] == "generic" and t["life_ratio_basis"] == "generic"
 
 
 # --- the sample board -------------------------------------------------------------------------
@@ -412,34 +156,47 @@ def test_design_sheet_circuit_column_of_the_wrong_dimension(tmp_path):
     assert info.value.row == 2 and info.value.column == "r_bleeder_ohm"
 
 
-def test_bank_discharges_through_every_bleeder_on_its_node():
-    # Two 100 uF members (120 uF maximum each) with 20 kohm each and 10 kohm on the bank's row:
-    # 5 kohm across 240 uF (arithmetic of parallel resistances).
-    rows = [electrolytic("C1", v_dc=400.0, voltage_v=450.0, r_bleeder_ohm=20e3),
-            electrolytic("C2", v_dc=400.0, voltage_v=450.0, r_bleeder_ohm=20e3)]
-    res = run(rows, [group("BULK", ["C1", "C2"], "bank", r_bleeder_ohm=10e3)])
-    assert res.table["r_discharge_ohm"].tolist() == pytest.approx([5e3, 5e3])
-    assert res.table["t_to_60v_s"].tolist() == pytest.approx(
-        [5e3 * 240e-6 * math.log(400 / 60)] * 2)
-    assert res.groups[0]["discharge_s"] == pytest.approx(5e3 * 240e-6 * math.log(400 / 60))
+# --- the driver ------------------------------------------------------------------------------
 
 
-@pytest.mark.parametrize("design", [
-    "refdes,v_dc,t_ambient_c,r_bleeder_ohm\nC1,12,40,0\n",
-    "refdes,members,kind,v_dc,r_bleeder_ohm\nBANK,C1,bank,12,0\n",
-])
-def test_a_0_ohm_bleeder_is_an_input_error_without_numpy_warnings(tmp_path, design, recwarn):
-    # A 0 ohm bleeder would short the capacitor: an entry error (an empty cell means "none"),
-    # never a 0 s discharge that passes.
-    from bomcheck.errors import InputError
-
-    (tmp_path / "b.csv").write_text("Designator,Value\nC1,10uF 50V X7R 1206\n", encoding="utf-8")
-    (tmp_path / "d.csv").write_text(design, encoding="utf-8")
-    with pytest.raises(InputError, match="r_bleeder_ohm"):
-        run_audit(str(tmp_path / "b.csv"), str(tmp_path / "d.csv"))
-    assert not [w for w in recwarn if issubclass(w.category, RuntimeWarning)]
+def test_registry_names_each_circuit_stress_once_and_every_added_column_is_listed():
+    names = [s.name for s in circuit.STRESSES]
+    assert len(names) == len(set(names))
+    assert all(s.inputs or s.metrics for s in circuit.STRESSES)
+    res = run([electrolytic("C1", v_dc=24.0, i_ripple_a=1.0, esr_ohm=0.2)])
+    table = compute(pd.DataFrame([electrolytic("C1", v_dc=24.0, i_ripple_a=1.0, esr_ohm=0.2)]),
+                    DATA)
+    added = [c for c in res.table.columns if c not in table.columns]
+    # The stage's own columns come last, in the listed order (the parts columns before them).
+    assert [c for c in added if c in circuit.ADDED_COLUMNS] == [
+        c for c in circuit.ADDED_COLUMNS if c in res.table.columns]
+    assert list(res.table.columns[-len(circuit.ADDED_COLUMNS):]) == list(circuit.ADDED_COLUMNS)
 
 
-def test_voltage_after_a_zero_resistance_warns_nothing(recwarn):
-    assert circuit.voltage_after(1.0, 0.0, 1e-6, 10.0) == 0.0
-    assert not recwarn.list
+def test_the_stage_joins_its_columns_once_without_fragmenting_the_table():
+    import warnings
+
+    rows = [electrolytic(f"C{i}", v_dc=24.0, i_ripple_a=0.5) for i in range(1, 5)]
+    table = compute(pd.DataFrame(rows), DATA)
+    with warnings.catch_warnings():
+        warnings.simplefilter("error", pd.errors.PerformanceWarning)
+        res = circuit.apply(table, DATA, groups={"B": group("B", ["C1", "C2"], "bank")})
+    assert res.table["i_ripple_a"].tolist() == pytest.approx([0.5] * 4)
+
+
+def test_only_placements_whose_inputs_changed_are_stressed_again(monkeypatch):
+    calls = []
+    real = circuit.stresses.compute
+
+    def spy(frame, data):
+        calls.append(list(frame["refdes"]) if "refdes" in frame else len(frame))
+        return real(frame, data)
+
+    rows = [electrolytic("C1", v_dc=24.0), electrolytic("C2", v_dc=24.0, i_ripple_a=1.0,
+                                                        esr_ohm=0.2, rth_c_per_w=40.0)]
+    table = compute(pd.DataFrame(rows), DATA)
+    monkeypatch.setattr(circuit.stresses, "compute", spy)
+    res = circuit.apply(table, DATA)
+    # Only C2 heats (1 A^2 x 0.2 ohm x 40 degC/W = 8 degC, arithmetic): one placement again.
+    assert calls == [1]
+    assert res.table["t_operating_c"].tolist() == pytest.approx([40.0, 48.0])

@@ -5,7 +5,8 @@ import json
 import pytest
 
 from bomcheck.cli.main import main
-from bomcheck.report.diff import VerdictChange, compare, diff_markdown, summary_line
+from bomcheck.render.markdown import diff_markdown
+from bomcheck.report.diff import VerdictChange, compare, summary_line
 from bomcheck.errors import InputError
 
 

@@ -1,4 +1,4 @@
-"""CI outputs of a report: JUnit XML, the Markdown summary and CSV rows (bomcheck.render.exports)."""
+"""CI outputs of a report: JUnit XML, the Markdown summary and CSV rows (bomcheck.render.junit, markdown, csvrows)."""
 
 import csv
 import io
@@ -9,7 +9,10 @@ from types import SimpleNamespace
 import pandas as pd
 import pytest
 
-from bomcheck.render.exports import INJECTION_LEAD, csv_rows, format_metric, junit_xml, markdown_summary
+from bomcheck.quantity import format_metric
+from bomcheck.render.csvrows import INJECTION_LEAD, csv_rows
+from bomcheck.render.junit import junit_xml
+from bomcheck.render.markdown import markdown_summary
 from bomcheck.report.model import Report
 from bomcheck.evaluate.waivers import WaiverFinding
 
@@ -301,3 +304,43 @@ def test_junit_schema_rejects_skipped_on_testsuites():
     assert schema.is_valid(text)
     # the output before the fix: <testsuites ... skipped="1">, refused by junit-10.xsd
     assert not schema.is_valid(text.replace("<testsuites ", '<testsuites skipped="1" ', 1))
+
+
+# --------------------------------------------------------------------------------------------
+# A batch's pieces (render.markdown.board_markdown / batch_markdown_head, render.csvrows)
+
+def test_board_markdown_is_the_summary_under_the_product():
+    from bomcheck.render.markdown import board_markdown
+
+    report = tiny_report()
+    text = board_markdown(report, "Widget 7")
+    summary = markdown_summary(report)
+    assert text.startswith(f"## Widget 7: {report.status.upper()}\n")
+    assert text == f"## Widget 7: {report.status.upper()}\n" + summary.partition("\n")[2] + "\n"
+
+
+def test_board_csv_prefixes_each_row_with_the_product():
+    import csv
+    import io
+
+    from bomcheck.render.csvrows import CSV_COLUMNS, batch_csv_header, board_csv
+
+    report = tiny_report()
+    rows = list(csv.reader(io.StringIO(board_csv(report, "Widget, 7"), newline="")))
+    plain = list(csv.reader(io.StringIO(csv_rows(report), newline="")))[1:]
+    assert [r[0] for r in rows] == ["Widget, 7"] * len(plain) and [r[1:] for r in rows] == plain
+    assert batch_csv_header() == "product," + ",".join(CSV_COLUMNS) + "\r\n"
+
+
+def test_batch_markdown_head_has_one_row_per_board():
+    from types import SimpleNamespace
+
+    from bomcheck.render.markdown import batch_markdown_head
+
+    boards = [SimpleNamespace(product="A|B", status="fail",
+                              totals={"audited": 3, "pass": 1, "fail": 2}),
+              SimpleNamespace(product="C", status="pass", totals={"audited": 1, "pass": 1})]
+    text = "".join(batch_markdown_head(boards, "fail"))
+    assert text.startswith("# bomcheck batch audit: FAIL\n\n")
+    assert "| A\\|B | fail | 3 | 1 | 0 | 0 | 2 |\n" in text  # product escaped (GFM table)
+    assert text.endswith("| C | pass | 1 | 1 | 0 | 0 | 0 |\n")

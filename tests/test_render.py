@@ -6,7 +6,8 @@ from pathlib import Path
 import pytest
 
 from bomcheck.pipeline.audit import run_audit
-from bomcheck.render.terminal import fmt_si, make_console, print_audit, print_specs
+from bomcheck.quantity import format_si
+from bomcheck.render.terminal import make_console, print_audit, print_specs
 from bomcheck.parse.values import parse_value
 
 ROOT = Path(__file__).resolve().parents[1]
@@ -53,8 +54,8 @@ def test_specs_table():
     (4.7e-6, "F", "4.7 uF"), (1e-10, "F", "100 pF"), (0.1, "F", "100 mF"), (13.2, "V", "13.2 V"),
     (38056.68, "ohm", "38.06 kohm"), (0, "V", "0 V"),
 ])
-def test_fmt_si(value, unit, expected):
-    assert fmt_si(value, unit) == expected
+def test_format_si(value, unit, expected):
+    assert format_si(value, unit) == expected
 
 
 def test_compact_layout_at_80_columns_breaks_no_word():

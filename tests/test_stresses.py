@@ -133,3 +133,27 @@ def test_ceramic_without_dielectric_is_not_lossless():
     assert r.at[0, "c_bias_factor"] < 1.0
     assert r.at[0, "c_margin_basis"] == "generic"
     assert "dielectric not given" in r.at[0, "c_margin_note"]
+
+
+def test_compute_reads_only_its_listed_inputs():
+    # The circuit stage runs the stresses again only where a column of INPUTS changed: compute
+    # must read nothing else (a table cut to INPUTS gives the same metrics).
+    from bomcheck.stress.placement import INPUTS
+
+    rows = pd.DataFrame([
+        {"refdes": "C1", "technology": "ceramic", "dielectric": "X7R", "dielectric_class": 2,
+         "cap_change_minus_pct": 15.0, "capacitance_f": 1e-6, "voltage_v": 50.0,
+         "tol_minus_pct": 10.0, "package": "0805", "v_dc": 24.0, "v_ripple_pk": 1.0,
+         "t_ambient_c": 60.0, "t_rise_c": 5.0, "c_min_f": 0.5e-6, "life_h": 1e4,
+         "temp_max_c": 125.0, "temp_min_c": -55.0, "polarized": False, "notes": "x",
+         "esr_ohm": 0.01},
+        {"refdes": "C2", "technology": "tantalum", "capacitance_f": 10e-6, "voltage_v": 16.0,
+         "tol_abs_f": 1e-6, "v_dc": -5.0, "v_ac_rms": 1.0, "v_tol_pct": 5.0,
+         "v_transient_pk": 20.0, "v_reverse_pk": 1.0, "t_ambient_c": 85.0,
+         "t_ambient_min_c": -40.0, "polarized": True, "voltage_kind": "ac", "tc_ppm": 0.0},
+    ])
+    data = StressData(typical_temp_max_c={"tantalum": 125.0}, aging_k={"X7R": 2.5})
+    whole = compute(rows, data)
+    cut = compute(rows[[c for c in INPUTS if c in rows]], data)
+    for c in cut.columns:
+        pd.testing.assert_series_equal(cut[c], whole[c], check_dtype=False)

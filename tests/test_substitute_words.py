@@ -1,6 +1,9 @@
 """The words of the substitute check (``bomcheck.substitute.words``): designator lists and a
 placement's conditions."""
 
+import subprocess
+import sys
+
 import pytest
 
 from bomcheck.substitute import designator_list
@@ -26,3 +29,13 @@ def test_designator_list(names, text):
 ], ids=["dc-ripple-temperature", "ac", "none"])
 def test_conditions_text(rec, text):
     assert conditions_text(rec) == text
+
+
+def test_the_words_load_without_the_check():
+    # Renderers import designator_list at start-up; the package loads the check only on use.
+    code = ("import sys, bomcheck.substitute.words, bomcheck.substitute as s; "
+            "print('bomcheck.substitute.check' in sys.modules, "
+            "all(getattr(s, n) is not None for n in s.__all__), "
+            "'bomcheck.substitute.check' in sys.modules)")
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
+    assert out.stdout.split() == ["False", "True", "True"]

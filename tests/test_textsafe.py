@@ -451,3 +451,14 @@ def test_sigterm_during_a_write_leaves_no_temporary_file(tmp_path):
     assert proc.wait(timeout=60) == 128 + signal.SIGTERM
     assert not (tmp_path / "out.xlsx").exists()
     assert not [p.name for p in tmp_path.iterdir() if ".bomcheck-" in p.name]
+
+
+def test_spreadsheet_error_values_are_openpyxls():
+    # The workbook guard's error values must be the ones openpyxl writes as error cells.
+    from openpyxl.cell.cell import ERROR_CODES
+
+    from bomcheck.render.textsafe import SPREADSHEET_ERRORS, spreadsheet_unsafe
+
+    assert SPREADSHEET_ERRORS == set(ERROR_CODES)
+    assert spreadsheet_unsafe("#N/A") and spreadsheet_unsafe(" =1+1")
+    assert not spreadsheet_unsafe("C12") and not spreadsheet_unsafe("#N/A here")

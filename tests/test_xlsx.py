@@ -486,3 +486,83 @@ def test_libreoffice_prints_the_workbook_with_its_chart_and_no_hash_cells(report
     count = int(next(line.split()[-1] for line in pages.splitlines()
                      if line.startswith("Pages:")))
     assert count <= 25  # a 63-placement board prints to a sensible number of pages
+
+
+# ---- every figure of the JSON report, no empty column -----------------------------------------
+
+@pytest.fixture(scope="module")
+def sample_with_parts(tmp_path_factory):
+    """The sample board with its parts data, audited to JSON and to the workbook."""
+    import json
+
+    from bomcheck.cli.main import main
+
+    folder = tmp_path_factory.mktemp("parts")
+    main(["audit", str(SAMPLE_BOM), "--design", str(SAMPLE_DESIGN), "--parts",
+          str(ROOT / "sample_boms" / "bw7-parts.csv"), "--no-config", "--quiet",
+          "--json", str(folder / "a.json"), "--xlsx", str(folder / "a.xlsx")])
+    return (json.loads((folder / "a.json").read_text(encoding="utf-8")),
+            openpyxl.load_workbook(folder / "a.xlsx"), folder / "a.xlsx")
+
+
+def test_placements_carry_every_figure_the_json_carries(sample_with_parts):
+    report, wb, _ = sample_with_parts
+    headers = {c.value for c in wb["Placements"][1]}
+    figures = {k for p in report["placements"] for part in ("metrics", "conditions")
+               for k in p.get(part, {})}
+    assert {"esr_ohm", "energy_j", "life_ratio", "v_share_cap_v"} <= figures  # the sample's data
+    missing = sorted(k for k in figures if xlsx.header_of(k) not in headers)
+    assert missing == []
+
+
+def test_no_column_is_empty_on_every_row(sample_with_parts):
+    _, wb, _ = sample_with_parts
+    for name in ("Placements", "Findings", "Rules", "Not audited", "Chart data"):
+        ws = wb[name]
+        if ws.max_row < 2:
+            continue
+        empty = [ws.cell(row=1, column=j).value for j in range(1, ws.max_column + 1)
+                 if all(ws.cell(row=i, column=j).value is None
+                        for i in range(2, ws.max_row + 1))]
+        assert empty == [], f"{name}: {empty}"
+
+
+def test_chart_series_point_at_their_columns(sample_with_parts):
+    # The chart's references follow the Chart data columns that are written (an empty column
+    # left out shifts the ones after it).
+    import re
+
+    _, wb, path = sample_with_parts
+    headers = {cell.column_letter: cell.value for cell in wb["Chart data"][1]}
+    with zipfile.ZipFile(path) as z:
+        chart = next(z.read(n).decode("utf-8") for n in z.namelist()
+                     if n.startswith("xl/charts/chart"))
+    used = set(re.findall(r"'Chart data'!\$([A-Z]+)\$", chart))
+    assert {headers[c] for c in used} == {
+        xlsx.header_of("t_operating_c"), xlsx.header_of("voltage_ratio"),
+        "voltage ratio limit [%]"}
+
+
+@pytest.mark.parametrize("name", sorted(__import__("bomcheck.vocabulary").vocabulary.METRICS))
+def test_every_metric_has_a_short_header_with_its_unit(name):
+    from bomcheck.vocabulary import METRICS
+
+    m = METRICS[name]
+    header = xlsx.header_of(name)
+    assert header.startswith(m.title) and len(m.title) <= 50
+    if m.percent:
+        assert header.endswith("[%]")
+
+
+def test_wrapped_rows_get_the_height_of_their_lines(book):
+    # A Findings message longer than its column is wider wraps: its row is taller than one
+    # line (15 points a line), and a one-line row keeps the default height.
+    ws = book["Findings"]
+    headers = [c.value for c in ws[1]]
+    j = headers.index("message") + 1
+    width = ws.column_dimensions[openpyxl.utils.get_column_letter(j)].width
+    long_rows = [i for i in range(2, ws.max_row + 1)
+                 if len(ws.cell(row=i, column=j).value or "") * 1.1 > 2 * width]
+    assert long_rows
+    for i in long_rows:
+        assert ws.row_dimensions[i].height >= 2 * 15

@@ -16,6 +16,7 @@ from itertools import repeat
 import numpy as np
 import pandas as pd
 
+from bomcheck.evaluate.checks import CHECKS, CheckKind, check_kind  # noqa: F401 (re-exported)
 from bomcheck.evaluate.rules import STATUSES, Applies, Rule, RuleSet, axis_quantity
 from bomcheck.quantity import format_quantity, visible_pair
 from bomcheck.stress.placement import BEST_ONLY
@@ -37,44 +38,6 @@ BOUND_PASS_NOTE = "; passes even with every unknown at its worst plausible value
 # Message notes by code (the engine's note column).
 NOTE_GENERIC, NOTE_ADVISORY, NOTE_BOUND_FAIL, NOTE_BOUND_PASS = 1, 2, 3, 4
 NOTES = ("", GENERIC_NOTE, ADVISORY_NOTE, BOUND_FAIL_NOTE, BOUND_PASS_NOTE)
-
-
-# --------------------------------------------------------------------------------------------
-# Check kinds: small pure functions, registered by name.
-
-def margin_max(value: np.ndarray, limit: np.ndarray) -> np.ndarray:
-    """Distance inside a ceiling: positive while ``value`` is at or below ``limit``."""
-    return limit - value
-
-
-def margin_min(value: np.ndarray, limit: np.ndarray) -> np.ndarray:
-    """Distance inside a floor: positive while ``value`` is at or above ``limit``."""
-    return value - limit
-
-
-@dataclass(frozen=True)
-class CheckKind:
-    """A way of comparing a metric with a limit: its margin function and how messages read."""
-
-    name: str
-    margin: Callable[[np.ndarray, np.ndarray], np.ndarray]
-    inside: str  # comparison printed when the value is within the limit
-    outside: str  # comparison printed when it is not
-
-
-CHECKS: dict[str, CheckKind] = {
-    "max": CheckKind("max", margin_max, "<=", ">"),
-    "min": CheckKind("min", margin_min, ">=", "<"),
-}
-
-
-def check_kind(name: str) -> CheckKind:
-    """The registered check kind ``name``; ValueError listing the valid names otherwise."""
-    try:
-        return CHECKS[name]
-    except KeyError:
-        valid = ", ".join(CHECKS)
-        raise ValueError(f"unknown check kind {name!r}; expected one of: {valid}") from None
 
 
 # --------------------------------------------------------------------------------------------

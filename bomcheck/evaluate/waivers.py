@@ -44,6 +44,8 @@ import pandas as pd
 
 from bomcheck.parse import refdes as refdes_mod
 from bomcheck.errors import InputError
+from bomcheck.read.reader import HeaderNotFound, load_toml, read_input, read_table, toml_text
+from bomcheck.status import RANK, STATUS_ORDER
 
 WAIVABLE: tuple[str, ...] = ("warn", "nodata", "fail")
 FIELDS: tuple[str, ...] = ("refdes", "rule", "reason", "approved_by", "expires", "bom_text")
@@ -105,8 +107,6 @@ class WaiverFinding:
 def load_waivers(path: str | Path) -> WaiverFile:
     """Read a TOML (``.toml``) or table (CSV/TSV/XLSX, through ``bomcheck.read.reader``) waiver file;
     bad entries raise ``InputError`` naming the file, the entry and the key."""
-    from bomcheck.read.reader import read_input
-
     p = Path(path)
     data, sha = read_input(str(path), "waiver file")
     if p.suffix.lower() == ".toml":
@@ -118,8 +118,6 @@ def load_waivers(path: str | Path) -> WaiverFile:
 
 
 def _toml_entries(data: bytes, path: str) -> list[tuple[int, str, dict]]:
-    from bomcheck.read.reader import load_toml, toml_text
-
     doc = load_toml(toml_text(data, path), path)
     extra = sorted(set(doc) - {"waiver"})
     if extra:
@@ -140,8 +138,6 @@ def _is_waiver_header(cells: list[str]) -> bool:
 def _table_entries(path: str) -> list[tuple[int, str, dict]]:
     """The entries of a CSV/TSV/XLSX waiver file, read by the shared table reader (its limits,
     line ends, encodings and cell sizes); rows whose first cell starts with ``#`` are comments."""
-    from bomcheck.read.reader import HeaderNotFound, read_table
-
     try:
         table = read_table(path, header_predicate=_is_waiver_header)
     except HeaderNotFound:
@@ -266,6 +262,16 @@ def _finding(w: Waiver, code: str, placements: Sequence[str], message: str) -> W
                          approved_by=w.approved_by, expires=w.expires.isoformat())
 
 
+@dataclass(frozen=True)
+class _Targets:
+    """The verdicts' and placements' columns a waiver is matched on, read once per audit."""
+
+    refdes_upper: pd.Series  # of each verdict
+    rule_ids: pd.Series  # of each verdict
+    table_refdes: pd.Series  # of each fitted placement
+    texts: pd.Series  # each placement's BOM text, by pidx
+
+
 def waive_verdicts(verdicts: pd.DataFrame, table: pd.DataFrame, waivers: Sequence[Waiver],
                    today: dt.date) -> tuple[pd.DataFrame, tuple[WaiverFinding, ...]]:
     """Apply ``waivers`` (in file order) to the verdict table of an audit.
@@ -278,74 +284,82 @@ def waive_verdicts(verdicts: pd.DataFrame, table: pd.DataFrame, waivers: Sequenc
     v = verdicts.copy()
     v["waived_from"] = pd.Series(None, index=v.index, dtype=object)
     v["waiver_reason"] = pd.Series(None, index=v.index, dtype=object)
-    refdes_upper = v["refdes"].astype(str).str.upper()
-    table_refdes = table["refdes"].astype(str).str.upper()
-    rule_ids = v["rule_id"].astype(str)
-    texts = table["text"] if "text" in table.columns else pd.Series("", index=table.index)
+    targets = _Targets(
+        refdes_upper=v["refdes"].astype(str).str.upper(), rule_ids=v["rule_id"].astype(str),
+        table_refdes=table["refdes"].astype(str).str.upper(),
+        texts=table["text"] if "text" in table.columns else pd.Series("", index=table.index))
     findings: list[WaiverFinding] = []
     for w in waivers:
-        label = f"waiver {w.row} ({w.refdes} {w.rule})"
-        if w.expires < today:
-            findings.append(_finding(w, "expired", (), f"{label} expired on "
-                                     f"{w.expires.isoformat()}; its verdicts stand"))
-            continue
-        on_rule = np.flatnonzero((rule_ids == w.rule).to_numpy())
-        hit = on_rule[_designator_mask(refdes_upper.iloc[on_rule], w)] if len(on_rule) else on_rule
-        if not len(hit):
-            if not _designator_mask(table_refdes, w).any():
-                why = "matches no fitted placement of the BOM"
-            else:
-                why = f"rule {w.rule} gave no verdict on {w.refdes}"
-            findings.append(_finding(w, "unused", (), f"{label} {why}"))
-            continue
-        rows = v.iloc[hit]
-        if w.bom_text is not None:
-            now = texts.reindex(rows["pidx"].to_numpy()).map(_normal_text).to_numpy()
-            changed = now != _normal_text(w.bom_text)
-            if changed.any():
-                moved = _names(rows["refdes"].to_numpy()[changed])
-                sample = texts.get(int(rows["pidx"].to_numpy()[changed][0]), "")
-                findings.append(_finding(
-                    w, "bom_changed", moved,
-                    f"{label} was granted for BOM text {w.bom_text!r}, but the BOM now gives "
-                    f"{str(sample)!r} for {_listed(moved)}: not waived (the part changed)"))
-                hit = hit[~changed]
-                rows = v.iloc[hit]
-                if not len(hit):
-                    continue
-        open_ = rows["status"].isin(WAIVABLE).to_numpy() & rows["waived_from"].isna().to_numpy()
-        hit = hit[open_]
-        if not len(hit):
-            findings.append(_finding(w, "unused", (), f"{label}: no warn, nodata or fail "
-                                     "verdict to waive; the waiver is no longer needed"))
-            continue
-        idx = v.index[hit]
-        original = v.loc[idx, "status"].astype(str)
-        v.loc[idx, "waived_from"] = original
-        v.loc[idx, "waiver_reason"] = w.reason
-        v.loc[idx, "status"] = "waived"
-        v.loc[idx, "message"] = (
-            v.loc[idx, "message"].astype(str) + "; waived (was " + original + ") by "
-            + w.approved_by + f" until {w.expires.isoformat()}: {w.reason}"
-        )
-        names = _names(v.loc[idx, "refdes"].to_numpy())
-        findings.append(_finding(w, "applied", names,
-                                 f"{label} waives {len(idx)} verdict{'s' if len(idx) != 1 else ''}"
-                                 f" on {_listed(names)}: {w.reason} (approved by "
-                                 f"{w.approved_by}, expires {w.expires.isoformat()})"))
+        findings.extend(_waive(w, v, targets, today))
     return v, tuple(sorted(findings))
+
+
+def _waive(w: Waiver, v: pd.DataFrame, targets: _Targets,
+           today: dt.date) -> list[WaiverFinding]:
+    """Apply one waiver to the verdicts ``v`` (in place); its findings."""
+    label = f"waiver {w.row} ({w.refdes} {w.rule})"
+    if w.expires < today:
+        return [_finding(w, "expired", (), f"{label} expired on {w.expires.isoformat()}; its "
+                         "verdicts stand")]
+    on_rule = np.flatnonzero((targets.rule_ids == w.rule).to_numpy())
+    hit = (on_rule[_designator_mask(targets.refdes_upper.iloc[on_rule], w)] if len(on_rule)
+           else on_rule)
+    if not len(hit):
+        if not _designator_mask(targets.table_refdes, w).any():
+            why = "matches no fitted placement of the BOM"
+        else:
+            why = f"rule {w.rule} gave no verdict on {w.refdes}"
+        return [_finding(w, "unused", (), f"{label} {why}")]
+    findings: list[WaiverFinding] = []
+    if w.bom_text is not None:
+        hit = _same_text(w, v, hit, targets.texts, label, findings)
+        if not len(hit):
+            return findings
+    rows = v.iloc[hit]
+    hit = hit[rows["status"].isin(WAIVABLE).to_numpy() & rows["waived_from"].isna().to_numpy()]
+    if not len(hit):
+        return [*findings, _finding(w, "unused", (), f"{label}: no warn, nodata or fail "
+                                    "verdict to waive; the waiver is no longer needed")]
+    idx = v.index[hit]
+    original = v.loc[idx, "status"].astype(str)
+    v.loc[idx, "waived_from"] = original
+    v.loc[idx, "waiver_reason"] = w.reason
+    v.loc[idx, "status"] = "waived"
+    v.loc[idx, "message"] = (
+        v.loc[idx, "message"].astype(str) + "; waived (was " + original + ") by "
+        + w.approved_by + f" until {w.expires.isoformat()}: {w.reason}"
+    )
+    names = _names(v.loc[idx, "refdes"].to_numpy())
+    return [*findings, _finding(w, "applied", names,
+                                f"{label} waives {len(idx)} verdict{'s' if len(idx) != 1 else ''}"
+                                f" on {_listed(names)}: {w.reason} (approved by "
+                                f"{w.approved_by}, expires {w.expires.isoformat()})")]
+
+
+def _same_text(w: Waiver, v: pd.DataFrame, hit: np.ndarray, texts: pd.Series, label: str,
+               findings: list[WaiverFinding]) -> np.ndarray:
+    """The verdicts of ``hit`` whose placement's BOM text is still the one the waiver was granted
+    for; a ``bom_changed`` finding for the others."""
+    rows = v.iloc[hit]
+    now = texts.reindex(rows["pidx"].to_numpy()).map(_normal_text).to_numpy()
+    changed = now != _normal_text(w.bom_text)
+    if changed.any():
+        moved = _names(rows["refdes"].to_numpy()[changed])
+        sample = texts.get(int(rows["pidx"].to_numpy()[changed][0]), "")
+        findings.append(_finding(
+            w, "bom_changed", moved,
+            f"{label} was granted for BOM text {w.bom_text!r}, but the BOM now gives "
+            f"{str(sample)!r} for {_listed(moved)}: not waived (the part changed)"))
+    return hit[~changed]
 
 
 def apply_waivers(report, waivers: WaiverFile | Sequence[Waiver], today: dt.date):
     """A new ``Report`` with ``waivers`` applied: verdicts waived, placement statuses and the
     totals by status recomputed, the findings in ``waiver_findings`` and the waiver file among
     the inputs (when a ``WaiverFile`` is given)."""
-    from bomcheck.status import RANK as rank
-    from bomcheck.status import STATUS_ORDER
-
     entries = waivers.waivers if isinstance(waivers, WaiverFile) else tuple(waivers)
     verdicts, findings = waive_verdicts(report.verdicts, report.table, entries, today)
-    worst = verdicts["status"].map(rank).groupby(verdicts["pidx"]).max()
+    worst = verdicts["status"].map(RANK).groupby(verdicts["pidx"]).max()
     table = report.table.copy()
     status = worst.reindex(table.index).map(dict(enumerate(STATUS_ORDER)))
     table["status"] = status.fillna(table["status"]).astype(report.table["status"].dtype)

@@ -19,9 +19,11 @@ from collections.abc import Iterable, Sequence
 
 import pandas as pd
 
-from bomcheck.report.chartdata import chart_points, limit_lines
-from bomcheck.render.exports import format_metric
+from bomcheck.quantity import format_metric, format_si, is_missing
+from bomcheck.render.html_chart import chart_section
+from bomcheck.render.textparts import accounting_line, energy, group_cells
 from bomcheck.render.textsafe import html_text as esc
+from bomcheck.substitute.words import designator_list
 
 CAUTION_NOTE = ("These cautions come from the clauses they cite; they are not compliance "
                 "verdicts. Local electrical codes, the product's own safety standard and "
@@ -113,16 +115,12 @@ STATUSES = ("fail", "nodata", "warn", "waived", "pass")
 MAX_PASSING_ROWS = 5_000
 
 
-def _isnan(v) -> bool:
-    return v is None or v is pd.NA or (isinstance(v, float) and math.isnan(v))
-
-
 def _t(v) -> str:
-    return "" if _isnan(v) else esc(v)
+    return "" if is_missing(v) else esc(v)
 
 
 def _status(s) -> str:
-    s = "" if _isnan(s) else str(s)
+    s = "" if is_missing(s) else str(s)
     label = s.upper() if s in ("fail", "warn") else s
     return f'<span class="status s-{esc(s)}">{esc(label)}</span>'
 
@@ -211,149 +209,27 @@ def _signature() -> str:
             "</tbody></table></section>")
 
 
-# ---- the chart -------------------------------------------------------------------------------
-
-_W, _H = 1060, 460
-_LEFT, _RIGHT, _TOP, _BOTTOM = 64, 400, 30, 50
-_TECH_COLOURS = ("#2f6690", "#b5651d", "#7a4e9c", "#3a7d44", "#8c6d1f", "#9e2a2b", "#d08c60",
-                 "#1b998b", "#6c757d", "#4c5b8f", "#c44569", "#555555")
-_DASHES = ("", "6 3", "2 3", "10 4", "6 3 2 3", "3 3", "10 4 2 4")
-
-
-def _svg_chart(points: pd.DataFrame, lines, title: str, *, chart_id: str,
-               height: int = _H) -> str:
-    """Voltage ratio against operating temperature as inline SVG: limit lines, one labelled
-    point per placement, coloured by technology, legend on the right."""
-    xs = [x for _, lx, _ in lines for x in lx] + points["t_operating_c"].tolist()
-    ys = [y for _, _, ly in lines for y in ly] + points["voltage_ratio"].tolist()
-    xs = [x for x in xs if math.isfinite(x)] or [25.0, 125.0]
-    ys = [y for y in ys if math.isfinite(y)] or [1.0]
-    x0, x1 = min(xs), max(xs)
-    if x1 - x0 < 1:
-        x0, x1 = x0 - 5, x1 + 5
-    y1 = max(1.0, max(ys)) * 1.08
-    pw, ph = _W - _LEFT - _RIGHT, height - _TOP - _BOTTOM
-
-    def px(x):
-        return _LEFT + (x - x0) / (x1 - x0) * pw
-
-    def py(y):
-        return _TOP + ph - min(max(y, 0.0), y1) / y1 * ph
-
-    out = [f'<figure class="chart" id="{chart_id}"><svg xmlns="http://www.w3.org/2000/svg" '
-           f'viewBox="0 0 {_W} {height}" role="img" aria-labelledby="{chart_id}-t">'
-           f'<title id="{chart_id}-t">{esc(title)}</title>'
-           f'<rect x="{_LEFT}" y="{_TOP}" width="{pw}" height="{ph}" fill="#fff" '
-           'stroke="#8a939c"/>']
-    step = 0.1 if y1 <= 1.2 else 0.2
-    k = 0
-    while k * step <= y1 + 1e-9:
-        y = k * step
-        out.append(f'<line x1="{_LEFT}" x2="{_LEFT + pw}" y1="{py(y):.1f}" y2="{py(y):.1f}" '
-                   'stroke="#e3e6ea"/>'
-                   f'<text x="{_LEFT - 6}" y="{py(y) + 4:.1f}" text-anchor="end">{y:.0%}</text>')
-        k += 1
-    span = x1 - x0
-    tick = next(t for t in (5, 10, 20, 25, 50, 100, 200, 500, 1e9) if span / t <= 10)
-    t = math.ceil(x0 / tick) * tick
-    while t <= x1:
-        out.append(f'<line x1="{px(t):.1f}" x2="{px(t):.1f}" y1="{_TOP}" y2="{_TOP + ph}" '
-                   'stroke="#eef0f2"/>'
-                   f'<text x="{px(t):.1f}" y="{_TOP + ph + 16}" text-anchor="middle">'
-                   f'{t:g}</text>')
-        t += tick
-    out.append(f'<text x="{_LEFT + pw / 2}" y="{height - 10}" text-anchor="middle">operating '
-               'temperature [°C]</text>'
-               f'<text transform="translate(16 {_TOP + ph / 2}) rotate(-90)" '
-               'text-anchor="middle">voltage ratio (applied peak / rated)</text>')
-    legend_y = _TOP + 4
-    lx = _LEFT + pw + 14
-    for i, (name, lxs, lys) in enumerate(lines):
-        dash = _DASHES[i % len(_DASHES)]
-        d = " ".join(f"{px(a):.1f},{py(b):.1f}" for a, b in zip(lxs, lys))
-        dash_attr = f' stroke-dasharray="{dash}"' if dash else ""
-        out.append(f'<polyline class="limit" points="{d}" fill="none" stroke="#33373d" '
-                   f'stroke-width="1.5"{dash_attr}><title>{esc(name)}</title></polyline>')
-        out.append(f'<line x1="{lx}" x2="{lx + 24}" y1="{legend_y}" y2="{legend_y}" '
-                   f'stroke="#33373d" stroke-width="1.5"{dash_attr}/>'
-                   f'<text x="{lx + 30}" y="{legend_y + 4}">{esc(_short(name, 62))}</text>')
-        legend_y += 16
-    techs = sorted(points["technology"].unique()) if len(points) else []
-    colour = {tch: _TECH_COLOURS[i % len(_TECH_COLOURS)] for i, tch in enumerate(techs)}
-    legend_y += 6
-    for tch in techs:
-        out.append(f'<circle cx="{lx + 12}" cy="{legend_y}" r="4" fill="{colour[tch]}"/>'
-                   f'<text x="{lx + 30}" y="{legend_y + 4}">{esc(tch)}</text>')
-        legend_y += 16
-    # Points: labels beside each; several placements at one spot share one label.
-    spots: dict[tuple[int, int], list[str]] = {}
-    for refdes, tch, temp, ratio, status in zip(points["refdes"], points["technology"],
-                                                points["t_operating_c"],
-                                                points["voltage_ratio"], points["status"]):
-        cx, cy = px(temp), py(ratio)
-        out.append(f'<circle class="point" cx="{cx:.1f}" cy="{cy:.1f}" r="4" '
-                   f'fill="{colour[tch]}" stroke="#1b1f24" stroke-width=".5">'
-                   f'<title>{esc(refdes)}: {ratio:.1%} at {temp:g} °C ({esc(tch)}, '
-                   f'{esc(status)})</title></circle>')
-        spots.setdefault((round(cx), round(cy)), []).append(str(refdes))
-    placed: list[tuple[float, float]] = []
-    for (cx, cy), names in sorted(spots.items(), key=lambda kv: (kv[0][0], kv[0][1])):
-        label = names[0] if len(names) == 1 else f"{names[0]} +{len(names) - 1}"
-        ly = cy - 5
-        # Move a label down past the labels already placed that it would overlap.
-        while any(abs(px_ - cx) < 48 and abs(py_ - ly) < 10 for px_, py_ in placed):
-            ly += 10
-        placed.append((cx, ly))
-        out.append(f'<text class="lbl" x="{cx + 6}" y="{ly}">{esc(label)}</text>')
-    out.append(f'</svg><figcaption>{esc(title)}</figcaption></figure>')
-    return "".join(out)
-
-
-def _short(text: str, n: int) -> str:
-    return text if len(text) <= n else text[: n - 1] + "…"
-
-
-def _chart_section(report) -> list[str]:
-    points = chart_points(report)
-    temps = pd.concat([points.dc["t_operating_c"], points.ac["t_operating_c"]])
-    lines = limit_lines(report.rules, temps.min() if len(temps) else None,
-                        temps.max() if len(temps) else None)
-    out = ["<h2 id=\"chart\">Voltage stress against operating temperature</h2>",
-           _svg_chart(points.dc, lines, "Voltage ratio against operating temperature, with "
-                      "the voltage-ratio fail limit of each rule in force", chart_id="chart-dc")]
-    if len(points.ac):
-        out.append("<p>AC-rated parts (rated V AC, such as X and Y safety capacitors) are "
-                   "judged by their own rules, not by the DC limit lines above; they are "
-                   "shown apart.</p>")
-        out.append(_svg_chart(points.ac, [], "AC-rated parts: working voltage against the AC "
-                              "rating (no DC limit line applies)", chart_id="chart-ac",
-                              height=300))
-    return out
-
-
 # ---- the audit -------------------------------------------------------------------------------
 
 def _conditions(rec: dict) -> str:
     parts = []
     v = rec.get("v_upper_v")
-    if not _isnan(v):
+    if not is_missing(v):
         parts.append(f"{v:.4g} V")
-    elif not _isnan(rec.get("v_ac_rms")):
+    elif not is_missing(rec.get("v_ac_rms")):
         parts.append(f"{rec['v_ac_rms']:.4g} V rms")
     t = rec.get("t_operating_c")
-    if not _isnan(t):
+    if not is_missing(t):
         parts.append(f"{t:.4g} °C")
     return ", ".join(parts)
 
 
 def _value_text(rec: dict) -> str:
-    from bomcheck.render.terminal import fmt_si
-
-    bits = [fmt_si(rec.get("capacitance_f"), "F"), fmt_si(rec.get("voltage_v"), "V")]
+    bits = [format_si(rec.get("capacitance_f"), "F"), format_si(rec.get("voltage_v"), "V")]
     if rec.get("voltage_kind") == "ac" and bits[1]:
         bits[1] += " AC"
     for k in ("dielectric", "safety_class", "package"):
-        if not _isnan(rec.get(k)) and rec.get(k):
+        if not is_missing(rec.get(k)) and rec.get(k):
             bits.append(str(rec[k]))
     return " ".join(b for b in bits if b)
 
@@ -385,7 +261,7 @@ def _placements_section(report) -> list[str]:
             f'{esc(format_metric(gcols["value"][pos], metric))}</td>'
             f'<td class="num"{_num_attr(gcols["limit"][pos])}>'
             f'{esc(format_metric(gcols["limit"][pos], metric))}</td>'
-            f'<td class="num"{_num_attr(rel)}>{"" if _isnan(rel) else f"{rel:.1%}"}</td>'
+            f'<td class="num"{_num_attr(rel)}>{"" if is_missing(rel) else f"{rel:.1%}"}</td>'
             f'<td>{_t(gcols["basis"][pos])}</td><td class="expl">{_t(gcols["message"][pos])}</td>'
             f'<td class="bomtext">{_t(rec.get("text"))}</td></tr>')
     boxes = "".join(f'<label><input type="checkbox" value="{s}" checked> {s}</label>'
@@ -413,7 +289,7 @@ def _verdict_rows(v: pd.DataFrame, metric_of: dict, rows_of: pd.Series) -> list[
         row = rows_of.get(pidx) if pidx in rows_of.index else None
         waived = cols["waived_from"][i]
         status = _status(cols["status"][i]) + (
-            f' <span class="muted">(was {_t(waived)})</span>' if not _isnan(waived) else "")
+            f' <span class="muted">(was {_t(waived)})</span>' if not is_missing(waived) else "")
         out.append(
             f'<tr data-status="{_t(cols["status"][i])}" data-pos="{i}">'
             f'<td>{_t(cols["refdes"][i])}</td><td class="num"{_num_attr(row)}>{_t(row)}</td>'
@@ -462,20 +338,18 @@ def _verdicts_section(report) -> list[str]:
 
 
 def _groups_section(report) -> list[str]:
-    from bomcheck.render.terminal import _group_cells, fmt_num, fmt_si
-
     groups = getattr(report, "groups", ()) or ()
     if not groups:
         return []
     rows = []
     for g in groups:
-        need, discharge, shares = _group_cells(g)
+        need, discharge, shares = group_cells(g)
         rows.append(f"<tr><td>{_t(g.get('name'))}</td><td>{_t(g.get('kind'))}</td>"
                     f"<td>{esc(', '.join(map(str, g.get('members') or ())))}</td>"
-                    f"<td class=\"num\">{esc(fmt_si(g.get('v_node_v'), 'V'))}</td>"
-                    f"<td class=\"num\">{esc(fmt_si(g.get('c_eq_f'), 'F'))}</td>"
+                    f"<td class=\"num\">{esc(format_si(g.get('v_node_v'), 'V'))}</td>"
+                    f"<td class=\"num\">{esc(format_si(g.get('c_eq_f'), 'F'))}</td>"
                     f"<td>{esc(need)}</td>"
-                    f"<td class=\"num\">{esc(fmt_num(g.get('energy_j'), '{:.3g}', ' J'))}</td>"
+                    f"<td class=\"num\">{esc(energy(g.get('energy_j')))}</td>"
                     f"<td>{esc(discharge)}</td><td>{esc(shares)}</td></tr>")
     return ["<h2 id=\"groups\">Banks and series stacks</h2>",
             _table(("group", "kind", "members", "node", "C eq", "C worst / need", "energy",
@@ -483,8 +357,6 @@ def _groups_section(report) -> list[str]:
 
 
 def _totals_section(report) -> list[str]:
-    from bomcheck.render.terminal import accounting_line
-
     t = report.totals
     rows = [f"<tr><td>{_status(s)}</td><td class=\"num\">{int(t.get(s, 0))}</td></tr>"
             for s in STATUSES]
@@ -533,7 +405,7 @@ def audit_html(report) -> str:
             "<a href=\"#inputs\">inputs</a> · <a href=\"#cautions\">cautions</a></nav>"
             "</header>"]
     body += _totals_section(report)
-    body += _chart_section(report)
+    body += chart_section(report)
     body += _placements_section(report)
     body += _verdicts_section(report)
     body += _groups_section(report)
@@ -550,8 +422,6 @@ def audit_html(report) -> str:
 def substitute_html(result) -> str:
     """The substitute check as one self-contained HTML page: one row per alternate with its
     verdict and reason, then each alternate's placements side by side and its reasons."""
-    from bomcheck.substitute.words import designator_list
-
     title = f"bomcheck substitute check: {result.status}"
     t = result.totals
     body = [f"<header><h1>{esc(title)}</h1>",

@@ -14,6 +14,8 @@ from dataclasses import dataclass
 from importlib import import_module
 from typing import Any
 
+from bomcheck.errors import InputError
+
 
 @dataclass(frozen=True)
 class OutputContext:
@@ -46,8 +48,6 @@ class Output:
         try:
             return getattr(import_module(module), func)
         except ImportError as exc:
-            from bomcheck.errors import InputError
-
             raise InputError(f"--{self.name} is not available in this installation ({exc})") \
                 from None
 

@@ -22,7 +22,7 @@ import math
 import os
 from urllib.parse import quote
 
-from bomcheck.render.textsafe import json_dumps
+from bomcheck.report.jsontext import json_dumps
 
 SARIF_SCHEMA = "https://json.schemastore.org/sarif-2.1.0.json"
 SARIF_VERSION = "2.1.0"
@@ -75,15 +75,37 @@ def _bom(report) -> dict:
 
 def sarif_log(report) -> dict:
     """The SARIF 2.1.0 log of ``report`` as Python values (module docstring)."""
-    bom = _bom(report)
-    rules_in_force = {} if report.rules is None else {r.id: r for r in report.rules.rules}
     bad = report.verdicts_worst_first()
-    rows = report.table["row"]
-    rule_ids: list[str] = []
-    for rule_id in bad["rule_id"].tolist() if len(bad) else []:
-        if rule_id not in rule_ids:
-            rule_ids.append(str(rule_id))
+    rule_ids = [str(r) for r in dict.fromkeys(bad["rule_id"].tolist() if len(bad) else [])]
     index = {r: i for i, r in enumerate(rule_ids)}
+    descriptors = _descriptors(report, rule_ids)
+    artifacts = [{"location": {"uri": _uri(d.get("path") or "")},
+                  "roles": ["analysisTarget" if d.get("role") == "bom" else "attachment"],
+                  "hashes": {"sha-256": d.get("sha256")}} if d.get("sha256") else
+                 {"location": {"uri": _uri(d.get("path") or "")}} for d in report.inputs]
+    results = _verdict_results(report, bad, index)
+    results += _unmatched_results(report, index, descriptors)
+    return {
+        "$schema": SARIF_SCHEMA,
+        "version": SARIF_VERSION,
+        "runs": [{
+            "tool": {"driver": {"name": "bomcheck", "version": report.tool_version,
+                                "rules": descriptors}},
+            "artifacts": artifacts,
+            "results": results,
+            "invocations": [{"executionSuccessful": True, "toolExecutionNotifications": [
+                {"level": "warning", "message": {"text": _text(str(w))}}
+                for w in report.input_warnings]}],
+            "properties": {"status": report.status, "environment": report.environment,
+                           "ruleSets": [f"{r.get('name')} {r.get('version')}"
+                                        for r in report.rulesets]},
+        }],
+    }
+
+
+def _descriptors(report, rule_ids: list[str]) -> list[dict]:
+    """``tool.driver.rules``: each rule with a result, from the rules in force where it is one."""
+    rules_in_force = {} if report.rules is None else {r.id: r for r in report.rules.rules}
     descriptors = []
     for rule_id in rule_ids:
         rule = rules_in_force.get(rule_id)
@@ -99,11 +121,14 @@ def sarif_log(report) -> dict:
             d["shortDescription"] = {"text": "a check made by the audit itself (inputs, "
                                              "design sheet, BOM consistency)"}
         descriptors.append(d)
-    artifacts = [{"location": {"uri": _uri(d.get("path") or "")},
-                  "roles": ["analysisTarget" if d.get("role") == "bom" else "attachment"],
-                  "hashes": {"sha-256": d.get("sha256")}} if d.get("sha256") else
-                 {"location": {"uri": _uri(d.get("path") or "")}} for d in report.inputs]
+    return descriptors
+
+
+def _verdict_results(report, bad, index: dict[str, int]) -> list[dict]:
+    """One result per verdict that is not a pass, located at its placement's BOM line."""
+    bom = _bom(report)
     bom_index = next((i for i, d in enumerate(report.inputs) if d is bom), 0)
+    rows = report.table["row"]
     results = []
     cols = [bad[c] if c in bad else [None] * len(bad) for c in
             ("pidx", "refdes", "rule_id", "status", "message", "source", "basis", "value",
@@ -131,45 +156,32 @@ def sarif_log(report) -> dict:
             result["suppressions"] = [{"kind": "external", "status": "accepted",
                                        "justification": f"waived (was {_text(was)})"}]
         results.append(result)
+    return results
+
+
+def _unmatched_results(report, index: dict[str, int], descriptors: list[dict]) -> list[dict]:
+    """Design-sheet rows that name no BOM placement: no data, located in the design sheet (the
+    rule's descriptor is added to ``descriptors`` when needed)."""
     design_index = next((i for i, d in enumerate(report.inputs) if d.get("role") == "design"),
                         None)
-    if report.design_unmatched and design_index is not None:
-        # Design-sheet rows that name no BOM placement: no data, located in the design sheet.
-        design = report.inputs[design_index]
-        if UNMATCHED_RULE not in index:
-            index[UNMATCHED_RULE] = len(descriptors)
-            descriptors.append({"id": UNMATCHED_RULE, "name": UNMATCHED_RULE,
-                                "shortDescription": {"text": "a design-sheet row names no "
-                                                             "placement of the BOM"}})
-        for d in report.design_unmatched:
-            results.append({
-                "ruleId": UNMATCHED_RULE, "ruleIndex": index[UNMATCHED_RULE],
-                "level": "warning", "message": {"text": _text(d.get("reason"))},
-                "locations": [{"physicalLocation": {
-                    "artifactLocation": {"uri": _uri(design.get("path") or ""),
-                                         "index": design_index},
-                    "region": {"startLine": max(1, int(d.get("row") or 1))}},
-                    "logicalLocations": [{"name": _text(d.get("refdes")), "kind": "element"}]}],
-                "partialFingerprints": {"placementRule/v1": f"{d.get('refdes')}:"
-                                                            f"{UNMATCHED_RULE}"},
-                "properties": {"status": "nodata", "refdes": _text(d.get("refdes"))},
-            })
-    return {
-        "$schema": SARIF_SCHEMA,
-        "version": SARIF_VERSION,
-        "runs": [{
-            "tool": {"driver": {"name": "bomcheck", "version": report.tool_version,
-                                "rules": descriptors}},
-            "artifacts": artifacts,
-            "results": results,
-            "invocations": [{"executionSuccessful": True, "toolExecutionNotifications": [
-                {"level": "warning", "message": {"text": _text(str(w))}}
-                for w in report.input_warnings]}],
-            "properties": {"status": report.status, "environment": report.environment,
-                           "ruleSets": [f"{r.get('name')} {r.get('version')}"
-                                        for r in report.rulesets]},
-        }],
-    }
+    if not report.design_unmatched or design_index is None:
+        return []
+    design = report.inputs[design_index]
+    if UNMATCHED_RULE not in index:
+        index[UNMATCHED_RULE] = len(descriptors)
+        descriptors.append({"id": UNMATCHED_RULE, "name": UNMATCHED_RULE,
+                            "shortDescription": {"text": "a design-sheet row names no "
+                                                         "placement of the BOM"}})
+    return [{
+        "ruleId": UNMATCHED_RULE, "ruleIndex": index[UNMATCHED_RULE],
+        "level": "warning", "message": {"text": _text(d.get("reason"))},
+        "locations": [{"physicalLocation": {
+            "artifactLocation": {"uri": _uri(design.get("path") or ""), "index": design_index},
+            "region": {"startLine": max(1, int(d.get("row") or 1))}},
+            "logicalLocations": [{"name": _text(d.get("refdes")), "kind": "element"}]}],
+        "partialFingerprints": {"placementRule/v1": f"{d.get('refdes')}:{UNMATCHED_RULE}"},
+        "properties": {"status": "nodata", "refdes": _text(d.get("refdes"))},
+    } for d in report.design_unmatched]
 
 
 def sarif_json(report) -> str:

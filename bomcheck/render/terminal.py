@@ -13,6 +13,12 @@ from rich.table import Table
 from rich.text import Text
 from rich.theme import Theme
 
+from bomcheck.quantity import format_metric, format_si, is_missing
+from bomcheck.render.verdicts import not_audited_counts
+from bomcheck.render.textparts import accounting_line, energy, group_cells, number
+from bomcheck.report.diff import summary_line
+from bomcheck.report.model import ruleset_summary
+from bomcheck.substitute.words import designator_list
 
 THEME = Theme(
     {
@@ -40,26 +46,6 @@ def make_console(*, file=None, no_color: bool = False, width: int | None = None)
                    highlight=False, soft_wrap=False)
 
 
-def fmt_si(value, unit: str) -> str:
-    """A number with an SI prefix and unit: 4.7e-06, "F" -> "4.7 uF"."""
-    if value is None or (isinstance(value, float) and math.isnan(value)):
-        return ""
-    if value == 0:
-        return f"0 {unit}"
-    prefixes = ((1e-12, "p"), (1e-9, "n"), (1e-6, "u"), (1e-3, "m"), (1.0, ""), (1e3, "k"), (1e6, "M"))
-    scale, prefix = prefixes[0]
-    for s, p in prefixes:
-        if abs(value) >= s * 0.9999999:
-            scale, prefix = s, p
-    return f"{value / scale:.4g} {prefix}{unit}"
-
-
-def fmt_num(value, fmt: str = "{:.3g}", suffix: str = "") -> str:
-    if value is None or (isinstance(value, float) and math.isnan(value)):
-        return ""
-    return fmt.format(value) + suffix
-
-
 def status_text(status: str) -> Text:
     return Text(status.upper() if status in ("fail", "warn") else status, style=f"status.{status}")
 
@@ -73,16 +59,16 @@ def print_specs(console: Console, specs: Iterable) -> None:
     for s in specs:
         tol = ""
         if s.tol_abs_f is not None:
-            tol = f"±{fmt_si(s.tol_abs_f, 'F')}"
+            tol = f"±{format_si(s.tol_abs_f, 'F')}"
         elif s.tol_minus_pct is not None:
             tol = (f"±{s.tol_minus_pct:g} %" if s.tol_minus_pct == s.tol_plus_pct
                    else f"+{s.tol_plus_pct:g}/-{s.tol_minus_pct:g} %")
         temps = ""
         if s.temp_min_c is not None or s.temp_max_c is not None:
-            temps = f"{fmt_num(s.temp_min_c, '{:g}')}..{fmt_num(s.temp_max_c, '{:g}')} °C"
-        volt = fmt_si(s.voltage_v, "V") + (" AC" if s.voltage_kind == "ac" else "")
+            temps = f"{number(s.temp_min_c, 6)}..{number(s.temp_max_c, 6)} °C"
+        volt = format_si(s.voltage_v, "V") + (" AC" if s.voltage_kind == "ac" else "")
         table.add_row(
-            s.text, "yes" if s.is_capacitor else "no", fmt_si(s.capacitance_f, "F"), volt, tol,
+            s.text, "yes" if s.is_capacitor else "no", format_si(s.capacitance_f, "F"), volt, tol,
             s.dielectric or s.safety_class or "", s.technology or "", temps, s.package or "",
             ", ".join([*s.unread, *s.warnings]),
         )
@@ -98,10 +84,10 @@ def print_import(console: Console, result, *, show_all: bool = False) -> None:
         table.add_column(col, overflow="fold")
     limit = len(p) if show_all else DEFAULT_ROWS
     for rec in p.head(limit).itertuples(index=False):
-        tol = "" if rec.tol_minus_pct is None or _isnan(rec.tol_minus_pct) else f"{rec.tol_minus_pct:g} %"
+        tol = "" if rec.tol_minus_pct is None or is_missing(rec.tol_minus_pct) else f"{rec.tol_minus_pct:g} %"
         table.add_row(
             rec.refdes, str(rec.row), "yes" if rec.fitted else Text("no", style="muted"),
-            fmt_si(rec.capacitance_f, "F"), fmt_si(rec.voltage_v, "V"), tol,
+            format_si(rec.capacitance_f, "F"), format_si(rec.voltage_v, "V"), tol,
             rec.dielectric or "", rec.technology or "", rec.package or "", rec.text,
         )
     console.print(table)
@@ -111,10 +97,6 @@ def print_import(console: Console, result, *, show_all: bool = False) -> None:
     for f in result.findings:
         console.print(f"[status.warn]finding[/] row {f.row}: {f.message}")
     console.print(accounting_line(result.totals))
-
-
-def _isnan(v) -> bool:
-    return isinstance(v, float) and math.isnan(v)
 
 
 def _print_skipped(console: Console, skipped, limit: int = 20) -> None:
@@ -136,27 +118,16 @@ def verdict_line(report) -> Text:
                          f" ({report.environment} environment)")
 
 
-def accounting_line(totals: dict) -> str:
-    """rows read = capacitor rows + non-capacitor rows + unreadable rows (+ approved-source rows
-    + rows that are not placements, when there are any), with the counts."""
-    from bomcheck.parse.accounting import accounting_identity
-
-    return (
-        f"{accounting_identity(totals)[0]}; placements {totals['placements']} "
-        f"(fitted {totals['fitted']}, not fitted {totals['not_fitted']})"
-    )
-
-
 def _conditions(rec) -> str:
     parts = []
-    if not _isnan(rec.v_upper_v):
+    if not is_missing(rec.v_upper_v):
         v = f"{rec.v_upper_v:.4g} V"
-        if not _isnan(getattr(rec, "v_ripple_pk", math.nan)) and rec.v_ripple_pk:
+        if not is_missing(getattr(rec, "v_ripple_pk", math.nan)) and rec.v_ripple_pk:
             v += f"+{rec.v_ripple_pk:.3g}"
         parts.append(v)
-    elif not _isnan(getattr(rec, "v_ac_rms", math.nan)):
+    elif not is_missing(getattr(rec, "v_ac_rms", math.nan)):
         parts.append(f"{rec.v_ac_rms:.4g} V rms")
-    if not _isnan(rec.t_operating_c):
+    if not is_missing(rec.t_operating_c):
         parts.append(f"{rec.t_operating_c:.4g} °C")
     return ", ".join(parts)
 
@@ -165,45 +136,14 @@ def print_audit(console: Console, report, *, show_all: bool = False) -> None:
     """The audit worst first (a table, or below ``COMPACT_WIDTH`` columns a short list per
     placement), the findings behind it, the totals by status, what was not audited, and the
     cautions."""
-    gov = report.governing()
     ordered = report.worst_first()
     limit = len(ordered) if show_all else DEFAULT_ROWS
     shown = ordered.head(limit)
-    compact = console.width < COMPACT_WIDTH
-    rows = []
-    for i, rec in zip(shown.index, shown.itertuples(index=False)):
-        g = gov.loc[i] if i in gov.index else None
-        rows.append((rec, "" if g is None else _fmt_metric(g.get("value"), g.get("metric")),
-                     "" if g is None else _fmt_metric(g.get("limit"), g.get("metric")),
-                     "" if g is None else str(g["rule_id"])))
-    if compact:
-        console.print(Text("Capacitor derating audit (worst first)", style="heading"))
-        passing = 0
-        for rec, stress, lim, rule in rows:
-            if rec.status == "pass" and not show_all:
-                passing += 1
-                continue
-            figures = f": {stress or '-'} / {lim or '-'}" if stress or lim else ""
-            console.print(Text.assemble(status_text(rec.status),
-                                        f" {rec.refdes} row {rec.row} {rule}{figures}"))
-            part = " ".join(p for p in (_short_value(rec), rec.technology or "?") if p)
-            where = _conditions(rec)
-            console.print(f"    {part}" + (f"; {where}" if where else ""))
-        if passing:
-            console.print(f"[muted]{passing} of these placements pass (listed with --all)[/]")
+    rows = _audit_rows(report.governing(), shown)
+    if console.width < COMPACT_WIDTH:
+        _print_audit_list(console, rows, show_all)
     else:
-        table = Table(title="Capacitor derating audit (worst first)", header_style="heading")
-        for col, just, nowrap in (
-                ("refdes", "left", True), ("row", "right", True), ("value", "left", False),
-                ("technology", "left", False), ("conditions", "left", False),
-                ("stress", "right", True), ("limit", "right", True), ("status", "left", True),
-                ("rule", "left", True)):
-            table.add_column(col, justify=just, no_wrap=nowrap, overflow="ellipsis"
-                             if nowrap else "fold")
-        for rec, stress, lim, rule in rows:
-            table.add_row(rec.refdes, str(rec.row), _short_value(rec), rec.technology or "?",
-                          _conditions(rec), stress, lim, status_text(rec.status), rule)
-        console.print(table)
+        _print_audit_table(console, rows)
     if len(ordered) > limit:
         console.print(f"[muted]... {len(ordered) - limit} more placements (use --all)[/]")
     print_findings(console, report, shown.index if not show_all else None)
@@ -212,11 +152,8 @@ def print_audit(console: Console, report, *, show_all: bool = False) -> None:
     print_waiver_findings(console, report.waiver_findings)
     print_groups(console, getattr(report, "groups", ()))
     print_counts(console, report)
-    not_audited = report.not_audited()
-    if not_audited:
-        kinds: dict[str, int] = {}
-        for d in not_audited:
-            kinds[d["kind"]] = kinds.get(d["kind"], 0) + 1
+    kinds = not_audited_counts(report)
+    if kinds:
         console.print("Not audited: " + ", ".join(f"{k.replace('_', ' ')} {n}" for k, n in kinds.items())
                       + " (each with its reason in the JSON report; bomcheck import lists them)")
     console.print(accounting_line(report.totals))
@@ -227,6 +164,54 @@ def print_audit(console: Console, report, *, show_all: bool = False) -> None:
     for c in report.cautions:
         console.print(f"[caution]Caution: {c}[/]")
     console.print(verdict_line(report))
+
+
+def _audit_rows(gov, shown) -> list[tuple]:
+    """(placement record, stress, limit, rule) of each placement shown."""
+    rows = []
+    for i, rec in zip(shown.index, shown.itertuples(index=False)):
+        g = gov.loc[i] if i in gov.index else None
+        if g is None:
+            rows.append((rec, "", "", ""))
+            continue
+        rows.append((rec, format_metric(g.get("value"), g.get("metric"), glyphs=True),
+                     format_metric(g.get("limit"), g.get("metric"), glyphs=True),
+                     str(g["rule_id"])))
+    return rows
+
+
+def _print_audit_list(console: Console, rows: list[tuple], show_all: bool) -> None:
+    """The narrow layout: two lines per placement that is not a pass (all with ``show_all``)."""
+    console.print(Text("Capacitor derating audit (worst first)", style="heading"))
+    passing = 0
+    for rec, stress, lim, rule in rows:
+        if rec.status == "pass" and not show_all:
+            passing += 1
+            continue
+        figures = f": {stress or '-'} / {lim or '-'}" if stress or lim else ""
+        console.print(Text.assemble(status_text(rec.status),
+                                    f" {rec.refdes} row {rec.row} {rule}{figures}"))
+        part = " ".join(p for p in (_short_value(rec), rec.technology or "?") if p)
+        where = _conditions(rec)
+        console.print(f"    {part}" + (f"; {where}" if where else ""))
+    if passing:
+        console.print(f"[muted]{passing} of these placements pass (listed with --all)[/]")
+
+
+def _print_audit_table(console: Console, rows: list[tuple]) -> None:
+    """The wide layout: one table row per placement shown."""
+    table = Table(title="Capacitor derating audit (worst first)", header_style="heading")
+    for col, just, nowrap in (
+            ("refdes", "left", True), ("row", "right", True), ("value", "left", False),
+            ("technology", "left", False), ("conditions", "left", False),
+            ("stress", "right", True), ("limit", "right", True), ("status", "left", True),
+            ("rule", "left", True)):
+        table.add_column(col, justify=just, no_wrap=nowrap, overflow="ellipsis"
+                         if nowrap else "fold")
+    for rec, stress, lim, rule in rows:
+        table.add_row(rec.refdes, str(rec.row), _short_value(rec), rec.technology or "?",
+                      _conditions(rec), stress, lim, status_text(rec.status), rule)
+    console.print(table)
 
 
 def print_counts(console: Console, report) -> None:
@@ -261,24 +246,10 @@ def print_findings(console: Console, report, placements=None, limit: int = 40) -
 
 
 def _short_value(rec) -> str:
-    parts = [fmt_si(rec.capacitance_f, "F"), fmt_si(rec.voltage_v, "V")]
+    parts = [format_si(rec.capacitance_f, "F"), format_si(rec.voltage_v, "V")]
     if rec.dielectric:
         parts.append(rec.dielectric)
     return " ".join(p for p in parts if p)
-
-
-def _fmt_metric(value, metric) -> str:
-    """A verdict's value or limit in its metric's display unit."""
-    from bomcheck.vocabulary import METRICS
-
-    if value is None or _isnan(value):
-        return ""
-    m = METRICS.get(metric) if isinstance(metric, str) else None
-    if m is None:
-        return f"{value:.4g}"
-    if m.percent:
-        return f"{value:.1%}"
-    return f"{value:.4g} {m.unit}".replace("degC", "°C").strip()
 
 
 def print_ruleset_names(console: Console, names: Iterable[str], default: str) -> None:
@@ -290,8 +261,6 @@ def print_ruleset_names(console: Console, names: Iterable[str], default: str) ->
 
 def print_rules(console: Console, ruleset) -> None:
     """Every rule of a rule set with its limits and source."""
-    from bomcheck.report.model import ruleset_summary
-
     rows = [r.to_dict() for r in ruleset.describe()]
     summary = ruleset_summary(ruleset)
     title = "; ".join(f"{s['name']} {s['version']}: {s['title']}" for s in summary)
@@ -319,8 +288,6 @@ def print_waiver_findings(console: Console, findings) -> None:
 def print_diff(console: Console, diff, *, show_all: bool = False) -> None:
     """A comparison with a baseline report (``bomcheck.report.diff.Diff``): a table of the verdicts
     that changed, are new or were resolved (problems marked), then the counts."""
-    from bomcheck.report.diff import summary_line
-
     rows = diff.rows(include_pass=show_all)
     if rows:
         title = "Changes since the baseline"
@@ -357,11 +324,11 @@ def print_groups(console: Console, groups) -> None:
     if console.width < COMPACT_WIDTH:
         console.print(Text("Banks and series stacks", style="heading"))
         for g in groups:
-            need, discharge, shares = _group_cells(g)
+            need, discharge, shares = group_cells(g)
             console.print(f"{g['name']} ({g['kind']}): {', '.join(g['members'])}")
-            bits = [f"node {fmt_si(g.get('v_node_v'), 'V')}", f"C eq {fmt_si(g.get('c_eq_f'), 'F')}"]
+            bits = [f"node {format_si(g.get('v_node_v'), 'V')}", f"C eq {format_si(g.get('c_eq_f'), 'F')}"]
             bits += [f"C worst / need {need}"] if need else []
-            bits += [f"energy {fmt_num(g.get('energy_j'), '{:.3g}', ' J')}"]
+            bits += [f"energy {energy(g.get('energy_j'))}"]
             bits += [f"discharge {discharge}"] if discharge else []
             bits += [f"shares (capacitive / DC) {shares}"] if shares else []
             console.print("    " + "; ".join(bits))
@@ -371,29 +338,13 @@ def print_groups(console: Console, groups) -> None:
                 "discharge", "member shares (capacitive / DC)"):
         table.add_column(col, overflow="fold")
     for g in groups:
-        need, discharge, shares = _group_cells(g)
+        need, discharge, shares = group_cells(g)
         table.add_row(
-            g["name"], g["kind"], ", ".join(g["members"]), fmt_si(g.get("v_node_v"), "V"),
-            fmt_si(g.get("c_eq_f"), "F"), need, fmt_num(g.get("energy_j"), "{:.3g}", " J"),
+            g["name"], g["kind"], ", ".join(g["members"]), format_si(g.get("v_node_v"), "V"),
+            format_si(g.get("c_eq_f"), "F"), need, energy(g.get("energy_j")),
             discharge, shares,
         )
     console.print(table)
-
-
-def _group_cells(g: dict) -> tuple[str, str, str]:
-    """A group's need, discharge and member shares as text."""
-    need = ""
-    if g.get("c_min_f"):
-        need = f"{fmt_si(g.get('c_worst_f'), 'F')} / {fmt_si(g['c_min_f'], 'F')}"
-        if g.get("c_margin") is not None:
-            need += f" = {g['c_margin']:.0%}"
-    discharge = ""
-    if g.get("discharge_s") is not None:
-        discharge = f"{g['discharge_s']:.3g} s via {fmt_si(g.get('r_discharge_ohm'), 'ohm')}"
-    shares = ", ".join(
-        f"{s['refdes']} {fmt_num(s.get('v_share_cap_v'), '{:.4g}')} / "
-        f"{fmt_num(s.get('v_share_dc_v'), '{:.4g}')} V" for s in g.get("shares") or ())
-    return need, discharge, shares
 
 
 # Verdicts of the substitute check (bomcheck.substitute.check) shown with the audit's status styles.
@@ -411,8 +362,8 @@ def _stress(governing, metric_of: dict) -> str:
     if not governing:
         return ""
     metric = metric_of.get(governing["rule"])
-    value, limit = _fmt_metric(governing.get("value"), metric), _fmt_metric(
-        governing.get("limit"), metric)
+    value, limit = format_metric(governing.get("value"), metric, glyphs=True), format_metric(
+        governing.get("limit"), metric, glyphs=True)
     return f"{value} / {limit} {governing['rule']}" if value else governing["rule"]
 
 
@@ -420,8 +371,6 @@ def print_substitutes(console: Console, result, *, show_all: bool = False) -> No
     """The substitute check (``bomcheck.substitute.check.SubstituteResult``): one row per alternate
     with its verdict and reason; then, for every alternate that is not a drop-in (all with
     ``show_all``), its placements side by side and its reasons; the totals and cautions."""
-    from bomcheck.substitute.words import designator_list
-
     table = Table(title="Substitute check", header_style="heading")
     for col in ("original", "alternate", "placements", "verdict", "reason"):
         table.add_column(col, overflow="fold")

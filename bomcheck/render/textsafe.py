@@ -10,20 +10,23 @@ every writer of that format uses:
   comment, link, emphasis or cell break passes (CommonMark 0.30, 2.4 "Backslash escapes": any
   ASCII punctuation may be escaped).
 - ``html_text``: text for an HTML element or a quoted attribute.
+- ``spreadsheet_unsafe``: the same guard for a workbook cell (a formula lead or an error value
+  such as ``#N/A`` makes the writer store a text cell).
 - ``starts_formula`` / ``csv_field``: the CSV-injection guard (OWASP "CSV Injection"): a cell
   that starts with ``=``, ``+``, ``-``, ``@``, tab or CR gets a leading single quote; in a cell
   holding a separator followed by a formula lead (``x;=1+1``, which a spreadsheet reading with
   another list separator splits into a formula cell, quotes or not) that lead gets a single
   quote too (``x;'=1+1``); both kinds are always quoted.
-- ``json_dumps``: strict JSON, a NaN or infinity written as null.
+- ``json_dumps``: strict JSON, a NaN or infinity written as null (``bomcheck.report.jsontext``,
+  re-exported here for the writers).
 - ``natural_key``: designators in the order a reader expects (C7 before C10).
 """
 
 from __future__ import annotations
 
-import json
-import math
 import re
+
+from bomcheck.report.jsontext import json_dumps  # noqa: F401  (the writers' strict JSON)
 
 # XML 1.0 Char production: #x9 | #xA | #xD | [#x20-#xD7FF] | [#xE000-#xFFFD] | [#x10000-#x10FFFF];
 # its complement written out (the negated class over all of Unicode takes 15 ms to compile).
@@ -37,6 +40,9 @@ _MD_SPECIAL = re.compile(r"([\\`*_\[\]<>|&~])")
 _MD_BLOCK_LEAD = re.compile(r"^(?:(#{1,6}|[+\-]|=+)(?=\s|$)|(\d{1,9})(?=[.)](?:\s|$)))")
 
 FORMULA_LEADS: tuple[str, ...] = ("=", "+", "-", "@", "\t", "\r")
+# The seven error values a spreadsheet cell can hold (the same as openpyxl.cell.cell.ERROR_CODES,
+# which tests/test_textsafe.py compares).
+SPREADSHEET_ERRORS = frozenset({"#NULL!", "#DIV/0!", "#VALUE!", "#REF!", "#NAME?", "#NUM!", "#N/A"})
 _HIDDEN_FORMULA = re.compile(r"([,;\t\r\n|]\s*)([=+\-@])")
 _CSV_QUOTE_WHEN = re.compile(r'[,";\t\r\n]')
 
@@ -75,6 +81,12 @@ def starts_formula(text: str) -> bool:
     """True when a spreadsheet would take ``text`` as a formula: it starts (after spaces) with
     ``=``, ``+``, ``-``, ``@``, tab or CR."""
     return text.startswith(FORMULA_LEADS) or text.lstrip(" ").startswith(FORMULA_LEADS)
+
+
+def spreadsheet_unsafe(text: str) -> bool:
+    """True when a spreadsheet cell holding ``text`` would be read as a formula or an error
+    value (``#N/A``...): the workbook writers store such text as a text cell."""
+    return starts_formula(text) or text in SPREADSHEET_ERRORS
 
 
 def hides_formula(text: str) -> bool:
@@ -116,25 +128,3 @@ def natural_key(text: object) -> tuple:
     return tuple((0, len(p.lstrip("0")), p.lstrip("0")) if i % 2 else (1, 0, p)
                  for i, p in enumerate(parts) if p)
 
-
-def _finite(value):
-    """``value`` with every NaN and infinity (in nested dicts, lists and tuples) made None."""
-    if isinstance(value, float):
-        return value if math.isfinite(value) else None
-    if isinstance(value, dict):
-        return {k: _finite(v) for k, v in value.items()}
-    if isinstance(value, (list, tuple)):
-        return [_finite(v) for v in value]
-    return value
-
-
-def json_dumps(value, *, indent: int | None = None) -> str:
-    """Strict JSON text (RFC 8259): a NaN or an infinity anywhere is written as null, never as
-    ``NaN``/``Infinity``; non-ASCII kept as is. Compact separators unless ``indent``."""
-    separators = (",", ":") if indent is None else None
-    try:
-        return json.dumps(value, ensure_ascii=False, allow_nan=False, indent=indent,
-                          separators=separators)
-    except ValueError:
-        return json.dumps(_finite(value), ensure_ascii=False, allow_nan=False, indent=indent,
-                          separators=separators)

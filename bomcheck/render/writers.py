@@ -23,7 +23,7 @@ def write_json(report, path: str, ctx: OutputContext) -> None:
 
 def write_junit(report, path: str, ctx: OutputContext) -> None:
     """JUnit XML, one test case per fitted placement."""
-    from bomcheck.render.exports import junit_xml
+    from bomcheck.render.junit import junit_xml
 
     write_text(path, junit_xml(report, warn_as=ctx.warn_as))
 
@@ -35,14 +35,14 @@ def write_markdown(report, path: str, ctx: OutputContext) -> None:
 
         write_text(path, substitute_markdown(ctx.substitutes))
     else:
-        from bomcheck.render.exports import markdown_summary
+        from bomcheck.render.markdown import markdown_summary
 
         write_text(path, markdown_summary(report, diff=ctx.diff))
 
 
 def write_csv(report, path: str, ctx: OutputContext) -> None:
     """One CSV row per fitted placement."""
-    from bomcheck.render.exports import csv_rows
+    from bomcheck.render.csvrows import csv_rows
 
     write_text(path, csv_rows(report))
 

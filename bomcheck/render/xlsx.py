@@ -1,9 +1,11 @@
 """Report stage, spreadsheet edge: the reviewer's workbook (openpyxl, write-only) from a ``Report``.
 
 Sheets: Summary, Placements, Findings, Rules, Not audited, a voltage-ratio chart and the chart's
-data. Nothing here recomputes the audit: every figure comes from the report value. Text from
-input files is always stored as text, never as a formula, and the file appears only once it is
-complete.
+data. Nothing here recomputes the audit: every figure comes from the report value, and the
+Placements sheet carries every metric, condition and parts-data figure the JSON report carries
+(a column empty on every row is not written, on any sheet). Text from input files is always
+stored as text, never as a formula, and the file appears only once it is complete. What goes in
+the cells is ``xlsx_cells``; the chart is ``xlsx_chart``, the Summary sheet ``xlsx_summary``.
 """
 
 from __future__ import annotations
@@ -11,200 +13,28 @@ from __future__ import annotations
 import math
 import os
 from collections.abc import Sequence
-from dataclasses import dataclass
 from datetime import datetime, timezone
 
 import numpy as np
 import pandas as pd
 from openpyxl import Workbook
-from openpyxl.cell.cell import ERROR_CODES, WriteOnlyCell
-from openpyxl.chart import Reference, ScatterChart, Series
-from openpyxl.chart.layout import Layout, ManualLayout
-from openpyxl.chart.marker import Marker
+from openpyxl.cell.cell import Cell, WriteOnlyCell
 from openpyxl.styles import Alignment, Border, Font, NamedStyle, PatternFill, Side
 from openpyxl.utils import get_column_letter
 
-from bomcheck.report.chartdata import UNKNOWN_TECHNOLOGY, chart_points, limit_lines  # noqa: F401
 from bomcheck.render.outfiles import atomic_path
-from bomcheck.report.model import CONDITION_FIELDS, METRIC_FIELDS, SPEC_FIELDS
-from bomcheck.status import STATUS_ORDER
-from bomcheck.render.textsafe import FORMULA_LEADS, starts_formula, xml_text
-from bomcheck.vocabulary import CONDITIONS, METRICS
-
-# Excel's sheet limit, header row included.
-MAX_ROWS = 1_048_576
-# Excel holds at most this many characters in a cell.
-MAX_CELL_CHARS = 32_767
-
-# A cell starting with one of these is a formula to Excel or to a CSV import; input text that
-# does is stored as a text cell with the Text number format.
-UNSAFE_START = FORMULA_LEADS
-
-# Status fills: lightness falls as severity rises, so the order survives greyscale printing and
-# red-green colour blindness. (fill, font colour, bold)
-STATUS_PALETTE: dict[str, tuple[str, str, bool]] = {
-    "fail": ("5E2750", "FFFFFF", True),    # deep plum
-    "nodata": ("8E9CC2", "1B1F24", True),  # slate wisteria
-    "warn": ("E9D8A6", "1B1F24", False),   # sand
-    "pass": ("E3EBE8", "3B4148", False),   # pale sage grey
-    "waived": ("E2DED6", "3B4148", False),  # pale stone
-}
-HEADER_FILL = "DCE1E6"
-HEADER_RULE = "8A939C"
-
-# Marker colours of the chart's technology series; limit lines are charcoal with varied dashes.
-TECHNOLOGY_COLOURS: dict[str, str] = {
-    "ceramic": "2F6690",
-    "tantalum": "B5651D",
-    "tantalum-polymer": "7A4E9C",
-    "tantalum-wet": "3A7D44",
-    "tantalum-foil": "8C6D1F",
-    "aluminium-electrolytic": "9E2A2B",
-    "aluminium-polymer": "D08C60",
-    "film": "1B998B",
-    "mica": "6C757D",
-    "glass": "4C5B8F",
-    "supercapacitor": "C44569",
-}
-LIMIT_LINE_COLOUR = "33373D"
-LIMIT_DASHES = ("solid", "dash", "sysDot", "lgDash", "dashDot", "sysDash", "lgDashDot")
+from bomcheck.render.textsafe import spreadsheet_unsafe
+from bomcheck.render.xlsx_cells import (  # noqa: F401  (header_of, safe_text...: the module's API)
+    HEADER_FILL, HEADER_RULE, MAX_CELL_CHARS, MAX_ROWS, STATUS_PALETTE, UNSAFE_START, _KINDS,
+    _LABELS, _Column, _bools, _cell_text, _curve_points, _floats, _kind_of, _metric_kind,
+    _number_width, _numbers, _print_setup, _text, _width, filled, header_of, is_unsafe,
+    placement_fields, safe_text)
+from bomcheck.render.xlsx_chart import write_chart
+from bomcheck.render.xlsx_summary import write_summary
+from bomcheck.report.chartdata import UNKNOWN_TECHNOLOGY, limit_lines  # noqa: F401
 
 SHEETS = ("Summary", "Placements", "Findings", "Rules", "Not audited", "Voltage chart",
           "Chart data")
-
-
-@dataclass(frozen=True)
-class _Kind:
-    """How a column's numbers are stored and shown: a number format and a scale from SI."""
-
-    fmt: str | None  # None: plain cell, no named style
-    scale: float = 1.0
-    unit: str = ""  # shown in the header when the stored number is not in the SI unit
-
-
-# Number formats show a unit and a bounded number of decimals (a General format lets a long
-# float overflow a column, which spreadsheets then show as ###).
-_KINDS: dict[str, _Kind] = {
-    "text": _Kind(None),
-    "bool": _Kind(None),
-    "int": _Kind(None),  # General shows whole numbers as they are: no style needed
-    "num": _Kind("0.0###"),
-    "V": _Kind('0.0##" V"', unit="V"),
-    "degC": _Kind('0.0#" °C"', unit="°C"),
-    "uF": _Kind('0.0#####" uF"', 1e6, "uF"),
-    "pF": _Kind('0.0##" pF"', 1e12, "pF"),
-    "ratio": _Kind("0.0#%", unit="%"),  # a fraction shown as a percentage
-    "pct": _Kind("0.0#%", 0.01, "%"),  # a number of percent, stored as a fraction
-    "ppm": _Kind('0" ppm/°C"', unit="ppm/°C"),
-    "h": _Kind('#,##0" h"', unit="h"),
-    "J": _Kind('0.0###" J"', unit="J"),
-    "s": _Kind('0.0##" s"', unit="s"),
-    "ohm": _Kind('#,##0.0##" ohm"', unit="ohm"),
-    "ohm/V": _Kind('#,##0.0##" ohm/V"', unit="ohm/V"),
-    "A": _Kind('0.0###" A"', unit="A"),
-    "mA": _Kind('0.0###" mA"', 1e3, "mA"),
-    "W": _Kind('0.0###" W"', unit="W"),
-    "uC": _Kind('0.0##" uC"', unit="uC"),
-    "Hz": _Kind('#,##0" Hz"', unit="Hz"),
-    "V/s": _Kind('#,##0" V/s"', unit="V/s"),
-    "degC/W": _Kind('0.0#" °C/W"', unit="°C/W"),
-    "date": _Kind("yyyy-mm-dd hh:mm:ss"),
-}
-
-# Metric display units (vocabulary.METRICS) and condition units to column kinds.
-_UNIT_KINDS = {"V": "V", "degC": "degC", "delta_degC": "degC", "F": "uF", "J": "J", "s": "s",
-               "ohm": "ohm", "ohm/V": "ohm/V", "A": "A", "W": "W", "h": "h", "uC": "uC",
-               "Hz": "Hz", "V / s": "V/s", "%": "pct"}
-
-_FIELD_KINDS: dict[str, str] = {
-    "row": "int", "qty": "num", "is_capacitor": "bool", "capacitance_f": "uF", "voltage_v": "V",
-    "tol_minus_pct": "pct", "tol_plus_pct": "pct", "tol_abs_f": "pF", "dielectric_class": "int",
-    "cap_change_minus_pct": "pct", "cap_change_plus_pct": "pct", "tc_ppm": "ppm",
-    "tc_tol_ppm": "ppm", "temp_min_c": "degC", "temp_max_c": "degC", "emi_filter": "bool",
-    "polarized": "bool", "design_row": "int",
-    "v_upper_v": "V", "transient_peak_v": "V", "voltage_ratio": "ratio",
-    "transient_ratio": "ratio", "reverse_ratio": "ratio",
-    "temp_max_used_c": "degC", "c_tol_factor": "ratio", "c_temp_factor": "ratio",
-    "c_bias_factor": "ratio", "c_aging_factor": "ratio", "c_worst_f": "uF",
-    "esr_ohm": "ohm", "ripple_rated_a": "A", "ripple_rated_hz": "Hz", "surge_rated_a": "A",
-    "life_l0_h": "h", "life_t0_c": "degC", "leakage_a": "mA", "rth_c_per_w": "degC/W",
-    "dc_bias_keep": "ratio",
-}
-
-# Column headers a reviewer reads, where the registries' labels do not give one.
-_LABELS: dict[str, str] = {
-    "refdes": "designator", "mpn": "manufacturer part number", "text": "BOM text",
-    "qty": "quantity", "is_capacitor": "capacitor", "capacitance_f": "capacitance",
-    "voltage_v": "rated voltage", "voltage_kind": "rated voltage kind (dc/ac)",
-    "tol_minus_pct": "tolerance (minus)", "tol_plus_pct": "tolerance (plus)",
-    "tol_abs_f": "tolerance (absolute)", "dielectric_class": "dielectric class",
-    "cap_change_minus_pct": "capacitance change over temperature (minus)",
-    "cap_change_plus_pct": "capacitance change over temperature (plus)",
-    "tc_ppm": "temperature coefficient", "tc_tol_ppm": "temperature coefficient tolerance",
-    "film_material": "film material", "temp_min_c": "rated minimum temperature",
-    "temp_max_c": "rated maximum temperature", "package_note": "package note",
-    "safety_class": "safety class", "emi_filter": "EMI filter", "warnings": "parser warnings",
-    "unread": "unread text", "v_dc": "working voltage (v_dc)",
-    "v_dc_max": "rail upper bound (v_dc_max)", "v_tol_pct": "rail tolerance (v_tol_pct)",
-    "v_ripple_pk": "peak ripple (v_ripple_pk)", "v_transient_pk": "peak transient",
-    "v_reverse_pk": "peak reverse voltage", "v_ac_rms": "AC voltage rms",
-    "t_ambient_c": "ambient temperature", "t_rise_c": "self-heating", "c_min_f":
-    "required capacitance", "life_h": "required life", "r_balance_ohm": "balancing resistor",
-    "r_balance_tol_pct": "balancing resistor tolerance", "r_bleeder_ohm": "bleeder resistor",
-    "v_safe_v": "safe voltage", "t_discharge_max_s": "discharge time allowed",
-    "slew_v_per_s": "slew rate at switch-on", "r_source_ohm": "source resistance",
-    "i_ripple_a": "ripple current rms", "f_ripple_hz": "ripple frequency",
-    "group": "design group", "design_row": "design-sheet row",
-    "condition_source": "conditions from", "v_upper_v": "rail upper bound",
-    "transient_peak_v": "transient peak voltage", "transient_ratio": "transient ratio",
-    "voltage_ratio": "voltage ratio (applied peak / rated)",
-    "temp_max_used_c": "rated maximum temperature used", "c_tol_factor": "tolerance factor",
-    "c_temp_factor": "temperature factor", "c_bias_factor": "DC-bias factor",
-    "c_aging_factor": "aging factor", "esr_ohm": "ESR", "ripple_rated_a": "rated ripple current",
-    "ripple_rated_hz": "rated ripple frequency", "surge_rated_a": "rated surge current",
-    "life_l0_h": "rated life L0", "life_t0_c": "rated life temperature",
-    "leakage_a": "leakage current", "rth_c_per_w": "thermal resistance",
-    "dc_bias_keep": "DC-bias capacitance kept", "c_margin_note": "capacitance margin note",
-}
-
-
-def header_of(name: str) -> str:
-    """The column header of a spec, condition or metric column: a label a reviewer reads and
-    the unit of the numbers under it (``voltage ratio (applied peak / rated) [%]``)."""
-    label = _LABELS.get(name)
-    if label is None and name in METRICS:
-        label = METRICS[name].description.split(":")[0].split(" (")[0]
-    if label is None:
-        base = name[:-6] if name.endswith("_basis") else None
-        label = (f"{header_of(base).split(' [')[0]}: basis" if base
-                 else name.replace("_", " "))
-    unit = _KINDS[_kind_of(name)].unit
-    return f"{label} [{unit}]" if unit else label
-
-
-def _kind_of(name: str) -> str:
-    """The column kind of a named field ("text" when none is known)."""
-    kind = _FIELD_KINDS.get(name)
-    if kind is None and name in METRICS:
-        kind = _metric_kind(name)
-    if kind is None and name in CONDITIONS:
-        kind = _UNIT_KINDS.get(CONDITIONS[name][1])
-    return kind or "text"
-
-
-_TOTAL_LABELS: tuple[tuple[str, str], ...] = (
-    ("rows_read", "rows read"),
-    ("capacitor_rows", "capacitor rows"),
-    ("non_capacitor_rows", "non-capacitor rows"),
-    ("unreadable_rows", "unreadable rows"),
-    ("blank_rows", "blank rows (not counted as read)"),
-    ("continuation_rows", "continuation rows"),
-    ("placements", "placements"),
-    ("fitted", "fitted placements (Placements sheet)"),
-    ("not_fitted", "not-fitted placements"),
-    ("audited", "placements audited"),
-    ("design_unmatched", "design rows not in the BOM"),
-)
 
 
 def write_workbook(report, path: str | os.PathLike, *, generated: datetime | None = None) -> None:
@@ -236,32 +66,6 @@ def _discard(book: _Book | None) -> None:
             except Exception:  # a stream broken by the failure itself: nothing more to save
                 pass
 
-
-def safe_text(value: str) -> str:
-    """Input text as a cell can hold it: characters XML 1.0 forbids become U+FFFD
-    (``textsafe.xml_text``, shared by every XML writer) and the
-    text is cut to Excel's cell size. A leading ``=``, ``+``, ``-``, ``@``, tab or CR is kept
-    (the writer stores such text as a text cell)."""
-    value = xml_text(value)
-    if len(value) > MAX_CELL_CHARS:
-        value = value[: MAX_CELL_CHARS - 1] + "…"
-    return value
-
-
-def is_unsafe(value: str) -> bool:
-    """True when a spreadsheet would read ``value`` as a formula or an error code."""
-    return starts_formula(value) or value in ERROR_CODES
-
-
-@dataclass
-class _Column:
-    """One sheet column: header, one value per row, and the named style of each value (one name
-    for the whole column, or a list with one per row)."""
-
-    header: str
-    values: list
-    style: str | list | None = None
-    width: float | None = None
 
 
 class _Book:
@@ -319,7 +123,7 @@ class _Book:
         self._rules()
         self._not_audited()
         self._chart()
-        self._summary(summary)
+        write_summary(self, summary)
         return self.wb
 
     def _fit(self, n: int, what: str, order: str = "worst first") -> int:
@@ -364,21 +168,16 @@ class _Book:
         ]
         # The source text holds the parsed BOM cells (value, description...); the MPN is not
         # parsed but is how a reviewer finds the part.
-        for name in ("mpn", "text"):
+        for name in ("mpn", "manufacturer", "text"):
             if name in ordered:
                 col = self._field(ordered, name)
                 cols.append(_Column(col.header, col.values, "bc wrap", 36) if name == "text"
                             else col)
+        cols = filled(cols, len(ordered))
         printed = len(cols)  # the review columns; the spec and metric columns follow
-        # Every metric the JSON carries: the core ones, then each circuit metric computed.
-        names = [*SPEC_FIELDS, *CONDITION_FIELDS, *METRIC_FIELDS]
-        names += [m for m in METRICS if m in ordered and m not in names]
-        names += [c for c in ordered.columns if c.endswith("_basis") and c not in names]
-        for name in names:
-            cols.append(self._field(ordered, name))
-        # No column that is empty on every row (a spreadsheet of blank columns hides the rest).
-        keep = [i < printed or any(v is not None for v in c.values) for i, c in enumerate(cols)]
-        cols = [c for c, k in zip(cols, keep) if k]
+        # Every field the JSON report carries: spec, conditions, metrics, parts data, bases.
+        names = [n for n in placement_fields(ordered.columns) if ordered[n].notna().any()]
+        cols += filled([self._field(ordered, name) for name in names], len(ordered))
         self.notes.append("Placements prints its review columns (designator to BOM text); the "
                           "specification, condition and metric columns after them are on the "
                           "sheet, outside the print area.")
@@ -503,204 +302,11 @@ class _Book:
         ]
         self._table("Not audited", cols, len(entries), freeze="A2")
 
-    # ---- chart -----------------------------------------------------------------------------
+    # ---- writing ---------------------------------------------------------------------------
 
     def _chart(self) -> None:
-        """Voltage ratio against operating temperature: one marker series per technology and
-        one line per distinct voltage-ratio fail limit of the rules in force."""
-        points = chart_points(self.report)
-        if len(points.ac):
-            self.notes.append(f"Voltage chart: {len(points.ac)} AC-rated placements "
-                              "(rated V AC) are not plotted: the chart's limit lines are DC "
-                              "derating limits, which do not apply to them.")
-        plotted = points.dc
-        n = self._fit(len(plotted), "Chart data")
-        plotted = plotted.iloc[:n]
-        plotted = plotted.assign(_tech=plotted["technology"]).sort_values(
-            ["_tech"], kind="stable")
-        temps = plotted["t_operating_c"].astype(float)
-        lines = limit_lines(self.report.rules, temps.min() if len(temps) else None,
-                            temps.max() if len(temps) else None)
-        rows = max(len(plotted), sum(len(xs) for _, xs, _ in lines))
-
-        line_name: list = [None] * rows
-        line_x: list = [None] * rows
-        line_y: list = [None] * rows
-        blocks = []
-        pos = 0
-        for name, xs, ys in lines:
-            blocks.append((name, pos, len(xs)))
-            line_name[pos] = name
-            for i, (x, y) in enumerate(zip(xs, ys)):
-                line_x[pos + i], line_y[pos + i] = float(x), float(y)
-            pos += len(xs)
-        pad = [None] * (rows - len(plotted))
-        cols = [
-            _Column("technology", _text(plotted["_tech"]) + pad, width=24),
-            _Column("designator", _text(plotted["refdes"]) + pad, width=12),
-            _Column(header_of("t_operating_c"), _floats(temps) + pad, "bc degC", width=14),
-            _Column(header_of("voltage_ratio"),
-                    _floats(plotted["voltage_ratio"].astype(float)) + pad,
-                    "bc ratio", width=14),
-            _Column("", [None] * rows, width=3),
-            _Column("limit line", line_name, width=40),
-            _Column(header_of("t_operating_c"), line_x, "bc degC", width=14),
-            _Column("voltage ratio limit [%]", line_y, "bc ratio", width=18),
-        ]
-        data = self._table("Chart data", cols, rows, freeze="A2", auto_filter=False)
-
-        chart = ScatterChart(scatterStyle="lineMarker")
-        chart.title = "Voltage ratio against operating temperature"
-        chart.x_axis.title = "operating temperature [°C]"
-        chart.y_axis.title = "voltage ratio (applied peak / rated)"
-        chart.y_axis.number_format = "0%"
-        chart.y_axis.scaling.min = 0
-        if lines:
-            chart.x_axis.scaling.min = min(min(xs) for _, xs, _ in lines)
-            chart.x_axis.scaling.max = max(max(xs) for _, xs, _ in lines)
-        chart.x_axis.delete = False
-        chart.y_axis.delete = False
-        # The limit-line names are long: the legend goes below the plot, which keeps the full
-        # width (a legend at the right squeezes the plot to a strip in some spreadsheets).
-        chart.legend.position = "b"
-        chart.x_axis.majorUnit = 10
-        chart.y_axis.majorUnit = 0.1
-        chart.x_axis.number_format = '0" °C"'
-        chart.plot_area.layout = Layout(manualLayout=ManualLayout(
-            layoutTarget="inner", xMode="edge", yMode="edge", x=0.08, y=0.08, w=0.88, h=0.55))
-        groups = plotted.groupby("_tech", sort=True).indices if len(plotted) else {}
-        for name, idx in groups.items():
-            first, last = int(idx.min()) + 2, int(idx.max()) + 2
-            s = Series(Reference(data, min_col=4, min_row=first, max_row=last),
-                       Reference(data, min_col=3, min_row=first, max_row=last), title=name)
-            colour = TECHNOLOGY_COLOURS.get(name, "8C8C8C")
-            s.marker = Marker(symbol="circle", size=5)
-            s.marker.graphicalProperties = _props(fill=colour, line=colour)
-            s.graphicalProperties.line.noFill = True
-            s.smooth = False
-            chart.series.append(s)
-        for k, (name, first, count) in enumerate(blocks):
-            lo, hi = first + 2, first + count + 1
-            s = Series(Reference(data, min_col=8, min_row=lo, max_row=hi),
-                       Reference(data, min_col=7, min_row=lo, max_row=hi), title=name)
-            s.marker = Marker(symbol="none")
-            s.graphicalProperties.line.solidFill = LIMIT_LINE_COLOUR
-            s.graphicalProperties.line.prstDash = LIMIT_DASHES[k % len(LIMIT_DASHES)]
-            s.graphicalProperties.line.width = 19050  # EMU: 1.5 pt
-            s.smooth = False
-            chart.series.append(s)
-        # A normal worksheet with the chart anchored to its cells at a real size renders in
-        # every spreadsheet (a chartsheet's drawing may import as a 0 x 0 frame).
-        sheet = self.wb.create_sheet("Voltage chart", index=len(self.wb.sheetnames) - 1)
-        sheet.column_dimensions["A"].width = 140
-        _print_setup(sheet, "A1:A56", landscape=True, one_page=True)
-        sheet.append([self._put_on(sheet, "Voltage ratio against operating temperature, with "
-                                   "each voltage-ratio fail limit of the rules in force; the "
-                                   "points are on the Chart data sheet.", "bc section")])
-        if len(points.ac):
-            sheet.append([f"AC-rated placements ({len(points.ac)}) are not plotted: the limit "
-                          "lines are DC derating limits, which do not apply to them."])
-        chart.width, chart.height = 25.0, 24.0  # cm: room for the legend below the plot
-        sheet.add_chart(chart, "A4")
-
-    # ---- summary ---------------------------------------------------------------------------
-
-    def _summary(self, ws) -> None:
-        r = self.report
-        for col, width in zip("ABCD", (34, 72, 68, 14)):
-            ws.column_dimensions[col].width = width
-        put = self._put
-        rows = [0]
-        _print_setup(ws, "A1:D1", landscape=False)
-
-        def append(values) -> None:
-            rows[0] += 1
-            ws.append(values)
-        append([put("bomcheck capacitor derating audit", "bc title")])
-        append(["overall status", put(r.status, self.status_style(r.status))])
-        append(["tool version", f"bomcheck {r.tool_version}"])
-        append([self.generated_label, put(self.generated, "bc date")])
-        append([])
-
-        append([put("Rule sets", "bc section")])
-        append(self._header_cells(("rule set", "title", "file", "version")))
-        for d in r.rulesets:
-            extends = f" (extends {d['extends']})" if d.get("extends") else ""
-            append([put(d.get("name")), put(f"{d.get('title') or ''}{extends}"),
-                       put(d.get("path")), put(d.get("version"))])
-        sources = r.rulesets[-1].get("sources", []) if r.rulesets else []
-        append([])
-        append([put("Sources of the rules", "bc section")])
-        append(self._header_cells(("source", "title", "clause", "confidence")))
-        for s in sources:
-            append([put(s.get("id")), put(s.get("title")), put(s.get("clause")),
-                       put(s.get("confidence"))])
-        append([])
-        append([put("Inputs", "bc section")])
-        append(self._header_cells(("input", "path", "SHA-256")))
-        for d in r.inputs:
-            append([put(d.get("role")), put(d.get("path")), put(d.get("sha256"))])
-
-        t = r.totals
-        append([])
-        append([put("Placements by status (worst first)", "bc section")])
-        append(self._header_cells(("status", "placements")))
-        statuses = [s for s in reversed(STATUS_ORDER)]
-        statuses += sorted(k for k in STATUS_PALETTE if k in t and k not in statuses)
-        for s in statuses:
-            append([put(s, self.status_style(s)), put(int(t.get(s, 0)), "bc count")])
-        append(["placements audited", put(int(t.get("audited", len(r.table))), "bc count")])
-
-        append([])
-        append([put("Where every row went", "bc section")])
-        labels = dict(_TOTAL_LABELS)
-        keys = [k for k, _ in _TOTAL_LABELS if k in t]
-        keys += [k for k in t if k not in labels and k not in STATUS_PALETTE and k not in keys]
-        for k in keys:
-            append([labels.get(k, k.replace("_", " ")), put(int(t[k]), "bc count")])
-        for identity in _identities(t):
-            append(identity)
-        not_audited = len(r.not_audited()) + len(r.design_unmatched)
-        append(["Not audited sheet rows", put(not_audited, "bc count"),
-                   "not-fitted placements + non-capacitor rows + unreadable rows + design rows "
-                   "not in the BOM"])
-
-        waivers = [f.to_dict() for f in getattr(r, "waiver_findings", ())]
-        if waivers:
-            append([])
-            append([put("Waivers", "bc section")])
-            append(self._header_cells(("waiver", "what became of it", "approved by / expires",
-                                          "file row")))
-            for d in waivers:
-                append([put(f"{d.get('code')}: {d.get('refdes')} {d.get('rule')}"),
-                           put(d.get("message")),
-                           put(f"{d.get('approved_by') or ''} / {d.get('expires') or ''}"),
-                           d.get("row")])
-
-        if self.notes:
-            append([])
-            append([put("Notes", "bc section")])
-            for note in self.notes:
-                lines = math.ceil(len(note) * 1.1 / ws.column_dimensions["B"].width)
-                ws.row_dimensions[rows[0] + 1].height = 15 * max(1, lines) + 3
-                append(["note", put(note, "bc wrap")])
-        append([])
-        append(["environment", put(r.environment)])
-        if r.input_warnings:
-            append([put("Input warnings", "bc section")])
-            for w in r.input_warnings:
-                append(["input warning", put(str(w), "bc wrap")])
-        append([])
-        append([put("Cautions", "bc section")])
-        for i, caution in enumerate(r.cautions, 1):
-            # Wrapped text needs its row height: about 1.1 characters of the column per
-            # character of Calibri 11, 15 points a line.
-            lines = math.ceil(len(caution) * 1.1 / ws.column_dimensions["B"].width)
-            ws.row_dimensions[rows[0] + 1].height = 15 * max(1, lines) + 3
-            append([f"caution {i}", put(caution, "bc wrap")])
-        ws.print_area = f"A1:D{rows[0]}"
-
-    # ---- writing ---------------------------------------------------------------------------
+        """The Chart data and Voltage chart sheets (``xlsx_chart``)."""
+        write_chart(self)
 
     def _put(self, value, style: str | None = None):
         """A Summary value: text made safe (a formula-like text becomes a text cell), with a
@@ -721,14 +327,15 @@ class _Book:
             cell.data_type = "s"
         return cell
 
-    def _header_cells(self, headers: Sequence[str]) -> list:
-        return [self._put(h, "bc header") for h in headers]
-
     def _table(self, title: str, cols: list[_Column], n: int, *, freeze: str,
                auto_filter: bool = True, print_cols: int | None = None):
         """A sheet of ``n`` rows under a frozen, filtered header row; it prints landscape, one
-        page wide, its first ``print_cols`` columns (default: all). Rows whose wrapped text
-        (columns styled ``bc wrap``) needs more than one line get the height for it."""
+        page wide, its first ``print_cols`` columns (default: all). A column empty on every row
+        is left out (``filled``)."""
+        kept = filled(cols, n)
+        if print_cols is not None:
+            print_cols = sum(1 for c in cols[:print_cols] if any(c is k for k in kept))
+        cols = kept
         ws = self.wb.create_sheet(title)
         widths = [col.width or _width(col) for col in cols]
         for i, width in enumerate(widths, 1):
@@ -743,200 +350,105 @@ class _Book:
         ws.row_dimensions[1].height = 15 * min(lines, 5) + 2
         printed = get_column_letter(max(1, min(len(cols), print_cols or len(cols))))
         _print_setup(ws, f"A1:{printed}{n + 1}", landscape=True, title_rows="1:1")
-        wrapped = [(c.values, w) for c, w in zip(cols, widths) if c.style == "bc wrap"]
-        if wrapped:
-            for i in range(n):
-                need = max((len(v) * 1.1 / w for values, w in wrapped
-                            if isinstance(v := values[i], str)), default=0)
-                if need > 1:
-                    ws.row_dimensions[i + 2].height = 15 * min(8, math.ceil(need)) + 2
+        _wrapped_heights(ws, cols, widths, n)
         header = []
         for col in cols:
             cell = WriteOnlyCell(ws, col.header)
             cell.style = "bc header"
             header.append(cell)
         ws.append(header)
-        # openpyxl writes each appended row at once, so one styled cell per column and style
-        # can carry every row's value: no new cell and no style lookup per value.
-        templates: list[dict[str, WriteOnlyCell]] = [{} for _ in cols]
-
-        def template(j: int, style: str) -> WriteOnlyCell:
-            cell = templates[j].get(style)
-            if cell is None:
-                cell = templates[j][style] = WriteOnlyCell(ws)
-                cell.style = style
-            return cell
-
-        plan = [(j, c.values, c.style if isinstance(c.style, list) else None,
-                 None if isinstance(c.style, list) else c.style) for j, c in enumerate(cols)]
-        for i in range(n):
-            row = []
-            for j, values, per_row, fixed in plan:
-                v = values[i]
-                if v is None:
-                    row.append(None)
-                    continue
-                style = per_row[i] if per_row is not None else fixed
-                if type(v) is str and (starts_formula(v) or v in ERROR_CODES):
-                    cell = template(j, style or "bc text")
-                    cell.value = v
-                    cell.data_type = "s"
-                    row.append(cell)
-                elif style is None:
-                    row.append(v)
-                else:
-                    cell = template(j, style)
-                    cell.value = v
-                    row.append(cell)
-            ws.append(row)
+        _append_rows(ws, cols, n)
         return ws
 
 
-# ---- values for cells ----------------------------------------------------------------------
-
-def _metric_kind(metric) -> str | None:
-    """The column kind of a metric's values (None for no metric, e.g. audit-made verdicts)."""
-    m = METRICS.get(metric) if isinstance(metric, str) else None
-    if m is None:
-        return None
-    if m.percent:
-        return "ratio"
-    return _UNIT_KINDS.get(m.unit, "num")
-
-
-def _text(series) -> list:
-    """Cell values of a text column: None for missing, tuples joined, text made safe."""
-    if not isinstance(series, pd.Series):
-        series = pd.Series(series, dtype=object)
-    values = series.astype(object).tolist()
-    cache: dict = {}
-    out = []
-    for v in values:
-        if v is None or v is pd.NA or (isinstance(v, float) and v != v):
-            out.append(None)
-            continue
-        got = cache.get(v) if isinstance(v, str) else None
-        if got is None:
-            got = _cell_text(v)
-            if isinstance(v, str):
-                cache[v] = got
-        out.append(got)
-    return out
+def _wrapped_heights(ws, cols: list[_Column], widths: list[float], n: int) -> None:
+    """Rows whose wrapped text (columns styled ``bc wrap``) needs more than one line get the
+    height for it (about 1.1 characters of the column per character, 15 points a line)."""
+    wrapped = [(c.values, w) for c, w in zip(cols, widths) if c.style == "bc wrap"]
+    if not wrapped:
+        return
+    need = np.zeros(n)
+    for values, w in wrapped:
+        lengths = np.fromiter((len(v) if type(v) is str else 0 for v in values[:n]),
+                              dtype=float, count=n)
+        np.maximum(need, lengths * 1.1 / w, out=need)
+    # openpyxl's write-only sheet copies a row's attributes from ``row_dimensions`` as it writes
+    # the row: a plain mapping of the two attributes does what a RowDimension does, cheaply.
+    lines = np.minimum(8, np.ceil(need)).astype(int)
+    for i in np.flatnonzero(need > 1).tolist():
+        ws.row_dimensions[i + 2] = {"ht": str(15 * int(lines[i]) + 2), "customHeight": "1"}
 
 
-def _cell_text(v) -> str | None:
-    if v is None or v is pd.NA or (isinstance(v, float) and v != v):
-        return None
-    if isinstance(v, (tuple, list)):
-        v = "; ".join(str(x) for x in v)
-    v = str(v)
-    return safe_text(v) if v else None
+# First characters of a text that may be a formula or an error value (``spreadsheet_unsafe``
+# decides; this only spares the call for every other text).
+_RISKY_FIRST = frozenset("=+-@\t\r #")
 
 
-def _floats(values: pd.Series) -> list:
-    """Python floats, None for NaN."""
-    arr = np.asarray(values, dtype=float)
-    return pd.Series(arr, dtype=object).where(~np.isnan(arr), None).tolist()
+def _append_rows(ws, cols: list[_Column], n: int) -> None:
+    """The data rows, handed to openpyxl as plain tuples of values (one ``zip`` over the
+    columns): the sheet's cell maker (``_cell_maker``) gives each value its column's named
+    style, so no cell object is made or styled per value. Input text a spreadsheet would read
+    as a formula or an error value is stored as a text cell."""
+    ws._values_to_row = _cell_maker(ws, cols)  # openpyxl's per-row hook of a write-only sheet
+    for row in zip(*(c.values[:n] for c in cols)):
+        ws.append(row)
 
 
-def _numbers(series: pd.Series, kind: str) -> list:
-    """Numbers in the kind's stored unit (uF for farads, fractions for percents), None for NaN."""
-    x = pd.to_numeric(series, errors="coerce").astype(float) * _KINDS[kind].scale
-    if kind == "int":
-        arr = x.to_numpy()
-        return [None if v != v else int(v) for v in arr.tolist()]
-    if _KINDS[kind].scale != 1.0:
-        # Drop the binary noise of the scaling (4.7e-6 F x 1e6 = 4.699999999999999 uF).
-        return [None if v != v else float(f"{v:.12g}") for v in x.to_numpy().tolist()]
-    return _floats(x)
+class _StyledCell(Cell):
+    """A write-only cell with a fixed named style, reused for many values: its style id is
+    looked up once, not for every value written (openpyxl asks for it per cell)."""
+
+    __slots__ = ("_fixed_id",)
+    has_style = True
+
+    def __init__(self, ws, style: str) -> None:
+        super().__init__(ws, row=1, column=1)
+        self.style = style
+        self._fixed_id = Cell.style_id.fget(self)
+
+    @property
+    def style_id(self) -> int:
+        return self._fixed_id
 
 
-def _bools(series: pd.Series) -> list:
-    return [v if isinstance(v, bool) else (bool(v) if isinstance(v, np.bool_) else None)
-            for v in series.astype(object).tolist()]
+def _cell_maker(ws, cols: list[_Column]):
+    """A replacement of openpyxl's ``WriteOnlyWorksheet._values_to_row`` for one sheet: the
+    cells of one row from its values. openpyxl writes each row as soon as it is appended, so
+    one cell per column and style is reused for every row (its value rebound each time)."""
+    plain = WriteOnlyCell(ws)
+    made: dict[tuple[int, str], _StyledCell] = {}
 
+    def styled(j: int, style: str) -> _StyledCell:
+        cell = made.get((j, style))
+        if cell is None:
+            cell = made[j, style] = _StyledCell(ws, style)
+        return cell
 
-def _print_setup(ws, area: str, *, landscape: bool, title_rows: str | None = None,
-                 one_page: bool = False) -> None:
-    """Page setup for a printed record: A4, orientation, fit to one page wide (as many pages
-    tall as needed, or one page), the header row repeated on every page, the print area.
-    Called before the sheet's first row: a write-only sheet writes its properties first."""
-    ws.page_setup.orientation = "landscape" if landscape else "portrait"
-    ws.page_setup.paperSize = "9"  # A4 (ECMA-376 paper size code 9)
-    ws.page_setup.fitToWidth = 1
-    ws.page_setup.fitToHeight = 1 if one_page else 0
-    ws.sheet_properties.pageSetUpPr.fitToPage = True
-    ws.print_options.gridLines = False
-    if title_rows:
-        ws.print_title_rows = title_rows
-    ws.print_area = area
+    fixed = [None if isinstance(c.style, list) or c.style is None else styled(j, c.style)
+             for j, c in enumerate(cols)]
+    per_row = [c.style if isinstance(c.style, list) else None for c in cols]
+    text_style = [None if isinstance(c.style, list) else c.style or "bc text" for c in cols]
+    # Only columns holding text need the formula guard.
+    texty = [any(type(v) is str for v in c.values) for c in cols]
+    columns = list(zip(range(1, len(cols) + 1), fixed, per_row, texty))
 
+    def values_to_row(values, row_idx):
+        i = row_idx - 2  # the data's first row is the sheet's second
+        for (col, cell, styles, text), value in zip(columns, values):
+            if value is None:
+                continue
+            if text and type(value) is str and value[:1] in _RISKY_FIRST \
+                    and spreadsheet_unsafe(value):
+                j = col - 1
+                cell = styled(j, styles[i] or "bc text" if styles else text_style[j])
+                cell.value = value
+                cell.data_type = "s"
+            else:
+                if cell is None:
+                    cell = plain if styles is None or styles[i] is None else styled(col - 1,
+                                                                                    styles[i])
+                cell.value = value
+            cell.row, cell.column = row_idx, col
+            yield cell
 
-def _number_width(values: list, kind: _Kind, header: str) -> float:
-    """A column width (characters) that shows every number in ``kind``'s format in full: its
-    integer digits with thousands separators, the format's decimals and its unit."""
-    fmt = kind.fmt or ""
-    number = fmt.split('"')[0]
-    decimals = len(number.split(".")[1].rstrip("%")) if "." in number else 0
-    suffix = len(kind.unit) + 1 if kind.unit else 0
-    x = pd.to_numeric(pd.Series(values, dtype=object), errors="coerce").astype(float)
-    x = x[np.isfinite(x.to_numpy())]
-    longest = 0
-    if len(x):  # the widest number: the largest magnitude, a sign if any is negative
-        biggest = float(x.abs().max()) * (100 if number.endswith("%") else 1)
-        longest = len(f"{biggest:,.0f}") + bool((x < 0).any())
-    need = longest + (decimals + 1 if decimals else 0) + suffix + 2
-    return float(min(40, max(10, need, min(len(header), 18))))
-
-
-def _width(col: _Column) -> float:
-    """Header or the longest of the first few hundred values, within 8..60 characters."""
-    longest = len(col.header)
-    for v in col.values[:300]:
-        if isinstance(v, str):
-            longest = max(longest, len(v))
-        elif isinstance(v, float):
-            longest = max(longest, 9)
-    return float(min(60, max(8, longest + 2)))
-
-
-def _curve_points(metric: str, limit) -> str:
-    """``85 °C: 100 %; 125 °C: 66.67 %`` (with ``step`` for a step curve)."""
-    from bomcheck.evaluate.rules import axis_quantity
-    from bomcheck.quantity import format_quantity
-
-    m = METRICS.get(metric)
-    unit, pct = (m.unit, m.percent) if m else ("", False)
-    ax = axis_quantity(limit.over) or ("", "", False)
-    pts = "; ".join(f"{format_quantity(x, ax[1], ax[2])}: {format_quantity(y, unit, pct)}"
-                    for x, y in zip(limit.xs, limit.ys))
-    return (pts + " (step)" if limit.step else pts).replace("degC", "°C")
-
-
-def _identities(t: dict) -> list[list]:
-    """The accounting identities with their numbers and whether they hold."""
-    out = []
-    keys = ("rows_read", "capacitor_rows", "non_capacitor_rows", "unreadable_rows")
-    if all(k in t for k in keys):
-        from bomcheck.parse.accounting import ROW_CATEGORIES
-
-        terms = [(k, label) for k, label in ROW_CATEGORIES
-                 if k in keys or int(t.get(k, 0))]  # approved-source... rows only when present
-        total = sum(int(t[k]) for k, _ in terms)
-        out.append(["rows read = " + " + ".join(label for _, label in terms),
-                    f"{int(t['rows_read']):,} = " + " + ".join(f"{int(t[k]):,}" for k, _ in terms),
-                    "holds" if int(t["rows_read"]) == total else "DOES NOT HOLD"])
-    keys = ("placements", "fitted", "not_fitted")
-    if all(k in t for k in keys):
-        a, b, c = (int(t[k]) for k in keys)
-        out.append(["placements = fitted + not fitted", f"{a:,} = {b:,} + {c:,}",
-                    "holds" if a == b + c else "DOES NOT HOLD"])
-    return out
-
-
-def _props(*, fill: str, line: str):
-    from openpyxl.chart.shapes import GraphicalProperties
-
-    props = GraphicalProperties(solidFill=fill)
-    props.line.solidFill = line
-    return props
+    return values_to_row

@@ -222,27 +222,3 @@ def summary_line(diff: Diff) -> str:
                  f"{', '.join(diff.new['rulesets'])})")
     return line
 
-
-def diff_markdown(diff: Diff, *, limit: int = 20, level: int = 2) -> str:
-    """The comparison as Markdown: the counts, then a table of the changes (problems first)."""
-    from bomcheck.render.exports import _md
-
-    head = "#" * level
-    out = [f"{head} Changes since the baseline", "", _md(summary_line(diff)) + ".", ""]
-    rows = diff.rows()
-    rows.sort(key=lambda kc: not kc[1].is_problem)  # stable: problems first, order kept
-    if rows:
-        out += ["| change | refdes | rule | was | now |", "|:--|:--|:--|:--|:--|"]
-        for kind, c in rows[:limit]:
-            flag = " (new problem)" if c.is_problem else ""
-            out.append(f"| {kind}{flag} | {_md(c.refdes)} | {_md(c.rule)} | "
-                       f"{c.old_status or ''} | {c.new_status or ''} |")
-        if len(rows) > limit:
-            out.append(f"| ... | {len(rows) - limit} more | | | |")
-        out.append("")
-    for word, names in (("added", diff.added), ("removed", diff.removed)):
-        if names:
-            shown = ", ".join(_md(r) for r in names[:limit])
-            more = f" and {len(names) - limit} more" if len(names) > limit else ""
-            out.append(f"Placements {word}: {shown}{more}.")
-    return "\n".join(out).rstrip("\n") + "\n"

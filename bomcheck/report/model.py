@@ -14,7 +14,7 @@ import numpy as np
 import pandas as pd
 
 from bomcheck.spec import SPEC_KEYS
-from bomcheck.render.textsafe import json_dumps
+from bomcheck.report.jsontext import json_dumps
 from bomcheck.vocabulary import CONDITIONS, METRICS
 
 from bomcheck.status import RANK as _RANK

@@ -3,9 +3,7 @@ single or combined, with its voltage ratio, temperature margin and status."""
 
 from __future__ import annotations
 
-import csv
-import io
-from dataclasses import astuple, dataclass, fields
+from dataclasses import dataclass, fields
 from typing import Any
 
 from bomcheck.parse import refdes as refdes_mod
@@ -75,17 +73,3 @@ def where_used(report: dict, mpn: str) -> tuple[Use, ...]:
                                if v.get("status") != "pass")))
     return tuple(out)
 
-
-def uses_csv(uses: tuple[Use, ...]) -> str:
-    """The uses as CSV, one row per placement (problems joined with spaces; text cells guarded
-    against spreadsheet formula injection like the audit's CSV)."""
-    from bomcheck.render.exports import _cell
-
-    buf = io.StringIO()
-    w = csv.writer(buf, lineterminator="\r\n")
-    w.writerow([f.name for f in fields(Use)])
-    for u in uses:
-        row = list(astuple(u))
-        row[-1] = " ".join(u.problems)
-        w.writerow([_cell(v) if isinstance(v, str) else "" if v is None else v for v in row])
-    return buf.getvalue()

@@ -72,6 +72,15 @@ def text_column(table: pd.DataFrame, name: str) -> pd.Series:
     return pd.Series("", index=table.index, dtype=object)
 
 
+# Every column ``compute`` reads: a placement whose values here are unchanged gets the same
+# metrics (the circuit stage runs the stresses again only where one of them changed).
+INPUTS: tuple[str, ...] = (
+    "voltage_v", "voltage_kind", "polarized", "capacitance_f", "tol_minus_pct", "tol_abs_f",
+    "dielectric", "dielectric_class", "cap_change_minus_pct", "tc_ppm", "tc_tol_ppm",
+    "technology", "package", "temp_min_c", "temp_max_c", "v_dc", "v_dc_max", "v_tol_pct",
+    "v_ripple_pk", "v_ac_rms", "v_transient_pk", "v_reverse_pk", "t_ambient_c", "t_rise_c",
+    "t_ambient_min_c", "c_min_f", "life_h", "dc_bias_keep",
+)
 SQRT2 = float(np.sqrt(2.0))
 # A ``<metric>_basis`` saying the metric is not known and ``<metric>_best``, its kindest bound,
 # is: a failure at that bound is firm, anything else is no data (``bomcheck.evaluate.engine``).
@@ -158,6 +167,76 @@ def _aging_k(table: pd.DataFrame, data: StressData) -> pd.Series:
     return by_code.fillna(by_class).fillna(0.0)
 
 
+def _tolerance(table: pd.DataFrame, nominal: pd.Series, data: StressData
+               ) -> tuple[pd.Series, pd.Series]:
+    """(negative tolerance as a fraction, True where the default was assumed)."""
+    tol_frac = (num_column(table, "tol_minus_pct") / 100.0).fillna(
+        num_column(table, "tol_abs_f") / nominal)
+    tol_assumed = tol_frac.isna()
+    return tol_frac.fillna(data.default_tol_pct / 100.0), tol_assumed
+
+
+def _temperature_loss(table: pd.DataFrame, t_operating_c: pd.Series
+                      ) -> tuple[pd.Series, pd.Series, pd.Series]:
+    """(worst fractional loss over temperature, dielectric class used, True where the class or
+    its change figure was assumed)."""
+    cls = num_column(table, "dielectric_class")
+    change = num_column(table, "cap_change_minus_pct")
+    # A ceramic whose text names no dielectric (or a class II code without its change figure) is
+    # taken as class II with the common +/-15 % (X7R/X5R) and marked generic, never as lossless.
+    ceramic = text_column(table, "technology") == "ceramic"
+    class_assumed = (ceramic & cls.isna()) | (cls.isin([2.0, 3.0]) & change.isna())
+    cls = cls.where(~(ceramic & cls.isna()), 2.0)
+    change = change.where(~class_assumed, ASSUMED_CLASS2_CHANGE_PCT)
+    temp_loss = pd.Series(0.0, index=table.index)
+    temp_loss = temp_loss.mask(cls.isin([2.0, 3.0]), change / 100.0)
+    temp_loss = temp_loss.mask(
+        cls == 1.0, _class1_loss(num_column(table, "tc_ppm"), num_column(table, "tc_tol_ppm"),
+                                 t_operating_c)
+    )
+    return temp_loss.fillna(0.0), cls, class_assumed
+
+
+def _bias_keep(table: pd.DataFrame, applied_peak_v: pd.Series, class23: pd.Series,
+               data: StressData) -> tuple[pd.Series, pd.Series, pd.Series, pd.Series]:
+    """(fraction kept under DC bias, the part's own keep, True where the generic curve was used,
+    True where the voltage is unknown)."""
+    rated = num_column(table, "voltage_v")
+    part_keep = num_column(table, "dc_bias_keep")
+    generic_keep = _dc_bias_remaining(applied_peak_v / rated, text_column(table, "package"), data)
+    bias_keep = pd.Series(1.0, index=table.index)
+    bias_keep = bias_keep.mask(class23, part_keep.fillna(generic_keep))
+    bias_generic = class23 & part_keep.isna() & generic_keep.notna() & (generic_keep < 1.0)
+    bias_unknown = class23 & part_keep.isna() & generic_keep.isna()
+    return bias_keep.fillna(1.0), part_keep, bias_generic, bias_unknown
+
+
+def _aging_loss(table: pd.DataFrame, cls: pd.Series, data: StressData
+                ) -> tuple[pd.Series, pd.Series, pd.Series]:
+    """(aging loss over the required life, the aging constant k, True where k applies but no
+    life is given)."""
+    life = num_column(table, "life_h")
+    k = _aging_k(table.assign(dielectric_class=cls), data)
+    decades = np.log10(np.fmax(life, data.aging_t0_h) / data.aging_t0_h)
+    aging_loss = (k / 100.0 * decades).fillna(0.0).clip(lower=0.0, upper=1.0)
+    return aging_loss, k, (k > 0) & life.isna()
+
+
+def _notes(flags: tuple[pd.Series, ...], data: StressData, index: pd.Index) -> pd.Series:
+    """One note per combination of the assumption flags, looked up by a bit code (no per-row
+    strings)."""
+    texts = (f"tolerance not given, {data.default_tol_pct:g} % assumed",
+             "DC-bias loss from the generic typical curve (common practice), give part data",
+             "DC-bias loss not counted (voltage unknown)",
+             "aging not counted (no required life given)",
+             f"dielectric not given: class II (-{ASSUMED_CLASS2_CHANGE_PCT:g} %) assumed")
+    code = sum(f.to_numpy(dtype=bool).astype(np.int64) << i for i, f in enumerate(flags))
+    lookup = np.array([
+        "; ".join(t for i, t in enumerate(texts) if c >> i & 1) for c in range(1 << len(texts))
+    ], dtype=object)
+    return pd.Series(lookup[code], index=index, dtype=object)
+
+
 def capacitance_worst_case(
     table: pd.DataFrame, applied_peak_v: pd.Series, t_operating_c: pd.Series, data: StressData
 ) -> pd.DataFrame:
@@ -170,59 +249,15 @@ def capacitance_worst_case(
     where the parts data gave one, else the generic curve (marked generic).
     """
     nominal = num_column(table, "capacitance_f")
-    tol_pct = num_column(table, "tol_minus_pct")
-    tol_abs = num_column(table, "tol_abs_f")
-    tol_frac = (tol_pct / 100.0).fillna(tol_abs / nominal)
-    tol_assumed = tol_frac.isna()
-    tol_frac = tol_frac.fillna(data.default_tol_pct / 100.0)
-
-    cls = num_column(table, "dielectric_class")
-    change = num_column(table, "cap_change_minus_pct")
-    # A ceramic whose text names no dielectric (or a class II code without its change figure) is
-    # taken as class II with the common +/-15 % (X7R/X5R) and marked generic, never as lossless.
-    ceramic = text_column(table, "technology") == "ceramic"
-    class_assumed = (ceramic & cls.isna()) | (cls.isin([2.0, 3.0]) & change.isna())
-    cls = cls.where(~(ceramic & cls.isna()), 2.0)
-    change = change.where(~class_assumed, ASSUMED_CLASS2_CHANGE_PCT)
+    tol_frac, tol_assumed = _tolerance(table, nominal, data)
+    temp_loss, cls, class_assumed = _temperature_loss(table, t_operating_c)
     class23 = cls.isin([2.0, 3.0])
-    temp_loss = pd.Series(0.0, index=table.index)
-    temp_loss = temp_loss.mask(class23, change / 100.0)
-    temp_loss = temp_loss.mask(
-        cls == 1.0, _class1_loss(num_column(table, "tc_ppm"), num_column(table, "tc_tol_ppm"), t_operating_c)
-    )
-    temp_loss = temp_loss.fillna(0.0)
-
-    rated = num_column(table, "voltage_v")
-    part_keep = num_column(table, "dc_bias_keep")
-    generic_keep = _dc_bias_remaining(applied_peak_v / rated, text_column(table, "package"), data)
-    bias_keep = pd.Series(1.0, index=table.index)
-    bias_keep = bias_keep.mask(class23, part_keep.fillna(generic_keep))
-    bias_generic = class23 & part_keep.isna() & generic_keep.notna() & (generic_keep < 1.0)
-    bias_unknown = class23 & part_keep.isna() & generic_keep.isna()
-    bias_keep = bias_keep.fillna(1.0)
-
-    life = num_column(table, "life_h")
-    k = _aging_k(table.assign(dielectric_class=cls), data)
-    decades = np.log10(np.fmax(life, data.aging_t0_h) / data.aging_t0_h)
-    aging_loss = (k / 100.0 * decades).fillna(0.0).clip(lower=0.0, upper=1.0)
-    aging_unknown = (k > 0) & life.isna()
-
+    bias_keep, part_keep, bias_generic, bias_unknown = _bias_keep(table, applied_peak_v, class23,
+                                                                  data)
+    aging_loss, k, aging_unknown = _aging_loss(table, cls, data)
     tol_factor = 1.0 - tol_frac
     c_worst = nominal * tol_factor * (1.0 - temp_loss) * bias_keep * (1.0 - aging_loss)
-    c_min = num_column(table, "c_min_f")
-
     flags = (tol_assumed, bias_generic, bias_unknown, aging_unknown, class_assumed)
-    texts = (f"tolerance not given, {data.default_tol_pct:g} % assumed",
-             "DC-bias loss from the generic typical curve (common practice), give part data",
-             "DC-bias loss not counted (voltage unknown)",
-             "aging not counted (no required life given)",
-             f"dielectric not given: class II (-{ASSUMED_CLASS2_CHANGE_PCT:g} %) assumed")
-    # One note per combination of the flags, looked up by a bit code (no per-row strings).
-    code = sum(f.to_numpy(dtype=bool).astype(np.int64) << i for i, f in enumerate(flags))
-    lookup = np.array([
-        "; ".join(t for i, t in enumerate(texts) if c >> i & 1) for c in range(1 << len(texts))
-    ], dtype=object)
-    notes = pd.Series(lookup[code], index=table.index, dtype=object)
     # Bounds of the unknowns. At their most favourable (no tolerance, no DC-bias or aging loss,
     # a class I dielectric) the margin can only be larger; at their worst plausible (the widest
     # common tolerance, the worst DC-bias keep, aging over the longest plausible life, the widest
@@ -232,7 +267,7 @@ def capacitance_worst_case(
     c_best = (nominal * np.where(tol_assumed, 1.0, tol_factor)
               * np.where(class_assumed, 1.0, 1.0 - temp_loss) * best_keep
               * np.where(aging_unknown, 1.0, 1.0 - aging_loss))
-    ratio = applied_peak_v / rated
+    ratio = applied_peak_v / num_column(table, "voltage_v")
     worst_keep = np.where(bias_generic, np.interp(ratio.fillna(0.0), *data.dc_bias_worst),
                           np.where(bias_unknown, np.nan, bias_keep))
     worst_decades = np.log10(data.worst_life_h / data.aging_t0_h)
@@ -241,7 +276,8 @@ def capacitance_worst_case(
     # An assumed tolerance has no worst bound: the BOM should give it (no pass without it).
     c_worst_bound = (nominal * tol_factor * (1.0 - worst_temp) * worst_keep * (1.0 - worst_aging)
                      ).where(~tol_assumed)
-    need = c_min.where(c_min > 0)  # c_min_f = 0 is the design sheet's "none": no margin
+    need = num_column(table, "c_min_f")
+    need = need.where(need > 0)  # c_min_f = 0 is the design sheet's "none": no margin
     return pd.DataFrame(
         {
             "c_tol_factor": tol_factor,
@@ -256,7 +292,7 @@ def capacitance_worst_case(
             "c_margin_worst": (c_worst_bound / need).where(uncertain),
             "c_margin_basis": np.where(uncertain, "generic",
                                        np.where(part_keep.notna() & class23, "part", "")),
-            "c_margin_note": notes,
+            "c_margin_note": _notes(flags, data, table.index),
         },
         index=table.index,
     )

@@ -1,0 +1,55 @@
+"""Stress stage, circuit level: aluminium electrolytic life by the 10 degC rule (``life_est_h``,
+``life_ratio`` and its kindest bound where the self-heating is uncertain). No I/O."""
+
+from __future__ import annotations
+
+from typing import Any
+
+import numpy as np
+
+from bomcheck.stress.circuit_run import CircuitRun
+
+ALUMINIUM = ("aluminium-electrolytic", "aluminium-polymer")
+
+
+def electrolytic_life_h(l0_h: Any, t0_c: Any, t_op_c: Any, ripple_rise_c: Any = 0.0, *,
+                        ripple_factor: bool = False) -> Any:
+    """Aluminium electrolytic life by the 10 degC rule, L = L0 x 2^((T0 - T)/10).
+
+    With ``ripple_factor`` the ripple rise dT is taken out of ``t_op_c`` and counted by the
+    trade's factor 2^(-dT/5) instead.
+    """
+    l0, t0, t_op = (np.asarray(a, dtype=float) for a in (l0_h, t0_c, t_op_c))
+    if not ripple_factor:
+        return l0 * 2.0 ** ((t0 - t_op) / 10.0)
+    rise = np.nan_to_num(np.asarray(ripple_rise_c, dtype=float), nan=0.0)
+    return l0 * 2.0 ** ((t0 - (t_op - rise)) / 10.0) * 2.0 ** (-rise / 5.0)
+
+
+def aluminium(run: CircuitRun) -> np.ndarray:
+    """True for the aluminium electrolytic and polymer placements."""
+    return np.isin(run.text("technology"), ALUMINIUM) if "technology" in run.columns else (
+        np.zeros(run.n, dtype=bool))
+
+
+def metrics(run: CircuitRun) -> None:
+    """Estimated life against the required life; generic where the self-heating is uncertain,
+    with the life at no self-heating as its kindest bound."""
+    alu = aluminium(run)
+    rated_t = run.num("temp_max_used_c")
+    t0 = np.where(np.isnan(run.num("life_t0_c")), rated_t, run.num("life_t0_c"))
+    rise, governs = run.shared["rise"], run.shared["rise_governs"]
+    life = electrolytic_life_h(run.num("life_l0_h"), t0, run.num("t_operating_c"),
+                               np.where(governs, rise, np.nan),
+                               ripple_factor=run.opts.life_ripple_factor)
+    life = np.where(alu, life, np.nan)
+    run.put("life_est_h", np.asarray(life, dtype=float))
+    run.put("life_ratio", np.asarray(life / run.num("life_h"), dtype=float))
+    uncertain = run.shared["heat_uncertain"]
+    run.put("life_ratio_basis", np.where(uncertain & alu, "generic", ""))
+    best = electrolytic_life_h(run.num("life_l0_h"), t0, run.shared["t_best"])
+    run.put("life_ratio_best", np.where(uncertain & alu, np.asarray(best, dtype=float)
+                                        / run.num("life_h"), np.nan))
+
+
+__all__ = ["ALUMINIUM", "aluminium", "electrolytic_life_h", "metrics"]
