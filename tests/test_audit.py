@@ -25,6 +25,21 @@ def _verdicts(report, refdes):
     return {r: s for r, s in zip(v.loc[v.refdes == refdes, "rule_id"], v.loc[v.refdes == refdes, "status"])}
 
 
+def test_passing_messages_are_rendered_where_printed(sample):
+    # The report keeps passing verdicts without their message until an output prints them:
+    # the governing verdict of every placement, and any verdicts an output asks for.
+    v = sample.verdicts
+    passing = v[v.status == "pass"]
+    assert len(passing) and passing.message.isna().all()
+    assert v[v.status != "pass"].message.notna().all()
+    gov = sample.governing()
+    assert gov.message.notna().all() and len(gov) == len(sample.table)
+    filled = sample.with_messages(passing)
+    assert filled.message.notna().all()
+    assert all(m.startswith(f"{r}: ") for m, r in zip(filled.message, filled.refdes))
+    assert filled.drop(columns="message").equals(passing.drop(columns="message"))
+
+
 def test_nothing_is_lost(sample):
     t = sample.totals
     assert t["rows_read"] == t["capacitor_rows"] + t["non_capacitor_rows"] + t["unreadable_rows"]

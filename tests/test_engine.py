@@ -9,7 +9,8 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from bomcheck.evaluate.engine import CHECKS, VERDICT_COLUMNS, check_kind, evaluate
+from bomcheck.evaluate.engine import (CHECKS, VERDICT_COLUMNS, check_kind, evaluate,
+                                      evaluate_lazily)
 from bomcheck.evaluate.rules import load_rules
 from bomcheck.vocabulary import INPUT_LABELS
 
@@ -390,6 +391,25 @@ def test_vectorised_evaluation_of_100k_placements(strict):
     big = v[v.pidx.isin([0, 17, 4242, 99_999])]
     assert alone.message.tolist() == big.message.tolist()
     assert alone.status.tolist() == big.status.tolist()
+
+
+def test_lazy_messages_are_the_eager_ones_rendered_on_demand(strict):
+    # Passing verdicts carry no message until an output asks (most verdicts are passes); the
+    # text rendered then is the one the eager evaluation gives, byte for byte.
+    table = synthetic(2_000)
+    eager = evaluate(table, strict)
+    lazy, messages = evaluate_lazily(table, strict)
+    passing = (lazy.status == "pass").to_numpy()
+    assert passing.any() and (~passing).any()
+    assert lazy.message[passing].isna().all()
+    assert lazy.message[~passing].tolist() == eager.message[~passing].tolist()
+    assert lazy.drop(columns="message").equals(eager.drop(columns="message"))
+    rendered = messages.for_verdicts(lazy.pidx.to_numpy(), lazy.rule_id.to_numpy())
+    assert rendered.tolist() == eager.message.tolist()
+    # A verdict the evaluation did not give (another rule id, another placement) has none.
+    assert messages.for_verdicts(np.array([0, 10**6]), np.array(["design.missing",
+                                                                  "EEE-TAN-V"])).tolist() == [
+        None, None]
 
 
 def test_capacitance_margin_needs_a_stated_need_or_an_explicit_none(strict):

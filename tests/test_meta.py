@@ -127,11 +127,7 @@ LAZY_IMPORTS_TO_MOVE = {
     "parse/design.py",
     "parse/design_toml.py",
     "parse/parts.py",
-    "pipeline/audit.py",
-    "pipeline/batch.py",
     "read/reader.py",
-    "report/jsonform.py",
-    "report/model.py",
 }
 
 MAX_MODULE_LINES = 500
@@ -139,18 +135,15 @@ MAX_FUNCTION_LINES = 60
 # Ratchet while the stage packages are split: entries may only be removed or shrink.
 OVERSIZE_MODULES = {
     "read/reader.py": 1009,
-    "evaluate/engine.py": 620,
     "parse/design.py": 609,
     "parse/parts.py": 566,
 }
 OVERSIZE_FUNCTIONS = {
     "parse/design_toml.py:entries_from_toml": 85,
     "parse/parts.py:apply_parts": 84,
-    "pipeline/audit.py:audit_inputs": 75,
     "parse/design.py:_build": 75,
     "read/workbook_scan.py:_scan_sheet": 67,
     "parse/design.py:_groups": 66,
-    "evaluate/engine.py:_bodies": 62,
 }
 
 

@@ -12,6 +12,10 @@ from dataclasses import dataclass
 
 import numpy as np
 
+PASS, WARN, FAIL, NODATA = range(4)
+# A value equal to the limit as written passes; allow for float rounding in ratios and curves.
+REL_TOL = 1e-9
+
 
 def margin_max(value: np.ndarray, limit: np.ndarray) -> np.ndarray:
     """Distance inside a ceiling: positive while ``value`` is at or below ``limit``."""
@@ -49,4 +53,19 @@ def check_kind(name: str) -> CheckKind:
         raise ValueError(f"unknown check kind {name!r}; expected one of: {valid}") from None
 
 
-__all__ = ["CHECKS", "CheckKind", "check_kind", "margin_max", "margin_min"]
+def status_of(kind: CheckKind, value: np.ndarray, limit: np.ndarray,
+              warn_limit: np.ndarray) -> np.ndarray:
+    """PASS, WARN or FAIL of each value against its limits (NaN compares as pass)."""
+    with np.errstate(invalid="ignore"):
+        over_fail = kind.margin(value, limit) < -REL_TOL * np.abs(limit)
+        over_warn = kind.margin(value, warn_limit) < -REL_TOL * np.abs(warn_limit)
+    return np.where(over_fail, FAIL, np.where(over_warn, WARN, PASS)).astype(np.int8)
+
+
+def kinder(kind: CheckKind, a: np.ndarray, b: np.ndarray) -> np.ndarray:
+    """Of two limits, the one kinder to the part (the higher ceiling, the lower floor)."""
+    return np.fmax(a, b) if kind.name == "max" else np.fmin(a, b)
+
+
+__all__ = ["CHECKS", "FAIL", "NODATA", "PASS", "REL_TOL", "WARN", "CheckKind", "check_kind", "kinder",
+           "margin_max", "margin_min", "status_of"]

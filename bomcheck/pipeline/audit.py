@@ -14,8 +14,16 @@ import numpy as np
 import pandas as pd
 
 from bomcheck import __version__
+from bomcheck.evaluate import engine, rules, sources
+from bomcheck.evaluate.waivers import apply_waivers, load_waivers
+from bomcheck.parse import design as design_mod
+from bomcheck.parse import importer
+from bomcheck.parse import parts as parts_mod
+from bomcheck.parse.design_cells import InputWarning
 from bomcheck.report.model import CAUTIONS, Report, ruleset_summary
 from bomcheck.status import RANK, STATUS_ORDER
+from bomcheck.stress import circuit
+from bomcheck.stress import placement as stresses
 from bomcheck.vocabulary import REQUIRED_FAMILIES
 
 # Verdict ids the audit itself gives (not from a rule file): data problems, never a silent pass.
@@ -41,8 +49,6 @@ class AuditOptions:
 
 def stress_data(ruleset):
     """The rule set's assumed data (generic DC-bias curves, aging rates) for the stress stage."""
-    from bomcheck.stress.placement import StressData
-
     kwargs: dict = {}
     bias = ruleset.dc_bias
     if bias is not None:
@@ -58,7 +64,7 @@ def stress_data(ruleset):
     if ruleset.typical is not None:
         kwargs["typical_temp_max_c"] = dict(ruleset.typical.temp_max_c)
         kwargs["lowest_temp_max_c"] = dict(ruleset.typical.lowest_temp_max_c)
-    return StressData(**kwargs)
+    return stresses.StressData(**kwargs)
 
 
 def _families_missing(table: pd.DataFrame, rule_verdicts: pd.DataFrame,
@@ -81,8 +87,6 @@ def _families_missing(table: pd.DataFrame, rule_verdicts: pd.DataFrame,
 def _read_warnings(imported) -> tuple:
     """The BOM reader's warnings (hidden rows, columns or sheets skipped; lines in another
     encoding) as input warnings of the report, each naming the BOM file and its first row."""
-    from bomcheck.parse.design_cells import InputWarning
-
     return tuple(InputWarning(str(imported.source.path), w.rows[0] if w.rows else None, None,
                               f"{w.code}: {w.message}")
                  for w in getattr(imported, "read_warnings", ()))
@@ -146,17 +150,15 @@ class Evaluated:
     table: pd.DataFrame  # metrics and ``status`` added
     verdicts: pd.DataFrame
     groups: tuple[dict, ...] = ()
+    messages: engine.Messages | None = None  # renders the messages a lazy evaluation left out
 
 
 def evaluate_table(table: pd.DataFrame, ruleset, *, parts=None, groups=None,
-                   import_findings=()) -> Evaluated:
+                   import_findings=(), lazy: bool = False) -> Evaluated:
     """The middle of the pipeline on a table of fitted placements (spec and condition columns):
     stresses, circuit-level stresses with parts data, rule verdicts, the audit's own verdicts and
-    each placement's status. ``run_audit`` and the substitute check both call it."""
-    from bomcheck.stress import circuit
-    from bomcheck.evaluate import engine
-    from bomcheck.stress import placement as stresses
-
+    each placement's status. ``run_audit`` and the substitute check both call it. ``lazy``:
+    the rules' passing verdicts carry no message (``Evaluated.messages`` renders them)."""
     data = stress_data(ruleset)
     table = stresses.compute(table.reset_index(drop=True), data)
     with warnings.catch_warnings():
@@ -165,7 +167,8 @@ def evaluate_table(table: pd.DataFrame, ruleset, *, parts=None, groups=None,
         warnings.simplefilter("ignore", pd.errors.PerformanceWarning)
         run = circuit.apply(table, data, ruleset, parts=parts, groups=groups)
     table = run.table
-    verdicts = _audit_verdicts(table, engine.evaluate(table, ruleset), import_findings, ruleset)
+    rule_verdicts, messages = engine.evaluate_lazily(table, ruleset, passes=not lazy)
+    verdicts = _audit_verdicts(table, rule_verdicts, import_findings, ruleset)
     if len(run.verdicts):
         verdicts = pd.concat([verdicts, run.verdicts], ignore_index=True).sort_values(
             ["pidx", "rule_id"], kind="stable").reset_index(drop=True)
@@ -177,14 +180,12 @@ def evaluate_table(table: pd.DataFrame, ruleset, *, parts=None, groups=None,
     table = engine.without_unverdicted(table, verdicts, ruleset)
     status = pd.Series(placement_status(verdicts, len(table)), index=table.index, name="status")
     table = pd.concat([table.drop(columns=["status"], errors="ignore"), status], axis=1)
-    return Evaluated(table, verdicts, run.groups)
+    return Evaluated(table, verdicts, run.groups, messages if lazy else None)
 
 
-def load_ruleset(names: tuple[str, ...] = (), environment: str = "severe"):
+def load_ruleset(names: tuple[str, ...] = (), environment: str = "severe") -> rules.RuleSet:
     """The rule sets in force: ``names`` (names or paths; the default set when empty) judged
     for ``environment`` (``rules.ENVIRONMENTS``). The audit and the substitute check both call it."""
-    from bomcheck.evaluate import rules
-
     return rules.load_rules(names or (rules.DEFAULT_RULESET,)).for_environment(environment)
 
 
@@ -203,9 +204,6 @@ def placement_table(placements: pd.DataFrame, design) -> pd.DataFrame:
 
 def run_audit(bom_path: str, design_path: str | None, options: AuditOptions = AuditOptions()) -> Report:
     """Audit every fitted capacitor placement of ``bom_path`` under the design sheet's conditions."""
-    from bomcheck.parse import design as design_mod
-    from bomcheck.parse import importer
-
     imported = importer.read_bom(bom_path, options.import_options or importer.ImportOptions())
     design = (design_mod.read_design(design_path, sheet=options.design_sheet)
               if design_path is not None else None)
@@ -215,14 +213,10 @@ def run_audit(bom_path: str, design_path: str | None, options: AuditOptions = Au
 def audit_with_files(imported, design, options: AuditOptions = AuditOptions()) -> Report:
     """``audit_inputs`` with the parts data and waivers that ``options`` names read from their
     files (the BOM and design sheet already read, from files or from tables in memory)."""
-    from bomcheck.parse import parts as parts_mod
-
     part_data = (parts_mod.read_parts(options.parts, override=options.parts_override)
                  if options.parts else None)
     report = audit_inputs(imported, design, part_data, options)
     if options.waivers:
-        from bomcheck.evaluate.waivers import apply_waivers, load_waivers
-
         report = apply_waivers(report, load_waivers(options.waivers), options.today or date.today())
     return report
 
@@ -232,13 +226,37 @@ def audit_inputs(imported, design=None, part_data=None,
     """The audit of inputs already read: an ``importer.ImportResult``, a ``design.Design`` (or
     None: no operating conditions, every placement "nodata") and a ``parts.PartsData`` (or None).
     Pure: reads no file (the rule sets are loaded by name or path from ``options``)."""
-    from bomcheck.stress import circuit
-
     ruleset = load_ruleset(options.rules, options.environment)
     placements = imported.placements
-    table = placement_table(placements, design)
     not_fitted = placements[~placements["fitted"]].reset_index(drop=True)
+    table, inputs, design_unmatched = _joined(imported, design)
+    if part_data is not None:
+        inputs.append({"role": "parts", "path": str(part_data.path), "sha256": part_data.sha256})
+    approved = imported.sources
+    with_sources = bool(len(approved) and (approved["source"] > 0).any() and len(table))
 
+    def evaluate(placements: pd.DataFrame, lazy: bool = False) -> Evaluated:
+        return evaluate_table(placements, ruleset, parts=part_data,
+                              groups=design.groups if design is not None else None,
+                              import_findings=imported.findings, lazy=lazy)
+
+    # Passing verdicts' messages are rendered only when an output prints them; approved sources
+    # rewrite every message of their verdicts, so they are built at once there.
+    done = evaluate(table, lazy=not with_sources)
+    source_status = None
+    if with_sources:
+        done_table, verdicts, source_status = sources.audit_sources(
+            table, done, approved, evaluate,
+            lambda text: importer.spec_from_cells({"description": text})[0])
+        done = Evaluated(done_table, verdicts, done.groups)
+    return _report(imported, done, ruleset, not_fitted, inputs, design_unmatched,
+                   source_status, design, part_data)
+
+
+def _joined(imported, design) -> tuple[pd.DataFrame, list[dict], list[dict]]:
+    """(the fitted placements with their design conditions, the inputs' entries, the design
+    rows the BOM lacks)."""
+    placements = imported.placements
     inputs = [{"role": "bom", "path": str(imported.source.path),
                "sha256": imported.source.sha256}]
     design_unmatched: list[dict] = []
@@ -249,26 +267,13 @@ def audit_inputs(imported, design=None, part_data=None,
                 "refdes": refdes, "row": row, "status": "nodata",
                 "reason": f"{refdes} (design sheet row {row}) is not in the BOM",
             })
-    if part_data is not None:
-        inputs.append({"role": "parts", "path": str(part_data.path), "sha256": part_data.sha256})
-    groups = design.groups if design is not None else None
+    return placement_table(placements, design), inputs, design_unmatched
 
-    def evaluate(placements: pd.DataFrame) -> Evaluated:
-        return evaluate_table(placements, ruleset, parts=part_data, groups=groups,
-                              import_findings=imported.findings)
 
-    done = evaluate(table)
-    source_status = None
-    approved = imported.sources
-    if len(approved) and (approved["source"] > 0).any() and len(table):
-        from bomcheck.evaluate import sources
-        from bomcheck.parse.importer import spec_from_cells
-
-        done_table, verdicts, source_status = sources.audit_sources(
-            table, done, approved, evaluate, lambda text: spec_from_cells({"description": text})[0])
-        done = Evaluated(done_table, verdicts, done.groups)
+def _report(imported, done: Evaluated, ruleset, not_fitted: pd.DataFrame, inputs: list[dict],
+            design_unmatched: list[dict], source_status, design, part_data) -> Report:
+    """The report value of an evaluated audit."""
     table, verdicts = done.table, done.verdicts
-
     counts = table["status"].value_counts()
     totals = dict(imported.totals)
     totals.update({"audited": int(len(table)), "design_unmatched": len(design_unmatched)})
@@ -292,4 +297,5 @@ def audit_inputs(imported, design=None, part_data=None,
         input_warnings=tuple(sorted(
             (*_read_warnings(imported), *(design.warnings if design is not None else ()),
              *(part_data.warnings if part_data is not None else ())))),
+        messages=done.messages,
     )

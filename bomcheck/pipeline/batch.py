@@ -17,6 +17,12 @@ from dataclasses import dataclass
 from pathlib import Path
 
 from bomcheck.errors import BomcheckError, InputError
+from bomcheck.parse.importer import ImportOptions
+from bomcheck.pipeline.audit import run_audit
+from bomcheck.read.reader import load_toml, read_bytes, toml_text
+from bomcheck.render.exports import CSV_COLUMNS, _md, csv_rows, markdown_summary
+from bomcheck.report.jsonform import SCHEMA_VERSION
+from bomcheck.report.model import dumps, worst_status
 
 WORKERS = 2  # the machines this runs on have two cores or more
 BOARD_KEYS = ("product", "bom", "design", "parts", "rules", "waivers", "design_sheet", "sheet")
@@ -88,8 +94,6 @@ def read_manifest(path: str) -> tuple[Board, ...]:
     """The boards of a TOML manifest: ``[[board]]`` tables (product, bom, and optional design,
     parts, rules, waivers, design_sheet, sheet); top-level keys of the same names are defaults
     for every board."""
-    from bomcheck.read.reader import load_toml, read_bytes, toml_text
-
     data = load_toml(toml_text(read_bytes(path, "manifest"), path), path)
     boards = data.pop("board", None)
     if not isinstance(boards, list) or not boards:
@@ -113,8 +117,6 @@ def read_manifest(path: str) -> tuple[Board, ...]:
 
 def _options(board: Board, base):
     """The board's audit options: its own where given, else the batch's (``base``)."""
-    from bomcheck.parse.importer import ImportOptions
-
     imports = base.import_options or ImportOptions()
     if board.sheet is not None:
         imports = dataclasses.replace(imports, sheet=board.sheet)
@@ -126,8 +128,6 @@ def _options(board: Board, base):
 def audit_board(board: Board, base, kinds: tuple[str, ...], folder: str, index: int):
     """Audit one board and write its output pieces into ``folder`` (run in a worker). Returns a
     ``BoardResult``, or the error text of a ``BomcheckError`` (errors cross processes as text)."""
-    from bomcheck.pipeline.audit import run_audit
-
     try:
         report = run_audit(board.bom, board.design, _options(board, base))
     except BomcheckError as exc:
@@ -148,14 +148,10 @@ def _piece(kind: str, report, product: str) -> Iterator[str]:
         for text in report.iter_json():
             yield text.rstrip("\n")
     elif kind == "markdown":
-        from bomcheck.render.exports import markdown_summary
-
         text = markdown_summary(report)
         _, _, rest = text.partition("\n")  # the board's own title line, replaced
         yield f"## {product}: {report.status.upper()}\n{rest}\n"
     else:
-        from bomcheck.render.exports import csv_rows
-
         rows = csv.reader(io.StringIO(csv_rows(report), newline=""))
         next(rows, None)  # the header is written once for all boards
         buf = io.StringIO()
@@ -186,8 +182,6 @@ def run_batch(boards: tuple[Board, ...], base, kinds: tuple[str, ...], folder: s
 
 def worst(results: tuple[BoardResult, ...]) -> str:
     """The worst status of the boards."""
-    from bomcheck.report.model import worst_status
-
     return worst_status(r.status for r in results)
 
 
@@ -195,8 +189,6 @@ def combined_json(results: tuple[BoardResult, ...], tool_version: str) -> Iterat
     """The combined JSON report (schema ``batch.schema.json``): the batch's status and a
     ``boards`` list, each with product, status, totals and its whole report (schema
     ``report.schema.json``) under ``report``."""
-    from bomcheck.report.jsonform import SCHEMA_VERSION, dumps
-
     yield dumps({"schema_version": SCHEMA_VERSION, "kind": "batch",
                  "tool": {"name": "bomcheck", "version": tool_version},
                  "status": worst(results)})[:-1] + ',"boards":['
@@ -210,8 +202,6 @@ def combined_json(results: tuple[BoardResult, ...], tool_version: str) -> Iterat
 
 def combined_markdown(results: tuple[BoardResult, ...]) -> Iterator[str]:
     """A Markdown summary: one table row per board, then each board's own summary."""
-    from bomcheck.render.exports import _md
-
     yield f"# bomcheck batch audit: {worst(results).upper()}\n\n"
     yield "| product | status | audited | pass | warn | nodata | fail |\n"
     yield "|:--|:--|--:|--:|--:|--:|--:|\n"
@@ -226,8 +216,6 @@ def combined_markdown(results: tuple[BoardResult, ...]) -> Iterator[str]:
 
 def combined_csv(results: tuple[BoardResult, ...]) -> Iterator[str]:
     """One CSV: the product column, then the audit's CSV columns, one row per placement."""
-    from bomcheck.render.exports import CSV_COLUMNS
-
     buf = io.StringIO()
     csv.writer(buf, lineterminator="\r\n").writerow(["product", *CSV_COLUMNS])
     yield buf.getvalue()

@@ -332,7 +332,7 @@ def _verdicts_section(report) -> list[str]:
                    "the on-screen report and the JSON report; the printed record lists every "
                    "verdict that is not a pass.</p>")
         out.append('<div class="screen-only">' + _table(
-            _VERDICT_HEADERS, _verdict_rows(passed, metric_of, rows_of),
+            _VERDICT_HEADERS, _verdict_rows(report.with_messages(passed), metric_of, rows_of),
             table_id="checks-table", sortable=True) + "</div>")
     return out
 

@@ -15,6 +15,7 @@ from __future__ import annotations
 import json
 import json.encoder
 from collections.abc import Iterator
+from itertools import repeat
 
 import numpy as np
 import orjson
@@ -35,10 +36,9 @@ def _float_texts(values: np.ndarray) -> list[str]:
 
 
 def dumps(value) -> str:
-    """Compact JSON text; NaN or infinity is an error (they are left out upstream)."""
-    from bomcheck.report.model import _dumps
-
-    return _dumps(value)
+    """Compact JSON text of a value inside one cell (a list of texts); NaN or infinity is an
+    error (they are left out upstream)."""
+    return json.dumps(value, ensure_ascii=False, allow_nan=False, separators=(",", ":"))
 
 
 def column_texts(values, key: str = "", only: np.ndarray | None = None
@@ -68,9 +68,7 @@ def column_texts(values, key: str = "", only: np.ndarray | None = None
             texts[present] = _float_texts(arr[present])
         return texts, present
     if key in DISTINCT_FIELDS:  # nearly every value differs: no point in finding repeats
-        pairs = [_object_text(x) for x in series.to_numpy(dtype=object).tolist()]
-        return (np.asarray([t for t, _ in pairs], dtype=object),
-                np.asarray([p for _, p in pairs], dtype=bool))
+        return _distinct_texts(series.to_numpy(dtype=object))
     codes, uniques = pd.factorize(series.to_numpy(dtype=object), use_na_sentinel=True)
     texts, present = [], []
     for u in uniques:
@@ -78,6 +76,19 @@ def column_texts(values, key: str = "", only: np.ndarray | None = None
         texts.append(text)
         present.append(ok)
     return _lookup(codes, texts, present)
+
+
+def _distinct_texts(values: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """``column_texts`` of an object column whose values nearly all differ: a column of strings
+    is encoded in one pass, anything else value by value."""
+    items = values.tolist()
+    if pd.api.types.infer_dtype(values, skipna=False) in ("string", "empty"):
+        texts = np.empty(len(items), dtype=object)
+        texts[:] = list(map(_encode, items))
+        return texts, values != ""
+    pairs = [_object_text(x) for x in items]
+    return (np.asarray([t for t, _ in pairs], dtype=object),
+            np.asarray([p for _, p in pairs], dtype=bool))
 
 
 def _object_text(value) -> tuple[str, bool]:
@@ -109,7 +120,7 @@ def objects(fields: list[tuple[str, np.ndarray, np.ndarray]], n: int) -> list[st
     """Per row, the JSON object of the ``fields`` (key, texts, present) present in that row.
 
     Rows are grouped by which keys they have (a handful of patterns), and each group is written
-    by one format template over its columns."""
+    by joining its key literals and columns in one pass."""
     if not fields:
         return ["{}"] * n
     present = np.column_stack([p for _, _, p in fields])
@@ -122,18 +133,31 @@ def objects(fields: list[tuple[str, np.ndarray, np.ndarray]], n: int) -> list[st
         uniq, inverse = np.unique(present, axis=0, return_inverse=True)
         masks = uniq.tolist()
     inverse = inverse.reshape(-1)
+    if len(masks) == 1:  # one pattern (the usual case): every row in order, no regrouping
+        return _join_fields(fields, masks[0], None)
     order = np.argsort(inverse, kind="stable")
     bounds = np.searchsorted(inverse[order], np.arange(len(masks) + 1)).tolist()
     out = np.empty(n, dtype=object)
     for p, mask in enumerate(masks):
         rows = order[bounds[p]:bounds[p + 1]]
-        cols = [j for j, on in enumerate(mask) if on]
-        if not cols:
-            out[rows] = "{}"
-            continue
-        template = "{{" + ",".join(f'"{fields[j][0]}":{{}}' for j in cols) + "}}"
-        out[rows] = list(map(template.format, *(fields[j][1][rows].tolist() for j in cols)))
+        out[rows] = _join_fields(fields, mask, rows)
     return out.tolist()
+
+
+def _join_fields(fields: list[tuple[str, np.ndarray, np.ndarray]], mask: list[bool],
+                 rows: np.ndarray | None) -> list[str]:
+    """The JSON objects of ``rows`` (all rows when None) that have exactly the keys of ``mask``:
+    each row's key literals and value texts joined in one pass (no per-row template parsing)."""
+    cols = [j for j, on in enumerate(mask) if on]
+    size = len(fields[0][1]) if rows is None else len(rows)
+    if not cols:
+        return ["{}"] * size
+    args: list = []
+    for n, j in enumerate(cols):
+        texts = fields[j][1] if rows is None else fields[j][1][rows]
+        args += [repeat(("{" if n == 0 else ",") + f'"{fields[j][0]}":'), texts.tolist()]
+    args.append(repeat("}"))
+    return list(map("".join, zip(*args)))
 
 
 def frame_objects(frame: pd.DataFrame, keys: tuple[str, ...], n: int) -> list[str]:
@@ -153,10 +177,9 @@ def join_per_row(texts: list[str], owner: np.ndarray, n: int) -> list[str]:
     return ["[" + ",".join(texts[a:b]) + "]" for a, b in zip(bounds[:-1], bounds[1:])]
 
 
-def write_chunks(front: dict, back: dict, chunks: Iterator[list[str]]) -> Iterator[str]:
-    """The JSON object ``front`` + ``placements`` (from ``chunks`` of record texts) + ``back``,
-    as pieces of text."""
-    front_text, back_text = dumps(front), dumps(back)
+def write_chunks(front_text: str, back_text: str, chunks: Iterator[list[str]]) -> Iterator[str]:
+    """The JSON object ``front_text`` + ``placements`` (from ``chunks`` of record texts) +
+    ``back_text`` (both JSON objects), as pieces of text."""
     yield front_text[:-1] + ',"placements":['
     first = True
     for texts in chunks:

@@ -13,12 +13,15 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
-from bomcheck.spec import SPEC_KEYS
+from bomcheck.report import jsonform
+from bomcheck.report.jsonform import (SCHEMA_VERSION, column_texts, frame_objects, join_per_row,
+                                      objects, write_chunks)
 from bomcheck.report.jsontext import json_dumps
-from bomcheck.vocabulary import CONDITIONS, METRICS
-
+from bomcheck.spec import SPEC_KEYS
 from bomcheck.status import RANK as _RANK
 from bomcheck.status import at_least, worst
+from bomcheck.stress.circuit import JSON_FIELDS
+from bomcheck.vocabulary import CONDITIONS, METRICS
 
 CAUTIONS: tuple[str, ...] = (
     "These results support engineering review; they do not replace it. A pass means the "
@@ -83,7 +86,9 @@ status_at_least = at_least
 @dataclass(frozen=True)
 class Report:
     """Everything an audit found. ``table`` has one row per fitted placement (spec, conditions,
-    metrics, status); ``verdicts`` one row per placement and rule (see engine.evaluate)."""
+    metrics, status); ``verdicts`` one row per placement and rule (see engine.evaluate). A
+    passing verdict's message may be left out (None) until an output prints it:
+    ``with_messages`` renders it, and ``governing`` gives every placement's."""
 
     tool_version: str
     rulesets: tuple[dict, ...]
@@ -106,6 +111,9 @@ class Report:
     # Each approved source's status per placement (bomcheck.evaluate.sources.SOURCE_STATUS_COLUMNS), or
     # None when no line has an approved source beside its own.
     source_status: pd.DataFrame | None = None
+    # Renders the messages of the verdicts that carry none (passes: most verdicts, rarely
+    # printed); bomcheck.evaluate.engine.Messages, or None when every verdict has its message.
+    messages: Any = field(default=None, compare=False, repr=False)
 
     @property
     def status(self) -> str:
@@ -123,7 +131,7 @@ class Report:
         4.5 s discharge margin), then in natural designator order (C7 before C10). Every
         output lists placements in this one order."""
         t = self.table
-        gov = self.governing()
+        gov = self._governing_rows()  # the order needs no message
         rel = (gov["rel_margin"].reindex(t.index) if len(gov) and "rel_margin" in gov
                else pd.Series(np.nan, index=t.index))
         key = natural_columns(t["refdes"]).assign(
@@ -149,16 +157,38 @@ class Report:
     def governing(self) -> pd.DataFrame:
         """Per placement (index = table index), the verdict that sets its status: the worst
         status, and among equals the smallest margin relative to the limit (column ``_rel``,
-        unit-free)."""
+        unit-free); with its message."""
+        gov = self._governing_rows()
+        if not len(gov):
+            return gov
+        gov = self.with_messages(gov.assign(pidx=gov.index)).drop(columns=["pidx"])
+        metric_of = {} if self.rules is None else {r.id: r.metric for r in self.rules.rules}
+        return gov.assign(metric=gov["rule_id"].map(metric_of))
+
+    def _governing_rows(self) -> pd.DataFrame:
+        """``governing`` without the metric column, and a passing verdict's message left out
+        when the evaluation left it out."""
         v = self.verdicts
         if not len(v):
             return v
         rank = v["status"].map(_RANK)
         key = v.assign(_rank=-rank, rel_margin=relative_margin(v))
         key = key.sort_values(["pidx", "_rank", "rel_margin"], na_position="last", kind="stable")
-        gov = key.drop_duplicates("pidx").set_index("pidx").drop(columns=["_rank"])
-        metric_of = {} if self.rules is None else {r.id: r.metric for r in self.rules.rules}
-        return gov.assign(metric=gov["rule_id"].map(metric_of))
+        return key.drop_duplicates("pidx").set_index("pidx").drop(columns=["_rank"])
+
+    def with_messages(self, verdicts: pd.DataFrame) -> pd.DataFrame:
+        """``verdicts`` (rows of ``self.verdicts``) with the message of each one that has none
+        rendered: an output calls it for the passing verdicts it prints."""
+        if self.messages is None or "message" not in verdicts or not len(verdicts):
+            return verdicts
+        missing = verdicts["message"].isna().to_numpy()
+        if not missing.any():
+            return verdicts
+        message = verdicts["message"].to_numpy(dtype=object).copy()
+        message[missing] = self.messages.for_verdicts(
+            verdicts["pidx"].to_numpy(dtype=np.int64)[missing],
+            verdicts["rule_id"].to_numpy(dtype=object)[missing])
+        return verdicts.assign(message=pd.Series(message, index=verdicts.index, dtype=object))
 
     def not_audited(self) -> list[dict]:
         """Not-fitted placements and skipped rows, each with its reason, in row order."""
@@ -189,8 +219,6 @@ class Report:
 
     def _json_parts(self) -> tuple[dict, dict]:
         """The JSON report's keys before ``placements`` and after it."""
-        from bomcheck.report.jsonform import SCHEMA_VERSION
-
         front = {
             "schema_version": SCHEMA_VERSION,
             "tool": {"name": "bomcheck", "version": self.tool_version},
@@ -221,12 +249,10 @@ class Report:
     def iter_json(self):
         """The JSON report in pieces of at most one chunk of placements each, built column-wise
         (``bomcheck.report.jsonform``), so writing it never holds the whole text in memory."""
-        from bomcheck.report.jsonform import write_chunks
-
         front, back = self._json_parts()
         spec_codes, specs = _specs(self.table)
         front["specs"] = specs
-        return write_chunks(front, back, _placement_chunks(self.table, self.verdicts,
+        return write_chunks(dumps(front), dumps(back), _placement_chunks(self.table, self.verdicts,
                                                            spec_codes, front["rules"]))
 
     def to_dict(self) -> dict:
@@ -234,7 +260,7 @@ class Report:
         return json.loads(self.to_json())
 
 
-def _dumps(value) -> str:
+def dumps(value) -> str:
     """Compact strict JSON: a non-finite number anywhere is written as null."""
     return json_dumps(value)
 
@@ -307,18 +333,15 @@ _UNLESS = {"basis": "firm", "approved_source": 0}
 
 def _placement_chunks(table: pd.DataFrame, verdicts: pd.DataFrame, spec_codes: np.ndarray,
                       rules: dict):
-    """Lists of placement record texts, ``report_json.CHUNK`` placements at a time."""
-    from bomcheck.stress.circuit import JSON_FIELDS
-    from bomcheck.report.jsonform import CHUNK
-
+    """Lists of placement record texts, ``jsonform.CHUNK`` placements at a time."""
     pidx = (verdicts["pidx"].to_numpy(dtype=np.int64) if len(verdicts)
             else np.zeros(0, dtype=np.int64))
     if len(pidx) and (np.diff(pidx) < 0).any():
         order = np.argsort(pidx, kind="stable")
         verdicts, pidx = verdicts.iloc[order], pidx[order]
     metric_keys = tuple(dict.fromkeys((*METRIC_FIELDS, *JSON_FIELDS)))
-    for start in range(0, len(table), CHUNK):
-        stop = min(len(table), start + CHUNK)
+    for start in range(0, len(table), jsonform.CHUNK):
+        stop = min(len(table), start + jsonform.CHUNK)
         a, b = np.searchsorted(pidx, [start, stop]).tolist()
         yield _placement_records(table.iloc[start:stop], spec_codes[start:stop],
                                  verdicts.iloc[a:b], pidx[a:b] - start, rules, metric_keys)
@@ -327,8 +350,6 @@ def _placement_chunks(table: pd.DataFrame, verdicts: pd.DataFrame, spec_codes: n
 def _placement_records(part: pd.DataFrame, spec: np.ndarray, verdicts: pd.DataFrame,
                        owner: np.ndarray, rules: dict, metric_keys) -> list[str]:
     """The JSON record of each placement of ``part`` (one chunk), built column by column."""
-    from bomcheck.report.jsonform import column_texts, frame_objects, join_per_row, objects
-
     m = len(part)
     everywhere = np.ones(m, dtype=bool)
     fields = []
@@ -374,8 +395,6 @@ def _verdict_objects(v: pd.DataFrame, part: pd.DataFrame, owner: np.ndarray,
     """Each verdict's JSON object: rule, status and margin always (margin where known); value,
     limit, warn_limit and source only where they differ from ``_verdict_defaults``; the message
     only when it is not a pass."""
-    from bomcheck.report.jsonform import column_texts, objects
-
     n = len(v)
     if not n:
         return []
