@@ -3,6 +3,7 @@ and unknown headers (issues 9 and 10). Invented designators and rails only."""
 
 from __future__ import annotations
 
+import numpy as np
 import pandas as pd
 import pytest
 
@@ -168,3 +169,34 @@ def test_a_rating_in_the_design_sheet_points_to_the_parts_file():
     with pytest.raises(InputError) as info:
         sheet(["refdes", "v_dc", "Rated voltage"], ["C1", "5", "16 V"])
     assert "parts file" in info.value.hint
+
+
+@pytest.mark.parametrize("header", ["v_dc", "Ripple [mVpp]", "t_amb (°C)", "v_tol_pct", "c_min_f",
+                                    "life", "r_bleeder [kohm]"])
+def test_a_column_reads_the_same_with_and_without_the_column_path(monkeypatch, header):
+    # Bare numbers go through bomcheck.parse.units.plain_to_si as a column; every other cell one
+    # by one. Turning the column path off must change nothing (one grammar, one answer).
+    from bomcheck.parse import design_cells
+
+    cells = np.array(["5", " 5", "0.05", "12 V", "-", "", "none", "1e2", "3.3", "0.5", "7",
+                      "±5 %", "120", "85 degC", "2.2 uF", "10 years", "0"], dtype=object)
+    col = design_cells.parse_header(header)
+    results = []
+    for fast in (True, False):
+        if not fast:
+            monkeypatch.setattr(design_cells, "plain_to_si", lambda texts, *a, **k: (
+                np.zeros(0, dtype=np.int64), np.zeros(0)))
+        picked = []
+        for text in cells:  # cells a column refuses are left out of the comparison
+            try:
+                design_cells.convert(np.array([text], dtype=object), col, _raise)
+                picked.append(text)
+            except ValueError:
+                pass
+        results.append(design_cells.convert(np.array(picked, dtype=object), col, _raise))
+    np.testing.assert_array_equal(results[0], results[1])
+    assert np.signbit(results[0]).tolist() == np.signbit(results[1]).tolist()
+
+
+def _raise(at, text, exc):
+    raise ValueError(text)

@@ -7,8 +7,8 @@ import pandas as pd
 import pytest
 
 from bomcheck.errors import InputError
-from bomcheck.parse.parts import (PARTS_FINDING, apply_parts, curve_values, parts_from_table,
-                            read_parts)
+from bomcheck.parse.parts import PARTS_FINDING, parts_from_table, read_parts
+from bomcheck.parse.parts_apply import apply_parts, curve_values
 from bomcheck.stress.placement import StressData, compute
 
 CSV = ("mpn,rated_voltage,temp_max,esr [mohm],ripple_current,ripple_freq,ripple_freq_mult,"

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import math
+import re
 
 import pint
 import pytest
@@ -298,3 +299,37 @@ def test_table_units_agree_with_pint(ref, text, quantity):
     pint_unit = {"degC/W": "delta_degC/W", "yr": "year"}.get(token, token)
     assert units._table_factor(token, quantity) is not None  # served by the table
     assert to_si(text, quantity) == pytest.approx(_pint(ref, float(number), pint_unit, quantity))
+
+
+# The column path for bare numbers (plain_to_si) must give exactly what to_si gives one text at a
+# time, and leave to to_si every text it would refuse (internal consistency: one grammar).
+_BARE = r"[-+]?([0-9]+(\.[0-9]*)?|\.[0-9]+)([eE][-+]?[0-9]+)?"
+_PLAIN_TEXTS = ["5", "-5", "0", "-0", "+7", "1e3", "1E-3", ".5", "5.", "0.1", "13.2",
+                "123456789012345", "1234567890123456", "0.123456789012345678", "1,5", "5 V",
+                "1e999", "1e-400", "4e-320", "100000.5", "-100", "99999999", "2e5", "\u0663",
+                "1_0", "inf", "nan", "", "0x10", " 5"]
+
+
+@pytest.mark.parametrize("quantity, unit, sign, high", [
+    ("voltage", "V", "any", None), ("voltage", "mV", "nonneg", None),
+    ("capacitance", "uF", "positive", None), ("temperature", "degC", "any", None),
+    ("temperature", "K", "any", None), ("time", "years", "positive", None),
+    ("dimensionless", "%", "nonneg", 1.0), ("resistance", "kohm", "positive", None),
+])
+def test_plain_numbers_as_a_column_agree_with_to_si(quantity, unit, sign, high):
+    from bomcheck.parse.units import check_plausible, plain_to_si
+
+    at, values = plain_to_si(_PLAIN_TEXTS, quantity, unit, sign, high=high)
+    got = dict(zip(at.tolist(), values.tolist()))
+    for i, text in enumerate(_PLAIN_TEXTS):
+        try:
+            want = to_si(text, quantity, unit, sign)
+            if high is not None:
+                check_plausible(want, quantity, sign, high=high)
+        except UnitError:
+            assert i not in got, text  # refused texts are left to to_si
+            continue
+        plain = len(text) <= 15 and re.fullmatch(_BARE, text)
+        assert (i in got) == bool(plain), text  # every bare number goes the column path
+        if plain:
+            assert math.copysign(1, got[i]) == math.copysign(1, want) and got[i] == want, text

@@ -37,14 +37,13 @@ rule set given by shipped name (no ``/`` and no ``.toml``) stays a name. Example
 from __future__ import annotations
 
 import os
-import tomllib
 from collections.abc import Mapping
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
 from bomcheck.errors import InputError
-from bomcheck.read.reader import read_bytes
+from bomcheck.read.reader import load_toml, read_bytes, toml_text
 from bomcheck.render.registry import file_outputs, flag_outputs
 
 CHOICES: dict[str, tuple[str, ...]] = {
@@ -80,15 +79,12 @@ def find_pyproject(start: str | Path | None = None) -> Path | None:
 
 def _tool_table(path: Path) -> dict:
     try:
-        text = read_bytes(str(path), "pyproject.toml").decode("utf-8")
+        text = toml_text(read_bytes(str(path), "pyproject.toml"), str(path))
         if "bomcheck" not in text:  # skip parsing the many pyproject files that cannot have it
             return {}
-        doc = tomllib.loads(text)
-    except (OSError, UnicodeDecodeError, tomllib.TOMLDecodeError) as exc:
+        doc = load_toml(text, str(path))
+    except OSError as exc:
         raise InputError(f"cannot read pyproject.toml ({exc})", path=str(path)) from None
-    except RecursionError:  # tomllib recurses once per nesting level
-        raise InputError("cannot read pyproject.toml (nested thousands of levels deep)",
-                         path=str(path)) from None
     tool = doc.get("tool", {})
     return tool if isinstance(tool, dict) else {}
 

@@ -28,7 +28,7 @@ from bomcheck.evaluate.rule_model import (  # noqa: F401 (the rule set's values,
     TypicalRatings, axis_quantity,
 )
 from bomcheck.evaluate.rule_schema import Problems, RuleSchema, json_path, suggest
-from bomcheck.read.reader import load_toml, read_bytes
+from bomcheck.read.reader import load_toml, read_bytes, toml_text
 
 DEFAULT_RULESET = "industrial"
 MAX_EXTENDS_DEPTH = 32  # files in one extends chain (the shipped sets use 2 or 3)
@@ -155,7 +155,7 @@ def _apply(spec: str, base: Path | None, state: _State, stack: tuple[str, ...],
         return
     try:
         if path is not None:  # a regular file within the size limit, like every input
-            text = read_bytes(str(path), "rule file").decode("utf-8-sig")
+            text = toml_text(read_bytes(str(path), "rule file"), display)
         else:
             text = shipped_root().joinpath(f"{spec}.toml").read_text("utf-8")
         doc = load_toml(text, display)

@@ -42,10 +42,11 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
-from bomcheck.parse import refdes as refdes_mod
 from bomcheck.errors import InputError
-from bomcheck.read.reader import HeaderNotFound, load_toml, read_input, read_table, toml_text
-from bomcheck.status import RANK, STATUS_ORDER
+from bomcheck.parse import refdes as refdes_mod
+from bomcheck.read.reader import HeaderNotFound, read_table, read_toml
+from bomcheck.status import RANK
+from bomcheck.status import STATUS_ORDER
 
 WAIVABLE: tuple[str, ...] = ("warn", "nodata", "fail")
 FIELDS: tuple[str, ...] = ("refdes", "rule", "reason", "approved_by", "expires", "bom_text")
@@ -107,18 +108,16 @@ class WaiverFinding:
 def load_waivers(path: str | Path) -> WaiverFile:
     """Read a TOML (``.toml``) or table (CSV/TSV/XLSX, through ``bomcheck.read.reader``) waiver file;
     bad entries raise ``InputError`` naming the file, the entry and the key."""
-    p = Path(path)
-    data, sha = read_input(str(path), "waiver file")
-    if p.suffix.lower() == ".toml":
-        entries = _toml_entries(data, str(path))
+    if Path(path).suffix.lower() == ".toml":
+        doc, sha = read_toml(str(path), "waiver file")
+        entries = _toml_entries(doc, str(path))
     else:
-        entries = _table_entries(str(path))
+        entries, sha = _table_entries(str(path))
     waivers = tuple(_waiver(raw, row, where, str(path)) for row, where, raw in entries)
     return WaiverFile(path=str(path), sha256=sha, waivers=waivers)
 
 
-def _toml_entries(data: bytes, path: str) -> list[tuple[int, str, dict]]:
-    doc = load_toml(toml_text(data, path), path)
+def _toml_entries(doc: dict, path: str) -> list[tuple[int, str, dict]]:
     extra = sorted(set(doc) - {"waiver"})
     if extra:
         raise InputError("unknown top-level key in waiver file", path=path, text=extra[0],
@@ -135,9 +134,10 @@ def _is_waiver_header(cells: list[str]) -> bool:
     return "refdes" in keys and "rule" in keys
 
 
-def _table_entries(path: str) -> list[tuple[int, str, dict]]:
+def _table_entries(path: str) -> tuple[list[tuple[int, str, dict]], str]:
     """The entries of a CSV/TSV/XLSX waiver file, read by the shared table reader (its limits,
-    line ends, encodings and cell sizes); rows whose first cell starts with ``#`` are comments."""
+    line ends, encodings and cell sizes), and the file's SHA-256; rows whose first cell starts
+    with ``#`` are comments."""
     try:
         table = read_table(path, header_predicate=_is_waiver_header)
     except HeaderNotFound:
@@ -153,7 +153,7 @@ def _table_entries(path: str) -> list[tuple[int, str, dict]]:
             continue
         raw = {h: c for h, c in zip(headers, cells) if h}
         out.append((int(row), f"row {row}", raw))
-    return out
+    return out, table.sha256
 
 
 def _key(name: str) -> str:

@@ -20,7 +20,7 @@ from bomcheck.errors import InputError
 from bomcheck.parse.aliases import (
     ALIASES, ALT_FIELDS, FIELD_LABELS, FIELDS, HEADER_UNITS, NEGATIVE_FITTED,  # noqa: F401
 )
-from bomcheck.read.reader import load_toml, read_bytes, toml_text
+from bomcheck.read.reader import read_toml
 
 _UNIT_BRACKET = re.compile(r"[(\[]\s*([^()\[\]]{1,8}?)\s*[)\]]")
 
@@ -138,7 +138,7 @@ def load_column_map(path: str) -> ColumnOverrides:
     """Read a TOML mapping file: ``[columns]`` field = "header" (or the same at top level) and
     ``[aliases]`` field = ["header", ...] to add aliases."""
     # The shared readers: a regular file within the size limit, TOML nesting capped.
-    data = load_toml(toml_text(read_bytes(path, "column map file"), path), path)
+    data, _ = read_toml(path, "column map file")
     columns = dict(data.pop("columns", {}) or {})
     aliases = dict(data.pop("aliases", {}) or {})
     for key, val in data.items():

@@ -37,7 +37,8 @@ import numpy as np
 import pandas as pd
 
 from bomcheck.errors import InputError, UnitError
-from bomcheck.parse.units import check_plausible, to_si, unit_factor
+from bomcheck.parse.units import (check_plausible, plain_to_si, round_15, to_si,
+                                  unit_factor)
 from bomcheck.vocabulary import CONDITIONS
 
 CONDITION_COLUMNS: tuple[str, ...] = tuple(CONDITIONS)
@@ -311,9 +312,10 @@ def text_cells(column: pd.Series | np.ndarray) -> np.ndarray:
 def convert(cells: np.ndarray, col: Column, fail: Fail) -> np.ndarray:
     """Float values (SI; percentages in %) of one column of text cells; NaN for no value.
 
-    Every distinct string is converted once (``pd.factorize``) by ``bomcheck.parse.units.to_si`` and
-    mapped back; its sign and range are checked (``CONDITION_SIGNS``). ``fail(position, text, error)``
-    raises the located error (position None: the header).
+    Every distinct string is converted once (``pd.factorize``) and mapped back: the bare
+    numbers together as arrays (``bomcheck.parse.units.plain_to_si``), the rest one by one by
+    ``bomcheck.parse.units.to_si``; signs and ranges are checked (``CONDITION_SIGNS``).
+    ``fail(position, text, error)`` raises the located error (position None: the header).
     """
     name = col.field
     assert name is not None
@@ -326,9 +328,19 @@ def convert(cells: np.ndarray, col: Column, fail: Fail) -> np.ndarray:
         fail(None, col.unit or "", exc)
     sign = sign_of(name)
     codes, uniques = pd.factorize(np.asarray(cells, dtype=object), use_na_sentinel=True)
+    texts = [str(u).strip() for u in uniques]
     values = np.full(len(uniques) + 1, np.nan)  # the last slot serves code -1 (missing)
-    for k, u in enumerate(uniques):
-        text = str(u).strip()
+    percent = name in PERCENT_FIELDS
+    at, si = plain_to_si(texts, quantity, unit, sign, high=1.0 if percent else None)
+    if percent:
+        si = round_15(si * 100.0)
+    elif col.mark == "pp":
+        si = si * 0.5
+    values[at] = si
+    done = np.zeros(len(uniques), dtype=bool)
+    done[at] = True
+    for k in np.flatnonzero(~done).tolist():
+        text = texts[k]
         if text.casefold() in NO_VALUE:
             continue
         if name in _EXPLICIT_NONE_FIELDS and text.casefold() in _NONE_REQUIRED:
@@ -403,7 +415,9 @@ class Entries:
         n = len(rows)
         text = {k: (np.asarray(texts[k], dtype=object) if k in texts
                     else np.full(n, "", dtype=object)) for k in TEXT_FIELDS}
-        vals = np.column_stack([values.get(k, np.full(n, np.nan)) for k in CONDITION_COLUMNS]) \
-            if n else np.empty((0, len(CONDITION_COLUMNS)))
+        vals = np.full((n, len(CONDITION_COLUMNS)), np.nan)  # only given columns are filled
+        for j, k in enumerate(CONDITION_COLUMNS):
+            if k in values:
+                vals[:, j] = values[k]
         flags = np.zeros(n, dtype=bool) if is_group is None else np.asarray(is_group, dtype=bool)
-        return cls(np.asarray(rows, dtype=np.int64), text, vals.astype(float), flags)
+        return cls(np.asarray(rows, dtype=np.int64), text, vals, flags)

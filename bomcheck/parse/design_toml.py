@@ -36,9 +36,11 @@ from typing import Any, NoReturn
 
 import numpy as np
 
-from bomcheck.parse.design_cells import (CONDITION_COLUMNS, TEXT_FIELDS, Column, Entries, InputWarning,
-                                   Labels, convert, parse_header, unknown_column)
 from bomcheck.errors import InputError, UnitError
+from bomcheck.parse.design_cells import (CONDITION_COLUMNS, TEXT_FIELDS, Column, Entries,
+                                         InputWarning, Labels, convert, parse_header,
+                                         unknown_column)
+from bomcheck.read.reader import load_toml
 from bomcheck.vocabulary import CONDITIONS
 
 _TOML_TABLES = ("defaults", "groups", "parts")
@@ -81,16 +83,43 @@ def _toml_line(lines: dict[tuple[str, ...], int], text_lines: list[str], table: 
     return lines.get((table,), 1)
 
 
+_Entry = tuple[str, str | None, Mapping[str, Any]]  # (table, name or None, body)
+_Cells = dict[tuple[str, str | None, str | None], list[tuple[int, str, str]]]
+
+
 def entries_from_toml(text: str, *, path: str = "<toml>"
                       ) -> tuple[Entries, Labels, list[InputWarning]]:
     """The entries of a TOML design sheet (format in the module docstring), the labels its
     errors use and the warnings found; ``bomcheck.parse.design`` builds the ``Design``."""
-    from bomcheck.read.reader import load_toml
-
     data = load_toml(text, path)
     lines, text_lines = _toml_lines(text), text.splitlines()
     warnings: list[InputWarning] = []
-    entries: list[tuple[str, str | None, Mapping[str, Any]]] = []
+    entries = _toml_entries(data, lines, text_lines, path, warnings)
+    n = len(entries)
+    rows = np.array([_toml_line(lines, text_lines, t, nm) for t, nm, _ in entries], dtype=np.int64)
+    texts = {k: np.full(n, "", dtype=object) for k in TEXT_FIELDS}
+    cells: _Cells = {}
+    for i, (table, name, body) in enumerate(entries):
+        where = table if name is None else f"{table}.{_toml_quote(name)}"
+        texts["refdes"][i] = "*" if name is None else name.strip()
+        seen: dict[str, str] = {}
+        for k, v in body.items():
+            _entry_value(i, table, f"{where}.{k}", str(k), v, seen, texts, cells,
+                         row=int(rows[i]), path=path)
+    values = _convert_cells(cells, rows, n, path)
+    if not n:
+        warnings.append(InputWarning(path, None, None,
+                                     "no [defaults], [groups] or [parts] entries"))
+    labels = Labels(refdes="table name", members="members", group="group", kind="kind")
+    is_group = np.array([t == "groups" for t, _, _ in entries], dtype=bool)
+    return Entries.make(rows, texts, values, is_group), labels, warnings
+
+
+def _toml_entries(data: dict, lines: dict[tuple[str, ...], int], text_lines: list[str],
+                  path: str, warnings: list[InputWarning]) -> list[_Entry]:
+    """The ``[defaults]``, ``[groups.NAME]`` and ``[parts.NAME]`` tables in file order; an
+    unknown table is an error, an unknown top-level key a warning."""
+    entries: list[_Entry] = []
     for key, value in data.items():
         if key not in _TOML_TABLES:
             if isinstance(value, dict):
@@ -111,43 +140,39 @@ def entries_from_toml(text: str, *, path: str = "<toml>"
                                  row=_toml_line(lines, text_lines, key, name),
                                  column=f"{key}.{name}", expected=f'[{key}."{name}"] with keys')
             entries.append((key, str(name), body))
+    return entries
 
-    n = len(entries)
-    rows = np.array([_toml_line(lines, text_lines, t, nm) for t, nm, _ in entries], dtype=np.int64)
-    texts = {k: np.full(n, "", dtype=object) for k in TEXT_FIELDS}
-    cells: dict[tuple[str, str | None, str | None], list[tuple[int, str, str]]] = {}
-    for i, (table, name, body) in enumerate(entries):
-        where = table if name is None else f"{table}.{_toml_quote(name)}"
-        texts["refdes"][i] = "*" if name is None else name.strip()
-        seen: dict[str, str] = {}
-        for k, v in body.items():
-            col = parse_header(str(k))
-            label = f"{where}.{k}"
-            if col.field is None:
-                unknown_column(label, True, path=path, row=int(rows[i]), what="key")
-                continue
-            if col.field in seen:
-                raise InputError(f"two keys give {col.field}: {seen[col.field]!r} and {k!r}",
-                                 path=path, row=int(rows[i]), column=label,
-                                 expected="one key per field")
-            seen[col.field] = str(k)
-            if col.field == "refdes":
-                raise InputError("the designators are the table's name", path=path,
-                                 row=int(rows[i]), column=label,
-                                 expected='[parts."C1-C4"] with no refdes key')
-            if col.field == "members" and table != "groups":
-                raise InputError("members belong in a group", path=path, row=int(rows[i]),
-                                 column=label, expected="[groups.NAME] members = \"C1-C9\"")
-            if col.field in CONDITIONS:
-                if isinstance(v, bool) or not isinstance(v, (int, float, str)):
-                    raise InputError(f"not a value for {col.field}", path=path,
-                                     row=int(rows[i]), column=label, text=str(v),
-                                     expected="a number or a text with a unit, such as "
-                                              "\"13.2 V\"")
-                cells.setdefault((col.field, col.unit, col.mark), []).append((i, label, str(v)))
-            else:
-                texts[col.field][i] = _toml_text(v, path=path, row=int(rows[i]), label=label)
 
+def _entry_value(i: int, table: str, label: str, key: str, v: Any, seen: dict[str, str],
+                 texts: dict[str, np.ndarray], cells: _Cells, *, row: int, path: str) -> None:
+    """One key of entry ``i``: a text field into ``texts``, a condition's cell into ``cells``
+    (converted per column afterwards); a misplaced or repeated key is an error."""
+    col = parse_header(key)
+    if col.field is None:
+        unknown_column(label, True, path=path, row=row, what="key")
+        return
+    if col.field in seen:
+        raise InputError(f"two keys give {col.field}: {seen[col.field]!r} and {key!r}",
+                         path=path, row=row, column=label, expected="one key per field")
+    seen[col.field] = key
+    if col.field == "refdes":
+        raise InputError("the designators are the table's name", path=path, row=row,
+                         column=label, expected='[parts."C1-C4"] with no refdes key')
+    if col.field == "members" and table != "groups":
+        raise InputError("members belong in a group", path=path, row=row,
+                         column=label, expected="[groups.NAME] members = \"C1-C9\"")
+    if col.field not in CONDITIONS:
+        texts[col.field][i] = _toml_text(v, path=path, row=row, label=label)
+        return
+    if isinstance(v, bool) or not isinstance(v, (int, float, str)):
+        raise InputError(f"not a value for {col.field}", path=path, row=row, column=label,
+                         text=str(v), expected="a number or a text with a unit, such as "
+                                               "\"13.2 V\"")
+    cells.setdefault((col.field, col.unit, col.mark), []).append((i, label, str(v)))
+
+
+def _convert_cells(cells: _Cells, rows: np.ndarray, n: int, path: str) -> dict[str, np.ndarray]:
+    """The condition values of the entries, one conversion per (field, unit, mark) column."""
     values = {c: np.full(n, np.nan) for c in CONDITION_COLUMNS}
     for (fld, unit, mark), items in cells.items():
         col = Column(items[0][1], fld, unit, mark)
@@ -160,12 +185,7 @@ def entries_from_toml(text: str, *, path: str = "<toml>"
 
         texts_of = np.array([t for _, _, t in items], dtype=object)
         values[fld][[i for i, _, _ in items]] = convert(texts_of, col, fail)
-    if not n:
-        warnings.append(InputWarning(path, None, None,
-                                     "no [defaults], [groups] or [parts] entries"))
-    labels = Labels(refdes="table name", members="members", group="group", kind="kind")
-    is_group = np.array([t == "groups" for t, _, _ in entries], dtype=bool)
-    return Entries.make(rows, texts, values, is_group), labels, warnings
+    return values
 
 
 def _toml_quote(key: str) -> str:

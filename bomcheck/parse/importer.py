@@ -57,9 +57,7 @@ from __future__ import annotations
 import contextlib
 import functools
 import gc
-import hashlib
 from collections.abc import Iterator
-from concurrent.futures import ThreadPoolExecutor
 from dataclasses import replace
 
 import numpy as np
@@ -117,14 +115,6 @@ def _overrides(options: ImportOptions) -> colmod.ColumnOverrides:
     return colmod.merge_overrides(*parts) if parts else colmod.ColumnOverrides()
 
 
-def _sha256(path: str) -> str:
-    h = hashlib.sha256()
-    with open(path, "rb") as fh:
-        for chunk in iter(lambda: fh.read(1 << 20), b""):
-            h.update(chunk)
-    return h.hexdigest()
-
-
 def read_bom(path: str, options: ImportOptions = ImportOptions()) -> ImportResult:
     """Read a BOM and return its capacitor placements, the rows not taken and the findings.
 
@@ -164,7 +154,7 @@ def import_frame(frame: pd.DataFrame, options: ImportOptions = ImportOptions(), 
     cells = cells.map(lambda v: v if isinstance(v, str) else str(v))
     headers = [str(h) for h in cells.columns]
     cells.columns = headers
-    digest = hashlib.sha256(cells.to_csv(index=False).encode("utf-8")).hexdigest()
+    digest = reader.sha256_hex(cells.to_csv(index=False).encode("utf-8"))
     table = reader.RawTable(path=path, format="table", encoding=None, sheet=None, header_row=1,
                             headers=headers, frame=cells.reset_index(drop=True),
                             rows=np.arange(2, len(cells) + 2), sha256=digest)
@@ -177,32 +167,26 @@ def import_table(table: reader.RawTable, options: ImportOptions = ImportOptions(
     path = table.path
     overrides = _overrides(options)
     mapping = colmod.map_columns(list(table.frame.columns), overrides, path=path)
-    # hashlib releases the GIL: the file's hash is computed beside the import.
-    with ThreadPoolExecutor(max_workers=1) as pool:
-        # Standard input cannot be read twice: the reader hashed its bytes.
-        digest = pool.submit(lambda: table.sha256 or _sha256(path))
-        source = BomSource(
-            path=path, sha256="", format=table.format, encoding=table.encoding,
-            sheet=table.sheet, header_row=table.header_row,
-            columns={f: original_header(table, h) for f, h in mapping.items()},
-        )
-        header_findings = tuple(
-            finding(int(table.header_row), None, "column_ambiguous",
-                          f"two columns for the {colmod.FIELD_LABELS[fld]}: "
-                          f"{original_header(table, used)!r} is used, "
-                          + ", ".join(repr(original_header(table, o)) for o in others)
-                          + " not; check which one is current")
-            for fld, used, others in colmod.competing_columns(list(table.frame.columns),
-                                                               mapping, overrides))
-        with _collector_paused():
-            result = _build(table, mapping, source)
-        if header_findings:
-            result = replace(result, findings=tuple(sorted((*result.findings,
-                                                            *header_findings))))
-        hidden = sum(len(w.rows) for w in table.warnings if w.code == "hidden-rows")
-        totals = {**result.totals, "hidden_rows": hidden} if hidden else result.totals
-        return replace(result, source=replace(source, sha256=digest.result()),
-                       read_warnings=tuple(table.warnings), totals=totals)
+    source = BomSource(
+        path=path, sha256=table.sha256, format=table.format, encoding=table.encoding,
+        sheet=table.sheet, header_row=table.header_row,
+        columns={f: original_header(table, h) for f, h in mapping.items()},
+    )
+    header_findings = tuple(
+        finding(int(table.header_row), None, "column_ambiguous",
+                f"two columns for the {colmod.FIELD_LABELS[fld]}: "
+                f"{original_header(table, used)!r} is used, "
+                + ", ".join(repr(original_header(table, o)) for o in others)
+                + " not; check which one is current")
+        for fld, used, others in colmod.competing_columns(list(table.frame.columns),
+                                                          mapping, overrides))
+    with _collector_paused():
+        result = _build(table, mapping, source)
+    if header_findings:
+        result = replace(result, findings=tuple(sorted((*result.findings, *header_findings))))
+    hidden = sum(len(w.rows) for w in table.warnings if w.code == "hidden-rows")
+    totals = {**result.totals, "hidden_rows": hidden} if hidden else result.totals
+    return replace(result, read_warnings=tuple(table.warnings), totals=totals)
 
 
 

@@ -45,7 +45,10 @@ from __future__ import annotations
 import functools
 import math
 import re
+from collections.abc import Sequence
 from dataclasses import dataclass
+
+import numpy as np
 
 from bomcheck.errors import UnitError
 
@@ -269,6 +272,60 @@ def to_si(text: str, quantity: str, default_unit: str | None = None, sign: str =
         si = float(f"{si:.15g}")  # drop conversion noise: 100 uF is 1e-4, not 9.99...e-05
     check_plausible(si, quantity, sign, text=raw)
     return si
+
+
+# A bare number in plain digits (no unit, no comma) of at most 15 characters: at most 15
+# significant digits, so its float round-trips through the 15-digit rounding of ``to_si``.
+_PLAIN = re.compile(r"[-+]?(?:[0-9]+(?:\.[0-9]*)?|\.[0-9]+)(?:[eE][-+]?[0-9]+)?")
+_PLAIN_CHARS = 15
+
+
+def plain_to_si(texts: Sequence[str], quantity: str, default_unit: str | None = None,
+                sign: str = "any", *, high: float | None = None) -> tuple[np.ndarray, np.ndarray]:
+    """``to_si`` for the texts that are bare numbers, as arrays: (positions of those texts
+    read, their SI values). A text with a unit or a comma, a long one and a value outside the
+    plausible range (``high`` narrowing it as in ``check_plausible``) are left out: ``to_si``
+    reads them one by one and raises the error. Each text is matched once; the arithmetic and
+    the range checks are column operations."""
+    match = _PLAIN.fullmatch
+    at = np.fromiter((i for i, t in enumerate(texts) if len(t) <= _PLAIN_CHARS and match(t)),
+                     dtype=np.int64)
+    try:
+        scale, offset = unit_factor(default_unit, quantity) if default_unit else (1.0, 0.0)
+    except UnitError:
+        return np.zeros(0, dtype=np.int64), np.zeros(0)
+    si = np.fromiter((float(texts[i]) for i in at), dtype=float, count=len(at)) * scale + offset
+    if scale != 1.0 or offset != 0.0:  # else each number round-trips (at most 15 digits)
+        si = round_15(si)
+    ok = plausible_mask(si, quantity, sign, high=high)
+    return at[ok], si[ok]
+
+
+def round_15(values: np.ndarray) -> np.ndarray:
+    """Each finite, non-zero value rounded to 15 significant digits (conversion noise dropped:
+    100 uF is 1e-4, not 9.99...e-05), as ``to_si`` does one value at a time."""
+    out = values.copy()
+    pick = np.flatnonzero(np.isfinite(values) & (values != 0.0))
+    out[pick] = [float(f"{v:.15g}") for v in values[pick].tolist()]
+    return out
+
+
+def plausible_mask(values: np.ndarray, quantity: str, sign: str = "any", *,
+                   high: float | None = None) -> np.ndarray:
+    """Which ``values`` (SI) ``check_plausible`` accepts, as a column test."""
+    if sign not in SIGNS:
+        raise ValueError(f"unknown sign rule {sign!r}; expected one of {SIGNS}")  # a bug
+    p = PLAUSIBLE[quantity]
+    top = p.high if high is None else min(p.high, high)
+    with np.errstate(invalid="ignore"):
+        ok = np.isfinite(values)
+        if p.low is not None:
+            return ok & (p.low <= values) & (values <= top)
+        if sign != "any":
+            ok &= ~(values < 0)
+        if sign == "positive":
+            ok &= values != 0
+        return ok & ~(np.abs(values) > top)
 
 
 def check_plausible(value: float, quantity: str, sign: str = "any", *, text: str | None = None,

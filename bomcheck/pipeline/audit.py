@@ -262,7 +262,7 @@ def _joined(imported, design) -> tuple[pd.DataFrame, list[dict], list[dict]]:
     design_unmatched: list[dict] = []
     if design is not None:
         inputs.append({"role": "design", "path": str(design.path), "sha256": design.sha256})
-        for refdes, row in design.unmatched(set(placements["refdes"])):
+        for refdes, row in design.unmatched(placements["refdes"]):
             design_unmatched.append({
                 "refdes": refdes, "row": row, "status": "nodata",
                 "reason": f"{refdes} (design sheet row {row}) is not in the BOM",

@@ -19,7 +19,7 @@ from pathlib import Path
 from bomcheck.errors import BomcheckError, InputError
 from bomcheck.parse.importer import ImportOptions
 from bomcheck.pipeline.audit import run_audit
-from bomcheck.read.reader import load_toml, read_bytes, toml_text
+from bomcheck.read.reader import read_toml
 from bomcheck.render.exports import CSV_COLUMNS, _md, csv_rows, markdown_summary
 from bomcheck.report.jsonform import SCHEMA_VERSION
 from bomcheck.report.model import dumps, worst_status
@@ -94,7 +94,7 @@ def read_manifest(path: str) -> tuple[Board, ...]:
     """The boards of a TOML manifest: ``[[board]]`` tables (product, bom, and optional design,
     parts, rules, waivers, design_sheet, sheet); top-level keys of the same names are defaults
     for every board."""
-    data = load_toml(toml_text(read_bytes(path, "manifest"), path), path)
+    data, _ = read_toml(path, "manifest")
     boards = data.pop("board", None)
     if not isinstance(boards, list) or not boards:
         raise InputError("the manifest lists no boards", path=path,

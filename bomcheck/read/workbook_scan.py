@@ -10,7 +10,6 @@ is refused before anything is allocated for it. Only the standard library is use
 
 from __future__ import annotations
 
-import html
 import posixpath
 import re
 import zipfile
@@ -87,6 +86,8 @@ def column_letters(n: int) -> str:
 
 
 def _attrs(blob: bytes) -> dict[str, str]:
+    import html  # html.entities is large; only a workbook's scan needs it
+
     return {k.decode("ascii", "replace").rsplit(":", 1)[-1]: html.unescape(v.decode("utf-8",
             "replace")) for k, v in _ATTR.findall(blob)}
 
@@ -213,17 +214,7 @@ def _scan_sheet(zf: zipfile.ZipFile, member: str, name: str, state: str, percent
                     raise InputError(f"sheet {name!r}: damaged worksheet XML (no tag end in "
                                      "4 MiB)", path=path)
             if not dimension_checked:
-                data_at = buf.find(b"sheetData")  # the dimension comes before the data
-                m = _DIMENSION.search(buf, 0, len(buf) if data_at < 0 else data_at)
-                dimension_checked = data_at >= 0
-                if m:
-                    dimension_checked = True
-                    ends = [_REF.fullmatch(r) for r in m.group(1).decode("ascii", "replace")
-                            .split(":")]
-                    if all(ends):
-                        r = max(int(e.group(2)) for e in ends)  # type: ignore[union-attr]
-                        c = max(column_number(e.group(1)) for e in ends)  # type: ignore[union-attr]
-                        _check_size(path, name, r, c, lim, "declared last")
+                dimension_checked = _check_dimension(buf, path, name, lim)
             refs = (_R_ANY if any(w in buf for w in _ODD_SPACE) else _R_SPACE).findall(buf)
             if refs:
                 last_col = max(last_col, max(column_number(c.decode()) for c in
@@ -233,22 +224,9 @@ def _scan_sheet(zf: zipfile.ZipFile, member: str, name: str, state: str, percent
             cells_seen += buf.count(b"<c ") + buf.count(b"<c>") + buf.count(b":c ")
             last_row = max(last_row, rows_seen)
             if b'hidden="' in buf:
-                for blob in _ROW_HIDDEN.findall(buf):
-                    m = _ROW_NUMBER.search(blob)
-                    if m:
-                        hidden_rows.add(int(m.group(1)))
-                for blob in _COL_HIDDEN.findall(buf):
-                    a = _attrs(blob)
-                    lo = int(a.get("min", "0")) if a.get("min", "").isdigit() else 0
-                    hi = int(a.get("max", "0")) if a.get("max", "").isdigit() else 0
-                    hidden_cols.update(range(max(lo, 1), min(hi, lim.columns + 1, 16384) + 1))
+                _add_hidden(buf, hidden_rows, hidden_cols, lim)
             if pct_re is not None:
-                for m in pct_re.finditer(buf):
-                    start = buf.rfind(b"<", 0, m.start())
-                    tag = buf[start:buf.find(b">", m.end()) + 1]
-                    ref = _CELL_REF.search(tag)
-                    if _TAG_C.match(tag) and ref:
-                        pct_cells.add((int(ref.group(2)), column_number(ref.group(1).decode())))
+                _add_percent_cells(buf, pct_re, pct_cells)
             _check_size(path, name, last_row, last_col, lim, "last")
             if cells_seen > lim.cells:
                 raise _refuse(path, name, "cell count", cells_seen, lim.cells, "cells")
@@ -256,6 +234,45 @@ def _scan_sheet(zf: zipfile.ZipFile, member: str, name: str, state: str, percent
                 break
     return SheetScan(name, state, last_row, last_col, frozenset(hidden_rows),
                      frozenset(hidden_cols), frozenset(pct_cells))
+
+
+def _check_dimension(buf: bytes, path: str, name: str, lim: Limits) -> bool:
+    """Refuse a sheet whose declared dimension is beyond ``lim``; whether the dimension has
+    been seen or can no longer come (the cell data has started)."""
+    data_at = buf.find(b"sheetData")  # the dimension comes before the data
+    m = _DIMENSION.search(buf, 0, len(buf) if data_at < 0 else data_at)
+    if not m:
+        return data_at >= 0
+    ends = [_REF.fullmatch(r) for r in m.group(1).decode("ascii", "replace").split(":")]
+    if all(ends):
+        r = max(int(e.group(2)) for e in ends)  # type: ignore[union-attr]
+        c = max(column_number(e.group(1)) for e in ends)  # type: ignore[union-attr]
+        _check_size(path, name, r, c, lim, "declared last")
+    return True
+
+
+def _add_hidden(buf: bytes, hidden_rows: set[int], hidden_cols: set[int], lim: Limits) -> None:
+    """The hidden rows and columns a chunk of worksheet XML declares."""
+    for blob in _ROW_HIDDEN.findall(buf):
+        m = _ROW_NUMBER.search(blob)
+        if m:
+            hidden_rows.add(int(m.group(1)))
+    for blob in _COL_HIDDEN.findall(buf):
+        a = _attrs(blob)
+        lo = int(a.get("min", "0")) if a.get("min", "").isdigit() else 0
+        hi = int(a.get("max", "0")) if a.get("max", "").isdigit() else 0
+        hidden_cols.update(range(max(lo, 1), min(hi, lim.columns + 1, 16384) + 1))
+
+
+def _add_percent_cells(buf: bytes, pct_re: re.Pattern[bytes],
+                       pct_cells: set[tuple[int, int]]) -> None:
+    """The (row, column) of each cell in a chunk whose style shows a percentage."""
+    for m in pct_re.finditer(buf):
+        start = buf.rfind(b"<", 0, m.start())
+        tag = buf[start:buf.find(b">", m.end()) + 1]
+        ref = _CELL_REF.search(tag)
+        if _TAG_C.match(tag) and ref:
+            pct_cells.add((int(ref.group(2)), column_number(ref.group(1).decode())))
 
 
 def scan_workbook(zf: zipfile.ZipFile, path: str, lim: Limits) -> WorkbookScan:

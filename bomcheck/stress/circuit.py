@@ -20,7 +20,7 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
-from bomcheck.parse import parts as parts_mod
+from bomcheck.parse import parts_apply as parts_mod
 from bomcheck.stress import banks, discharge, life, series, surge, thermal
 from bomcheck.stress import placement as stresses
 from bomcheck.stress.circuit_run import CircuitOptions, CircuitRun, finite

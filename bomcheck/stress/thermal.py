@@ -11,7 +11,7 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
-from bomcheck.parse import parts as parts_mod
+from bomcheck.parse import parts_apply as parts_mod
 from bomcheck.stress.circuit_run import CircuitOptions, CircuitRun
 
 _CAN = re.compile(r"^\s*(\d+(?:\.\d+)?)\s*[xX\u00d7*]\s*(\d+(?:\.\d+)?)\s*(?:mm)?\s*$")

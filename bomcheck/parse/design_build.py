@@ -1,0 +1,413 @@
+"""Normalise stage: the design sheet's entries (rows of a table, tables of a TOML file) built
+into a ``Design``: defaults, group and designator rows told apart, each designator addressed
+once per level, group membership, and the per-designator conditions with precedence applied."""
+
+from __future__ import annotations
+
+import re
+from collections.abc import Sequence
+from types import MappingProxyType
+from typing import NoReturn
+
+import numpy as np
+import pandas as pd
+
+from bomcheck.errors import InputError
+from bomcheck.parse.design_cells import (CONDITION_COLUMNS, SINGLE, Entries, InputWarning,
+                                         Labels)
+from bomcheck.parse.design_model import (GROUP_KINDS, RAIL_COLUMNS, Design, Group,
+                                         merge_levels)
+from bomcheck.parse.refdes import expand, is_designator
+
+# Group values that describe the group as a whole, kept off its members (see
+# ``bomcheck.parse.design``).
+_GROUP_ONLY: dict[str, tuple[str, ...]] = {
+    "rail": (),
+    "bank": ("c_min_f", "r_bleeder_ohm", "i_ripple_a"),
+    "series": ("v_dc", "v_dc_max", "v_ripple_pk", "v_transient_pk", "v_ac_rms",
+               "r_bleeder_ohm", "slew_v_per_s", "r_source_ohm", "c_min_f"),
+}
+# Groups whose c_min_f the group meets as a whole: a member has no need of its own ("none").
+_SHARED_NEED = ("bank", "series")
+_SINGLE_RE = re.compile(SINGLE)
+_WHOLE_LINE = re.compile(rf"^{SINGLE}$", re.MULTILINE)
+
+
+def build(e: Entries, *, path: str, labels: Labels, warnings: list[InputWarning]) -> Design:
+    """Classify the entries (defaults, group and designator rows), check that no designator is
+    addressed twice at one level, and build the per-designator table."""
+    target, group, kind = (e.text[k] for k in ("refdes", "group", "kind"))
+    is_default = target == "*"
+    defaults, defaults_row = _defaults(e, is_default, path=path, labels=labels)
+    group_name, is_group_row = _group_rows(e, is_default)
+    rest = ~is_default & ~is_group_row & (target != "")
+    d = _designator_rows(e, rest, path=path, labels=labels)
+    has_values = ~np.isnan(e.values).all(axis=1)
+    nowhere = ~is_default & ~is_group_row & (target == "") & has_values
+    if nowhere.any():
+        i = int(np.flatnonzero(nowhere)[0])
+        raise InputError("row gives values but names no designator or group", path=path,
+                         row=int(e.rows[i]), column=labels.refdes, text="",
+                         expected="a designator, a list or range, a group name or *")
+    not_group = ~is_group_row & (kind != "")
+    if not_group.any():
+        i = int(np.flatnonzero(not_group)[0])
+        raise InputError("kind is only for group rows", path=path, row=int(e.rows[i]),
+                         column=labels.kind, text=kind[i],
+                         expected="an empty cell, or a group row")
+    groups, membership = _groups(e, is_group_row, group_name, d, path=path, labels=labels,
+                                 warnings=warnings)
+    conditions = _conditions(e, d, groups, membership, warnings, path)
+    _warn_upper_bound(conditions, warnings, path)
+    _warn_group_upper_bound(groups, warnings, path)
+    _warn_coldest(conditions, warnings, path)
+    _warn_small_tolerance(e, warnings, path)
+    return Design(path=path, sha256="", conditions=conditions, defaults=defaults,
+                  groups=groups, warnings=tuple(warnings), defaults_row=defaults_row)
+
+
+def _group_rows(e: Entries, is_default: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """The group each row would define (its target, else its group cell) and which rows are
+    group rows: rows with members, front-end groups, rows naming only a group, and rows whose
+    target is a group named anywhere."""
+    target, members, group = (e.text[k] for k in ("refdes", "members", "group"))
+    defines = (members != "") & ~is_default
+    group_name = np.where(target != "", target, group)
+    names = set(group_name[defines | e.is_group]) | set(group[group != ""])
+    names.discard("")
+    is_group_row = defines | e.is_group | ((target == "") & (group != ""))
+    is_group_row |= pd.Index(target).isin(list(names)) & ~is_default
+    return group_name, is_group_row
+
+
+def _designator_rows(e: Entries, rest: np.ndarray, *, path: str, labels: Labels) -> pd.DataFrame:
+    """One row per designator a designator row names (``refdes``, ``pos`` of the entry), in
+    source order: a single designator by one pattern test per cell, a list or range expanded;
+    a designator named by two rows is an error naming both."""
+    target, rows = e.text["refdes"], e.rows
+    pos_rest = np.flatnonzero(rest)
+    single, upper = _single_designators(target[pos_rest])
+    d_ref: list[np.ndarray] = [upper]
+    d_pos = [pos_rest[single]]
+    for i in pos_rest[~single]:
+        items = _expand(target[i], path=path, row=int(rows[i]), column=labels.refdes)
+        bad = [x for x in items if not is_designator(x)]
+        if bad:
+            raise InputError(f"{bad[0]!r} is not a designator, a list or range of designators, "
+                             "or a group name", path=path, row=int(rows[i]),
+                             column=labels.refdes, text=target[i],
+                             expected="C5, C1-C9, C20, * or the name of a group defined by "
+                                      "a row with members")
+        d_ref.append(np.array([x.upper() for x in items], dtype=object))
+        d_pos.append(np.full(len(items), i))
+    d = pd.DataFrame({"refdes": pd.Series(np.concatenate(d_ref), dtype=object),
+                      "pos": np.concatenate(d_pos).astype(np.int64)})
+    d = d.sort_values("pos", kind="stable", ignore_index=True)  # source order
+    dup = d["refdes"].duplicated(keep=False).to_numpy()
+    if dup.any():
+        first = d["refdes"].to_numpy()[dup][0]
+        at = rows[d["pos"].to_numpy()[d["refdes"].to_numpy() == first][:2]]
+        _error_rows(path, first, at, column=labels.refdes, text=first,
+                    expected="each designator in one designator row (a group may also name "
+                             "it: the designator row wins)")
+    return d
+
+
+def _single_designators(cells: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Which cells hold one designator (``SINGLE``, whole cell) and those designators in upper
+    case. The cells are joined into one text and tested and upper-cased by one pattern pass
+    (a matching line becomes empty), not one call per cell; a cell with a line break in it
+    sends the whole column to the cell-by-cell test."""
+    joined = "\n".join(cells.tolist())
+    if len(cells) and joined.count("\n") == len(cells) - 1:
+        rest = np.array(_WHOLE_LINE.sub("", joined).split("\n"), dtype=object)
+        single = rest == ""
+        picked = "\n".join(cells[single].tolist()).upper()
+        upper = np.array(picked.split("\n") if single.any() else [], dtype=object)
+        return single, upper
+    single = np.fromiter((bool(_SINGLE_RE.fullmatch(t)) for t in cells), bool, len(cells))
+    return single, np.array([t.upper() for t in cells[single]], dtype=object)
+
+
+def _warn_group_upper_bound(groups: dict[str, Group], warnings: list[InputWarning],
+                            path: str) -> None:
+    """A series stack's voltages stay on its own row: a v_dc_max below its v_dc is warned
+    about there."""
+    for g in groups.values():
+        gc = g.conditions
+        if "v_dc_max" in gc and "v_dc" in gc and abs(gc["v_dc_max"]) < abs(gc["v_dc"]):
+            warnings.append(InputWarning(
+                path, g.row, "v_dc_max", f"v_dc_max is below v_dc (in magnitude) for group "
+                f"{g.name} (row {g.row}): contradictory; the rail's upper bound is taken as the "
+                "larger"))
+
+
+def _error_rows(path: str, what: str, rows: Sequence[int] | np.ndarray, *, column: str,
+                text: str, expected: str) -> NoReturn:
+    r = sorted(int(x) for x in rows)
+    where = f"twice in row {r[0]}" if r[0] == r[-1] else f"by rows {r[0]} and {r[-1]}"
+    raise InputError(f"{what} is addressed {where}", path=path, row=r[-1], column=column,
+                     text=text, expected=expected)
+
+
+def _expand(cell: str, *, path: str, row: int, column: str) -> list[str]:
+    try:
+        return expand(cell, path=path, row=row)
+    except InputError as exc:
+        exc.column = exc.column or column
+        raise
+
+
+def _defaults(e: Entries, is_default: np.ndarray, *, path: str,
+              labels: Labels) -> tuple[dict[str, float], int | None]:
+    at = np.flatnonzero(is_default)
+    if not len(at):
+        return {}, None
+    if len(at) > 1:
+        _error_rows(path, "'*' (board-wide defaults)", e.rows[at[:2]], column=labels.refdes,
+                    text="*", expected="one row of defaults")
+    i = int(at[0])
+    for col in ("members", "group", "kind"):
+        if e.text[col][i]:
+            raise InputError("the defaults row cannot have this field", path=path,
+                             row=int(e.rows[i]), column=getattr(labels, col),
+                             text=e.text[col][i], expected="an empty cell")
+    values = {k: float(v) for k, v in zip(CONDITION_COLUMNS, e.values[i]) if not np.isnan(v)}
+    return values, int(e.rows[i])
+
+
+def _groups(e: Entries, is_group_row: np.ndarray, group_name: np.ndarray, d: pd.DataFrame, *,
+            path: str, labels: Labels,
+            warnings: list[InputWarning]) -> tuple[dict[str, Group], pd.DataFrame]:
+    """The groups with their members; membership has one row per (designator, group) with the
+    position of the entry that put the designator there."""
+    rows, group = e.rows, e.text["group"]
+    own = _own_rows(e, is_group_row, group_name, path=path, labels=labels)
+    ref, grp, src = _listed_members(e, own, path=path, labels=labels)
+    d_pos = d["pos"].to_numpy()
+    tagged = group[d_pos] != ""
+    m = pd.DataFrame({
+        "refdes": pd.Series(ref + list(d["refdes"].to_numpy()[tagged]), dtype=object),
+        "group": pd.Series(grp + list(group[d_pos[tagged]]), dtype=object),
+        "pos": np.array(src + list(d_pos[tagged]), dtype=np.int64),
+    }).drop_duplicates(["refdes", "group"])
+    dup = m["refdes"].duplicated(keep=False).to_numpy()
+    if dup.any():
+        first = m["refdes"].to_numpy()[dup][0]
+        both = m[m["refdes"].to_numpy() == first].iloc[:2]
+        _error_rows(path, f"{first} (groups {' and '.join(map(repr, both['group']))})",
+                    rows[both["pos"].to_numpy()], column=labels.members, text=first,
+                    expected="each designator in one group")
+    groups: dict[str, Group] = {}
+    first_pos = m.groupby("group", sort=False)["pos"].min()
+    for name, members in m.groupby("group", sort=False)["refdes"]:
+        groups[str(name)] = _make_group(e, str(name), tuple(members), own.get(str(name)),
+                                        int(rows[first_pos[name]]), path=path, labels=labels)
+    for name, i in own.items():
+        if name not in groups:
+            groups[name] = _make_group(e, name, (), i, int(rows[i]), path=path, labels=labels)
+            warnings.append(InputWarning(path, int(rows[i]), labels.members,
+                                         f"group {name!r} has no members"))
+    return groups, m
+
+
+def _own_rows(e: Entries, is_group_row: np.ndarray, group_name: np.ndarray, *, path: str,
+              labels: Labels) -> dict[str, int]:
+    """The entry that defines each group (its position): one per group."""
+    rows, target, group = e.rows, e.text["refdes"], e.text["group"]
+    own: dict[str, int] = {}
+    for i in np.flatnonzero(is_group_row):
+        name = str(group_name[i])
+        if target[i] and group[i] and group[i] != target[i]:
+            raise InputError("a group row names two groups", path=path, row=int(rows[i]),
+                             column=labels.group, text=group[i],
+                             expected=f"empty or {target[i]!r}")
+        if name in own:
+            _error_rows(path, f"group {name!r}", rows[[own[name], i]], column=labels.refdes,
+                        text=name, expected="one row per group (list every member in its "
+                                            "members cell)")
+        own[name] = int(i)
+    return own
+
+
+def _listed_members(e: Entries, own: dict[str, int], *, path: str, labels: Labels
+                    ) -> tuple[list[str], list[str], list[int]]:
+    """(designator, group, entry position) of every member a group's members cell lists."""
+    rows = e.rows
+    ref: list[str] = []
+    grp: list[str] = []
+    src: list[int] = []
+    for name, i in own.items():
+        cell = e.text["members"][i]
+        if not cell:
+            continue
+        items = _expand(cell, path=path, row=int(rows[i]), column=labels.members)
+        bad = [x for x in items if not is_designator(x)]
+        if bad:
+            raise InputError(f"{bad[0]!r} is not a designator", path=path, row=int(rows[i]),
+                             column=labels.members, text=cell,
+                             expected="designators, lists or ranges such as C1-C9, C20")
+        upper = [x.upper() for x in items]
+        if len(set(upper)) != len(upper):
+            twice = pd.Series(upper)[pd.Series(upper).duplicated()].iloc[0]
+            _error_rows(path, twice, [rows[i], rows[i]], column=labels.members, text=cell,
+                        expected="each member once")
+        ref += upper
+        grp += [name] * len(upper)
+        src += [int(i)] * len(upper)
+    return ref, grp, src
+
+
+def _make_group(e: Entries, name: str, members: tuple[str, ...], i: int | None,
+                first_row: int, *, path: str, labels: Labels) -> Group:
+    if i is None:  # named only by the group cells of designator rows
+        return Group(name, members, first_row)
+    kind = e.text["kind"][i].lower() or "rail"
+    if kind not in GROUP_KINDS:
+        raise InputError("unknown group kind", path=path, row=int(e.rows[i]),
+                         column=labels.kind, text=e.text["kind"][i],
+                         expected="one of " + ", ".join(GROUP_KINDS))
+    own = {k: float(v) for k, v in zip(CONDITION_COLUMNS, e.values[i]) if not np.isnan(v)}
+    return Group(name, members, int(e.rows[i]), kind, MappingProxyType(own), e.text["notes"][i])
+
+
+def _conditions(e: Entries, d: pd.DataFrame, groups: dict[str, Group],
+                membership: pd.DataFrame, warnings: list[InputWarning],
+                path: str) -> pd.DataFrame:
+    """Per-designator table: designator rows over group rows, field by field (a designator
+    row that overrides a value its group gives is a warning naming both rows). A member of a
+    bank or series stack whose group gives c_min_f has no need of its own: the group meets it
+    (``bank_c_margin``), so the member's c_min_f is "none" unless its own row gives one."""
+    index = pd.Index(pd.concat([d["refdes"], membership["refdes"]]).drop_duplicates(),
+                     dtype=object, name="refdes")
+    n = len(index)
+    names = active_columns(~np.isnan(e.values).all(axis=0))
+    cols = [CONDITION_COLUMNS.index(c) for c in names]
+    d_pos = d["pos"].to_numpy()
+    at_d = index.get_indexer(d["refdes"])
+    specific = np.full((n, len(cols)), np.nan)
+    specific[at_d] = e.values[np.ix_(d_pos, cols)]
+    g_values = np.full((len(groups), len(cols)), np.nan)
+    for j, g in enumerate(groups.values()):
+        for c, col in enumerate(names):
+            if col in g.conditions and col not in _GROUP_ONLY[g.kind]:
+                g_values[j, c] = g.conditions[col]
+    g_at = pd.Index(list(groups), dtype=object).get_indexer(membership["group"])
+    at_m = index.get_indexer(membership["refdes"])
+    general = np.full((n, len(cols)), np.nan)
+    general[at_m] = g_values[g_at]
+    _warn_overrides(specific, general, names, index, d, e, groups, membership, warnings, path)
+    shared = np.array([g.kind in _SHARED_NEED and "c_min_f" in g.conditions
+                       for g in groups.values()], dtype=bool)
+    if "c_min_f" in names:  # a shared need is always given, so its column is active
+        general[at_m[shared[g_at]], names.index("c_min_f")] = 0.0
+    merged = merge_levels(specific, general, names)
+    del specific, general
+    return _conditions_table(e, index, merged, cols, (d_pos, at_d),
+                             (membership, at_m, g_at), groups)
+
+
+def active_columns(given: np.ndarray) -> list[str]:
+    """The condition columns that need arrays: those given anywhere (``given`` in
+    ``CONDITION_COLUMNS`` order) and the rail's DC value, upper bound and tolerance (the bound
+    is derived from the other two); every other column is NaN throughout."""
+    return [c for c, g in zip(CONDITION_COLUMNS, given) if g or c in RAIL_COLUMNS]
+
+
+def _conditions_table(e: Entries, index: pd.Index, merged: np.ndarray, cols: list[int],
+                      designators: tuple[np.ndarray, np.ndarray],
+                      members: tuple[pd.DataFrame, np.ndarray, np.ndarray],
+                      groups: dict[str, Group]) -> pd.DataFrame:
+    """The per-designator table in design-sheet order: every condition column (NaN where not
+    active), notes, group, the design row and the source of the values."""
+    (d_pos, at_d), (membership, at_m, g_at) = designators, members
+    n = len(index)
+    g_rows = np.array([g.row for g in groups.values()], dtype=np.int64)
+    g_notes = np.array([g.notes for g in groups.values()], dtype=object)
+    notes = np.full(n, "", dtype=object)
+    notes[at_m] = g_notes[g_at]
+    d_notes = e.text["notes"][d_pos]
+    keep = d_notes != ""
+    notes[at_d[keep]] = d_notes[keep]
+    group_col = np.full(n, None, dtype=object)
+    group_col[at_m] = membership["group"].to_numpy()
+    design_row = np.zeros(n, dtype=np.int64)
+    design_row[at_m] = g_rows[g_at]
+    design_row[at_d] = e.rows[d_pos]
+    source = np.full(n, "group", dtype=object)
+    source[at_d] = "row"
+    order = np.argsort(design_row, kind="stable")
+    values = np.full((n, len(CONDITION_COLUMNS)), np.nan)
+    values[:, cols] = merged[order]
+    out = pd.DataFrame(values, index=index[order], columns=list(CONDITION_COLUMNS), copy=False)
+    out["notes"] = pd.Series(notes[order], index=out.index, dtype=object)
+    out["group"] = pd.Series(group_col[order], index=out.index, dtype=object)  # None, not NaN
+    out["design_row"] = design_row[order]
+    out["condition_source"] = pd.Series(source[order], index=out.index, dtype=object)
+    return out
+
+
+def _warn_overrides(specific: np.ndarray, general: np.ndarray, names: list[str],
+                    index: pd.Index, d: pd.DataFrame, e: Entries, groups: dict[str, Group],
+                    membership: pd.DataFrame, warnings: list[InputWarning], path: str) -> None:
+    """One warning per condition a designator row sets differently from its group's row,
+    naming the first such designator, both rows and both values (the designator row wins)."""
+    both = np.flatnonzero(~(np.isnan(specific) | np.isnan(general)).all(axis=1))
+    if not len(both):  # no designator row gives a value its group gives too
+        return
+    with np.errstate(invalid="ignore"):
+        s, g = specific[both], general[both]
+        differ = ~np.isnan(s) & ~np.isnan(g) & ~np.isclose(s, g, rtol=1e-9, atol=0.0)
+    if not differ.any():
+        return
+    d_row = pd.Series(e.rows[d["pos"].to_numpy()], index=pd.Index(d["refdes"], dtype=object))
+    g_row = {name: g.row for name, g in groups.items()}
+    group_of = pd.Series(membership["group"].to_numpy(), index=pd.Index(membership["refdes"],
+                                                                        dtype=object))
+    for c in np.flatnonzero(differ.any(axis=0)):
+        at = both[np.flatnonzero(differ[:, c])]
+        ref = index[at[0]]
+        grp = str(group_of.get(ref))
+        more = f" (and {len(at) - 1} more designator(s))" if len(at) > 1 else ""
+        warnings.append(InputWarning(
+            path, int(d_row[ref]), names[c],
+            f"{names[c]} of {ref} (row {int(d_row[ref])}) is {specific[at[0], c]:g}, "
+            f"overriding {general[at[0], c]:g} of its group {grp} (row {g_row.get(grp)}){more}: "
+            "the designator row is used; check which is meant"))
+
+
+def _warn_coldest(conditions: pd.DataFrame, warnings: list[InputWarning], path: str) -> None:
+    """t_ambient_min_c above t_ambient_c contradicts itself: warn naming the row (the stress
+    stage takes the lower of the two as the coldest)."""
+    high = (conditions["t_ambient_min_c"] > conditions["t_ambient_c"]).to_numpy()
+    if high.any():
+        first = int(np.argmax(high))
+        row = int(conditions["design_row"].iloc[first])
+        warnings.append(InputWarning(
+            path, row, "t_ambient_min_c",
+            f"t_ambient_min_c is above t_ambient_c for {int(high.sum())} designator(s), first "
+            f"{conditions.index[first]} (row {row}): the coldest ambient cannot be above the "
+            "operating ambient; the lower is used"))
+
+
+def _warn_upper_bound(conditions: pd.DataFrame, warnings: list[InputWarning], path: str) -> None:
+    low = (conditions["v_dc_max"].abs() < conditions["v_dc"].abs()).to_numpy()
+    if low.any():
+        first = np.argmax(low)
+        warnings.append(InputWarning(
+            path, int(conditions["design_row"].iloc[first]), "v_dc_max",
+            f"v_dc_max is below v_dc (in magnitude) for {int(low.sum())} designator(s), first "
+            f"{conditions.index[first]} (row {int(conditions['design_row'].iloc[first])}): "
+            "contradictory; the rail's upper bound is taken as the larger"))
+
+
+def _warn_small_tolerance(e: Entries, warnings: list[InputWarning], path: str) -> None:
+    # A workbook cell formatted as a percentage stores 5 % as 0.05, which reads as 0.05 %.
+    tol = e.values[:, CONDITION_COLUMNS.index("v_tol_pct")]
+    small = (tol > 0) & (tol < 1)
+    if small.any():
+        i = int(np.argmax(small))
+        warnings.append(InputWarning(
+            path, int(e.rows[i]), "v_tol_pct", f"v_tol_pct of {tol[i]:g} % in row "
+            f"{int(e.rows[i])} is unusually small; a cell formatted as a percentage stores 5 % as "
+            "0.05: write 5 or '5 %'"))
