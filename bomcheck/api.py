@@ -34,6 +34,7 @@ from bomcheck.read.limits import MIB, Limits, use_limits
 from bomcheck.read.reader import read_bytes
 from bomcheck.render.outfiles import output_lock, write_text
 from bomcheck.render.registry import OUTPUTS, OutputContext
+from bomcheck.render import batch_out as _batch_out
 from bomcheck.render.csvrows import uses_csv
 from bomcheck.render.markdown import diff_markdown as _diff_markdown
 from bomcheck.report.jsontext import json_dumps
@@ -139,22 +140,22 @@ def audit_manifest(manifest: str | Path, options: AuditOptions = AuditOptions(),
     """Audit every board of a TOML manifest on the worker processes and write the combined
     outputs (``(name, path)`` pairs, names among ``batch_outputs()``); one result per board, in
     manifest order. ``options`` holds what the boards share (rules, import options, day)."""
-    unknown = [name for name, _ in outputs if name not in _batch.COMBINERS]
+    unknown = [name for name, _ in outputs if name not in _batch_out.COMBINERS]
     if unknown:
         raise InputError(f"--{unknown[0]} is not available with --manifest", path=str(manifest),
-                         expected="outputs " + ", ".join(f"--{k}" for k in _batch.COMBINERS))
+                         expected="outputs " + ", ".join(f"--{k}" for k in _batch_out.COMBINERS))
     boards = _batch.read_manifest(str(manifest))
     with _batch.temporary_folder() as folder:
-        results = _batch.run_batch(boards, options, tuple(k for k, _ in outputs), folder)
+        results = _batch.run_batch(boards, options, tuple(k for k, _ in outputs), folder,
+                                   _batch_out.board_piece)
         for kind, path in outputs:
-            write_text(path, _batch.COMBINERS[kind](
-                results, *((__version__,) if kind == "json" else ())))
+            write_text(path, _batch_out.COMBINERS[kind](results, __version__))
     return results
 
 
 def batch_outputs() -> tuple[str, ...]:
     """The outputs a batch audit writes (combined over its boards)."""
-    return tuple(_batch.COMBINERS)
+    return tuple(_batch_out.COMBINERS)
 
 
 def batch_status(results: Iterable[BoardResult]) -> str:

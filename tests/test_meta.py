@@ -46,7 +46,6 @@ API = {"api.py": set(STAGES) - {"cli"} | {"core"}, "__init__.py": set(STAGES) - 
 # Ratchet while the stage packages are split: imports against the direction still to remove
 # (entries may only be removed).
 AGAINST_THE_PIPELINE = {
-    ("pipeline/batch.py", "bomcheck.render.exports"),
 }
 # Stages that may import these third-party libraries (the terminal and the workbook are edges).
 HEAVY_EDGES = {"rich": {"render", "cli"}, "openpyxl": {"read", "render"}}
@@ -191,7 +190,8 @@ def test_version_and_help_answer():
 # through render/outfiles.
 FILE_ACCESS = {
     "render/outfiles.py": "the atomic writer",
-    "pipeline/batch.py": "the per-board outputs its worker processes write and read back",
+    "pipeline/batch.py": "the per-board output pieces its worker processes write",
+    "render/batch_out.py": "reading the per-board pieces back to stitch the combined outputs",
     "cli/commands.py": "counting a BOM's lines to decide on a progress bar",
     "evaluate/rules.py": "the shipped rule sets and schema (package data)",
 }

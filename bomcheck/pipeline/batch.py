@@ -8,11 +8,9 @@ a time and the combined report is byte-identical whichever worker finished first
 
 from __future__ import annotations
 
-import csv
 import dataclasses
-import io
 import tempfile
-from collections.abc import Iterator
+from collections.abc import Callable, Iterator
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -20,9 +18,7 @@ from bomcheck.errors import BomcheckError, InputError
 from bomcheck.parse.importer import ImportOptions
 from bomcheck.pipeline.audit import run_audit
 from bomcheck.read.reader import read_toml
-from bomcheck.render.exports import CSV_COLUMNS, _md, csv_rows, markdown_summary
-from bomcheck.report.jsonform import SCHEMA_VERSION
-from bomcheck.report.model import dumps, worst_status
+from bomcheck.report.model import worst_status
 
 WORKERS = 2  # the machines this runs on have two cores or more
 BOARD_KEYS = ("product", "bom", "design", "parts", "rules", "waivers", "design_sheet", "sheet")
@@ -125,7 +121,13 @@ def _options(board: Board, base):
                                waivers=board.waivers)
 
 
-def audit_board(board: Board, base, kinds: tuple[str, ...], folder: str, index: int):
+# A renderer of one board's piece of a combined output: (kind, report, product) -> text chunks.
+# The caller passes it (bomcheck.render.batch_out.board_piece): the pipeline renders nothing.
+Piece = Callable[[str, object, str], Iterator[str]]
+
+
+def audit_board(board: Board, base, kinds: tuple[str, ...], folder: str, index: int,
+                piece: Piece):
     """Audit one board and write its output pieces into ``folder`` (run in a worker). Returns a
     ``BoardResult``, or the error text of a ``BomcheckError`` (errors cross processes as text)."""
     try:
@@ -136,37 +138,18 @@ def audit_board(board: Board, base, kinds: tuple[str, ...], folder: str, index: 
     for kind in kinds:
         target = Path(folder) / f"{index:05d}.{kind}"
         with target.open("w", encoding="utf-8", newline="") as f:
-            f.writelines(_piece(kind, report, board.product))
+            f.writelines(piece(kind, report, board.product))
         pieces[kind] = str(target)
     return BoardResult(board.product, report.status, dict(report.totals), tuple(report.inputs),
                        pieces)
 
 
-def _piece(kind: str, report, product: str) -> Iterator[str]:
-    """One board's part of a combined output."""
-    if kind == "json":
-        for text in report.iter_json():
-            yield text.rstrip("\n")
-    elif kind == "markdown":
-        text = markdown_summary(report)
-        _, _, rest = text.partition("\n")  # the board's own title line, replaced
-        yield f"## {product}: {report.status.upper()}\n{rest}\n"
-    else:
-        rows = csv.reader(io.StringIO(csv_rows(report), newline=""))
-        next(rows, None)  # the header is written once for all boards
-        buf = io.StringIO()
-        writer = csv.writer(buf, lineterminator="\r\n")
-        for row in rows:
-            writer.writerow([product, *row])
-        yield buf.getvalue()
-
-
 def run_batch(boards: tuple[Board, ...], base, kinds: tuple[str, ...], folder: str,
-              workers: int = WORKERS) -> tuple[BoardResult, ...]:
+              piece: Piece, workers: int = WORKERS) -> tuple[BoardResult, ...]:
     """Audit every board (``workers`` processes; in this process for one board) and write each
-    board's pieces of the outputs ``kinds`` into ``folder``. The first board whose inputs are
+    board's pieces of the outputs ``kinds`` (rendered by ``piece``) into ``folder``. The first board whose inputs are
     unusable stops the batch with an ``InputError`` naming the board and the file."""
-    jobs = [(b, base, kinds, folder, i) for i, b in enumerate(boards)]
+    jobs = [(b, base, kinds, folder, i, piece) for i, b in enumerate(boards)]
     if workers <= 1 or len(boards) == 1:
         results = [audit_board(*job) for job in jobs]
     else:
@@ -183,53 +166,6 @@ def run_batch(boards: tuple[Board, ...], base, kinds: tuple[str, ...], folder: s
 def worst(results: tuple[BoardResult, ...]) -> str:
     """The worst status of the boards."""
     return worst_status(r.status for r in results)
-
-
-def combined_json(results: tuple[BoardResult, ...], tool_version: str) -> Iterator[str]:
-    """The combined JSON report (schema ``batch.schema.json``): the batch's status and a
-    ``boards`` list, each with product, status, totals and its whole report (schema
-    ``report.schema.json``) under ``report``."""
-    yield dumps({"schema_version": SCHEMA_VERSION, "kind": "batch",
-                 "tool": {"name": "bomcheck", "version": tool_version},
-                 "status": worst(results)})[:-1] + ',"boards":['
-    for i, r in enumerate(results):
-        head = dumps({"product": r.product, "status": r.status, "totals": r.totals})
-        yield ("," if i else "") + head[:-1] + ',"report":'
-        yield from _file_text(r.pieces["json"])
-        yield "}"
-    yield "]}\n"
-
-
-def combined_markdown(results: tuple[BoardResult, ...]) -> Iterator[str]:
-    """A Markdown summary: one table row per board, then each board's own summary."""
-    yield f"# bomcheck batch audit: {worst(results).upper()}\n\n"
-    yield "| product | status | audited | pass | warn | nodata | fail |\n"
-    yield "|:--|:--|--:|--:|--:|--:|--:|\n"
-    for r in results:
-        counts = " | ".join(str(int(r.totals.get(k, 0)))
-                            for k in ("audited", "pass", "warn", "nodata", "fail"))
-        yield f"| {_md(r.product)} | {r.status} | {counts} |\n"
-    for r in results:
-        yield "\n"
-        yield from _file_text(r.pieces["markdown"])
-
-
-def combined_csv(results: tuple[BoardResult, ...]) -> Iterator[str]:
-    """One CSV: the product column, then the audit's CSV columns, one row per placement."""
-    buf = io.StringIO()
-    csv.writer(buf, lineterminator="\r\n").writerow(["product", *CSV_COLUMNS])
-    yield buf.getvalue()
-    for r in results:
-        yield from _file_text(r.pieces["csv"])
-
-
-def _file_text(path: str, size: int = 1 << 20) -> Iterator[str]:
-    with open(path, encoding="utf-8", newline="") as f:
-        while chunk := f.read(size):
-            yield chunk
-
-
-COMBINERS = {"json": combined_json, "markdown": combined_markdown, "csv": combined_csv}
 
 
 def temporary_folder() -> tempfile.TemporaryDirectory:
