@@ -45,8 +45,8 @@ from bomcheck.report.whereused import Use, where_used
 from bomcheck.spec import CapSpec
 from bomcheck.status import at_least, worst
 from bomcheck.substitute import check as _sub
-from bomcheck.substitute.check import (Alternate, SubstituteOptions, SubstituteResult,
-                                       read_alternates)
+from bomcheck.substitute import (Alternate, SubstituteOptions, SubstituteResult,
+                                 read_alternates)
 
 __all__ = [
     "DEFAULT_RULESET", "Alternate", "AuditOptions", "BoardResult", "CapSpec", "Diff",
@@ -194,22 +194,9 @@ def substitute_frames(bom: pd.DataFrame, design: pd.DataFrame | None,
     if option_values:
         options = replace(options, **option_values)
     imported, conditions = _frames(bom, design, options.import_options, name)
-    ruleset = _rules.load_rules(options.rules or (DEFAULT_RULESET,)).for_environment(
-        options.environment)
     part_data = (_parts.read_parts(options.parts, override=options.parts_override)
                  if options.parts else None)
-    inputs = [{"role": "bom", "path": name, "sha256": imported.source.sha256}]
-    if conditions is not None:
-        inputs.append({"role": "design", "path": conditions.path, "sha256": conditions.sha256})
-    if part_data is not None:
-        inputs.append({"role": "parts", "path": str(options.parts), "sha256": part_data.sha256})
-    stages = _sub.Stages.for_ruleset(ruleset, parts=part_data, groups=getattr(
-        conditions, "groups", None))
-    placements = imported.placements
-    requests = [(alt, *_sub.match_original(alt, placements)) for alt in alternates]
-    results = _sub.check_alternates(_sub.placement_table(placements, conditions), placements,
-                                    requests, stages, options)
-    return _sub._result(ruleset, inputs, results, options)
+    return _sub.substitute_inputs(imported, conditions, part_data, alternates, options)
 
 
 def substitute_direct(original: str, alternates: Sequence[Alternate], *,

@@ -92,7 +92,7 @@ def test_chart_has_limit_lines_points_and_ac_apart(page, report):
 
 
 def test_substitute_page(tmp_path):
-    from bomcheck.substitute.check import SubstituteOptions, read_alternates, run_substitute
+    from bomcheck.substitute import SubstituteOptions, read_alternates, run_substitute
 
     result = run_substitute(str(SAMPLE / "bw7-controller-bom.csv"),
                             str(SAMPLE / "bw7-design.csv"),

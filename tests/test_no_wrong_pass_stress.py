@@ -12,7 +12,7 @@ import pytest
 from bomcheck.evaluate import engine
 from bomcheck.evaluate import rules
 from bomcheck.parse.design import design_from_table
-from bomcheck.substitute.check import Alternate, run_direct
+from bomcheck.substitute import Alternate, run_direct
 from conftest import verdicts
 
 

@@ -11,7 +11,7 @@ from bomcheck.evaluate.waivers import load_waivers
 from bomcheck.parse.design import read_design
 from bomcheck.parse.parts import read_parts
 from bomcheck.read import reader
-from bomcheck.substitute.check import read_alternates
+from bomcheck.substitute import read_alternates
 
 sys.path.insert(0, os.path.dirname(__file__))
 from read_helpers import cells_of, one_line_error, read_table  # noqa: E402

@@ -39,7 +39,7 @@ _LOADERS = {
     "waivers": ("waivers.toml", _call("bomcheck.evaluate.waivers", "load_waivers")),
     "design sheet": ("design.toml", _call("bomcheck.parse.design", "read_design")),
     "parts file": ("parts.toml", _call("bomcheck.parse.parts", "read_parts")),
-    "alternates": ("alternates.toml", _call("bomcheck.substitute.check", "read_alternates")),
+    "alternates": ("alternates.toml", _call("bomcheck.substitute.alternates", "read_alternates")),
     "column map": ("columns.toml", _call("bomcheck.parse.columns", "load_column_map")),
     "manifest": ("boards.toml", _call("bomcheck.pipeline.batch", "read_manifest")),
     "project configuration": ("pyproject.toml", _load_config),

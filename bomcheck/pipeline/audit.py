@@ -183,6 +183,25 @@ def evaluate_table(table: pd.DataFrame, ruleset, *, parts=None, groups=None,
     return Evaluated(table, verdicts, run.groups, messages if lazy else None)
 
 
+def load_ruleset(names: tuple[str, ...] = (), environment: str = "severe") -> rules.RuleSet:
+    """The rule sets in force: ``names`` (names or paths; the default set when empty) judged
+    for ``environment`` (``rules.ENVIRONMENTS``). The audit and the substitute check both call it."""
+    return rules.load_rules(names or (rules.DEFAULT_RULESET,)).for_environment(environment)
+
+
+def placement_table(placements: pd.DataFrame, design) -> pd.DataFrame:
+    """The fitted placements joined to their design-sheet conditions (``design`` None: no
+    conditions, ``condition_source`` "none"), the table the stress stage takes. The audit and the
+    substitute check both build it here."""
+    fitted = placements[placements["fitted"].astype(bool)].reset_index(drop=True)
+    if design is not None:
+        conditions = design.for_placements(fitted["refdes"]).reset_index(drop=True)
+    else:
+        conditions = pd.DataFrame({"condition_source": ["none"] * len(fitted)})
+    return pd.concat([fitted, conditions.drop(columns=[c for c in conditions if c in fitted])],
+                     axis=1)
+
+
 def run_audit(bom_path: str, design_path: str | None, options: AuditOptions = AuditOptions()) -> Report:
     """Audit every fitted capacitor placement of ``bom_path`` under the design sheet's conditions."""
     imported = importer.read_bom(bom_path, options.import_options or importer.ImportOptions())
@@ -207,8 +226,7 @@ def audit_inputs(imported, design=None, part_data=None,
     """The audit of inputs already read: an ``importer.ImportResult``, a ``design.Design`` (or
     None: no operating conditions, every placement "nodata") and a ``parts.PartsData`` (or None).
     Pure: reads no file (the rule sets are loaded by name or path from ``options``)."""
-    ruleset = rules.load_rules(options.rules or (rules.DEFAULT_RULESET,)).for_environment(
-        options.environment)
+    ruleset = load_ruleset(options.rules, options.environment)
     placements = imported.placements
     not_fitted = placements[~placements["fitted"]].reset_index(drop=True)
     table, inputs, design_unmatched = _joined(imported, design)
@@ -239,25 +257,17 @@ def _joined(imported, design) -> tuple[pd.DataFrame, list[dict], list[dict]]:
     """(the fitted placements with their design conditions, the inputs' entries, the design
     rows the BOM lacks)."""
     placements = imported.placements
-    fitted = placements[placements["fitted"]].reset_index(drop=True)
     inputs = [{"role": "bom", "path": str(imported.source.path),
                "sha256": imported.source.sha256}]
     design_unmatched: list[dict] = []
     if design is not None:
         inputs.append({"role": "design", "path": str(design.path), "sha256": design.sha256})
-        conditions = design.for_placements(fitted["refdes"])
         for refdes, row in design.unmatched(placements["refdes"]):
             design_unmatched.append({
                 "refdes": refdes, "row": row, "status": "nodata",
                 "reason": f"{refdes} (design sheet row {row}) is not in the BOM",
             })
-    else:
-        conditions = pd.DataFrame({"condition_source": ["none"] * len(fitted)})
-    conditions = conditions.reset_index(drop=True)
-    table = pd.concat(
-        [fitted, conditions.drop(columns=[c for c in conditions if c in fitted])], axis=1
-    )
-    return table, inputs, design_unmatched
+    return placement_table(placements, design), inputs, design_unmatched
 
 
 def _report(imported, done: Evaluated, ruleset, not_fitted: pd.DataFrame, inputs: list[dict],

@@ -23,7 +23,7 @@ from bomcheck.quantity import format_metric, format_si, is_missing
 from bomcheck.render.html_chart import chart_section
 from bomcheck.render.textparts import accounting_line, energy, group_cells
 from bomcheck.render.textsafe import html_text as esc
-from bomcheck.substitute.check import designator_list
+from bomcheck.substitute.words import designator_list
 
 CAUTION_NOTE = ("These cautions come from the clauses they cite; they are not compliance "
                 "verdicts. Local electrical codes, the product's own safety standard and "

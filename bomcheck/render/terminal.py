@@ -18,7 +18,7 @@ from bomcheck.render.verdicts import not_audited_counts
 from bomcheck.render.textparts import accounting_line, energy, group_cells, number
 from bomcheck.report.diff import summary_line
 from bomcheck.report.model import ruleset_summary
-from bomcheck.substitute.check import designator_list
+from bomcheck.substitute.words import designator_list
 
 THEME = Theme(
     {

@@ -31,7 +31,7 @@ def write_junit(report, path: str, ctx: OutputContext) -> None:
 def write_markdown(report, path: str, ctx: OutputContext) -> None:
     """The Markdown summary of an audit or of a substitute check."""
     if report is None:
-        from bomcheck.substitute.check import substitute_markdown
+        from bomcheck.render.substitute_md import substitute_markdown
 
         write_text(path, substitute_markdown(ctx.substitutes))
     else:

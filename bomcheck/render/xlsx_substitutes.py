@@ -1,12 +1,12 @@
 """Report stage, spreadsheet edge of the substitute check: the Substitutes sheets (openpyxl) from a
-``bomcheck.substitute.check.SubstituteResult``.
+``bomcheck.substitute.result.SubstituteResult``.
 
 Sheets: **Substitutes** (one row per alternate: verdict and the reason purchasing acts on),
 **Substitute placements** (one row per placement: both parts' status and governing stress) and
 **Substitute verdicts** (one row per placement and rule, side by side). Nothing is recomputed.
 Text from input files is stored as text, never as a formula (a cell starting with ``=``, ``+``,
 ``-``, ``@``, tab or CR is a text cell), and the workbook file appears only once complete.
-openpyxl is imported inside the functions, so importing this module costs nothing.
+openpyxl is imported inside the functions, so importing this module loads no spreadsheet library.
 """
 
 from __future__ import annotations
@@ -16,6 +16,9 @@ from typing import TYPE_CHECKING, Any
 
 from bomcheck.render.outfiles import atomic_path
 from bomcheck.render.textsafe import starts_formula, xml_text
+from bomcheck.substitute.result import SubstituteResult
+from bomcheck.substitute.words import designator_list
+from bomcheck.vocabulary import METRICS
 
 if TYPE_CHECKING:
     from openpyxl import Workbook
@@ -98,18 +101,40 @@ def _sheet(wb: Workbook, title: str, columns: list[tuple[str, float, str]], rows
 
 
 def _metric_format(metric: str | None) -> str:
-    from bomcheck.vocabulary import METRICS
-
     m = METRICS.get(metric or "")
     return PERCENT_FORMAT if m is not None and m.percent else "0.####"
 
 
-def write_substitutes_sheet(wb: Workbook, result) -> None:
-    """Add the Substitutes sheets (``SHEETS``) for ``result`` to the workbook ``wb`` (normal or
-    write-only)."""
-    from bomcheck.substitute.check import designator_list
+# (header, width, kind) of each sheet's columns; kind "status" fills by verdict, "wrap" wraps.
+SUBSTITUTES_COLUMNS: tuple[tuple[str, float, str], ...] = (
+    ("Original", 24, ""), ("Matched by", 10, ""), ("Alternate", 24, ""),
+    ("Manufacturer", 18, ""), ("Alternate text", 36, "wrap"), ("Spec from", 16, ""),
+    ("Footprint checked", 10, ""), ("Placements", 16, "wrap"), ("Not fitted", 12, ""),
+    ("Verdict", 11, "status"), ("Reason", 70, "wrap"), ("Differences", 60, "wrap"),
+    ("Notes", 30, "wrap"), ("Given in", 24, ""),
+)
+PLACEMENT_COLUMNS: tuple[tuple[str, float, str], ...] = (
+    ("Original", 22, ""), ("Alternate", 22, ""), ("Verdict", 11, "status"),
+    ("Refdes", 9, ""), ("BOM row", 8, ""), ("Role", 10, ""), ("Conditions", 28, "wrap"),
+    ("Original status", 10, "status"), ("Original rule", 16, ""),
+    ("Original value", 11, ""), ("Original limit", 11, ""), ("Original margin", 11, ""),
+    ("Alternate status", 10, "status"), ("Alternate rule", 16, ""),
+    ("Alternate value", 11, ""), ("Alternate limit", 11, ""),
+    ("Alternate margin", 11, ""), ("Change", 9, ""),
+)
+VERDICT_COLUMNS: tuple[tuple[str, float, str], ...] = (
+    ("Alternate", 22, ""), ("Refdes", 9, ""), ("Rule", 16, ""), ("Metric", 16, ""),
+    ("Original status", 10, "status"), ("Original value", 11, ""),
+    ("Original limit", 11, ""), ("Original margin", 11, ""),
+    ("Original explanation", 60, "wrap"), ("Alternate status", 10, "status"),
+    ("Alternate value", 11, ""), ("Alternate limit", 11, ""),
+    ("Alternate margin", 11, ""), ("Alternate explanation", 60, "wrap"),
+    ("Worse", 7, ""),
+)
 
-    styles = _Styles()
+
+def _substitutes_rows(result: SubstituteResult) -> list[list]:
+    """One row per alternate: verdict and the reason purchasing acts on."""
     rows = []
     for r in result.results:
         a = r.alternate
@@ -119,14 +144,11 @@ def write_substitutes_sheet(wb: Workbook, result) -> None:
             designator_list(r.not_fitted, None), r.verdict, r.summary,
             "; ".join(f"{d.severity}: {d.text}" for d in r.differences), a.notes, a.where(),
         ])
-    _sheet(wb, SHEETS[0], [
-        ("Original", 24, ""), ("Matched by", 10, ""), ("Alternate", 24, ""),
-        ("Manufacturer", 18, ""), ("Alternate text", 36, "wrap"), ("Spec from", 16, ""),
-        ("Footprint checked", 10, ""), ("Placements", 16, "wrap"), ("Not fitted", 12, ""),
-        ("Verdict", 11, "status"), ("Reason", 70, "wrap"), ("Differences", 60, "wrap"),
-        ("Notes", 30, "wrap"), ("Given in", 24, ""),
-    ], rows, styles)
+    return rows
 
+
+def _placement_rows(result: SubstituteResult) -> tuple[list[list], list[list[str]]]:
+    """(rows, number formats): one row per placement, both parts' status and governing stress."""
     rows, formats = [], []
     for r in result.results:
         metric_of = {v.rule_id: v.metric for p in r.placements for v in p.verdicts}
@@ -141,16 +163,11 @@ def write_substitutes_sheet(wb: Workbook, result) -> None:
                 ga.get("value"), ga.get("limit"), ga.get("margin"), p.change,
             ])
             formats.append([""] * 9 + [fo] * 3 + [""] * 2 + [fa] * 3 + [""])
-    _sheet(wb, SHEETS[1], [
-        ("Original", 22, ""), ("Alternate", 22, ""), ("Verdict", 11, "status"),
-        ("Refdes", 9, ""), ("BOM row", 8, ""), ("Role", 10, ""), ("Conditions", 28, "wrap"),
-        ("Original status", 10, "status"), ("Original rule", 16, ""),
-        ("Original value", 11, ""), ("Original limit", 11, ""), ("Original margin", 11, ""),
-        ("Alternate status", 10, "status"), ("Alternate rule", 16, ""),
-        ("Alternate value", 11, ""), ("Alternate limit", 11, ""),
-        ("Alternate margin", 11, ""), ("Change", 9, ""),
-    ], rows, styles, formats)
+    return rows, formats
 
+
+def _verdict_rows(result: SubstituteResult) -> tuple[list[list], list[list[str]]]:
+    """(rows, number formats): one row per placement and rule, both parts side by side."""
     rows, formats = [], []
     for r in result.results:
         for p in r.placements:
@@ -164,18 +181,21 @@ def write_substitutes_sheet(wb: Workbook, result) -> None:
                     a.get("message"), "yes" if v.worse else "",
                 ])
                 formats.append([""] * 5 + [f] * 3 + [""] * 2 + [f] * 3 + [""] * 2)
-    _sheet(wb, SHEETS[2], [
-        ("Alternate", 22, ""), ("Refdes", 9, ""), ("Rule", 16, ""), ("Metric", 16, ""),
-        ("Original status", 10, "status"), ("Original value", 11, ""),
-        ("Original limit", 11, ""), ("Original margin", 11, ""),
-        ("Original explanation", 60, "wrap"), ("Alternate status", 10, "status"),
-        ("Alternate value", 11, ""), ("Alternate limit", 11, ""),
-        ("Alternate margin", 11, ""), ("Alternate explanation", 60, "wrap"),
-        ("Worse", 7, ""),
-    ], rows, styles, formats)
+    return rows, formats
 
 
-def write_substitute_workbook(result, path: str | os.PathLike) -> None:
+def write_substitutes_sheet(wb: Workbook, result: SubstituteResult) -> None:
+    """Add the Substitutes sheets (``SHEETS``) for ``result`` to the workbook ``wb`` (normal or
+    write-only)."""
+    styles = _Styles()
+    _sheet(wb, SHEETS[0], list(SUBSTITUTES_COLUMNS), _substitutes_rows(result), styles)
+    rows, formats = _placement_rows(result)
+    _sheet(wb, SHEETS[1], list(PLACEMENT_COLUMNS), rows, styles, formats)
+    rows, formats = _verdict_rows(result)
+    _sheet(wb, SHEETS[2], list(VERDICT_COLUMNS), rows, styles, formats)
+
+
+def write_substitute_workbook(result: SubstituteResult, path: str | os.PathLike) -> None:
     """Write a workbook holding the Substitutes sheets to ``path`` (an .xlsx file), through a
     temporary file in the same folder renamed into place; on any error the temporary file is
     removed and an existing file at ``path`` is left as it was."""
