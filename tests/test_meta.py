@@ -43,10 +43,6 @@ MAY_IMPORT = {
 # The library's front door may call any stage but the command line.
 API = {"api.py": set(STAGES) - {"cli"} | {"core"}, "__init__.py": set(STAGES) - {"cli"} | {"core"},
        "__main__.py": {"core", "cli"}}
-# Ratchet while the stage packages are split: imports against the direction still to remove
-# (entries may only be removed).
-AGAINST_THE_PIPELINE = {
-}
 # Stages that may import these third-party libraries (the terminal and the workbook are edges).
 HEAVY_EDGES = {"rich": {"render", "cli"}, "openpyxl": {"read", "render"}}
 
@@ -91,8 +87,7 @@ def test_imports_follow_the_pipeline(path):
     allowed = API.get(rel, MAY_IMPORT[_stage_of_file(path)])
     stage = _stage_of_file(path)
     wrong = [f"{name} (line {line})" for name, line, _ in _own_imports(path)
-             if _package(name) not in allowed | {stage} and name != "bomcheck"
-             and (rel, name) not in AGAINST_THE_PIPELINE]
+             if _package(name) not in allowed | {stage} and name != "bomcheck"]
     assert wrong == [], f"{rel} ({stage}) imports against the pipeline's direction: {wrong}"
 
 
@@ -116,27 +111,18 @@ LAZY_IMPORTS = {
 
 def test_function_level_imports_of_own_modules_have_a_reason():
     found = sorted({_rel(p) for p in MODULES for _, _, inner in _own_imports(p) if inner}
-                   - set(LAZY_IMPORTS) - set(LAZY_IMPORTS_TO_MOVE))
+                   - set(LAZY_IMPORTS))
     assert found == [], f"move these imports to the top of the module: {found}"
 
 
-# Ratchet while the stage packages are split: entries may only be removed.
-LAZY_IMPORTS_TO_MOVE = {
-}
-
 MAX_MODULE_LINES = 500
 MAX_FUNCTION_LINES = 60
-# Ratchet while the stage packages are split: entries may only be removed or shrink.
-OVERSIZE_MODULES = {
-}
-OVERSIZE_FUNCTIONS = {
-}
 
 
 def test_no_module_over_the_size_limit():
     sizes = {_rel(p): len(p.read_text(encoding="utf-8").splitlines()) for p in MODULES}
     over = {m: n for m, n in sizes.items()
-            if n > max(MAX_MODULE_LINES, OVERSIZE_MODULES.get(m, 0))}
+            if n > MAX_MODULE_LINES}
     assert over == {}, f"split these modules (limit {MAX_MODULE_LINES} lines): {over}"
 
 
@@ -146,7 +132,7 @@ def test_no_function_over_the_size_limit():
         for node in ast.walk(ast.parse(path.read_text(encoding="utf-8"))):
             if isinstance(node, (ast.FunctionDef, ast.AsyncFunctionDef)):
                 key, n = f"{_rel(path)}:{node.name}", node.end_lineno - node.lineno + 1
-                if n > max(MAX_FUNCTION_LINES, OVERSIZE_FUNCTIONS.get(key, 0)):
+                if n > MAX_FUNCTION_LINES:
                     over[key] = n
     assert over == {}, f"split these functions (limit {MAX_FUNCTION_LINES} lines): {over}"
 

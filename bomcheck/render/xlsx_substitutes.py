@@ -126,9 +126,9 @@ VERDICT_COLUMNS: tuple[tuple[str, float, str], ...] = (
     ("Alternate", 22, ""), ("Refdes", 9, ""), ("Rule", 16, ""), ("Metric", 16, ""),
     ("Original status", 10, "status"), ("Original value", 11, ""),
     ("Original limit", 11, ""), ("Original margin", 11, ""),
-    ("Original explanation", 60, "wrap"), ("Alternate status", 10, "status"),
+    ("Original message", 60, "wrap"), ("Alternate status", 10, "status"),
     ("Alternate value", 11, ""), ("Alternate limit", 11, ""),
-    ("Alternate margin", 11, ""), ("Alternate explanation", 60, "wrap"),
+    ("Alternate margin", 11, ""), ("Alternate message", 60, "wrap"),
     ("Worse", 7, ""),
 )
 
