@@ -22,6 +22,9 @@ def test_readme_example_runs(tmp_path, monkeypatch, capsys):
     # System Reliability Center sheet, ceramic severe column: 60 %; 5 V / 6.3 V = 79 % fails.
     assert out[0] == "fail"
     assert out[1] == "[['C1', 'pass'], ['C2', 'fail']]"
+    # The 16 V alternate runs C2 at 5 V / 16 V = 31 % (under the 60 % limit) where the 6.3 V part
+    # failed: a drop-in.
+    assert out[2] == "drop-in"
     html = (tmp_path / "audit.html").read_text(encoding="utf-8")
     assert "<svg" in html and "C2" in html
 
