@@ -53,7 +53,7 @@ def shipped_root():
     try:
         return resources.files(SHIPPED_PACKAGE)
     except ModuleNotFoundError:
-        checkout = Path(__file__).resolve().parent.parent / "rules"
+        checkout = Path(__file__).resolve().parents[2] / "rules"
         if checkout.is_dir():
             return checkout
         raise
