@@ -153,3 +153,16 @@ def test_rule_file_nested_thousands_deep_is_one_problem(tmp_path):
     path.write_text("a = " + "[" * 5000 + "]" * 5000 + "\n", encoding="utf-8")
     [p] = problems_of([str(path)])
     assert p.path == str(path) and "nested more than 32 levels" in p.message
+
+
+def test_shipped_sets_are_found_from_a_source_checkout(monkeypatch):
+    # A checkout's own bomcheck/ shadows the installed package, which alone maps rules/ to
+    # bomcheck.rulesets: the loader falls back to the checkout's rules/ folder.
+    from bomcheck.evaluate import rules as rules_mod
+
+    def missing(name):
+        raise ModuleNotFoundError(name)
+
+    monkeypatch.setattr(rules_mod.resources, "files", missing)
+    root = rules_mod.shipped_root()
+    assert (root / "industrial.toml").is_file() and (root / "strict.toml").is_file()
