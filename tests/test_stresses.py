@@ -6,7 +6,8 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from bomcheck.stress.placement import StressData, applied_voltages, compute
+from bomcheck.stress.placement import (Columns, StressData, applied_voltages, as_numbers, as_text,
+                                       compute, num_column, text_column)
 
 AGING = StressData(aging_k={"class2": 2.5, "class3": 8.0, "class1": 0.0})
 
@@ -157,3 +158,22 @@ def test_compute_reads_only_its_listed_inputs():
     cut = compute(rows[[c for c in INPUTS if c in rows]], data)
     for c in cut.columns:
         pd.testing.assert_series_equal(cut[c], whole[c], check_dtype=False)
+
+
+@pytest.mark.parametrize("values", [
+    pytest.param([1.5, None, "2.5", "x", True], id="mixed-object"),
+    pytest.param([1, 2, 3], id="integers"),
+    pytest.param([np.nan, 4.0, -0.0], id="floats"),
+    pytest.param(["X7R", None, np.nan, "c0g"], id="text"),
+])
+def test_array_conversions_match_the_column_conversions(values):
+    # The stresses convert each column once to an array; the values are those of the column
+    # conversions (NaN where not a number, "" where missing), so a result cannot depend on
+    # which form a stage passes (arithmetic, no outside source needed).
+    table = pd.DataFrame({"c": pd.Series(values, dtype=object)})
+    expected = num_column(table, "c").to_numpy()
+    np.testing.assert_array_equal(as_numbers(table["c"]), expected)
+    np.testing.assert_array_equal(as_numbers(table["c"].to_numpy()), expected)
+    assert as_text(table["c"]).tolist() == text_column(table, "c").tolist()
+    cols = Columns.of(table)
+    assert np.isnan(cols.num("absent")).all() and cols.text("absent").tolist() == [""] * len(values)

@@ -7,9 +7,9 @@ from __future__ import annotations
 
 import math
 from collections.abc import Iterable
+from typing import Any
 
 from rich.console import Console
-from rich.table import Table
 from rich.text import Text
 from rich.theme import Theme
 
@@ -46,13 +46,20 @@ def make_console(*, file=None, no_color: bool = False, width: int | None = None)
                    highlight=False, soft_wrap=False)
 
 
+def _table(title: str, **options) -> Any:
+    """A rich table with the project's heading style (rich's table module loads only when a
+    table is printed: ``--quiet`` prints none)."""
+    from rich.table import Table
+    return Table(title=title, header_style="heading", **options)
+
+
 def status_text(status: str) -> Text:
     return Text(status.upper() if status in ("fail", "warn") else status, style=f"status.{status}")
 
 
 def print_specs(console: Console, specs: Iterable) -> None:
     """One row per parsed text: what the parser read."""
-    table = Table(title="Parsed values", header_style="heading")
+    table = _table("Parsed values")
     for col in ("text", "cap?", "capacitance", "voltage", "tolerance", "dielectric", "technology",
                 "temp range", "package", "unread / warnings"):
         table.add_column(col)
@@ -78,7 +85,7 @@ def print_specs(console: Console, specs: Iterable) -> None:
 def print_import(console: Console, result, *, show_all: bool = False) -> None:
     """Placements found in a BOM, the rows not taken, findings and the accounting line."""
     p = result.placements
-    table = Table(title=f"Capacitor placements in {result.source.path}", header_style="heading")
+    table = _table(f"Capacitor placements in {result.source.path}")
     for col in ("refdes", "row", "fitted", "capacitance", "voltage", "tol", "dielectric",
                 "technology", "package", "text"):
         table.add_column(col, overflow="fold")
@@ -102,7 +109,7 @@ def print_import(console: Console, result, *, show_all: bool = False) -> None:
 def _print_skipped(console: Console, skipped, limit: int = 20) -> None:
     if not len(skipped):
         return
-    table = Table(title="Rows not taken as capacitors", header_style="heading")
+    table = _table("Rows not taken as capacitors")
     for col in ("row", "kind", "reason", "text"):
         table.add_column(col, overflow="fold")
     for rec in skipped.head(limit).itertuples(index=False):
@@ -200,7 +207,7 @@ def _print_audit_list(console: Console, rows: list[tuple], show_all: bool) -> No
 
 def _print_audit_table(console: Console, rows: list[tuple]) -> None:
     """The wide layout: one table row per placement shown."""
-    table = Table(title="Capacitor derating audit (worst first)", header_style="heading")
+    table = _table("Capacitor derating audit (worst first)")
     for col, just, nowrap in (
             ("refdes", "left", True), ("row", "right", True), ("value", "left", False),
             ("technology", "left", False), ("conditions", "left", False),
@@ -264,7 +271,7 @@ def print_rules(console: Console, ruleset) -> None:
     rows = [r.to_dict() for r in ruleset.describe()]
     summary = ruleset_summary(ruleset)
     title = "; ".join(f"{s['name']} {s['version']}: {s['title']}" for s in summary)
-    table = Table(title=title, header_style="heading", show_lines=False)
+    table = _table(title, show_lines=False)
     keys = list(rows[0]) if rows else []
     for k in keys:
         table.add_column(k.replace("_", " "), overflow="fold")
@@ -294,7 +301,7 @@ def print_diff(console: Console, diff, *, show_all: bool = False) -> None:
         labels = [d.get("label") for d in (diff.old, diff.new)]
         if all(labels):
             title += f" ({labels[0]} -> {labels[1]})"
-        table = Table(title=title, header_style="heading")
+        table = _table(title)
         for col in ("change", "refdes", "rule", "was", "now", "message"):
             table.add_column(col, overflow="fold")
         limit = len(rows) if show_all else DEFAULT_ROWS
@@ -333,7 +340,7 @@ def print_groups(console: Console, groups) -> None:
             bits += [f"shares (capacitive / DC) {shares}"] if shares else []
             console.print("    " + "; ".join(bits))
         return
-    table = Table(title="Banks and series stacks", header_style="heading")
+    table = _table("Banks and series stacks")
     for col in ("group", "kind", "members", "node", "C eq", "C worst / need", "energy",
                 "discharge", "member shares (capacitive / DC)"):
         table.add_column(col, overflow="fold")
@@ -371,7 +378,7 @@ def print_substitutes(console: Console, result, *, show_all: bool = False) -> No
     """The substitute check (``bomcheck.substitute.check.SubstituteResult``): one row per alternate
     with its verdict and reason; then, for every alternate that is not a drop-in (all with
     ``show_all``), its placements side by side and its reasons; the totals and cautions."""
-    table = Table(title="Substitute check", header_style="heading")
+    table = _table("Substitute check")
     for col in ("original", "alternate", "placements", "verdict", "reason"):
         table.add_column(col, overflow="fold")
     for r in result.results:
@@ -382,8 +389,7 @@ def print_substitutes(console: Console, result, *, show_all: bool = False) -> No
         if r.verdict == "drop-in" and not show_all:
             continue
         metric_of = {v.rule_id: v.metric for p in r.placements for v in p.verdicts}
-        detail = Table(title=f"{r.alternate.label} for {r.alternate.original}",
-                       header_style="heading")
+        detail = _table(f"{r.alternate.label} for {r.alternate.original}")
         for col in ("refdes", "role", "conditions", "original", "stress", "alternate",
                     "stress", "change"):
             detail.add_column(col, overflow="fold")

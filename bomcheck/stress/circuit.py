@@ -71,9 +71,9 @@ class CircuitStress:
 def _part_dc_bias(run: CircuitRun) -> None:
     """DC bias from the part's own curve, at the applied voltage (series shares included). Past
     the curve's last point the part data says nothing: the generic curve and its bounds apply."""
-    volts = stresses.applied_voltages(run.frame(stresses.INPUTS))
+    applied = stresses.voltages(run.inputs())["applied_peak_v"]
     keep = parts_mod.curve_values(run.frame(("mpn", "capacitance_f")), run.parts, "dc_bias",
-                                  volts["applied_peak_v"], beyond=False).to_numpy()
+                                  pd.Series(applied, index=run.index), beyond=False).to_numpy()
     run.put("dc_bias_keep", np.where(np.isnan(keep), run.num("dc_bias_keep"), keep))
 
 
@@ -144,16 +144,15 @@ def _restress(run: CircuitRun) -> None:
     need = _inputs_changed(run, t_rise)
     if not need.any():
         return
-    rows = run.frame(stresses.INPUTS).loc[need].assign(t_rise_c=t_rise[need])
-    sub = stresses.compute(rows, run.data)
-    for c in sub.columns:
-        kind = sub[c].dtype.kind
-        if c in stresses.INPUTS or not (kind == "f" or c.endswith(("_basis", "_note"))):
+    metrics = stresses.metric_arrays(run.inputs(need, t_rise_c=t_rise[need]), run.data)
+    for c, values in metrics.items():
+        kind = values.dtype.kind
+        if not (kind == "f" or c.endswith(("_basis", "_note"))):
             continue
         dtype = float if kind == "f" else object
         base = (pd.Series(run.columns[c]).to_numpy(dtype=dtype, copy=True) if c in run.columns
                 else np.full(run.n, np.nan if kind == "f" else "", dtype=dtype))
-        base[need] = sub[c].to_numpy(dtype=dtype)
+        base[need] = values.astype(dtype)
         run.put(c, base)
 
 
@@ -165,28 +164,37 @@ def _inputs_changed(run: CircuitRun, t_rise: np.ndarray) -> np.ndarray:
     for c in stresses.INPUTS:
         if c == "t_rise_c" or c not in run.columns:
             continue
-        after = pd.Series(run.columns[c], index=run.index)
+        after = run.columns[c]
         if c not in run.table.columns:
-            changed |= after.notna().to_numpy()
+            changed |= ~pd.isna(_array(after))
             continue
         before = run.table[c]
         if _same_values(after, before):
             continue
-        same = after.eq(before) | (after.isna() & before.isna())
-        changed |= ~same.to_numpy(dtype=bool)
+        x, y = _array(after), before.to_numpy()
+        if x.dtype.kind == "f" and y.dtype.kind == "f":
+            same = (x == y) | (np.isnan(x) & np.isnan(y))
+        else:
+            after = pd.Series(after, index=run.index)
+            same = (after.eq(before) | (after.isna() & before.isna())).to_numpy(dtype=bool)
+        changed |= ~same
     return changed
 
 
-def _same_values(a: pd.Series, b: pd.Series) -> bool:
+def _array(values) -> np.ndarray:
+    """A column (Series or array) as an array, without a copy."""
+    return values.to_numpy() if isinstance(values, pd.Series) else np.asarray(values)
+
+
+def _same_values(a, b: pd.Series) -> bool:
     """True when two columns are the same memory (a column the stresses left alone): no need to
     compare them value by value."""
-    if a.dtype != b.dtype:
-        return False
-    x, y = a.array, b.array
+    x = a.array if isinstance(a, pd.Series) else a
+    y = b.array
     if x is y:
         return True
     x, y = np.asarray(x), np.asarray(y)
-    return (x.shape == y.shape and x.strides == y.strides
+    return (x.dtype == y.dtype and x.shape == y.shape and x.strides == y.strides
             and x.__array_interface__["data"][0] == y.__array_interface__["data"][0])
 
 

@@ -15,7 +15,7 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
-from bomcheck.stress.placement import StressData, num_column, text_column
+from bomcheck.stress.placement import Columns, StressData, as_numbers, as_text
 
 
 @dataclass(frozen=True)
@@ -95,19 +95,31 @@ class CircuitRun:
         once; never write into it."""
         if name not in self._numbers:
             values = self.columns.get(name)
-            array = values.to_numpy() if isinstance(values, pd.Series) else values
-            if isinstance(array, np.ndarray) and array.dtype == float:
-                self._numbers[name] = array  # already numbers: no conversion, no copy
-            else:
-                self._numbers[name] = num_column(self.frame((name,)), name).to_numpy()
+            self._numbers[name] = (np.full(self.n, np.nan) if values is None
+                                   else as_numbers(values))
         return self._numbers[name]
 
     def text(self, name: str) -> np.ndarray:
         """A column as text ("" where missing or absent), converted once; never write into it."""
         key = f"text:{name}"
         if key not in self._numbers:
-            self._numbers[key] = text_column(self.frame((name,)), name).to_numpy(dtype=object)
+            values = self.columns.get(name)
+            self._numbers[key] = (np.full(self.n, "", dtype=object) if values is None
+                                  else as_text(values).astype(object))
         return self._numbers[key]
+
+    def inputs(self, rows: np.ndarray | None = None, **replaced: np.ndarray) -> Columns:
+        """The placement stresses' inputs from the run's columns, of the placements where
+        ``rows`` is True (all without it), with ``replaced`` columns (of those placements)."""
+        def get(name: str) -> Any:
+            if name in replaced:
+                return replaced[name]
+            values = self.columns.get(name)
+            if values is None or rows is None:
+                return values
+            array = values.to_numpy() if isinstance(values, pd.Series) else np.asarray(values)
+            return array[rows]
+        return Columns(get, self.n if rows is None else int(np.count_nonzero(rows)))
 
     def put(self, name: str, values: Any) -> None:
         """Set a column (an existing one keeps its place; a new one goes last)."""

@@ -3,18 +3,18 @@
 Input is one table of fitted placements (spec columns from the parse stage and condition
 columns from the design sheet); output is the same table with the metric columns of
 ``bomcheck.vocabulary.METRICS`` added, plus the factors behind the worst-case capacitance so
-every one can be reported. No I/O, no pint, no per-row Python loops.
+every one can be reported. The arithmetic runs on the columns' arrays (each converted once) and
+the metric columns are joined to the table once. No I/O, no pint, no per-row Python loops.
 """
 
 from __future__ import annotations
 
-from collections.abc import Mapping
+from collections.abc import Callable, Mapping
 from dataclasses import dataclass, field
+from typing import Any
 
 import numpy as np
 import pandas as pd
-
-
 
 # Capacitance change taken for a class II ceramic whose code is not known: X7R/X5R's +/-15 %
 # (EIA-198 letter R), the common case, marked generic wherever it is used.
@@ -72,6 +72,97 @@ def text_column(table: pd.DataFrame, name: str) -> pd.Series:
     return pd.Series("", index=table.index, dtype=object)
 
 
+def as_numbers(values: Any) -> np.ndarray:
+    """A column (Series or array) as a float array, NaN where not a number (``num_column``'s
+    conversion); a float array is returned as is (never write into it)."""
+    array = values.to_numpy() if isinstance(values, pd.Series) else np.asarray(values)
+    if array.dtype == np.float64:
+        return array
+    if array.dtype.kind in "biuf":
+        return array.astype(float)
+    return pd.to_numeric(pd.Series(values), errors="coerce").astype(float).to_numpy()
+
+
+def as_text(values: Any) -> np.ndarray:
+    """A column as a text array, "" where missing (``text_column``'s conversion)."""
+    array = np.array(values.to_numpy(dtype=object) if isinstance(values, pd.Series) else values,
+                     dtype=object)
+    array[pd.isna(array)] = ""
+    return array.astype(str)
+
+
+class Columns:
+    """The placement stresses' inputs by name, each converted to numbers or text once.
+
+    ``get`` returns a column (Series or array) or None where there is none; ``n`` is the number
+    of placements. Built on a table (``Columns.of``) or on the circuit stage's columns."""
+
+    def __init__(self, get: Callable[[str], Any], n: int) -> None:
+        self._get, self.n, self._cache = get, n, {}
+
+    @classmethod
+    def of(cls, table: pd.DataFrame) -> Columns:
+        """The columns of ``table``."""
+        return cls(lambda name: table[name] if name in table.columns else None, len(table))
+
+    def num(self, name: str) -> np.ndarray:
+        """A float column, all-NaN where there is none."""
+        if name not in self._cache:
+            values = self._get(name)
+            self._cache[name] = (np.full(self.n, np.nan) if values is None
+                                 else as_numbers(values))
+        return self._cache[name]
+
+    def text(self, name: str) -> np.ndarray:
+        """A text column, "" where missing or where there is none."""
+        key = f"text:{name}"
+        if key not in self._cache:
+            values = self._get(name)
+            self._cache[key] = (np.full(self.n, "", dtype=object) if values is None
+                                else as_text(values))
+        return self._cache[key]
+
+    def flag(self, name: str) -> np.ndarray:
+        """A True/False column, False where missing or where there is none."""
+        values = self._get(name)
+        if values is None:
+            return np.zeros(self.n, dtype=bool)
+        array = np.array(values.to_numpy(dtype=object) if isinstance(values, pd.Series)
+                         else values, dtype=object)
+        array[pd.isna(array)] = False
+        return array.astype(bool)
+
+
+def _fill(x: np.ndarray, other: Any) -> np.ndarray:
+    """``x`` with NaN replaced by ``other``."""
+    return np.where(np.isnan(x), other, x)
+
+
+def _keep(x: np.ndarray, cond: np.ndarray) -> np.ndarray:
+    """``x`` where ``cond``, NaN elsewhere."""
+    return np.where(cond, x, np.nan)
+
+
+def _at_least(x: np.ndarray, low: float) -> np.ndarray:
+    """``x`` raised to ``low`` (NaN stays NaN)."""
+    return np.where(np.isnan(x) | (x >= low), x, low)
+
+
+def _at_most(x: np.ndarray, high: float) -> np.ndarray:
+    """``x`` lowered to ``high`` (NaN stays NaN)."""
+    return np.where(np.isnan(x) | (x <= high), x, high)
+
+
+def _lookup(texts: np.ndarray, mapping: Mapping[str, Any]) -> np.ndarray:
+    """The float that ``mapping`` gives each text (NaN where none), looked up once per distinct
+    text."""
+    if not len(texts):
+        return np.full(0, np.nan)
+    distinct, where = np.unique(texts, return_inverse=True)
+    values = np.array([mapping.get(str(t)) for t in distinct], dtype=float)
+    return values[where.reshape(-1)]
+
+
 # Every column ``compute`` reads: a placement whose values here are unchanged gets the same
 # metrics (the circuit stage runs the stresses again only where one of them changed).
 INPUTS: tuple[str, ...] = (
@@ -87,7 +178,7 @@ SQRT2 = float(np.sqrt(2.0))
 BEST_ONLY = "best-only"
 
 
-def applied_voltages(table: pd.DataFrame) -> pd.DataFrame:
+def voltages(cols: Columns) -> dict[str, np.ndarray]:
     """Upper and lower bounds of the DC rail, applied peak and transient peak, all magnitudes.
 
     The rail's upper bound is the larger of ``|v_dc_max|`` (where given) and ``|v_dc|`` x (1 +
@@ -98,24 +189,26 @@ def applied_voltages(table: pd.DataFrame) -> pd.DataFrame:
     voltage and no DC given, the DC is none. A ripple, AC or transient not given is taken as none
     (0 V / the applied peak).
     """
-    v_dc = num_column(table, "v_dc").abs()
-    ac_peak = SQRT2 * num_column(table, "v_ac_rms")
-    v_dc = v_dc.where(v_dc.notna() | ac_peak.isna(), 0.0)
-    tol = num_column(table, "v_tol_pct").clip(lower=0.0).fillna(0.0) / 100.0
-    from_tol = v_dc * (1.0 + tol)
-    upper = pd.Series(np.fmax(num_column(table, "v_dc_max").abs(), from_tol), index=table.index)
-    lower = (v_dc * (1.0 - tol)).clip(lower=0.0)
-    swing = num_column(table, "v_ripple_pk").fillna(0.0) + ac_peak.fillna(0.0)
+    v_dc = np.abs(cols.num("v_dc"))
+    ac_peak = SQRT2 * cols.num("v_ac_rms")
+    v_dc = np.where(~np.isnan(v_dc) | np.isnan(ac_peak), v_dc, 0.0)
+    tol = _fill(_at_least(cols.num("v_tol_pct"), 0.0), 0.0) / 100.0
+    upper = np.fmax(np.abs(cols.num("v_dc_max")), v_dc * (1.0 + tol))
+    lower = _at_least(v_dc * (1.0 - tol), 0.0)
+    swing = _fill(cols.num("v_ripple_pk"), 0.0) + _fill(ac_peak, 0.0)
     applied = upper + swing
-    transient = np.fmax(applied, num_column(table, "v_transient_pk"))
-    return pd.DataFrame(
-        {"v_upper_v": upper, "v_lower_v": lower, "swing_pk_v": swing, "applied_peak_v": applied,
-         "transient_peak_v": transient},
-        index=table.index,
-    )
+    return {"v_upper_v": upper, "v_lower_v": lower, "swing_pk_v": swing,
+            "applied_peak_v": applied,
+            "transient_peak_v": np.fmax(applied, cols.num("v_transient_pk"))}
 
 
-def reverse_voltage(table: pd.DataFrame, volts: pd.DataFrame) -> tuple[pd.Series, pd.Series]:
+def applied_voltages(table: pd.DataFrame) -> pd.DataFrame:
+    """``voltages`` of a table, as a table."""
+    return pd.DataFrame(voltages(Columns.of(table)), index=table.index)
+
+
+def reverse_voltage(cols: Columns, volts: Mapping[str, np.ndarray]
+                    ) -> tuple[np.ndarray, np.ndarray]:
     """(peak reverse voltage, its kindest bound where ``v_reverse_pk`` is not given).
 
     The largest of ``v_reverse_pk``; the swing below zero, ripple peak + sqrt(2) x AC rms - the
@@ -125,104 +218,97 @@ def reverse_voltage(table: pd.DataFrame, volts: pd.DataFrame) -> tuple[pd.Series
     positive ``v_dc``). Without ``v_reverse_pk`` on a positive rail the reverse voltage is not
     known (NaN) and the swing alone is its kindest bound (a failure there is firm).
     """
-    negative = num_column(table, "v_dc") < 0
-    from_rail = volts["applied_peak_v"].where(negative)
-    below_zero = (volts["swing_pk_v"] - volts["v_lower_v"]).clip(lower=0.0)
-    below_zero = below_zero.where(volts["v_lower_v"].notna())
-    given = num_column(table, "v_reverse_pk")
-    known = np.fmax(np.fmax(given, from_rail), below_zero.where(given.notna() | negative))
-    best = below_zero.where(known.isna())
-    return pd.Series(known, index=table.index), best
+    negative = cols.num("v_dc") < 0
+    from_rail = _keep(volts["applied_peak_v"], negative)
+    below_zero = _at_least(volts["swing_pk_v"] - volts["v_lower_v"], 0.0)
+    below_zero = _keep(below_zero, ~np.isnan(volts["v_lower_v"]))
+    given = cols.num("v_reverse_pk")
+    known = np.fmax(np.fmax(given, from_rail), _keep(below_zero, ~np.isnan(given) | negative))
+    return known, _keep(below_zero, np.isnan(known))
 
 
-def _class1_loss(tc: pd.Series, tol: pd.Series, t_op: pd.Series) -> pd.Series:
+def _class1_loss(tc: np.ndarray, tol: np.ndarray, t_op: np.ndarray) -> np.ndarray:
     """Worst fractional loss of a class I dielectric at t_op: dC/C = alpha x (T - 25 degC),
     alpha anywhere in tc +/- tol (ppm/degC)."""
     dt = t_op - 25.0
-    tol = tol.fillna(0.0)
+    tol = _fill(tol, 0.0)
     low = (tc - tol) * dt * 1e-6
     high = (tc + tol) * dt * 1e-6
-    return (-np.fmin(low, high)).clip(lower=0.0)
+    return _at_least(-np.fmin(low, high), 0.0)
 
 
-def _dc_bias_remaining(ratio: pd.Series, package: pd.Series, data: StressData) -> pd.Series:
+def _dc_bias_remaining(ratio: np.ndarray, package: np.ndarray, data: StressData) -> np.ndarray:
     """Fraction of capacitance left at ``ratio`` = applied / rated, from the generic curves."""
-    out = pd.Series(np.nan, index=ratio.index, dtype=float)
-    package = package.str.upper()
-    keys = package.where(package.isin(list(data.dc_bias)), "default")
-    for key in pd.unique(keys):
-        xs, ys = data.dc_bias.get(key, data.dc_bias["default"])
+    out = np.full(len(ratio), np.nan)
+    package = np.char.upper(package.astype(str))
+    keys = np.where(np.isin(package, list(data.dc_bias)), package, "default")
+    for key in np.unique(keys):
+        xs, ys = data.dc_bias.get(str(key), data.dc_bias["default"])
         mask = keys == key
-        out[mask] = np.interp(ratio[mask].to_numpy(), xs, ys)
-    return out.where(ratio.notna())
+        out[mask] = np.interp(ratio[mask], xs, ys)
+    return _keep(out, ~np.isnan(ratio))
 
 
-def _aging_k(table: pd.DataFrame, data: StressData) -> pd.Series:
-    dielectric = text_column(table, "dielectric")
-    cls = num_column(table, "dielectric_class")
-    by_code = dielectric.map(dict(data.aging_k)).astype(float)
-    by_class = cls.map({2.0: data.aging_k.get("class2", np.nan),
-                        3.0: data.aging_k.get("class3", np.nan),
-                        1.0: data.aging_k.get("class1", 0.0)}).astype(float)
-    return by_code.fillna(by_class).fillna(0.0)
+def _aging_k(cols: Columns, cls: np.ndarray, data: StressData) -> np.ndarray:
+    by_code = _lookup(cols.text("dielectric"), data.aging_k)
+    by_class = np.select([cls == 2.0, cls == 3.0, cls == 1.0],
+                         [data.aging_k.get("class2", np.nan), data.aging_k.get("class3", np.nan),
+                          data.aging_k.get("class1", 0.0)], np.nan).astype(float)
+    return _fill(_fill(by_code, by_class), 0.0)
 
 
-def _tolerance(table: pd.DataFrame, nominal: pd.Series, data: StressData
-               ) -> tuple[pd.Series, pd.Series]:
+def _tolerance(cols: Columns, nominal: np.ndarray, data: StressData
+               ) -> tuple[np.ndarray, np.ndarray]:
     """(negative tolerance as a fraction, True where the default was assumed)."""
-    tol_frac = (num_column(table, "tol_minus_pct") / 100.0).fillna(
-        num_column(table, "tol_abs_f") / nominal)
-    tol_assumed = tol_frac.isna()
-    return tol_frac.fillna(data.default_tol_pct / 100.0), tol_assumed
+    tol_frac = _fill(cols.num("tol_minus_pct") / 100.0, cols.num("tol_abs_f") / nominal)
+    tol_assumed = np.isnan(tol_frac)
+    return _fill(tol_frac, data.default_tol_pct / 100.0), tol_assumed
 
 
-def _temperature_loss(table: pd.DataFrame, t_operating_c: pd.Series
-                      ) -> tuple[pd.Series, pd.Series, pd.Series]:
+def _temperature_loss(cols: Columns, t_operating_c: np.ndarray
+                      ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """(worst fractional loss over temperature, dielectric class used, True where the class or
     its change figure was assumed)."""
-    cls = num_column(table, "dielectric_class")
-    change = num_column(table, "cap_change_minus_pct")
+    cls = cols.num("dielectric_class")
+    change = cols.num("cap_change_minus_pct")
     # A ceramic whose text names no dielectric (or a class II code without its change figure) is
     # taken as class II with the common +/-15 % (X7R/X5R) and marked generic, never as lossless.
-    ceramic = text_column(table, "technology") == "ceramic"
-    class_assumed = (ceramic & cls.isna()) | (cls.isin([2.0, 3.0]) & change.isna())
-    cls = cls.where(~(ceramic & cls.isna()), 2.0)
-    change = change.where(~class_assumed, ASSUMED_CLASS2_CHANGE_PCT)
-    temp_loss = pd.Series(0.0, index=table.index)
-    temp_loss = temp_loss.mask(cls.isin([2.0, 3.0]), change / 100.0)
-    temp_loss = temp_loss.mask(
-        cls == 1.0, _class1_loss(num_column(table, "tc_ppm"), num_column(table, "tc_tol_ppm"),
-                                 t_operating_c)
-    )
-    return temp_loss.fillna(0.0), cls, class_assumed
+    unnamed = (cols.text("technology") == "ceramic") & np.isnan(cls)
+    class_assumed = unnamed | (((cls == 2.0) | (cls == 3.0)) & np.isnan(change))
+    cls = np.where(unnamed, 2.0, cls)
+    change = np.where(class_assumed, ASSUMED_CLASS2_CHANGE_PCT, change)
+    temp_loss = np.where((cls == 2.0) | (cls == 3.0), change / 100.0, 0.0)
+    temp_loss = np.where(cls == 1.0, _class1_loss(cols.num("tc_ppm"), cols.num("tc_tol_ppm"),
+                                                  t_operating_c), temp_loss)
+    return _fill(temp_loss, 0.0), cls, class_assumed
 
 
-def _bias_keep(table: pd.DataFrame, applied_peak_v: pd.Series, class23: pd.Series,
-               data: StressData) -> tuple[pd.Series, pd.Series, pd.Series, pd.Series]:
+def _bias_keep(cols: Columns, applied_peak_v: np.ndarray, class23: np.ndarray,
+               data: StressData) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
     """(fraction kept under DC bias, the part's own keep, True where the generic curve was used,
     True where the voltage is unknown)."""
-    rated = num_column(table, "voltage_v")
-    part_keep = num_column(table, "dc_bias_keep")
-    generic_keep = _dc_bias_remaining(applied_peak_v / rated, text_column(table, "package"), data)
-    bias_keep = pd.Series(1.0, index=table.index)
-    bias_keep = bias_keep.mask(class23, part_keep.fillna(generic_keep))
-    bias_generic = class23 & part_keep.isna() & generic_keep.notna() & (generic_keep < 1.0)
-    bias_unknown = class23 & part_keep.isna() & generic_keep.isna()
-    return bias_keep.fillna(1.0), part_keep, bias_generic, bias_unknown
+    part_keep = cols.num("dc_bias_keep")
+    generic_keep = _dc_bias_remaining(applied_peak_v / cols.num("voltage_v"),
+                                      cols.text("package"), data)
+    bias_keep = np.where(class23, _fill(part_keep, generic_keep), 1.0)
+    no_part = class23 & np.isnan(part_keep)
+    bias_generic = no_part & ~np.isnan(generic_keep) & (generic_keep < 1.0)
+    bias_unknown = no_part & np.isnan(generic_keep)
+    return _fill(bias_keep, 1.0), part_keep, bias_generic, bias_unknown
 
 
-def _aging_loss(table: pd.DataFrame, cls: pd.Series, data: StressData
-                ) -> tuple[pd.Series, pd.Series, pd.Series]:
+def _aging_loss(cols: Columns, cls: np.ndarray, data: StressData
+                ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """(aging loss over the required life, the aging constant k, True where k applies but no
     life is given)."""
-    life = num_column(table, "life_h")
-    k = _aging_k(table.assign(dielectric_class=cls), data)
+    life = cols.num("life_h")
+    k = _aging_k(cols, cls, data)
     decades = np.log10(np.fmax(life, data.aging_t0_h) / data.aging_t0_h)
-    aging_loss = (k / 100.0 * decades).fillna(0.0).clip(lower=0.0, upper=1.0)
-    return aging_loss, k, (k > 0) & life.isna()
+    aging_loss = _at_most(_at_least(_fill(k / 100.0 * decades, 0.0), 0.0), 1.0)
+    return aging_loss, k, (k > 0) & np.isnan(life)
 
 
-def _notes(flags: tuple[pd.Series, ...], data: StressData, index: pd.Index) -> pd.Series:
+def _notes(flags: tuple[np.ndarray, ...], data: StressData) -> np.ndarray:
     """One note per combination of the assumption flags, looked up by a bit code (no per-row
     strings)."""
     texts = (f"tolerance not given, {data.default_tol_pct:g} % assumed",
@@ -230,16 +316,15 @@ def _notes(flags: tuple[pd.Series, ...], data: StressData, index: pd.Index) -> p
              "DC-bias loss not counted (voltage unknown)",
              "aging not counted (no required life given)",
              f"dielectric not given: class II (-{ASSUMED_CLASS2_CHANGE_PCT:g} %) assumed")
-    code = sum(f.to_numpy(dtype=bool).astype(np.int64) << i for i, f in enumerate(flags))
+    code = sum(f.astype(bool).astype(np.int64) << i for i, f in enumerate(flags))
     lookup = np.array([
         "; ".join(t for i, t in enumerate(texts) if c >> i & 1) for c in range(1 << len(texts))
     ], dtype=object)
-    return pd.Series(lookup[code], index=index, dtype=object)
+    return lookup[code]
 
 
-def capacitance_worst_case(
-    table: pd.DataFrame, applied_peak_v: pd.Series, t_operating_c: pd.Series, data: StressData
-) -> pd.DataFrame:
+def capacitance_worst_case(cols: Columns, applied_peak_v: np.ndarray, t_operating_c: np.ndarray,
+                           data: StressData) -> dict[str, np.ndarray]:
     """Worst-case minimum capacitance and each factor behind it.
 
     c_worst = nominal x (1 - negative tolerance) x (1 - temperature-characteristic loss)
@@ -248,13 +333,13 @@ def capacitance_worst_case(
     alpha x (T - 25 degC) at its worst; DC bias uses a per-part curve column ``dc_bias_keep``
     where the parts data gave one, else the generic curve (marked generic).
     """
-    nominal = num_column(table, "capacitance_f")
-    tol_frac, tol_assumed = _tolerance(table, nominal, data)
-    temp_loss, cls, class_assumed = _temperature_loss(table, t_operating_c)
-    class23 = cls.isin([2.0, 3.0])
-    bias_keep, part_keep, bias_generic, bias_unknown = _bias_keep(table, applied_peak_v, class23,
+    nominal = cols.num("capacitance_f")
+    tol_frac, tol_assumed = _tolerance(cols, nominal, data)
+    temp_loss, cls, class_assumed = _temperature_loss(cols, t_operating_c)
+    class23 = (cls == 2.0) | (cls == 3.0)
+    bias_keep, part_keep, bias_generic, bias_unknown = _bias_keep(cols, applied_peak_v, class23,
                                                                   data)
-    aging_loss, k, aging_unknown = _aging_loss(table, cls, data)
+    aging_loss, k, aging_unknown = _aging_loss(cols, cls, data)
     tol_factor = 1.0 - tol_frac
     c_worst = nominal * tol_factor * (1.0 - temp_loss) * bias_keep * (1.0 - aging_loss)
     flags = (tol_assumed, bias_generic, bias_unknown, aging_unknown, class_assumed)
@@ -267,104 +352,102 @@ def capacitance_worst_case(
     c_best = (nominal * np.where(tol_assumed, 1.0, tol_factor)
               * np.where(class_assumed, 1.0, 1.0 - temp_loss) * best_keep
               * np.where(aging_unknown, 1.0, 1.0 - aging_loss))
-    ratio = applied_peak_v / num_column(table, "voltage_v")
-    worst_keep = np.where(bias_generic, np.interp(ratio.fillna(0.0), *data.dc_bias_worst),
+    ratio = applied_peak_v / cols.num("voltage_v")
+    worst_keep = np.where(bias_generic, np.interp(_fill(ratio, 0.0), *data.dc_bias_worst),
                           np.where(bias_unknown, np.nan, bias_keep))
     worst_decades = np.log10(data.worst_life_h / data.aging_t0_h)
-    worst_aging = np.where(aging_unknown, (k / 100.0 * worst_decades).clip(0.0, 1.0), aging_loss)
+    worst_aging = np.where(aging_unknown,
+                           _at_most(_at_least(k / 100.0 * worst_decades, 0.0), 1.0), aging_loss)
     worst_temp = np.where(class_assumed, data.worst_class_change_pct / 100.0, temp_loss)
     # An assumed tolerance has no worst bound: the BOM should give it (no pass without it).
-    c_worst_bound = (nominal * tol_factor * (1.0 - worst_temp) * worst_keep * (1.0 - worst_aging)
-                     ).where(~tol_assumed)
-    need = num_column(table, "c_min_f")
-    need = need.where(need > 0)  # c_min_f = 0 is the design sheet's "none": no margin
-    return pd.DataFrame(
-        {
-            "c_tol_factor": tol_factor,
-            "c_temp_factor": 1.0 - temp_loss,
-            "c_bias_factor": bias_keep,
-            "c_aging_factor": 1.0 - aging_loss,
-            "c_worst_f": c_worst,
-            "c_worst_f_best": c_best.where(uncertain, c_worst),
-            "c_worst_f_worst": c_worst_bound.where(uncertain, c_worst),
-            "c_margin": c_worst / need,
-            "c_margin_best": (c_best / need).where(uncertain),
-            "c_margin_worst": (c_worst_bound / need).where(uncertain),
-            "c_margin_basis": np.where(uncertain, "generic",
-                                       np.where(part_keep.notna() & class23, "part", "")),
-            "c_margin_note": _notes(flags, data, table.index),
-        },
-        index=table.index,
-    )
+    c_worst_bound = _keep(nominal * tol_factor * (1.0 - worst_temp) * worst_keep
+                          * (1.0 - worst_aging), ~tol_assumed)
+    need = cols.num("c_min_f")
+    need = _keep(need, need > 0)  # c_min_f = 0 is the design sheet's "none": no margin
+    return {
+        "c_tol_factor": tol_factor,
+        "c_temp_factor": 1.0 - temp_loss,
+        "c_bias_factor": bias_keep,
+        "c_aging_factor": 1.0 - aging_loss,
+        "c_worst_f": c_worst,
+        "c_worst_f_best": np.where(uncertain, c_best, c_worst),
+        "c_worst_f_worst": np.where(uncertain, c_worst_bound, c_worst),
+        "c_margin": c_worst / need,
+        "c_margin_best": _keep(c_best / need, uncertain),
+        "c_margin_worst": _keep(c_worst_bound / need, uncertain),
+        "c_margin_basis": np.where(uncertain, "generic",
+                                   np.where(~np.isnan(part_keep) & class23, "part", "")),
+        "c_margin_note": _notes(flags, data),
+    }
 
 
-def _by_technology(table: pd.DataFrame, ratings: Mapping[str, float]) -> pd.Series:
+def _by_technology(cols: Columns, ratings: Mapping[str, float]) -> np.ndarray:
     """A per-technology figure (``ceramic-class1``.. keys first for ceramics); NaN where none."""
-    tech = text_column(table, "technology")
-    cls = num_column(table, "dielectric_class")
-    by_class = cls.map({float(c): ratings.get(f"ceramic-class{c}", np.nan) for c in (1, 2, 3)})
-    out = by_class.astype(float).where(tech == "ceramic")
-    return out.fillna(tech.map(dict(ratings)).astype(float))
+    tech = cols.text("technology")
+    cls = cols.num("dielectric_class")
+    by_class = np.select([cls == float(c) for c in (1, 2, 3)],
+                         [ratings.get(f"ceramic-class{c}", np.nan) for c in (1, 2, 3)],
+                         np.nan).astype(float)
+    return _fill(_keep(by_class, tech == "ceramic"), _lookup(tech, ratings))
 
 
-def rated_temp_max(table: pd.DataFrame, data: StressData) -> tuple[pd.Series, pd.Series]:
+def rated_temp_max(cols: Columns, data: StressData) -> tuple[np.ndarray, np.ndarray]:
     """(rated maximum temperature, True where it is the typical value of the technology)."""
-    stated = num_column(table, "temp_max_c")
-    typical = _by_technology(table, data.typical_temp_max_c)
-    assumed = stated.isna() & typical.notna()
-    return stated.fillna(typical), assumed
+    stated = cols.num("temp_max_c")
+    typical = _by_technology(cols, data.typical_temp_max_c)
+    return _fill(stated, typical), np.isnan(stated) & ~np.isnan(typical)
 
 
-def compute(table: pd.DataFrame, data: StressData) -> pd.DataFrame:
-    """The table with every metric column added (see ``bomcheck.vocabulary.METRICS``)."""
-    volts = applied_voltages(table)
-    rated = num_column(table, "voltage_v")
-    is_ac = text_column(table, "voltage_kind") == "ac"
-    dc_ratio = volts["applied_peak_v"] / rated
-    ac_ratio = num_column(table, "v_ac_rms") / rated
+def metric_arrays(cols: Columns, data: StressData) -> dict[str, np.ndarray]:
+    """Every metric column of the placement stresses (see ``bomcheck.vocabulary.METRICS``) and
+    the factors of the worst-case capacitance, by name, in the table's order."""
+    volts = voltages(cols)
+    applied, transient = volts["applied_peak_v"], volts["transient_peak_v"]
+    rated = cols.num("voltage_v")
+    is_ac = cols.text("voltage_kind") == "ac"
     # An AC rating in rms is a peak of sqrt(2) x rated (common practice): the applied peak, DC
     # included, and a transient are held against it.
-    rated_peak = (SQRT2 * rated).where(is_ac, rated)
-    polarized = (table["polarized"].astype(object).fillna(False).astype(bool) if "polarized" in table
-                 else pd.Series(False, index=table.index))
-    reverse, reverse_best = reverse_voltage(table, volts)
-    t_operating = num_column(table, "t_ambient_c") + num_column(table, "t_rise_c").fillna(0.0)
+    rated_peak = np.where(is_ac, SQRT2 * rated, rated)
+    polarized = cols.flag("polarized")
+    reverse, reverse_best = reverse_voltage(cols, volts)
+    t_ambient = cols.num("t_ambient_c")
+    t_operating = t_ambient + _fill(cols.num("t_rise_c"), 0.0)
     # The coldest ambient is the design's t_ambient_min_c; without it the check is made only
     # where the operating ambient itself, an upper bound of the coldest, is below the rated
     # minimum (a firm failure whatever the coldest is). A coldest above the operating ambient
     # contradicts it (the design reader warns): the lower of the two is taken.
-    t_ambient = num_column(table, "t_ambient_c")
-    t_min_given = num_column(table, "t_ambient_min_c")
-    temp_min = num_column(table, "temp_min_c")
-    t_cold = pd.Series(np.fmin(t_min_given, t_ambient), index=table.index).where(
-        t_min_given.notna(), t_ambient.where(t_ambient < temp_min))
-    temp_max, temp_assumed = rated_temp_max(table, data)
-    metrics = pd.DataFrame(
-        {
-            "v_upper_v": volts["v_upper_v"],
-            "applied_peak_v": volts["applied_peak_v"],
-            "transient_peak_v": volts["transient_peak_v"],
-            "voltage_ratio": dc_ratio.where(~is_ac, ac_ratio),
-            "ac_peak_ratio": (volts["applied_peak_v"] / rated_peak).where(is_ac),
-            "transient_ratio": (volts["transient_peak_v"] / rated_peak).where(
-                ~is_ac | num_column(table, "v_transient_pk").notna()),
-            "reverse_peak_v": reverse.where(polarized),
-            "reverse_ratio": (reverse / rated).where(polarized),
-            "reverse_ratio_best": (reverse_best / rated).where(polarized),
-            "reverse_ratio_basis": np.where(polarized & reverse_best.notna(), BEST_ONLY, ""),
-            "rated_voltage_v": rated,
-            "rated_peak_v": rated_peak,
-            "t_operating_c": t_operating,
-            "temp_max_used_c": temp_max,
-            "temp_margin_c": temp_max - t_operating,
-            "temp_margin_c_basis": np.where(temp_assumed, "generic", ""),
-            "temp_margin_c_worst": (_by_technology(table, data.lowest_temp_max_c)
-                                    - t_operating).where(temp_assumed),
-            "t_cold_c": t_cold,
-            "temp_min_margin_c": t_cold - temp_min,
-        },
-        index=table.index,
-    )
-    caps = capacitance_worst_case(table, volts["applied_peak_v"], t_operating, data)
-    return pd.concat([table.drop(columns=[c for c in (*metrics, *caps) if c in table]),
-                      metrics, caps], axis=1)
+    t_min_given = cols.num("t_ambient_min_c")
+    temp_min = cols.num("temp_min_c")
+    t_cold = np.where(np.isnan(t_min_given), _keep(t_ambient, t_ambient < temp_min),
+                      np.fmin(t_min_given, t_ambient))
+    temp_max, temp_assumed = rated_temp_max(cols, data)
+    metrics = {
+        "v_upper_v": volts["v_upper_v"],
+        "applied_peak_v": applied,
+        "transient_peak_v": transient,
+        "voltage_ratio": np.where(is_ac, cols.num("v_ac_rms") / rated, applied / rated),
+        "ac_peak_ratio": _keep(applied / rated_peak, is_ac),
+        "transient_ratio": _keep(transient / rated_peak,
+                                 ~is_ac | ~np.isnan(cols.num("v_transient_pk"))),
+        "reverse_peak_v": _keep(reverse, polarized),
+        "reverse_ratio": _keep(reverse / rated, polarized),
+        "reverse_ratio_best": _keep(reverse_best / rated, polarized),
+        "reverse_ratio_basis": np.where(polarized & ~np.isnan(reverse_best), BEST_ONLY, ""),
+        "rated_voltage_v": rated,
+        "rated_peak_v": rated_peak,
+        "t_operating_c": t_operating,
+        "temp_max_used_c": temp_max,
+        "temp_margin_c": temp_max - t_operating,
+        "temp_margin_c_basis": np.where(temp_assumed, "generic", ""),
+        "temp_margin_c_worst": _keep(_by_technology(cols, data.lowest_temp_max_c) - t_operating,
+                                     temp_assumed),
+        "t_cold_c": t_cold,
+        "temp_min_margin_c": t_cold - temp_min,
+    }
+    return {**metrics, **capacitance_worst_case(cols, applied, t_operating, data)}
+
+
+def compute(table: pd.DataFrame, data: StressData) -> pd.DataFrame:
+    """The table with every metric column added (see ``bomcheck.vocabulary.METRICS``)."""
+    metrics = pd.DataFrame(metric_arrays(Columns.of(table), data), index=table.index)
+    return pd.concat([table.drop(columns=[c for c in metrics if c in table]), metrics], axis=1)
