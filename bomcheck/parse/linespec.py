@@ -16,7 +16,7 @@ from dataclasses import dataclass
 from typing import Any
 
 from bomcheck.parse.merge import _CONTEXT, SPEC_COLUMNS, SPEC_SOURCES, SpecMerge
-from bomcheck.parse.values import parse_value
+from bomcheck.parse.valuecache import ValueParser
 from bomcheck.spec import CapSpec
 
 # Not-fitted marks inside cell text. Upper-case NF/NC only, and NF not right after a number, so
@@ -175,7 +175,7 @@ _NO_CELL: tuple[str, str | None, CapSpec | None, str] = ("", None, None, "")
 
 
 class CellParser:
-    """Parse cells through ``parse_value`` with a cache per (context, text).
+    """Parse cells as ``parse_value`` does (``ValueParser``), with a cache per (context, text).
 
     ``units`` maps a source (``"value"``, ``"voltage"``...) to the unit its header states; a
     bare number in that column is read with it.
@@ -185,6 +185,7 @@ class CellParser:
         self.semicolon = semicolon
         self.units = dict(units or {})
         self._cache: dict[tuple[str, str], CapSpec | None] = {}
+        self._values = ValueParser()
         self._cleaned: dict[str, tuple[str, str | None]] = {}
         # Per (source, cell): (cleaned text, not-fitted mark, spec, text with spaces collapsed).
         self._cells: dict[tuple[str, str], tuple[str, str | None, CapSpec | None, str]] = {}
@@ -216,7 +217,7 @@ class CellParser:
             text = _in_celsius(text)
         key = (source, text)
         if key not in self._cache:
-            self._cache[key] = parse_value(text, context=_CONTEXT.get(source, source)) \
+            self._cache[key] = self._values.parse(text, _CONTEXT.get(source, source)) \
                 if text else None
         return self._cache[key]
 
