@@ -171,7 +171,9 @@ def _in_celsius(text: str) -> str:
 _BARE_NUMBER = re.compile(r"[-+]?(?:\d+(?:\.\d*)?|\.\d+)").fullmatch
 
 
-_NO_CELL: tuple[str, str | None, CapSpec | None, str] = ("", None, None, "")
+# What a cell says: a spec with its readings, the cell's own warnings and unread tokens.
+Reading = tuple[CapSpec, tuple[str, ...], tuple[str, ...]]
+_NO_CELL: tuple[str, str | None, Reading | None, str] = ("", None, None, "")
 
 
 class CellParser:
@@ -184,17 +186,19 @@ class CellParser:
     def __init__(self, semicolon: bool, units: Mapping[str, str] | None = None) -> None:
         self.semicolon = semicolon
         self.units = dict(units or {})
-        self._cache: dict[tuple[str, str], CapSpec | None] = {}
+        # Per (source, cell): (spec with the readings, the cell's warnings, its unread tokens);
+        # the spec may be shared by cells that read alike (``ValueParser.read``).
+        self._cache: dict[tuple[str, str], Reading | None] = {}
         self._values = ValueParser()
         self._cleaned: dict[str, tuple[str, str | None]] = {}
-        # Per (source, cell): (cleaned text, not-fitted mark, spec, text with spaces collapsed).
-        self._cells: dict[tuple[str, str], tuple[str, str | None, CapSpec | None, str]] = {}
+        # Per (source, cell): (cleaned text, not-fitted mark, reading, text with spaces collapsed).
+        self._cells: dict[tuple[str, str], tuple[str, str | None, Reading | None, str]] = {}
         # Per cleaned text: capacitor words or units; a word or value form of another part.
         self._strong: dict[str, bool] = {}
         self._other: dict[str, tuple[str, str] | None] = {}
         self._form: dict[str, tuple[str, str] | None] = {}
         # Per spec (by id; specs live in _cache): a line with that one cell of text.
-        self._single: dict[int, tuple[dict[str, Any], tuple[tuple[str, str], ...]]] = {}
+        self._single: dict[int, dict[str, Any]] = {}
         self.merger = SpecMerge(self.spec)
 
     def clean(self, text: str) -> tuple[str, str | None]:
@@ -210,25 +214,42 @@ class CellParser:
 
     def spec(self, source: str, text: str) -> CapSpec | None:
         """The parse of one cleaned cell of ``source`` (cached); None for an empty cell."""
+        got = self.reading(source, text)
+        if got is None:
+            return None
+        sp, warnings, unread = got
+        if warnings is sp.warnings and unread is sp.unread:
+            return sp
+        return self._values.parse(self._as_parsed(source, text), _CONTEXT.get(source, source))
+
+    def reading(self, source: str, text: str) -> Reading | None:
+        """(spec with the readings, warnings, unread tokens) of one cleaned cell of ``source``
+        (cached; see ``ValueParser.read``); None for an empty cell."""
+        text = self._as_parsed(source, text)
+        key = (source, text)
+        if key not in self._cache:
+            self._cache[key] = self._values.read(text, _CONTEXT.get(source, source)) \
+                if text else None
+        return self._cache[key]
+
+    def _as_parsed(self, source: str, text: str) -> str:
+        """A cleaned cell as it is parsed: a bare number with its header's unit, a
+        temperature in degC."""
         unit = self.units.get(source)
         if unit is not None and _BARE_NUMBER(text):
             text = f"{text} {unit}"
         if source == "temperature":
             text = _in_celsius(text)
-        key = (source, text)
-        if key not in self._cache:
-            self._cache[key] = self._values.parse(text, _CONTEXT.get(source, source)) \
-                if text else None
-        return self._cache[key]
+        return text
 
-    def cell(self, source: str, text: str) -> tuple[str, str | None, CapSpec | None, str]:
-        """(cleaned text, not-fitted mark, spec, text with spaces collapsed) of one cell, each
-        distinct cell of a source once."""
+    def cell(self, source: str, text: str) -> tuple[str, str | None, Reading | None, str]:
+        """(cleaned text, not-fitted mark, reading, text with spaces collapsed) of one cell,
+        each distinct cell of a source once."""
         key = (source, text)
         got = self._cells.get(key)
         if got is None:
             cleaned, mark = self.clean(text)
-            got = self._cells[key] = (cleaned, mark, self.spec(source, cleaned),
+            got = self._cells[key] = (cleaned, mark, self.reading(source, cleaned),
                                       " ".join(text.split()))
         return got
 
@@ -236,12 +257,13 @@ class CellParser:
         """What one distinct combination of a line's value-bearing cells says."""
         info = {src: self.cell(src, t) for src, t in cells.items()}
         marks = {src: c[1] for src, c in info.items() if c[1]}
-        specs = {src: c[2] for src, c in info.items()}
-        filled = [src for src, sp in specs.items() if sp is not None]
+        specs = {src: c[2][0] if c[2] is not None else None for src, c in info.items()}
+        filled = [src for src, c in info.items() if c[2] is not None]
         if len(filled) == 1 and filled[0] in ("value", "description"):
-            spec, conflicts = self._one_source(filled[0], specs[filled[0]])  # type: ignore[arg-type]
+            spec, conflicts = self._one_source(filled[0], info[filled[0]][2])  # type: ignore[arg-type]
         else:
-            spec, conflicts = self.merger.merge(specs)
+            spec, conflicts = self.merger.merge(
+                specs, {src: (c[2][1], c[2][2]) for src, c in info.items() if c[2] is not None})
         v, d = info.get("value", _NO_CELL), info.get("description", _NO_CELL)
         cap = any(s is not None and s.is_capacitor
                   for s in (specs.get("value"), specs.get("description"), specs.get("dielectric"),
@@ -279,11 +301,14 @@ class CellParser:
             self._form[value] = _other_value_form(value)
         return self._form[value]
 
-    def _one_source(self, src: str, sp: CapSpec) -> tuple[dict[str, Any], list[tuple[str, str]]]:
-        """A line with one cell of text: its spec as it is (what the merge would give), cached."""
+    def _one_source(self, src: str, reading: Reading
+                    ) -> tuple[dict[str, Any], list[tuple[str, str]]]:
+        """A line with one cell of text: its spec as it is (what the merge would give); the
+        fields cached per spec."""
+        sp, warnings, unread = reading
         got = self._single.get(id(sp))
         if got is None:
-            out = {k: getattr(sp, k) for k in SPEC_COLUMNS}
-            got = self._single[id(sp)] = (out, tuple(self.merger.text_conflicts(src, sp)))
-        return dict(got[0]), list(got[1])
+            got = self._single[id(sp)] = {k: getattr(sp, k) for k in SPEC_COLUMNS}
+        return ({**got, "warnings": warnings, "unread": unread},
+                list(self.merger.text_conflicts(src, warnings)))
 

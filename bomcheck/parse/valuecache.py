@@ -75,7 +75,6 @@ class _Shape:
     unread tokens, and the bare-number warning to write again (its index, its tokens)."""
 
     spec: CapSpec
-    middle: tuple[object, ...]  # the spec's fields between its text and its warnings
     unread_at: tuple[tuple[int, int], ...]  # (position in unread, placeholder number)
     warning_at: int  # index of the bare-number warning, -1 without one
     bare: tuple[object, ...]  # the warning's tokens: a placeholder number (int) or a token
@@ -87,13 +86,26 @@ class ValueParser:
 
     def __init__(self) -> None:
         self._shapes: dict[tuple[str, tuple[str, ...]], _Shape | None] = {}
-        self._inert: dict[tuple[str, str], str | None] = {}
+        self._inert: dict[str, dict[str, str | None]] = {}  # per context, per token
         self._holders: dict[tuple[str, str, int], str | None] = {}
 
     def parse(self, text: str, context: str = "any") -> CapSpec:
         """The spec ``parse_value(text, context=context)`` gives."""
         if context not in _SHAPED_CONTEXTS or not isinstance(text, str):
             return parse_value(text, context=context)
+        spec, warnings, unread = self.read(text, context)
+        if warnings is spec.warnings and unread is spec.unread and spec.text == text:
+            return spec
+        return CapSpec(text, *(getattr(spec, k) for k in _SPEC_MIDDLE), warnings, unread)
+
+    def read(self, text: str, context: str = "any"
+             ) -> tuple[CapSpec, tuple[str, ...], tuple[str, ...]]:
+        """(a spec with the text's readings, the text's warnings, its unread tokens): what
+        ``parse`` gives without building a spec per text. The spec may be shared by every text
+        of one shape; its own text, warnings and unread tokens are then not this text's."""
+        if context not in _SHAPED_CONTEXTS or not isinstance(text, str):
+            spec = parse_value(text, context=context)
+            return spec, spec.warnings, spec.unread
         try:
             st, s = prepare(text, context)
             toks = tokens(s)
@@ -106,10 +118,12 @@ class ValueParser:
                     shape = self._shapes[key] = _parse_shape(context, shape_toks, holders)
             if shape is None:
                 scan(st, toks)
-                return build(text, st)
-            return _filled(shape, text, st.warnings, mine)
+                spec = build(text, st)
+            else:
+                return shape.spec, *_own(shape, st.warnings, mine)
         except Exception as exc:  # a parser bug must not stop an import; the tests hunt for these
-            return internal_error(text, exc)
+            spec = internal_error(text, exc)
+        return spec, spec.warnings, spec.unread
 
     def _masked(self, context: str, toks: list[str]
                 ) -> tuple[list[str], list[str], list[str]]:
@@ -117,19 +131,18 @@ class ValueParser:
         out = toks
         mine: list[str] = []
         holders: list[str] = []
-        n = len(toks)
+        inert = self._inert.get(context)
+        if inert is None:
+            inert = self._inert[context] = {}
+        last = len(toks) - 1
         for j, tok in enumerate(toks):
-            key = (context, tok)
-            kind = self._inert.get(key, False)
+            kind = inert.get(tok, False)
             if kind is False:
-                kind = self._inert[key] = _inert(context, tok)
-            if kind is None:
-                continue
+                kind = inert[tok] = _inert(context, tok)
             # Neighbours that would join it: a unit or range word after a number, a number
             # joined through a range word or "x" before it.
-            if j + 1 < n and kind != _WORD and toks[j + 1].lower() in _JOINING:
-                continue
-            if j > 0 and toks[j - 1].lower() in _JOINING:
+            if kind is None or (j < last and kind != _WORD and toks[j + 1].lower() in _JOINING) \
+                    or (j and toks[j - 1].lower() in _JOINING):
                 continue
             holder = self._holder(context, kind, len(mine))
             if holder is None:
@@ -169,8 +182,7 @@ def _parse_shape(context: str, shape_toks: list[str], holders: list[str]) -> _Sh
         warning_at = len(spec.warnings) - 1 - spec.warnings[::-1].index(expected)
     if any(h in w for h in holders for i, w in enumerate(spec.warnings) if i != warning_at):
         return None
-    return _Shape(spec, tuple(getattr(spec, k) for k in _SPEC_MIDDLE), unread_at, warning_at,
-                  bare)
+    return _Shape(spec, unread_at, warning_at, bare)
 
 
 def _letters(k: int) -> str:
@@ -186,9 +198,10 @@ def _bare_warning(toks: list) -> str:
     return _BARE_NUMBER_WARNING + ", ".join(repr(t) for t in toks) + ")"
 
 
-def _filled(shape: _Shape, text: str, before: list[str], mine: list[str]) -> CapSpec:
-    """The shape's spec for one text: its text, the warnings said before the scan, its own
-    tokens in place of the placeholders."""
+def _own(shape: _Shape, before: list[str], mine: list[str]
+         ) -> tuple[tuple[str, ...], tuple[str, ...]]:
+    """(warnings, unread tokens) of one text of a shape: the warnings said before the scan, its
+    own tokens in place of the placeholders."""
     spec = shape.spec
     unread = spec.unread
     if shape.unread_at:
@@ -204,4 +217,4 @@ def _filled(shape: _Shape, text: str, before: list[str], mine: list[str]) -> Cap
         warnings = tuple(lst)
     if before:
         warnings = (*before, *warnings)
-    return CapSpec(text, *shape.middle, warnings, unread)
+    return warnings, unread
