@@ -59,6 +59,7 @@ _OTHER_WORDS: dict[str, str] = {
     }.items() for w in words
 }
 _WORD_RUNS = re.compile(r"\w+").findall
+_OTHER_WORD_SET = frozenset(_OTHER_WORDS)
 # _OTHER_VALUE needs one of these characters (k, M, ohm signs, H of henry or hertz).
 _OTHER_VALUE_CHARS = frozenset("kKMΩΩoOhH")
 _OTHER_VALUE = re.compile(
@@ -112,6 +113,8 @@ def other_part_evidence(value: str, description: str) -> tuple[str, str] | None:
 
 def _other_word(text: str) -> tuple[str, str] | None:
     """The first word of another kind of part in a text (``RES``, ``XTAL``), as (family, word)."""
+    if text.isascii() and _OTHER_WORD_SET.isdisjoint(_WORD_RUNS(text.upper())):
+        return None  # the common case, one look at the whole text
     for word in _WORD_RUNS(text):
         family = _OTHER_WORDS.get(word.upper())
         if family is not None:
@@ -205,12 +208,15 @@ class CellParser:
         """(text to parse, not-fitted mark): spaces collapsed, marks removed, decimal commas."""
         got = self._cleaned.get(text)
         if got is None:
-            t = " ".join(text.split())
-            mark = not_fitted_mark(t)
-            if mark:
-                t = strip_not_fitted(t)
-            got = self._cleaned[text] = (decimal_commas(t, semicolon=self.semicolon), mark)
+            got = self._cleaned[text] = self._clean_collapsed(" ".join(text.split()))
         return got
+
+    def _clean_collapsed(self, t: str) -> tuple[str, str | None]:
+        """``clean`` of a text whose spaces are collapsed."""
+        mark = not_fitted_mark(t)
+        if mark:
+            t = strip_not_fitted(t)
+        return decimal_commas(t, semicolon=self.semicolon), mark
 
     def spec(self, source: str, text: str) -> CapSpec | None:
         """The parse of one cleaned cell of ``source`` (cached); None for an empty cell."""
@@ -248,9 +254,9 @@ class CellParser:
         key = (source, text)
         got = self._cells.get(key)
         if got is None:
-            cleaned, mark = self.clean(text)
-            got = self._cells[key] = (cleaned, mark, self.reading(source, cleaned),
-                                      " ".join(text.split()))
+            collapsed = " ".join(text.split())
+            cleaned, mark = self._clean_collapsed(collapsed)
+            got = self._cells[key] = (cleaned, mark, self.reading(source, cleaned), collapsed)
         return got
 
     def combo(self, cells: dict[str, str]) -> Combo:

@@ -73,6 +73,8 @@ class SpecMerge:
         self._group_cache: dict[int, list[tuple[Any, ...] | None]] = {}
         self._core: dict[int, tuple[Any, ...]] = {}
         self._merged: dict[tuple, tuple[dict[str, Any], tuple[tuple[str, str], ...]]] = {}
+        # The same by the specs themselves (by id; the specs live in the parser's cache).
+        self._merged_ids: dict[tuple, tuple[dict[str, Any], tuple[tuple[str, str], ...]]] = {}
         # Per spec and source: stated temperatures and conflict warnings.
         self._stated: dict[tuple[int, str], tuple[float | None, float | None]] = {}
         self._implied: dict[str, tuple[float | None, float | None] | None] = {}
@@ -94,11 +96,15 @@ class SpecMerge:
         present = {s: sp for s, sp in specs.items() if sp is not None}
         if own is None:
             own = {s: (sp.warnings, sp.unread) for s, sp in present.items()}
-        key = tuple((s, self._readings(sp)) for s, sp in present.items())
-        got = self._merged.get(key)
+        ids = tuple((s, id(sp)) for s, sp in present.items())
+        got = self._merged_ids.get(ids)
         if got is None:
-            fields, found = self._merge_fields(present)
-            got = self._merged[key] = (fields, tuple(found))
+            key = tuple((s, self._readings(sp)) for s, sp in present.items())
+            got = self._merged.get(key)
+            if got is None:
+                fields, found = self._merge_fields(present)
+                got = self._merged[key] = (fields, tuple(found))
+            self._merged_ids[ids] = got
         ordered = [own[src] for src in SPEC_SOURCES if src in present]
         conflicts = list(got[1])
         for src in SPEC_SOURCES:
