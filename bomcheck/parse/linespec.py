@@ -16,7 +16,7 @@ from dataclasses import dataclass
 from typing import Any
 
 from bomcheck.parse.merge import _CONTEXT, SPEC_COLUMNS, SPEC_SOURCES, SpecMerge
-from bomcheck.parse.values import parse_value
+from bomcheck.parse.valuecache import ValueParser
 from bomcheck.spec import CapSpec
 
 # Not-fitted marks inside cell text. Upper-case NF/NC only, and NF not right after a number, so
@@ -59,6 +59,7 @@ _OTHER_WORDS: dict[str, str] = {
     }.items() for w in words
 }
 _WORD_RUNS = re.compile(r"\w+").findall
+_OTHER_WORD_SET = frozenset(_OTHER_WORDS)
 # _OTHER_VALUE needs one of these characters (k, M, ohm signs, H of henry or hertz).
 _OTHER_VALUE_CHARS = frozenset("kKMΩΩoOhH")
 _OTHER_VALUE = re.compile(
@@ -112,6 +113,8 @@ def other_part_evidence(value: str, description: str) -> tuple[str, str] | None:
 
 def _other_word(text: str) -> tuple[str, str] | None:
     """The first word of another kind of part in a text (``RES``, ``XTAL``), as (family, word)."""
+    if text.isascii() and _OTHER_WORD_SET.isdisjoint(_WORD_RUNS(text.upper())):
+        return None  # the common case, one look at the whole text
     for word in _WORD_RUNS(text):
         family = _OTHER_WORDS.get(word.upper())
         if family is not None:
@@ -171,11 +174,13 @@ def _in_celsius(text: str) -> str:
 _BARE_NUMBER = re.compile(r"[-+]?(?:\d+(?:\.\d*)?|\.\d+)").fullmatch
 
 
-_NO_CELL: tuple[str, str | None, CapSpec | None, str] = ("", None, None, "")
+# What a cell says: a spec with its readings, the cell's own warnings and unread tokens.
+Reading = tuple[CapSpec, tuple[str, ...], tuple[str, ...]]
+_NO_CELL: tuple[str, str | None, Reading | None, str] = ("", None, None, "")
 
 
 class CellParser:
-    """Parse cells through ``parse_value`` with a cache per (context, text).
+    """Parse cells as ``parse_value`` does (``ValueParser``), with a cache per (context, text).
 
     ``units`` maps a source (``"value"``, ``"voltage"``...) to the unit its header states; a
     bare number in that column is read with it.
@@ -184,63 +189,87 @@ class CellParser:
     def __init__(self, semicolon: bool, units: Mapping[str, str] | None = None) -> None:
         self.semicolon = semicolon
         self.units = dict(units or {})
-        self._cache: dict[tuple[str, str], CapSpec | None] = {}
+        # Per (source, cell): (spec with the readings, the cell's warnings, its unread tokens);
+        # the spec may be shared by cells that read alike (``ValueParser.read``).
+        self._cache: dict[tuple[str, str], Reading | None] = {}
+        self._values = ValueParser()
         self._cleaned: dict[str, tuple[str, str | None]] = {}
-        # Per (source, cell): (cleaned text, not-fitted mark, spec, text with spaces collapsed).
-        self._cells: dict[tuple[str, str], tuple[str, str | None, CapSpec | None, str]] = {}
+        # Per (source, cell): (cleaned text, not-fitted mark, reading, text with spaces collapsed).
+        self._cells: dict[tuple[str, str], tuple[str, str | None, Reading | None, str]] = {}
         # Per cleaned text: capacitor words or units; a word or value form of another part.
         self._strong: dict[str, bool] = {}
         self._other: dict[str, tuple[str, str] | None] = {}
         self._form: dict[str, tuple[str, str] | None] = {}
         # Per spec (by id; specs live in _cache): a line with that one cell of text.
-        self._single: dict[int, tuple[dict[str, Any], tuple[tuple[str, str], ...]]] = {}
+        self._single: dict[int, dict[str, Any]] = {}
         self.merger = SpecMerge(self.spec)
 
     def clean(self, text: str) -> tuple[str, str | None]:
         """(text to parse, not-fitted mark): spaces collapsed, marks removed, decimal commas."""
         got = self._cleaned.get(text)
         if got is None:
-            t = " ".join(text.split())
-            mark = not_fitted_mark(t)
-            if mark:
-                t = strip_not_fitted(t)
-            got = self._cleaned[text] = (decimal_commas(t, semicolon=self.semicolon), mark)
+            got = self._cleaned[text] = self._clean_collapsed(" ".join(text.split()))
         return got
+
+    def _clean_collapsed(self, t: str) -> tuple[str, str | None]:
+        """``clean`` of a text whose spaces are collapsed."""
+        mark = not_fitted_mark(t)
+        if mark:
+            t = strip_not_fitted(t)
+        return decimal_commas(t, semicolon=self.semicolon), mark
 
     def spec(self, source: str, text: str) -> CapSpec | None:
         """The parse of one cleaned cell of ``source`` (cached); None for an empty cell."""
+        got = self.reading(source, text)
+        if got is None:
+            return None
+        sp, warnings, unread = got
+        if warnings is sp.warnings and unread is sp.unread:
+            return sp
+        return self._values.parse(self._as_parsed(source, text), _CONTEXT.get(source, source))
+
+    def reading(self, source: str, text: str) -> Reading | None:
+        """(spec with the readings, warnings, unread tokens) of one cleaned cell of ``source``
+        (cached; see ``ValueParser.read``); None for an empty cell."""
+        text = self._as_parsed(source, text)
+        key = (source, text)
+        if key not in self._cache:
+            self._cache[key] = self._values.read(text, _CONTEXT.get(source, source)) \
+                if text else None
+        return self._cache[key]
+
+    def _as_parsed(self, source: str, text: str) -> str:
+        """A cleaned cell as it is parsed: a bare number with its header's unit, a
+        temperature in degC."""
         unit = self.units.get(source)
         if unit is not None and _BARE_NUMBER(text):
             text = f"{text} {unit}"
         if source == "temperature":
             text = _in_celsius(text)
-        key = (source, text)
-        if key not in self._cache:
-            self._cache[key] = parse_value(text, context=_CONTEXT.get(source, source)) \
-                if text else None
-        return self._cache[key]
+        return text
 
-    def cell(self, source: str, text: str) -> tuple[str, str | None, CapSpec | None, str]:
-        """(cleaned text, not-fitted mark, spec, text with spaces collapsed) of one cell, each
-        distinct cell of a source once."""
+    def cell(self, source: str, text: str) -> tuple[str, str | None, Reading | None, str]:
+        """(cleaned text, not-fitted mark, reading, text with spaces collapsed) of one cell,
+        each distinct cell of a source once."""
         key = (source, text)
         got = self._cells.get(key)
         if got is None:
-            cleaned, mark = self.clean(text)
-            got = self._cells[key] = (cleaned, mark, self.spec(source, cleaned),
-                                      " ".join(text.split()))
+            collapsed = " ".join(text.split())
+            cleaned, mark = self._clean_collapsed(collapsed)
+            got = self._cells[key] = (cleaned, mark, self.reading(source, cleaned), collapsed)
         return got
 
     def combo(self, cells: dict[str, str]) -> Combo:
         """What one distinct combination of a line's value-bearing cells says."""
         info = {src: self.cell(src, t) for src, t in cells.items()}
         marks = {src: c[1] for src, c in info.items() if c[1]}
-        specs = {src: c[2] for src, c in info.items()}
-        filled = [src for src, sp in specs.items() if sp is not None]
+        specs = {src: c[2][0] if c[2] is not None else None for src, c in info.items()}
+        filled = [src for src, c in info.items() if c[2] is not None]
         if len(filled) == 1 and filled[0] in ("value", "description"):
-            spec, conflicts = self._one_source(filled[0], specs[filled[0]])  # type: ignore[arg-type]
+            spec, conflicts = self._one_source(filled[0], info[filled[0]][2])  # type: ignore[arg-type]
         else:
-            spec, conflicts = self.merger.merge(specs)
+            spec, conflicts = self.merger.merge(
+                specs, {src: (c[2][1], c[2][2]) for src, c in info.items() if c[2] is not None})
         v, d = info.get("value", _NO_CELL), info.get("description", _NO_CELL)
         cap = any(s is not None and s.is_capacitor
                   for s in (specs.get("value"), specs.get("description"), specs.get("dielectric"),
@@ -278,11 +307,14 @@ class CellParser:
             self._form[value] = _other_value_form(value)
         return self._form[value]
 
-    def _one_source(self, src: str, sp: CapSpec) -> tuple[dict[str, Any], list[tuple[str, str]]]:
-        """A line with one cell of text: its spec as it is (what the merge would give), cached."""
+    def _one_source(self, src: str, reading: Reading
+                    ) -> tuple[dict[str, Any], list[tuple[str, str]]]:
+        """A line with one cell of text: its spec as it is (what the merge would give); the
+        fields cached per spec."""
+        sp, warnings, unread = reading
         got = self._single.get(id(sp))
         if got is None:
-            out = {k: getattr(sp, k) for k in SPEC_COLUMNS}
-            got = self._single[id(sp)] = (out, tuple(self.merger.text_conflicts(src, sp)))
-        return dict(got[0]), list(got[1])
+            got = self._single[id(sp)] = {k: getattr(sp, k) for k in SPEC_COLUMNS}
+        return ({**got, "warnings": warnings, "unread": unread},
+                list(self.merger.text_conflicts(src, warnings)))
 

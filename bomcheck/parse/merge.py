@@ -73,9 +73,10 @@ class SpecMerge:
         self._group_cache: dict[int, list[tuple[Any, ...] | None]] = {}
         self._core: dict[int, tuple[Any, ...]] = {}
         self._merged: dict[tuple, tuple[dict[str, Any], tuple[tuple[str, str], ...]]] = {}
+        # The same by the specs themselves (by id; the specs live in the parser's cache).
+        self._merged_ids: dict[tuple, tuple[dict[str, Any], tuple[tuple[str, str], ...]]] = {}
         # Per spec and source: stated temperatures and conflict warnings.
         self._stated: dict[tuple[int, str], tuple[float | None, float | None]] = {}
-        self._conflicts: dict[tuple[int, str], list[tuple[str, str]]] = {}
         self._implied: dict[str, tuple[float | None, float | None] | None] = {}
 
     def derived_temps(self, spec: CapSpec) -> tuple[float | None, float | None] | None:
@@ -85,26 +86,34 @@ class SpecMerge:
         d = self.spec("dielectric", spec.dielectric)
         return (d.temp_min_c, d.temp_max_c) if d is not None else None
 
-    def merge(self, specs: dict[str, CapSpec | None]
+    def merge(self, specs: dict[str, CapSpec | None],
+              own: dict[str, tuple[tuple[str, ...], tuple[str, ...]]] | None = None
               ) -> tuple[dict[str, Any], list[tuple[str, str]]]:
         """Merge the sources' specs field group by field group: numbers conservatively, other
         fields by source order (a dedicated column, the value, the description); disagreements
-        become conflict findings; each cell's own warnings and unread tokens are kept."""
+        become conflict findings; each cell's own warnings and unread tokens are kept (``own``
+        per source where they are not the spec's: a spec shared by cells that read alike)."""
         present = {s: sp for s, sp in specs.items() if sp is not None}
-        key = tuple((s, self._readings(sp)) for s, sp in present.items())
-        got = self._merged.get(key)
+        if own is None:
+            own = {s: (sp.warnings, sp.unread) for s, sp in present.items()}
+        ids = tuple((s, id(sp)) for s, sp in present.items())
+        got = self._merged_ids.get(ids)
         if got is None:
-            fields, found = self._merge_fields(present)
-            got = self._merged[key] = (fields, tuple(found))
-        ordered = [(src, present[src]) for src in SPEC_SOURCES if src in present]
+            key = tuple((s, self._readings(sp)) for s, sp in present.items())
+            got = self._merged.get(key)
+            if got is None:
+                fields, found = self._merge_fields(present)
+                got = self._merged[key] = (fields, tuple(found))
+            self._merged_ids[ids] = got
+        ordered = [own[src] for src in SPEC_SOURCES if src in present]
         conflicts = list(got[1])
-        for src, sp in ordered:
-            if sp.warnings:
-                conflicts.extend(self.text_conflicts(src, sp))
+        for src in SPEC_SOURCES:
+            if src in present and own[src][0]:
+                conflicts.extend(self.text_conflicts(src, own[src][0]))
         # Each cell's warnings and unread tokens, first-seen order, each once.
         out = {**got[0],
-               "warnings": tuple(dict.fromkeys(w for _, sp in ordered for w in sp.warnings)),
-               "unread": tuple(dict.fromkeys(u for _, sp in ordered for u in sp.unread))}
+               "warnings": tuple(dict.fromkeys(w for ws, _ in ordered for w in ws)),
+               "unread": tuple(dict.fromkeys(u for _, us in ordered for u in us))}
         return out, conflicts
 
     def _readings(self, sp: CapSpec) -> tuple[Any, ...]:
@@ -144,16 +153,11 @@ class SpecMerge:
         out["is_capacitor"] = any(sp.is_capacitor for sp in present.values())
         return out, conflicts
 
-    def text_conflicts(self, src: str, sp: CapSpec) -> list[tuple[str, str]]:
+    def text_conflicts(self, src: str, warnings: tuple[str, ...]) -> list[tuple[str, str]]:
         """The parser's conflict and unread warnings of one cell, as (code, message) findings:
-        ``text_conflict`` and ``value_unread`` (cached)."""
-        key = (id(sp), src)
-        got = self._conflicts.get(key)
-        if got is None:
-            got = self._conflicts[key] = [
-                (code, f"{_SOURCE_LABELS[src]}: {w[len(mark):]}")
-                for w in sp.warnings for mark, code in _MARKS if w.startswith(mark)]
-        return got
+        ``text_conflict`` and ``value_unread``."""
+        return [(code, f"{_SOURCE_LABELS[src]}: {w[len(mark):]}")
+                for w in warnings for mark, code in _MARKS if w.startswith(mark)]
 
     def _stated_temps(self, src: str, sp: CapSpec) -> tuple[float | None, float | None]:
         """The rated temperatures a cell states itself, not the ones its dielectric code implies

@@ -29,7 +29,8 @@ from bomcheck.parse.valuetext import normalise
 from bomcheck.parse.valuewords import case_phrase, word
 from bomcheck.spec import POLARIZED_TECHNOLOGIES, CapSpec
 
-__all__ = ["CONFLICT_MARK", "CONTEXTS", "UNREAD_MARK", "format_capacitance", "parse_value"]
+__all__ = ["CONFLICT_MARK", "CONTEXTS", "UNREAD_MARK", "build", "format_capacitance", "parse_value",
+           "prepare", "scan", "tokens"]
 
 CONTEXTS = frozenset(
     {"any", "value", "description", "voltage", "tolerance", "dielectric", "package", "temperature"}
@@ -66,9 +67,13 @@ def _again(st: State, parts: list[str] | None, i: int) -> None:
         _token(st, part, i)
 
 
-def _scan(st: State, s: str) -> None:
-    """Cut ``s`` into tokens, join the ones written apart, and read each (the hot loop)."""
-    toks = _TOKENS(s) if _HAS_SEPARATOR(s) else s.split()
+def tokens(s: str) -> list[str]:
+    """A normalised text cut at separators (what the scan reads)."""
+    return _TOKENS(s) if _HAS_SEPARATOR(s) else s.split()
+
+
+def scan(st: State, toks: list[str]) -> None:
+    """Join the tokens written apart and read each (the hot loop)."""
     n = len(toks)
     j = 0
     i = 0
@@ -108,8 +113,6 @@ def _scan(st: State, s: str) -> None:
             _again(st, numeric(st, tok, i), i)
         else:
             _token(st, tok, i)
-
-
 
 
 def _settle(st: State) -> None:
@@ -245,7 +248,7 @@ def _verdict(st: State) -> bool:
     return is_cap
 
 
-def _build(text: str, st: State) -> CapSpec:
+def build(text: str, st: State) -> CapSpec:
     """The second pass and the checks, then the spec."""
     _settle(st)
     unread_implausible(st)
@@ -353,26 +356,37 @@ def parse_value(text: str, *, context: str = "any") -> CapSpec:
     """
     if not isinstance(text, str):
         text = "" if text is None else str(text)
+    try:
+        st, s = prepare(text, context)
+        scan(st, tokens(s))
+        return build(text, st)
+    except Exception as exc:  # a parser bug must not stop an import; the tests hunt for these
+        return internal_error(text, exc)
+
+
+def internal_error(text: str, exc: Exception) -> CapSpec:
+    """The spec of a text the parser failed on (a bug): all of it unread, the error said."""
+    return CapSpec(text=text, unread=(text,),
+                   warnings=(f"internal parser error: {type(exc).__name__}: {exc}",))
+
+
+def prepare(text: str, context: str) -> tuple[State, str]:
+    """The scan state before the tokens are read, and the normalised text to cut into them."""
     st = State(context if context in CONTEXTS else "any")
     if context not in CONTEXTS:
         st.warnings.append(f"unknown context {context!r}; read as 'any'")
-    try:
-        s = normalise(text, st.warnings)
-        if st.context == "voltage":
-            key = s.strip().upper()
-            if key in codes.VOLTAGE_CODES:
-                st.set_volt(codes.VOLTAGE_CODES[key], "dc", key, 1)
-                if key in _PLAIN_VOLTAGE_CODES:
-                    st.warnings.append(f"{key!r} read as the two-character voltage code "
-                                       f"({codes.VOLTAGE_CODES[key]:g} V), not {key[0]} V")
-                s = ""
-        elif st.context == "value" and "e" in s.lower() and _SI_NUMBER(s.strip()):
-            s = _si_farads(s.strip(), st.warnings)
-        _scan(st, s)
-        return _build(text, st)
-    except Exception as exc:  # a parser bug must not stop an import; the tests hunt for these
-        return CapSpec(text=text, unread=(text,),
-                       warnings=(f"internal parser error: {type(exc).__name__}: {exc}",))
+    s = normalise(text, st.warnings)
+    if st.context == "voltage":
+        key = s.strip().upper()
+        if key in codes.VOLTAGE_CODES:
+            st.set_volt(codes.VOLTAGE_CODES[key], "dc", key, 1)
+            if key in _PLAIN_VOLTAGE_CODES:
+                st.warnings.append(f"{key!r} read as the two-character voltage code "
+                                   f"({codes.VOLTAGE_CODES[key]:g} V), not {key[0]} V")
+            s = ""
+    elif st.context == "value" and "e" in s.lower() and _SI_NUMBER(s.strip()):
+        s = _si_farads(s.strip(), st.warnings)
+    return st, s
 
 
 # A plain number in scientific notation with a negative exponent: how a spreadsheet writes a

@@ -1,0 +1,220 @@
+"""Parse stage: many value texts read at the cost of their distinct shapes.
+
+Descriptions that differ only in words the parser does not read (a lot number, a part number,
+a note: ``CAP CER 0.1UF 16V X5R 0402 LOT 4711``) read alike. ``ValueParser`` cuts each text into
+tokens, stands a placeholder in for every token whose reading is only "not read" (whatever was
+read before it and whatever follows), parses each distinct shape once and puts the text's own
+tokens back into the spec's unread tokens and warnings. The result is the spec ``parse_value``
+gives for the same text, field for field.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, fields
+
+from bomcheck.parse import codes
+from bomcheck.parse.readings import UNREAD_MARK
+from bomcheck.parse.scanstate import State
+from bomcheck.parse.valuenumbers import RANGE_WORDS, UNIT_WORDS, numeric
+from bomcheck.parse.values import build, internal_error, parse_value, prepare, scan, tokens
+from bomcheck.parse.valuewords import word
+from bomcheck.spec import CapSpec
+
+__all__ = ["ValueParser"]
+
+# Contexts whose bare numbers and words are read alike wherever they stand.
+_SHAPED_CONTEXTS = frozenset({"any", "value", "description"})
+# Words that join the number before them or the number after them ("50 V", "5 to 10").
+_JOINING = UNIT_WORDS | RANGE_WORDS | {"x", "*"}
+# Kinds of tokens a placeholder may stand in for, with the placeholder's form: a bare number
+# (unread, and listed in the bare-number warning), a token that starts with a digit and is only
+# unread, a word that is only unread.
+_NUMBER, _DIGIT_WORD, _WORD = "number", "digit word", "word"
+_FORMS = {_NUMBER: "{n}", _DIGIT_WORD: "{n}qzx", _WORD: "Qzx{a}"}
+_BARE_NUMBER_WARNING = f"{UNREAD_MARK}a number without a unit was not read ("
+_EMPTY_STATE = vars(State("any"))
+_LISTS = tuple(k for k, v in _EMPTY_STATE.items() if isinstance(v, list))
+_SPEC_MIDDLE = tuple(f.name for f in fields(CapSpec))[1:-2]
+assert tuple(f.name for f in fields(CapSpec))[-2:] == ("warnings", "unread")
+
+
+def _inert(context: str, tok: str) -> str | None:
+    """The kind of ``tok`` when reading it alone does nothing but leave it unread (and, for a
+    bare number, count it as one), whatever was read before it; None otherwise (it is read,
+    warned about, split or joined). Decided by reading it into an empty scan state."""
+    if len(tok) < 2 or not tok.isascii() or tok.lower() in _JOINING:
+        return None
+    if tok.isdigit() and len(tok) != 3 and codes.chip_package(tok) is None:
+        return _NUMBER  # a lot or serial number: what valuenumbers._bare_number leaves unread
+    st = State(context)
+    first = tok[0]
+    try:
+        if first.isdigit():
+            parts = numeric(st, tok, 5)
+        elif first.isalpha():
+            parts = word(st, tok, 5)
+        else:
+            return None
+    except Exception:  # noqa: BLE001 - left to the plain parse, which reports it
+        return None
+    if parts is not None or len(st.unread) != 1 or st.unread[0] is not tok:
+        return None
+    changed = set(vars(st)) - set(_EMPTY_STATE)
+    others = [k for k in _LISTS if k != "unread" and getattr(st, k)]
+    if not changed and not others:
+        return _DIGIT_WORD if first.isdigit() else _WORD
+    if first.isdigit() and changed == {"bare_numbers"} and st.bare_numbers == 1 \
+            and others == ["bare_toks"] and st.bare_toks == [tok]:
+        return _NUMBER
+    return None
+
+
+@dataclass(frozen=True)
+class _Shape:
+    """One distinct shape parsed: the spec (no text), where its placeholders ended up in the
+    unread tokens, and the bare-number warning to write again (its index, its tokens)."""
+
+    spec: CapSpec
+    unread_at: tuple[tuple[int, int], ...]  # (position in unread, placeholder number)
+    warning_at: int  # index of the bare-number warning, -1 without one
+    bare: tuple[object, ...]  # the warning's tokens: a placeholder number (int) or a token
+
+
+class ValueParser:
+    """``parse_value`` for many texts, each distinct shape of tokens parsed once (see the
+    module docstring); one per import (it keeps what it has read)."""
+
+    def __init__(self) -> None:
+        self._shapes: dict[tuple[str, tuple[str, ...]], _Shape | None] = {}
+        self._inert: dict[str, dict[str, str | None]] = {}  # per context, per token
+        self._holders: dict[tuple[str, str, int], str | None] = {}
+
+    def parse(self, text: str, context: str = "any") -> CapSpec:
+        """The spec ``parse_value(text, context=context)`` gives."""
+        if context not in _SHAPED_CONTEXTS or not isinstance(text, str):
+            return parse_value(text, context=context)
+        spec, warnings, unread = self.read(text, context)
+        if warnings is spec.warnings and unread is spec.unread and spec.text == text:
+            return spec
+        return CapSpec(text, *(getattr(spec, k) for k in _SPEC_MIDDLE), warnings, unread)
+
+    def read(self, text: str, context: str = "any"
+             ) -> tuple[CapSpec, tuple[str, ...], tuple[str, ...]]:
+        """(a spec with the text's readings, the text's warnings, its unread tokens): what
+        ``parse`` gives without building a spec per text. The spec may be shared by every text
+        of one shape; its own text, warnings and unread tokens are then not this text's."""
+        if context not in _SHAPED_CONTEXTS or not isinstance(text, str):
+            spec = parse_value(text, context=context)
+            return spec, spec.warnings, spec.unread
+        try:
+            st, s = prepare(text, context)
+            toks = tokens(s)
+            shape_toks, mine, holders = self._masked(context, toks)
+            shape = None
+            if mine:
+                key = (context, tuple(shape_toks))
+                shape = self._shapes.get(key, False)
+                if shape is False:
+                    shape = self._shapes[key] = _parse_shape(context, shape_toks, holders)
+            if shape is None:
+                scan(st, toks)
+                spec = build(text, st)
+            else:
+                return shape.spec, *_own(shape, st.warnings, mine)
+        except Exception as exc:  # a parser bug must not stop an import; the tests hunt for these
+            spec = internal_error(text, exc)
+        return spec, spec.warnings, spec.unread
+
+    def _masked(self, context: str, toks: list[str]
+                ) -> tuple[list[str], list[str], list[str]]:
+        """(the tokens with placeholders, the tokens they stand for, the placeholders)."""
+        out = toks
+        mine: list[str] = []
+        holders: list[str] = []
+        inert = self._inert.get(context)
+        if inert is None:
+            inert = self._inert[context] = {}
+        last = len(toks) - 1
+        for j, tok in enumerate(toks):
+            kind = inert.get(tok, False)
+            if kind is False:
+                kind = inert[tok] = _inert(context, tok)
+            # Neighbours that would join it: a unit or range word after a number, a number
+            # joined through a range word or "x" before it.
+            if kind is None or (j < last and kind != _WORD and toks[j + 1].lower() in _JOINING) \
+                    or (j and toks[j - 1].lower() in _JOINING):
+                continue
+            holder = self._holder(context, kind, len(mine))
+            if holder is None:
+                continue
+            if out is toks:
+                out = list(toks)
+            out[j] = holder
+            mine.append(tok)
+            holders.append(holder)
+        return out, mine, holders
+
+    def _holder(self, context: str, kind: str, k: int) -> str | None:
+        """The placeholder of the ``k``-th stood-in token of a text when it is of ``kind``
+        (one string object each, told apart by identity); None when the form is not read as
+        that kind is."""
+        key = (context, kind, k)
+        got = self._holders.get(key, False)
+        if got is False:
+            text = _FORMS[kind].format(n=987654321000 + k, a=_letters(k))
+            got = self._holders[key] = text if _inert(context, text) == kind else None
+        return got
+
+
+def _parse_shape(context: str, shape_toks: list[str], holders: list[str]) -> _Shape | None:
+    """Parse one shape; None when a placeholder did not come out as one unread token."""
+    ids = {id(h): k for k, h in enumerate(holders)}
+    st = State(context)
+    scan(st, shape_toks)
+    bare = tuple(ids.get(id(t), t) for t in st.bare_toks)
+    expected = _bare_warning(st.bare_toks) if st.bare_numbers else None
+    spec = build("", st)
+    unread_at = tuple((pos, ids[id(u)]) for pos, u in enumerate(spec.unread) if id(u) in ids)
+    if sorted(k for _, k in unread_at) != list(range(len(holders))):
+        return None
+    warning_at = -1
+    if expected is not None and expected in spec.warnings:
+        warning_at = len(spec.warnings) - 1 - spec.warnings[::-1].index(expected)
+    if any(h in w for h in holders for i, w in enumerate(spec.warnings) if i != warning_at):
+        return None
+    return _Shape(spec, unread_at, warning_at, bare)
+
+
+def _letters(k: int) -> str:
+    out = ""
+    while True:
+        k, r = divmod(k, 26)
+        out += "abcdefghijklmnopqrstuvwxyz"[r]
+        if not k:
+            return out
+
+
+def _bare_warning(toks: list) -> str:
+    return _BARE_NUMBER_WARNING + ", ".join(repr(t) for t in toks) + ")"
+
+
+def _own(shape: _Shape, before: list[str], mine: list[str]
+         ) -> tuple[tuple[str, ...], tuple[str, ...]]:
+    """(warnings, unread tokens) of one text of a shape: the warnings said before the scan, its
+    own tokens in place of the placeholders."""
+    spec = shape.spec
+    unread = spec.unread
+    if shape.unread_at:
+        lst = list(unread)
+        for pos, k in shape.unread_at:
+            lst[pos] = mine[k]
+        unread = tuple(lst)
+    warnings = spec.warnings
+    if shape.warning_at >= 0:
+        lst = list(warnings)
+        lst[shape.warning_at] = _bare_warning(
+            [mine[t] if isinstance(t, int) else t for t in shape.bare])
+        warnings = tuple(lst)
+    if before:
+        warnings = (*before, *warnings)
+    return warnings, unread
