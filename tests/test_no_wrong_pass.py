@@ -6,6 +6,7 @@ Each board is a BOM and a design sheet written by the test; the expected verdict
 from __future__ import annotations
 
 import json
+import pathlib
 
 import pytest
 
@@ -211,3 +212,130 @@ def test_design_warnings_reach_every_report(tmp_path, monkeypatch):
             z.namelist() else "".join(z.read(n).decode("utf-8") for n in z.namelist()
                                       if n.startswith("xl/worksheets/"))
     assert key in strings
+
+
+# --- the design sheet read as numbers, the line merge and the circuit re-run (review) ----------
+
+_CER50 = "C1,1,CAP CER 0.1UF 50V 10% X7R 0603,KC-104-50\n"
+
+
+@pytest.mark.parametrize("cell", ["45", " 45 ", "45.", "+45", "-45", "045", "4.5e1", "45e0",
+                                  "45,0", "\uff14\uff15", "\u0664\u0665", "45000 mV"])
+def test_every_spelling_of_a_stressed_rail_fails(run, cell):
+    # 45 V on a 50 V ceramic is 90 % > 60 % (System Reliability Center derating sheet, ceramic):
+    # the bare-number fast path and the strict parser read each spelling alike (full-width and
+    # Arabic-Indic digits, a decimal comma, a negative rail on a non-polarized part as its
+    # magnitude), never as a smaller number.
+    code, report = run(_CER50, f'refdes,v_dc [V],t_ambient_c [degC],c_min_f\nC1,"{cell}",40,none\n')
+    got, status = verdicts(report, "C1")
+    assert got["IND-CER-V"]["status"] == "fail" and status == "fail" and code == 1
+
+
+@pytest.mark.parametrize("cell", ["1e400", "-1e400", "NaN", "inf", "0x10", "1_000", "1,500"])
+def test_an_unreadable_design_number_is_an_input_error(run, cell, capsys):
+    # common practice: a cell that is not one plain number is refused (exit 2), never read as 0
+    # or as a partial number that could pass.
+    pathlib.Path("bom.csv").write_text("Designator,Qty,Description,Manufacturer Part Number\n"
+                                       + _CER50, encoding="utf-8")
+    pathlib.Path("design.csv").write_text(
+        f'refdes,v_dc [V],t_ambient_c [degC],c_min_f\nC1,"{cell}",40,none\n', encoding="utf-8")
+    assert main(["audit", "bom.csv", "--design", "design.csv", "--no-config", "--quiet"]) == 2
+    err = capsys.readouterr().err
+    assert "design.csv, row 2, column 'v_dc [V]'" in err and "Traceback" not in err
+
+
+@pytest.mark.parametrize("header,cell", [("v_dc [mV]", "45000"), ("v_dc [kV]", "0.045"),
+                                         ("v_dc (V)", "45"), ("v_dc [V pk]", "45")])
+def test_a_bare_number_takes_the_header_unit(run, header, cell):
+    # common practice: a bare number is in the header's unit; 45 V on 50 V ceramic fails.
+    code, report = run(_CER50, f"refdes,{header},t_ambient_c [degC],c_min_f\nC1,{cell},40,none\n")
+    assert verdicts(report, "C1")[0]["IND-CER-V"]["status"] == "fail" and code == 1
+
+
+def test_a_designator_row_that_names_no_placement_leaves_it_without_data(run):
+    # "c01" is not C1 (leading zero): C1 has no conditions, so no data, not a pass.
+    code, report = run(_CER50, "refdes,v_dc [V],t_ambient_c [degC],c_min_f\nc01,5,40,none\n")
+    got, status = verdicts(report, "C1")
+    assert status == "nodata" and got["design.missing"]["status"] == "nodata" and code == 1
+
+
+def test_two_rows_for_one_designator_are_an_input_error(run, capsys):
+    # common practice: two rows giving conditions for C1 (any case) contradict; refused.
+    pathlib.Path("bom.csv").write_text("Designator,Qty,Description,Manufacturer Part Number\n"
+                                       + _CER50, encoding="utf-8")
+    pathlib.Path("design.csv").write_text("refdes,v_dc [V],t_ambient_c [degC],c_min_f\n"
+                                          "C1,5,40,none\nc1,45,40,none\n", encoding="utf-8")
+    assert main(["audit", "bom.csv", "--design", "design.csv", "--no-config", "--quiet"]) == 2
+    assert "row 3" in capsys.readouterr().err
+
+
+def test_a_group_and_its_member_row_each_rule_their_own_placements(run):
+    # The designator row wins over the rail for C1 (README, design sheet); C2 keeps the rail's
+    # 45 V on 50 V ceramic and fails.
+    code, report = run(_CER50 + "C2,1,CAP CER 0.1UF 50V 10% X7R 0603,KC-104-50\n",
+                       "refdes,kind,members,v_dc [V],t_ambient_c [degC],c_min_f\n"
+                       "RAIL,rail,C1 C2,45,40,none\nC1,,,5,40,none\n")
+    assert verdicts(report, "C2")[0]["IND-CER-V"]["status"] == "fail"
+    assert verdicts(report, "C1")[1] == "pass" and code == 1
+
+
+def test_same_text_lines_keep_their_own_voltage_column(tmp_path, monkeypatch, capsys):
+    # Two lines with one description but different Voltage cells are read line by line: 14 V on
+    # the 16 V part is 88 % > 60 % (System Reliability Center derating sheet, ceramic) and fails
+    # whichever line comes first; the 50 V part passes.
+    monkeypatch.chdir(tmp_path)
+    for order in ((0, 1), (1, 0)):
+        lines = ["C1,1,CAP CER 0.1UF X7R 0603,50V,KC-104\n",
+                 "C2,1,CAP CER 0.1UF X7R 0603,16V,KC-104\n"]
+        (tmp_path / "bom.csv").write_text("Designator,Qty,Description,Voltage,"
+                                          "Manufacturer Part Number\n"
+                                          + "".join(lines[i] for i in order), encoding="utf-8")
+        (tmp_path / "design.csv").write_text("refdes,v_dc [V],t_ambient_c [degC],c_min_f\n"
+                                             "C1,14,40,none\nC2,14,40,none\n", encoding="utf-8")
+        assert main(["audit", "bom.csv", "--design", "design.csv", "--no-config", "--quiet",
+                     "--json", "out.json"]) == 1
+        report = json.loads((tmp_path / "out.json").read_text(encoding="utf-8"))
+        assert verdicts(report, "C2")[0]["IND-CER-V"]["status"] == "fail"
+        assert verdicts(report, "C1")[1] == "pass"
+
+
+def test_a_voltage_column_below_the_description_wins(run, tmp_path):
+    # README, columns: where a column and the text disagree the lower rated voltage is used and
+    # the conflict is a finding. 14 V on 16 V ceramic fails.
+    (tmp_path / "bom.csv").write_text("Designator,Qty,Description,Voltage,Manufacturer Part "
+                                      "Number\nC1,1,CAP CER 0.1UF 50V X7R 0603,16V,KC-104\n",
+                                      encoding="utf-8")
+    (tmp_path / "design.csv").write_text("refdes,v_dc [V],t_ambient_c [degC],c_min_f\n"
+                                         "C1,14,40,none\n", encoding="utf-8")
+    assert main(["audit", "bom.csv", "--design", "design.csv", "--no-config", "--quiet",
+                 "--json", "out.json"]) == 1
+    got, _ = verdicts(json.loads((tmp_path / "out.json").read_text(encoding="utf-8")), "C1")
+    assert got["IND-CER-V"]["status"] == "fail"
+    assert got["bom.column_conflict"]["status"] == "warn"
+
+
+def test_parts_data_below_the_bom_text_is_restressed(run, tmp_path):
+    # Parts data giving 16 V for a part the BOM calls 50 V: the lower value is used (README,
+    # parts data), so the placement stresses are recomputed: 14 V on 16 V = 88 % > 60 % fails
+    # (System Reliability Center derating sheet, ceramic). The bank's ripple heating with ESR
+    # from the parts data also re-runs the stresses of its members.
+    (tmp_path / "parts.csv").write_text("mpn,rated_voltage,esr\nKC-104-50,16V,0.01\n",
+                                        encoding="utf-8")
+    code, report = run(_CER50 + "C2,1,CAP CER 0.1UF 50V 10% X7R 0603,KC-104-50\n",
+                       "refdes,kind,members,v_dc [V],t_ambient_c [degC],c_min_f,i_ripple_a [A],"
+                       "f_ripple_hz [Hz]\nBANK,bank,C1 C2,14,40,none,0.5,100000\n",
+                       "--parts", "parts.csv")
+    for refdes in ("C1", "C2"):
+        got, status = verdicts(report, refdes)
+        assert got["IND-CER-V"]["status"] == "fail" and status == "fail"
+    assert code == 1
+
+
+@pytest.mark.parametrize("fail_on,code", [(None, 1), ("nodata", 1), ("warn", 1), ("fail", 0)])
+def test_fail_on_gates_a_board_with_only_missing_data(run, fail_on, code):
+    # README exit statuses: nodata is at or above the default gate; --fail-on fail lets it out
+    # with 0 but the report still says nodata.
+    extra = () if fail_on is None else ("--fail-on", fail_on)
+    got, report = run(_CER50 + "C3,1,CAP CER 1UF 50V 10% X7R 0603,KC-105-50\n",
+                      "refdes,v_dc [V],t_ambient_c [degC],c_min_f\nC1,5,40,none\n", *extra)
+    assert got == code and report["status"] == "nodata"
