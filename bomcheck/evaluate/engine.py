@@ -207,7 +207,7 @@ def _frame(parts: list[tuple[RuleVerdicts, dict[str, np.ndarray]]], message: np.
         "message": _obj(message[order]),
         "source": _obj(sources[rule_no]),
         "basis": _obj(cat(lambda rv, p: p["basis"])[order]),
-    })
+    }, copy=False)  # no consolidation: stacking the columns into blocks would copy them all
 
 
 def _obj(values: np.ndarray) -> pd.Series:
