@@ -281,5 +281,4 @@ def without_unverdicted(table: pd.DataFrame, verdicts: pd.DataFrame,
         return table.copy(deep=False)
     # One concatenation, not a column at a time (a frame of many inserted columns fragments).
     rest = table.drop(columns=list(blanked))
-    return pd.concat([rest, pd.DataFrame(blanked, index=table.index, copy=False)],
-                     axis=1)[table.columns]
+    return pd.concat([rest, pd.DataFrame(blanked, index=table.index)], axis=1)[table.columns]
