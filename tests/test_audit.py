@@ -26,12 +26,15 @@ def _verdicts(report, refdes):
 
 
 def test_passing_messages_are_rendered_where_printed(sample):
-    # The report keeps passing verdicts without their message until an output prints them:
-    # the governing verdict of every placement, and any verdicts an output asks for.
+    # The report keeps rule verdicts without their message until an output prints them:
+    # the governing verdict of every placement, the findings, and any verdicts an output asks
+    # for.
     v = sample.verdicts
     passing = v[v.status == "pass"]
     assert len(passing) and passing.message.isna().all()
-    assert v[v.status != "pass"].message.notna().all()
+    problems = sample.verdicts_worst_first()
+    assert len(problems) and problems.message.notna().all()
+    assert sample.with_messages(v, passes=False)[v.status != "pass"].message.notna().all()
     gov = sample.governing()
     assert gov.message.notna().all() and len(gov) == len(sample.table)
     filled = sample.with_messages(passing)
@@ -70,7 +73,7 @@ def test_sample_violations_are_found(sample):
 
 def test_generic_dc_bias_finding_is_at_most_a_warning(sample):
     # 10 uF 6.3 V X5R at 5.2 V with only the generic DC-bias curve: a warning that says so.
-    v = sample.verdicts
+    v = sample.with_messages(sample.verdicts)
     row = v[(v.refdes == "C31") & (v.rule_id == "IND-CMARGIN")].iloc[0]
     assert row.status == "warn" and "generic typical data" in row.message
 
@@ -155,7 +158,7 @@ def test_series_stack_need_is_met_by_the_stack_not_each_member(sample):
 def test_high_voltage_node_without_discharge_path_is_no_data(sample):
     # IEC 60204-1 (secondary): above 60 V a discharge path must be shown; C6 sits on 400 V with
     # no bleeder stated, so the caution rule cannot be judged: no data, never silence.
-    v = sample.verdicts
+    v = sample.with_messages(sample.verdicts)
     row = v[(v.refdes == "C6") & (v.rule_id == "IND-SAFE-60204")].iloc[0]
     assert row.status == "nodata" and "discharge resistance" in row.message
     # The 3.3 V rail is below 60 V: the rule does not apply there.
@@ -172,7 +175,7 @@ def test_ripple_rating_at_another_frequency_is_not_a_firm_pass(tmp_path):
     design = write(tmp_path, "design.csv", "refdes,v_dc,t_ambient_c,c_min_f,i_ripple_a,f_ripple_hz\n"
                    "C1,24 V,40 degC,none,0.9 A,120 Hz\n")
     report = run_audit(bom, design, AuditOptions(parts=parts))
-    v = report.verdicts
+    v = report.with_messages(report.verdicts)
     row = v[v.rule_id == "IND-RIPPLE"].iloc[0]
     assert row.value == pytest.approx(0.9)
     assert "generic typical data" in row.message

@@ -30,7 +30,7 @@ def sample():
 
 
 def _verdict(report, refdes, rule_id):
-    v = report.verdicts
+    v = report.with_messages(report.verdicts)
     return v[(v.refdes == refdes) & (v.rule_id == rule_id)].iloc[0]
 
 

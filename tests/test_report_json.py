@@ -81,7 +81,7 @@ def test_every_verdict_rebuilds_from_its_defaults(sample, data):
     """A reader fills a left-out key from the rule's entry and the placement's metric, and gets
     the verdict table back exactly."""
     by_refdes = {p["refdes"]: p for p in data["placements"]}
-    v = sample.verdicts
+    v = sample.with_messages(sample.verdicts)
     rebuilt = 0
     for refdes, rule, status, value, limit, margin, message in zip(
             v["refdes"], v["rule_id"], v["status"], v["value"], v["limit"], v["margin"],

@@ -52,6 +52,7 @@ class Columns:
         self.table = table
         self.n = len(table)
         self._num: dict[str, np.ndarray] = {}
+        self._nan: np.ndarray | None = None
         self._factor: dict[str, tuple[np.ndarray, list]] = {}
         self._text: dict[str, np.ndarray] = {}
         self._formatted: dict[tuple[str, str, bool], Coded] = {}
@@ -59,8 +60,11 @@ class Columns:
     def num(self, name: str) -> np.ndarray:
         """The column as floats, NaN where missing or not a number."""
         if name not in self._num:
-            if name not in self.table.columns:
-                out = np.full(self.n, np.nan)
+            if name not in self.table.columns:  # one shared read-only column of NaN
+                if self._nan is None:
+                    self._nan = np.full(self.n, np.nan)
+                    self._nan.flags.writeable = False
+                out = self._nan
             else:
                 s = self.table[name]
                 if not (pd.api.types.is_numeric_dtype(s.dtype)

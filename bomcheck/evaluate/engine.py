@@ -153,8 +153,10 @@ def evaluate(table: pd.DataFrame, ruleset: RuleSet) -> pd.DataFrame:
 
 def evaluate_lazily(table: pd.DataFrame, ruleset: RuleSet, *,
                     passes: bool = False) -> tuple[pd.DataFrame, Messages]:
-    """``evaluate``, with a message only on the verdicts that are not a pass (``passes``: on
-    every verdict); the returned ``Messages`` renders any other verdict's message on demand."""
+    """``evaluate`` with no message on any verdict (``passes``: a message on every verdict);
+    the returned ``Messages`` renders a verdict's message on demand, so only the messages an
+    output prints are ever built, a chunk of placements at a time (at 10^6 placements the
+    messages of the verdicts that are not a pass alone took about a gigabyte)."""
     cols = Columns(_show_best_only(table.reset_index(drop=True)))
     ctx = Context(
         refdes=cols.text("refdes"),
@@ -171,9 +173,9 @@ def evaluate_lazily(table: pd.DataFrame, ruleset: RuleSet, *,
         return _empty(), messages
     sizes = [len(rv.idx) for rv, _ in parts]
     message = np.full(sum(sizes), None, dtype=object)
-    for (rv, _), start in zip(parts, np.cumsum([0, *sizes[:-1]]).tolist()):
-        sel = np.arange(len(rv.idx)) if passes else np.flatnonzero(rv.status != PASS)
-        message[start + sel] = messages.texts(rv, sel)
+    if passes:
+        for (rv, _), start in zip(parts, np.cumsum([0, *sizes[:-1]]).tolist()):
+            message[start:start + len(rv.idx)] = messages.texts(rv, np.arange(len(rv.idx)))
     return _frame(parts, message, ctx), messages
 
 
@@ -205,7 +207,7 @@ def _frame(parts: list[tuple[RuleVerdicts, dict[str, np.ndarray]]], message: np.
         "message": _obj(message[order]),
         "source": _obj(sources[rule_no]),
         "basis": _obj(cat(lambda rv, p: p["basis"])[order]),
-    })
+    }, copy=False)  # no consolidation: stacking the columns into blocks would copy them all
 
 
 def _obj(values: np.ndarray) -> pd.Series:

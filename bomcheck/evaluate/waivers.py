@@ -358,7 +358,8 @@ def apply_waivers(report, waivers: WaiverFile | Sequence[Waiver], today: dt.date
     totals by status recomputed, the findings in ``waiver_findings`` and the waiver file among
     the inputs (when a ``WaiverFile`` is given)."""
     entries = waivers.waivers if isinstance(waivers, WaiverFile) else tuple(waivers)
-    verdicts, findings = waive_verdicts(report.verdicts, report.table, entries, today)
+    verdicts, findings = waive_verdicts(report.with_messages(report.verdicts, passes=False),
+                                        report.table, entries, today)
     worst = verdicts["status"].map(RANK).groupby(verdicts["pidx"]).max()
     table = report.table.copy()
     status = worst.reindex(table.index).map(dict(enumerate(STATUS_ORDER)))

@@ -6,6 +6,7 @@ recompute anything.
 
 from __future__ import annotations
 
+import dataclasses
 import warnings
 from dataclasses import dataclass, field
 from datetime import date
@@ -278,7 +279,7 @@ def _report(imported, done: Evaluated, ruleset, not_fitted: pd.DataFrame, inputs
     totals = dict(imported.totals)
     totals.update({"audited": int(len(table)), "design_unmatched": len(design_unmatched)})
     totals.update({s: int(counts.get(s, 0)) for s in STATUS_ORDER})
-    return Report(
+    report = Report(
         tool_version=__version__,
         rulesets=ruleset_summary(ruleset),
         inputs=tuple(inputs),
@@ -290,7 +291,6 @@ def _report(imported, done: Evaluated, ruleset, not_fitted: pd.DataFrame, inputs
         design_unmatched=tuple(design_unmatched),
         totals=totals,
         rules=ruleset,
-        cautions=CAUTIONS + circuit.safety_cautions(verdicts, ruleset),
         groups=done.groups,
         environment=ruleset.environment,
         source_status=source_status,
@@ -299,3 +299,9 @@ def _report(imported, done: Evaluated, ruleset, not_fitted: pd.DataFrame, inputs
              *(part_data.warnings if part_data is not None else ())))),
         messages=done.messages,
     )
+    # The safety cautions quote a flagged verdict's message: those few are rendered.
+    safety = verdicts["rule_id"].isin(
+        [r.id for r in ruleset.rules if r.metric in circuit.SAFETY_METRICS]).to_numpy()
+    flagged = report.with_messages(verdicts[safety], passes=False)
+    return dataclasses.replace(
+        report, cautions=CAUTIONS + circuit.safety_cautions(flagged, ruleset))

@@ -24,7 +24,7 @@ def problems_by_placement(report) -> dict[int, list[tuple[str, str, str]]]:
     v = report.verdicts
     if not len(v):
         return {}
-    v = v[v["status"] != "pass"]
+    v = report.with_messages(v[v["status"] != "pass"])
     out: dict[int, list[tuple[str, str, str]]] = {}
     for pidx, status, rule, msg in zip(v["pidx"].to_numpy(), v["status"].to_numpy(),
                                         v["rule_id"].to_numpy(), v["message"].to_numpy()):

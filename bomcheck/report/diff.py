@@ -164,7 +164,7 @@ def _verdicts(report: dict, which: str) -> tuple[dict[tuple[str, str], dict], se
 def report_digest(report) -> dict:
     """What ``compare`` reads of a ``Report`` (tool, rule sets, status, and per placement its
     verdicts' rule, status and message), taken from its tables without writing the JSON report."""
-    v = report.verdicts
+    v = report.with_messages(report.verdicts, passes=False)
     by_placement: dict[int, list[dict]] = {}
     if len(v):
         messages = v["message"] if "message" in v.columns else [None] * len(v)

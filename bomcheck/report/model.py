@@ -87,8 +87,9 @@ status_at_least = at_least
 class Report:
     """Everything an audit found. ``table`` has one row per fitted placement (spec, conditions,
     metrics, status); ``verdicts`` one row per placement and rule (see engine.evaluate). A
-    passing verdict's message may be left out (None) until an output prints it:
-    ``with_messages`` renders it, and ``governing`` gives every placement's."""
+    rule verdict's message may be left out (None) until an output prints it:
+    ``with_messages`` renders it; ``governing``, ``verdicts_worst_first`` and the JSON form
+    give theirs rendered."""
 
     tool_version: str
     rulesets: tuple[dict, ...]
@@ -111,8 +112,8 @@ class Report:
     # Each approved source's status per placement (bomcheck.evaluate.sources.SOURCE_STATUS_COLUMNS), or
     # None when no line has an approved source beside its own.
     source_status: pd.DataFrame | None = None
-    # Renders the messages of the verdicts that carry none (passes: most verdicts, rarely
-    # printed); bomcheck.evaluate.engine.Messages, or None when every verdict has its message.
+    # Renders the messages of the verdicts that carry none (a lazy evaluation's rule verdicts);
+    # bomcheck.evaluate.engine.Messages, or None when every verdict has its message.
     messages: Any = field(default=None, compare=False, repr=False)
 
     @property
@@ -147,7 +148,7 @@ class Report:
         v = self.verdicts
         if not len(v):
             return v
-        v = v[v["status"] != "pass"]
+        v = self.with_messages(v[v["status"] != "pass"])
         place = pd.Series(np.arange(len(self.table)), index=self.worst_first().index,
                           dtype=float)
         key = v.assign(_rank=-v["status"].map(_RANK).fillna(0.5), _place=v["pidx"].map(place))
@@ -176,12 +177,15 @@ class Report:
         key = key.sort_values(["pidx", "_rank", "rel_margin"], na_position="last", kind="stable")
         return key.drop_duplicates("pidx").set_index("pidx").drop(columns=["_rank"])
 
-    def with_messages(self, verdicts: pd.DataFrame) -> pd.DataFrame:
+    def with_messages(self, verdicts: pd.DataFrame, *, passes: bool = True) -> pd.DataFrame:
         """``verdicts`` (rows of ``self.verdicts``) with the message of each one that has none
-        rendered: an output calls it for the passing verdicts it prints."""
+        rendered (``passes`` False: of each one that is not a pass): an output calls it for the
+        verdicts it prints."""
         if self.messages is None or "message" not in verdicts or not len(verdicts):
             return verdicts
         missing = verdicts["message"].isna().to_numpy()
+        if not passes:
+            missing = missing & (verdicts["status"] != "pass").to_numpy()
         if not missing.any():
             return verdicts
         message = verdicts["message"].to_numpy(dtype=object).copy()
@@ -252,8 +256,9 @@ class Report:
         front, back = self._json_parts()
         spec_codes, specs = _specs(self.table)
         front["specs"] = specs
-        return write_chunks(dumps(front), dumps(back), _placement_chunks(self.table, self.verdicts,
-                                                           spec_codes, front["rules"]))
+        chunks = _placement_chunks(self.table, self.verdicts, spec_codes, front["rules"],
+                                   lambda v: self.with_messages(v, passes=False))
+        return write_chunks(dumps(front), dumps(back), chunks)
 
     def to_dict(self) -> dict:
         """The JSON report as Python values (parsed from ``to_json``, so the two never differ)."""
@@ -332,8 +337,9 @@ _UNLESS = {"basis": "firm", "approved_source": 0}
 
 
 def _placement_chunks(table: pd.DataFrame, verdicts: pd.DataFrame, spec_codes: np.ndarray,
-                      rules: dict):
-    """Lists of placement record texts, ``jsonform.CHUNK`` placements at a time."""
+                      rules: dict, rendered):
+    """Lists of placement record texts, ``jsonform.CHUNK`` placements at a time; ``rendered``
+    gives a chunk's verdicts with the messages the JSON form prints."""
     pidx = (verdicts["pidx"].to_numpy(dtype=np.int64) if len(verdicts)
             else np.zeros(0, dtype=np.int64))
     if len(pidx) and (np.diff(pidx) < 0).any():
@@ -344,7 +350,8 @@ def _placement_chunks(table: pd.DataFrame, verdicts: pd.DataFrame, spec_codes: n
         stop = min(len(table), start + jsonform.CHUNK)
         a, b = np.searchsorted(pidx, [start, stop]).tolist()
         yield _placement_records(table.iloc[start:stop], spec_codes[start:stop],
-                                 verdicts.iloc[a:b], pidx[a:b] - start, rules, metric_keys)
+                                 rendered(verdicts.iloc[a:b]), pidx[a:b] - start, rules,
+                                 metric_keys)
 
 
 def _placement_records(part: pd.DataFrame, spec: np.ndarray, verdicts: pd.DataFrame,
