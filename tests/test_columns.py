@@ -2,7 +2,7 @@
 
 import pytest
 
-from bomcheck.parse import columns
+from bomcheck.parse import aliases, columns
 from bomcheck.parse.columns import (
     ColumnOverrides,
     header_predicate,
@@ -77,9 +77,9 @@ def test_unrelated_headers_match_nothing(header):
 
 def test_no_alias_names_two_fields():
     seen: dict[str, str] = {}
-    for field, aliases in columns.ALIASES.items():
-        assert field in columns.FIELDS
-        for alias in aliases:
+    for field, names in aliases.ALIASES.items():
+        assert field in aliases.FIELDS
+        for alias in names:
             folded = normalise_header(alias)
             assert seen.setdefault(folded, field) == field, alias
 

@@ -327,7 +327,7 @@ def test_non_utf8_output_file_name(tmp_path, capsys):
 
 
 def test_json_dumps_writes_non_finite_numbers_as_null():
-    from bomcheck.render.textsafe import json_dumps
+    from bomcheck.report.jsontext import json_dumps
 
     value = {"a": float("inf"), "b": [float("nan"), -float("inf"), 1.5], "c": ("x", 2)}
     text = json_dumps(value)

@@ -17,9 +17,7 @@ from dataclasses import dataclass, field
 
 from bomcheck.errors import InputError
 
-from bomcheck.parse.aliases import (
-    ALIASES, ALT_FIELDS, FIELD_LABELS, FIELDS, HEADER_UNITS, NEGATIVE_FITTED,  # noqa: F401
-)
+from bomcheck.parse.aliases import ALIASES, ALT_FIELDS, FIELDS, HEADER_UNITS, NEGATIVE_FITTED
 from bomcheck.read.reader import read_toml
 
 _UNIT_BRACKET = re.compile(r"[(\[]\s*([^()\[\]]{1,8}?)\s*[)\]]")

@@ -64,6 +64,7 @@ import numpy as np
 import pandas as pd
 
 from bomcheck.errors import InputError
+from bomcheck.parse import aliases
 from bomcheck.parse import columns as colmod
 from bomcheck.parse.accounting import ROW_CATEGORIES, accounting_identity
 from bomcheck.parse.approved import sources_of
@@ -174,7 +175,7 @@ def import_table(table: reader.RawTable, options: ImportOptions = ImportOptions(
     )
     header_findings = tuple(
         finding(int(table.header_row), None, "column_ambiguous",
-                f"two columns for the {colmod.FIELD_LABELS[fld]}: "
+                f"two columns for the {aliases.FIELD_LABELS[fld]}: "
                 f"{original_header(table, used)!r} is used, "
                 + ", ".join(repr(original_header(table, o)) for o in others)
                 + " not; check which one is current")

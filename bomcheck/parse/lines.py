@@ -10,6 +10,7 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
+from bomcheck.parse import aliases
 from bomcheck.parse import columns as colmod
 from bomcheck.parse.approved import Lines, side_by_side
 from bomcheck.parse.bomresult import (
@@ -92,7 +93,7 @@ def _competing_cells(table: reader.RawTable, mapping: dict[str, str], heads: np.
                     continue
                 out.append(finding(
                     int(head_rows[li]), None, "column_ambiguous",
-                    f"{colmod.FIELD_LABELS[fld]}: column {original_header(table, used)!r} says "
+                    f"{aliases.FIELD_LABELS[fld]}: column {original_header(table, used)!r} says "
                     f"{a[li]!r} but column {original_header(table, other)!r} says {b[li]!r}; "
                     f"using {original_header(table, used)!r}, check which column is current"))
     return out
@@ -166,8 +167,8 @@ def _join_lines(frame: pd.DataFrame, mapping: dict[str, str], all_arrays: list[n
     line_of_row = np.cumsum(~cont) - 1
     heads = np.flatnonzero(~cont)
     if not cont.any():
-        return cont, line_of_row, heads, {f: col.get(f, empty) for f in colmod.FIELDS}
-    line = {f: col.get(f, empty)[heads] for f in colmod.FIELDS}  # fancy indexing: fresh arrays
+        return cont, line_of_row, heads, {f: col.get(f, empty) for f in aliases.FIELDS}
+    line = {f: col.get(f, empty)[heads] for f in aliases.FIELDS}  # fancy indexing: fresh arrays
     ends = np.append(heads[1:], n)  # a line's rows are heads[li] .. ends[li] - 1
     for li in np.unique(line_of_row[cont]):
         for f, sep in (("refdes", ", "), ("description", " "), ("notes", " ")):

@@ -26,8 +26,6 @@ from __future__ import annotations
 
 import re
 
-from bomcheck.report.jsontext import json_dumps  # noqa: F401  (the writers' strict JSON)
-
 # XML 1.0 Char production: #x9 | #xA | #xD | [#x20-#xD7FF] | [#xE000-#xFFFD] | [#x10000-#x10FFFF];
 # its complement written out (the negated class over all of Unicode takes 15 ms to compile).
 _XML_FORBIDDEN = re.compile("[\x00-\x08\x0b\x0c\x0e-\x1f\ud800-\udfff\ufffe\uffff]")
