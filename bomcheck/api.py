@@ -20,7 +20,8 @@ import pandas as pd
 from bomcheck import __version__
 from bomcheck.errors import InputError
 from bomcheck.evaluate import rules as _rules
-from bomcheck.evaluate.rules import DEFAULT_RULESET, RuleSet
+from bomcheck.evaluate.rule_model import RuleSet
+from bomcheck.evaluate.rules import DEFAULT_RULESET
 from bomcheck.parse import design as _design
 from bomcheck.parse import importer as _importer
 from bomcheck.parse import parts as _parts

@@ -12,7 +12,8 @@ import pandas as pd
 import pytest
 
 from bomcheck.evaluate.engine import evaluate
-from bomcheck.evaluate.rules import Rule, RuleSet, load_rules, shipped_names
+from bomcheck.evaluate.rule_model import Rule, RuleSet
+from bomcheck.evaluate.rules import load_rules, shipped_names
 
 SETS: dict[str, RuleSet] = {name: load_rules([name]) for name in shipped_names()}
 

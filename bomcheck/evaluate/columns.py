@@ -9,7 +9,7 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
-from bomcheck.evaluate.rules import Applies
+from bomcheck.evaluate.rule_model import Applies
 from bomcheck.quantity import format_quantity
 
 

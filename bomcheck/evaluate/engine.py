@@ -17,7 +17,7 @@ from bomcheck.evaluate.checks import (CHECKS, FAIL, NODATA, PASS, WARN, CheckKin
 from bomcheck.evaluate.columns import Columns, applies_mask
 from bomcheck.evaluate.messages import (NOTE_ADVISORY, NOTE_BOUND_FAIL, NOTE_BOUND_PASS,
                                         NOTE_GENERIC, Context, Messages, RuleVerdicts)
-from bomcheck.evaluate.rules import STATUSES, Rule, RuleSet
+from bomcheck.evaluate.rule_model import STATUSES, Rule, RuleSet
 from bomcheck.stress.placement import BEST_ONLY
 from bomcheck.vocabulary import METRICS
 

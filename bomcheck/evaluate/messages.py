@@ -13,7 +13,7 @@ import pandas as pd
 
 from bomcheck.evaluate.checks import FAIL, NODATA, PASS, WARN, CheckKind
 from bomcheck.evaluate.columns import Coded, Columns, coded_constant, coded_values, round_sig
-from bomcheck.evaluate.rules import Rule, axis_quantity
+from bomcheck.evaluate.rule_model import Rule, axis_quantity
 from bomcheck.quantity import format_quantity, visible_pair
 from bomcheck.vocabulary import INPUT_LABELS, METRICS
 

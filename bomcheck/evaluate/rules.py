@@ -22,10 +22,8 @@ from typing import Any
 
 from bomcheck.errors import InputError, RuleError, RuleProblem
 from bomcheck.evaluate.rule_build import FileHead, RuleFile, build_file
-from bomcheck.evaluate.rule_model import (  # noqa: F401 (the rule set's values, re-exported)
-    BASIS_COLUMNS, DEFAULT_ENVIRONMENT, ENVIRONMENTS, RANGES, STATUSES, TABLE_COLUMNS, Aging,
-    Applies, Bound, DcBias, Example, Layer, Limit, Rule, RuleRow, RuleSet, Source,
-    TypicalRatings, axis_quantity,
+from bomcheck.evaluate.rule_model import (
+    DEFAULT_ENVIRONMENT, ENVIRONMENTS, Aging, DcBias, Layer, Rule, RuleSet, Source, TypicalRatings,
 )
 from bomcheck.evaluate.rule_schema import Problems, RuleSchema, json_path, suggest
 from bomcheck.read.reader import load_toml, read_bytes, toml_text
@@ -218,7 +216,6 @@ def _schema() -> RuleSchema:
 
 
 __all__ = [
-    "DEFAULT_RULESET", "STATUSES", "Aging", "Applies", "Bound", "DcBias", "Example", "Layer",
-    "Limit", "Rule", "RuleRow", "RuleSet", "Source",
-    "json_path", "load_rules", "shipped_names",
+    "DEFAULT_ENVIRONMENT", "DEFAULT_RULESET", "ENVIRONMENTS", "RuleSet", "json_path", "load_rules",
+    "shipped_names", "shipped_root",
 ]

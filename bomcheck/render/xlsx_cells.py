@@ -14,7 +14,7 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
-from bomcheck.evaluate.rules import axis_quantity
+from bomcheck.evaluate.rule_model import axis_quantity
 from bomcheck.quantity import format_quantity
 from bomcheck.render.textsafe import FORMULA_LEADS, spreadsheet_unsafe, xml_text
 from bomcheck.report.model import CONDITION_FIELDS, METRIC_FIELDS, SPEC_FIELDS
