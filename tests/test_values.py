@@ -607,3 +607,27 @@ def test_life_rating_is_said_not_dropped():
     s = parse_value("CAP ALU 10uF 16V 2000H 105C", context="description")
     assert (s.capacitance_f, s.voltage_v, s.temp_max_c) == (1e-5, 16.0, 105.0)
     assert any("2000H" in w and "rated life" in w for w in s.warnings)
+
+
+@pytest.mark.parametrize(("text", "tech"), [("10uF 16V TA", "tantalum"),
+                                            ("10uF 16V TANT", "tantalum"),
+                                            ("100nF X7R 50V TA", "ceramic")])
+def test_ta_abbreviation(text, tech):
+    # Ta, the element: tantalum only when nothing else names the technology (common practice).
+    assert parse_value(text).technology == tech
+
+
+def test_package_after_a_technology_phrase():
+    s = parse_value("CAP TANT POLY 100UF 6.3V 20% 2917")
+    assert (s.technology, s.capacitance_f, s.voltage_v, s.package) == (
+        "tantalum-polymer", pytest.approx(100e-6), 6.3, "2917")
+    assert s.unread == ()
+
+
+def test_safety_class_on_a_low_voltage_part_is_not_taken():
+    # No IEC 60384-14 class is rated below 100 V (value from memory; Y4 covers up to 150 V AC).
+    s = parse_value("CAP CER 47PF 50V C0G Y1")
+    assert s.safety_class is None and s.voltage_kind is None and s.warnings
+    assert parse_value("CAP CER 4.7NF 250VAC Y1").safety_class == "Y1"
+    # IEC 60384-14 covers film, paper and ceramic interference-suppression parts only.
+    assert parse_value("CAP ALU 100UF 400V Y2").safety_class is None
