@@ -29,7 +29,8 @@ _EXTRAS = ("lot {k:06d}", "LOT{k}", "KV-{k:06d}", "{k}", "X{k}Q", "{k}ab", "to {
 def _literals() -> list[str]:
     """Every string constant of the value parser's own tests (their cases and fragments)."""
     out = []
-    for name in ("test_values.py", "test_value_forms.py", "test_linespec.py"):
+    for name in ("test_values.py", "test_valuetext.py", "test_valuenumbers.py",
+                 "test_valuewords.py", "test_readings.py", "test_scanstate.py", "test_linespec.py"):
         tree = ast.parse((_TESTS / name).read_text(encoding="utf-8"))
         out += [n.value for n in ast.walk(tree)
                 if isinstance(n, ast.Constant) and isinstance(n.value, str) and len(n.value) < 200]

@@ -1,11 +1,18 @@
-"""BOM exports in the styles of schematic-capture, PCB, ERP and CM tools (issues 9 and 11):
-header units, competing columns, category columns, footprints, cables. Fixtures written here."""
+"""Normalise stage (bomcheck/parse/lines.py): the lines of a BOM table, each classified as
+capacitor placements, another part or an unreadable row; BOM exports in the styles of
+schematic-capture, PCB, ERP and CM tools (issues 9 and 11): header units, competing columns,
+footprints, cables. Fixtures written here."""
 
 from __future__ import annotations
 
 import pytest
 
+import math
+
+import numpy as np
+
 from bomcheck.parse.importer import read_bom
+from bomcheck.parse.lines import parse_qty, row_texts
 
 
 def _file(tmp_path, text, name="bom.csv"):
@@ -50,18 +57,6 @@ def test_two_columns_for_one_field_are_a_finding(tmp_path):
     assert all("'Voltage (V)'" in x.message and "'Voltage (Rev A)'" in x.message for x in f)
 
 
-def test_technology_only_in_a_category_column(tmp_path):
-    # Issue 9 class 8 / issue 11: catalogue categories name the technology.
-    text = ("Ref Des,Qty Per,Value,Category,Mfr Name,Mfr Part No\n"
-            "C1,1,470uF 35V,Aluminum Electrolytic Capacitors,Sarnex,SX-477\n"
-            "C2,1,100uF 6.3V,Tantalum Capacitors - Polymer,Sarnex,SX-107\n"
-            "C3,1,100nF 50V,Ceramic Capacitors,Kvellon,KV-104\n"
-            "R1,1,10k,Resistors,Varnholt,VR-10K\n")
-    r = read_bom(_file(tmp_path, text))
-    assert _col(r, "technology") == ["aluminium-electrolytic", "tantalum-polymer", "ceramic"]
-    assert r.totals["non_capacitor_rows"] == 1
-
-
 def test_library_style_values_in_a_bom(tmp_path):
     # Common practice of EDA symbol libraries; the footprint keeps giving package 0603.
     text = ("Reference,Value,Footprint\n"
@@ -71,15 +66,6 @@ def test_library_style_values_in_a_bom(tmp_path):
     assert _col(r, "capacitance_f") == pytest.approx([100e-9, 22e-6])
     assert _col(r, "voltage_v") == [50.0, 25.0] and _col(r, "package") == ["0603", "1206"]
     assert not r.findings
-
-
-def test_footprint_and_case_letter_of_the_same_case_do_not_conflict(tmp_path):
-    # IPC-7351 CAPT6032X280N is the 6032-28 case, tantalum case C in the common lettering.
-    text = ("Designator,Description,Footprint\n"
-            "C1,CAP TANT 47UF 16V 10% case C,CAPT6032X280N\n"
-            "C2,CAP TANT 47UF 16V 10% case D,CAPT6032X280N\n")
-    r = read_bom(_file(tmp_path, text))
-    assert [f.refdes for f in r.findings] == ["C2"]
 
 
 def test_cable_with_a_c_designator_is_not_a_capacitor(tmp_path):
@@ -92,14 +78,33 @@ def test_cable_with_a_c_designator_is_not_a_capacitor(tmp_path):
     assert sk["kind"].tolist() == ["not_capacitor"] and "cable" in sk["reason"].iloc[0]
 
 
-def test_safety_word_of_another_part_does_not_make_a_safety_capacitor(tmp_path):
-    r = read_bom(_file(tmp_path, "Designator,Description\nC5,CAP CER 47PF 50V C0G 0402 "
-                                 "(Y1 load)\n"))
-    assert _col(r, "safety_class") == [None] and _col(r, "voltage_kind") == [None]
+@pytest.mark.parametrize(
+    ("text", "qty"),
+    # Quantity cells as BOM exports write them (common practice): a bare count, with "pcs" or
+    # "Stk." (German Stück), a decimal comma.
+    [("4", 4.0), ("2 pcs", 2.0), ("1pc", 1.0), ("3 Stk.", 3.0), ("2,5", 2.5), (" 7 ", 7.0)],
+)
+def test_quantity_cells(text, qty):
+    assert parse_qty(text) == (qty, True)
 
 
-def test_bom_column_vs_text_keeps_the_lower_voltage(tmp_path):
-    # Issue 9 class 6: 50 V column vs 16V in the value.
-    r = read_bom(_file(tmp_path, "Designator,Value,Voltage\nC1,10uF 16V,50V\n"))
-    assert _col(r, "voltage_v") == [16.0]
-    assert [f.code for f in r.findings] == ["column_conflict"]
+def test_empty_quantity_is_readable_but_no_number_and_words_are_unreadable():
+    value, readable = parse_qty("")
+    assert math.isnan(value) and readable
+    value, readable = parse_qty("four")
+    assert math.isnan(value) and not readable
+
+
+def test_row_texts_join_the_filled_cells_of_each_row():
+    arrays = [np.array(["C1", "C2", ""], dtype=object), np.array(["100nF", "", ""], dtype=object),
+              np.array(["50V", "16V", "x"], dtype=object)]
+    assert row_texts(arrays, np.array([0, 1, 2])) == ["C1 | 100nF | 50V", "C2 | 16V", "x"]
+    assert row_texts(arrays, np.array([], dtype=int)) == []
+
+
+def test_a_resistor_line_is_another_part_and_a_capacitor_line_gives_placements(tmp_path):
+    # Totals: rows read = capacitor rows + non-capacitor rows + unreadable rows (the import's
+    # row accounting, see bomcheck/parse/accounting.py).
+    r = read_bom(_file(tmp_path, "Designator,Qty,Value\nC1 C2,2,100nF 50V X7R\nR1,1,10k\n"))
+    assert _col(r, "refdes") == ["C1", "C2"]
+    assert (r.totals["capacitor_rows"], r.totals["non_capacitor_rows"]) == (1, 1)
