@@ -1,5 +1,6 @@
-"""Shared helpers of the read-stage tests: the reader with the importer's header test, files
-written from text, the cells of a table, one-line errors and the fuzz settings."""
+"""Shared helpers of the read- and parse-stage tests: the reader with the importer's header test,
+files written from text, the cells of a table, a placement column, one-line errors and the fuzz
+settings."""
 
 
 import pytest
@@ -21,6 +22,16 @@ def read_table(path, **kwargs):
 def write_file(path, text, encoding="utf-8"):
     path.write_bytes(text.encode(encoding))
     return str(path)
+
+
+def bom_file(tmp_path, text, name="bom.csv"):
+    """A BOM file written from text (UTF-8) in ``tmp_path``; its path as a string."""
+    return write_file(tmp_path / name, text)
+
+
+def placement_column(result, name):
+    """One column of an import's placement table, as a list."""
+    return result.placements[name].tolist()
 
 
 def cells_of(table):

@@ -13,16 +13,7 @@ import numpy as np
 
 from bomcheck.parse.importer import read_bom
 from bomcheck.parse.lines import parse_qty, row_texts
-
-
-def _file(tmp_path, text, name="bom.csv"):
-    path = tmp_path / name
-    path.write_text(text, encoding="utf-8")
-    return str(path)
-
-
-def _col(r, name):
-    return r.placements[name].tolist()
+from read_helpers import bom_file as _file, placement_column as _col
 
 
 def test_unit_in_the_header_applies_to_bare_numbers(tmp_path):

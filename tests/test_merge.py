@@ -9,6 +9,7 @@ import pytest
 from bomcheck.parse.importer import read_bom
 from bomcheck.parse.merge import SpecMerge
 from bomcheck.parse.values import parse_value
+from read_helpers import bom_file as _file, placement_column as _col
 
 
 def _merged(**cells: str):
@@ -61,16 +62,6 @@ def test_dielectric_code_implies_its_temperature_range():
     spec = parse_value("100nF X7R")
     assert merger.derived_temps(spec) == (-55.0, 125.0)
     assert merger.derived_temps(parse_value("100nF")) is None
-
-
-def _file(tmp_path, text, name="bom.csv"):
-    path = tmp_path / name
-    path.write_text(text, encoding="utf-8")
-    return str(path)
-
-
-def _col(r, name):
-    return r.placements[name].tolist()
 
 
 def test_bom_column_vs_text_keeps_the_lower_voltage(tmp_path):
