@@ -513,31 +513,6 @@ def test_read_toml_file(tmp_path):
     assert out["condition_source"].tolist() == ["group", "row", "defaults"]
 
 
-@pytest.mark.parametrize("text, match, row, column", [
-    ('[parts.C1]\nv_dc = "5 A"\n', "wrong dimension", 1, "parts.C1.v_dc"),
-    ('\n[parts."C1, C2"]\nt_amb = "warm"\n', "not a quantity", 2, 'parts."C1, C2".t_amb'),
-    ('[parts.C1]\nv_dc = true\n', "not a value", 1, "parts.C1.v_dc"),
-    ('[part]\nrefdes = "C1"\n', "unknown table", 1, "part"),
-    ('[parts.C1]\nmembers = "C2"\n', "members belong in a group", 1, "parts.C1.members"),
-    ('[parts.C1]\nv_dc = 5\n[parts.C1-C3]\nv_dc = 6\n', "C1 is addressed by rows 1 and 3", 3,
-     "table name"),
-    ('[parts.C1\nv_dc = 5\n', "not valid TOML", 1, None),
-], ids=["dimension", "unreadable", "bool", "unknown-table", "members-in-part",
-        "twice", "syntax"])
-def test_toml_errors(text, match, row, column):
-    with pytest.raises(InputError, match=match) as info:
-        design_from_toml(text, path="d.toml")
-    assert (info.value.path, info.value.row, info.value.column) == ("d.toml", row, column)
-
-
-def test_toml_unknown_key_is_an_error():
-    # Issue 9 class 4 (changed: was a warning, and the key's value was lost).
-    with pytest.raises(InputError) as info:
-        design_from_toml('[parts.C1]\nv_dc = 5\ntemp_rize = "10 degC"\n', path="d.toml")
-    assert info.value.column == "parts.C1.temp_rize"
-    assert "t_rise_c" in info.value.hint  # the closest known name
-
-
 def test_missing_file(tmp_path):
     with pytest.raises(InputError, match="not found"):
         read_design(str(tmp_path / "none.csv"))

@@ -97,14 +97,6 @@ def test_negative_rail_keeps_its_sign():
         -12.0, -13.2, -40.0)
 
 
-def test_toml_cells_follow_the_same_rules():
-    with pytest.raises(InputError) as info:
-        design_from_toml('[parts.C1]\nv_dc = 5\nv_ripple_pk = "-1 V"\n', path="d.toml")
-    assert (info.value.row, info.value.column) == (1, "parts.C1.v_ripple_pk")
-    with pytest.raises(InputError, match="not a quantity"):
-        design_from_toml('[parts.C1]\nv_dc = "5 V * 0"\n', path="d.toml")
-
-
 # --- headers (issue 9 class 4) --------------------------------------------------------------
 
 @pytest.mark.parametrize("header, field", [
