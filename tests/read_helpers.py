@@ -34,6 +34,19 @@ def placement_column(result, name):
     return result.placements[name].tolist()
 
 
+def check_accounting(result):
+    """Every row of a flat BOM import is accounted for: rows read = capacitor + non-capacitor +
+    unreadable rows, and every placement is fitted or not."""
+    t = result.totals
+    assert t["rows_read"] == t["capacitor_rows"] + t["non_capacitor_rows"] + t["unreadable_rows"]
+    kinds = result.skipped["kind"].tolist()
+    assert kinds.count("not_capacitor") == t["non_capacitor_rows"]
+    assert kinds.count("unreadable") == t["unreadable_rows"]
+    assert t["placements"] == len(result.placements) == t["fitted"] + t["not_fitted"]
+    assert t["fitted"] == int(result.placements["fitted"].sum())
+    assert set(result.skipped["row"]).isdisjoint(result.placements["row"])
+
+
 def cells_of(table):
     return table.frame.values.tolist()
 
