@@ -10,7 +10,7 @@ import pandas as pd
 import pytest
 
 from bomcheck.parse.bomresult import (NODATA_CODES, PLACEMENT_COLUMNS, SOURCE_COLUMNS, BomSource,
-                                      ImportFinding, ImportOptions, ImportResult, finding)
+                                      ImportOptions, ImportResult, finding)
 from bomcheck.spec import SPEC_KEYS
 
 

@@ -15,7 +15,6 @@ from bomcheck.parse.design import (
     Design,
     Group,
     design_from_table,
-    design_from_toml,
     is_design_header,
     read_design,
 )

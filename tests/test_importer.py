@@ -238,13 +238,6 @@ def test_unreadable_rows_have_reasons(tmp_path):
     assert r.skipped["text"].tolist()[:2] == ["100nF", "Designator | Value"]
 
 
-def test_duplicate_designator_is_a_finding(tmp_path):
-    r = read_bom(_file(tmp_path, "Designator,Value\nC1,100nF\nC2,1uF\nC1,10nF\n"))
-    _check_accounting(r)
-    assert [(f.row, f.refdes, f.code) for f in r.findings] == [(4, "C1", "duplicate_refdes")]
-    assert "also listed on row 2" in r.findings[0].message
-
-
 # ---------------------------------------------------------------------------------------------
 # Not fitted
 
@@ -416,11 +409,6 @@ def test_rated_temperature_conflicts_keep_the_lower(tmp_path):
     assert "using the lower, 85 degC" in r.findings[0].message
 
 
-def test_conflicts_not_reported_on_not_fitted_placements(tmp_path):
-    r = read_bom(_file(tmp_path, "Designator,Value,Description\nC1,10uF,CAP 1uF DNP\n"))
-    assert r.placements["fitted"].tolist() == [False] and not r.findings
-
-
 # ---------------------------------------------------------------------------------------------
 # Options, result shape
 
@@ -563,17 +551,6 @@ def test_scientific_value_cell_is_read_as_farads(tmp_path):
     r = read_bom(_file(tmp_path, text))
     assert r.placements["capacitance_f"].tolist() == [pytest.approx(1e-5)]
     assert r.findings == ()
-
-
-def test_fitted_capacitor_without_capacitance_is_a_finding(tmp_path):
-    # Common practice: a capacitor line states its capacitance; when none is read the placement
-    # says so (a not-fitted one does not matter).
-    # A value cell with text that gives no capacitance ("TBD") is data not understood: nodata.
-    text = ("Designator,Value,Description,Fitted\nC1,,CAP CER 16V X7R,\nC2,,CAP CER 16V X7R,no\n"
-            "C3,TBD,CAP CER 16V X7R,\n")
-    r = read_bom(_file(tmp_path, text))
-    assert [(f.refdes, f.code, f.severity) for f in r.findings] == [
-        ("C1", "capacitance_missing", "warn"), ("C3", "capacitance_unread", "nodata")]
 
 
 def test_comment_and_part_description_columns_are_read_conservatively(tmp_path):

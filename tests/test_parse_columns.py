@@ -2,7 +2,7 @@
 
 import pytest
 
-from bomcheck.parse import aliases, columns
+from bomcheck.parse import columns
 from bomcheck.parse.columns import (
     ColumnOverrides,
     header_predicate,
@@ -73,15 +73,6 @@ def test_headers_match_their_field(header, field):
 @pytest.mark.parametrize("header", ["Supplier", "Unit price", "Lead time", "", "###"])
 def test_unrelated_headers_match_nothing(header):
     assert match_field(header) is None
-
-
-def test_no_alias_names_two_fields():
-    seen: dict[str, str] = {}
-    for field, names in aliases.ALIASES.items():
-        assert field in aliases.FIELDS
-        for alias in names:
-            folded = normalise_header(alias)
-            assert seen.setdefault(folded, field) == field, alias
 
 
 @pytest.mark.parametrize(

@@ -243,11 +243,3 @@ def test_missing_file_and_missing_mpn_column(tmp_path):
         parts_from_table(pd.DataFrame({"esr": ["0.1"]}))
 
 
-def test_each_distinct_cell_is_converted_once(monkeypatch):
-    import bomcheck.parse.parts_cells as cells_mod
-
-    calls = []
-    monkeypatch.setattr(cells_mod, "to_si", lambda text, q, u=None, *a: calls.append(text) or 1.0)
-    frame = pd.DataFrame({"mpn": [f"P{i}" for i in range(50)], "esr": ["45 mohm"] * 50})
-    parts_from_table(frame)
-    assert calls == ["45 mohm"]
