@@ -15,18 +15,20 @@ SAMPLE_PARTS = ROOT / "sample_boms" / "bw7-parts.csv"
 
 
 @functools.lru_cache(maxsize=None)
-def _sample_report(ruleset: str, environment: str = "severe"):
+def _sample_report(ruleset: str, environment: str = "severe", parts: bool = True):
     from bomcheck.pipeline.audit import AuditOptions, run_audit
 
     return run_audit(str(SAMPLE_BOM), str(SAMPLE_DESIGN),
-                     AuditOptions(rules=(ruleset,), parts=str(SAMPLE_PARTS),
+                     AuditOptions(rules=(ruleset,), parts=str(SAMPLE_PARTS) if parts else None,
                                   environment=environment))
 
 
 @pytest.fixture(scope="session")
 def sample_report_for():
-    """``sample_report_for(name, environment="severe")``: the sample board's report (with its
-    parts data) under a shipped rule set, audited once per session."""
+    """``sample_report_for(name, environment="severe", parts=True)``: the sample board's report
+    under a shipped rule set (the default set is ``bomcheck.evaluate.rules.DEFAULT_RULESET``),
+    with its parts data unless ``parts=False``, audited once per session per combination. The
+    report is shared: read it, never change it."""
     return _sample_report
 
 

@@ -7,6 +7,7 @@ from pathlib import Path
 import jsonschema
 import pytest
 
+from bomcheck.evaluate.rules import DEFAULT_RULESET
 from bomcheck.pipeline.audit import AuditOptions, run_audit
 from bomcheck.errors import InputError
 
@@ -16,8 +17,9 @@ DESIGN = ROOT / "sample_boms" / "bw7-design.csv"
 
 
 @pytest.fixture(scope="module")
-def sample():
-    return run_audit(str(BOM), str(DESIGN))
+def sample(sample_report_for):
+    """The sample board under the default rule set, without its parts data (shared)."""
+    return sample_report_for(DEFAULT_RULESET, parts=False)
 
 
 def _verdicts(report, refdes):
@@ -78,10 +80,10 @@ def test_generic_dc_bias_finding_is_at_most_a_warning(sample):
     assert row.status == "warn" and "generic typical data" in row.message
 
 
-def test_strict_set_tantalum_curve_on_the_sample():
+def test_strict_set_tantalum_curve_on_the_sample(sample_report_for):
     # NASA EEE-INST-002 C1 Table 4: solid tantalum 0.50 to 70 degC, linear to 0.30 at 110 degC;
     # at 85 degC the limit is 0.50 - (15/40) x 0.20 = 0.425 (derived). C14: 12.6 V + 0.15 V on 25 V.
-    report = run_audit(str(BOM), str(DESIGN), AuditOptions(rules=("strict",)))
+    report = sample_report_for("strict", parts=False)
     v = report.verdicts
     row = v[(v.refdes == "C14") & (v.rule_id == "EEE-TAN-V")].iloc[0]
     assert row.status == "fail"

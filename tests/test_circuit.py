@@ -11,6 +11,7 @@ import pandas as pd
 import pytest
 from circuitcases import DATA, electrolytic, group, run
 
+from bomcheck.evaluate.rules import DEFAULT_RULESET
 from bomcheck.pipeline.audit import AuditOptions, run_audit
 from bomcheck.stress import circuit
 from bomcheck.stress.placement import compute
@@ -25,8 +26,9 @@ PARTS = ROOT / "sample_boms" / "bw7-parts.csv"
 
 
 @pytest.fixture(scope="module")
-def sample():
-    return run_audit(str(BOM), str(DESIGN), AuditOptions(parts=str(PARTS)))
+def sample(sample_report_for):
+    """The sample board under the default rule set, with its parts data (shared)."""
+    return sample_report_for(DEFAULT_RULESET)
 
 
 def _verdict(report, refdes, rule_id):
@@ -94,14 +96,14 @@ def test_sample_json_report_carries_the_circuit_keys(sample):
                                          AuditOptions(parts=str(PARTS))).to_json()
 
 
-def test_sample_without_parts_still_audits():
-    report = run_audit(str(BOM), str(DESIGN))
+def test_sample_without_parts_still_audits(sample_report_for):
+    report = sample_report_for(DEFAULT_RULESET, parts=False)
     assert _verdict(report, "C4", "IND-ALE-V").status == "fail"
     assert _verdict(report, "C4", "IND-LIFE").status == "nodata"  # no rated life without parts
 
 
-def test_strict_set_asks_solid_tantalum_for_its_series_resistance(sample):
-    report = run_audit(str(BOM), str(DESIGN), AuditOptions(rules=("strict",), parts=str(PARTS)))
+def test_strict_set_asks_solid_tantalum_for_its_series_resistance(sample_report_for):
+    report = sample_report_for("strict")
     row = _verdict(report, "C14", "EEE-TAN-SERIES-R")
     assert row.status == "nodata" and "r_source_ohm" in row.message
 
