@@ -3,53 +3,13 @@
 from __future__ import annotations
 
 import time
-from dataclasses import replace
 
 import numpy as np
 import pandas as pd
 import pytest
+from verdictcases import industrial, placement, strict, strict_step, synthetic, verdict  # noqa: F401
 
-from bomcheck.evaluate.engine import (CHECKS, VERDICT_COLUMNS, check_kind, evaluate,
-                                      evaluate_lazily)
-from bomcheck.evaluate.rules import load_rules
-from bomcheck.vocabulary import INPUT_LABELS
-
-
-@pytest.fixture(scope="module")
-def strict():
-    return load_rules(["strict"])
-
-
-@pytest.fixture(scope="module")
-def strict_step():
-    return load_rules(["strict-step"])
-
-
-@pytest.fixture(scope="module")
-def industrial():
-    return load_rules(["industrial"])
-
-
-def placement(**given) -> dict:
-    """A placement row with the metrics a stress stage would compute from ``given``."""
-    row = {"refdes": "C1", **given}
-    if "applied_peak_v" in row and "voltage_v" in row:
-        row.setdefault("voltage_ratio", row["applied_peak_v"] / row["voltage_v"])
-    if "t_ambient_c" in row:
-        row.setdefault("t_operating_c", row["t_ambient_c"] + row.get("t_rise_c", 0.0))
-    if "temp_max_c" in row:
-        row.setdefault("temp_max_used_c", row["temp_max_c"])
-    if "temp_max_c" in row and "t_operating_c" in row:
-        row.setdefault("temp_margin_c", row["temp_max_c"] - row["t_operating_c"])
-    return row
-
-
-def verdict(ruleset, rule_id: str, **given) -> pd.Series:
-    """The verdict of one rule (forced on) for one placement."""
-    rs = ruleset.with_rules([replace(ruleset.rule(rule_id), enabled=True)])
-    v = evaluate(pd.DataFrame([placement(**given)]), rs)
-    assert len(v) == 1, v
-    return v.iloc[0]
+from bomcheck.evaluate.engine import CHECKS, VERDICT_COLUMNS, check_kind, evaluate
 
 
 # ---- NASA EEE-INST-002 Section C1 Table 4 (reference sheet 1.1) ----------------------------------
@@ -121,37 +81,6 @@ def test_film_above_85c_fails_the_strict_set(strict):
     assert "fail" in set(worst)
 
 
-def test_message_names_inputs_limit_curve_context_and_source(strict):
-    # NASA EEE-INST-002 Section C1 Table 4: solid tantalum at 85 degC -> 0.50 - 15/40 x 0.20
-    # = 0.425; 14.2 V on 25 V = 56.8 %
-    v = verdict(strict, "EEE-TAN-V", refdes="C14", technology="tantalum", voltage_v=25.0,
-                applied_peak_v=14.2, t_ambient_c=85.0)
-    assert v.status == "fail"
-    assert v.message == ("C14: 14.2 V peak / 25 V rated = 56.8 % > 42.5 % limit "
-                         "(tantalum at 85 degC; NASA EEE-INST-002 Section C1 Table 4)")
-    assert v.source == "NASA EEE-INST-002 Section C1 Table 4"
-    assert v.margin == pytest.approx(0.425 - 0.568)
-
-
-def test_pass_and_constant_messages(strict):
-    v = verdict(strict, "EEE-CER-V", refdes="C3", technology="ceramic", voltage_v=50.0,
-                applied_peak_v=13.2)
-    assert v.message == ("C3: 13.2 V peak / 50 V rated = 26.4 % <= 60 % limit "
-                         "(ceramic; NASA EEE-INST-002 Section C1 Table 4)")
-    v = verdict(strict, "EEE-EMI-TM", refdes="FL1", technology="ceramic", emi_filter=True,
-                temp_max_c=125.0, t_ambient_c=100.0)
-    assert v.status == "fail"
-    assert v.message == ("FL1: 125 degC rated max - 100 degC operating = 25 degC < 30 degC limit "
-                         "(ceramic; NASA EEE-INST-002 Section F2 Table 4)")
-
-
-def test_capacitance_message_uses_prefixes(strict):
-    v = verdict(strict, "STRICT-CMARGIN", refdes="C9", capacitance_f=10e-6, c_worst_f=3.9e-6,
-                c_min_f=4.7e-6, c_margin=3.9 / 4.7)
-    assert v.status == "fail"
-    assert v.message.startswith("C9: 3.9 uF worst case / 4.7 uF required = 82.98 % < 100 % limit")
-
-
 # ---- warn limits and severity --------------------------------------------------------------------
 
 def test_warn_limit_between_severe_and_benign(industrial):
@@ -221,36 +150,6 @@ def test_generic_basis_of_the_curve_axis_caps_too(strict):
 
 
 # ---- no data -------------------------------------------------------------------------------------
-
-def test_nodata_names_the_missing_input(strict):
-    v = verdict(strict, "EEE-CER-V", refdes="C2", technology="ceramic", applied_peak_v=5.0)
-    assert v.status == "nodata"
-    assert np.isnan(v.value) and np.isnan(v.margin)
-    assert v.message == ("C2: no data for ceramic voltage factor: missing "
-                         f"{INPUT_LABELS['voltage_v']}; NASA EEE-INST-002 Section C1 Table 4")
-
-
-def test_nodata_for_a_curve_without_temperature(strict):
-    v = verdict(strict, "EEE-TAN-V", technology="tantalum", voltage_v=16.0, applied_peak_v=6.0)
-    assert v.status == "nodata"
-    assert INPUT_LABELS["t_ambient_c"] in v.message
-    assert "t_operating_c" not in v.message  # the root cause, not what follows from it
-
-
-def test_nodata_names_every_missing_root_input(strict):
-    v = verdict(strict, "EEE-CER-V", technology="ceramic")
-    assert INPUT_LABELS["applied_peak_v"] in v.message
-    assert INPUT_LABELS["voltage_v"] in v.message
-    assert "voltage_ratio" not in v.message
-
-
-def test_metric_missing_with_its_inputs_present(strict):
-    row = placement(technology="ceramic", voltage_v=25.0, applied_peak_v=10.0)
-    del row["voltage_ratio"]
-    rs = strict.with_rules([strict.rule("EEE-CER-V")])
-    v = evaluate(pd.DataFrame([row]), rs).iloc[0]
-    assert v.status == "nodata"
-    assert "voltage_ratio (not computed by the stress stage)" in v.message
 
 
 def test_bound_on_unknown_rated_voltage_gives_nodata(industrial):
@@ -346,27 +245,6 @@ def test_check_kinds_registry():
 
 # ---- vectorised evaluation -----------------------------------------------------------------------
 
-def synthetic(n: int, seed: int = 7) -> pd.DataFrame:
-    rng = np.random.default_rng(seed)
-    techs = np.array(["ceramic", "ceramic", "tantalum", "tantalum-wet", "film",
-                      "aluminium-electrolytic", "tantalum-polymer", "mica"], dtype=object)
-    tech = techs[rng.integers(0, len(techs), n)]
-    rated = rng.choice([6.3, 10.0, 16.0, 25.0, 50.0, 100.0], n)
-    applied = np.round(rated * rng.choice([0.3, 0.45, 0.6, 0.75, 0.9], n), 3)
-    t_amb = rng.choice([25.0, 55.0, 70.0, 85.0, 95.0], n)
-    t_max = rng.choice([85.0, 105.0, 125.0], n)
-    c_min = rng.choice([1e-7, 1e-6, 4.7e-6], n)
-    c_worst = c_min * rng.choice([0.8, 1.2, 2.0], n)
-    return pd.DataFrame({
-        "refdes": [f"C{i}" for i in range(n)], "technology": tech, "voltage_v": rated,
-        "capacitance_f": c_min * 2, "temp_max_c": t_max,
-        "polarized": np.isin(tech, ["tantalum", "tantalum-wet", "aluminium-electrolytic",
-                                    "tantalum-polymer"]),
-        "applied_peak_v": applied, "voltage_ratio": applied / rated, "t_ambient_c": t_amb,
-        "t_operating_c": t_amb, "temp_margin_c": t_max - t_amb, "c_min_f": c_min,
-        "c_worst_f": c_worst, "c_margin": c_worst / c_min,
-    })
-
 
 def test_vectorised_evaluation_of_100k_placements(strict):
     table = synthetic(100_000)
@@ -393,24 +271,6 @@ def test_vectorised_evaluation_of_100k_placements(strict):
     assert alone.status.tolist() == big.status.tolist()
 
 
-def test_lazy_messages_are_the_eager_ones_rendered_on_demand(strict):
-    # Verdicts carry no message until an output asks (most are never printed); the text
-    # rendered then is the one the eager evaluation gives, byte for byte.
-    table = synthetic(2_000)
-    eager = evaluate(table, strict)
-    lazy, messages = evaluate_lazily(table, strict)
-    passing = (lazy.status == "pass").to_numpy()
-    assert passing.any() and (~passing).any()
-    assert lazy.message.isna().all() and eager.message.notna().all()
-    assert lazy.drop(columns="message").equals(eager.drop(columns="message"))
-    rendered = messages.for_verdicts(lazy.pidx.to_numpy(), lazy.rule_id.to_numpy())
-    assert rendered.tolist() == eager.message.tolist()
-    # A verdict the evaluation did not give (another rule id, another placement) has none.
-    assert messages.for_verdicts(np.array([0, 10**6]), np.array(["design.missing",
-                                                                  "EEE-TAN-V"])).tolist() == [
-        None, None]
-
-
 def test_capacitance_margin_needs_a_stated_need_or_an_explicit_none(strict):
     # Never a silent pass: no c_min_f at all is "no data"; c_min_f = 0 (the design sheet's
     # "none") says the circuit has no minimum, and then the rule does not apply.
@@ -425,11 +285,3 @@ def test_capacitance_margin_needs_a_stated_need_or_an_explicit_none(strict):
     assert "required capacitance" in v.message.iloc[1]
 
 
-def test_metric_present_with_a_declared_input_absent(strict):
-    # An AC-rated part: the stress stage gives its voltage ratio from the AC rms voltage, with no
-    # DC applied peak; the verdict stands and the message shows the ratio alone.
-    v = verdict(strict, "STRICT-V-RATED", refdes="C61", technology="film", voltage_kind="ac",
-                voltage_v=275.0, v_ac_rms=253.0, voltage_ratio=253.0 / 275.0)
-    assert v.status == "pass"
-    assert v.message == ("C61: voltage ratio 92 % <= 100 % limit (film; common practice (never "
-                         "above the rated voltage))")
