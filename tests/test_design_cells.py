@@ -7,9 +7,11 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from bomcheck.parse.design import InputWarning, design_from_table, design_from_toml
+import bomcheck.parse.design_cells as cells_mod
+from bomcheck.parse.design import ALIASES, InputWarning, design_from_table, design_from_toml
 from bomcheck.parse.design_cells import closest_names, parse_header
 from bomcheck.errors import InputError
+from bomcheck.vocabulary import CONDITIONS
 
 
 def sheet(header, *rows):
@@ -192,3 +194,24 @@ def test_a_column_reads_the_same_with_and_without_the_column_path(monkeypatch, h
 
 def _raise(at, text, exc):
     raise ValueError(text)
+
+
+def test_each_distinct_string_is_converted_once(monkeypatch):
+    calls: list[str] = []
+    real = cells_mod.to_si
+    monkeypatch.setattr(cells_mod, "to_si", lambda t, *a: (calls.append(t), real(t, *a))[1])
+    cells = ["500 mV", "12 V", "500 mV", "12 V"] * 250
+    d = sheet(["refdes", "v_dc"], *[[f"C{i}", c] for i, c in enumerate(cells, 1)])
+    assert d.conditions["v_dc"].tolist()[:2] == [0.5, 12.0]
+    assert sorted(calls) == ["12 V", "500 mV"]
+
+
+def test_aliases_from_the_issue_are_known():
+    for header, field in [("v_dc [V]", "v_dc"), ("Vdc (V)", "v_dc"), ("working voltage", "v_dc"),
+                          ("t_amb (\u00b0C)", "t_ambient_c"), ("ambient", "t_ambient_c"),
+                          ("Ripple mVpp", "v_ripple_pk"), ("t_rise", "t_rise_c"),
+                          ("c_min", "c_min_f"), ("required capacitance", "c_min_f"),
+                          ("life", "life_h"), ("members", "members"), ("group", "group"),
+                          ("rail", "group"), ("notes", "notes"), ("V_TOL_PCT", "v_tol_pct")]:
+        assert parse_header(header).field == field, header
+    assert set(ALIASES) >= set(CONDITIONS)

@@ -239,7 +239,7 @@ def test_unreadable_rows_have_reasons(tmp_path):
 
 
 # ---------------------------------------------------------------------------------------------
-# Not fitted
+# Designators
 
 
 def test_capacitor_rows_without_usable_designators_are_unreadable(tmp_path):
