@@ -9,6 +9,7 @@ from bomcheck.parse.columns import normalise_header
 
 
 def test_every_field_has_aliases_a_label_and_no_stray_entries():
+    # One source per fact (project style guide): every table speaks of the same fields.
     assert len(set(aliases.FIELDS)) == len(aliases.FIELDS)
     assert set(aliases.FIELD_LABELS) == set(aliases.FIELDS)
     assert set(aliases.ALIASES) <= set(aliases.FIELDS)

@@ -23,6 +23,7 @@ LINES = Lines(line_of_row=np.array([0, 1, 2]), kind=np.array([LINE_CAP, LINE_NON
 
 
 def test_every_capacitor_line_has_its_own_part_as_source_zero():
+    # Common practice of approved-manufacturer lists: the line's own part is the first source.
     out = sources_of(LINES, None, None, None, None)
     assert list(out.columns) == list(SOURCE_COLUMNS)
     own = out[out["source"] == 0]
@@ -31,6 +32,8 @@ def test_every_capacitor_line_has_its_own_part_as_source_zero():
 
 
 def test_another_parts_line_is_listed_only_when_it_has_approved_sources():
+    # A resistor line matters here only through its approved sources (common practice of AML
+    # rows).
     lines = Lines(LINES.line_of_row, LINES.kind, LINES.head_rows, LINES.manufacturer, LINES.mpn,
                   side_by_side=[])
     assert sources_of(lines, None, None, None, None)["line"].tolist() == [0, 2]

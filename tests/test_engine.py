@@ -7,7 +7,8 @@ import time
 import numpy as np
 import pandas as pd
 import pytest
-from verdictcases import industrial, placement, strict, strict_step, synthetic, verdict  # noqa: F401
+from verdictcases import (industrial, placement, strict, strict_step,  # noqa: F401
+                          synthetic, verdict)
 
 from bomcheck.evaluate.engine import CHECKS, VERDICT_COLUMNS, check_kind, evaluate
 

@@ -23,6 +23,7 @@ TABLE = pd.DataFrame({
 
 
 def test_round_sig_keeps_four_significant_digits_and_leaves_nan_and_inf():
+    # Arithmetic: four significant digits, as the messages print them.
     got = round_sig(np.array([14.2345, 0.000123456, 123456.0, np.nan, np.inf, 0.0]))
     assert got[:3].tolist() == [14.23, 0.0001235, 123500.0]
     assert np.isnan(got[3]) and got[4] == np.inf and got[5] == 0.0
@@ -47,6 +48,8 @@ def test_num_text_and_factor_of_present_and_missing_columns():
 
 
 def test_isin_is_case_blind_and_is_true_needs_a_real_true():
+    # Rule data match case-blind (rule_model.Applies docstring); a missing flag is not true (no
+    # wrong pass).
     cols = Columns(TABLE)
     assert cols.isin("dielectric", ("X7R", "c0g")).tolist() == [True, False, True, False]
     assert cols.is_true("polarized").tolist() == [False, True, False, False]

@@ -36,16 +36,20 @@ def test_a_dnp_column_reads_the_other_way(cell, fitted):
 
 
 def test_yes_with_a_variant_mark_is_fitted_and_keeps_the_mark():
+    # Common practice of variant notes: the yes describes this build; the mark is kept for the
+    # finding.
     fitted, understood, mark = _fitted_cell("Yes (DNP in variant B)", negative=False)
     assert (fitted, understood) == (True, True) and mark and "DNP" in mark.upper()
 
 
 def test_variant_words_limit_a_mark():
+    # Common practice of variant notes: "variant" and "option" limit a DNP to some builds.
     assert _variant_only("DNP on the 115 V variant only") and _variant_only("DNP for option B")
     assert not _variant_only("DNP")
 
 
 def test_fold_compares_cells_case_and_space_blind():
+    # Hand-typed cells differ in case and spacing only (common practice).
     assert fold("  Not   FITTED ") == "not fitted"
 
 

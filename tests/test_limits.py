@@ -29,6 +29,7 @@ def test_with_options_replaces_only_the_given_known_limits():
 
 
 def test_use_limits_holds_inside_the_block_and_restores_after():
+    # Python contextvars semantics: a set value is restored by its token.
     before = current()
     with use_limits(Limits(rows=7)) as lim:
         assert current() is lim and current().rows == 7
@@ -39,6 +40,7 @@ def test_use_limits_holds_inside_the_block_and_restores_after():
 
 
 def test_use_limits_restores_after_an_error():
+    # Python context-manager protocol: the finally clause runs on an error.
     before = current()
     with pytest.raises(RuntimeError), use_limits(Limits(rows=1)):
         raise RuntimeError("boom")
@@ -46,6 +48,7 @@ def test_use_limits_restores_after_an_error():
 
 
 def test_every_option_names_a_limit_and_the_hint_says_how_to_raise_it():
+    # Project rule: a refused file names the limit and the option that raises it.
     names = {f.name for f in dataclasses.fields(Limits)}
     assert set(OPTION) <= names
     for name, opt in OPTION.items():

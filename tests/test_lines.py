@@ -80,6 +80,7 @@ def test_quantity_cells(text, qty):
 
 
 def test_empty_quantity_is_readable_but_no_number_and_words_are_unreadable():
+    # An empty quantity cell is common practice (the designators count); a word is not a count.
     value, readable = parse_qty("")
     assert math.isnan(value) and readable
     value, readable = parse_qty("four")
@@ -87,6 +88,7 @@ def test_empty_quantity_is_readable_but_no_number_and_words_are_unreadable():
 
 
 def test_row_texts_join_the_filled_cells_of_each_row():
+    # What the user sees of a row in a reason: its filled cells in column order (project wording).
     arrays = [np.array(["C1", "C2", ""], dtype=object), np.array(["100nF", "", ""], dtype=object),
               np.array(["50V", "16V", "x"], dtype=object)]
     assert row_texts(arrays, np.array([0, 1, 2])) == ["C1 | 100nF | 50V", "C2 | 16V", "x"]

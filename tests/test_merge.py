@@ -45,6 +45,8 @@ def test_tolerance_column_against_the_value_keeps_the_wider():
 
 
 def test_agreeing_cells_fill_each_other_without_a_finding():
+    # Common practice of BOM exports: dedicated columns beside a short value cell; agreeing cells
+    # are no finding.
     out, conflicts, _ = _merged(value="100nF", voltage="50V", dielectric="X7R", package="0603")
     assert (out["capacitance_f"], out["voltage_v"], out["dielectric"], out["package"]) == (
         pytest.approx(100e-9), 50.0, "X7R", "0603")
@@ -52,6 +54,7 @@ def test_agreeing_cells_fill_each_other_without_a_finding():
 
 
 def test_a_cells_own_warnings_and_unread_tokens_are_kept_once():
+    # No wrong pass (project rule): what a cell says that was not read is kept, and said once.
     out, _, specs = _merged(value="100nF ZZTOP", description="100nF ZZTOP")
     assert out["unread"] == ("ZZTOP",) and specs["value"].unread == ("ZZTOP",)
 

@@ -15,12 +15,15 @@ from bomcheck.vocabulary import INPUT_LABELS
 
 
 def test_template_splits_a_metric_explain_text_into_literals_and_fields():
+    # Python str.format field syntax (string.Formatter).
     literals, fields = _template("{applied_peak_v:V} peak / {voltage_v:V} rated = ")
     assert literals == ["", " peak / ", " rated = "]
     assert fields == [("applied_peak_v", "V"), ("voltage_v", "V")]
 
 
 def test_measured_part_falls_back_to_the_metric_name_where_an_input_is_unknown():
+    # A message never prints "?" as a figure it rests on (project wording); arithmetic 14.2/25 =
+    # 56.8 %.
     literals, _ = _template("{applied_peak_v:V} peak / {voltage_v:V} rated = ")
     texts = [["14.2 V", "?"], ["25 V", "25 V"], ["56.8 %", "92 %"]]
     assert _measured(literals, texts, "voltage_ratio") == [
@@ -28,6 +31,7 @@ def test_measured_part_falls_back_to_the_metric_name_where_an_input_is_unknown()
 
 
 def test_distinct_rows_numbers_each_combination_of_codes_once_in_first_seen_order():
+    # Style guide: each distinct string built once (work on columns, not rows).
     a = Coded(np.array([0, 1, 0, 1, 0]), ["x", "y"])
     b = Coded(np.array([0, 0, 0, 1, 0]), ["p", "q"])
     first, inverse = _distinct_rows([a, b], 5)

@@ -1,5 +1,6 @@
 """Normalise stage (bomcheck/parse/parts_cells.py): each distinct parts-file cell to an SI value,
-a tolerance, a dielectric code, an override flag or a curve; errors name the file, row and column."""
+a tolerance, a dielectric code, an override flag or a curve; errors name the file, row and
+column."""
 
 from __future__ import annotations
 
@@ -44,6 +45,7 @@ def test_convert_column_reads_each_cell_in_si_and_leaves_empty_cells_nan():
 
 
 def test_convert_column_error_names_the_first_row_with_the_bad_cell():
+    # Project rule: a bad cell is one line naming file, row and column; 5 V is no resistance.
     with pytest.raises(InputError) as info:
         convert_column(_cells("0.1", "5 V", "5 V", ""), "resistance", "ohm", path="p.csv",
                        rows=ROWS, column="esr")

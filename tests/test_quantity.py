@@ -17,6 +17,7 @@ from bomcheck.quantity import (format_farads, format_metric, format_number, form
     (math.nan, "?"),
 ])
 def test_format_number_four_significant_digits(x, text):
+    # Common practice: four significant digits; NaN prints as "?" (never a number).
     assert format_number(x) == text
 
 
@@ -31,6 +32,7 @@ def test_format_farads(farads, text):
 
 
 def test_format_quantity_percent_farads_and_units():
+    # Arithmetic: 0.568 = 56.8 %; SI prefix n = 1e-9.
     assert format_quantity(0.568, "", percent=True) == "56.8 %"
     assert format_quantity(100e-9, "F") == "100 nF"
     assert format_quantity(16.0, "V") == "16 V" and format_quantity(3.0, "") == "3"
@@ -44,6 +46,7 @@ def test_visible_pair_shows_enough_digits_to_see_the_limit_broken():
 
 
 def test_is_missing():
+    # pandas missing-data semantics: None, NaN and NA are missing; 0 and "" are values.
     assert is_missing(None) and is_missing(math.nan) and is_missing(pd.NA)
     assert not is_missing(0.0) and not is_missing("")
 

@@ -36,6 +36,8 @@ def test_absolute_tolerance_is_compared_through_the_capacitance():
 
 
 def test_absolute_tolerance_without_a_capacitance_keeps_the_first():
+    # Without the capacitance a pF tolerance cannot be compared with a percentage (arithmetic):
+    # the first reading stays and the doubt is said.
     state = State("any")
     state.set_tol((2.0, 2.0, None), "2%", 1)
     state.set_tol((None, None, 0.5e-12), "D", 2)

@@ -43,6 +43,7 @@ def test_spec_is_frozen_and_unknown_fields_are_none():
 
 
 def test_to_dict_is_json_ready_and_keyed_by_spec_keys():
+    # RFC 8259: tuples become lists; the keys are the one field list SPEC_KEYS.
     s = CapSpec(text="10uF 16V", is_capacitor=True, capacitance_f=10e-6, voltage_v=16.0,
                 warnings=("w",), unread=("u",))
     d = s.to_dict()
