@@ -5,11 +5,10 @@ footprints, cables. Fixtures written here."""
 
 from __future__ import annotations
 
-import pytest
-
 import math
 
 import numpy as np
+import pytest
 
 from bomcheck.parse.importer import read_bom
 from bomcheck.parse.lines import parse_qty, row_texts
