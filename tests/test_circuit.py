@@ -108,56 +108,6 @@ def test_strict_set_asks_solid_tantalum_for_its_series_resistance(sample_report_
     assert row.status == "nodata" and "r_source_ohm" in row.message
 
 
-# --- the design-sheet columns the stage reads -------------------------------------------------
-
-
-def test_design_sheet_circuit_columns_csv_and_toml(tmp_path):
-    from bomcheck.parse.design import read_design
-
-    csv = tmp_path / "d.csv"
-    csv.write_text(
-        "refdes,members,kind,v_dc,r_balance_ohm,r_balance_tol_pct,r_bleeder_ohm,"
-        "t_discharge_max_s,slew_v_per_s,r_source_ohm,i_ripple_a,f_ripple_hz\n"
-        "LINK,C1-C2,series,400 V,100 kohm,1,47 kohm,10 s,,47 ohm,0.9 A,100 Hz\n"
-        "BULK,C3-C4,bank,24,,,10 kohm,,12 V/ms,,1.5 A,50 kHz\n", encoding="utf-8")
-    toml = tmp_path / "d.toml"
-    toml.write_text(
-        '[groups.LINK]\nmembers = "C1-C2"\nkind = "series"\nv_dc = "400 V"\n'
-        'r_balance_ohm = "100 kohm"\nr_balance_tol_pct = "±1 %"\nr_bleeder_ohm = "47 kohm"\n'
-        't_discharge_max_s = "10 s"\nr_source_ohm = 47\ni_ripple_a = "900 mA"\n'
-        'f_ripple_hz = "100 Hz"\n'
-        '[groups.BULK]\nmembers = "C3-C4"\nkind = "bank"\nv_dc = 24\nr_bleeder_ohm = "10 kohm"\n'
-        'slew_v_per_s = "12 V/ms"\ni_ripple_a = "1.5 A"\nf_ripple_hz = "50 kHz"\n',
-        encoding="utf-8")
-    for path in (csv, toml):
-        d = read_design(str(path))
-        c = d.conditions
-        # Per-member values reach the members; whole-group values stay on the group.
-        assert c.loc[["C1", "C2"], "r_balance_ohm"].tolist() == [100e3, 100e3]
-        assert c.loc[["C1", "C2"], "r_balance_tol_pct"].tolist() == pytest.approx([1.0, 1.0])
-        assert c.loc[["C1", "C2"], "i_ripple_a"].tolist() == pytest.approx([0.9, 0.9])
-        assert c.loc[["C1", "C2"], "r_bleeder_ohm"].isna().all()
-        assert c.loc[["C3", "C4"], "slew_v_per_s"].tolist() == pytest.approx([12000.0] * 2)
-        assert c.loc[["C3", "C4"], "i_ripple_a"].isna().all()  # shared by the stage
-        link, bulk = d.groups["LINK"], d.groups["BULK"]
-        assert (link.kind, link.conditions["r_bleeder_ohm"]) == ("series", 47e3)
-        assert link.conditions["r_source_ohm"] == 47.0
-        assert link.conditions["t_discharge_max_s"] == 10.0
-        assert (bulk.kind, bulk.conditions["i_ripple_a"]) == ("bank", 1.5)
-        assert bulk.conditions["f_ripple_hz"] == pytest.approx(50e3)
-
-
-def test_design_sheet_circuit_column_of_the_wrong_dimension(tmp_path):
-    from bomcheck.parse.design import read_design
-    from bomcheck.errors import InputError
-
-    path = tmp_path / "d.csv"
-    path.write_text("refdes,v_dc,r_bleeder_ohm\nC1,400,47 uF\n", encoding="utf-8")
-    with pytest.raises(InputError) as info:
-        read_design(str(path))
-    assert info.value.row == 2 and info.value.column == "r_bleeder_ohm"
-
-
 # --- the driver ------------------------------------------------------------------------------
 
 
