@@ -1,16 +1,12 @@
-"""Terminal renderer, read back as plain text (no colour, fixed width)."""
+"""Terminal renderer (bomcheck.render.terminal), read back as plain text (no colour, fixed width)."""
 
 from io import StringIO
-from pathlib import Path
 
 import pytest
 
-from bomcheck.pipeline.audit import run_audit
 from bomcheck.quantity import format_si
-from bomcheck.render.terminal import make_console, print_audit, print_specs
+from bomcheck.render.terminal import make_console, print_audit, print_quiet, print_specs
 from bomcheck.parse.values import parse_value
-
-ROOT = Path(__file__).resolve().parents[1]
 
 
 def plain(fn, *args, **kw) -> str:
@@ -21,10 +17,8 @@ def plain(fn, *args, **kw) -> str:
 
 
 @pytest.fixture(scope="module")
-def sample_text():
-    report = run_audit(str(ROOT / "sample_boms" / "bw7-controller-bom.csv"),
-                       str(ROOT / "sample_boms" / "bw7-design.csv"))
-    return plain(print_audit, report)
+def sample_text(sample_report_bare):
+    return plain(print_audit, sample_report_bare)
 
 
 def test_audit_table_worst_first_with_findings_totals_and_cautions(sample_text):
@@ -58,11 +52,8 @@ def test_format_si(value, unit, expected):
     assert format_si(value, unit) == expected
 
 
-def test_compact_layout_at_80_columns_breaks_no_word():
-    from bomcheck.render.terminal import print_quiet
-
-    report = run_audit(str(ROOT / "sample_boms" / "bw7-controller-bom.csv"),
-                       str(ROOT / "sample_boms" / "bw7-design.csv"))
+def test_compact_layout_at_80_columns_breaks_no_word(sample_report_bare):
+    report = sample_report_bare
     out = StringIO()
     print_audit(make_console(file=out, no_color=True, width=80), report)
     text = out.getvalue()
