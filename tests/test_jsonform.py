@@ -4,28 +4,28 @@ text, chunked streaming, defaults a reader can rebuild every verdict from."""
 import json
 import math
 from importlib import resources
-from pathlib import Path
 
 import jsonschema
 import numpy as np
 import pandas as pd
 import pytest
 
+from conftest import SAMPLE_BOM as BOM
+from conftest import SAMPLE_DESIGN as DESIGN
+from conftest import SAMPLE_PARTS as PARTS
+
 from bomcheck.report import jsonform as report_json
 from bomcheck.pipeline.audit import AuditOptions, run_audit
 from bomcheck.report.jsonform import column_texts, objects
 
-ROOT = Path(__file__).resolve().parents[1]
-BOM = ROOT / "sample_boms" / "bw7-controller-bom.csv"
-DESIGN = ROOT / "sample_boms" / "bw7-design.csv"
-PARTS = ROOT / "sample_boms" / "bw7-parts.csv"
 SCHEMA = json.loads(resources.files("bomcheck.schemas").joinpath("report.schema.json")
                     .read_text("utf-8"))
 
 
 @pytest.fixture(scope="module")
-def sample():
-    return run_audit(str(BOM), str(DESIGN), AuditOptions(parts=str(PARTS)))
+def sample(sample_report_for):
+    """The sample board with its parts data under the default rule set (``industrial``)."""
+    return sample_report_for("industrial")
 
 
 @pytest.fixture(scope="module")
@@ -61,6 +61,7 @@ def test_objects_write_each_row_with_its_own_keys():
 def test_report_validates_and_is_byte_identical(sample, data):
     jsonschema.validate(data, SCHEMA)
     assert data["schema_version"] == 2
+    # a fresh run of the same inputs (not the session's report) writes the same bytes
     again = run_audit(str(BOM), str(DESIGN), AuditOptions(parts=str(PARTS)))
     assert "".join(again.iter_json()) == sample.to_json()
     assert "NaN" not in sample.to_json() and "Infinity" not in sample.to_json()
