@@ -110,4 +110,5 @@ def sample_parts_outputs(sample_report_for, tmp_path_factory):
     report = sample_report_for("industrial")
     folder = tmp_path_factory.mktemp("parts")
     write_workbook(report, folder / "a.xlsx")
-    return json.loads(report.to_json()), openpyxl.load_workbook(folder / "a.xlsx"), folder / "a.xlsx"
+    path = folder / "a.xlsx"
+    return json.loads(report.to_json()), openpyxl.load_workbook(path), path

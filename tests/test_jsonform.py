@@ -13,6 +13,8 @@ import pytest
 from conftest import SAMPLE_BOM as BOM
 from conftest import SAMPLE_DESIGN as DESIGN
 from conftest import SAMPLE_PARTS as PARTS
+from hostile_cells import DESIGN as DESIGN_HEAD
+from hostile_cells import HEADER as BOM_HEADER
 
 from bomcheck.report import jsonform as report_json
 from bomcheck.pipeline.audit import AuditOptions, run_audit
@@ -138,3 +140,17 @@ def test_flags_write_true_and_false_and_leave_out_unknown():
     assert texts.tolist() == ["true", "false"] and present.all()
     texts, present = column_texts(pd.Series([True, None], dtype="boolean"))
     assert texts[0] == "true" and present.tolist() == [True, False]
+
+
+# Moved from test_textsafe.py.
+def test_report_json_survives_an_infinite_metric(tmp_path):
+    """A 0 V rating gives an infinite stress ratio: the JSON report stays strict JSON."""
+    (tmp_path / "bom.csv").write_text(BOM_HEADER + "C1,1,100nF 16V X7R,x,y,Yes\n",
+                                      encoding="utf-8")
+    (tmp_path / "design.csv").write_text(DESIGN_HEAD + "C1,5,55,none\n", encoding="utf-8")
+    report = run_audit(str(tmp_path / "bom.csv"), str(tmp_path / "design.csv"))
+    report.table.loc[:, "voltage_ratio"] = np.inf
+    report.verdicts.loc[:, "value"] = np.inf
+    text = report.to_json()
+    data = json.loads(text, parse_constant=lambda c: pytest.fail(c))
+    assert data["placements"][0]["metrics"].get("voltage_ratio") is None  # left out, or null

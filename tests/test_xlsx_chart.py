@@ -4,7 +4,6 @@ series per technology, one line per distinct limit, references to the columns wr
 import re
 import zipfile
 
-import pytest
 from sheets import book, report  # noqa: F401 (fixtures)
 from sheets import table
 
