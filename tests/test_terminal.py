@@ -1,11 +1,17 @@
 """Terminal renderer (bomcheck.render.terminal), read back as plain text (no colour, fixed width)."""
 
+from dataclasses import replace
 from io import StringIO
 
 import pytest
+from diff_reports import NEW, OLD
+from tiny_reports import tiny_report
 
 from bomcheck.quantity import format_si
-from bomcheck.render.terminal import make_console, print_audit, print_quiet, print_specs
+from bomcheck.render.terminal import (make_console, print_audit, print_diff, print_findings,
+                                      print_quiet, print_ruleset_names, print_specs,
+                                      print_waiver_findings)
+from bomcheck.report.diff import compare
 from bomcheck.parse.values import parse_value
 
 
@@ -70,3 +76,39 @@ def test_compact_layout_at_80_columns_breaks_no_word(sample_report_bare):
     quiet = out.getvalue().splitlines()
     assert quiet[0].startswith("Placements audited 63: fail 17")
     assert quiet[-1] == "Overall: FAIL (severe environment)"
+
+
+def test_findings_list_every_verdict_not_passing_worst_first():
+    text = plain(print_findings, tiny_report())
+    lines = [line.strip() for line in text.splitlines()[1:]]
+    # worst first: fail, nodata, warn, then waived (the project's status order, DEVELOPERS.md)
+    assert [line.split()[0] for line in lines] == ["FAIL", "nodata", "WARN", "waived"]
+    assert lines[0] == "FAIL C2: ratio 80 % > 70 % limit"
+    assert plain(print_findings, tiny_report(), placements=[0]) == ""  # C1 passes
+
+
+def test_quiet_counts_every_status_and_ends_with_the_verdict():
+    report = tiny_report()
+    rows = {"rows_read": 7, "capacitor_rows": 6, "non_capacitor_rows": 1, "unreadable_rows": 0,
+            "placements": 6, "fitted": 5, "not_fitted": 1}
+    lines = plain(print_quiet, replace(report, totals={**report.totals, **rows})).splitlines()
+    assert lines[0] == "Placements audited 5: fail 1  nodata 1  warn 1  waived 1  pass 1"
+    assert lines[1].startswith("rows read 7 = capacitor rows 6 + non-capacitor rows 1")
+    assert lines[-1] == "Overall: FAIL (severe environment)"
+
+
+def test_waiver_findings_one_line_each():
+    assert plain(print_waiver_findings, tiny_report().waiver_findings).strip() == (
+        "waiver expired waiver 2 (C2 R-V) expired on 2026-01-31; its verdicts stand")
+
+
+def test_diff_table_marks_new_problems_and_ends_with_the_counts():
+    text = plain(print_diff, compare(OLD, NEW))
+    assert "changed (new problem)" in text and "Placements added: C3" in text
+    assert "Placements removed: C5" in text
+    assert text.rstrip().splitlines()[-1].startswith("Baseline: ")
+
+
+def test_ruleset_names_mark_the_default():
+    text = plain(print_ruleset_names, ["industrial", "strict"], "industrial")
+    assert text.splitlines()[:2] == ["industrial  (default)", "strict"]
