@@ -55,3 +55,30 @@ def test_chart_series_point_at_their_columns(sample_parts_outputs):
     assert {headers[c] for c in used} == {
         xlsx.header_of("t_operating_c"), xlsx.header_of("voltage_ratio"),
         "voltage ratio limit [%]"}
+
+
+def test_ac_rated_parts_are_left_off_the_chart_and_the_sheet_says_why(book, report):
+    ac = int(((report.table["voltage_kind"] == "ac") & report.table["voltage_ratio"].notna()
+              & report.table["t_operating_c"].notna()).sum())
+    assert ac  # the sample board has X/Y safety capacitors (rated V AC)
+    first = [r[0] for r in book["Voltage chart"].iter_rows(values_only=True)]
+    assert f"AC-rated placements ({ac}) are not plotted" in " ".join(str(x) for x in first)
+
+
+def test_the_chart_names_its_axes_with_units(book):
+    chart = book["Voltage chart"]._charts[0]
+    titles = ["".join(r.t for p in axis.title.tx.rich.p for r in (p.r or []))
+              for axis in (chart.x_axis, chart.y_axis)]
+    assert titles == ["operating temperature [°C]", "voltage ratio (applied peak / rated)"]
+    assert chart.y_axis.scaling.min == 0  # a ratio axis starts at zero (common practice)
+
+
+def test_limit_lines_are_blocks_of_rows_under_their_name(book, report):
+    header, rows = table(book["Chart data"])
+    names = [(i, r[header.index("limit line")]) for i, r in enumerate(rows)
+             if r[header.index("limit line")]]
+    lines = [r for r in report.rules.rules if r.enabled and r.metric == "voltage_ratio"]
+    assert names and len(names) <= len(lines)
+    for i, name in names:
+        assert name.startswith("limit ")
+        assert rows[i][header.index("voltage ratio limit [%]")] is not None

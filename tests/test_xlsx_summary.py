@@ -1,6 +1,7 @@
 """The workbook's Summary sheet (bomcheck.render.xlsx_summary): totals equal the report's, the
 row-accounting identity, inputs, rule sets, sources and cautions verbatim, the generation time."""
 
+from dataclasses import replace
 from datetime import datetime, timezone
 
 import openpyxl
@@ -62,3 +63,25 @@ def test_generated_defaults_to_now_in_utc(report, tmp_path):
     xlsx.write_workbook(report, path)
     stamp = summary_values(openpyxl.load_workbook(path)["Summary"])["generated (UTC)"]
     assert before <= stamp <= datetime.now(timezone.utc).replace(tzinfo=None)
+
+
+def test_an_identity_that_does_not_add_up_says_so(report, tmp_path):
+    # no wrong pass (DEVELOPERS.md): a row count that does not add up is shown, never "holds"
+    totals = {**report.totals, "rows_read": report.totals["rows_read"] + 1}
+    path = tmp_path / "broken.xlsx"
+    xlsx.write_workbook(replace(report, totals=totals), path, generated=GENERATED)
+    rows = list(openpyxl.load_workbook(path)["Summary"].iter_rows(values_only=True))
+    identity = next(r for r in rows if str(r[0]).startswith("rows read = "))
+    assert identity[2] == "DOES NOT HOLD"
+    placements = next(r for r in rows if r[0] == "placements = fitted + not fitted")
+    assert placements[2] == "holds"
+    t = report.totals
+    assert placements[1] == f"{t['placements']:,} = {t['fitted']:,} + {t['not_fitted']:,}"
+
+
+def test_statuses_are_listed_worst_first_with_every_count(book, report):
+    rows = list(book["Summary"].iter_rows(values_only=True))
+    start = next(i for i, r in enumerate(rows) if r[0] == "status" and r[1] == "placements")
+    listed = [r[0] for r in rows[start + 1:start + 6]]
+    assert listed == ["fail", "nodata", "warn", "waived", "pass"]  # the one status order
+    assert sum(r[1] for r in rows[start + 1:start + 6]) == len(report.table)
