@@ -65,17 +65,9 @@ def verdicts(report: dict, refdes: str) -> tuple[dict[str, dict], str]:
     return out, p["status"]
 
 
-
-
 # ---- the sample board's plain audit and workbook, shared by the render tests ----------------
 
 SAMPLE_WORKBOOK_TIME = __import__("datetime").datetime(2031, 1, 2, 3, 4, 5)
-
-@functools.lru_cache(maxsize=None)
-def _sample_report_bare():
-    from bomcheck.pipeline.audit import run_audit
-
-    return run_audit(str(SAMPLE_BOM), str(SAMPLE_DESIGN))
 
 
 @pytest.fixture(scope="session")
@@ -83,7 +75,9 @@ def sample_report_bare():
     """The sample board as ``bomcheck audit BOM --design SHEET`` audits it (the default rule set,
     severe environment, no parts data), audited once per session. Tests that change a report
     change a copy (``dataclasses.replace``, ``DataFrame.assign``)."""
-    return _sample_report_bare()
+    from bomcheck.pipeline.audit import run_audit
+
+    return run_audit(str(SAMPLE_BOM), str(SAMPLE_DESIGN))
 
 
 @pytest.fixture(scope="session")
@@ -108,7 +102,6 @@ def sample_parts_outputs(sample_report_for, tmp_path_factory):
     from bomcheck.render.xlsx import write_workbook
 
     report = sample_report_for("industrial")
-    folder = tmp_path_factory.mktemp("parts")
-    write_workbook(report, folder / "a.xlsx")
-    path = folder / "a.xlsx"
+    path = tmp_path_factory.mktemp("parts") / "a.xlsx"
+    write_workbook(report, path)
     return json.loads(report.to_json()), openpyxl.load_workbook(path), path
