@@ -67,3 +67,43 @@ def verdicts(report: dict, refdes: str) -> tuple[dict[str, dict], str]:
     return out, p["status"]
 
 
+# ---- the sample board's plain audit and workbook, shared by the render tests ----------------
+
+SAMPLE_WORKBOOK_TIME = __import__("datetime").datetime(2031, 1, 2, 3, 4, 5)
+
+
+@pytest.fixture(scope="session")
+def sample_report_bare():
+    """The sample board as ``bomcheck audit BOM --design SHEET`` audits it (the default rule set,
+    severe environment, no parts data), audited once per session. Tests that change a report
+    change a copy (``dataclasses.replace``, ``DataFrame.assign``)."""
+    from bomcheck.pipeline.audit import run_audit
+
+    return run_audit(str(SAMPLE_BOM), str(SAMPLE_DESIGN))
+
+
+@pytest.fixture(scope="session")
+def sample_workbook(sample_report_bare, tmp_path_factory):
+    """(report, opened workbook) of ``sample_report_bare`` written once per session with a fixed
+    generation time (``SAMPLE_WORKBOOK_TIME``)."""
+    import openpyxl
+
+    from bomcheck.render.xlsx import write_workbook
+
+    path = tmp_path_factory.mktemp("xlsx") / "audit.xlsx"
+    write_workbook(sample_report_bare, path, generated=SAMPLE_WORKBOOK_TIME)
+    return sample_report_bare, openpyxl.load_workbook(path)
+
+
+@pytest.fixture(scope="session")
+def sample_parts_outputs(sample_report_for, tmp_path_factory):
+    """(JSON report as data, opened workbook, workbook path) of the sample board with its parts
+    data (``sample_report_for("industrial")``, the command line's defaults), written once."""
+    import openpyxl
+
+    from bomcheck.render.xlsx import write_workbook
+
+    report = sample_report_for("industrial")
+    path = tmp_path_factory.mktemp("parts") / "a.xlsx"
+    write_workbook(report, path)
+    return json.loads(report.to_json()), openpyxl.load_workbook(path), path

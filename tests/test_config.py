@@ -87,3 +87,10 @@ def test_bad_config_names_the_key(tmp_path, line, needle):
     with pytest.raises(InputError) as info:
         load_config(tmp_path)
     assert needle in str(info.value) and "pyproject.toml" in str(info.value)
+
+
+def test_config_refuses_a_non_boolean_flag(tmp_path):
+    (tmp_path / "pyproject.toml").write_text('[tool.bomcheck]\nannotations = "yes"\n',
+                                             encoding="utf-8")
+    with pytest.raises(InputError, match="true or false"):
+        load_config(tmp_path)

@@ -1,4 +1,6 @@
-"""Tests of bomcheck.render.xlsx: the reviewer's workbook, reopened with openpyxl and its cells asserted."""
+"""Tests of bomcheck.render.xlsx: the reviewer's workbook, reopened with openpyxl and its cells
+asserted. Its Summary sheet: test_xlsx_summary.py; its chart: test_xlsx_chart.py; cell helpers and
+colours: test_xlsx_cells.py; the limit lines: test_chartdata.py."""
 
 from __future__ import annotations
 
@@ -6,124 +8,26 @@ import csv
 import os
 import zipfile
 from dataclasses import replace
-from datetime import datetime, timezone
-from pathlib import Path
 
 import openpyxl
 import pytest
+from sheets import book, report  # noqa: F401 (fixtures)
+from sheets import column, summary_values, table
 
+from conftest import SAMPLE_WORKBOOK_TIME as GENERATED
 from bomcheck.render import xlsx
 from bomcheck.pipeline.audit import AuditOptions, run_audit
 from bomcheck.errors import InputError
 from bomcheck.status import STATUS_ORDER
 
-ROOT = Path(__file__).resolve().parents[1]
-SAMPLE_BOM = ROOT / "sample_boms" / "bw7-controller-bom.csv"
-SAMPLE_DESIGN = ROOT / "sample_boms" / "bw7-design.csv"
-GENERATED = datetime(2031, 1, 2, 3, 4, 5)
 RANK = {s: i for i, s in enumerate(STATUS_ORDER)}
 
 
-@pytest.fixture(scope="module")
-def report():
-    return run_audit(str(SAMPLE_BOM), str(SAMPLE_DESIGN))
-
-
-@pytest.fixture(scope="module")
-def book(report, tmp_path_factory):
-    path = tmp_path_factory.mktemp("xlsx") / "audit.xlsx"
-    xlsx.write_workbook(report, path, generated=GENERATED)
-    return openpyxl.load_workbook(path)
-
-
-def table(ws) -> tuple[list[str], list[tuple]]:
-    """Header and data rows of a sheet with one header row."""
-    rows = list(ws.iter_rows(values_only=True))
-    return list(rows[0]), rows[1:]
-
-
-def column(ws, header: str) -> list:
-    """The data cells (not values) under ``header``."""
-    names = [c.value for c in ws[1]]
-    j = names.index(header if header in names else xlsx.header_of(header)) + 1
-    return [ws.cell(row=i, column=j) for i in range(2, ws.max_row + 1)]
-
-
-def summary_values(ws) -> dict:
-    """Column A label -> column B value for every Summary row with a label."""
-    return {r[0]: r[1] for r in ws.iter_rows(values_only=True) if isinstance(r[0], str)}
-
-
-def luminance(rgb: str) -> float:
-    # WCAG 2.1 relative luminance (sRGB)
-    def chan(c: float) -> float:
-        return c / 12.92 if c <= 0.03928 else ((c + 0.055) / 1.055) ** 2.4
-    r, g, b = (int(rgb[i:i + 2], 16) / 255 for i in (0, 2, 4))
-    return 0.2126 * chan(r) + 0.7152 * chan(g) + 0.0722 * chan(b)
-
-
-def contrast(a: str, b: str) -> float:
-    # WCAG 2.1 contrast ratio (L1 + 0.05) / (L2 + 0.05)
-    la, lb = sorted((luminance(a), luminance(b)), reverse=True)
-    return (la + 0.05) / (lb + 0.05)
-
-
-# ---- sheets and Summary ----------------------------------------------------------------------
+# ---- sheets ----------------------------------------------------------------------------------
 
 def test_sheet_names(book):
     assert book.sheetnames == ["Summary", "Placements", "Findings", "Rules", "Not audited",
                                "Voltage chart", "Chart data"]
-
-
-@pytest.mark.parametrize("key, label", [
-    ("rows_read", "rows read"),
-    ("capacitor_rows", "capacitor rows"),
-    ("non_capacitor_rows", "non-capacitor rows"),
-    ("unreadable_rows", "unreadable rows"),
-    ("placements", "placements"),
-    ("fitted", "fitted placements (Placements sheet)"),
-    ("not_fitted", "not-fitted placements"),
-    ("design_unmatched", "design rows not in the BOM"),
-    ("fail", "fail"), ("nodata", "nodata"), ("warn", "warn"), ("pass", "pass"),
-])
-def test_summary_totals_equal_report_totals(book, report, key, label):
-    assert summary_values(book["Summary"])[label] == report.totals[key]
-
-
-def test_summary_accounting_identity_and_head(book, report):
-    rows = list(book["Summary"].iter_rows(values_only=True))
-    t = report.totals
-    identity = next(r for r in rows if r[0] == "rows read = capacitor rows + non-capacitor rows "
-                                                  "+ unreadable rows")
-    assert identity[1] == (f"{t['rows_read']} = {t['capacitor_rows']} + "
-                           f"{t['non_capacitor_rows']} + {t['unreadable_rows']}")
-    assert identity[2] == "holds"
-    values = summary_values(book["Summary"])
-    assert values["tool version"] == f"bomcheck {report.tool_version}"
-    assert values["generated"] == GENERATED
-    assert values["overall status"] == report.status
-    assert values["Not audited sheet rows"] == len(report.not_audited()) + len(
-        report.design_unmatched)
-
-
-def test_summary_lists_inputs_rule_sets_sources_and_cautions_verbatim(book, report):
-    cells = {v for r in book["Summary"].iter_rows(values_only=True) for v in r if v is not None}
-    for d in report.inputs:
-        assert d["path"] in cells and d["sha256"] in cells
-    for d in report.rulesets:
-        assert d["name"] in cells and d["version"] in cells
-    for s in report.rulesets[-1]["sources"]:
-        assert s["id"] in cells and s["title"] in cells
-    for caution in report.cautions:
-        assert caution in cells
-
-
-def test_generated_defaults_to_now_in_utc(report, tmp_path):
-    path = tmp_path / "now.xlsx"
-    before = datetime.now(timezone.utc).replace(tzinfo=None, microsecond=0)
-    xlsx.write_workbook(report, path)
-    stamp = summary_values(openpyxl.load_workbook(path)["Summary"])["generated (UTC)"]
-    assert before <= stamp <= datetime.now(timezone.utc).replace(tzinfo=None)
 
 
 # ---- Placements and Findings -----------------------------------------------------------------
@@ -208,14 +112,6 @@ def test_status_cells_filled_by_status(book, report):
     assert len(set(seen.values())) == len(seen)
 
 
-def test_palette_darkens_with_severity_and_stays_readable():
-    order = [s for s in STATUS_ORDER if s in xlsx.STATUS_PALETTE]
-    lum = [luminance(xlsx.STATUS_PALETTE[s][0]) for s in order]
-    assert lum == sorted(lum, reverse=True)
-    for fill, font, _ in xlsx.STATUS_PALETTE.values():
-        assert contrast(fill, font) >= 4.5  # WCAG 2.1 SC 1.4.3, normal text
-
-
 def test_findings_one_row_per_non_pass_verdict_worst_first(book, report):
     header, rows = table(book["Findings"])
     v = report.verdicts
@@ -262,60 +158,6 @@ def test_not_audited_accounts_for_every_row(book, report):
     assert kinds.count("unreadable") == t["unreadable_rows"]
     assert kinds.count("not_in_bom") == t["design_unmatched"]
     assert all(r[header.index("reason")] for r in rows)
-
-
-# ---- chart -----------------------------------------------------------------------------------
-
-def test_chart_series_per_technology_and_limit_line(book, report):
-    charts = book["Voltage chart"]._charts
-    assert len(charts) == 1
-    chart = charts[0]
-    assert type(chart).__name__ == "ScatterChart"
-    t = report.table
-    plotted = t[t["voltage_ratio"].notna() & t["t_operating_c"].notna()]
-    technologies = set(plotted["technology"].fillna(xlsx.UNKNOWN_TECHNOLOGY))
-    # DC voltage-ratio rules only: AC-rated parts are plotted apart from the DC limit lines
-    rules = [r for r in report.rules.rules if r.enabled and r.metric == "voltage_ratio"
-             and r.applies.voltage_kind != "ac"]
-    # Distinct lines: constants by value, curves by their points.
-    shapes = {(r.fail.value,) if not r.fail.is_curve else (r.fail.xs, r.fail.ys, r.fail.step)
-              for r in rules}
-    titles = [s.tx.v for s in chart.series]
-    assert len(chart.series) == len(technologies) + len(shapes)
-    assert technologies <= set(titles)
-    lines = [x for x in titles if x.startswith("limit")]
-    for rule in rules:
-        assert sum(rule.id in x.replace(",", " ").split() for x in lines) == 1, rule.id
-
-
-def test_chart_data_holds_every_plotted_placement(book, report):
-    header, rows = table(book["Chart data"])
-    t = report.table
-    # AC-rated parts are kept off the DC limit lines (they are not judged against them).
-    dc = t["voltage_kind"] != "ac"
-    n = int((t["voltage_ratio"].notna() & t["t_operating_c"].notna() & dc).sum())
-    assert n < int((t["voltage_ratio"].notna() & t["t_operating_c"].notna()).sum())
-    assert sum(1 for r in rows if r[1] is not None) == n
-
-
-def test_step_limit_drawn_as_a_step():
-    from bomcheck.evaluate.rules import load_rules
-
-    # NASA EEE-INST-002 Section C1 Table 4, step reading (strict-step): 50 % to 70 degC, 30 % above
-    lines = xlsx.limit_lines(load_rules(["strict-step"]), 40.0, 100.0)
-    name, xs, ys = next(x for x in lines if "EEE-TAN-V-STEP" in x[0])
-    assert (70.0, 0.5) in zip(xs, ys) and (70.0, 0.3) in zip(xs, ys)
-    assert ys[0] == 0.5 and ys[-1] == 0.3 and xs == sorted(xs)
-
-
-def test_linear_limit_passes_through_its_points():
-    from bomcheck.evaluate.rules import load_rules
-
-    # industrial.toml IND-FLM-CAT: 100 % to 85 degC, 75 % at 105 degC, 50 % at 125 degC
-    lines = xlsx.limit_lines(load_rules(["industrial"]), 55.0, 95.0)
-    name, xs, ys = next(x for x in lines if "IND-FLM-CAT" in x[0])
-    assert dict(zip(xs, ys))[105.0] == pytest.approx(0.75)
-    assert xs[0] < 55.0 and xs[-1] > 125.0
 
 
 # ---- security --------------------------------------------------------------------------------
@@ -375,15 +217,6 @@ def test_no_formula_anywhere(hostile_book):
                 xml = z.read(name).decode("utf-8")
                 assert "<f>" not in xml and "<f " not in xml, name
                 assert "<hyperlink" not in xml, name
-
-
-@pytest.mark.parametrize("text, expected", [
-    ("ok\x01text", "ok\ufffdtext"),  # XML 1.0 forbids C0 controls but tab, LF, CR
-    ("tab\tand\nline", "tab\tand\nline"),
-    ("x" * 40_000, "x" * (xlsx.MAX_CELL_CHARS - 1) + "…"),  # Excel: 32,767 characters a cell
-])
-def test_safe_text(text, expected):
-    assert xlsx.safe_text(text) == expected
 
 
 # ---- atomic writing and limits ---------------------------------------------------------------
@@ -490,23 +323,8 @@ def test_libreoffice_prints_the_workbook_with_its_chart_and_no_hash_cells(report
 
 # ---- every figure of the JSON report, no empty column -----------------------------------------
 
-@pytest.fixture(scope="module")
-def sample_with_parts(tmp_path_factory):
-    """The sample board with its parts data, audited to JSON and to the workbook."""
-    import json
-
-    from bomcheck.cli.main import main
-
-    folder = tmp_path_factory.mktemp("parts")
-    main(["audit", str(SAMPLE_BOM), "--design", str(SAMPLE_DESIGN), "--parts",
-          str(ROOT / "sample_boms" / "bw7-parts.csv"), "--no-config", "--quiet",
-          "--json", str(folder / "a.json"), "--xlsx", str(folder / "a.xlsx")])
-    return (json.loads((folder / "a.json").read_text(encoding="utf-8")),
-            openpyxl.load_workbook(folder / "a.xlsx"), folder / "a.xlsx")
-
-
-def test_placements_carry_every_figure_the_json_carries(sample_with_parts):
-    report, wb, _ = sample_with_parts
+def test_placements_carry_every_figure_the_json_carries(sample_parts_outputs):
+    report, wb, _ = sample_parts_outputs
     headers = {c.value for c in wb["Placements"][1]}
     figures = {k for p in report["placements"] for part in ("metrics", "conditions")
                for k in p.get(part, {})}
@@ -515,8 +333,8 @@ def test_placements_carry_every_figure_the_json_carries(sample_with_parts):
     assert missing == []
 
 
-def test_no_column_is_empty_on_every_row(sample_with_parts):
-    _, wb, _ = sample_with_parts
+def test_no_column_is_empty_on_every_row(sample_parts_outputs):
+    _, wb, _ = sample_parts_outputs
     for name in ("Placements", "Findings", "Rules", "Not audited", "Chart data"):
         ws = wb[name]
         if ws.max_row < 2:
@@ -525,33 +343,6 @@ def test_no_column_is_empty_on_every_row(sample_with_parts):
                  if all(ws.cell(row=i, column=j).value is None
                         for i in range(2, ws.max_row + 1))]
         assert empty == [], f"{name}: {empty}"
-
-
-def test_chart_series_point_at_their_columns(sample_with_parts):
-    # The chart's references follow the Chart data columns that are written (an empty column
-    # left out shifts the ones after it).
-    import re
-
-    _, wb, path = sample_with_parts
-    headers = {cell.column_letter: cell.value for cell in wb["Chart data"][1]}
-    with zipfile.ZipFile(path) as z:
-        chart = next(z.read(n).decode("utf-8") for n in z.namelist()
-                     if n.startswith("xl/charts/chart"))
-    used = set(re.findall(r"'Chart data'!\$([A-Z]+)\$", chart))
-    assert {headers[c] for c in used} == {
-        xlsx.header_of("t_operating_c"), xlsx.header_of("voltage_ratio"),
-        "voltage ratio limit [%]"}
-
-
-@pytest.mark.parametrize("name", sorted(__import__("bomcheck.vocabulary").vocabulary.METRICS))
-def test_every_metric_has_a_short_header_with_its_unit(name):
-    from bomcheck.vocabulary import METRICS
-
-    m = METRICS[name]
-    header = xlsx.header_of(name)
-    assert header.startswith(m.title) and len(m.title) <= 50
-    if m.percent:
-        assert header.endswith("[%]")
 
 
 def test_wrapped_rows_get_the_height_of_their_lines(book):

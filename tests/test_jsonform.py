@@ -4,28 +4,30 @@ text, chunked streaming, defaults a reader can rebuild every verdict from."""
 import json
 import math
 from importlib import resources
-from pathlib import Path
 
 import jsonschema
 import numpy as np
 import pandas as pd
 import pytest
 
+from conftest import SAMPLE_BOM as BOM
+from conftest import SAMPLE_DESIGN as DESIGN
+from conftest import SAMPLE_PARTS as PARTS
+from hostile_cells import DESIGN as DESIGN_HEAD
+from hostile_cells import HEADER as BOM_HEADER
+
 from bomcheck.report import jsonform as report_json
 from bomcheck.pipeline.audit import AuditOptions, run_audit
 from bomcheck.report.jsonform import column_texts, objects
 
-ROOT = Path(__file__).resolve().parents[1]
-BOM = ROOT / "sample_boms" / "bw7-controller-bom.csv"
-DESIGN = ROOT / "sample_boms" / "bw7-design.csv"
-PARTS = ROOT / "sample_boms" / "bw7-parts.csv"
 SCHEMA = json.loads(resources.files("bomcheck.schemas").joinpath("report.schema.json")
                     .read_text("utf-8"))
 
 
 @pytest.fixture(scope="module")
-def sample():
-    return run_audit(str(BOM), str(DESIGN), AuditOptions(parts=str(PARTS)))
+def sample(sample_report_for):
+    """The sample board with its parts data under the default rule set (``industrial``)."""
+    return sample_report_for("industrial")
 
 
 @pytest.fixture(scope="module")
@@ -61,6 +63,7 @@ def test_objects_write_each_row_with_its_own_keys():
 def test_report_validates_and_is_byte_identical(sample, data):
     jsonschema.validate(data, SCHEMA)
     assert data["schema_version"] == 2
+    # a fresh run of the same inputs (not the session's report) writes the same bytes
     again = run_audit(str(BOM), str(DESIGN), AuditOptions(parts=str(PARTS)))
     assert "".join(again.iter_json()) == sample.to_json()
     assert "NaN" not in sample.to_json() and "Infinity" not in sample.to_json()
@@ -137,3 +140,17 @@ def test_flags_write_true_and_false_and_leave_out_unknown():
     assert texts.tolist() == ["true", "false"] and present.all()
     texts, present = column_texts(pd.Series([True, None], dtype="boolean"))
     assert texts[0] == "true" and present.tolist() == [True, False]
+
+
+# Moved from test_textsafe.py.
+def test_report_json_survives_an_infinite_metric(tmp_path):
+    """A 0 V rating gives an infinite stress ratio: the JSON report stays strict JSON."""
+    (tmp_path / "bom.csv").write_text(BOM_HEADER + "C1,1,100nF 16V X7R,x,y,Yes\n",
+                                      encoding="utf-8")
+    (tmp_path / "design.csv").write_text(DESIGN_HEAD + "C1,5,55,none\n", encoding="utf-8")
+    report = run_audit(str(tmp_path / "bom.csv"), str(tmp_path / "design.csv"))
+    report.table.loc[:, "voltage_ratio"] = np.inf
+    report.verdicts.loc[:, "value"] = np.inf
+    text = report.to_json()
+    data = json.loads(text, parse_constant=lambda c: pytest.fail(c))
+    assert data["placements"][0]["metrics"].get("voltage_ratio") is None  # left out, or null

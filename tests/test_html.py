@@ -1,5 +1,5 @@
 """The self-contained HTML report (bomcheck.render.html): content, no external asset, and a
-render in a real browser (headless Chromium) when one is installed."""
+render in a real browser (headless Chromium) when one is installed. The chart: test_html_chart.py."""
 
 from __future__ import annotations
 
@@ -9,20 +9,17 @@ import re
 import shutil
 import subprocess
 from html.parser import HTMLParser
-from pathlib import Path
 
 import pytest
 
-from bomcheck.pipeline.audit import run_audit
-from bomcheck.render.html import audit_html, substitute_html
+from substitute_boards import sample_result
 
-ROOT = Path(__file__).resolve().parents[1]
-SAMPLE = ROOT / "sample_boms"
+from bomcheck.render.html import audit_html, substitute_html
 
 
 @pytest.fixture(scope="module")
-def report():
-    return run_audit(str(SAMPLE / "bw7-controller-bom.csv"), str(SAMPLE / "bw7-design.csv"))
+def report(sample_report_bare):
+    return sample_report_bare
 
 
 @pytest.fixture(scope="module")
@@ -81,24 +78,8 @@ def test_placements_worst_first_in_natural_order(page, report):
     assert order[0] == "C43"  # -10 degC margin on a 10 degC limit: -200 %, the worst
 
 
-def test_chart_has_limit_lines_points_and_ac_apart(page, report):
-    assert page.count("<svg") == 2  # DC chart, and the AC-rated parts apart
-    dc = page[page.index('id="chart-dc"'):page.index('id="chart-ac"')]
-    assert dc.count('class="limit"') >= 3
-    ac_rated = set(report.table.loc[report.table["voltage_kind"] == "ac", "refdes"])
-    assert ac_rated and not any(f"<title>{r}:" in dc for r in ac_rated)
-    ac = page[page.index('id="chart-ac"'):]
-    assert all(f"<title>{r}:" in ac for r in ac_rated)
-
-
-def test_substitute_page(tmp_path):
-    from bomcheck.substitute import SubstituteOptions, read_alternates, run_substitute
-
-    result = run_substitute(str(SAMPLE / "bw7-controller-bom.csv"),
-                            str(SAMPLE / "bw7-design.csv"),
-                            list(read_alternates(str(SAMPLE / "bw7-alternates.csv"))),
-                            SubstituteOptions(),
-                            alternates_path=str(SAMPLE / "bw7-alternates.csv"))
+def test_substitute_page():
+    result = sample_result()  # the sample's alternates, checked once per session
     text = substitute_html(result)
     assert "Substitutes" in text and "rejected" in text and "Reviewed by" in text
     assert text.count("<tr data-status=") == len(result.results)

@@ -1,16 +1,18 @@
-"""Terminal renderer, read back as plain text (no colour, fixed width)."""
+"""Terminal renderer (bomcheck.render.terminal), read back as plain text (no colour, fixed width)."""
 
+from dataclasses import replace
 from io import StringIO
-from pathlib import Path
 
 import pytest
+from diff_reports import NEW, OLD
+from tiny_reports import tiny_report
 
-from bomcheck.pipeline.audit import run_audit
 from bomcheck.quantity import format_si
-from bomcheck.render.terminal import make_console, print_audit, print_specs
+from bomcheck.render.terminal import (make_console, print_audit, print_diff, print_findings,
+                                      print_quiet, print_ruleset_names, print_specs,
+                                      print_waiver_findings)
+from bomcheck.report.diff import compare
 from bomcheck.parse.values import parse_value
-
-ROOT = Path(__file__).resolve().parents[1]
 
 
 def plain(fn, *args, **kw) -> str:
@@ -21,10 +23,8 @@ def plain(fn, *args, **kw) -> str:
 
 
 @pytest.fixture(scope="module")
-def sample_text():
-    report = run_audit(str(ROOT / "sample_boms" / "bw7-controller-bom.csv"),
-                       str(ROOT / "sample_boms" / "bw7-design.csv"))
-    return plain(print_audit, report)
+def sample_text(sample_report_bare):
+    return plain(print_audit, sample_report_bare)
 
 
 def test_audit_table_worst_first_with_findings_totals_and_cautions(sample_text):
@@ -58,11 +58,8 @@ def test_format_si(value, unit, expected):
     assert format_si(value, unit) == expected
 
 
-def test_compact_layout_at_80_columns_breaks_no_word():
-    from bomcheck.render.terminal import print_quiet
-
-    report = run_audit(str(ROOT / "sample_boms" / "bw7-controller-bom.csv"),
-                       str(ROOT / "sample_boms" / "bw7-design.csv"))
+def test_compact_layout_at_80_columns_breaks_no_word(sample_report_bare):
+    report = sample_report_bare
     out = StringIO()
     print_audit(make_console(file=out, no_color=True, width=80), report)
     text = out.getvalue()
@@ -79,3 +76,39 @@ def test_compact_layout_at_80_columns_breaks_no_word():
     quiet = out.getvalue().splitlines()
     assert quiet[0].startswith("Placements audited 63: fail 17")
     assert quiet[-1] == "Overall: FAIL (severe environment)"
+
+
+def test_findings_list_every_verdict_not_passing_worst_first():
+    text = plain(print_findings, tiny_report())
+    lines = [line.strip() for line in text.splitlines()[1:]]
+    # worst first: fail, nodata, warn, then waived (the project's status order, DEVELOPERS.md)
+    assert [line.split()[0] for line in lines] == ["FAIL", "nodata", "WARN", "waived"]
+    assert lines[0] == "FAIL C2: ratio 80 % > 70 % limit"
+    assert plain(print_findings, tiny_report(), placements=[0]) == ""  # C1 passes
+
+
+def test_quiet_counts_every_status_and_ends_with_the_verdict():
+    report = tiny_report()
+    rows = {"rows_read": 7, "capacitor_rows": 6, "non_capacitor_rows": 1, "unreadable_rows": 0,
+            "placements": 6, "fitted": 5, "not_fitted": 1}
+    lines = plain(print_quiet, replace(report, totals={**report.totals, **rows})).splitlines()
+    assert lines[0] == "Placements audited 5: fail 1  nodata 1  warn 1  waived 1  pass 1"
+    assert lines[1].startswith("rows read 7 = capacitor rows 6 + non-capacitor rows 1")
+    assert lines[-1] == "Overall: FAIL (severe environment)"
+
+
+def test_waiver_findings_one_line_each():
+    assert plain(print_waiver_findings, tiny_report().waiver_findings).strip() == (
+        "waiver expired waiver 2 (C2 R-V) expired on 2026-01-31; its verdicts stand")
+
+
+def test_diff_table_marks_new_problems_and_ends_with_the_counts():
+    text = plain(print_diff, compare(OLD, NEW))
+    assert "changed (new problem)" in text and "Placements added: C3" in text
+    assert "Placements removed: C5" in text
+    assert text.rstrip().splitlines()[-1].startswith("Baseline: ")
+
+
+def test_ruleset_names_mark_the_default():
+    text = plain(print_ruleset_names, ["industrial", "strict"], "industrial")
+    assert text.splitlines()[:2] == ["industrial  (default)", "strict"]

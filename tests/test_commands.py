@@ -1,4 +1,5 @@
-"""The command line end to end through bomcheck.cli.main.main: exit codes, outputs, colour, config."""
+"""The commands (bomcheck.cli.commands) end to end through bomcheck.cli.main.main: exit codes,
+outputs, colour, config, progress, baselines, diff."""
 
 import csv
 import io
@@ -8,8 +9,13 @@ import xml.etree.ElementTree as ET
 
 import pytest
 
+from conftest import ROOT
+from diff_reports import NEW, OLD
+
 from bomcheck.cli import commands
 from bomcheck.cli.main import main
+from bomcheck.render.markdown import diff_markdown
+from bomcheck.report.diff import compare
 
 HEADER = "Designator,Qty,Value,Description,Manufacturer Part Number\n"
 # Invented parts. 3.3 V on a 50 V ceramic passes and 15 V on a 16 V ceramic fails every shipped
@@ -95,13 +101,6 @@ def test_bad_input_is_one_line_on_stderr(board, capsys, argv):
     captured = capsys.readouterr()
     assert captured.err.startswith("bomcheck: error: ")
     assert captured.err.count("\n") == 1 and "Traceback" not in captured.err
-
-
-def test_bad_today_is_a_usage_error(board, capsys):
-    with pytest.raises(SystemExit) as info:
-        audit(board("pass"), "--today", "31/12/2026")
-    assert info.value.code == 2
-    assert "not a date" in capsys.readouterr().err
 
 
 def test_json_to_stdout_parses_and_nothing_else_is_printed(board, capsys):
@@ -246,20 +245,7 @@ def test_progress_only_on_a_terminal_for_a_large_bom(tmp_path, monkeypatch):
 
 
 # --------------------------------------------------------------------------------------------
-# Internal errors, standard input and input limits (issue 10).
-
-def test_an_internal_error_has_its_own_exit_status_and_one_line(board, capsys, monkeypatch):
-    def broken(args):
-        raise KeyError("unexpected")
-
-    monkeypatch.setattr(commands, "run_import", broken)
-    assert main(["import", board("pass")]) == 3  # never 0 (clean), 1 (findings) or 2 (input)
-    err = capsys.readouterr().err
-    assert err.count("\n") == 1 and "internal error" in err and "--debug" in err
-    assert "Traceback" not in err
-    with pytest.raises(KeyError):
-        main(["--debug", "import", board("pass")])
-
+# Standard input and input limits (issue 10).
 
 def test_bom_from_standard_input(board, capsys, monkeypatch):
     data = (HEADER + LINES["pass"] + LINES["fail"]).encode("utf-8")
@@ -282,13 +268,6 @@ def test_placement_limit_refuses_with_its_option_and_the_option_raises_it(board,
     assert "more than 50,000 placements" in err and "--max-placements" in err
     assert main(["import", "big.csv", "--max-placements", "60000", "--json", "-"]) == 0
     capsys.readouterr()
-
-
-@pytest.mark.parametrize("value", ["0", "-3", "abc", "1.5"])
-def test_limit_options_take_whole_numbers_above_zero(board, capsys, value):
-    with pytest.raises(SystemExit) as exc:
-        main(["import", board("pass"), "--max-rows", value])
-    assert exc.value.code == 2
 
 
 # Libraries and modules a CSV audit with a JSON report does not use (issue 13, start-up): units
@@ -318,3 +297,93 @@ def test_the_sample_audit_imports_only_what_it_needs(tmp_path):
                          check=True, cwd=tmp_path)
     assert out.stdout.split(" ", 1) == ["1", "[]\n"]  # the sample board has failures: 1
     assert json.loads((tmp_path / "r.json").read_text(encoding="utf-8"))["placements"]
+
+
+# --------------------------------------------------------------------------------------------
+# bomcheck diff (the comparison itself: test_diff.py)
+
+@pytest.fixture
+def pair(tmp_path):
+    old, new = tmp_path / "old.json", tmp_path / "new.json"
+    old.write_text(json.dumps(OLD), encoding="utf-8")
+    new.write_text(json.dumps(NEW), encoding="utf-8")
+    return str(old), str(new)
+
+
+def test_cli_diff_exit_status_with_fail_on_new(pair, capsys):
+    old, new = pair
+    assert main(["diff", old, new]) == 0                    # a comparison alone never fails
+    assert main(["diff", old, new, "--fail-on", "new"]) == 1
+    assert main(["diff", new, new, "--fail-on", "new"]) == 0
+    # the way back resolves C3 and improves C1, but C5 comes back as a new failure
+    assert main(["diff", new, old, "--fail-on", "new"]) == 1
+    out = capsys.readouterr().out
+    assert "Changes since the baseline" in out and "new problem" in out
+
+
+def test_cli_diff_json_and_markdown(pair, tmp_path, capsys):
+    old, new = pair
+    out_json, out_md = tmp_path / "d.json", tmp_path / "d.md"
+    assert main(["diff", old, new, "--json", str(out_json), "--markdown", str(out_md)]) == 0
+    data = json.loads(out_json.read_text(encoding="utf-8"))
+    assert data["counts"]["new_problems"] == 2
+    assert data["changed"] == [{"refdes": "C1", "rule": "R-V", "old_status": "pass",
+                                "new_status": "fail", "old_message": None,
+                                "new_message": "C1: R-V fail"}]
+    assert (data["old"]["label"], data["new"]["label"]) == (old, new)
+    assert out_md.read_text(encoding="utf-8") == diff_markdown(compare(OLD, NEW, old_label=old,
+                                                                       new_label=new))
+    capsys.readouterr()
+    assert main(["diff", old, new, "--json", "-"]) == 0
+    assert json.loads(capsys.readouterr().out)["counts"]["changed"] == 1
+
+
+def test_cli_diff_bad_file_is_one_line_error(tmp_path, capsys):
+    bad = tmp_path / "bad.json"
+    bad.write_text("{not json", encoding="utf-8")
+    assert main(["diff", str(bad), str(bad)]) == 2
+    err = capsys.readouterr().err
+    assert err.startswith("bomcheck: error: ") and err.count("\n") == 1
+    assert "Traceback" not in err
+
+
+# --------------------------------------------------------------------------------------------
+# The sample board through the command line: outputs from the registry and [tool.bomcheck]
+
+def test_config_turns_on_html_sarif_and_annotations(tmp_path, monkeypatch, capsys):
+    monkeypatch.chdir(tmp_path)
+    sample = ROOT / "sample_boms"
+    (tmp_path / "pyproject.toml").write_text(
+        "[tool.bomcheck]\n"
+        f'design = "{(sample / "bw7-design.csv").as_posix()}"\n'
+        'html = "out/report.html"\nsarif = "out/report.sarif"\nannotations = true\n',
+        encoding="utf-8")
+    (tmp_path / "out").mkdir()
+    code = main(["audit", str(sample / "bw7-controller-bom.csv"), "--quiet"])
+    assert code == 1
+    assert (tmp_path / "out" / "report.html").stat().st_size > 10_000
+    assert (tmp_path / "out" / "report.sarif").exists()
+    out = capsys.readouterr().out
+    assert "::error file=" in out and "::warning file=" in out
+    assert out.rstrip().endswith("Overall: FAIL (severe environment)")
+
+
+def test_two_outputs_on_stdout_are_refused(tmp_path, monkeypatch, capsys):
+    monkeypatch.chdir(tmp_path)
+    sample = ROOT / "sample_boms"
+    code = main(["audit", str(sample / "bw7-controller-bom.csv"), "--design",
+                 str(sample / "bw7-design.csv"), "--no-config", "--json", "-", "--annotations"])
+    assert code == 2
+    assert "only one report can go to standard output" in capsys.readouterr().err
+
+
+def test_piped_output_is_80_columns_wide(tmp_path, monkeypatch, capsys):
+    """Not a terminal (a pipe, a CI log): 80 columns, so the list layout, no line longer."""
+    monkeypatch.chdir(tmp_path)
+    monkeypatch.delenv("COLUMNS", raising=False)
+    sample = ROOT / "sample_boms"
+    main(["audit", str(sample / "bw7-controller-bom.csv"), "--design",
+          str(sample / "bw7-design.csv"), "--no-config"])
+    out = capsys.readouterr().out
+    assert max(len(line) for line in out.splitlines()) <= 80
+    assert out.startswith("Capacitor derating audit (worst first)\nFAIL C43 row 23")
