@@ -1,20 +1,19 @@
 """Markdown for a pull-request comment (bomcheck.render.markdown): an audit's summary, the
 comparison with a baseline, a batch's per-board pieces; GitHub-flavoured Markdown tables."""
 
-import math
 from types import SimpleNamespace
 
 import pytest
 from diff_reports import NEW, OLD
 from tiny_reports import tiny_report
 
-from bomcheck.quantity import format_metric
-from bomcheck.render.markdown import (batch_markdown_head, board_markdown, diff_markdown,
-                                      markdown_summary)
+from bomcheck.render.markdown import (
+    batch_markdown_head,
+    board_markdown,
+    diff_markdown,
+    markdown_summary,
+)
 from bomcheck.report.diff import compare
-
-NAN = math.nan
-
 
 EXPECTED_MARKDOWN = """\
 ## bomcheck audit: FAIL
@@ -119,16 +118,3 @@ def test_batch_markdown_head_has_one_row_per_board():
     assert text.startswith("# bomcheck batch audit: FAIL\n\n")
     assert "| A\\|B | fail | 3 | 1 | 0 | 0 | 2 |\n" in text  # product escaped (GFM table)
     assert text.endswith("| C | pass | 1 | 1 | 0 | 0 | 0 |\n")
-
-
-# Formatting of a metric (bomcheck.quantity.format_metric), as the Markdown table shows it
-
-@pytest.mark.parametrize("value, metric, text", [
-    (0.5625, "voltage_ratio", "56.25 %"),
-    (-10.0, "temp_margin_c", "-10 degC"),
-    (2.2e-6, "c_worst_f", "2.2 uF"),
-    (NAN, "voltage_ratio", ""),
-    (3.0, None, "3"),
-])
-def test_format_metric(value, metric, text):
-    assert format_metric(value, metric) == text

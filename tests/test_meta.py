@@ -199,3 +199,28 @@ def test_only_the_reader_and_writers_open_files():
                 if direct:
                     offenders.append(f"{_rel(path)}:{node.lineno}")
     assert offenders == []
+
+
+# Suites that guard the whole tool rather than one module; every other test module is named after
+# the source module it tests (DEVELOPERS.md, "Tests").
+CROSS_CUTTING = {"test_golden", "test_meta", "test_monotone", "test_no_wrong_pass",
+                 "test_no_wrong_pass_stress", "test_extending", "test_hostile_inputs",
+                 "test_packaging", "test_rule_examples"}
+
+
+def _test_module_of(path: Path) -> str:
+    """`test_<name>`, or `test_<package>_<name>` where the name is used twice or the package is
+    the substitute check (its modules are named for their part of the check)."""
+    package = path.parent.name
+    shared = sum(other.stem == path.stem for other in MODULES) > 1
+    if package == "substitute" or shared:
+        return f"test_{package}_{path.stem}"
+    return f"test_{path.stem}"
+
+
+def test_one_test_module_per_source_module():
+    wanted = {_test_module_of(p) for p in MODULES if p.name not in ("__init__.py", "__main__.py")}
+    present = {p.stem for p in (ROOT / "tests").glob("test_*.py")}
+    assert not wanted - present, f"source modules without a test module: {sorted(wanted - present)}"
+    strays = present - wanted - CROSS_CUTTING
+    assert not strays, f"test modules named after no source module: {sorted(strays)}"

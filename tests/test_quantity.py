@@ -8,8 +8,15 @@ import math
 import pandas as pd
 import pytest
 
-from bomcheck.quantity import (format_farads, format_metric, format_number, format_quantity,
-                               is_missing, visible_pair)
+from bomcheck.quantity import (
+    format_farads,
+    format_metric,
+    format_number,
+    format_quantity,
+    format_si,
+    is_missing,
+    visible_pair,
+)
 
 
 @pytest.mark.parametrize(("x", "text"), [
@@ -59,3 +66,26 @@ def test_format_metric_uses_the_metrics_display_unit():
     assert format_metric(-10.0, "t_operating_c", glyphs=True) == "-10 °C"
     assert format_metric(5.0, "no such metric") == "5"
     assert format_metric(None, "voltage_ratio") == ""
+
+
+# SI prefixes as IEC 60027-1 / SI brochure spell them (u for micro, as plain text)
+@pytest.mark.parametrize("value, unit, expected", [
+    (4.7e-6, "F", "4.7 uF"), (1e-10, "F", "100 pF"), (0.1, "F", "100 mF"), (13.2, "V", "13.2 V"),
+    (38056.68, "ohm", "38.06 kohm"), (0, "V", "0 V"),
+])
+def test_format_si(value, unit, expected):
+    assert format_si(value, unit) == expected
+
+
+# Formatting of a metric (bomcheck.quantity.format_metric), as the tables show it (common practice:
+# percent for ratios, SI prefixes for farads)
+
+@pytest.mark.parametrize("value, metric, text", [
+    (0.5625, "voltage_ratio", "56.25 %"),
+    (-10.0, "temp_margin_c", "-10 degC"),
+    (2.2e-6, "c_worst_f", "2.2 uF"),
+    (math.nan, "voltage_ratio", ""),
+    (3.0, None, "3"),
+])
+def test_format_metric(value, metric, text):
+    assert format_metric(value, metric) == text

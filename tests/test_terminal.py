@@ -7,12 +7,18 @@ import pytest
 from diff_reports import NEW, OLD
 from tiny_reports import tiny_report
 
-from bomcheck.quantity import format_si
-from bomcheck.render.terminal import (make_console, print_audit, print_diff, print_findings,
-                                      print_quiet, print_ruleset_names, print_specs,
-                                      print_waiver_findings)
-from bomcheck.report.diff import compare
 from bomcheck.parse.values import parse_value
+from bomcheck.render.terminal import (
+    make_console,
+    print_audit,
+    print_diff,
+    print_findings,
+    print_quiet,
+    print_ruleset_names,
+    print_specs,
+    print_waiver_findings,
+)
+from bomcheck.report.diff import compare
 
 
 def plain(fn, *args, **kw) -> str:
@@ -48,14 +54,6 @@ def test_specs_table():
     text = plain(print_specs, [parse_value("4u7 50V X7R"), parse_value("4K7 RES")])
     assert "4.7 uF" in text and "50 V" in text and "X7R" in text
     assert "no" in text  # the resistor is not a capacitor
-
-
-@pytest.mark.parametrize("value, unit, expected", [
-    (4.7e-6, "F", "4.7 uF"), (1e-10, "F", "100 pF"), (0.1, "F", "100 mF"), (13.2, "V", "13.2 V"),
-    (38056.68, "ohm", "38.06 kohm"), (0, "V", "0 V"),
-])
-def test_format_si(value, unit, expected):
-    assert format_si(value, unit) == expected
 
 
 def test_compact_layout_at_80_columns_breaks_no_word(sample_report_bare):

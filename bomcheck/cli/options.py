@@ -19,7 +19,7 @@ def _positive_int(text: str) -> int:
         value = float(text.replace("_", ""))
     except ValueError:
         value = float("nan")
-    if not (value >= 1 and value == int(value) and value < 1e15):
+    if not (1 <= value < 1e15 and value == int(value)):  # inf and nan stop before int()
         raise argparse.ArgumentTypeError(f"not a whole number above 0: {text!r}")
     return int(value)
 
