@@ -108,11 +108,15 @@ def parse_line_cells(parser: CellParser, line: dict[str, np.ndarray], present: l
     names = [sc.source for sc in sources]
     cores = [parser.core({s: infos[k][cell_codes[k][li]] for k, s in enumerate(names)})
              for li in first]
-    one = np.array([c.one_source for c in cores], dtype=bool)[code] if n \
+    # What is each line's own depends only on its cells: made once per combination of cells
+    # (at its first line), then taken by line.
+    rep = np.flatnonzero(~pd.Series(cells).duplicated().to_numpy())
+    at = [sc.code[rep] for sc in sources]
+    one = np.array([c.one_source for c in cores], dtype=bool)[code[rep]] if n \
         else np.zeros(0, dtype=bool)
-    warnings = _own_column(sources, "warnings", one, n)
-    unread = _own_column(sources, "unread", one, n)
-    text, value_text, description = _texts(sources, n)
+    own = [_own_column(sources, at, name, one) for name in ("warnings", "unread")]
+    texts = _texts(sources, at, len(rep))
+    text, value_text, description, warnings, unread = (c[cells] for c in (*texts, *own))
     return LineCells(cores, code, cells, n_cells, text, value_text, description, warnings,
                      unread, sources)
 
@@ -128,39 +132,44 @@ def _source_cells(parser: CellParser, source: str, codes: np.ndarray, info: list
         _objects([tuple(parser.merger.text_conflicts(source, w)) if w else () for w in own_w]))
 
 
-def _own_column(sources: list[SourceCells], name: str, one: np.ndarray, n: int) -> np.ndarray:
-    """Each line's own warnings (or unread tokens): a line with one cell of text (``one``) takes
-    that cell's as they are; the others take every read cell's, in source order, each once."""
-    out = _filled(n, ())
+def _own_column(sources: list[SourceCells], at: list[np.ndarray], name: str, one: np.ndarray
+                ) -> np.ndarray:
+    """The own warnings (or unread tokens) of lines whose cells of each source are ``at``: a
+    line with one cell of text (``one``) takes that cell's as they are; the others take every
+    read cell's, in source order, each once."""
+    m = len(one)
+    out = _filled(m, ())
     per_line = []
-    for sc in sources:
+    for sc, code in zip(sources, at):
         vals = getattr(sc, name)
-        has = np.array([bool(v) for v in vals], dtype=bool)[sc.code] & sc.read[sc.code] \
-            if n else np.zeros(0, dtype=bool)
-        per_line.append((vals, has))
-    count = sum((h.astype(np.int64) for _, h in per_line), np.zeros(n, dtype=np.int64))
-    for (vals, has), sc in zip(per_line, sources):
+        has = np.array([bool(v) for v in vals], dtype=bool)[code] & sc.read[code] \
+            if m else np.zeros(0, dtype=bool)
+        per_line.append((vals, has, code))
+    count = sum((h.astype(np.int64) for _, h, _ in per_line), np.zeros(m, dtype=np.int64))
+    for vals, has, code in per_line:
         take = has & (count == 1)
         if not take.any():
             continue
-        mine = vals[sc.code[take]]
+        mine = vals[code[take]]
         if not one[take].all():  # merged lines keep each warning once
-            dedup = _objects([tuple(dict.fromkeys(v)) for v in vals])[sc.code[take]]
+            dedup = _objects([v if len(v) < 2 else tuple(dict.fromkeys(v))
+                              for v in vals])[code[take]]
             mine = np.where(one[take], mine, dedup)
         out[take] = mine
     for li in np.flatnonzero(count > 1):
-        out[li] = tuple(dict.fromkeys(x for (vals, has), sc in zip(per_line, sources)
-                                      if has[li] for x in vals[sc.code[li]]))
+        out[li] = tuple(dict.fromkeys(x for vals, has, code in per_line
+                                      if has[li] for x in vals[code[li]]))
     return out
 
 
-def _texts(sources: list[SourceCells], n: int) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    """(the line's text: its filled cells joined " | ", the value cell, the description cell),
-    spaces collapsed."""
-    text = _filled(n, "")
-    named = {"value": _filled(n, ""), "description": _filled(n, "")}
-    for sc in sources:
-        cell = sc.collapsed[sc.code] if n else _filled(0, "")
+def _texts(sources: list[SourceCells], at: list[np.ndarray], m: int
+           ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """(the text: filled cells joined " | ", the value cell, the description cell), spaces
+    collapsed, of lines whose cells of each source are ``at``."""
+    text = _filled(m, "")
+    named = {"value": _filled(m, ""), "description": _filled(m, "")}
+    for sc, code in zip(sources, at):
+        cell = sc.collapsed[code] if m else _filled(0, "")
         if sc.source in named:
             named[sc.source] = cell
         filled = cell != ""

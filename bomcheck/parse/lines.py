@@ -131,7 +131,8 @@ def build_lines(table: reader.RawTable, mapping: dict[str, str], source: BomSour
     lines = Lines(line_of_row, kind, head_rows, line["manufacturer"], line["mpn"],
                   side_by_side(table, mapping, heads))
     return ImportResult(source=source, placements=placements, skipped=skipped,
-                        findings=tuple(sorted(findings)), totals=totals), lines
+                        findings=tuple(sorted(findings, key=ImportFinding.sort_key)),
+                        totals=totals), lines
 
 
 def _join_lines(frame: pd.DataFrame, mapping: dict[str, str], all_arrays: list[np.ndarray],

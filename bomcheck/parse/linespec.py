@@ -81,6 +81,14 @@ FLOAT_SPEC = ("capacitance_f", "voltage_v", "tol_minus_pct", "tol_plus_pct", "to
 
 def not_fitted_mark(text: str) -> str | None:
     """The not-fitted mark in a cell (``DNP``, ``do not populate``, ``nicht bestückt``...)."""
+    if text.isascii():
+        # Every form of _NOT_FITTED starts with one of these pairs (lower-cased); an ASCII text
+        # with none of them holds no mark (a few substring tests cost less than the pattern).
+        low = text.lower()
+        if not ("n" in low and ("dn" in low or "no" in low or "do" in low or "ni" in low
+                                or "un" in low or "nf" in low or "n/" in low or "n." in low
+                                or "nc" in low)):
+            return None
     m = _NOT_FITTED.search(text)
     return m.group(0) if m else None
 
@@ -298,15 +306,18 @@ class CellParser:
         """What ``core`` reads of one cell: its spec (by identity: the specs live in the
         cache), its not-fitted mark and, for the value and the description, the words of
         capacitors and of other parts in its cleaned text."""
-        head = (id(info[2][0]) if info[2] is not None else None, info[1])
+        spec = info[2][0] if info[2] is not None else None
+        head = (id(spec) if spec is not None else None, info[1])
         if source not in ("value", "description"):
             return head
         cleaned = info[0]
+        # A dielectric code makes a capacitor line's evidence strong whatever its words say.
+        says = True if spec is not None and spec.dielectric else self._says_capacitor(cleaned)
         if cleaned not in self._other:
             self._other[cleaned] = _other_word(cleaned)
         if source == "value" and cleaned not in self._form:
             self._form[cleaned] = _other_value_form(cleaned)
-        return (*head, self._says_capacitor(cleaned), self._other[cleaned],
+        return (*head, says, self._other[cleaned],
                 self._form.get(cleaned) if source == "value" else None)
 
     def core(self, info: Mapping[str, tuple[str, str | None, Reading | None, str]]) -> Core:
