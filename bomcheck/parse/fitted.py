@@ -131,7 +131,7 @@ def _combo_marks(source: str, lc: LineCells
     codes[marked] = np.arange(1, len(marked) + 1)
     marks = [lc.cores[lc.code[li]].marks[source] for li in marked]
     return ([None, *marks], codes,
-            [False, *(_variant_only(str(lc.text[li])) for li in marked)])
+            [False, *(_variant_only(lc.text(li)) for li in marked)])
 
 
 def _marks_by_cell(cells: np.ndarray) -> tuple[list[str | None], np.ndarray, list[bool]]:

@@ -70,16 +70,22 @@ class LineCells:
     code: np.ndarray  # core per line
     cells: np.ndarray  # distinct combination of cells per line (the same text reads the same)
     n_cells: int
-    text: np.ndarray  # the line's cells joined " | "
-    value_text: np.ndarray
-    description: np.ndarray
-    warnings: np.ndarray  # per line: its cells' warnings (tuple)
-    unread: np.ndarray  # per line: its cells' unread tokens (tuple)
+    # Per combination of cells (by ``cells``): what each line has of its own.
+    own: dict[str, np.ndarray]  # OWN_COLUMNS -> values
     sources: list[SourceCells]  # per source, in SPEC_SOURCES order
 
     def core_of(self, name: str, dtype: type) -> np.ndarray:
         """One attribute of the cores, per line."""
         return np.array([getattr(c, name) for c in self.cores], dtype=dtype)[self.code]
+
+    def text(self, li: int) -> str:
+        """The cells of line ``li`` joined " | " (spaces collapsed)."""
+        return str(self.own["text"][self.cells[li]])
+
+
+# What each line has of its own: its text (the filled cells joined " | "), its value and
+# description cells (spaces collapsed), its cells' warnings and unread tokens (tuples).
+OWN_COLUMNS = ("text", "value_text", "description", "warnings", "unread")
 
 
 def parse_line_cells(parser: CellParser, line: dict[str, np.ndarray], present: list[str],
@@ -114,11 +120,10 @@ def parse_line_cells(parser: CellParser, line: dict[str, np.ndarray], present: l
     at = [sc.code[rep] for sc in sources]
     one = np.array([c.one_source for c in cores], dtype=bool)[code[rep]] if n \
         else np.zeros(0, dtype=bool)
-    own = [_own_column(sources, at, name, one) for name in ("warnings", "unread")]
-    texts = _texts(sources, at, len(rep))
-    text, value_text, description, warnings, unread = (c[cells] for c in (*texts, *own))
-    return LineCells(cores, code, cells, n_cells, text, value_text, description, warnings,
-                     unread, sources)
+    own = dict(zip(OWN_COLUMNS, (*_texts(sources, at, len(rep)),
+                                 *(_own_column(sources, at, name, one)
+                                   for name in ("warnings", "unread")))))
+    return LineCells(cores, code, cells, n_cells, own, sources)
 
 
 def _source_cells(parser: CellParser, source: str, codes: np.ndarray, info: list

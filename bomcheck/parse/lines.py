@@ -207,7 +207,7 @@ def _reasons(cap_line: np.ndarray, line_repeated: np.ndarray, des: Designators,
     special = line_repeated[not_taken] | des.has_error[not_taken]
     for li in not_taken[special]:
         reason[li] = _reason(int(li), line_repeated, des, pk, lc.cores[lc.code[li]],
-                             lc.text[li])
+                             lc.text(li))
     plain = not_taken[~special]
     if len(plain):
         pfx_codes, pfx_uniq = pd.factorize(des.prefix[plain])
@@ -216,7 +216,7 @@ def _reasons(cap_line: np.ndarray, line_repeated: np.ndarray, des: Designators,
         texts = np.empty(n_keys, dtype=object)
         for k, j in enumerate(firsts):
             li = int(plain[j])
-            texts[k] = _reason(li, line_repeated, des, pk, lc.cores[lc.code[li]], lc.text[li])
+            texts[k] = _reason(li, line_repeated, des, pk, lc.cores[lc.code[li]], lc.text(li))
         reason[plain] = texts[key]
     return reason
 

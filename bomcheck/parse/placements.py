@@ -11,7 +11,7 @@ import pandas as pd
 
 from bomcheck.parse.bomresult import PLACEMENT_COLUMNS, ImportFinding, finding
 from bomcheck.parse.designators import Designators
-from bomcheck.parse.linecells import LineCells
+from bomcheck.parse.linecells import OWN_COLUMNS, LineCells
 from bomcheck.parse.linespec import FLOAT_SPEC, SPEC_COLUMNS
 
 def placements_of(cap_idx: np.ndarray, des: Designators, line: dict[str, np.ndarray],
@@ -40,13 +40,14 @@ def placements_of(cap_idx: np.ndarray, des: Designators, line: dict[str, np.ndar
         "manufacturer": line["manufacturer"][line_of],
         "qty": qty[line_of],
     }
-    # Each line's own columns, taken by line.
-    for k in _OWN:
-        data[k] = getattr(lc, k)[line_of]
+    # Each line's own columns, taken by combination of cells.
+    own_at = lc.cells[line_of]
+    for k in OWN_COLUMNS:
+        data[k] = lc.own[k][own_at]
     # Per-core values as two blocks (floats, objects), each taken by code in one step.
     combos = lc.cores
     obj_cols = [k for k in SPEC_COLUMNS
-                if k not in FLOAT_SPEC and k != "is_capacitor" and k not in _OWN]
+                if k not in FLOAT_SPEC and k != "is_capacitor" and k not in OWN_COLUMNS]
     n_c = len(combos)
     obj_block = np.empty((n_c, len(obj_cols)), dtype=object)
     for j, k in enumerate(obj_cols):
@@ -84,9 +85,10 @@ def placement_findings(placements: pd.DataFrame, lc: LineCells) -> list[ImportFi
             lc.code)]
     per.extend((sc.conflicts, sc.code) for sc in lc.sources)
     for conflicts, code in per:
+        if not any(conflicts):
+            continue
         pc = code[line_of]
-        has = np.array([bool(c) for c in conflicts], dtype=bool)[pc] if len(conflicts) \
-            else np.zeros(len(pc), dtype=bool)
+        has = np.array([bool(c) for c in conflicts], dtype=bool)[pc]
         for p in np.flatnonzero(has & fitted):
             out.extend(finding(int(rows[p]), str(refdes[p]), c, msg)
                        for c, msg in conflicts[pc[p]])
@@ -98,9 +100,10 @@ def placement_findings(placements: pd.DataFrame, lc: LineCells) -> list[ImportFi
                       dtype=bool)[lc.code[line_of]]
     for p in np.flatnonzero(no_cap & fitted):
         li = line_of[p]
-        code = "capacitance_unread" if lc.value_text[li] else "capacitance_missing"
+        code = "capacitance_unread" if lc.own["value_text"][lc.cells[li]] \
+            else "capacitance_missing"
         out.append(finding(int(rows[p]), str(refdes[p]), code,
-                           f"no capacitance could be read from the BOM text ({lc.text[li]!r}); "
+                           f"no capacitance could be read from the BOM text ({lc.text(li)!r}); "
                            "checks that need it have no data"))
     if len(set(refdes)) < len(refdes):
         dup = pd.Series(refdes).duplicated(keep="first").to_numpy()
@@ -112,7 +115,3 @@ def placement_findings(placements: pd.DataFrame, lc: LineCells) -> list[ImportFi
                 "appear once",
             ))
     return out
-
-
-# The columns each line has of its own (not taken from its core).
-_OWN = ("text", "value_text", "description", "warnings", "unread")
