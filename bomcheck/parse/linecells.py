@@ -96,7 +96,7 @@ def parse_line_cells(parser: CellParser, line: dict[str, np.ndarray], present: l
     key_codes, key_sizes, cell_codes, cell_sizes = [], [], [], []
     for s in (s for s in SPEC_SOURCES if s in present):
         codes, uniq = pd.factorize(line[s])
-        info = [parser.cell(s, str(u)) for u in uniq]
+        info = parser.cells(s, map(str, uniq))
         keys: dict[tuple, int] = {}
         kc = np.array([keys.setdefault(parser.cell_key(s, i), len(keys)) for i in info],
                       dtype=np.int64)

@@ -11,7 +11,7 @@ evidence, words of other parts).
 from __future__ import annotations
 
 import re
-from collections.abc import Mapping
+from collections.abc import Iterable, Mapping
 from dataclasses import dataclass
 from typing import Any
 
@@ -199,6 +199,7 @@ _BARE_NUMBER = re.compile(r"[-+]?(?:\d+(?:\.\d*)?|\.\d+)").fullmatch
 # What a cell says: a spec with its readings, the cell's own warnings and unread tokens.
 Reading = tuple[CapSpec, tuple[str, ...], tuple[str, ...]]
 _NO_CELL: tuple[str, str | None, Reading | None, str] = ("", None, None, "")
+_NOT_READ = object()  # a cell not in CellParser's cache yet
 
 
 class CellParser:
@@ -255,10 +256,11 @@ class CellParser:
         (cached; see ``ValueParser.read``); None for an empty cell."""
         text = self._as_parsed(source, text)
         key = (source, text)
-        if key not in self._cache:
-            self._cache[key] = self._values.read(text, _CONTEXT.get(source, source)) \
+        got = self._cache.get(key, _NOT_READ)
+        if got is _NOT_READ:
+            got = self._cache[key] = self._values.read(text, _CONTEXT.get(source, source)) \
                 if text else None
-        return self._cache[key]
+        return got  # type: ignore[return-value]
 
     def _as_parsed(self, source: str, text: str) -> str:
         """A cleaned cell as it is parsed: a bare number with its header's unit, a
@@ -276,10 +278,20 @@ class CellParser:
         key = (source, text)
         got = self._cells.get(key)
         if got is None:
-            collapsed = " ".join(text.split())
-            cleaned, mark = self._clean_collapsed(collapsed)
-            got = self._cells[key] = (cleaned, mark, self.reading(source, cleaned), collapsed)
+            got = self._cells[key] = self.cells(source, (text,))[0]
         return got
+
+    def cells(self, source: str, texts: Iterable[str]
+              ) -> list[tuple[str, str | None, Reading | None, str]]:
+        """``cell`` of each of many cells of a source, which the caller has made distinct
+        (they are not kept per cell)."""
+        out = []
+        clean, reading = self._clean_collapsed, self.reading
+        for text in texts:
+            collapsed = " ".join(text.split())
+            cleaned, mark = clean(collapsed)
+            out.append((cleaned, mark, reading(source, cleaned), collapsed))
+        return out
 
     def combo(self, cells: dict[str, str]) -> Combo:
         """What one distinct combination of a line's value-bearing cells says."""
