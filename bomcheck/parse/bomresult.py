@@ -71,13 +71,15 @@ class ImportFinding:
     message: str
     severity: str = "warn"
 
-    def _key(self) -> tuple[int, str, str, str]:
+    def sort_key(self) -> tuple[int, str, str, str]:
+        """The order of findings: ``sorted(findings, key=ImportFinding.sort_key)`` gives the
+        order ``sorted(findings)`` gives, making each finding's key once."""
         return (self.row, self.refdes or "", self.code, self.message)
 
     def __lt__(self, other: object) -> bool:
         if not isinstance(other, ImportFinding):
             return NotImplemented
-        return self._key() < other._key()
+        return self.sort_key() < other.sort_key()
 
     def to_dict(self) -> dict:
         """Plain dict for JSON."""

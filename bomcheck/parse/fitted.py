@@ -10,7 +10,8 @@ import pandas as pd
 
 from bomcheck.parse import columns as colmod
 from bomcheck.parse.designators import Designators
-from bomcheck.parse.linespec import Combo, not_fitted_mark, strip_not_fitted
+from bomcheck.parse.linecells import LineCells
+from bomcheck.parse.linespec import not_fitted_mark, strip_not_fitted
 
 # Fitted-column cells, folded (casefold, stripped).
 _FITTED_NO = frozenset({
@@ -31,7 +32,7 @@ def fold(text: str) -> str:
 
 
 def fitted_lines(line: dict[str, np.ndarray], mapping: dict[str, str], header: str | None,
-                 des: Designators, combos: list[Combo], combo_code: np.ndarray
+                 des: Designators, lc: LineCells
                  ) -> tuple[np.ndarray, np.ndarray, list[tuple[int, str]], list[tuple[int, str]]]:
     """Per line: fitted?, the reason when not, (line, message) for unclear fitted cells and
     (line, message) for lines that say both fitted and not fitted; ``header`` is the fitted
@@ -43,12 +44,12 @@ def fitted_lines(line: dict[str, np.ndarray], mapping: dict[str, str], header: s
     ``fitted_conflict`` finding (common practice: a variant note does not unfit the part of the
     variant the BOM describes). Without a yes, a mark limited to a variant (``DNP on the 115 V
     variant only``, ``DNP for option B``) keeps the part fitted with the same finding."""
-    n = len(combo_code)
+    n = len(lc.code)
     col = _FittedColumn(n)
     if header is not None:
         col.read(line["fitted"], header)
     fitted, reason, contradict = col.fitted, col.reason, col.contradict
-    for label, marks, codes, variant in _mark_sources(line, mapping, des, combos, combo_code):
+    for label, marks, codes, variant in _mark_sources(line, mapping, des, lc):
         has = np.array([m is not None for m in marks], dtype=bool)
         if not has.any():
             continue
@@ -98,13 +99,13 @@ class _FittedColumn:
 
 
 def _mark_sources(line: dict[str, np.ndarray], mapping: dict[str, str], des: Designators,
-                  combos: list[Combo], combo_code: np.ndarray
+                  lc: LineCells
                   ) -> list[tuple[str, list[str | None], np.ndarray, list[bool]]]:
     """Marks in cells, in order of precedence; each as (label, mark per distinct cell, code per
     line, whether that cell limits the mark to a variant)."""
-    sources = [("value", *_combo_marks("value", combos, combo_code))]
+    sources = [("value", *_combo_marks("value", lc))]
     if des.mark:
-        n = len(combo_code)
+        n = len(lc.code)
         idx = np.fromiter(des.mark, dtype=np.int64, count=len(des.mark))
         codes = np.zeros(n, dtype=np.int64)
         codes[idx] = np.arange(1, len(idx) + 1)
@@ -114,18 +115,23 @@ def _mark_sources(line: dict[str, np.ndarray], mapping: dict[str, str], des: Des
                      ("value_alt", "second value column"),
                      ("description_alt", "second description column"), ("notes", "notes")):
         if f in ("description", "value_alt", "description_alt"):
-            sources.append((label, *_combo_marks(f, combos, combo_code)))
+            sources.append((label, *_combo_marks(f, lc)))
         elif f in mapping:
             sources.append((label, *_marks_by_cell(line[f])))
     return sources  # type: ignore[return-value]
 
 
-def _combo_marks(source: str, combos: list[Combo], combo_code: np.ndarray
+def _combo_marks(source: str, lc: LineCells
                  ) -> tuple[list[str | None], np.ndarray, list[bool]]:
-    """The marks of one parsed source per combination; the variant test only where a mark is."""
-    marks = [c.marks.get(source) for c in combos]
-    return marks, combo_code, [m is not None and _variant_only(c.text)
-                               for m, c in zip(marks, combos)]
+    """The marks of one parsed source per line (code 0: none; each marked line its own code,
+    its variant test on the line's text)."""
+    per_core = np.array([c.marks.get(source) is not None for c in lc.cores], dtype=bool)
+    marked = np.flatnonzero(per_core[lc.code]) if len(lc.code) else np.zeros(0, dtype=np.int64)
+    codes = np.zeros(len(lc.code), dtype=np.int64)
+    codes[marked] = np.arange(1, len(marked) + 1)
+    marks = [lc.cores[lc.code[li]].marks[source] for li in marked]
+    return ([None, *marks], codes,
+            [False, *(_variant_only(lc.text(li)) for li in marked)])
 
 
 def _marks_by_cell(cells: np.ndarray) -> tuple[list[str | None], np.ndarray, list[bool]]:

@@ -184,7 +184,8 @@ def import_table(table: reader.RawTable, options: ImportOptions = ImportOptions(
     with _collector_paused():
         result = _build(table, mapping, source)
     if header_findings:
-        result = replace(result, findings=tuple(sorted((*result.findings, *header_findings))))
+        result = replace(result, findings=tuple(sorted(
+            (*result.findings, *header_findings), key=ImportFinding.sort_key)))
     hidden = sum(len(w.rows) for w in table.warnings if w.code == "hidden-rows")
     totals = {**result.totals, "hidden_rows": hidden} if hidden else result.totals
     return replace(result, read_warnings=tuple(table.warnings), totals=totals)

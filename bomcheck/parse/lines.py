@@ -21,7 +21,8 @@ from bomcheck.parse.designators import (
     _CAP_KIND, _OTHER_KIND, _UNKNOWN_KIND, OTHER_PREFIXES, Designators, expand_lines, expand_one,
 )
 from bomcheck.parse.fitted import fitted_lines, fold
-from bomcheck.parse.linespec import DECISIVE_FAMILIES, SPEC_SOURCES, CellParser, Combo
+from bomcheck.parse.linecells import LineCells, combine_codes, parse_line_cells
+from bomcheck.parse.linespec import DECISIVE_FAMILIES, SPEC_SOURCES, CellParser, Core
 from bomcheck.parse.placements import placement_findings, placements_of
 from bomcheck.parse.refdes import check_total
 from bomcheck.read import reader
@@ -39,25 +40,6 @@ def parse_qty(text: str) -> tuple[float, bool]:
     if not m:
         return math.nan, False
     return float(m.group(1).replace(",", ".")), True
-
-
-
-def _combine_codes(code_arrays: list[np.ndarray], sizes: list[int]) -> tuple[np.ndarray, int]:
-    """One code per distinct tuple of per-column codes (first-seen order)."""
-    n = len(code_arrays[0]) if code_arrays else 0
-    if not code_arrays:
-        return np.zeros(n, dtype=np.int64), 1 if n else 0
-    key = code_arrays[0].astype(np.int64)
-    card = max(sizes[0], 1)
-    for codes, size in zip(code_arrays[1:], sizes[1:]):
-        size = max(size, 1)
-        if card * size >= 2**62:
-            key, uniq = pd.factorize(key)
-            card = len(uniq)
-        key = key * size + codes
-        card *= size
-    combo, uniq = pd.factorize(key)
-    return combo.astype(np.int64), len(uniq)
 
 
 
@@ -103,13 +85,12 @@ def _competing_cells(table: reader.RawTable, mapping: dict[str, str], heads: np.
 @dataclass(frozen=True)
 class _LineTable:
     """Per line of a table: each field's cell (continuation rows joined), source row, designators,
-    the parsed combination of cells (``combos`` by ``code``), fitted or not and what it is."""
+    what the value-bearing cells say, fitted or not and what it is."""
 
     cells: dict[str, np.ndarray]
     head_rows: np.ndarray
     des: Designators
-    combos: list[Combo]
-    code: np.ndarray
+    lc: LineCells
     fitted: np.ndarray
     nf_reason: np.ndarray
     cap_line: np.ndarray
@@ -129,13 +110,11 @@ def build_lines(table: reader.RawTable, mapping: dict[str, str], source: BomSour
     head_rows = src_rows[heads]
     des = expand_lines(line["refdes"], source.path)
     check_total(int(des.count.sum()), path=source.path)
-    combos, code, n_combo = _parse_cells(table, mapping, line)
+    lc = _parse_cells(table, mapping, line, len(heads))
     header = original_header(table, mapping["fitted"]) if "fitted" in mapping else None
-    fitted, nf_reason, unclear, contradict = fitted_lines(line, mapping, header, des, combos,
-                                                          code)
-    kind, cap_line, reason = _classify(des, combos, code, n_combo, repeated[heads], fitted)
-    lt = _LineTable(line, head_rows, des, combos, code, fitted, nf_reason, cap_line, kind,
-                    reason)
+    fitted, nf_reason, unclear, contradict = fitted_lines(line, mapping, header, des, lc)
+    kind, cap_line, reason = _classify(des, lc, repeated[heads], fitted)
+    lt = _LineTable(line, head_rows, des, lc, fitted, nf_reason, cap_line, kind, reason)
     qty, qty_ok = _quantities(line["qty"])
     findings = _qty_findings(lt, qty, qty_ok)
     findings.extend(finding(int(head_rows[li]), None, what, msg)
@@ -144,15 +123,16 @@ def build_lines(table: reader.RawTable, mapping: dict[str, str], source: BomSour
                     for li, msg in said if cap_line[li])
     findings.extend(_competing_cells(table, mapping, heads, head_rows, cap_line))
     placements = placements_of(np.flatnonzero(cap_line), des, line, head_rows, fitted,
-                               nf_reason, qty, combos, code)
-    findings.extend(placement_findings(placements, combos, code))
+                               nf_reason, qty, lc)
+    findings.extend(placement_findings(placements, lc))
     row_kind = kind[line_of_row] if len(frame) else np.zeros(0, dtype=np.int64)
     skipped = _skipped(lt, row_kind, line_of_row, cont, src_rows, all_arrays)
     totals = _totals(table, row_kind, placements, cont)
     lines = Lines(line_of_row, kind, head_rows, line["manufacturer"], line["mpn"],
                   side_by_side(table, mapping, heads))
     return ImportResult(source=source, placements=placements, skipped=skipped,
-                        findings=tuple(sorted(findings)), totals=totals), lines
+                        findings=tuple(sorted(findings, key=ImportFinding.sort_key)),
+                        totals=totals), lines
 
 
 def _join_lines(frame: pd.DataFrame, mapping: dict[str, str], all_arrays: list[np.ndarray],
@@ -177,35 +157,24 @@ def _join_lines(frame: pd.DataFrame, mapping: dict[str, str], all_arrays: list[n
     return cont, line_of_row, heads, line
 
 
-def _parse_cells(table: reader.RawTable, mapping: dict[str, str], line: dict[str, np.ndarray]
-                 ) -> tuple[list[Combo], np.ndarray, int]:
-    """(what each distinct combination of value-bearing cells says, combination per line,
-    number of combinations): each combination parsed once."""
+def _parse_cells(table: reader.RawTable, mapping: dict[str, str], line: dict[str, np.ndarray],
+                 n: int) -> LineCells:
+    """What the value-bearing cells of each line say (``bomcheck.parse.linecells``)."""
     units = {f: u for f in SPEC_SOURCES if f in mapping
              if (u := colmod.header_unit(original_header(table, mapping[f]), f))}
     parser = CellParser(semicolon=table.format == "semicolon", units=units)
-    present = [s for s in SPEC_SOURCES if s in mapping]
-    code_arrays, sizes = [], []
-    for s in present:
-        codes, uniq = pd.factorize(line[s])
-        code_arrays.append(codes)
-        sizes.append(len(uniq))
-    combo_code, n_combo = _combine_codes(code_arrays, sizes)
-    first_line = np.flatnonzero(~pd.Series(combo_code).duplicated().to_numpy())
-    combos = [parser.combo({s: str(line[s][li]) for s in present}) for li in first_line]
-    return combos, combo_code, n_combo
+    return parse_line_cells(parser, line, [s for s in SPEC_SOURCES if s in mapping], n)
 
 
-def _classify(des: Designators, combos: list[Combo], combo_code: np.ndarray, n_combo: int,
-              line_repeated: np.ndarray, fitted: np.ndarray
+def _classify(des: Designators, lc: LineCells, line_repeated: np.ndarray, fitted: np.ndarray
               ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """(kind, capacitor line?, reason when not taken) per line, from the designator prefix and
     the evidence of the parsed text."""
-    n_lines = len(combo_code)
+    n_lines = len(lc.code)
     pk = des.kind
-    evidence = np.array([c.evidence for c in combos], dtype=np.int64)[combo_code]
-    strong = np.array([c.strong for c in combos], dtype=bool)[combo_code]
-    has_other = np.array([c.other is not None for c in combos], dtype=bool)[combo_code]
+    evidence = lc.core_of("evidence", np.int64)
+    strong = lc.core_of("strong", bool)
+    has_other = np.array([c.other is not None for c in lc.cores], dtype=bool)[lc.code]
     kind = np.full(n_lines, LINE_UNREAD, dtype=np.int64)
     ok = ~line_repeated & ~des.has_error
     cap_line = ok & (
@@ -214,7 +183,7 @@ def _classify(des: Designators, combos: list[Combo], combo_code: np.ndarray, n_c
         | ((pk == _UNKNOWN_KIND) & (evidence > 0) & strong & ~has_other)
     )
     decisive = np.array([c.other is not None and c.other[0] in DECISIVE_FAMILIES
-                         for c in combos], dtype=bool)[combo_code]
+                         for c in lc.cores], dtype=bool)[lc.code]
     cap_line &= ~(decisive & ~strong)
     other_line = ok & ~cap_line & ((pk == _OTHER_KIND) | (pk == _UNKNOWN_KIND)
                                    | ((pk == _CAP_KIND) & decisive & ~strong))
@@ -224,29 +193,30 @@ def _classify(des: Designators, combos: list[Combo], combo_code: np.ndarray, n_c
     disagree = other_line & (pk == _OTHER_KIND) & (evidence > 0) & strong & ~has_other
     kind[cap_line] = LINE_CAP
     kind[other_line & ~disagree] = LINE_NONCAP
-    reason = _reasons(cap_line, line_repeated, des, combos, combo_code, n_combo)
+    reason = _reasons(cap_line, line_repeated, des, lc)
     return kind, cap_line, reason
 
 
 def _reasons(cap_line: np.ndarray, line_repeated: np.ndarray, des: Designators,
-             combos: list[Combo], combo_code: np.ndarray, n_combo: int) -> np.ndarray:
-    """One reason per distinct (prefix, combination) among the lines not taken; lines with
-    their own reason (designator errors, repeated headers) one by one."""
-    reason = np.full(len(combo_code), None, dtype=object)
+             lc: LineCells) -> np.ndarray:
+    """One reason per distinct (prefix, combination of cells) among the lines not taken; lines
+    with their own reason (designator errors, repeated headers) one by one."""
+    reason = np.full(len(lc.code), None, dtype=object)
     pk = des.kind
     not_taken = np.flatnonzero(~cap_line)
     special = line_repeated[not_taken] | des.has_error[not_taken]
     for li in not_taken[special]:
-        reason[li] = _reason(int(li), line_repeated, des, pk, combos[combo_code[li]])
+        reason[li] = _reason(int(li), line_repeated, des, pk, lc.cores[lc.code[li]],
+                             lc.text(li))
     plain = not_taken[~special]
     if len(plain):
         pfx_codes, pfx_uniq = pd.factorize(des.prefix[plain])
-        key, n_keys = _combine_codes([pfx_codes, combo_code[plain]], [len(pfx_uniq), n_combo])
+        key, n_keys = combine_codes([pfx_codes, lc.cells[plain]], [len(pfx_uniq), lc.n_cells])
         firsts = np.flatnonzero(~pd.Series(key).duplicated().to_numpy())
         texts = np.empty(n_keys, dtype=object)
         for k, j in enumerate(firsts):
             li = int(plain[j])
-            texts[k] = _reason(li, line_repeated, des, pk, combos[combo_code[li]])
+            texts[k] = _reason(li, line_repeated, des, pk, lc.cores[lc.code[li]], lc.text(li))
         reason[plain] = texts[key]
     return reason
 
@@ -360,8 +330,8 @@ def _continuations(frame: pd.DataFrame, mapping: dict[str, str], arrays: list[np
 
 
 def _reason(li: int, repeated: np.ndarray, des: Designators, pk: np.ndarray,
-            combo: Combo) -> str:
-    """Why a line is not taken as capacitor placements."""
+            combo: Core, text: str) -> str:
+    """Why a line is not taken as capacitor placements (``text``: its cells joined)."""
     if repeated[li]:
         return "repeated header row"
     if li in des.error:
@@ -374,13 +344,13 @@ def _reason(li: int, repeated: np.ndarray, des: Designators, pk: np.ndarray,
                 return (f"designator prefix {pfx!r}, but the text describes {_a(family)} "
                         f"({token!r}): not a capacitor")
             return f"capacitor designator, but the text reads as {_a(family)} ({token!r})"
-        if not combo.text:
+        if not text:
             return "capacitor designator with no value or description"
-        return f"capacitor designator, but no capacitor value could be read ({combo.text!r})"
+        return f"capacitor designator, but no capacitor value could be read ({text!r})"
     if pk[li] == _OTHER_KIND:
         if combo.evidence > 0 and combo.strong and combo.other is None:
             return (f"designator prefix {pfx!r} ({OTHER_PREFIXES[pfx]}), but the text reads "
-                    f"as a capacitor ({combo.text!r}): the designator and the text disagree, "
+                    f"as a capacitor ({text!r}): the designator and the text disagree, "
                     "check the line")
         return f"designator prefix {pfx!r} ({OTHER_PREFIXES[pfx]}) is not a capacitor"
     if combo.other is not None:
@@ -388,10 +358,10 @@ def _reason(li: int, repeated: np.ndarray, des: Designators, pk: np.ndarray,
         return f"the text reads as {_a(family)} ({token!r})"
     if combo.evidence > 0:
         return (f"designator prefix {pfx!r} is not a capacitor prefix and only a bare code "
-                f"reads as a capacitor ({combo.text!r})")
-    if not combo.text:
+                f"reads as a capacitor ({text!r})")
+    if not text:
         return "no value or description"
-    return f"no capacitor evidence in the text ({combo.text!r})"
+    return f"no capacitor evidence in the text ({text!r})"
 
 
 def _a(word: str) -> str:

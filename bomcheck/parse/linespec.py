@@ -11,7 +11,7 @@ evidence, words of other parts).
 from __future__ import annotations
 
 import re
-from collections.abc import Mapping
+from collections.abc import Iterable, Mapping
 from dataclasses import dataclass
 from typing import Any
 
@@ -81,6 +81,14 @@ FLOAT_SPEC = ("capacitance_f", "voltage_v", "tol_minus_pct", "tol_plus_pct", "to
 
 def not_fitted_mark(text: str) -> str | None:
     """The not-fitted mark in a cell (``DNP``, ``do not populate``, ``nicht bestückt``...)."""
+    if text.isascii():
+        # Every form of _NOT_FITTED starts with one of these pairs (lower-cased); an ASCII text
+        # with none of them holds no mark (a few substring tests cost less than the pattern).
+        low = text.lower()
+        if not ("n" in low and ("dn" in low or "no" in low or "do" in low or "ni" in low
+                                or "un" in low or "nf" in low or "n/" in low or "n." in low
+                                or "nc" in low)):
+            return None
     m = _NOT_FITTED.search(text)
     return m.group(0) if m else None
 
@@ -132,6 +140,20 @@ def _other_value_form(value: str) -> tuple[str, str] | None:
     return None
 
 
+@dataclass(frozen=True)
+class Core:
+    """What a combination of cells says apart from each cell's own warnings, unread tokens and
+    text (``CellParser.core``): the same for every line whose cells read alike."""
+
+    spec: dict[str, Any]  # the merged fields; warnings and unread empty
+    evidence: int  # +1 capacitor, -1 another part, 0 nothing either way
+    strong: bool  # capacitor evidence that does not rest on a bare code
+    other: tuple[str, str] | None
+    conflicts: tuple[tuple[str, str], ...]  # the merge's column conflicts (finding code, message)
+    marks: dict[str, str]  # source -> not-fitted mark found in that cell
+    one_source: bool  # one cell of text (value or description): its own readings, no merge
+
+
 @dataclass
 class Combo:
     """What one distinct combination of value-bearing cells says."""
@@ -177,6 +199,7 @@ _BARE_NUMBER = re.compile(r"[-+]?(?:\d+(?:\.\d*)?|\.\d+)").fullmatch
 # What a cell says: a spec with its readings, the cell's own warnings and unread tokens.
 Reading = tuple[CapSpec, tuple[str, ...], tuple[str, ...]]
 _NO_CELL: tuple[str, str | None, Reading | None, str] = ("", None, None, "")
+_NOT_READ = object()  # a cell not in CellParser's cache yet
 
 
 class CellParser:
@@ -233,10 +256,11 @@ class CellParser:
         (cached; see ``ValueParser.read``); None for an empty cell."""
         text = self._as_parsed(source, text)
         key = (source, text)
-        if key not in self._cache:
-            self._cache[key] = self._values.read(text, _CONTEXT.get(source, source)) \
+        got = self._cache.get(key, _NOT_READ)
+        if got is _NOT_READ:
+            got = self._cache[key] = self._values.read(text, _CONTEXT.get(source, source)) \
                 if text else None
-        return self._cache[key]
+        return got  # type: ignore[return-value]
 
     def _as_parsed(self, source: str, text: str) -> str:
         """A cleaned cell as it is parsed: a bare number with its header's unit, a
@@ -254,22 +278,73 @@ class CellParser:
         key = (source, text)
         got = self._cells.get(key)
         if got is None:
-            collapsed = " ".join(text.split())
-            cleaned, mark = self._clean_collapsed(collapsed)
-            got = self._cells[key] = (cleaned, mark, self.reading(source, cleaned), collapsed)
+            got = self._cells[key] = self.cells(source, (text,))[0]
         return got
+
+    def cells(self, source: str, texts: Iterable[str]
+              ) -> list[tuple[str, str | None, Reading | None, str]]:
+        """``cell`` of each of many cells of a source, which the caller has made distinct
+        (they are not kept per cell)."""
+        out = []
+        clean, reading = self._clean_collapsed, self.reading
+        for text in texts:
+            collapsed = " ".join(text.split())
+            cleaned, mark = clean(collapsed)
+            out.append((cleaned, mark, reading(source, cleaned), collapsed))
+        return out
 
     def combo(self, cells: dict[str, str]) -> Combo:
         """What one distinct combination of a line's value-bearing cells says."""
         info = {src: self.cell(src, t) for src, t in cells.items()}
+        core = self.core(info)
+        present = [s for s in SPEC_SOURCES if s in info and info[s][2] is not None]
+        own = {s: info[s][2][1:] for s in present}  # type: ignore[index]
+        conflicts = list(core.conflicts)
+        if core.one_source:
+            warnings, unread = own[present[0]]
+        else:
+            warnings = tuple(dict.fromkeys(w for s in present for w in own[s][0]))
+            unread = tuple(dict.fromkeys(u for s in present for u in own[s][1]))
+        for s in present:
+            if own[s][0]:
+                conflicts.extend(self.merger.text_conflicts(s, own[s][0]))
+        v, d = info.get("value", _NO_CELL), info.get("description", _NO_CELL)
+        text = " | ".join(info[s][3] for s in SPEC_SOURCES if s in info and info[s][3])
+        return Combo({**core.spec, "warnings": warnings, "unread": unread}, core.evidence,
+                     core.strong, core.other, tuple(conflicts), text, core.marks, v[3], d[3])
+
+    def cell_key(self, source: str, info: tuple[str, str | None, Reading | None, str]
+                 ) -> tuple[Any, ...]:
+        """What ``core`` reads of one cell: its spec (by identity: the specs live in the
+        cache), its not-fitted mark and, for the value and the description, the words of
+        capacitors and of other parts in its cleaned text."""
+        spec = info[2][0] if info[2] is not None else None
+        head = (id(spec) if spec is not None else None, info[1])
+        if source not in ("value", "description"):
+            return head
+        cleaned = info[0]
+        # A dielectric code makes a capacitor line's evidence strong whatever its words say.
+        says = True if spec is not None and spec.dielectric else self._says_capacitor(cleaned)
+        if cleaned not in self._other:
+            self._other[cleaned] = _other_word(cleaned)
+        if source == "value" and cleaned not in self._form:
+            self._form[cleaned] = _other_value_form(cleaned)
+        return (*head, says, self._other[cleaned],
+                self._form.get(cleaned) if source == "value" else None)
+
+    def core(self, info: Mapping[str, tuple[str, str | None, Reading | None, str]]) -> Core:
+        """What a line's cells (``cell`` of each source) say apart from each cell's own
+        warnings, unread tokens and text: it depends only on ``cell_key`` of each cell."""
         marks = {src: c[1] for src, c in info.items() if c[1]}
         specs = {src: c[2][0] if c[2] is not None else None for src, c in info.items()}
         filled = [src for src, c in info.items() if c[2] is not None]
-        if len(filled) == 1 and filled[0] in ("value", "description"):
-            spec, conflicts = self._one_source(filled[0], info[filled[0]][2])  # type: ignore[arg-type]
+        one = len(filled) == 1 and filled[0] in ("value", "description")
+        if one:
+            spec = self._one_source(specs[filled[0]])  # type: ignore[arg-type]
+            conflicts: list[tuple[str, str]] = []
         else:
             spec, conflicts = self.merger.merge(
-                specs, {src: (c[2][1], c[2][2]) for src, c in info.items() if c[2] is not None})
+                specs, {src: ((), ()) for src in filled})
         v, d = info.get("value", _NO_CELL), info.get("description", _NO_CELL)
         cap = any(s is not None and s.is_capacitor
                   for s in (specs.get("value"), specs.get("description"), specs.get("dielectric"),
@@ -284,8 +359,7 @@ class CellParser:
         )
         other = self._other_part(v[0], d[0])
         evidence = 1 if cap else (-1 if other else 0)
-        text = " | ".join(info[s][3] for s in SPEC_SOURCES if s in info and info[s][3])
-        return Combo(spec, evidence, strong, other, tuple(conflicts), text, marks, v[3], d[3])
+        return Core(spec, evidence, strong, other, tuple(conflicts), marks, one)
 
     def _says_capacitor(self, text: str) -> bool:
         """A farad unit, an RKM capacitance or capacitor words in a cleaned cell (cached)."""
@@ -307,14 +381,11 @@ class CellParser:
             self._form[value] = _other_value_form(value)
         return self._form[value]
 
-    def _one_source(self, src: str, reading: Reading
-                    ) -> tuple[dict[str, Any], list[tuple[str, str]]]:
-        """A line with one cell of text: its spec as it is (what the merge would give); the
-        fields cached per spec."""
-        sp, warnings, unread = reading
+    def _one_source(self, sp: CapSpec) -> dict[str, Any]:
+        """A line with one cell of text: its spec as it is (what the merge would give), without
+        the cell's own warnings and unread tokens; cached per spec."""
         got = self._single.get(id(sp))
         if got is None:
-            got = self._single[id(sp)] = {k: getattr(sp, k) for k in SPEC_COLUMNS}
-        return ({**got, "warnings": warnings, "unread": unread},
-                list(self.merger.text_conflicts(src, warnings)))
-
+            got = self._single[id(sp)] = {**{k: getattr(sp, k) for k in SPEC_COLUMNS},
+                                          "warnings": (), "unread": ()}
+        return got

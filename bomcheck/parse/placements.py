@@ -11,11 +11,12 @@ import pandas as pd
 
 from bomcheck.parse.bomresult import PLACEMENT_COLUMNS, ImportFinding, finding
 from bomcheck.parse.designators import Designators
-from bomcheck.parse.linespec import FLOAT_SPEC, SPEC_COLUMNS, Combo
+from bomcheck.parse.linecells import OWN_COLUMNS, LineCells
+from bomcheck.parse.linespec import FLOAT_SPEC, SPEC_COLUMNS
 
 def placements_of(cap_idx: np.ndarray, des: Designators, line: dict[str, np.ndarray],
                 head_rows: np.ndarray, fitted: np.ndarray, nf_reason: np.ndarray,
-                qty: np.ndarray, combos: list[Combo], combo_code: np.ndarray) -> pd.DataFrame:
+                qty: np.ndarray, lc: LineCells) -> pd.DataFrame:
     counts = des.count[cap_idx]
     total = int(counts.sum())
     line_of = np.repeat(cap_idx, counts)
@@ -28,7 +29,7 @@ def placements_of(cap_idx: np.ndarray, des: Designators, line: dict[str, np.ndar
         refdes[starts[single]] = des.single[cap_idx[single]]
         for pos, k, li in zip(starts[~single], counts[~single], cap_idx[~single]):
             refdes[pos:pos + k] = des.lists[int(li)]
-    cc = combo_code[line_of]
+    cc = lc.code[line_of]
     data: dict[str, Any] = {
         "refdes": refdes,
         "row": head_rows[line_of],
@@ -39,16 +40,19 @@ def placements_of(cap_idx: np.ndarray, des: Designators, line: dict[str, np.ndar
         "manufacturer": line["manufacturer"][line_of],
         "qty": qty[line_of],
     }
-    # Per-combination values as two blocks (floats, objects), each taken by code in one step.
-    obj_cols = ["text", "value_text", "description",
-                *(k for k in SPEC_COLUMNS if k not in FLOAT_SPEC and k != "is_capacitor")]
+    # Each line's own columns, taken by combination of cells.
+    own_at = lc.cells[line_of]
+    for k in OWN_COLUMNS:
+        data[k] = lc.own[k][own_at]
+    # Per-core values as two blocks (floats, objects), each taken by code in one step.
+    combos = lc.cores
+    obj_cols = [k for k in SPEC_COLUMNS
+                if k not in FLOAT_SPEC and k != "is_capacitor" and k not in OWN_COLUMNS]
     n_c = len(combos)
     obj_block = np.empty((n_c, len(obj_cols)), dtype=object)
     for j, k in enumerate(obj_cols):
-        # fromiter keeps a tuple (warnings) as one object, not a sequence to spread.
-        obj_block[:, j] = np.fromiter(
-            (getattr(c, k) for c in combos) if j < 3 else (c.spec[k] for c in combos),
-            dtype=object, count=n_c)
+        # fromiter keeps a tuple as one object, not a sequence to spread.
+        obj_block[:, j] = np.fromiter((c.spec[k] for c in combos), dtype=object, count=n_c)
     get_floats = operator.itemgetter(*FLOAT_SPEC)
     float_block = np.array([get_floats(c.spec) for c in combos], dtype=float)  # None -> NaN
     if not combos:
@@ -66,32 +70,41 @@ def placements_of(cap_idx: np.ndarray, des: Designators, line: dict[str, np.ndar
     return pd.DataFrame(series, columns=list(PLACEMENT_COLUMNS), copy=False)
 
 
-def placement_findings(placements: pd.DataFrame, combos: list[Combo],
-                        combo_code: np.ndarray) -> list[ImportFinding]:
-    """Column conflicts on fitted placements, and designators listed more than once."""
+def placement_findings(placements: pd.DataFrame, lc: LineCells) -> list[ImportFinding]:
+    """Column conflicts on fitted placements, capacitors with no capacitance read, and
+    designators listed more than once."""
     out: list[ImportFinding] = []
     if not len(placements):
         return out
     line_of = placements["line"].to_numpy()
-    cc = combo_code[line_of]
-    has_conflict = np.array([bool(c.conflicts) for c in combos], dtype=bool)[cc]
     fitted = placements["fitted"].to_numpy()
     refdes = placements["refdes"].to_numpy(dtype=object)
     rows = placements["row"].to_numpy()
-    for p in np.flatnonzero(has_conflict & fitted):
-        for code, msg in combos[cc[p]].conflicts:
-            out.append(finding(int(rows[p]), str(refdes[p]), code, msg))
+    # The merge's conflicts (per core), then each cell's own (per distinct cell of a source).
+    per = [(np.fromiter((c.conflicts for c in lc.cores), dtype=object, count=len(lc.cores)),
+            lc.code)]
+    per.extend((sc.conflicts, sc.code) for sc in lc.sources)
+    for conflicts, code in per:
+        if not any(conflicts):
+            continue
+        pc = code[line_of]
+        has = np.array([bool(c) for c in conflicts], dtype=bool)[pc]
+        for p in np.flatnonzero(has & fitted):
+            out.extend(finding(int(rows[p]), str(refdes[p]), c, msg)
+                       for c, msg in conflicts[pc[p]])
     # A fitted capacitor with no capacitance read (common practice: every capacitor line states
     # its capacitance; the checks that need it have no data).
     # A value cell with text gives capacitance_unread (the data is there but was not
     # understood), none capacitance_missing.
-    no_cap = np.array([c.spec["capacitance_f"] is None for c in combos], dtype=bool)[cc]
+    no_cap = np.array([c.spec["capacitance_f"] is None for c in lc.cores],
+                      dtype=bool)[lc.code[line_of]]
     for p in np.flatnonzero(no_cap & fitted):
-        combo = combos[cc[p]]
-        code = "capacitance_unread" if combo.value_text else "capacitance_missing"
+        li = line_of[p]
+        code = "capacitance_unread" if lc.own["value_text"][lc.cells[li]] \
+            else "capacitance_missing"
         out.append(finding(int(rows[p]), str(refdes[p]), code,
-                            f"no capacitance could be read from the BOM text ({combo.text!r}); "
-                            "checks that need it have no data"))
+                           f"no capacitance could be read from the BOM text ({lc.text(li)!r}); "
+                           "checks that need it have no data"))
     if len(set(refdes)) < len(refdes):
         dup = pd.Series(refdes).duplicated(keep="first").to_numpy()
         first_row = pd.Series(rows).groupby(refdes).transform("first").to_numpy()
@@ -102,4 +115,3 @@ def placement_findings(placements: pd.DataFrame, combos: list[Combo],
                 "appear once",
             ))
     return out
-

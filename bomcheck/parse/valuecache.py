@@ -10,13 +10,15 @@ gives for the same text, field for field.
 
 from __future__ import annotations
 
+import operator
+from collections.abc import Callable
 from dataclasses import dataclass, fields
 
 from bomcheck.parse import codes
 from bomcheck.parse.readings import UNREAD_MARK
 from bomcheck.parse.scanstate import State
 from bomcheck.parse.valuenumbers import RANGE_WORDS, UNIT_WORDS, numeric
-from bomcheck.parse.values import build, internal_error, parse_value, prepare, scan, tokens
+from bomcheck.parse.values import build, internal_error, normalised, parse_value, scan, tokens
 from bomcheck.parse.valuewords import word
 from bomcheck.spec import CapSpec
 
@@ -72,12 +74,13 @@ def _inert(context: str, tok: str) -> str | None:
 @dataclass(frozen=True)
 class _Shape:
     """One distinct shape parsed: the spec (no text), where its placeholders ended up in the
-    unread tokens, and the bare-number warning to write again (its index, its tokens)."""
+    unread tokens, and the bare-number warning to write again (its index, its tokens); each
+    placeholder's place is a function of the text's own tokens."""
 
     spec: CapSpec
-    unread_at: tuple[tuple[int, int], ...]  # (position in unread, placeholder number)
+    unread: Callable[[list[str]], tuple[str, ...]] | None  # a text's own tokens -> its unread
     warning_at: int  # index of the bare-number warning, -1 without one
-    bare: tuple[object, ...]  # the warning's tokens: a placeholder number (int) or a token
+    bare: Callable[[list[str]], tuple[str, ...]]  # a text's own tokens -> the warning's tokens
 
 
 class ValueParser:
@@ -107,8 +110,8 @@ class ValueParser:
             spec = parse_value(text, context=context)
             return spec, spec.warnings, spec.unread
         try:
-            st, s = prepare(text, context)
-            toks = tokens(s)
+            before: list[str] = []
+            toks = tokens(normalised(text, context, before))
             shape_toks, mine, holders = self._masked(context, toks)
             shape = None
             if mine:
@@ -117,10 +120,12 @@ class ValueParser:
                 if shape is False:
                     shape = self._shapes[key] = _parse_shape(context, shape_toks, holders)
             if shape is None:
+                st = State(context)
+                st.warnings = before
                 scan(st, toks)
                 spec = build(text, st)
             else:
-                return shape.spec, *_own(shape, st.warnings, mine)
+                return shape.spec, *_own(shape, before, mine)
         except Exception as exc:  # a parser bug must not stop an import; the tests hunt for these
             spec = internal_error(text, exc)
         return spec, spec.warnings, spec.unread
@@ -174,15 +179,30 @@ def _parse_shape(context: str, shape_toks: list[str], holders: list[str]) -> _Sh
     bare = tuple(ids.get(id(t), t) for t in st.bare_toks)
     expected = _bare_warning(st.bare_toks) if st.bare_numbers else None
     spec = build("", st)
-    unread_at = tuple((pos, ids[id(u)]) for pos, u in enumerate(spec.unread) if id(u) in ids)
-    if sorted(k for _, k in unread_at) != list(range(len(holders))):
+    unread = tuple(ids.get(id(u), u) for u in spec.unread)
+    if sorted(k for k in unread if isinstance(k, int)) != list(range(len(holders))):
         return None
     warning_at = -1
     if expected is not None and expected in spec.warnings:
         warning_at = len(spec.warnings) - 1 - spec.warnings[::-1].index(expected)
     if any(h in w for h in holders for i, w in enumerate(spec.warnings) if i != warning_at):
         return None
-    return _Shape(spec, unread_at, warning_at, bare)
+    return _Shape(spec, _picker(unread, len(holders)) if holders else None, warning_at,
+                  _picker(bare, len(holders)))
+
+
+def _picker(items: tuple[object, ...], n_mine: int) -> Callable[[list[str]], tuple[str, ...]]:
+    """A function of a text's own tokens (``n_mine`` of them) giving ``items`` with each
+    placeholder number (an int) replaced by that token: one C-level item pick per text."""
+    fixed = tuple(t for t in items if not isinstance(t, int))
+    at = iter(range(n_mine, n_mine + len(fixed)))
+    get = operator.itemgetter(*(t if isinstance(t, int) else next(at) for t in items)) \
+        if items else None
+    if get is None:
+        return lambda mine: ()
+    if len(items) == 1:
+        return lambda mine: (get((*mine, *fixed)),)
+    return lambda mine: get((*mine, *fixed))
 
 
 def _letters(k: int) -> str:
@@ -203,18 +223,12 @@ def _own(shape: _Shape, before: list[str], mine: list[str]
     """(warnings, unread tokens) of one text of a shape: the warnings said before the scan, its
     own tokens in place of the placeholders."""
     spec = shape.spec
-    unread = spec.unread
-    if shape.unread_at:
-        lst = list(unread)
-        for pos, k in shape.unread_at:
-            lst[pos] = mine[k]
-        unread = tuple(lst)
+    unread = shape.unread(mine) if shape.unread is not None else spec.unread
     warnings = spec.warnings
-    if shape.warning_at >= 0:
-        lst = list(warnings)
-        lst[shape.warning_at] = _bare_warning(
-            [mine[t] if isinstance(t, int) else t for t in shape.bare])
-        warnings = tuple(lst)
+    at = shape.warning_at
+    if at >= 0:
+        said = _BARE_NUMBER_WARNING + ", ".join(map(repr, shape.bare(mine))) + ")"
+        warnings = (*warnings[:at], said, *warnings[at + 1:])
     if before:
         warnings = (*before, *warnings)
     return warnings, unread

@@ -29,8 +29,8 @@ from bomcheck.parse.valuetext import normalise
 from bomcheck.parse.valuewords import case_phrase, word
 from bomcheck.spec import POLARIZED_TECHNOLOGIES, CapSpec
 
-__all__ = ["CONFLICT_MARK", "CONTEXTS", "UNREAD_MARK", "build", "format_capacitance", "parse_value",
-           "prepare", "scan", "tokens"]
+__all__ = ["CONFLICT_MARK", "CONTEXTS", "UNREAD_MARK", "build", "format_capacitance", "normalised",
+           "parse_value", "prepare", "scan", "tokens"]
 
 CONTEXTS = frozenset(
     {"any", "value", "description", "voltage", "tolerance", "dielectric", "package", "temperature"}
@@ -375,18 +375,26 @@ def prepare(text: str, context: str) -> tuple[State, str]:
     st = State(context if context in CONTEXTS else "any")
     if context not in CONTEXTS:
         st.warnings.append(f"unknown context {context!r}; read as 'any'")
+    if st.context != "voltage":
+        return st, normalised(text, st.context, st.warnings)
     s = normalise(text, st.warnings)
-    if st.context == "voltage":
-        key = s.strip().upper()
-        if key in codes.VOLTAGE_CODES:
-            st.set_volt(codes.VOLTAGE_CODES[key], "dc", key, 1)
-            if key in _PLAIN_VOLTAGE_CODES:
-                st.warnings.append(f"{key!r} read as the two-character voltage code "
-                                   f"({codes.VOLTAGE_CODES[key]:g} V), not {key[0]} V")
-            s = ""
-    elif st.context == "value" and "e" in s.lower() and _SI_NUMBER(s.strip()):
-        s = _si_farads(s.strip(), st.warnings)
+    key = s.strip().upper()
+    if key in codes.VOLTAGE_CODES:
+        st.set_volt(codes.VOLTAGE_CODES[key], "dc", key, 1)
+        if key in _PLAIN_VOLTAGE_CODES:
+            st.warnings.append(f"{key!r} read as the two-character voltage code "
+                               f"({codes.VOLTAGE_CODES[key]:g} V), not {key[0]} V")
+        s = ""
     return st, s
+
+
+def normalised(text: str, context: str, warnings: list[str]) -> str:
+    """The text to cut into tokens in a context other than ``voltage`` (``prepare`` without
+    the scan state); doubts go to ``warnings``."""
+    s = normalise(text, warnings)
+    if context == "value" and "e" in s.lower() and _SI_NUMBER(s.strip()):
+        s = _si_farads(s.strip(), warnings)
+    return s
 
 
 # A plain number in scientific notation with a negative exponent: how a spreadsheet writes a
