@@ -99,3 +99,16 @@ def test_safety_word_of_another_part_does_not_make_a_safety_capacitor(tmp_path):
     r = read_bom(_file(tmp_path, "Designator,Description\nC5,CAP CER 47PF 50V C0G 0402 "
                                  "(Y1 load)\n"))
     assert _col(r, "safety_class") == [None] and _col(r, "voltage_kind") == [None]
+
+
+def test_a_merger_never_mistakes_a_new_spec_for_a_freed_one():
+    # The merger caches by spec identity; a spec dropped by its caller may free its id for the
+    # next one. Each line must still get its own reading (no wrong value from a stale entry).
+    merger = SpecMerge(lambda src, text: parse_value(text, context=src))
+    for n in range(1, 400):
+        specs = {"value": parse_value(f"{n}uF", context="value"),
+                 "voltage": parse_value(f"{n + 5}V", context="voltage")}
+        out, _ = merger.merge(specs)
+        del specs
+        assert out["capacitance_f"] == pytest.approx(n * 1e-6)
+        assert out["voltage_v"] == n + 5

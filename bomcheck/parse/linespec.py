@@ -224,7 +224,7 @@ class CellParser:
         self._other: dict[str, tuple[str, str] | None] = {}
         self._form: dict[str, tuple[str, str] | None] = {}
         # Per spec (by id; specs live in _cache): a line with that one cell of text.
-        self._single: dict[int, dict[str, Any]] = {}
+        self._single: dict[int, tuple[CapSpec, dict[str, Any]]] = {}
         self.merger = SpecMerge(self.spec)
 
     def clean(self, text: str) -> tuple[str, str | None]:
@@ -385,7 +385,7 @@ class CellParser:
         """A line with one cell of text: its spec as it is (what the merge would give), without
         the cell's own warnings and unread tokens; cached per spec."""
         got = self._single.get(id(sp))
-        if got is None:
-            got = self._single[id(sp)] = {**{k: getattr(sp, k) for k in SPEC_COLUMNS},
-                                          "warnings": (), "unread": ()}
-        return got
+        if got is None or got[0] is not sp:  # the spec is kept, so its id stays its own
+            got = self._single[id(sp)] = (sp, {**{k: getattr(sp, k) for k in SPEC_COLUMNS},
+                                               "warnings": (), "unread": ()})
+        return got[1]

@@ -64,8 +64,9 @@ _CONSERVATIVE = {"capacitance_f": "smaller capacitance", "voltage_v": "lower rat
 class SpecMerge:
     """Merges the specs of one line's cells (``spec`` parses one cell of a source, cached).
 
-    Caches per spec (by id: the specs live in the parser's cache) and per distinct combination
-    of readings (the specs' fields without their text, warnings and unread tokens).
+    Caches per spec (by id) and per distinct combination of readings (the specs' fields
+    without their text, warnings and unread tokens). Every spec an id-keyed cache holds is kept
+    alive in ``_alive``, so its id can never pass to another spec while the merger lives.
     """
 
     def __init__(self, spec: Callable[[str, str], CapSpec | None]) -> None:
@@ -78,6 +79,7 @@ class SpecMerge:
         # Per spec and source: stated temperatures and conflict warnings.
         self._stated: dict[tuple[int, str], tuple[float | None, float | None]] = {}
         self._implied: dict[str, tuple[float | None, float | None] | None] = {}
+        self._alive: dict[int, CapSpec] = {}
 
     def derived_temps(self, spec: CapSpec) -> tuple[float | None, float | None] | None:
         """The temperature range the spec's dielectric code implies (None without a code)."""
@@ -105,6 +107,7 @@ class SpecMerge:
                 fields, found = self._merge_fields(present)
                 got = self._merged[key] = (fields, tuple(found))
             self._merged_ids[ids] = got
+            self._alive.update((i, present[s]) for s, i in ids)
         ordered = [own[src] for src in SPEC_SOURCES if src in present]
         conflicts = list(got[1])
         for src in SPEC_SOURCES:
@@ -121,6 +124,7 @@ class SpecMerge:
         got = self._core.get(id(sp))
         if got is None:
             got = self._core[id(sp)] = _READINGS(sp)
+            self._alive[id(sp)] = sp
         return got
 
     def _merge_fields(self, present: dict[str, CapSpec]
@@ -171,6 +175,7 @@ class SpecMerge:
                 lo = None if derived[0] == lo else lo
                 hi = None if derived[1] == hi else hi
             got = self._stated[key] = (lo, hi)
+            self._alive[id(sp)] = sp
         return got
 
     def _conservative(self, key: str, cands: list[tuple[str, tuple[Any, ...]]],
@@ -224,6 +229,7 @@ class SpecMerge:
                 vals = get(spec)
                 got.append(vals if vals[:nkeys] != _NONES[nkeys] else None)
             self._group_cache[id(spec)] = got
+            self._alive[id(spec)] = spec
         return got
 
     def _merge_temperature(self, present: dict[str, CapSpec], out: dict[str, Any],
