@@ -53,8 +53,7 @@ def _make(cls: T, order: bool) -> T:
         raise TypeError(f"Cannot overwrite attribute {defined_order[0]} in class "
                         f"{cls.__name__}. Consider using functools.total_ordering")
     cls = dataclasses.dataclass(cls, frozen=True, eq=False, repr=False)
-    fields = [f for f in cls.__dataclass_fields__.values()
-              if f._field_type is dataclasses._FIELD]  # not ClassVar / InitVar pseudo-fields
+    fields = dataclasses.fields(cls)  # the fields proper (no ClassVar / InitVar)
     compared = _values(tuple(f.name for f in fields if f.compare))
     shown = tuple(f.name for f in fields if f.repr)
 
