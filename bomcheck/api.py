@@ -10,10 +10,11 @@ When a stage module moves, only the imports below change.
 from __future__ import annotations
 
 import json
+import sys
 from collections.abc import Callable, Iterable, Mapping, Sequence
 from dataclasses import replace
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import pandas as pd
 
@@ -45,9 +46,15 @@ from bomcheck.report.model import SPEC_FIELDS, Report, _records
 from bomcheck.report.whereused import Use, where_used
 from bomcheck.spec import CapSpec
 from bomcheck.status import at_least, worst
-from bomcheck.substitute import check as _sub
-from bomcheck.substitute import (Alternate, SubstituteOptions, SubstituteResult,
-                                 read_alternates)
+# The substitute check loads on its first use (through its package's names), not on every run.
+from bomcheck import substitute as _substitute
+
+if TYPE_CHECKING:  # pragma: no cover
+    from bomcheck.substitute import (Alternate, SubstituteOptions, SubstituteResult,
+                                     read_alternates)
+
+# The substitute check's names this module offers, from ``bomcheck.substitute`` on first use.
+_SUBSTITUTE_NAMES = ("Alternate", "SubstituteOptions", "SubstituteResult", "read_alternates")
 
 __all__ = [
     "DEFAULT_RULESET", "Alternate", "AuditOptions", "BoardResult", "CapSpec", "Diff",
@@ -63,6 +70,14 @@ __all__ = [
 # Columns of ``bomcheck import --json``: a placement's place in the BOM, then its spec.
 IMPORT_COLUMNS = ("refdes", "row", "fitted", "not_fitted_reason", "text", "value_text",
                   "description", "mpn", "manufacturer", "qty")
+
+
+def __getattr__(name: str) -> Any:
+    if name in _SUBSTITUTE_NAMES:
+        value = getattr(_substitute, name)
+        globals()[name] = value
+        return value
+    raise AttributeError(f"module 'bomcheck.api' has no attribute {name!r}")
 
 
 def _path(value: str | Path | None) -> str | None:
@@ -169,17 +184,17 @@ def batch_status(results: Iterable[BoardResult]) -> str:
 
 def substitute_files(bom: str | Path, design: str | Path | None,
                      alternates: str | Path | Sequence[Alternate], *,
-                     options: SubstituteOptions = SubstituteOptions(),
+                     options: SubstituteOptions | None = None,
                      alternates_path: str | Path | None = None,
                      **option_values: Any) -> SubstituteResult:
     """Check approved alternates (an alternates file, or ``Alternate`` values, read from
     ``alternates_path`` when given) in every placement of the parts they replace, under the
-    design sheet's conditions. Options as ``SubstituteOptions`` or its keyword arguments."""
-    if option_values:
-        options = replace(options, **option_values)
+    design sheet's conditions. Options as ``SubstituteOptions`` (default: its defaults) or its
+    keyword arguments."""
+    options = _substitute_options(options, option_values)
     if isinstance(alternates, (str, Path)):
-        alternates_path, alternates = alternates, read_alternates(str(alternates))
-    return _sub.run_substitute(str(bom), _path(design), list(alternates), options,
+        alternates_path, alternates = alternates, _substitute.read_alternates(str(alternates))
+    return _substitute.run_substitute(str(bom), _path(design), list(alternates), options,
                                alternates_path=_path(alternates_path))
 
 
@@ -188,28 +203,35 @@ check_substitutes = substitute_files  # the name the README gave it first
 
 def substitute_frames(bom: pd.DataFrame, design: pd.DataFrame | None,
                       alternates: Sequence[Alternate], *,
-                      options: SubstituteOptions = SubstituteOptions(), name: str = "<bom>",
+                      options: SubstituteOptions | None = None, name: str = "<bom>",
                       **option_values: Any) -> SubstituteResult:
     """``substitute_files`` for a BOM and a design sheet already in memory (as ``audit_frames``
     takes them); parts data, when ``options`` names a file, is read from it."""
-    if option_values:
-        options = replace(options, **option_values)
+    options = _substitute_options(options, option_values)
     imported, conditions = _frames(bom, design, options.import_options, name)
     part_data = (_parts.read_parts(options.parts, override=options.parts_override)
                  if options.parts else None)
-    return _sub.substitute_inputs(imported, conditions, part_data, alternates, options)
+    return _substitute.substitute_inputs(imported, conditions, part_data, alternates, options)
 
 
 def substitute_direct(original: str, alternates: Sequence[Alternate], *,
                       design: str | Path | None = None, refdes: Iterable[str] = (),
                       conditions: Mapping[str, str] | None = None,
-                      options: SubstituteOptions = SubstituteOptions()) -> SubstituteResult:
+                      options: SubstituteOptions | None = None) -> SubstituteResult:
     """Check alternates for an original given only as text, at the designators ``refdes``
     (lists such as ``C1-C4`` expanded; default ``C1``) under the design sheet's conditions and/or
     ``conditions`` (design-sheet column -> text, e.g. ``{"v_dc": "12 V"}``; these win)."""
     names = [r for item in refdes for r in expand(item)]
-    return _sub.run_direct(original, list(alternates), _path(design), names, conditions,
-                           options)
+    return _substitute.run_direct(original, list(alternates), _path(design), names, conditions,
+                                  _substitute_options(options, {}))
+
+
+def _substitute_options(options: SubstituteOptions | None,
+                        option_values: dict[str, Any]) -> SubstituteOptions:
+    """The options of a substitute check: ``options`` (None: the defaults) with the keyword
+    arguments given."""
+    options = _substitute.SubstituteOptions() if options is None else options
+    return replace(options, **option_values) if option_values else options
 
 
 # --------------------------------------------------------------------------------------------
@@ -284,7 +306,7 @@ def write_outputs(value: Report | SubstituteResult, outputs: Sequence[tuple[str,
     unknown = [name for name, _ in outputs if name not in OUTPUTS]
     if unknown:
         raise ValueError(f"unknown output {unknown[0]!r}; expected one of: " + ", ".join(OUTPUTS))
-    if isinstance(value, SubstituteResult):
+    if _is_substitute_result(value):
         report, context = None, OutputContext(substitutes=value)
     else:
         report, context = value, OutputContext(warn_as=warn_as, diff=diff)
@@ -293,3 +315,9 @@ def write_outputs(value: Report | SubstituteResult, outputs: Sequence[tuple[str,
             if on_output is not None:
                 on_output(name, path)
             OUTPUTS[name].load()(report, path, context)
+
+
+def _is_substitute_result(value: Any) -> bool:
+    """True for a substitute check's result (its module is loaded once a check has run)."""
+    result = sys.modules.get("bomcheck.substitute.result")
+    return result is not None and isinstance(value, result.SubstituteResult)

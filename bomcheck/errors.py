@@ -4,6 +4,8 @@ from __future__ import annotations
 
 from dataclasses import dataclass, field
 
+from bomcheck.frozen import frozen
+
 
 class BomcheckError(Exception):
     """Base of every error caused by the user's input rather than by a bug."""
@@ -61,7 +63,7 @@ class UnitError(InputError):
     """A quantity whose unit is unknown or of the wrong dimension."""
 
 
-@dataclass(frozen=True)
+@frozen
 class RuleProblem:
     """One problem found in a rule file: file, rule id or index, key path and what was expected."""
 

@@ -8,10 +8,11 @@ A *condition* is a column the design sheet gives for a placement. Both are in SI
 from __future__ import annotations
 
 import re
-from dataclasses import dataclass
+
+from bomcheck.frozen import frozen
 
 
-@dataclass(frozen=True)
+@frozen
 class Metric:
     """A computed stress: its unit quantity (a key of ``SI_UNITS``), display unit and inputs.
 

@@ -8,9 +8,10 @@ engine looks the kind up here, so a new kind is one entry of ``CHECKS``.
 from __future__ import annotations
 
 from collections.abc import Callable
-from dataclasses import dataclass
 
 import numpy as np
+
+from bomcheck.frozen import frozen
 
 PASS, WARN, FAIL, NODATA = range(4)
 # A value equal to the limit as written passes; allow for float rounding in ratios and curves.
@@ -27,7 +28,7 @@ def margin_min(value: np.ndarray, limit: np.ndarray) -> np.ndarray:
     return value - limit
 
 
-@dataclass(frozen=True)
+@frozen
 class CheckKind:
     """A way of comparing a metric with a limit: its margin function and how messages read."""
 

@@ -22,6 +22,7 @@ from bomcheck.evaluate.rule_model import (
     TypicalRatings, axis_quantity,
 )
 from bomcheck.evaluate.rule_schema import Problems, path_key, show, suggest, where
+from bomcheck.frozen import frozen
 from bomcheck.parse.units import check_plausible, to_si
 from bomcheck.quantity import format_number
 from bomcheck.spec import SAFETY_CLASSES, TECHNOLOGIES
@@ -31,7 +32,7 @@ from bomcheck.vocabulary import CONDITIONS, METRICS
 _RATIO_SANE_MAX = 10.0
 
 
-@dataclass(frozen=True)
+@frozen
 class FileHead:
     """The ``[ruleset]`` head of one file."""
 

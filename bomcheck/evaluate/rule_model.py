@@ -7,11 +7,12 @@ held in the SI unit of the metric it limits; the values are frozen and do no I/O
 from __future__ import annotations
 
 from collections.abc import Sequence
-from dataclasses import asdict, dataclass, replace
+from dataclasses import asdict, replace
 from typing import Any
 
 import numpy as np
 
+from bomcheck.frozen import frozen
 from bomcheck.parse.units import SI_UNITS
 from bomcheck.quantity import format_quantity
 from bomcheck.spec import SPEC_KEYS
@@ -64,7 +65,7 @@ def _metric_display(metric: str) -> tuple[str, bool]:
 # --------------------------------------------------------------------------------------------
 # The values a rule set holds.
 
-@dataclass(frozen=True)
+@frozen
 class Limit:
     """A limit in the metric's SI unit: a constant, or a curve over another column.
 
@@ -119,7 +120,7 @@ class Limit:
         return f"{y[0]} at {x[0]} or below, linear to {rest} (over {self.over}, flat beyond)"
 
 
-@dataclass(frozen=True)
+@frozen
 class Bound:
     """One bound of `applies`: ``column op value`` (e.g. voltage_v >= 100 V), SI value."""
 
@@ -136,7 +137,7 @@ class Bound:
         return f"{self.label} {self.op} {format_quantity(self.value, unit)}"
 
 
-@dataclass(frozen=True)
+@frozen
 class Applies:
     """What placements a rule applies to; every given field must match, None matches everything.
 
@@ -182,7 +183,7 @@ class Applies:
         return "; ".join(parts) if parts else "every placement"
 
 
-@dataclass(frozen=True)
+@frozen
 class Example:
     """A worked example of a rule: placement columns and the status the rule must give."""
 
@@ -194,7 +195,7 @@ class Example:
         return {"refdes": "C1", **dict(self.given)}
 
 
-@dataclass(frozen=True)
+@frozen
 class Rule:
     """One derating rule: a check kind configured for a class of parts, with its source."""
 
@@ -248,7 +249,7 @@ class Rule:
         return tuple(dict.fromkeys(cols))
 
 
-@dataclass(frozen=True)
+@frozen
 class Source:
     """A document a rule set draws on."""
 
@@ -258,7 +259,7 @@ class Source:
     clause: str | None = None
 
 
-@dataclass(frozen=True)
+@frozen
 class DcBias:
     """Generic DC-bias data: remaining capacitance fraction against applied / rated voltage."""
 
@@ -271,7 +272,7 @@ class DcBias:
     packages: tuple[tuple[str, tuple[float, ...], tuple[float, ...]], ...] = ()
 
 
-@dataclass(frozen=True)
+@frozen
 class Aging:
     """Class II/III aging: C(t) = C(t0) x (1 - k/100 x log10(t/t0)), k in % per decade hour."""
 
@@ -283,7 +284,7 @@ class Aging:
     label: str = ""
 
 
-@dataclass(frozen=True)
+@frozen
 class TypicalRatings:
     """Typical rated maximum temperatures by technology, for parts whose text gives none."""
 
@@ -296,7 +297,7 @@ class TypicalRatings:
     lowest_temp_max_c: tuple[tuple[str, float], ...] = ()
 
 
-@dataclass(frozen=True)
+@frozen
 class Layer:
     """One file that went into a loaded rule set, in load order."""
 
@@ -307,7 +308,7 @@ class Layer:
     extends: str | None = None
 
 
-@dataclass(frozen=True)
+@frozen
 class RuleRow:
     """One row of the ``bomcheck rules`` listing."""
 
@@ -327,7 +328,7 @@ class RuleRow:
         return asdict(self)
 
 
-@dataclass(frozen=True)
+@frozen
 class RuleSet:
     """A loaded, validated rule set (possibly several files merged), ready for the engine."""
 

@@ -35,7 +35,6 @@ import datetime as dt
 import fnmatch
 import re
 from collections.abc import Sequence
-from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
@@ -43,6 +42,7 @@ import numpy as np
 import pandas as pd
 
 from bomcheck.errors import InputError
+from bomcheck.frozen import frozen
 from bomcheck.parse import refdes as refdes_mod
 from bomcheck.read.reader import HeaderNotFound, read_table, read_toml
 from bomcheck.status import RANK
@@ -57,7 +57,7 @@ _GLOB = re.compile(r"[*?\[]")
 _SHOW = 8  # designators named in one finding message before "and N more"
 
 
-@dataclass(frozen=True, order=True)
+@frozen(order=True)
 class Waiver:
     """One approved deviation from a waiver file (``row``: CSV line or TOML entry number)."""
 
@@ -70,7 +70,7 @@ class Waiver:
     bom_text: str | None = None
 
 
-@dataclass(frozen=True)
+@frozen
 class WaiverFile:
     """The waivers of one file, with the file's path and SHA-256 for the report's inputs."""
 
@@ -79,7 +79,7 @@ class WaiverFile:
     waivers: tuple[Waiver, ...]
 
 
-@dataclass(frozen=True, order=True)
+@frozen(order=True)
 class WaiverFinding:
     """What became of one waiver: ``applied``, ``expired``, ``unused`` or ``bom_changed``.
 
@@ -262,7 +262,7 @@ def _finding(w: Waiver, code: str, placements: Sequence[str], message: str) -> W
                          approved_by=w.approved_by, expires=w.expires.isoformat())
 
 
-@dataclass(frozen=True)
+@frozen
 class _Targets:
     """The verdicts' and placements' columns a waiver is matched on, read once per audit."""
 

@@ -11,10 +11,10 @@ from __future__ import annotations
 import dataclasses
 import tempfile
 from collections.abc import Callable, Iterator
-from dataclasses import dataclass
 from pathlib import Path
 
 from bomcheck.errors import BomcheckError, InputError
+from bomcheck.frozen import frozen
 from bomcheck.parse.importer import ImportOptions
 from bomcheck.pipeline.audit import run_audit
 from bomcheck.read.reader import read_toml
@@ -25,7 +25,7 @@ BOARD_KEYS = ("product", "bom", "design", "parts", "rules", "waivers", "design_s
 BATCH_OUTPUTS = ("json", "markdown", "csv")  # what a batch run can write
 
 
-@dataclass(frozen=True)
+@frozen
 class Board:
     """One board of a manifest: its product name, input files and own options."""
 
@@ -39,7 +39,7 @@ class Board:
     sheet: str | int | None = None
 
 
-@dataclass(frozen=True)
+@frozen
 class BoardResult:
     """What a worker hands back: the board's status and totals, and its output pieces."""
 

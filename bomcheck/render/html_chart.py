@@ -5,10 +5,10 @@ from ``report.chartdata``; no script and no external asset."""
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
 
 import pandas as pd
 
+from bomcheck.frozen import frozen
 from bomcheck.render.textsafe import html_text as esc
 from bomcheck.report.chartdata import chart_points, limit_lines
 
@@ -19,7 +19,7 @@ _TECH_COLOURS = ("#2f6690", "#b5651d", "#7a4e9c", "#3a7d44", "#8c6d1f", "#9e2a2b
 _DASHES = ("", "6 3", "2 3", "10 4", "6 3 2 3", "3 3", "10 4 2 4")
 
 
-@dataclass(frozen=True)
+@frozen
 class _Frame:
     """The plot area: data ranges and their mapping to SVG coordinates."""
 

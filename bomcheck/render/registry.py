@@ -10,14 +10,14 @@ the report, the path (``-`` for standard output where allowed) and an ``OutputCo
 from __future__ import annotations
 
 from collections.abc import Callable
-from dataclasses import dataclass
 from importlib import import_module
 from typing import Any
 
 from bomcheck.errors import InputError
+from bomcheck.frozen import frozen
 
 
-@dataclass(frozen=True)
+@frozen
 class OutputContext:
     """What a writer may need besides the report: JUnit's warning mapping, the comparison with a
     baseline, the JSON text when already built, and the substitute check's result."""
@@ -28,7 +28,7 @@ class OutputContext:
     substitutes: Any = None
 
 
-@dataclass(frozen=True)
+@frozen
 class Output:
     """One output: ``kind`` "file" (``--NAME OUT``) or "flag" (``--NAME``, printed on standard
     output); ``writer`` is ``module:function``; ``stdout`` whether ``-`` may name standard

@@ -41,9 +41,11 @@ COMPACT_WIDTH = 130
 
 
 def make_console(*, file=None, no_color: bool = False, width: int | None = None) -> Console:
-    """A console with the project theme; colour off when asked (NO_COLOR is honoured by rich)."""
+    """A console with the project theme; colour off when asked (NO_COLOR is honoured by rich).
+    Emoji codes are not replaced: text from the inputs (an MPN such as ``:fire:``) prints as it
+    is, and rich's emoji table (a few ms at start) is not loaded."""
     return Console(file=file, theme=THEME, no_color=no_color, width=width,
-                   highlight=False, soft_wrap=False)
+                   highlight=False, soft_wrap=False, emoji=False)
 
 
 def _table(title: str, **options) -> Any:

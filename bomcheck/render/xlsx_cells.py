@@ -15,6 +15,7 @@ import numpy as np
 import pandas as pd
 
 from bomcheck.evaluate.rule_model import axis_quantity
+from bomcheck.frozen import frozen
 from bomcheck.quantity import format_quantity
 from bomcheck.render.textsafe import FORMULA_LEADS, spreadsheet_unsafe, xml_text
 from bomcheck.report.model import CONDITION_FIELDS, METRIC_FIELDS, SPEC_FIELDS
@@ -43,7 +44,7 @@ HEADER_FILL = "DCE1E6"
 HEADER_RULE = "8A939C"
 
 
-@dataclass(frozen=True)
+@frozen
 class _Kind:
     """How a column's numbers are stored and shown: a number format and a scale from SI."""
 

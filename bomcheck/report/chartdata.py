@@ -10,15 +10,16 @@ renderer shows them on their own, never against the DC lines.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
 
 import numpy as np
 import pandas as pd
 
+from bomcheck.frozen import frozen
+
 UNKNOWN_TECHNOLOGY = "unknown technology"
 
 
-@dataclass(frozen=True)
+@frozen
 class ChartPoints:
     """Placements with both a voltage ratio and an operating temperature, worst first:
     ``dc`` (plotted against the limit lines) and ``ac`` (AC-rated, apart). Columns: refdes,

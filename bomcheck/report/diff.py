@@ -9,9 +9,9 @@ warn < nodata < fail, so an expired waiver shows as a worsened verdict).
 
 from __future__ import annotations
 
-from dataclasses import dataclass
 from typing import Any
 
+from bomcheck.frozen import frozen
 from bomcheck.parse import refdes as refdes_mod
 from bomcheck.errors import InputError
 from bomcheck.status import RANK as _RANK
@@ -19,7 +19,7 @@ from bomcheck.status import RANK as _RANK
 PROBLEM = "warn"  # the lowest status that counts as a problem
 
 
-@dataclass(frozen=True)
+@frozen
 class VerdictChange:
     """One verdict that appeared, went away or changed status between two reports."""
 
@@ -54,7 +54,7 @@ class VerdictChange:
                 "new_message": self.new_message}
 
 
-@dataclass(frozen=True)
+@frozen
 class Diff:
     """Two reports compared: verdicts new, resolved and changed; placements added and removed.
 

@@ -3,14 +3,15 @@ single or combined, with its voltage ratio, temperature margin and status."""
 
 from __future__ import annotations
 
-from dataclasses import dataclass, fields
+from dataclasses import fields
 from typing import Any
 
+from bomcheck.frozen import frozen
 from bomcheck.parse import refdes as refdes_mod
 from bomcheck.errors import InputError
 
 
-@dataclass(frozen=True)
+@frozen
 class Use:
     """One placement of the part: where it is, what it carries and how it fared."""
 

@@ -14,12 +14,13 @@ are handled one group at a time. The new columns are collected by name and joine
 from __future__ import annotations
 
 from collections.abc import Callable, Mapping
-from dataclasses import dataclass, field
+from dataclasses import field
 from typing import Any
 
 import numpy as np
 import pandas as pd
 
+from bomcheck.frozen import frozen
 from bomcheck.parse import parts_apply as parts_mod
 from bomcheck.stress import banks, discharge, life, series, surge, thermal
 from bomcheck.stress import placement as stresses
@@ -58,7 +59,7 @@ _VERDICT_COLUMNS = ["pidx", "refdes", "rule_id", "status", "message", "source"]
 Step = Callable[[CircuitRun], None]
 
 
-@dataclass(frozen=True)
+@frozen
 class CircuitStress:
     """One circuit stress: what it changes in the placements' inputs before the placement
     stresses run again (``inputs``), and the metric columns it adds after (``metrics``)."""
@@ -89,7 +90,7 @@ STRESSES: tuple[CircuitStress, ...] = (
 )
 
 
-@dataclass(frozen=True)
+@frozen
 class CircuitResult:
     """The placements with the circuit metrics, the group summaries for the report, and the
     stage's own verdicts (parts conflicts, series stacks without balancing data)."""

@@ -15,10 +15,11 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
+from bomcheck.frozen import frozen
 from bomcheck.stress.placement import Columns, StressData, as_numbers, as_text
 
 
-@dataclass(frozen=True)
+@frozen
 class CircuitOptions:
     """Typical data and options of the circuit stresses (the rule set's ``[circuit]`` table)."""
 

@@ -5,13 +5,13 @@ from __future__ import annotations
 
 import re
 from collections.abc import Mapping, Sequence
-from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
 import pandas as pd
 
 from bomcheck.errors import InputError
+from bomcheck.frozen import frozen
 from bomcheck.parse.columns import match_field, normalise_header
 from bomcheck.parse.parts import PartsData, is_parts_header, parts_from_table
 from bomcheck.read.reader import load_toml, read_input, read_input_table, toml_text
@@ -83,7 +83,7 @@ def _flag(text: str, *, path: str, row: int | None, column: str) -> bool:
                      expected="yes or no (true/false, 1/0, x or empty)")
 
 
-@dataclass(frozen=True)
+@frozen
 class _Record:
     """One row of an alternates table sorted by kind of column: the file's own fields
     (field -> (header, text)), BOM-style cells and parts-data cells; ``path`` and ``row`` for

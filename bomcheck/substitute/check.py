@@ -15,7 +15,6 @@ from __future__ import annotations
 
 import math
 from collections.abc import Mapping, Sequence
-from dataclasses import dataclass
 from typing import Any
 
 import numpy as np
@@ -23,6 +22,7 @@ import pandas as pd
 
 from bomcheck import __version__
 from bomcheck.errors import InputError
+from bomcheck.frozen import frozen
 from bomcheck.parse import importer
 from bomcheck.parse.design import design_from_table, read_design
 from bomcheck.parse.linespec import SPEC_COLUMNS
@@ -53,7 +53,7 @@ from bomcheck.substitute.table import (
 from bomcheck.substitute.verdicts import pair_verdicts, placement_checks
 
 
-@dataclass(frozen=True)
+@frozen
 class _Run:
     """What every alternate of one run is checked against: the audit's pre-stress table of the
     fitted placements, the stages and the options."""
@@ -63,7 +63,7 @@ class _Run:
     options: SubstituteOptions
 
 
-@dataclass(frozen=True)
+@frozen
 class _Target:
     """Where one alternate goes: how its original matched, the rows of ``_Run.base`` it is
     checked on (``subset``: the replaced placements and their bank or stack mates), the ones it

@@ -6,9 +6,9 @@ from __future__ import annotations
 import math
 import re
 from collections.abc import Callable, Mapping
-from dataclasses import dataclass
 from typing import Any
 
+from bomcheck.frozen import frozen
 from bomcheck.substitute.words import fq, num
 from bomcheck.vocabulary import METRICS
 
@@ -17,7 +17,7 @@ _MARGIN_LABEL = {"voltage_ratio": "voltage stress", "transient_ratio": "transien
                  "bank_c_margin": "bank capacitance margin"}
 
 
-@dataclass(frozen=True)
+@frozen
 class Said:
     """What a phrase is built from: the placement's table row, the alternate's value and limit
     on the stress, the words past its limit, and whether several placements share it."""

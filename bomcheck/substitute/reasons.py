@@ -11,6 +11,7 @@ from typing import Any, NamedTuple
 import numpy as np
 import pandas as pd
 
+from bomcheck.frozen import frozen
 from bomcheck.substitute.phrases import margin_phrase, phrase
 from bomcheck.substitute.result import SEVERITIES, Difference, Issue, SubstituteOptions
 from bomcheck.substitute.words import num
@@ -32,7 +33,7 @@ _REVIEW_PREFIX = {"warn": "a warning appears: ",
                                      "compared: "}
 
 
-@dataclass(frozen=True)
+@frozen
 class Scene:
     """The alternate's table as the reasons read it: each placement's row and designator,
     which placements it replaces, the differences at each designator, and the options."""

@@ -6,12 +6,13 @@ from __future__ import annotations
 import json
 import math
 from collections.abc import Mapping
-from dataclasses import dataclass, field
+from dataclasses import field
 from typing import Any
 
 import numpy as np
 import pandas as pd
 
+from bomcheck.frozen import frozen
 from bomcheck.report.model import CAUTIONS
 from bomcheck.status import RANK
 from bomcheck.substitute.words import designator_list
@@ -24,7 +25,7 @@ DEFAULT_TEMP_MARGIN_DROP_C = 10.0  # degC, for temperature margins
 _TOP_SEVERITY = {"rejected": "reject", "review": "review", "drop-in": "note"}
 
 
-@dataclass(frozen=True)
+@frozen
 class SubstituteOptions:
     """What to check with: rule sets, import options, the design sheet's sheet, a parts file, and
     how far a margin may shrink before the alternate needs review."""
@@ -39,7 +40,7 @@ class SubstituteOptions:
     parts_override: bool = False  # as for the audit
 
 
-@dataclass(frozen=True)
+@frozen
 class Alternate:
     """One proposed alternate for one original, as the alternates file (or the command line)
     gives it.
@@ -74,7 +75,7 @@ class Alternate:
         return f"{self.path} row {self.row}" if self.path else f"row {self.row}"
 
 
-@dataclass(frozen=True)
+@frozen
 class Difference:
     """One difference between the original and the alternate that matters to the substitute.
 
@@ -96,7 +97,7 @@ class Difference:
                 "proposed": self.proposed, "text": self.text, "refdes": list(self.refdes)}
 
 
-@dataclass(frozen=True)
+@frozen
 class Issue:
     """A reason behind the alternate's verdict, for some placements."""
 
@@ -118,7 +119,7 @@ class Issue:
                 "refdes": list(self.refdes), "text": self.text, "sentence": self.sentence}
 
 
-@dataclass(frozen=True)
+@frozen
 class VerdictPair:
     """One rule on one placement: the original's verdict and the alternate's (None where the rule
     does not apply to that part)."""
@@ -135,7 +136,7 @@ class VerdictPair:
                 "proposed": self.proposed, "worse": self.worse}
 
 
-@dataclass(frozen=True)
+@frozen
 class PlacementCheck:
     """One placement, audited with the original and with the alternate, side by side.
 
@@ -174,7 +175,7 @@ class PlacementCheck:
                 "worse": self.worse, "verdicts": [v.to_dict() for v in self.verdicts]}
 
 
-@dataclass(frozen=True)
+@frozen
 class AlternateResult:
     """The check of one alternate in every placement of its original (``original_spec`` and
     ``proposed_spec`` are those of its first placement, after the parts data)."""
@@ -230,7 +231,7 @@ class AlternateResult:
         }
 
 
-@dataclass(frozen=True)
+@frozen
 class SubstituteResult:
     """Every alternate checked, with the rule sets and inputs behind the checks."""
 

@@ -4,13 +4,13 @@ alternate's spec over them, and running the audit's own stages on the result."""
 from __future__ import annotations
 
 from collections.abc import Callable, Mapping, Sequence
-from dataclasses import dataclass
 from typing import Any
 
 import numpy as np
 import pandas as pd
 
 from bomcheck.errors import InputError
+from bomcheck.frozen import frozen
 from bomcheck.parse.linespec import FLOAT_SPEC, SPEC_COLUMNS, spec_from_cells
 from bomcheck.parse.refdes import expand, is_designator
 from bomcheck.pipeline.audit import evaluate_table
@@ -20,7 +20,7 @@ from bomcheck.substitute.words import given, norm_text
 _FLOAT_FIELDS = frozenset(FLOAT_SPEC)
 
 
-@dataclass(frozen=True)
+@frozen
 class Stages:
     """What the audit's stages need beyond the table: the rule set, the parts data and the
     design's groups (banks, series stacks)."""
@@ -186,7 +186,7 @@ def group_mates(base: pd.DataFrame, replaced: np.ndarray, groups) -> np.ndarray:
 # --------------------------------------------------------------------------------------------
 # The alternate's spec.
 
-@dataclass(frozen=True)
+@frozen
 class Proposed:
     """The alternate's spec as parsed, with its texts and where it came from."""
 
