@@ -110,3 +110,10 @@ def test_diff_table_marks_new_problems_and_ends_with_the_counts():
 def test_ruleset_names_mark_the_default():
     text = plain(print_ruleset_names, ["industrial", "strict"], "industrial")
     assert text.splitlines()[:2] == ["industrial  (default)", "strict"]
+
+
+def test_emoji_codes_in_input_text_print_as_they_are():
+    # Common practice: an audit shows the designators and part numbers it was given, unaltered.
+    console = make_console(file=StringIO(), width=80, no_color=True)
+    console.print("MPN :fire: and :warning:")
+    assert console.file.getvalue() == "MPN :fire: and :warning:\n"

@@ -3,18 +3,18 @@ written beside it in numbered columns and the approved-source rows under it)."""
 
 from __future__ import annotations
 
-from dataclasses import dataclass
 
 import numpy as np
 import pandas as pd
 
+from bomcheck.frozen import frozen
 from bomcheck.parse import columns as colmod
 from bomcheck.parse.bomresult import LINE_CAP, SOURCE_COLUMNS
 from bomcheck.read import reader
 
 
 
-@dataclass(frozen=True)
+@frozen
 class Lines:
     """What the line stage tells the layout step: the line of each row and each line's kind,
     source row, manufacturer and MPN."""

@@ -5,11 +5,12 @@ from __future__ import annotations
 
 import functools
 from collections.abc import Callable, Mapping
-from dataclasses import asdict, dataclass, field
+from dataclasses import asdict, field
 
 import numpy as np
 import pandas as pd
 
+from bomcheck.frozen import frozen
 from bomcheck.parse.merge import SPEC_COLUMNS
 
 PLACEMENT_COLUMNS: tuple[str, ...] = (
@@ -20,7 +21,7 @@ SKIPPED_COLUMNS: tuple[str, ...] = ("row", "kind", "reason", "text")
 # What a BOM line is: capacitor placements, another part, or unreadable.
 LINE_CAP, LINE_NONCAP, LINE_UNREAD = 0, 1, 2
 
-@dataclass(frozen=True)
+@frozen
 class ImportOptions:
     """How to read a BOM: sheet, forced encoding, columns named by hand, a TOML column map."""
 
@@ -30,7 +31,7 @@ class ImportOptions:
     column_map: str | None = None
 
 
-@dataclass(frozen=True)
+@frozen
 class BomSource:
     """Where the placements came from: file, hash, format and the columns used."""
 
@@ -48,7 +49,7 @@ class BomSource:
 
 
 @functools.total_ordering
-@dataclass(frozen=True)
+@frozen
 class ImportFinding:
     """Something about a BOM line a reviewer must look at (quantity mismatch, column conflict).
 
@@ -104,7 +105,7 @@ def _empty_sources() -> pd.DataFrame:
                                       else object) for c in SOURCE_COLUMNS})
 
 
-@dataclass(frozen=True)
+@frozen
 class ImportResult:
     """Placements (one row per designator), rows not taken, findings and the totals line.
 

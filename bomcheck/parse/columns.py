@@ -13,8 +13,9 @@ import functools
 import re
 import unicodedata
 from collections.abc import Callable, Iterable, Mapping, Sequence
-from dataclasses import dataclass, field
+from dataclasses import field
 
+from bomcheck.frozen import frozen
 from bomcheck.errors import InputError
 
 from bomcheck.parse.aliases import ALIASES, ALT_FIELDS, FIELDS, HEADER_UNITS, NEGATIVE_FITTED
@@ -115,7 +116,7 @@ def is_negative_fitted(header: str) -> bool:
     )
 
 
-@dataclass(frozen=True)
+@frozen
 class ColumnOverrides:
     """What the user said about columns: field -> header, and extra aliases per field."""
 

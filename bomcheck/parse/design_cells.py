@@ -36,6 +36,7 @@ from typing import Any, NoReturn
 import numpy as np
 import pandas as pd
 
+from bomcheck.frozen import frozen
 from bomcheck.errors import InputError, UnitError
 from bomcheck.parse.units import (check_plausible, plain_to_si, round_15, to_si,
                                   unit_factor)
@@ -141,7 +142,7 @@ INFO_HEADERS: tuple[str, ...] = (
 )
 
 
-@dataclass(frozen=True)
+@frozen
 class InputWarning:
     """One doubt about a side input (design sheet, parts data): file, row, column and message.
 
@@ -214,7 +215,7 @@ def _qualifier(text: str, pattern: re.Pattern[str] = _QUALIFIER) -> tuple[str, s
     return m.group("body").strip(), kind
 
 
-@dataclass(frozen=True)
+@frozen
 class Column:
     header: str
     field: str | None  # canonical name; None for a column bomcheck does not know
@@ -389,7 +390,7 @@ def _convert_one(text: str, name: str, quantity: str, unit: str, header_mark: st
 # --- entries: the rows of any front end in one shape ------------------------------------------
 
 
-@dataclass(frozen=True)
+@frozen
 class Labels:
     """How the front end names its fields in errors (the header, or the TOML key)."""
 

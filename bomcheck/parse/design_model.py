@@ -11,6 +11,7 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
+from bomcheck.frozen import frozen
 from bomcheck.parse.design_cells import CONDITION_COLUMNS, InputWarning
 
 SOURCES = ("row", "group", "defaults", "none")
@@ -20,7 +21,7 @@ GROUP_KINDS = ("rail", "bank", "series")
 RAIL_COLUMNS = ("v_dc", "v_dc_max", "v_tol_pct")
 
 
-@dataclass(frozen=True)
+@frozen
 class Group:
     """A named set of placements sharing conditions: a rail, a bank on a rail or a series stack.
 

@@ -23,10 +23,11 @@ from __future__ import annotations
 
 import re
 from collections.abc import Callable
-from dataclasses import dataclass
 
 import numpy as np
 import pandas as pd
+
+from bomcheck.frozen import frozen
 
 __all__ = ["APPROVED_SOURCE", "NOT_PLACEMENT", "Layout", "find_layout", "parse_level"]
 
@@ -45,7 +46,7 @@ def parse_level(cell: str) -> int | None:
     return int(m.group(1) if m.group(1) is not None else m.group(3))
 
 
-@dataclass(frozen=True)
+@frozen
 class Layout:
     """Per source row of the table: approved-source rows, their parent row, and structure rows.
 

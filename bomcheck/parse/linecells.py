@@ -10,11 +10,11 @@ findings those warnings give) is put together as columns from the distinct cells
 
 from __future__ import annotations
 
-from dataclasses import dataclass
 
 import numpy as np
 import pandas as pd
 
+from bomcheck.frozen import frozen
 from bomcheck.parse.linespec import SPEC_SOURCES, CellParser, Core
 
 
@@ -47,7 +47,7 @@ def _filled(n: int, value: object) -> np.ndarray:
     return out
 
 
-@dataclass(frozen=True)
+@frozen
 class SourceCells:
     """One value-bearing source (``value``, ``description``...): the distinct cell of each
     line and, per distinct cell, what the line takes of it."""
@@ -61,7 +61,7 @@ class SourceCells:
     conflicts: np.ndarray  # the findings its own warnings give: ((code, message), ...)
 
 
-@dataclass(frozen=True)
+@frozen
 class LineCells:
     """What the value-bearing cells of every line say: ``cores`` by ``code`` (merged once per
     distinct reading) and each line's own columns."""

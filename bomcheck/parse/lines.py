@@ -5,11 +5,11 @@ from __future__ import annotations
 
 import math
 import re
-from dataclasses import dataclass
 
 import numpy as np
 import pandas as pd
 
+from bomcheck.frozen import frozen
 from bomcheck.parse import aliases
 from bomcheck.parse import columns as colmod
 from bomcheck.parse.approved import Lines, side_by_side
@@ -82,7 +82,7 @@ def _competing_cells(table: reader.RawTable, mapping: dict[str, str], heads: np.
 
 
 
-@dataclass(frozen=True)
+@frozen
 class _LineTable:
     """Per line of a table: each field's cell (continuation rows joined), source row, designators,
     what the value-bearing cells say, fitted or not and what it is."""

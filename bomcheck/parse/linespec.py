@@ -15,6 +15,7 @@ from collections.abc import Iterable, Mapping
 from dataclasses import dataclass
 from typing import Any
 
+from bomcheck.frozen import frozen
 from bomcheck.parse.merge import _CONTEXT, SPEC_COLUMNS, SPEC_SOURCES, SpecMerge
 from bomcheck.parse.valuecache import ValueParser
 from bomcheck.spec import CapSpec
@@ -140,7 +141,7 @@ def _other_value_form(value: str) -> tuple[str, str] | None:
     return None
 
 
-@dataclass(frozen=True)
+@frozen
 class Core:
     """What a combination of cells says apart from each cell's own warnings, unread tokens and
     text (``CellParser.core``): the same for every line whose cells read alike."""

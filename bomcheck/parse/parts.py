@@ -60,6 +60,7 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
+from bomcheck.frozen import frozen
 from bomcheck.errors import InputError
 from bomcheck.parse.design_cells import NO_VALUE, InputWarning
 from bomcheck.parse.parts_cells import TEXT_READERS, Curve, convert_column, read_curve
@@ -289,7 +290,7 @@ def _toml_cell(value: Any, canonical: str, *, path: str, row: int, label: str) -
                               "[x, y] pairs")
 
 
-@dataclass(frozen=True)
+@frozen
 class _Entries:
     rows: np.ndarray
     cells: dict[str, np.ndarray]  # canonical -> text cells

@@ -5,12 +5,12 @@ dielectric code, an override flag or a curve, with the strict grammar and the pl
 from __future__ import annotations
 
 import re
-from dataclasses import dataclass
 from typing import Any
 
 import numpy as np
 import pandas as pd
 
+from bomcheck.frozen import frozen
 from bomcheck.parse.codes import decode_dielectric
 from bomcheck.parse.design_cells import NO_VALUE
 from bomcheck.errors import InputError, UnitError
@@ -21,7 +21,7 @@ _TRUE = frozenset({"true", "yes", "y", "1", "x"})
 _FALSE = frozenset({"false", "no", "n", "0", ""})
 
 
-@dataclass(frozen=True)
+@frozen
 class Curve:
     """A part's curve: x values (SI, increasing) and y values (a fraction, or farads)."""
 

@@ -46,10 +46,10 @@ import functools
 import math
 import re
 from collections.abc import Sequence
-from dataclasses import dataclass
 
 import numpy as np
 
+from bomcheck.frozen import frozen
 from bomcheck.errors import UnitError
 
 # Canonical units of the project's quantities; every number inside the pipeline is in these.
@@ -73,7 +73,7 @@ SI_UNITS = {
 }
 
 
-@dataclass(frozen=True)
+@frozen
 class Plausible:
     """The plausible values of a quantity in its SI unit: ``high`` bounds the magnitude; ``low``
     is only set for a scale with its own zero (temperature), where the range is signed."""

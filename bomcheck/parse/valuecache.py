@@ -12,8 +12,9 @@ from __future__ import annotations
 
 import operator
 from collections.abc import Callable
-from dataclasses import dataclass, fields
+from dataclasses import fields
 
+from bomcheck.frozen import frozen
 from bomcheck.parse import codes
 from bomcheck.parse.readings import UNREAD_MARK
 from bomcheck.parse.scanstate import State
@@ -71,7 +72,7 @@ def _inert(context: str, tok: str) -> str | None:
     return None
 
 
-@dataclass(frozen=True)
+@frozen
 class _Shape:
     """One distinct shape parsed: the spec (no text), where its placeholders ended up in the
     unread tokens, and the bare-number warning to write again (its index, its tokens); each

@@ -11,12 +11,14 @@ from __future__ import annotations
 import contextlib
 import contextvars
 from collections.abc import Iterator
-from dataclasses import dataclass, fields, replace
+from dataclasses import fields, replace
+
+from bomcheck.frozen import frozen
 
 MIB = 1 << 20
 
 
-@dataclass(frozen=True)
+@frozen
 class Limits:
     """Largest input accepted, per file (``placements``: per BOM, ``cell_chars``: per cell)."""
 

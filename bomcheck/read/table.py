@@ -4,11 +4,11 @@ numbers), its warnings, the header-row search and the finishing shared by text a
 from __future__ import annotations
 
 from collections.abc import Callable
-from dataclasses import dataclass
 from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
+from bomcheck.frozen import frozen
 from bomcheck.errors import InputError
 from bomcheck.read import limits as limits_mod
 
@@ -21,7 +21,7 @@ HEADER_SEARCH_ROWS = 25
 HeaderPredicate = Callable[[list[str]], bool]
 
 
-@dataclass(frozen=True)
+@frozen
 class ReadWarning:
     """Something the reader skipped or doubts, for the report: ``code`` (``mixed-encoding``,
     ``hidden-rows``, ``hidden-columns``, ``hidden-sheets``), a one-line ``message`` naming the
@@ -38,7 +38,7 @@ class ReadWarning:
         return self.message
 
 
-@dataclass(frozen=True)
+@frozen
 class RawTable:
     """One table of text cells as read from a BOM file.
 

@@ -8,11 +8,12 @@ import csv
 import io
 import warnings
 from collections import Counter
-from dataclasses import dataclass, replace
+from dataclasses import replace
 from typing import TYPE_CHECKING
 
 import numpy as np
 
+from bomcheck.frozen import frozen
 from bomcheck.errors import InputError
 from bomcheck.read import limits as limits_mod
 from bomcheck.read.table import (HEADER_SEARCH_ROWS, HeaderNotFound, HeaderPredicate, RawTable,
@@ -167,7 +168,7 @@ def _body_source(path: str, data: bytes, text: str, encoding: str, start: int, h
     return source, skip, codec, buf, offset
 
 
-@dataclass(frozen=True)
+@frozen
 class _LineShape:
     """What the body's bytes say about its lines, found with array operations."""
 

@@ -8,12 +8,13 @@ import io
 import math
 import warnings
 import zipfile
-from dataclasses import dataclass, replace
+from dataclasses import replace
 from datetime import date, datetime, time, timedelta
 from typing import Any
 
 import numpy as np
 
+from bomcheck.frozen import frozen
 from bomcheck.errors import InputError
 from bomcheck.read import limits as limits_mod
 from bomcheck.read.table import (HEADER_SEARCH_ROWS, HeaderNotFound, HeaderPredicate, RawTable,
@@ -149,7 +150,7 @@ def _pick_sheet(path: str, names: list[str], sheet: str | int | None) -> str:
                      expected="one of " + ", ".join(map(repr, names)) + " or a 1-based index")
 
 
-@dataclass(frozen=True)
+@frozen
 class _SheetRows:
     """A sheet's rows as text with their source row numbers, hidden ones left out (counted)."""
 

@@ -13,8 +13,9 @@ from __future__ import annotations
 import posixpath
 import re
 import zipfile
-from dataclasses import dataclass, field
+from dataclasses import field
 
+from bomcheck.frozen import frozen
 from bomcheck.errors import InputError
 from bomcheck.read.limits import Limits, hint
 
@@ -38,7 +39,7 @@ _REF = re.compile(r"\$?([A-Za-z]{1,8})\$?(\d{1,12})")
 _PERCENT_BUILTIN = frozenset({9, 10})
 
 
-@dataclass(frozen=True)
+@frozen
 class SheetScan:
     """One worksheet as its XML describes it (rows and columns 1-based)."""
 
@@ -55,7 +56,7 @@ class SheetScan:
         return self.state != "visible"
 
 
-@dataclass(frozen=True)
+@frozen
 class WorkbookScan:
     """The sheets of a workbook in workbook order; ``scanned`` False when a part was missing
     and the spreadsheet library is left to report what it finds."""
