@@ -70,7 +70,10 @@ class Columns:
                 if not (pd.api.types.is_numeric_dtype(s.dtype)
                         or pd.api.types.is_bool_dtype(s.dtype)):
                     s = pd.to_numeric(s, errors="coerce")
-                out = s.to_numpy(dtype=float, na_value=np.nan)
+                # A numpy column is read in place (a float column's missing values are NaN
+                # already); only an extension column (Int64, Float64) needs NA made NaN, a copy.
+                out = (s.to_numpy(dtype=float) if isinstance(s.dtype, np.dtype)
+                       else s.to_numpy(dtype=float, na_value=np.nan))
             self._num[name] = out
         return self._num[name]
 

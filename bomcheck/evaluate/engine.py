@@ -279,6 +279,7 @@ def without_unverdicted(table: pd.DataFrame, verdicts: pd.DataFrame,
         blanked[name] = values
     if not blanked:
         return table.copy(deep=False)
-    # One concatenation, not a column at a time (a frame of many inserted columns fragments).
-    rest = table.drop(columns=list(blanked))
-    return pd.concat([rest, pd.DataFrame(blanked, index=table.index)], axis=1)[table.columns]
+    # One new frame of the columns as they are (no copy; a concatenation in column order
+    # copied every blanked column once more: about 8 bytes per placement and metric).
+    return pd.DataFrame({c: blanked[c] if c in blanked else table[c] for c in table.columns},
+                        index=table.index, copy=False)

@@ -174,8 +174,13 @@ def evaluate_table(table: pd.DataFrame, ruleset, *, parts=None, groups=None,
         verdicts = pd.concat([verdicts, run.verdicts], ignore_index=True).sort_values(
             ["pidx", "rule_id"], kind="stable").reset_index(drop=True)
     # The audit's own verdicts: no verdict is missing data; a finding on given data is firm.
-    verdicts["basis"] = verdicts["basis"].where(
-        verdicts["basis"].notna(), np.where(verdicts["status"] == "nodata", "missing", "firm"))
+    basis = verdicts["basis"].to_numpy(dtype=object)
+    unset = pd.isna(basis)
+    if unset.any():  # only those few rows are compared and written
+        basis = basis.copy()
+        basis[unset] = np.where(verdicts["status"].to_numpy(dtype=object)[unset] == "nodata",
+                                "missing", "firm")
+        verdicts["basis"] = pd.Series(basis, index=verdicts.index, dtype=object)
     # A stress is reported only where a rule gave the placement a verdict on it (or on what it
     # feeds); new columns only below, the stages never write in place.
     table = engine.without_unverdicted(table, verdicts, ruleset)
