@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import time
+import tracemalloc
 
 import numpy as np
 import pandas as pd
@@ -10,6 +11,8 @@ import pytest
 from verdictcases import (industrial, placement, strict, strict_step,  # noqa: F401
                           synthetic, verdict)
 
+from bomcheck.evaluate import engine
+from bomcheck.evaluate.rules import load_rules
 from bomcheck.evaluate.engine import CHECKS, VERDICT_COLUMNS, check_kind, evaluate
 
 
@@ -286,3 +289,37 @@ def test_capacitance_margin_needs_a_stated_need_or_an_explicit_none(strict):
     assert "required capacitance" in v.message.iloc[1]
 
 
+def test_unverdicted_metrics_are_blanked_without_copying_the_others():
+    table = pd.DataFrame({
+        "refdes": ["C1", "C2"], "voltage_ratio": [0.5, 0.9], "rated_voltage_v": [10.0, 16.0],
+        "life_ratio": [2.0, 3.0], "other": [1.0, 2.0],
+    })
+    verdicts = pd.DataFrame({"pidx": np.array([], dtype=np.int64),
+                             "rule_id": np.array([], dtype=object)})
+    out = engine.without_unverdicted(table, verdicts, load_rules(("industrial",)))
+    # No rule gave a verdict: every metric is blank, every other column is the input's own.
+    assert out["voltage_ratio"].isna().all() and out["life_ratio"].isna().all()
+    assert list(out.columns) == list(table.columns)
+    assert np.shares_memory(out["other"].to_numpy(), table["other"].to_numpy())
+    assert out["refdes"].tolist() == ["C1", "C2"]
+
+
+def test_blanking_metrics_holds_one_new_copy_of_each_blanked_column():
+    # Memory at scale (issue 13): the blanked columns are made once and form the new table; a
+    # concatenation in column order copied them a second time.
+    n = 200_000
+    metrics = ("voltage_ratio", "rated_voltage_v", "life_ratio", "ripple_ratio")
+    table = pd.DataFrame({m: np.linspace(0.1, 1.0, n) for m in metrics})
+    table["refdes"] = "C1"
+    verdicts = pd.DataFrame({"pidx": np.array([], dtype=np.int64),
+                             "rule_id": np.array([], dtype=object)})
+    rules = load_rules(("industrial",))
+    tracemalloc.start()
+    try:
+        out = engine.without_unverdicted(table, verdicts, rules)
+        _, peak = tracemalloc.get_traced_memory()
+    finally:
+        tracemalloc.stop()
+    blanked = len(metrics) * n * 8
+    assert out[list(metrics)].isna().all().all()
+    assert peak < 1.5 * blanked, (peak, blanked)

@@ -73,3 +73,13 @@ def test_isin_is_case_blind_and_is_true_needs_a_real_true():
 ])
 def test_applies_mask(applies, expected):
     assert applies_mask(applies, Columns(TABLE)).tolist() == expected
+
+
+def test_numeric_columns_read_alike_in_place_and_with_missing_values():
+    table = pd.DataFrame({"a": [1.0, np.nan], "b": pd.array([3, None], dtype="Int64"),
+                          "c": ["4.5", "x"]})
+    cols = Columns(table)
+    assert np.array_equal(cols.num("a"), [1.0, np.nan], equal_nan=True)
+    assert np.array_equal(cols.num("b"), [3.0, np.nan], equal_nan=True)
+    assert np.array_equal(cols.num("c"), [4.5, np.nan], equal_nan=True)
+    assert np.isnan(cols.num("missing")).all()

@@ -7,6 +7,7 @@ from importlib import resources
 
 import jsonschema
 import numpy as np
+import orjson
 import pandas as pd
 import pytest
 
@@ -154,3 +155,25 @@ def test_report_json_survives_an_infinite_metric(tmp_path):
     text = report.to_json()
     data = json.loads(text, parse_constant=lambda c: pytest.fail(c))
     assert data["placements"][0]["metrics"].get("voltage_ratio") is None  # left out, or null
+
+
+def test_float_texts_are_the_shortest_round_trip_text_of_python_floats():
+    # RFC 8259 section 6 (a number is decimal text) and the shortest text that reads back as
+    # the same double (common practice): the array path must write what orjson writes for the
+    # same values as Python floats.
+    rng = np.random.default_rng(13)
+    values = np.concatenate([
+        rng.random(2000) * 10.0 ** rng.integers(-15, 15, 2000),
+        [0.0, -0.0, 0.1, 1 / 3, 12.0, 4.23e-05, 1e16, 1e300, 5e-324, -2.5e-310],
+    ])
+    texts, present = column_texts(pd.Series(values))
+    assert present.all()
+    assert list(texts) == orjson.dumps(values.tolist()).decode()[1:-1].split(",")
+    assert [json.loads(t) for t in texts] == values.tolist()
+
+
+def test_float_texts_of_a_strided_column():
+    # A column taken from a wider block is not contiguous; its texts are the same.
+    block = np.arange(12, dtype=float).reshape(4, 3) / 7
+    texts, _ = column_texts(block[:, 1])
+    assert [json.loads(t) for t in texts] == block[:, 1].tolist()

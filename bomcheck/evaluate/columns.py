@@ -4,12 +4,12 @@ formatted for messages) once per table, and the mask of placements a rule applie
 from __future__ import annotations
 
 from collections.abc import Callable
-from dataclasses import dataclass
 
 import numpy as np
 import pandas as pd
 
 from bomcheck.evaluate.rule_model import Applies
+from bomcheck.frozen import frozen
 from bomcheck.quantity import format_quantity
 
 
@@ -23,7 +23,7 @@ def round_sig(x: np.ndarray, digits: int = 4) -> np.ndarray:
     return np.where(np.isfinite(out), out, x)
 
 
-@dataclass(frozen=True)
+@frozen
 class Coded:
     """Strings as codes into a lookup (the last entry is "?" for a missing value)."""
 

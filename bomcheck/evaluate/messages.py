@@ -5,12 +5,12 @@ from __future__ import annotations
 
 import operator
 import string
-from dataclasses import dataclass
 from itertools import repeat
 
 import numpy as np
 import pandas as pd
 
+from bomcheck.frozen import frozen
 from bomcheck.evaluate.checks import FAIL, NODATA, PASS, WARN, CheckKind
 from bomcheck.evaluate.columns import Coded, Columns, coded_constant, coded_values, round_sig
 from bomcheck.evaluate.rule_model import Rule, axis_quantity
@@ -89,7 +89,7 @@ def _missing_labels(needs: tuple[str, ...], missing: dict[str, np.ndarray],
 # --------------------------------------------------------------------------------------------
 # Evaluation.
 
-@dataclass(frozen=True)
+@frozen
 class Context:
     """Per-table columns every rule's messages use."""
 
@@ -118,7 +118,7 @@ def _distinct_rows(parts: list[Coded], k: int) -> tuple[np.ndarray, np.ndarray]:
 
 
 
-@dataclass(frozen=True)
+@frozen
 class RuleVerdicts:
     """One rule's verdicts as codes and numbers: what its messages are built from, when an
     output prints them (positions in ``idx`` order, ``idx`` the placements, ascending)."""

@@ -8,7 +8,7 @@ from __future__ import annotations
 
 import dataclasses
 import warnings
-from dataclasses import dataclass, field
+from dataclasses import field
 from datetime import date
 
 import numpy as np
@@ -17,6 +17,7 @@ import pandas as pd
 from bomcheck import __version__
 from bomcheck.evaluate import engine, rules, sources
 from bomcheck.evaluate.waivers import apply_waivers, load_waivers
+from bomcheck.frozen import frozen
 from bomcheck.parse import design as design_mod
 from bomcheck.parse import importer
 from bomcheck.parse import parts as parts_mod
@@ -33,7 +34,7 @@ NO_FAMILY_RULE = "rules.no-{family}-rule"
 BOM_FINDING = "bom.{code}"
 
 
-@dataclass(frozen=True)
+@frozen
 class AuditOptions:
     """What to audit with: rule sets (names or paths), import options and the design sheet's sheet."""
 
@@ -144,7 +145,7 @@ def placement_status(verdicts: pd.DataFrame, n: int) -> np.ndarray:
     return np.asarray(STATUS_ORDER, dtype=object)[worst]
 
 
-@dataclass(frozen=True)
+@frozen
 class Evaluated:
     """A placement table after the stress, circuit and evaluate stages."""
 

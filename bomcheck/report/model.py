@@ -7,12 +7,13 @@ recompute anything. The JSON form holds no clock reading, so the same inputs giv
 from __future__ import annotations
 
 import json
-from dataclasses import dataclass, field
+from dataclasses import field
 from typing import Any
 
 import numpy as np
 import pandas as pd
 
+from bomcheck.frozen import frozen
 from bomcheck.report import jsonform
 from bomcheck.report.jsonform import (SCHEMA_VERSION, column_texts, frame_objects, join_per_row,
                                       objects, write_chunks)
@@ -83,7 +84,7 @@ worst_status = worst  # kept for callers of the report module
 status_at_least = at_least
 
 
-@dataclass(frozen=True)
+@frozen
 class Report:
     """Everything an audit found. ``table`` has one row per fitted placement (spec, conditions,
     metrics, status); ``verdicts`` one row per placement and rule (see engine.evaluate). A

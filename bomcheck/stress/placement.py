@@ -10,18 +10,20 @@ the metric columns are joined to the table once. No I/O, no pint, no per-row Pyt
 from __future__ import annotations
 
 from collections.abc import Callable, Mapping
-from dataclasses import dataclass, field
+from dataclasses import field
 from typing import Any
 
 import numpy as np
 import pandas as pd
+
+from bomcheck.frozen import frozen
 
 # Capacitance change taken for a class II ceramic whose code is not known: X7R/X5R's +/-15 %
 # (EIA-198 letter R), the common case, marked generic wherever it is used.
 ASSUMED_CLASS2_CHANGE_PCT = 15.0
 
 
-@dataclass(frozen=True)
+@frozen
 class StressData:
     """Assumed data the stress stage needs beyond the BOM and the design sheet.
 
