@@ -104,6 +104,8 @@ def test_heavy_libraries_only_at_the_edges(path):
 LAZY_IMPORTS = {
     "__init__.py": "the public API loads a stage on first use, so `import bomcheck` stays light",
     "cli/main.py": "argument parsing and --help import no stage",
+    "cli/commands.py": "the terminal renderer (and rich) loads only when it prints: a --quiet run "
+                       "into a log prints plain lines",
     "render/registry.py": "the output registry names writers; a run loads only the ones it writes",
     "render/writers.py": "each writer loads its library (openpyxl, the HTML page) only when used",
 }

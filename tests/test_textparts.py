@@ -2,10 +2,12 @@
 row-accounting line, numbers, stored energy and a bank's or series stack's figures."""
 
 import math
+from types import SimpleNamespace
 
 import pytest
 
-from bomcheck.render.textparts import accounting_line, energy, group_cells, number
+from bomcheck.render.textparts import (accounting_line, counts_parts, energy, group_cells, number,
+                                       quiet_lines)
 
 TOTALS = {"rows_read": 10, "capacitor_rows": 6, "non_capacitor_rows": 3, "unreadable_rows": 1,
           "placements": 8, "fitted": 7, "not_fitted": 1}
@@ -49,3 +51,18 @@ def test_group_cells_leave_out_what_the_group_lacks():
     assert group_cells({}) == ("", "", "")
     need, _, _ = group_cells({"c_min_f": 100e-6, "c_worst_f": 50e-6})
     assert need == "50 uF / 100 uF"  # no margin figure: none printed
+
+
+def test_quiet_lines_are_the_terminal_summary_without_styles():
+    # The --quiet summary (README, "Use in CI"): counts worst first, the accounting identity,
+    # the overall verdict with its environment; plain text a CI log shows as it is.
+    report = SimpleNamespace(
+        totals={"audited": 5, "fail": 1, "nodata": 1, "warn": 1, "waived": 0, "pass": 2,
+                "rows_read": 6, "capacitor_rows": 5, "non_capacitor_rows": 1,
+                "unreadable_rows": 0, "placements": 5, "fitted": 5, "not_fitted": 0},
+        table=range(5), status="fail", environment="severe")
+    lines = quiet_lines(report)
+    assert lines[0] == "Placements audited 5: fail 1  nodata 1  warn 1  waived 0  pass 2"
+    assert lines[1].startswith("rows read 6 = capacitor rows 5 + non-capacitor rows 1")
+    assert lines[2] == "Overall: FAIL (severe environment)"
+    assert [s for s, _ in counts_parts(report)[1]] == ["fail", "nodata", "warn", "waived", "pass"]

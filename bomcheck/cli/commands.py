@@ -17,8 +17,8 @@ from bomcheck import api
 from bomcheck.cli.config import Config, load_config, merge
 from bomcheck.cli.options import SUBSTITUTE_CONDITIONS
 from bomcheck.errors import InputError
-from bomcheck.render import terminal
 from bomcheck.render.registry import Output, for_command
+from bomcheck.render.textparts import quiet_lines
 
 EXIT_CLEAN, EXIT_FINDINGS = 0, 1
 
@@ -39,12 +39,19 @@ def _limits(args: argparse.Namespace) -> api.Limits:
         include_hidden=getattr(args, "include_hidden", None) or None)
 
 
+def _terminal() -> Any:
+    """The terminal renderer, loaded when something is printed with it: it loads rich, which a
+    ``--quiet`` run writing to a log or a pipe does without (it prints plain lines)."""
+    from bomcheck.render import terminal
+    return terminal
+
+
 def _console(args: argparse.Namespace, *, stderr: bool = False) -> Any:
     """The terminal renderer's console on standard output (or error)."""
     stream = sys.stderr if stderr else sys.stdout
     # A terminal has its width (rich reads it, and COLUMNS); a pipe or a CI log gets 80.
     width = None if stream.isatty() or os.environ.get("COLUMNS") else 80
-    return terminal.make_console(file=stream, no_color=bool(os.environ.get("NO_COLOR")),
+    return _terminal().make_console(file=stream, no_color=bool(os.environ.get("NO_COLOR")),
                                  width=width)
 
 
@@ -71,7 +78,7 @@ def run_parse(args: argparse.Namespace) -> int:
     if args.json:
         api.write_text(args.json, api.json_text([s.to_dict() for s in specs]) + "\n")
     if args.json != "-":
-        terminal.print_specs(_console(args), specs)
+        _terminal().print_specs(_console(args), specs)
     return EXIT_CLEAN
 
 
@@ -80,7 +87,7 @@ def run_import(args: argparse.Namespace) -> int:
     if args.json:
         api.write_text(args.json, api.json_text(api.import_record(result)) + "\n")
     if args.json != "-":
-        terminal.print_import(_console(args), result, show_all=args.all)
+        _terminal().print_import(_console(args), result, show_all=args.all)
     return EXIT_CLEAN
 
 
@@ -113,23 +120,28 @@ def run_audit(args: argparse.Namespace) -> int:
                           diff=diff, on_output=lambda name, path: stage(f"write {name}: {path}"))
     # Annotations share standard output with the terminal summary (CI logs read both).
     if all(path != "-" for o, path in outputs if o.kind == "file"):
-        _print_audit(_console(args), args, report, diff)
+        _print_audit(args, report, diff)
     if args.fail_on == "new":
         return EXIT_FINDINGS if diff.new_problems else EXIT_CLEAN
     return EXIT_FINDINGS if api.at_least(report.status, args.fail_on) else EXIT_CLEAN
 
 
-def _print_audit(console: Any, args: argparse.Namespace, report: api.Report,
-                 diff: api.Diff | None) -> None:
-    """The audit on the terminal: in full, or the counts with ``--quiet``; then the baseline."""
+def _print_audit(args: argparse.Namespace, report: api.Report, diff: api.Diff | None) -> None:
+    """The audit on the terminal: in full, or the counts with ``--quiet`` (plain lines where no
+    colour is shown: a log, a pipe, NO_COLOR); then the baseline."""
+    baseline = [] if diff is None else ["Baseline: " + api.diff_summary(diff)]
+    if args.quiet and (os.environ.get("NO_COLOR") or not sys.stdout.isatty()):
+        sys.stdout.write("".join(line + "\n" for line in [*quiet_lines(report), *baseline]))
+        return
+    console = _console(args)
     if args.quiet:
-        terminal.print_quiet(console, report)
-        if diff is not None:
-            console.print("Baseline: " + api.diff_summary(diff))
+        _terminal().print_quiet(console, report)
+        for line in baseline:
+            console.print(line)
     else:
-        terminal.print_audit(console, report, show_all=args.all)
+        _terminal().print_audit(console, report, show_all=args.all)
         if diff is not None:
-            terminal.print_diff(console, diff, show_all=args.all)
+            _terminal().print_diff(console, diff, show_all=args.all)
 
 
 def _run_audit_manifest(args: argparse.Namespace) -> int:
@@ -289,16 +301,16 @@ def run_diff(args: argparse.Namespace) -> int:
     if args.markdown:
         api.write_text(args.markdown, api.diff_markdown(diff))
     if "-" not in (args.json, args.markdown):
-        terminal.print_diff(_console(args), diff, show_all=args.all)
+        _terminal().print_diff(_console(args), diff, show_all=args.all)
     return EXIT_FINDINGS if args.fail_on == "new" and diff.new_problems else EXIT_CLEAN
 
 
 def run_rules(args: argparse.Namespace) -> int:
     console = _console(args)
     if not args.name:
-        terminal.print_ruleset_names(console, api.ruleset_names(), api.DEFAULT_RULESET)
+        _terminal().print_ruleset_names(console, api.ruleset_names(), api.DEFAULT_RULESET)
         return EXIT_CLEAN
-    terminal.print_rules(console, api.rules(tuple(args.name)))
+    _terminal().print_rules(console, api.rules(tuple(args.name)))
     return EXIT_CLEAN
 
 
@@ -362,5 +374,5 @@ def run_substitute(args: argparse.Namespace) -> int:
                                       alternates_path=args.alternates)
     api.write_outputs(result, [(o.name, path) for o, path in outputs])
     if all(path != "-" for _, path in outputs):
-        terminal.print_substitutes(_console(args), result, show_all=args.all)
+        _terminal().print_substitutes(_console(args), result, show_all=args.all)
     return EXIT_FINDINGS if result.rejected else EXIT_CLEAN

@@ -15,7 +15,8 @@ from rich.theme import Theme
 
 from bomcheck.quantity import format_metric, format_si, is_missing
 from bomcheck.render.verdicts import not_audited_counts
-from bomcheck.render.textparts import accounting_line, energy, group_cells, number
+from bomcheck.render.textparts import (accounting_line, counts_parts, energy, group_cells, number,
+                                       status_word, verdict_parts)
 from bomcheck.report.diff import summary_line
 from bomcheck.report.model import ruleset_summary
 from bomcheck.substitute.words import designator_list
@@ -56,7 +57,7 @@ def _table(title: str, **options) -> Any:
 
 
 def status_text(status: str) -> Text:
-    return Text(status.upper() if status in ("fail", "warn") else status, style=f"status.{status}")
+    return Text(status_word(status), style=f"status.{status}")
 
 
 def print_specs(console: Console, specs: Iterable) -> None:
@@ -123,8 +124,8 @@ def _print_skipped(console: Console, skipped, limit: int = 20) -> None:
 
 def verdict_line(report) -> Text:
     """``Overall: FAIL (severe environment)``: the audit's status and the environment it used."""
-    return Text.assemble("Overall: ", status_text(report.status),
-                         f" ({report.environment} environment)")
+    before, status, after = verdict_parts(report)
+    return Text.assemble(before, status_text(status), after)
 
 
 def _conditions(rec) -> str:
@@ -225,11 +226,17 @@ def _print_audit_table(console: Console, rows: list[tuple]) -> None:
 
 def print_counts(console: Console, report) -> None:
     """Placements audited and the count of each status, worst first."""
-    t = report.totals
-    counts = "  ".join(f"[status.{s}]{s} {t.get(s, 0)}[/]"
-                       for s in ("fail", "nodata", "warn", "waived", "pass"))
-    console.print(f"[heading]Placements audited {t.get('audited', len(report.table))}:[/] "
-                  f"{counts}")
+    head, counts = counts_parts(report)
+    console.print(Text.assemble((head, "heading"), " ", *_joined(
+        [Text(text, style=f"status.{status}") for status, text in counts], "  ")))
+
+
+def _joined(parts: list[Text], sep: str) -> list[Text | str]:
+    """``parts`` with ``sep`` between each two."""
+    out: list[Text | str] = []
+    for i, part in enumerate(parts):
+        out.extend((sep, part) if i else (part,))
+    return out
 
 
 def print_quiet(console: Console, report) -> None:

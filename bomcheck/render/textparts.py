@@ -1,10 +1,41 @@
 """Report stage, shared by the terminal and the HTML page: the plain-text pieces both print (the
-accounting line, a bank's or series stack's figures), formatted by ``bomcheck.quantity``."""
+accounting line, the counts by status, the overall verdict, a bank's or series stack's figures),
+formatted by ``bomcheck.quantity``; ``quiet_lines`` is ``--quiet``'s summary without any styling."""
 
 from __future__ import annotations
 
 from bomcheck.parse.accounting import accounting_identity
 from bomcheck.quantity import format_number, format_quantity, format_si, is_missing
+
+
+# The order the counts line names the statuses in: worst first, waived before pass.
+COUNTED = ("fail", "nodata", "warn", "waived", "pass")
+
+
+def counts_parts(report) -> tuple[str, list[tuple[str, str]]]:
+    """(``Placements audited N:``, [(status, ``status count``)...]): the counts line in pieces, so
+    the terminal can style each status and a plain log can join them."""
+    t = report.totals
+    return (f"Placements audited {t.get('audited', len(report.table))}:",
+            [(s, f"{s} {t.get(s, 0)}") for s in COUNTED])
+
+
+def status_word(status: str) -> str:
+    """A status as the summaries print it: FAIL and WARN in capitals, the others as they are."""
+    return status.upper() if status in ("fail", "warn") else status
+
+
+def verdict_parts(report) -> tuple[str, str, str]:
+    """(``Overall: ``, the status, `` (severe environment)``): the overall verdict in pieces."""
+    return "Overall: ", report.status, f" ({report.environment} environment)"
+
+
+def quiet_lines(report) -> list[str]:
+    """``--quiet``'s summary as plain lines: the counts, the accounting line, the verdict."""
+    head, counts = counts_parts(report)
+    before, status, after = verdict_parts(report)
+    return [head + " " + "  ".join(text for _, text in counts), accounting_line(report.totals),
+            before + status_word(status) + after]
 
 
 def accounting_line(totals: dict) -> str:
