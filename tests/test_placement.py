@@ -177,3 +177,19 @@ def test_array_conversions_match_the_column_conversions(values):
     assert as_text(table["c"]).tolist() == text_column(table, "c").tolist()
     cols = Columns.of(table)
     assert np.isnan(cols.num("absent")).all() and cols.text("absent").tolist() == [""] * len(values)
+
+
+def test_an_unnamed_dielectric_ages_at_its_worst_plausible_rate():
+    # An unnamed class II/III ceramic may be the fastest-aging code as well as the widest-changing
+    # one: its worst bound takes both (aging law C(t) = C(t0) x (1 - k/100 x log10(t/t0)), makers'
+    # published rates, common practice; class III's EIA-198 change -82 %, letter V). A Y5V part
+    # that fails its need must never pass once its dielectric code is left out.
+    need = dict(capacitance_f=10e-6, tol_minus_pct=20.0, technology="ceramic", voltage_v=100.0,
+                v_dc=0.0, t_ambient_c=25.0, life_h=100_000.0, c_min_f=1e-6)
+    y5v = compute(one(**need, dielectric="Y5V", dielectric_class=3, cap_change_minus_pct=82.0),
+                  AGING)
+    unnamed = compute(one(**need), AGING)
+    decades = math.log10(100_000.0)
+    assert y5v.at[0, "c_worst_f"] == pytest.approx(10e-6 * 0.8 * 0.18 * (1 - 0.08 * decades))
+    assert unnamed.at[0, "c_worst_f_worst"] == pytest.approx(y5v.at[0, "c_worst_f"])
+    assert unnamed.at[0, "c_margin_worst"] < 1.0 < unnamed.at[0, "c_margin_best"]

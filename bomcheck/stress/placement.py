@@ -306,9 +306,30 @@ def _aging_loss(cols: Columns, cls: np.ndarray, data: StressData
     life is given)."""
     life = cols.num("life_h")
     k = _aging_k(cols, cls, data)
-    decades = np.log10(np.fmax(life, data.aging_t0_h) / data.aging_t0_h)
-    aging_loss = _at_most(_at_least(_fill(k / 100.0 * decades, 0.0), 0.0), 1.0)
+    aging_loss = _aging_over(k, _decades(life, data), data)
     return aging_loss, k, (k > 0) & np.isnan(life)
+
+
+def _decades(life: np.ndarray, data: StressData) -> np.ndarray:
+    """Decades of hours from the aging reference time t0 to ``life`` (0 where it is unknown)."""
+    return np.log10(np.fmax(life, data.aging_t0_h) / data.aging_t0_h)
+
+
+def _aging_over(k: np.ndarray, decades: np.ndarray | float, data: StressData) -> np.ndarray:
+    """The aging loss k/100 x decades, within 0..1."""
+    return _at_most(_at_least(_fill(k / 100.0 * decades, 0.0), 0.0), 1.0)
+
+
+def _worst_aging(cols: Columns, k: np.ndarray, class_assumed: np.ndarray,
+                 data: StressData) -> np.ndarray:
+    """The aging loss at its worst plausible: over the longest plausible life where none is
+    given, and at the fastest rate of the rule set's table where the dielectric was assumed (an
+    unnamed class II/III part may be the fastest-aging code, as its change may be the widest)."""
+    life = cols.num("life_h")
+    decades = np.where(np.isnan(life), np.log10(data.worst_life_h / data.aging_t0_h),
+                       _decades(life, data))
+    fastest = max(data.aging_k.values(), default=0.0)
+    return _aging_over(np.where(class_assumed, np.fmax(k, fastest), k), decades, data)
 
 
 def _notes(flags: tuple[np.ndarray, ...], data: StressData) -> np.ndarray:
@@ -349,7 +370,8 @@ def capacitance_worst_case(cols: Columns, applied_peak_v: np.ndarray, t_operatin
     # Bounds of the unknowns. At their most favourable (no tolerance, no DC-bias or aging loss,
     # a class I dielectric) the margin can only be larger; at their worst plausible (the widest
     # common tolerance, the worst DC-bias keep, aging over the longest plausible life, the widest
-    # class III change) it can only be smaller.
+    # class III change and the fastest aging where the dielectric was assumed) it can only be
+    # smaller.
     uncertain = tol_assumed | bias_generic | bias_unknown | aging_unknown | class_assumed
     best_keep = np.where(bias_generic | bias_unknown, 1.0, bias_keep)
     c_best = (nominal * np.where(tol_assumed, 1.0, tol_factor)
@@ -358,9 +380,7 @@ def capacitance_worst_case(cols: Columns, applied_peak_v: np.ndarray, t_operatin
     ratio = applied_peak_v / cols.num("voltage_v")
     worst_keep = np.where(bias_generic, np.interp(_fill(ratio, 0.0), *data.dc_bias_worst),
                           np.where(bias_unknown, np.nan, bias_keep))
-    worst_decades = np.log10(data.worst_life_h / data.aging_t0_h)
-    worst_aging = np.where(aging_unknown,
-                           _at_most(_at_least(k / 100.0 * worst_decades, 0.0), 1.0), aging_loss)
+    worst_aging = _worst_aging(cols, k, class_assumed, data)
     worst_temp = np.where(class_assumed, data.worst_class_change_pct / 100.0, temp_loss)
     # An assumed tolerance has no worst bound: the BOM should give it (no pass without it).
     c_worst_bound = _keep(nominal * tol_factor * (1.0 - worst_temp) * worst_keep
