@@ -111,8 +111,11 @@ def audit_sources(table: pd.DataFrame, primary, sources: pd.DataFrame,
             f"{r} (approved source {index}, {lab}){b}" for r, lab, b in zip(refdes, label, body)]))
     worst, governing = worst_of_sources(statuses)
     out["status"] = worst
-    out["governing_source"] = governing
-    out["governing_mpn"] = np.choose(governing, mpns) if len(mpns) > 1 else mpn0
+    # joined at once: the evaluated table has many column blocks, and inserting each one warns
+    out = pd.concat([out, pd.DataFrame({
+        "governing_source": governing,
+        "governing_mpn": np.choose(governing, mpns) if len(mpns) > 1 else mpn0},
+        index=out.index)], axis=1)
     all_verdicts = pd.concat(verdicts, ignore_index=True).sort_values(
         ["pidx", "approved_source", "rule_id"], kind="stable").reset_index(drop=True)
     table_of_sources = pd.concat(rows, ignore_index=True).sort_values(
