@@ -124,12 +124,13 @@ def _start(table: pd.DataFrame, data: Any, ruleset: Any, groups: dict[str, Any],
            parts: Any) -> CircuitRun:
     """The run's columns: the table with the parts data laid over it (and its conflicts)."""
     discharge.check_bleeders(table, groups)
-    laid, verdicts = table, []
+    columns, verdicts = None, []
     if parts is not None and len(parts.values):  # a parts file of a header only gives nothing
-        laid, conflicts = parts_mod.apply_parts(table, parts)
+        columns, conflicts = parts_mod.lay_parts(table, parts)
         verdicts.append(conflicts)
     run = CircuitRun(table, data, CircuitOptions.from_ruleset(ruleset), groups, parts,
-                     columns=dict(laid.items()), verdicts=verdicts)
+                     columns=dict(table.items()) if columns is None else columns,
+                     verdicts=verdicts)
     for name in (*parts_mod.PART_COLUMNS, "dc_bias_keep"):
         if name not in run.columns:
             run.put(name, np.full(run.n, np.nan))
