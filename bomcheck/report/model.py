@@ -295,7 +295,7 @@ def _specs(table: pd.DataFrame) -> tuple[np.ndarray, list[dict]]:
         return np.zeros(0, dtype=np.int64), []
     codes = _block_codes(table[present])
     first = np.unique(codes, return_index=True)[1]
-    return codes, _records(table.iloc[first], SPEC_FIELDS)
+    return codes, _records(table, SPEC_FIELDS, first)
 
 
 def _rules_seen(verdicts: pd.DataFrame, ruleset) -> dict:
@@ -431,14 +431,19 @@ def _verdict_objects(v: pd.DataFrame, part: pd.DataFrame, owner: np.ndarray,
     return objects(fields, n)
 
 
-def _records(table: pd.DataFrame, fields: tuple[str, ...]) -> list[dict]:
-    """One dict per row with the given fields; NaN and missing columns become None."""
+def _records(table: pd.DataFrame, fields: tuple[str, ...],
+             rows: np.ndarray | None = None) -> list[dict]:
+    """One dict per row (of ``rows``, all when None) with the given fields; NaN and missing
+    columns become None. Column by column: no table of objects is built."""
     cols = [c for c in fields if c in table.columns]
-    block = table[cols].astype(object)
-    block = block.where(block.notna(), None)
-    values = block.to_numpy()
+    columns = []
+    for c in cols:
+        values = table[c].to_numpy(dtype=object)
+        values = values.copy() if rows is None else values[rows]
+        values[pd.isna(values)] = None
+        columns.append(values.tolist())
     out = []
-    for row in values:
+    for row in zip(*columns) if cols else ((),) * (len(table) if rows is None else len(rows)):
         d = dict(zip(cols, row))
         for k, v in d.items():
             if isinstance(v, tuple):
