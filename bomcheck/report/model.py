@@ -388,12 +388,15 @@ def _verdict_defaults(v: pd.DataFrame, part: pd.DataFrame, owner: np.ndarray,
                            dtype=float)[codes] for key in ("limit", "warn_limit")}
     out["source"] = np.asarray([e.get("source") for e in entry] + [None], dtype=object)[codes]
     value = np.full(len(v), np.nan)
+    numbers: dict[str, np.ndarray] = {}  # each metric column read once, however many rules
     for j, e in enumerate(entry):
         metric = e.get("metric")
         if metric in part.columns:
             rows = codes == j
-            column = pd.to_numeric(part[metric], errors="coerce").to_numpy(dtype=float)
-            value[rows] = column[owner[rows]]
+            if metric not in numbers:
+                numbers[metric] = pd.to_numeric(part[metric], errors="coerce").to_numpy(
+                    dtype=float)
+            value[rows] = numbers[metric][owner[rows]]
     out["value"] = value
     return out
 
