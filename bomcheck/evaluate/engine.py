@@ -129,8 +129,10 @@ def _show_best_only(table: pd.DataFrame) -> pd.DataFrame:
         if not (isinstance(col, str) and col.endswith("_basis")):
             continue
         metric = col[: -len("_basis")]
+        if metric not in table or f"{metric}_best" not in table:
+            continue
         rows = (table[col] == BEST_ONLY).to_numpy()
-        if metric in table and f"{metric}_best" in table and rows.any():
+        if rows.any():
             if out is table:
                 out = table.copy(deep=False)
             value = pd.to_numeric(out[metric], errors="coerce").to_numpy(dtype=float, copy=True)

@@ -100,14 +100,11 @@ def _audit_verdicts(table: pd.DataFrame, rule_verdicts: pd.DataFrame,
     required family, and the importer's findings on a placement (quantity mismatch, column
     conflict) as warnings."""
     refdes = table["refdes"].to_numpy(dtype=object)
-    parts = [rule_verdicts]
+    parts: list[tuple[np.ndarray, str, str, list[str], str]] = []
 
     def add(idx: np.ndarray, rule_id: str, status: str, messages, source: str) -> None:
         if len(idx):
-            parts.append(pd.DataFrame({
-                "pidx": idx, "refdes": refdes[idx], "rule_id": rule_id, "status": status,
-                "message": messages, "source": source,
-            }))
+            parts.append((idx, rule_id, status, messages, source))
 
     no_row = np.flatnonzero(table["condition_source"].isin(["none", "defaults"]).to_numpy())
     add(no_row, NO_DESIGN_ROW, "nodata",
@@ -126,9 +123,20 @@ def _audit_verdicts(table: pd.DataFrame, rule_verdicts: pd.DataFrame,
             idx = np.flatnonzero(rows == f.row)
         add(idx, BOM_FINDING.format(code=f.code), f.severity,
             [f"{r}: {f.message}" for r in refdes[idx]], "BOM data")
-    if len(parts) == 1:
+    if not parts:
         return rule_verdicts
-    out = pd.concat(parts, ignore_index=True)
+    # One frame of the audit's own verdicts (not one per kind): a small board pays per frame.
+    sizes = [len(idx) for idx, *_ in parts]
+
+    def repeated(at: int) -> np.ndarray:
+        return np.repeat(np.array([p[at] for p in parts], dtype=object), sizes)
+
+    idx = np.concatenate([p[0] for p in parts])
+    own = pd.DataFrame({
+        "pidx": idx, "refdes": refdes[idx], "rule_id": repeated(1), "status": repeated(2),
+        "message": np.array([m for p in parts for m in p[3]], dtype=object),
+        "source": repeated(4)}, copy=False)
+    out = pd.concat([rule_verdicts, own], ignore_index=True)
     return out.sort_values(["pidx", "rule_id"], kind="stable").reset_index(drop=True)
 
 
