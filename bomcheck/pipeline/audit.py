@@ -194,7 +194,10 @@ def evaluate_table(table: pd.DataFrame, ruleset, *, parts=None, groups=None,
     # feeds); new columns only below, the stages never write in place.
     table = engine.without_unverdicted(table, verdicts, ruleset)
     status = pd.Series(placement_status(verdicts, len(table)), index=table.index, name="status")
-    table = pd.concat([table.drop(columns=["status"], errors="ignore"), status], axis=1)
+    table = table.drop(columns=["status"]) if "status" in table else table.copy(deep=False)
+    with warnings.catch_warnings():  # one column added to a wide table: no copy, no hint
+        warnings.simplefilter("ignore", pd.errors.PerformanceWarning)
+        table["status"] = status
     return Evaluated(table, verdicts, run.groups, messages if lazy else None)
 
 
