@@ -276,7 +276,10 @@ def without_unverdicted(table: pd.DataFrame, verdicts: pd.DataFrame,
         keep = fed(name)
         if keep.all():
             continue
-        values = pd.to_numeric(table[name], errors="coerce").to_numpy(dtype=float, copy=True)
+        column = table[name]
+        if column.dtype != np.float64:  # (a metric column is nearly always floats already)
+            column = pd.to_numeric(column, errors="coerce")
+        values = column.to_numpy(dtype=float, copy=True)
         values[~keep] = np.nan
         blanked[name] = values
     if not blanked:

@@ -22,8 +22,8 @@ def part_keys(table: pd.DataFrame) -> pd.Series:
     """The MPN key of each placement (upper case, stripped; "" without an MPN)."""
     if "mpn" not in table.columns:
         return pd.Series("", index=table.index, dtype=object)
-    mpn = table["mpn"].astype(object).where(table["mpn"].notna(), "")
-    codes, uniques = pd.factorize(mpn.to_numpy(dtype=object))
+    # A missing MPN takes the code -1: the last key, "".
+    codes, uniques = pd.factorize(table["mpn"].to_numpy(dtype=object), use_na_sentinel=True)
     keys = np.array([str(u).strip().upper() for u in uniques] + [""], dtype=object)
     return pd.Series(keys[codes], index=table.index, dtype=object)
 
@@ -244,16 +244,15 @@ def curve_values(table: pd.DataFrame, parts: PartsData | None, name: str, x: pd.
     DC-bias curves given as capacitance are divided by the placement's nominal capacitance, so
     the result is always a fraction. Loops over the distinct parts with a curve, not placements.
     """
-    out = pd.Series(np.nan, index=table.index, dtype=float)
-    if parts is None or name not in parts.curves:
-        return out
-    keys = part_keys(table).to_numpy()
-    xv = x.to_numpy(dtype=float)
-    nominal = _float(table, "capacitance_f").to_numpy()
-    for key, curve in parts.curves[name].items():
-        mask = keys == key
-        if not mask.any():
-            continue
-        y = curve.at(xv[mask], log_x=log_x, beyond=beyond)
-        out[mask] = y / nominal[mask] if curve.farads else y
-    return out
+    out = np.full(len(table), np.nan)
+    if parts is not None and name in parts.curves:
+        keys = part_keys(table).to_numpy()
+        xv = x.to_numpy(dtype=float)
+        nominal = _float(table, "capacitance_f").to_numpy()
+        for key, curve in parts.curves[name].items():
+            mask = keys == key
+            if not mask.any():
+                continue
+            y = curve.at(xv[mask], log_x=log_x, beyond=beyond)
+            out[mask] = y / nominal[mask] if curve.farads else y
+    return pd.Series(out, index=table.index, dtype=float)
