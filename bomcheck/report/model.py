@@ -275,6 +275,7 @@ def _block_codes(frame: pd.DataFrame) -> np.ndarray:
     """One code per row such that rows with equal values (NaN equal to NaN) share a code; codes
     are numbered in order of first appearance."""
     key = np.zeros(len(frame), dtype=np.int64)
+    span = 1  # the key's values are below span
     for col in frame.columns:
         series = frame[col]
         # Numbers factorize as floats (fast); text, flags and tuples as objects.
@@ -283,9 +284,12 @@ def _block_codes(frame: pd.DataFrame) -> np.ndarray:
                   and not pd.api.types.is_bool_dtype(series.dtype)
                   else series.to_numpy(dtype=object))
         codes, uniques = pd.factorize(values, use_na_sentinel=True)
+        if span * (len(uniques) + 1) >= 2**62:  # renumbered only to stay inside int64
+            key = pd.factorize(key)[0].astype(np.int64)
+            span = int(key.max()) + 1 if len(key) else 1
         key = key * (len(uniques) + 1) + (codes + 1)
-        key, _ = pd.factorize(key)
-    return key
+        span *= len(uniques) + 1
+    return pd.factorize(key)[0]
 
 
 def _specs(table: pd.DataFrame) -> tuple[np.ndarray, list[dict]]:
