@@ -225,6 +225,14 @@ def _empty() -> pd.DataFrame:
     })
 
 
+def _float_copy(column: pd.Series) -> np.ndarray:
+    """A copy of a column as floats (NaN where not a number); a column of floats, nearly every
+    metric column, is copied with no conversion."""
+    if column.dtype != np.float64:
+        column = pd.to_numeric(column, errors="coerce")
+    return column.to_numpy(dtype=float, copy=True)
+
+
 def without_unverdicted(table: pd.DataFrame, verdicts: pd.DataFrame,
                         ruleset: RuleSet) -> pd.DataFrame:
     """The table with every metric a placement has no rule verdict on set to NaN: a stress is
@@ -276,10 +284,7 @@ def without_unverdicted(table: pd.DataFrame, verdicts: pd.DataFrame,
         keep = fed(name)
         if keep.all():
             continue
-        column = table[name]
-        if column.dtype != np.float64:  # (a metric column is nearly always floats already)
-            column = pd.to_numeric(column, errors="coerce")
-        values = column.to_numpy(dtype=float, copy=True)
+        values = _float_copy(table[name])
         values[~keep] = np.nan
         blanked[name] = values
     if not blanked:
