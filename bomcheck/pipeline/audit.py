@@ -95,10 +95,11 @@ def _read_warnings(imported) -> tuple:
 
 
 def _audit_verdicts(table: pd.DataFrame, rule_verdicts: pd.DataFrame,
-                    import_findings, ruleset) -> pd.DataFrame:
+                    import_findings, ruleset, stage_verdicts: pd.DataFrame) -> pd.DataFrame:
     """Add the audit's own verdicts: placements with no design row, no derating rule of a
     required family, and the importer's findings on a placement (quantity mismatch, column
-    conflict) as warnings."""
+    conflict) as warnings; and the circuit stage's ``stage_verdicts``. One sort by placement
+    and rule id (stable: the rules' verdicts, the audit's, the stage's)."""
     refdes = table["refdes"].to_numpy(dtype=object)
     parts: list[tuple[np.ndarray, str, str, list[str], str]] = []
 
@@ -123,21 +124,29 @@ def _audit_verdicts(table: pd.DataFrame, rule_verdicts: pd.DataFrame,
             idx = np.flatnonzero(rows == f.row)
         add(idx, BOM_FINDING.format(code=f.code), f.severity,
             [f"{r}: {f.message}" for r in refdes[idx]], "BOM data")
-    if not parts:
+    frames = [rule_verdicts, *([stage_verdicts] if len(stage_verdicts) else [])]
+    if len(frames) == 1 and not parts:
         return rule_verdicts
-    # One frame of the audit's own verdicts (not one per kind): a small board pays per frame.
+    if parts:  # one frame of the audit's own verdicts (not one per kind)
+        frames.insert(1, _own_frame(parts, refdes))
+    out = pd.concat(frames, ignore_index=True)
+    return out.sort_values(["pidx", "rule_id"], kind="stable").reset_index(drop=True)
+
+
+def _own_frame(parts: list[tuple[np.ndarray, str, str, list[str], str]],
+               refdes: np.ndarray) -> pd.DataFrame:
+    """The audit's own verdicts ((placements, rule id, status, messages, source) per kind) as
+    one frame."""
     sizes = [len(idx) for idx, *_ in parts]
 
     def repeated(at: int) -> np.ndarray:
         return np.repeat(np.array([p[at] for p in parts], dtype=object), sizes)
 
     idx = np.concatenate([p[0] for p in parts])
-    own = pd.DataFrame({
+    return pd.DataFrame({
         "pidx": idx, "refdes": refdes[idx], "rule_id": repeated(1), "status": repeated(2),
         "message": np.array([m for p in parts for m in p[3]], dtype=object),
         "source": repeated(4)}, copy=False)
-    out = pd.concat([rule_verdicts, own], ignore_index=True)
-    return out.sort_values(["pidx", "rule_id"], kind="stable").reset_index(drop=True)
 
 
 def placement_status(verdicts: pd.DataFrame, n: int) -> np.ndarray:
@@ -178,10 +187,7 @@ def evaluate_table(table: pd.DataFrame, ruleset, *, parts=None, groups=None,
         run = circuit.apply(table, data, ruleset, parts=parts, groups=groups)
     table = run.table
     rule_verdicts, messages = engine.evaluate_lazily(table, ruleset, passes=not lazy)
-    verdicts = _audit_verdicts(table, rule_verdicts, import_findings, ruleset)
-    if len(run.verdicts):
-        verdicts = pd.concat([verdicts, run.verdicts], ignore_index=True).sort_values(
-            ["pidx", "rule_id"], kind="stable").reset_index(drop=True)
+    verdicts = _audit_verdicts(table, rule_verdicts, import_findings, ruleset, run.verdicts)
     # The audit's own verdicts: no verdict is missing data; a finding on given data is firm.
     basis = verdicts["basis"].to_numpy(dtype=object)
     unset = pd.isna(basis)
