@@ -129,8 +129,10 @@ def _show_best_only(table: pd.DataFrame) -> pd.DataFrame:
         if not (isinstance(col, str) and col.endswith("_basis")):
             continue
         metric = col[: -len("_basis")]
+        if metric not in table or f"{metric}_best" not in table:
+            continue
         rows = (table[col] == BEST_ONLY).to_numpy()
-        if metric in table and f"{metric}_best" in table and rows.any():
+        if rows.any():
             if out is table:
                 out = table.copy(deep=False)
             value = pd.to_numeric(out[metric], errors="coerce").to_numpy(dtype=float, copy=True)
@@ -223,6 +225,14 @@ def _empty() -> pd.DataFrame:
     })
 
 
+def _float_copy(column: pd.Series) -> np.ndarray:
+    """A copy of a column as floats (NaN where not a number); a column of floats, nearly every
+    metric column, is copied with no conversion."""
+    if column.dtype != np.float64:
+        column = pd.to_numeric(column, errors="coerce")
+    return column.to_numpy(dtype=float, copy=True)
+
+
 def without_unverdicted(table: pd.DataFrame, verdicts: pd.DataFrame,
                         ruleset: RuleSet) -> pd.DataFrame:
     """The table with every metric a placement has no rule verdict on set to NaN: a stress is
@@ -274,7 +284,7 @@ def without_unverdicted(table: pd.DataFrame, verdicts: pd.DataFrame,
         keep = fed(name)
         if keep.all():
             continue
-        values = pd.to_numeric(table[name], errors="coerce").to_numpy(dtype=float, copy=True)
+        values = _float_copy(table[name])
         values[~keep] = np.nan
         blanked[name] = values
     if not blanked:

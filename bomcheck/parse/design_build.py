@@ -199,10 +199,16 @@ def _groups(e: Entries, is_group_row: np.ndarray, group_name: np.ndarray, d: pd.
                     rows[both["pos"].to_numpy()], column=labels.members, text=first,
                     expected="each designator in one group")
     groups: dict[str, Group] = {}
-    first_pos = m.groupby("group", sort=False)["pos"].min()
-    for name, members in m.groupby("group", sort=False)["refdes"]:
-        groups[str(name)] = _make_group(e, str(name), tuple(members), own.get(str(name)),
-                                        int(rows[first_pos[name]]), path=path, labels=labels)
+    # The members of each group in entry order, groups in order of first appearance: one sort
+    # of the group codes (a groupby on a frame this small costs more than the grouping).
+    codes, names = pd.factorize(m["group"].to_numpy(dtype=object), use_na_sentinel=True)
+    order = np.argsort(codes, kind="stable")
+    bounds = np.searchsorted(codes[order], np.arange(len(names) + 1)).tolist()
+    members, pos = m["refdes"].to_numpy(dtype=object)[order], m["pos"].to_numpy()[order]
+    for j, name in enumerate(names.tolist()):
+        a, b = bounds[j], bounds[j + 1]
+        groups[str(name)] = _make_group(e, str(name), tuple(members[a:b]), own.get(str(name)),
+                                        int(rows[pos[a:b].min()]), path=path, labels=labels)
     for name, i in own.items():
         if name not in groups:
             groups[name] = _make_group(e, name, (), i, int(rows[i]), path=path, labels=labels)

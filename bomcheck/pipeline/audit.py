@@ -95,19 +95,17 @@ def _read_warnings(imported) -> tuple:
 
 
 def _audit_verdicts(table: pd.DataFrame, rule_verdicts: pd.DataFrame,
-                    import_findings, ruleset) -> pd.DataFrame:
+                    import_findings, ruleset, stage_verdicts: pd.DataFrame) -> pd.DataFrame:
     """Add the audit's own verdicts: placements with no design row, no derating rule of a
     required family, and the importer's findings on a placement (quantity mismatch, column
-    conflict) as warnings."""
+    conflict) as warnings; and the circuit stage's ``stage_verdicts``. One sort by placement
+    and rule id (stable: the rules' verdicts, the audit's, the stage's)."""
     refdes = table["refdes"].to_numpy(dtype=object)
-    parts = [rule_verdicts]
+    parts: list[tuple[np.ndarray, str, str, list[str], str]] = []
 
     def add(idx: np.ndarray, rule_id: str, status: str, messages, source: str) -> None:
         if len(idx):
-            parts.append(pd.DataFrame({
-                "pidx": idx, "refdes": refdes[idx], "rule_id": rule_id, "status": status,
-                "message": messages, "source": source,
-            }))
+            parts.append((idx, rule_id, status, messages, source))
 
     no_row = np.flatnonzero(table["condition_source"].isin(["none", "defaults"]).to_numpy())
     add(no_row, NO_DESIGN_ROW, "nodata",
@@ -126,10 +124,29 @@ def _audit_verdicts(table: pd.DataFrame, rule_verdicts: pd.DataFrame,
             idx = np.flatnonzero(rows == f.row)
         add(idx, BOM_FINDING.format(code=f.code), f.severity,
             [f"{r}: {f.message}" for r in refdes[idx]], "BOM data")
-    if len(parts) == 1:
+    frames = [rule_verdicts, *([stage_verdicts] if len(stage_verdicts) else [])]
+    if len(frames) == 1 and not parts:
         return rule_verdicts
-    out = pd.concat(parts, ignore_index=True)
+    if parts:  # one frame of the audit's own verdicts (not one per kind)
+        frames.insert(1, _own_frame(parts, refdes))
+    out = pd.concat(frames, ignore_index=True)
     return out.sort_values(["pidx", "rule_id"], kind="stable").reset_index(drop=True)
+
+
+def _own_frame(parts: list[tuple[np.ndarray, str, str, list[str], str]],
+               refdes: np.ndarray) -> pd.DataFrame:
+    """The audit's own verdicts ((placements, rule id, status, messages, source) per kind) as
+    one frame."""
+    sizes = [len(idx) for idx, *_ in parts]
+
+    def repeated(at: int) -> np.ndarray:
+        return np.repeat(np.array([p[at] for p in parts], dtype=object), sizes)
+
+    idx = np.concatenate([p[0] for p in parts])
+    return pd.DataFrame({
+        "pidx": idx, "refdes": refdes[idx], "rule_id": repeated(1), "status": repeated(2),
+        "message": np.array([m for p in parts for m in p[3]], dtype=object),
+        "source": repeated(4)}, copy=False)
 
 
 def placement_status(verdicts: pd.DataFrame, n: int) -> np.ndarray:
@@ -170,10 +187,7 @@ def evaluate_table(table: pd.DataFrame, ruleset, *, parts=None, groups=None,
         run = circuit.apply(table, data, ruleset, parts=parts, groups=groups)
     table = run.table
     rule_verdicts, messages = engine.evaluate_lazily(table, ruleset, passes=not lazy)
-    verdicts = _audit_verdicts(table, rule_verdicts, import_findings, ruleset)
-    if len(run.verdicts):
-        verdicts = pd.concat([verdicts, run.verdicts], ignore_index=True).sort_values(
-            ["pidx", "rule_id"], kind="stable").reset_index(drop=True)
+    verdicts = _audit_verdicts(table, rule_verdicts, import_findings, ruleset, run.verdicts)
     # The audit's own verdicts: no verdict is missing data; a finding on given data is firm.
     basis = verdicts["basis"].to_numpy(dtype=object)
     unset = pd.isna(basis)
@@ -186,7 +200,10 @@ def evaluate_table(table: pd.DataFrame, ruleset, *, parts=None, groups=None,
     # feeds); new columns only below, the stages never write in place.
     table = engine.without_unverdicted(table, verdicts, ruleset)
     status = pd.Series(placement_status(verdicts, len(table)), index=table.index, name="status")
-    table = pd.concat([table.drop(columns=["status"], errors="ignore"), status], axis=1)
+    table = table.drop(columns=["status"]) if "status" in table else table.copy(deep=False)
+    with warnings.catch_warnings():  # one column added to a wide table: no copy, no hint
+        warnings.simplefilter("ignore", pd.errors.PerformanceWarning)
+        table["status"] = status
     return Evaluated(table, verdicts, run.groups, messages if lazy else None)
 
 

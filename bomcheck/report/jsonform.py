@@ -50,6 +50,8 @@ def column_texts(values, key: str = "", only: np.ndarray | None = None
     """(JSON text of each value, whether it is present): null, NaN, infinity, "" and empty lists
     are absent, and so is every row outside the mask ``only``. Floats are written a column at a
     time; each distinct string once (designators and messages, nearly all distinct, directly)."""
+    if only is None and getattr(values, "dtype", None) == np.float64 and key not in INT_FIELDS:
+        return _float_column_texts(np.asarray(values))  # most columns: no checks, no Series
     series = values if isinstance(values, pd.Series) else pd.Series(values)
     if only is not None:
         texts = np.full(len(series), "", dtype=object)
@@ -66,11 +68,7 @@ def column_texts(values, key: str = "", only: np.ndarray | None = None
         if key in INT_FIELDS:
             texts = np.where(present, np.where(present, arr, 0).astype(np.int64).astype(str), "")
             return texts.astype(object), present
-        # Written straight from the column: most float columns hold few repeats.
-        texts = np.full(len(arr), "", dtype=object)
-        if present.any():
-            texts[present] = _float_texts(arr[present])
-        return texts, present
+        return _float_column_texts(arr)
     if key in DISTINCT_FIELDS:  # nearly every value differs: no point in finding repeats
         return _distinct_texts(series.to_numpy(dtype=object))
     codes, uniques = pd.factorize(series.to_numpy(dtype=object), use_na_sentinel=True)
@@ -80,6 +78,16 @@ def column_texts(values, key: str = "", only: np.ndarray | None = None
         texts.append(text)
         present.append(ok)
     return _lookup(codes, texts, present)
+
+
+def _float_column_texts(arr: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """``column_texts`` of an array of floats, written straight from the column (most float
+    columns hold few repeats)."""
+    present = np.isfinite(arr)
+    texts = np.full(len(arr), "", dtype=object)
+    if present.any():
+        texts[present] = _float_texts(arr[present])
+    return texts, present
 
 
 def _distinct_texts(values: np.ndarray) -> tuple[np.ndarray, np.ndarray]:

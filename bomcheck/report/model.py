@@ -275,6 +275,7 @@ def _block_codes(frame: pd.DataFrame) -> np.ndarray:
     """One code per row such that rows with equal values (NaN equal to NaN) share a code; codes
     are numbered in order of first appearance."""
     key = np.zeros(len(frame), dtype=np.int64)
+    span = 1  # the key's values are below span
     for col in frame.columns:
         series = frame[col]
         # Numbers factorize as floats (fast); text, flags and tuples as objects.
@@ -283,9 +284,12 @@ def _block_codes(frame: pd.DataFrame) -> np.ndarray:
                   and not pd.api.types.is_bool_dtype(series.dtype)
                   else series.to_numpy(dtype=object))
         codes, uniques = pd.factorize(values, use_na_sentinel=True)
+        if span * (len(uniques) + 1) >= 2**62:  # renumbered only to stay inside int64
+            key = pd.factorize(key)[0].astype(np.int64)
+            span = int(key.max()) + 1 if len(key) else 1
         key = key * (len(uniques) + 1) + (codes + 1)
-        key, _ = pd.factorize(key)
-    return key
+        span *= len(uniques) + 1
+    return pd.factorize(key)[0]
 
 
 def _specs(table: pd.DataFrame) -> tuple[np.ndarray, list[dict]]:
@@ -295,7 +299,7 @@ def _specs(table: pd.DataFrame) -> tuple[np.ndarray, list[dict]]:
         return np.zeros(0, dtype=np.int64), []
     codes = _block_codes(table[present])
     first = np.unique(codes, return_index=True)[1]
-    return codes, _records(table.iloc[first], SPEC_FIELDS)
+    return codes, _records(table, SPEC_FIELDS, first)
 
 
 def _rules_seen(verdicts: pd.DataFrame, ruleset) -> dict:
@@ -388,12 +392,15 @@ def _verdict_defaults(v: pd.DataFrame, part: pd.DataFrame, owner: np.ndarray,
                            dtype=float)[codes] for key in ("limit", "warn_limit")}
     out["source"] = np.asarray([e.get("source") for e in entry] + [None], dtype=object)[codes]
     value = np.full(len(v), np.nan)
+    numbers: dict[str, np.ndarray] = {}  # each metric column read once, however many rules
     for j, e in enumerate(entry):
         metric = e.get("metric")
         if metric in part.columns:
             rows = codes == j
-            column = pd.to_numeric(part[metric], errors="coerce").to_numpy(dtype=float)
-            value[rows] = column[owner[rows]]
+            if metric not in numbers:
+                numbers[metric] = pd.to_numeric(part[metric], errors="coerce").to_numpy(
+                    dtype=float)
+            value[rows] = numbers[metric][owner[rows]]
     out["value"] = value
     return out
 
@@ -431,14 +438,19 @@ def _verdict_objects(v: pd.DataFrame, part: pd.DataFrame, owner: np.ndarray,
     return objects(fields, n)
 
 
-def _records(table: pd.DataFrame, fields: tuple[str, ...]) -> list[dict]:
-    """One dict per row with the given fields; NaN and missing columns become None."""
+def _records(table: pd.DataFrame, fields: tuple[str, ...],
+             rows: np.ndarray | None = None) -> list[dict]:
+    """One dict per row (of ``rows``, all when None) with the given fields; NaN and missing
+    columns become None. Column by column: no table of objects is built."""
     cols = [c for c in fields if c in table.columns]
-    block = table[cols].astype(object)
-    block = block.where(block.notna(), None)
-    values = block.to_numpy()
+    columns = []
+    for c in cols:
+        values = table[c].to_numpy(dtype=object)
+        values = values.copy() if rows is None else values[rows]
+        values[pd.isna(values)] = None
+        columns.append(values.tolist())
     out = []
-    for row in values:
+    for row in zip(*columns) if cols else ((),) * (len(table) if rows is None else len(rows)):
         d = dict(zip(cols, row))
         for k, v in d.items():
             if isinstance(v, tuple):

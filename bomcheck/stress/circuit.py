@@ -124,12 +124,13 @@ def _start(table: pd.DataFrame, data: Any, ruleset: Any, groups: dict[str, Any],
            parts: Any) -> CircuitRun:
     """The run's columns: the table with the parts data laid over it (and its conflicts)."""
     discharge.check_bleeders(table, groups)
-    laid, verdicts = table, []
+    columns, verdicts = None, []
     if parts is not None and len(parts.values):  # a parts file of a header only gives nothing
-        laid, conflicts = parts_mod.apply_parts(table, parts)
+        columns, conflicts = parts_mod.lay_parts(table, parts)
         verdicts.append(conflicts)
     run = CircuitRun(table, data, CircuitOptions.from_ruleset(ruleset), groups, parts,
-                     columns=dict(laid.items()), verdicts=verdicts)
+                     columns=dict(table.items()) if columns is None else columns,
+                     verdicts=verdicts)
     for name in (*parts_mod.PART_COLUMNS, "dc_bias_keep"):
         if name not in run.columns:
             run.put(name, np.full(run.n, np.nan))
@@ -232,15 +233,21 @@ def safety_cautions(verdicts: pd.DataFrame, ruleset: Any) -> tuple[str, ...]:
         return ()
     out = []
     safety = sorted((r for r in ruleset.rules if r.metric in SAFETY_METRICS), key=lambda r: r.id)
-    # Narrow once to the flagged safety verdicts, not once per rule over every verdict.
-    flagged = verdicts[verdicts["rule_id"].isin([r.id for r in safety])]
-    flagged = flagged[flagged["status"].isin(["warn", "fail"])]
+    # Narrow once to the flagged safety verdicts, not once per rule over every verdict; then
+    # only those few rows' ids, designators and messages are read (no sub-tables).
+    rows = np.flatnonzero((verdicts["rule_id"].isin([r.id for r in safety])
+                           & verdicts["status"].isin(["warn", "fail"])).to_numpy())
+    if not len(rows):
+        return ()
+    ids = verdicts["rule_id"].to_numpy(dtype=object)[rows]
+    designators = verdicts["refdes"].to_numpy(dtype=object)[rows]
+    messages = verdicts["message"].to_numpy(dtype=object)[rows]
     for rule in safety:
-        hit = flagged[flagged["rule_id"] == rule.id]
-        if not len(hit):
+        hit = ids == rule.id
+        if not hit.any():
             continue
-        refdes = list(dict.fromkeys(hit["refdes"].tolist()))
-        first = str(hit["message"].iloc[0])
+        refdes = list(dict.fromkeys(designators[hit].tolist()))
+        first = str(messages[hit][0])
         # "C4: 400 V ... in 9.53 s > 5 s limit (technology; source)": the measured part only.
         measured = first.split(": ", 1)[-1].split(" limit (", 1)[0] + " limit"
         out.append(f"{rule.source}: {', '.join(refdes)}: {measured}. A caution from the cited "
