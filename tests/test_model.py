@@ -8,11 +8,13 @@ import math
 from dataclasses import replace
 from types import SimpleNamespace
 
+import numpy as np
 import pandas as pd
 import pytest
 from tiny_reports import tiny_report
 
-from bomcheck.report.model import Report, natural_columns, relative_margin, ruleset_summary
+from bomcheck.report.model import (Report, _block_codes, _records, natural_columns, relative_margin,
+                                   ruleset_summary)
 
 NAN = math.nan
 
@@ -112,3 +114,37 @@ def test_ruleset_summary_puts_the_sources_on_the_last_layer():
     assert (entry["name"], entry["path"]) == ("tiny", None)
     assert entry["sources"] == [{"id": "S1", "title": "A handbook", "clause": "4.2",
                                  "confidence": "high"}]
+
+
+def test_spec_records_of_chosen_rows_match_the_records_of_those_rows():
+    # Invariant of the implementation: records of rows picked by position equal the records of
+    # the sub-table; NaN, None and NA become None, tuples lists, numpy scalars Python values.
+    table = pd.DataFrame({
+        "a": [1.5, np.nan, 3.0], "b": pd.Series(["x", None, "z"], dtype=object),
+        "c": pd.array([1, None, 3], dtype="Int64"),
+        "d": pd.Series([(1, 2), (), None], dtype=object), "e": [True, False, True],
+    })
+    rows = np.array([2, 1])
+    fields = ("a", "b", "c", "d", "e", "missing")
+    assert _records(table, fields, rows) == _records(table.iloc[rows], fields)
+    assert _records(table, fields) == [
+        {"a": 1.5, "b": "x", "c": 1, "d": [1, 2], "e": True, "missing": None},
+        {"a": None, "b": None, "c": None, "d": [], "e": False, "missing": None},
+        {"a": 3.0, "b": "z", "c": 3, "d": None, "e": True, "missing": None},
+    ]
+    assert all(type(r["a"]) in (float, type(None)) for r in _records(table, fields))
+
+
+def test_spec_codes_number_distinct_rows_in_order_of_first_appearance_even_past_int64():
+    # Invariant: equal rows (NaN equal to NaN) share a code, codes in order of first
+    # appearance; 12 columns of 100 distinct values each need a renumbering inside int64.
+    rng = np.random.default_rng(7)
+    base = rng.integers(0, 100, size=(50, 12)).astype(float)
+    base[rng.random(base.shape) < 0.1] = np.nan
+    rows = base[rng.integers(0, 50, size=400)]
+    frame = pd.DataFrame(rows, columns=[f"c{j}" for j in range(12)])
+    frame["t"] = pd.Series(np.where(np.isnan(rows[:, 0]), None, "x"), dtype=object)
+    codes = _block_codes(frame)
+    keys = [tuple("nan" if pd.isna(v) else v for v in r) for r in frame.itertuples(index=False)]
+    expected = {}
+    assert codes.tolist() == [expected.setdefault(k, len(expected)) for k in keys]
