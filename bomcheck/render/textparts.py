@@ -6,10 +6,11 @@ from __future__ import annotations
 
 from bomcheck.parse.accounting import accounting_identity
 from bomcheck.quantity import format_number, format_quantity, format_si, is_missing
+from bomcheck.status import STATUS_ORDER
 
 
-# The order the counts line names the statuses in: worst first, waived before pass.
-COUNTED = ("fail", "nodata", "warn", "waived", "pass")
+# The counts line names the statuses worst first.
+COUNTED = STATUS_ORDER[::-1]
 
 
 def counts_parts(report) -> tuple[str, list[tuple[str, str]]]:

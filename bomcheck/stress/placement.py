@@ -306,7 +306,7 @@ def _aging_loss(cols: Columns, cls: np.ndarray, data: StressData
     life is given)."""
     life = cols.num("life_h")
     k = _aging_k(cols, cls, data)
-    aging_loss = _aging_over(k, _decades(life, data), data)
+    aging_loss = _aging_over(k, _decades(life, data))
     return aging_loss, k, (k > 0) & np.isnan(life)
 
 
@@ -315,7 +315,7 @@ def _decades(life: np.ndarray, data: StressData) -> np.ndarray:
     return np.log10(np.fmax(life, data.aging_t0_h) / data.aging_t0_h)
 
 
-def _aging_over(k: np.ndarray, decades: np.ndarray | float, data: StressData) -> np.ndarray:
+def _aging_over(k: np.ndarray, decades: np.ndarray) -> np.ndarray:
     """The aging loss k/100 x decades, within 0..1."""
     return _at_most(_at_least(_fill(k / 100.0 * decades, 0.0), 0.0), 1.0)
 
@@ -329,7 +329,7 @@ def _worst_aging(cols: Columns, k: np.ndarray, class_assumed: np.ndarray,
     decades = np.where(np.isnan(life), np.log10(data.worst_life_h / data.aging_t0_h),
                        _decades(life, data))
     fastest = max(data.aging_k.values(), default=0.0)
-    return _aging_over(np.where(class_assumed, np.fmax(k, fastest), k), decades, data)
+    return _aging_over(np.where(class_assumed, np.fmax(k, fastest), k), decades)
 
 
 def _notes(flags: tuple[np.ndarray, ...], data: StressData) -> np.ndarray:
