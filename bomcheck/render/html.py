@@ -21,7 +21,7 @@ import pandas as pd
 
 from bomcheck.quantity import format_metric, format_si, is_missing
 from bomcheck.render.html_chart import chart_section
-from bomcheck.render.textparts import accounting_line, energy, group_cells
+from bomcheck.render.textparts import COUNTED, accounting_line, energy, group_cells
 from bomcheck.render.textsafe import html_text as esc
 from bomcheck.substitute.words import designator_list
 
@@ -110,7 +110,7 @@ box.addEventListener('input',apply);apply();});
 })();
 """
 
-STATUSES = ("fail", "nodata", "warn", "waived", "pass")
+STATUSES = COUNTED  # worst first
 # Passing verdicts listed in the page at most (every verdict that is not a pass is always listed).
 MAX_PASSING_ROWS = 5_000
 

@@ -11,12 +11,10 @@ from __future__ import annotations
 from collections.abc import Iterable, Iterator
 
 from bomcheck.quantity import format_metric, is_missing
+from bomcheck.render.textparts import COUNTED
 from bomcheck.render.textsafe import md_text as _md
 from bomcheck.render.verdicts import not_audited_counts
 from bomcheck.report.diff import summary_line
-
-# Worst first, as a reviewer reads the totals.
-TOTALS_ORDER = ("fail", "nodata", "warn", "waived", "pass")
 
 
 def _input_line(report) -> str:
@@ -59,7 +57,7 @@ def _totals(report) -> list[str]:
     """The totals table by status, then what was not audited and design rows not in the BOM."""
     totals = report.totals
     out = ["| status | placements |", "|:--|--:|"]
-    out += [f"| {s} | {int(totals.get(s, 0))} |" for s in TOTALS_ORDER]
+    out += [f"| {s} | {int(totals.get(s, 0))} |" for s in COUNTED]
     out += [f"| **audited** | **{int(totals.get('audited', len(report.table)))}** |", ""]
     not_audited = not_audited_counts(report)
     notes = []

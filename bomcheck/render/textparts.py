@@ -8,7 +8,6 @@ from bomcheck.parse.accounting import accounting_identity
 from bomcheck.quantity import format_number, format_quantity, format_si, is_missing
 from bomcheck.status import STATUS_ORDER
 
-
 # The counts line names the statuses worst first.
 COUNTED = STATUS_ORDER[::-1]
 
