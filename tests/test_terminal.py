@@ -14,6 +14,7 @@ from bomcheck.render.terminal import (
     print_diff,
     print_findings,
     print_quiet,
+    print_uses,
     print_ruleset_names,
     print_specs,
     print_waiver_findings,
@@ -117,3 +118,22 @@ def test_emoji_codes_in_input_text_print_as_they_are():
     console = make_console(file=StringIO(), width=80, no_color=True)
     console.print("MPN :fire: and :warning:")
     assert console.file.getvalue() == "MPN :fire: and :warning:\n"
+
+
+def test_text_from_the_inputs_is_never_read_as_markup(tmp_path, capsys, monkeypatch):
+    # Quality bar: text from an input file never becomes markup in any output. A description,
+    # a value and a product name holding rich's markup brackets print as written, and a stray
+    # closing tag ends no run.
+    from bomcheck.cli.main import main
+    monkeypatch.setenv("COLUMNS", "400")  # wide enough that no cell wraps
+    bom = tmp_path / "bom.csv"
+    bom.write_text("Designator,Value,Description\n"
+                   "C1,10uF,CAP CER 10UF 16V X7R [/x] [red]LOT\n"
+                   "C2,1uF [bold],CAP CER 1UF 50V X7R\n", encoding="utf-8")
+    assert main(["import", str(bom)]) == 0
+    assert main(["parse", "4u7 [/b] 50V"]) == 0
+    out = capsys.readouterr().out
+    assert "[/x]" in out and "[red]LOT" in out and "[/b]" in out
+    console = make_console(file=StringIO(), width=200, no_color=True)
+    print_uses(console, "[/mpn]", ())
+    assert console.file.getvalue() == "[/mpn]: not placed in this report\n"

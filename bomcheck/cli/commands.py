@@ -162,22 +162,8 @@ def _run_audit_manifest(args: argparse.Namespace) -> int:
                             today=args.today, environment=args.environment)
     results = api.audit_manifest(args.manifest, base, outputs)
     if all(path != "-" for _, path in outputs):
-        _print_boards(_console(args), results)
+        _terminal().print_boards(_console(args), results)
     return EXIT_FINDINGS if api.at_least(api.batch_status(results), args.fail_on) else EXIT_CLEAN
-
-
-def _print_boards(console: Any, results: tuple[api.BoardResult, ...]) -> None:
-    """The per-board summary table of a batch audit."""
-    from rich.table import Table  # rich only when a table is printed
-
-    table = Table(title="bomcheck batch audit", title_justify="left")
-    for name in ("product", "status", "audited", "pass", "warn", "nodata", "fail"):
-        table.add_column(name, justify="left" if name in ("product", "status") else "right")
-    for r in results:
-        table.add_row(r.product, f"[status.{r.status}]{r.status}[/]",
-                      *(str(int(r.totals.get(k, 0))) for k in ("audited", "pass", "warn",
-                                                               "nodata", "fail")))
-    console.print(table)
 
 
 def run_where_used(args: argparse.Namespace) -> int:
@@ -187,28 +173,8 @@ def run_where_used(args: argparse.Namespace) -> int:
     if args.csv:
         api.write_text(args.csv, api.uses_csv(uses))
     if "-" not in (args.json, args.csv):
-        _print_uses(_console(args), args.mpn, uses)
+        _terminal().print_uses(_console(args), args.mpn, uses)
     return EXIT_CLEAN if uses else EXIT_FINDINGS
-
-
-def _print_uses(console: Any, mpn: str, uses: tuple[api.Use, ...]) -> None:
-    """The where-used list as a terminal table."""
-    from rich.table import Table  # rich only when a table is printed
-
-    if not uses:
-        console.print(f"{mpn}: not placed in this report")
-        return
-    table = Table(title=f"{mpn}: {len(uses)} placement{'s' if len(uses) != 1 else ''}",
-                  title_justify="left")
-    for name in ("product", "refdes", "row", "voltage ratio", "temp margin", "status",
-                 "not passing"):
-        table.add_column(name)
-    for u in uses:
-        table.add_row(u.product or "", u.refdes, "" if u.row is None else str(u.row),
-                      "" if u.voltage_ratio is None else f"{u.voltage_ratio:.1%}",
-                      "" if u.temp_margin_c is None else f"{u.temp_margin_c:g} degC",
-                      f"[status.{u.status}]{u.status}[/]", " ".join(u.problems))
-    console.print(table)
 
 
 # Above this many lines a BOM takes long enough to deserve a progress bar on a terminal.

@@ -43,10 +43,11 @@ COMPACT_WIDTH = 130
 
 def make_console(*, file=None, no_color: bool = False, width: int | None = None) -> Console:
     """A console with the project theme; colour off when asked (NO_COLOR is honoured by rich).
-    Emoji codes are not replaced: text from the inputs (an MPN such as ``:fire:``) prints as it
-    is, and rich's emoji table (a few ms at start) is not loaded."""
+    Neither markup nor emoji codes are read: text from the inputs (a description with
+    ``[/b]``, an MPN such as ``:fire:``) prints as it is, never as styling, and rich's emoji table
+    (a few ms at start) is not loaded. Styles are given as ``Text`` styles."""
     return Console(file=file, theme=THEME, no_color=no_color, width=width,
-                   highlight=False, soft_wrap=False, emoji=False)
+                   highlight=False, soft_wrap=False, emoji=False, markup=False)
 
 
 def _table(title: str, **options) -> Any:
@@ -102,10 +103,10 @@ def print_import(console: Console, result, *, show_all: bool = False) -> None:
         )
     console.print(table)
     if len(p) > limit:
-        console.print(f"[muted]... {len(p) - limit} more placements (use --all)[/]")
+        console.print(Text(f"... {len(p) - limit} more placements (use --all)", style="muted"))
     _print_skipped(console, result.skipped)
     for f in result.findings:
-        console.print(f"[status.warn]finding[/] row {f.row}: {f.message}")
+        console.print(Text.assemble(("finding", "status.warn"), f" row {f.row}: {f.message}"))
     console.print(accounting_line(result.totals))
 
 
@@ -119,7 +120,7 @@ def _print_skipped(console: Console, skipped, limit: int = 20) -> None:
         table.add_row(str(rec.row), rec.kind, rec.reason, rec.text)
     console.print(table)
     if len(skipped) > limit:
-        console.print(f"[muted]... {len(skipped) - limit} more rows not taken[/]")
+        console.print(Text(f"... {len(skipped) - limit} more rows not taken", style="muted"))
 
 
 def verdict_line(report) -> Text:
@@ -155,7 +156,7 @@ def print_audit(console: Console, report, *, show_all: bool = False) -> None:
     else:
         _print_audit_table(console, rows)
     if len(ordered) > limit:
-        console.print(f"[muted]... {len(ordered) - limit} more placements (use --all)[/]")
+        console.print(Text(f"... {len(ordered) - limit} more placements (use --all)", style="muted"))
     print_findings(console, report, shown.index if not show_all else None)
     for d in report.design_unmatched:
         console.print(Text.assemble(status_text("nodata"), f" {d['reason']}"))
@@ -172,7 +173,7 @@ def print_audit(console: Console, report, *, show_all: bool = False) -> None:
     console.print("Rule sets: " + ", ".join(f"{r['name']} {r['version']}" for r in report.rulesets)
                   + f"; environment: {report.environment}")
     for c in report.cautions:
-        console.print(f"[caution]Caution: {c}[/]")
+        console.print(Text(f"Caution: {c}", style="caution"))
     console.print(verdict_line(report))
 
 
@@ -205,7 +206,7 @@ def _print_audit_list(console: Console, rows: list[tuple], show_all: bool) -> No
         where = _conditions(rec)
         console.print(f"    {part}" + (f"; {where}" if where else ""))
     if passing:
-        console.print(f"[muted]{passing} of these placements pass (listed with --all)[/]")
+        console.print(Text(f"{passing} of these placements pass (listed with --all)", style="muted"))
 
 
 def _print_audit_table(console: Console, rows: list[tuple]) -> None:
@@ -258,7 +259,7 @@ def print_findings(console: Console, report, placements=None, limit: int = 40) -
     for status, message in zip(v["status"].head(limit), v["message"].head(limit)):
         console.print(Text.assemble("  ", status_text(status), " ", str(message)))
     if len(v) > limit:
-        console.print(f"[muted]  ... {len(v) - limit} more findings (all of them in the JSON report)[/]")
+        console.print(Text(f"  ... {len(v) - limit} more findings (all of them in the JSON report)", style="muted"))
 
 
 def _short_value(rec) -> str:
@@ -272,7 +273,7 @@ def print_ruleset_names(console: Console, names: Iterable[str], default: str) ->
     """The shipped rule sets, the default marked."""
     for name in names:
         console.print(f"{name}{'  (default)' if name == default else ''}")
-    console.print("[muted]bomcheck rules NAME lists the rules of a set[/]")
+    console.print(Text("bomcheck rules NAME lists the rules of a set", style="muted"))
 
 
 def print_rules(console: Console, ruleset) -> None:
@@ -323,7 +324,7 @@ def print_diff(console: Console, diff, *, show_all: bool = False) -> None:
                           c.new_message or c.old_message or "")
         console.print(table)
         if len(rows) > limit:
-            console.print(f"[muted]... {len(rows) - limit} more changes (use --all)[/]")
+            console.print(Text(f"... {len(rows) - limit} more changes (use --all)", style="muted"))
     for word, names in (("added", diff.added), ("removed", diff.removed)):
         if names:
             shown = ", ".join(names[:DEFAULT_ROWS])
@@ -411,13 +412,13 @@ def print_substitutes(console: Console, result, *, show_all: bool = False) -> No
                 Text(p.change, style="status.fail" if p.change == "worse" else ""))
         console.print(detail)
         if len(r.placements) > len(shown):
-            console.print(f"[muted]... {len(r.placements) - len(shown)} more placements "
-                          "(use --all)[/]")
+            console.print(Text(f"... {len(r.placements) - len(shown)} more placements "
+                               "(use --all)", style="muted"))
         for issue in r.reasons:
             console.print(Text.assemble("  ", Text(issue.sentence,
                                                    style=_SEVERITY_STYLE.get(issue.severity, ""))))
         if r.not_fitted:
-            console.print(f"[muted]  not fitted, not checked: {designator_list(r.not_fitted)}[/]")
+            console.print(Text(f"  not fitted, not checked: {designator_list(r.not_fitted)}", style="muted"))
     t = result.totals
     console.print(Text.assemble(
         Text(f"Alternates checked {t['alternates']}: ", style="heading"),
@@ -426,5 +427,35 @@ def print_substitutes(console: Console, result, *, show_all: bool = False) -> No
     console.print("Rule sets: " + ", ".join(f"{s['name']} {s['version']}"
                                             for s in result.rulesets))
     for c in result.cautions:
-        console.print(f"[caution]Caution: {c}[/]")
+        console.print(Text(f"Caution: {c}", style="caution"))
     console.print(Text.assemble("Overall: ", verdict_text(result.status)))
+
+
+def print_boards(console: Console, results) -> None:
+    """The per-board summary table of a batch audit."""
+    table = _table("bomcheck batch audit", title_justify="left")
+    for name in ("product", "status", "audited", "pass", "warn", "nodata", "fail"):
+        table.add_column(name, justify="left" if name in ("product", "status") else "right")
+    for r in results:
+        table.add_row(r.product, status_text(r.status),
+                      *(str(int(r.totals.get(k, 0))) for k in ("audited", "pass", "warn",
+                                                               "nodata", "fail")))
+    console.print(table)
+
+
+def print_uses(console: Console, mpn: str, uses) -> None:
+    """The where-used list as a terminal table."""
+    if not uses:
+        console.print(f"{mpn}: not placed in this report")
+        return
+    table = _table(f"{mpn}: {len(uses)} placement{'s' if len(uses) != 1 else ''}",
+                   title_justify="left")
+    for name in ("product", "refdes", "row", "voltage ratio", "temp margin", "status",
+                 "not passing"):
+        table.add_column(name)
+    for u in uses:
+        table.add_row(u.product or "", u.refdes, "" if u.row is None else str(u.row),
+                      "" if u.voltage_ratio is None else f"{u.voltage_ratio:.1%}",
+                      "" if u.temp_margin_c is None else f"{u.temp_margin_c:g} degC",
+                      status_text(u.status), " ".join(u.problems))
+    console.print(table)
