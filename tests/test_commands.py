@@ -235,7 +235,7 @@ def test_progress_only_on_a_terminal_for_a_large_bom(tmp_path, monkeypatch):
         args = type("Args", (), {"bom": str(path), "quiet": quiet})()
         with commands._progress(args, 2) as stage:
             stage("audit: read, parse, evaluate")
-            stage("write json: out.json")
+            stage("write json: out[/x].json")  # a path is the user's text, never markup
         return err.getvalue()
 
     assert run(small, tty=True) == ""

@@ -241,7 +241,8 @@ def _progress(args: argparse.Namespace, stages: int) -> Iterator[Callable[[str],
         return
     from rich.progress import BarColumn, MofNCompleteColumn, Progress, TextColumn, TimeElapsedColumn
 
-    columns = (TextColumn("{task.description}"), BarColumn(), MofNCompleteColumn(),
+    # markup off: a stage names the output path, which is the user's text
+    columns = (TextColumn("{task.description}", markup=False), BarColumn(), MofNCompleteColumn(),
                TimeElapsedColumn())
     with Progress(*columns, console=_console(args, stderr=True), transient=True) as bar:
         task = bar.add_task("bomcheck", total=stages)
