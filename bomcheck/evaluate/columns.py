@@ -3,7 +3,9 @@ formatted for messages) once per table, and the mask of placements a rule applie
 
 from __future__ import annotations
 
-from collections.abc import Callable
+import contextlib
+import warnings
+from collections.abc import Callable, Iterator
 
 import numpy as np
 import pandas as pd
@@ -22,6 +24,16 @@ def round_sig(x: np.ndarray, digits: int = 4) -> np.ndarray:
         out = np.round(x * scale) / scale
     return np.where(np.isfinite(out), out, x)
 
+
+
+@contextlib.contextmanager
+def wide_table_edits() -> Iterator[None]:
+    """Columns added in place to a wide table (the placement table, built column by column
+    without copies) without pandas' fragmentation hint: the hint is about speed, and the full
+    copy that would silence it costs more than the few columns added."""
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", pd.errors.PerformanceWarning)
+        yield
 
 @frozen
 class Coded:
@@ -73,7 +85,8 @@ class Columns:
                 # A numpy column is read in place (a float column's missing values are NaN
                 # already); only an extension column (Int64, Float64) needs NA made NaN, a copy.
                 out = (s.to_numpy(dtype=float) if isinstance(s.dtype, np.dtype)
-                       else s.to_numpy(dtype=float, na_value=np.nan))
+                       else s.to_numpy(dtype=float, na_value=np.nan)).view()
+                out.flags.writeable = False  # it may be the table's own memory: read only
             self._num[name] = out
         return self._num[name]
 

@@ -15,6 +15,7 @@ from collections.abc import Callable
 import numpy as np
 import pandas as pd
 
+from bomcheck.evaluate.columns import wide_table_edits
 from bomcheck.status import RANK, STATUS_ORDER
 
 # How a source's part was described: its parts data, the text of its own row, or the line's.
@@ -110,12 +111,10 @@ def audit_sources(table: pd.DataFrame, primary, sources: pd.DataFrame,
         verdicts.append(v.assign(approved_source=index, message=[
             f"{r} (approved source {index}, {lab}){b}" for r, lab, b in zip(refdes, label, body)]))
     worst, governing = worst_of_sources(statuses)
-    out["status"] = worst
-    # joined at once: the evaluated table has many column blocks, and inserting each one warns
-    out = pd.concat([out, pd.DataFrame({
-        "governing_source": governing,
-        "governing_mpn": np.choose(governing, mpns) if len(mpns) > 1 else mpn0},
-        index=out.index)], axis=1)
+    with wide_table_edits():
+        out["status"] = worst
+        out["governing_source"] = governing
+        out["governing_mpn"] = np.choose(governing, mpns) if len(mpns) > 1 else mpn0
     all_verdicts = pd.concat(verdicts, ignore_index=True).sort_values(
         ["pidx", "approved_source", "rule_id"], kind="stable").reset_index(drop=True)
     table_of_sources = pd.concat(rows, ignore_index=True).sort_values(

@@ -7,7 +7,6 @@ recompute anything.
 from __future__ import annotations
 
 import dataclasses
-import warnings
 from dataclasses import field
 from datetime import date
 
@@ -16,6 +15,7 @@ import pandas as pd
 
 from bomcheck import __version__
 from bomcheck.evaluate import engine, rules, sources
+from bomcheck.evaluate.columns import wide_table_edits
 from bomcheck.evaluate.waivers import apply_waivers, load_waivers
 from bomcheck.frozen import frozen
 from bomcheck.parse import design as design_mod
@@ -180,10 +180,7 @@ def evaluate_table(table: pd.DataFrame, ruleset, *, parts=None, groups=None,
     the rules' passing verdicts carry no message (``Evaluated.messages`` renders them)."""
     data = stress_data(ruleset)
     table = stresses.compute(table.reset_index(drop=True), data)
-    with warnings.catch_warnings():
-        # The circuit stage adds a handful of columns to a wide table one at a time; pandas'
-        # fragmentation hint is about speed, and a full copy to silence it costs more.
-        warnings.simplefilter("ignore", pd.errors.PerformanceWarning)
+    with wide_table_edits():  # the circuit stage adds a handful of columns one at a time
         run = circuit.apply(table, data, ruleset, parts=parts, groups=groups)
     table = run.table
     rule_verdicts, messages = engine.evaluate_lazily(table, ruleset, passes=not lazy)
@@ -201,8 +198,7 @@ def evaluate_table(table: pd.DataFrame, ruleset, *, parts=None, groups=None,
     table = engine.without_unverdicted(table, verdicts, ruleset)
     status = pd.Series(placement_status(verdicts, len(table)), index=table.index, name="status")
     table = table.drop(columns=["status"]) if "status" in table else table.copy(deep=False)
-    with warnings.catch_warnings():  # one column added to a wide table: no copy, no hint
-        warnings.simplefilter("ignore", pd.errors.PerformanceWarning)
+    with wide_table_edits():
         table["status"] = status
     return Evaluated(table, verdicts, run.groups, messages if lazy else None)
 
