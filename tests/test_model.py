@@ -13,7 +13,7 @@ import pandas as pd
 import pytest
 from tiny_reports import tiny_report
 
-from bomcheck.report.model import (Report, _block_codes, _records, natural_columns, relative_margin,
+from bomcheck.report.model import (Report, _records, natural_columns, relative_margin,
                                    ruleset_summary)
 
 NAN = math.nan
@@ -133,18 +133,3 @@ def test_spec_records_of_chosen_rows_match_the_records_of_those_rows():
         {"a": 3.0, "b": "z", "c": 3, "d": None, "e": True, "missing": None},
     ]
     assert all(type(r["a"]) in (float, type(None)) for r in _records(table, fields))
-
-
-def test_spec_codes_number_distinct_rows_in_order_of_first_appearance_even_past_int64():
-    # Invariant: equal rows (NaN equal to NaN) share a code, codes in order of first
-    # appearance; 12 columns of 100 distinct values each need a renumbering inside int64.
-    rng = np.random.default_rng(7)
-    base = rng.integers(0, 100, size=(50, 12)).astype(float)
-    base[rng.random(base.shape) < 0.1] = np.nan
-    rows = base[rng.integers(0, 50, size=400)]
-    frame = pd.DataFrame(rows, columns=[f"c{j}" for j in range(12)])
-    frame["t"] = pd.Series(np.where(np.isnan(rows[:, 0]), None, "x"), dtype=object)
-    codes = _block_codes(frame)
-    keys = [tuple("nan" if pd.isna(v) else v for v in r) for r in frame.itertuples(index=False)]
-    expected = {}
-    assert codes.tolist() == [expected.setdefault(k, len(expected)) for k in keys]

@@ -10,30 +10,12 @@ findings those warnings give) is put together as columns from the distinct cells
 
 from __future__ import annotations
 
-
 import numpy as np
 import pandas as pd
 
 from bomcheck.frozen import frozen
 from bomcheck.parse.linespec import SPEC_SOURCES, CellParser, Core
-
-
-def combine_codes(code_arrays: list[np.ndarray], sizes: list[int]) -> tuple[np.ndarray, int]:
-    """One code per distinct tuple of per-column codes (first-seen order)."""
-    n = len(code_arrays[0]) if code_arrays else 0
-    if not code_arrays:
-        return np.zeros(n, dtype=np.int64), 1 if n else 0
-    key = code_arrays[0].astype(np.int64)
-    card = max(sizes[0], 1)
-    for codes, size in zip(code_arrays[1:], sizes[1:]):
-        size = max(size, 1)
-        if card * size >= 2**62:
-            key, uniq = pd.factorize(key)
-            card = len(uniq)
-        key = key * size + codes
-        card *= size
-    combo, uniq = pd.factorize(key)
-    return combo.astype(np.int64), len(uniq)
+from bomcheck.rowcodes import combine
 
 
 def _objects(items: list) -> np.ndarray:
@@ -108,8 +90,8 @@ def parse_line_cells(parser: CellParser, line: dict[str, np.ndarray], present: l
         sources.append(_source_cells(parser, s, codes, info))
     if not sources:  # no value-bearing column: every line reads alike (nothing)
         key_codes, key_sizes = [np.zeros(n, dtype=np.int64)], [1]
-    code, _ = combine_codes(key_codes, key_sizes)
-    cells, n_cells = combine_codes(cell_codes or key_codes, cell_sizes or key_sizes)
+    code, _ = combine(key_codes, key_sizes)
+    cells, n_cells = combine(cell_codes or key_codes, cell_sizes or key_sizes)
     first = np.flatnonzero(~pd.Series(code).duplicated().to_numpy())
     names = [sc.source for sc in sources]
     cores = [parser.core({s: infos[k][cell_codes[k][li]] for k, s in enumerate(names)})

@@ -14,19 +14,31 @@ from bomcheck.parse import aliases
 from bomcheck.parse import columns as colmod
 from bomcheck.parse.approved import Lines, side_by_side
 from bomcheck.parse.bomresult import (
-    LINE_CAP, LINE_NONCAP, LINE_UNREAD, SKIPPED_COLUMNS, BomSource, ImportFinding, ImportResult,
+    LINE_CAP,
+    LINE_NONCAP,
+    LINE_UNREAD,
+    SKIPPED_COLUMNS,
+    BomSource,
+    ImportFinding,
+    ImportResult,
     finding,
 )
 from bomcheck.parse.designators import (
-    _CAP_KIND, _OTHER_KIND, _UNKNOWN_KIND, OTHER_PREFIXES, Designators, expand_lines, expand_one,
+    _CAP_KIND,
+    _OTHER_KIND,
+    _UNKNOWN_KIND,
+    OTHER_PREFIXES,
+    Designators,
+    expand_lines,
+    expand_one,
 )
 from bomcheck.parse.fitted import fitted_lines, fold
-from bomcheck.parse.linecells import LineCells, combine_codes, parse_line_cells
+from bomcheck.parse.linecells import LineCells, parse_line_cells
 from bomcheck.parse.linespec import DECISIVE_FAMILIES, SPEC_SOURCES, CellParser, Core
 from bomcheck.parse.placements import placement_findings, placements_of
 from bomcheck.parse.refdes import check_total
 from bomcheck.read import reader
-
+from bomcheck.rowcodes import combine
 
 _KIND_ARRAY = np.array(["capacitor", "not_capacitor", "unreadable"], dtype=object)
 
@@ -211,7 +223,7 @@ def _reasons(cap_line: np.ndarray, line_repeated: np.ndarray, des: Designators,
     plain = not_taken[~special]
     if len(plain):
         pfx_codes, pfx_uniq = pd.factorize(des.prefix[plain])
-        key, n_keys = combine_codes([pfx_codes, lc.cells[plain]], [len(pfx_uniq), lc.n_cells])
+        key, n_keys = combine([pfx_codes, lc.cells[plain]], [len(pfx_uniq), lc.n_cells])
         firsts = np.flatnonzero(~pd.Series(key).duplicated().to_numpy())
         texts = np.empty(n_keys, dtype=object)
         for k, j in enumerate(firsts):

@@ -15,9 +15,16 @@ import pandas as pd
 
 from bomcheck.frozen import frozen
 from bomcheck.report import jsonform
-from bomcheck.report.jsonform import (SCHEMA_VERSION, column_texts, frame_objects, join_per_row,
-                                      objects, write_chunks)
+from bomcheck.report.jsonform import (
+    SCHEMA_VERSION,
+    column_texts,
+    frame_objects,
+    join_per_row,
+    objects,
+    write_chunks,
+)
 from bomcheck.report.jsontext import json_dumps
+from bomcheck.rowcodes import row_codes
 from bomcheck.spec import SPEC_KEYS
 from bomcheck.status import RANK as _RANK
 from bomcheck.status import at_least, worst
@@ -271,33 +278,12 @@ def dumps(value) -> str:
     return json_dumps(value)
 
 
-def _block_codes(frame: pd.DataFrame) -> np.ndarray:
-    """One code per row such that rows with equal values (NaN equal to NaN) share a code; codes
-    are numbered in order of first appearance."""
-    key = np.zeros(len(frame), dtype=np.int64)
-    span = 1  # the key's values are below span
-    for col in frame.columns:
-        series = frame[col]
-        # Numbers factorize as floats (fast); text, flags and tuples as objects.
-        values = (series.to_numpy(dtype=float, na_value=np.nan)
-                  if pd.api.types.is_numeric_dtype(series.dtype)
-                  and not pd.api.types.is_bool_dtype(series.dtype)
-                  else series.to_numpy(dtype=object))
-        codes, uniques = pd.factorize(values, use_na_sentinel=True)
-        if span * (len(uniques) + 1) >= 2**62:  # renumbered only to stay inside int64
-            key = pd.factorize(key)[0].astype(np.int64)
-            span = int(key.max()) + 1 if len(key) else 1
-        key = key * (len(uniques) + 1) + (codes + 1)
-        span *= len(uniques) + 1
-    return pd.factorize(key)[0]
-
-
 def _specs(table: pd.DataFrame) -> tuple[np.ndarray, list[dict]]:
     """(per placement the index of its spec, the distinct specs in order of first appearance)."""
     present = [c for c in SPEC_FIELDS if c in table.columns]
     if not len(table):
         return np.zeros(0, dtype=np.int64), []
-    codes = _block_codes(table[present])
+    codes = row_codes([table[c] for c in present])
     first = np.unique(codes, return_index=True)[1]
     return codes, _records(table, SPEC_FIELDS, first)
 

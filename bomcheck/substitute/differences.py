@@ -5,13 +5,19 @@ from __future__ import annotations
 
 import math
 import re
-from collections.abc import Callable, Iterator, Mapping, Sequence
+from collections.abc import Callable, Iterator, Mapping
 from typing import Any
 
 import numpy as np
 import pandas as pd
 
-from bomcheck.substitute.result import SEVERITIES, Alternate, Difference, SubstituteOptions
+from bomcheck.rowcodes import row_codes
+from bomcheck.substitute.result import (
+    SEVERITIES,
+    Alternate,
+    Difference,
+    SubstituteOptions,
+)
 from bomcheck.substitute.words import fq, norm_package, num
 
 # (field, severity, original, proposed, text, short): one difference before its designators.
@@ -207,15 +213,6 @@ def spec_differences(o: Mapping[str, Any], a: Mapping[str, Any], footprint_check
     return [d for topic in SPEC_TOPICS for d in topic(o, a, footprint_checked)]
 
 
-def _row_codes(columns: Sequence[pd.Series]) -> np.ndarray:
-    """One code per row, equal for rows equal in every column (missing values equal)."""
-    key = np.zeros(len(columns[0]) if columns else 0, dtype=np.int64)
-    for col in columns:
-        codes, uniques = pd.factorize(col.to_numpy(dtype=object), use_na_sentinel=False)
-        key, _ = pd.factorize(key * (len(uniques) + 1) + codes)
-    return key
-
-
 def _c_worst_losses(o: pd.DataFrame, a: pd.DataFrame, options: SubstituteOptions
                     ) -> Iterator[tuple[int, Found]]:
     """(position, difference) where the alternate's worst-case capacitance after tolerance,
@@ -245,7 +242,7 @@ def differences(o_table: pd.DataFrame, a_table: pd.DataFrame, local: np.ndarray,
     a = a_table.iloc[local]
     refdes = o["refdes"].astype(str).to_numpy(dtype=object)
     # Spec differences: once per distinct original spec (a BOM line), mapped to its placements.
-    codes = _row_codes([o["text"], o["mpn"], a["voltage_v"], a["temp_max_c"],
+    codes = row_codes([o["text"], o["mpn"], a["voltage_v"], a["temp_max_c"],
                         a["capacitance_f"], a["package"]])
     found: dict[Found, list[str]] = {}
     for k in range(int(codes.max()) + 1 if len(codes) else 0):
