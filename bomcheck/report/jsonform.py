@@ -131,8 +131,11 @@ def _lookup(codes: np.ndarray, texts: list[str], present: list[bool]):
 def objects(fields: list[tuple[str, np.ndarray, np.ndarray]], n: int) -> list[str]:
     """Per row, the JSON object of the ``fields`` (key, texts, present) present in that row.
 
-    Rows are grouped by which keys they have (a handful of patterns), and each group is written
-    by joining its key literals and columns in one pass."""
+    ``texts`` is a column of JSON texts, or a float64 array whose values are written per group
+    (a float is formatted only where it is written, straight from the column); a key of None
+    puts its text in the object as it is (a run of ``"key":value`` pairs written once per
+    distinct value). Rows are grouped by which keys they have (a handful of patterns), and each
+    group is written by joining its key literals and columns in one pass."""
     if not fields:
         return ["{}"] * n
     present = np.column_stack([p for _, _, p in fields])
@@ -166,8 +169,10 @@ def _join_fields(fields: list[tuple[str, np.ndarray, np.ndarray]], mask: list[bo
         return ["{}"] * size
     args: list = []
     for n, j in enumerate(cols):
-        texts = fields[j][1] if rows is None else fields[j][1][rows]
-        args += [repeat(("{" if n == 0 else ",") + f'"{fields[j][0]}":'), texts.tolist()]
+        key, column = fields[j][0], fields[j][1]
+        values = column if rows is None else column[rows]
+        texts = _float_texts(values) if values.dtype == np.float64 else values.tolist()
+        args += [repeat(("{" if n == 0 else ",") + ("" if key is None else f'"{key}":')), texts]
     args.append(repeat("}"))
     return list(map("".join, zip(*args)))
 
@@ -176,10 +181,16 @@ def frame_objects(frame: pd.DataFrame, keys: tuple[str, ...], n: int) -> list[st
     """``objects`` of the columns ``keys`` of ``frame`` that it has (key = column name)."""
     fields = []
     for key in keys:
-        if key in frame.columns:
-            texts, present = column_texts(frame[key], key)
-            if present.any():
-                fields.append((key, texts, present))
+        if key not in frame.columns:
+            continue
+        column = frame[key]
+        if column.dtype == np.float64 and key not in INT_FIELDS:  # formatted where written
+            values = column.to_numpy()
+            texts, present = values, np.isfinite(values)
+        else:
+            texts, present = column_texts(column, key)
+        if present.any():
+            fields.append((key, texts, present))
     return objects(fields, n)
 
 

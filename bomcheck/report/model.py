@@ -400,10 +400,12 @@ def _verdict_objects(v: pd.DataFrame, part: pd.DataFrame, owner: np.ndarray,
     if not n:
         return []
     defaults = _verdict_defaults(v, part, owner, rules)
-    not_pass = (v["status"] != "pass").to_numpy()
-    fields = []
+    status = v["status"].to_numpy(dtype=object)
+    not_pass = status != "pass"
+    head = _rule_and_status(v["rule_id"].to_numpy(dtype=object), status)
+    fields = [] if head is None else [(None, *head)]
     for key, col in VERDICT_KEYS.items():
-        if col not in v.columns:
+        if col not in v.columns or (head is not None and key in ("rule", "status")):
             continue
         only = not_pass if key == "message" else None
         if key in _UNLESS:
@@ -415,6 +417,9 @@ def _verdict_objects(v: pd.DataFrame, part: pd.DataFrame, owner: np.ndarray,
             texts, present = column_texts(mine, key, only=only)
             texts[only & ~present] = "null"  # a null that overrides a default
             present = only
+        elif key == "margin":  # formatted where written (jsonform.objects)
+            texts = pd.to_numeric(v[col], errors="coerce").to_numpy(dtype=float)
+            present = np.isfinite(texts)
         elif key == "source":
             only = v[col].to_numpy(dtype=object) != defaults["source"]
             texts, present = column_texts(v[col], key, only=only)
@@ -422,6 +427,23 @@ def _verdict_objects(v: pd.DataFrame, part: pd.DataFrame, owner: np.ndarray,
             texts, present = column_texts(v[col], key, only=only)
         fields.append((key, texts, present))
     return objects(fields, n)
+
+
+def _rule_and_status(rule: np.ndarray, status: np.ndarray) -> tuple[np.ndarray, np.ndarray] | None:
+    """The ``"rule":..,"status":..`` pair of each verdict, written once per distinct pair, as a
+    field of ``jsonform.objects`` (key None); None when a verdict lacks either (then each is a
+    field of its own, left out where empty)."""
+    rule_codes, rules = pd.factorize(rule, use_na_sentinel=True)
+    status_codes, statuses = pd.factorize(status, use_na_sentinel=True)
+    rule_texts, rule_ok = column_texts(pd.Series(rules, dtype=object))
+    status_texts, status_ok = column_texts(pd.Series(statuses, dtype=object))
+    if (rule_codes < 0).any() or (status_codes < 0).any() or not (rule_ok.all() and status_ok.all()):
+        return None
+    pair_codes, pairs = pd.factorize(rule_codes * len(statuses) + status_codes)
+    texts = np.asarray([f'"rule":{rule_texts[p // len(statuses)]},'
+                        f'"status":{status_texts[p % len(statuses)]}' for p in pairs.tolist()],
+                       dtype=object)
+    return texts[pair_codes], np.ones(len(pair_codes), dtype=bool)
 
 
 def _records(table: pd.DataFrame, fields: tuple[str, ...],
