@@ -8,7 +8,7 @@ import pandas as pd
 import pytest
 
 from bomcheck.render.html import audit_html
-from bomcheck.render.html_chart import chart_section, svg_chart
+from bomcheck.render.html_chart import MAX_LABELS, chart_section, svg_chart
 
 SVG = "{http://www.w3.org/2000/svg}"
 
@@ -73,6 +73,18 @@ def test_points_at_one_spot_share_one_label():
                                                                "pass")])
     text = svg_chart(points, [], "t", chart_id="c")
     assert re.findall(r'class="lbl"[^>]*>([^<]+)<', text) == ["C1 +1"]
+
+
+def test_a_crowded_chart_names_only_the_most_stressed_spots():
+    # Every point is drawn (its tooltip names it); labels are bounded, so a board of thousands
+    # of placements does not stall the page on label placement. The highest ratio is named.
+    rows = [(f"C{i}", "ceramic", 20.0 + (i % 100), 0.001 * (i + 1), "pass") for i in range(3000)]
+    text = svg_chart(_points(rows), [], "t", chart_id="c")
+    labels = re.findall(r'class="lbl"[^>]*>([^<]+)<', text)
+    assert text.count('class="point"') == 3000
+    assert 0 < len(labels) <= MAX_LABELS
+    assert "C2999" in labels and "C0" not in labels
+    ET.fromstring(text)
 
 
 def test_an_empty_chart_still_draws_its_axes():

@@ -125,9 +125,15 @@ def _legend_and_lines(f: _Frame, lines, colour: dict[str, str]) -> list[str]:
     return out
 
 
+# Labels drawn beside the points: a crowded chart names only the most stressed spots (each
+# point's tooltip names its placement), which keeps the overlap search small whatever the board.
+MAX_LABELS = 100
+
+
 def _points(f: _Frame, points: pd.DataFrame, colour: dict[str, str]) -> list[str]:
     """One circle per placement, and labels beside them (several placements at one spot share
-    one label; a label moves down past those it would overlap)."""
+    one label; a label moves down past those it would overlap). At most ``MAX_LABELS`` spots
+    are labelled, the highest voltage ratio first."""
     out = []
     spots: dict[tuple[int, int], list[str]] = {}
     for refdes, tch, temp, ratio, status in zip(points["refdes"], points["technology"],
@@ -139,8 +145,10 @@ def _points(f: _Frame, points: pd.DataFrame, colour: dict[str, str]) -> list[str
                    f'<title>{esc(refdes)}: {ratio:.1%} at {temp:g} °C ({esc(tch)}, '
                    f'{esc(status)})</title></circle>')
         spots.setdefault((round(cx), round(cy)), []).append(str(refdes))
+    # SVG's y grows downwards: the highest ratio has the smallest y
+    labelled = sorted(spots.items(), key=lambda kv: (kv[0][1], kv[0][0]))[:MAX_LABELS]
     placed: list[tuple[float, float]] = []
-    for (cx, cy), names in sorted(spots.items(), key=lambda kv: (kv[0][0], kv[0][1])):
+    for (cx, cy), names in sorted(labelled, key=lambda kv: (kv[0][0], kv[0][1])):
         label = names[0] if len(names) == 1 else f"{names[0]} +{len(names) - 1}"
         ly = cy - 5
         while any(abs(px_ - cx) < 48 and abs(py_ - ly) < 10 for px_, py_ in placed):
