@@ -9,7 +9,8 @@ from collections.abc import Iterator
 from bomcheck.render.csvrows import batch_csv_header, board_csv
 from bomcheck.render.markdown import batch_markdown_head, board_markdown
 from bomcheck.report.jsonform import SCHEMA_VERSION
-from bomcheck.report.model import dumps, worst_status
+from bomcheck.report.jsontext import json_dumps
+from bomcheck.report.model import worst_status
 
 
 def board_piece(kind: str, report, product: str) -> Iterator[str]:
@@ -27,11 +28,11 @@ def combined_json(results, tool_version: str) -> Iterator[str]:
     """The combined JSON report (schema ``batch.schema.json``): the batch's status and a
     ``boards`` list, each with product, status, totals and its whole report (schema
     ``report.schema.json``) under ``report``."""
-    yield dumps({"schema_version": SCHEMA_VERSION, "kind": "batch",
+    yield json_dumps({"schema_version": SCHEMA_VERSION, "kind": "batch",
                  "tool": {"name": "bomcheck", "version": tool_version},
                  "status": worst_status(r.status for r in results)})[:-1] + ',"boards":['
     for i, r in enumerate(results):
-        head = dumps({"product": r.product, "status": r.status, "totals": r.totals})
+        head = json_dumps({"product": r.product, "status": r.status, "totals": r.totals})
         yield ("," if i else "") + head[:-1] + ',"report":'
         yield from _file_text(r.pieces["json"])
         yield "}"

@@ -22,6 +22,9 @@ import math
 import os
 from urllib.parse import quote
 
+import numpy as np
+import pandas as pd
+
 from bomcheck.report.jsontext import json_dumps
 
 SARIF_SCHEMA = "https://json.schemastore.org/sarif-2.1.0.json"
@@ -124,18 +127,26 @@ def _descriptors(report, rule_ids: list[str]) -> list[dict]:
     return descriptors
 
 
+def _bom_lines(report, verdicts) -> list[int]:
+    """Each verdict's BOM line: its placement's row (1 where the placement is not known)."""
+    table = report.table
+    at = table.index.get_indexer(pd.to_numeric(verdicts["pidx"], errors="coerce"))
+    lines = np.ones(len(at), dtype=np.int64)
+    lines[at >= 0] = table["row"].to_numpy()[at[at >= 0]]
+    return lines.tolist()
+
+
 def _verdict_results(report, bad, index: dict[str, int]) -> list[dict]:
     """One result per verdict that is not a pass, located at its placement's BOM line."""
     bom = _bom(report)
     bom_index = next((i for i, d in enumerate(report.inputs) if d is bom), 0)
-    rows = report.table["row"]
+    uri = _uri(bom.get("path") or "")
     results = []
     cols = [bad[c] if c in bad else [None] * len(bad) for c in
-            ("pidx", "refdes", "rule_id", "status", "message", "source", "basis", "value",
+            ("refdes", "rule_id", "status", "message", "source", "basis", "value",
              "limit", "margin", "waived_from")]
-    for pidx, refdes, rule_id, status, message, source, basis, value, limit, margin, was in \
-            zip(*cols):
-        line = int(rows.get(pidx, 1)) if pidx in rows.index else 1
+    for line, refdes, rule_id, status, message, source, basis, value, limit, margin, was in \
+            zip(_bom_lines(report, bad), *cols):
         props = {"status": status, "refdes": refdes, "source": _text(source),
                  "basis": _text(basis) or None, "value": _number(value),
                  "limit": _number(limit), "margin": _number(margin)}
@@ -145,8 +156,7 @@ def _verdict_results(report, bad, index: dict[str, int]) -> list[dict]:
             "message": {"text": _text(message) or f"{refdes}: {status} ({rule_id})"},
             "locations": [{
                 "physicalLocation": {
-                    "artifactLocation": {"uri": _uri(bom.get("path") or ""),
-                                         "index": bom_index},
+                    "artifactLocation": {"uri": uri, "index": bom_index},
                     "region": {"startLine": max(1, line)}},
                 "logicalLocations": [{"name": _text(refdes), "kind": "element"}]}],
             "partialFingerprints": {"placementRule/v1": f"{refdes}:{rule_id}"},

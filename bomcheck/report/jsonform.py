@@ -12,7 +12,6 @@ key as null); a passing verdict carries no message and a verdict's source is in 
 
 from __future__ import annotations
 
-import json
 import json.encoder
 from collections.abc import Iterator
 from itertools import repeat
@@ -20,6 +19,8 @@ from itertools import repeat
 import numpy as np
 import orjson
 import pandas as pd
+
+from bomcheck.report.jsontext import json_dumps
 
 SCHEMA_VERSION = 2
 CHUNK = 25_000  # placements per chunk: big enough for column work, small enough for memory
@@ -37,12 +38,6 @@ def _float_texts(values: np.ndarray) -> list[str]:
         return []
     array = np.ascontiguousarray(values, dtype=np.float64)
     return orjson.dumps(array, option=orjson.OPT_SERIALIZE_NUMPY).decode()[1:-1].split(",")
-
-
-def dumps(value) -> str:
-    """Compact JSON text of a value inside one cell (a list of texts); NaN or infinity is an
-    error (they are left out upstream)."""
-    return json.dumps(value, ensure_ascii=False, allow_nan=False, separators=(",", ":"))
 
 
 def column_texts(values, key: str = "", only: np.ndarray | None = None
@@ -108,7 +103,7 @@ def _object_text(value) -> tuple[str, bool]:
     if isinstance(value, str):
         return _encode(value), value != ""
     if isinstance(value, (tuple, list)):
-        return dumps(list(value)), len(value) > 0
+        return json_dumps(list(value)), len(value) > 0
     if isinstance(value, (bool, np.bool_)):
         return ("true" if value else "false"), True
     if isinstance(value, (int, float, np.number)):
@@ -119,7 +114,7 @@ def _object_text(value) -> tuple[str, bool]:
             np.asarray([v]))[0]), True
     if value is None or value is pd.NA or value is pd.NaT:
         return "", False
-    return dumps(value), True
+    return json_dumps(value), True
 
 
 def _lookup(codes: np.ndarray, texts: list[str], present: list[bool]):

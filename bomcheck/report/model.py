@@ -266,16 +266,11 @@ class Report:
         front["specs"] = specs
         chunks = _placement_chunks(self.table, self.verdicts, spec_codes, front["rules"],
                                    lambda v: self.with_messages(v, passes=False))
-        return write_chunks(dumps(front), dumps(back), chunks)
+        return write_chunks(json_dumps(front), json_dumps(back), chunks)
 
     def to_dict(self) -> dict:
         """The JSON report as Python values (parsed from ``to_json``, so the two never differ)."""
         return json.loads(self.to_json())
-
-
-def dumps(value) -> str:
-    """Compact strict JSON: a non-finite number anywhere is written as null."""
-    return json_dumps(value)
 
 
 def _specs(table: pd.DataFrame) -> tuple[np.ndarray, list[dict]]:
