@@ -16,6 +16,7 @@ import io
 from dataclasses import astuple, fields
 from typing import Any
 
+import numpy as np
 import pandas as pd
 
 from bomcheck.quantity import is_missing
@@ -47,28 +48,41 @@ def _num(value: Any) -> str:
     return "" if is_missing(value) else format(float(value), ".6g")
 
 
+def _row(value: Any) -> str:
+    return "" if is_missing(value) else str(int(value))
+
+
+def _fields(values, write) -> np.ndarray:
+    """The CSV field of each value of a column: ``write`` runs once per distinct value."""
+    array = pd.Series(values, dtype=object) if not isinstance(values, pd.Series) else values
+    codes, uniques = pd.factorize(array.to_numpy(dtype=object), use_na_sentinel=True)
+    texts = np.asarray([*map(write, uniques.tolist()), ""], dtype=object)
+    return texts[codes]
+
+
 def csv_rows(report) -> str:
     """One CSV row per fitted placement in BOM order: designator, BOM row, status (and the
     status a waiver replaced), the governing verdict with its value, limit and margin (SI
-    units), the part's key fields, its BOM text and the message."""
+    units), the part's key fields, its BOM text and the message. Column by column: each
+    distinct value of a column is written once."""
     t = report.table
     gov = governing(report)
     empty = pd.Series(None, index=t.index, dtype=object)
-    columns = {}
+    columns = []
     for name in CSV_COLUMNS[:-1]:
         if name in _FROM_TABLE:
-            columns[name] = t[name] if name in t.columns else empty
+            values = t[name] if name in t.columns else empty
         else:
             key = _FROM_VERDICT[name]
-            columns[name] = gov[key].reindex(t.index) if key in gov.columns else empty
+            values = gov[key].reindex(t.index) if key in gov.columns else empty
+        if name in _NUMBERS:  # nearly all distinct (and -0.0 keeps its sign): value by value
+            columns.append(list(map(_num, values.tolist())))
+        else:
+            columns.append(_fields(values, _row if name == "row" else cell).tolist())
     waived = waived_by_placement(report)
-    out = [csv_line(CSV_COLUMNS)]
-    for i, *rec in zip(t.index, *columns.values()):
-        fields_ = [_num(v) if name in _NUMBERS else
-                   ("" if is_missing(v) else str(int(v))) if name == "row" else cell(v)
-                   for name, v in zip(columns, rec)]
-        out.append(csv_line([*fields_, cell(waived.get(int(i), ""))]))
-    return "".join(out)
+    columns.append([cell(waived.get(int(i), "")) for i in t.index] if waived else
+                   [""] * len(t))
+    return csv_line(CSV_COLUMNS) + "".join(map(csv_line, zip(*columns)))
 
 
 def board_csv(report, product: str) -> str:
