@@ -19,7 +19,7 @@ from hypothesis import strategies as st
 from hostile_cells import BOM_NAME, DESIGN, HEADER, bom_lines
 
 from bomcheck.cli.main import main
-from bomcheck.render.textsafe import csv_field, md_text, natural_key, xml_text
+from bomcheck.render.textsafe import csv_field, html_text, md_text, natural_key, xml_text
 
 @pytest.fixture(scope="module")
 def outputs(tmp_path_factory):
@@ -245,3 +245,13 @@ def test_spreadsheet_error_values_are_openpyxls():
     assert SPREADSHEET_ERRORS == set(ERROR_CODES)
     assert spreadsheet_unsafe("#N/A") and spreadsheet_unsafe(" =1+1")
     assert not spreadsheet_unsafe("C12") and not spreadsheet_unsafe("#N/A here")
+
+
+@settings(max_examples=300, deadline=None)
+@given(st.one_of(st.none(), st.text(alphabet=st.sampled_from(
+    ["a", "µ", "&", "<", ">", '"', "'", "\x00", "\x0b", "\t", "\n", "\x7f", "\ud800",
+     "\ufffe", "\uffff", "\U0001f600", ";"]), max_size=24)))
+def test_html_text_is_the_standard_escape_of_xml_safe_text(text):
+    # Reference: the standard library's html.escape(quote=True) (Python docs, html module),
+    # applied after the XML 1.0 character guard; the fast path must never skip a change.
+    assert html_text(text) == html.escape(xml_text(text), quote=True)
