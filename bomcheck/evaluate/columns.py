@@ -68,6 +68,7 @@ class Columns:
         self._factor: dict[str, tuple[np.ndarray, list]] = {}
         self._text: dict[str, np.ndarray] = {}
         self._formatted: dict[tuple[str, str, bool], Coded] = {}
+        self._equals: dict[tuple[str, str], np.ndarray] = {}
 
     def num(self, name: str) -> np.ndarray:
         """The column as floats, NaN where missing or not a number."""
@@ -128,6 +129,19 @@ class Columns:
                     out = np.array([str(v) for v in out.tolist()] or [], dtype=object)
             self._text[name] = out
         return self._text[name]
+
+    def equals(self, name: str, value: str) -> np.ndarray:
+        """True where the text column is ``value`` (read-only; each column and value compared
+        once per table, the rules then take their placements' entries)."""
+        key = (name, value)
+        if key not in self._equals:
+            if name not in self.table.columns:
+                out = np.zeros(self.n, dtype=bool)
+            else:
+                out = np.asarray(self.table[name].to_numpy(dtype=object) == value, dtype=bool)
+            out.flags.writeable = False
+            self._equals[key] = out
+        return self._equals[key]
 
     def formatted(self, name: str, unit: str, percent: bool = False) -> Coded:
         """The column formatted for messages (e.g. "14.2 V"), as codes into distinct strings."""

@@ -11,7 +11,7 @@ import numpy as np
 import pandas as pd
 
 from bomcheck.frozen import frozen
-from bomcheck.evaluate.checks import FAIL, NODATA, PASS, WARN, CheckKind
+from bomcheck.evaluate.checks import FAIL, NODATA, PASS, WARN, CheckKind, status_of
 from bomcheck.evaluate.columns import Coded, Columns, coded_constant, coded_values, round_sig
 from bomcheck.evaluate.rule_model import Rule, axis_quantity
 from bomcheck.quantity import format_quantity, visible_pair
@@ -120,18 +120,38 @@ def _distinct_rows(parts: list[Coded], k: int) -> tuple[np.ndarray, np.ndarray]:
 
 @frozen
 class RuleVerdicts:
-    """One rule's verdicts as codes and numbers: what its messages are built from, when an
-    output prints them (positions in ``idx`` order, ``idx`` the placements, ascending)."""
+    """One rule's verdicts as codes: what its messages are built from, when an output prints
+    them (positions in ``idx`` order, ``idx`` the placements, ascending). The limits, the status
+    of the value shown and the missing inputs are computed again for the verdicts printed
+    (``selected``): kept for every verdict they took about 30 bytes each."""
 
     rule: Rule
     kind: CheckKind
     idx: np.ndarray
     status: np.ndarray  # PASS, WARN, FAIL or NODATA
-    shown: np.ndarray  # status of the value the message shows (before bounds and caps)
     note: np.ndarray  # NOTES code
-    limit: np.ndarray
-    warn_limit: np.ndarray
-    missing: dict[str, np.ndarray]  # per needed column, True where it is missing
+
+
+def rule_limits(rule: Rule, cols: Columns, idx: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """(fail limit, warn limit) of ``rule`` at the placements ``idx``; NaN where none."""
+    k = len(idx)
+    x = cols.num(rule.fail.over)[idx] if rule.fail.is_curve else None
+    limit = rule.fail.at(x, k)
+    if rule.warn is None:
+        return limit, np.full(k, np.nan)
+    wx = cols.num(rule.warn.over)[idx] if rule.warn.is_curve else None
+    return limit, rule.warn.at(wx, k)
+
+
+def shown_status(rule: Rule, kind: CheckKind, cols: Columns, idx: np.ndarray, limit: np.ndarray,
+                 warn_limit: np.ndarray) -> np.ndarray:
+    """The status of the value a message shows (before bounds and caps)."""
+    return status_of(kind, cols.num(rule.metric)[idx], limit, warn_limit)
+
+
+def missing_inputs(rule: Rule, cols: Columns, idx: np.ndarray) -> dict[str, np.ndarray]:
+    """Per column the rule needs, True where it is missing at the placements ``idx``."""
+    return {c: np.isnan(cols.num(c)[idx]) for c in rule.needs()}
 
 
 def bodies_of(rv: RuleVerdicts, sel: np.ndarray, cols: Columns, ctx: Context,
@@ -151,7 +171,7 @@ def bodies_of(rv: RuleVerdicts, sel: np.ndarray, cols: Columns, ctx: Context,
     if nd.any():
         rule, src = rv.rule, rv.rule.source
         codes, labels = _missing_labels(rule.needs(),
-                                        {c: m[sel[nd]] for c, m in rv.missing.items()},
+                                        missing_inputs(rule, cols, rv.idx[sel[nd]]),
                                         int(nd.sum()))
         start = len(bodies)
         bodies.extend(f": no data for {rule.title}: missing {lab}; {src}" for lab in labels)
@@ -168,9 +188,10 @@ def _measured_bodies(rv: RuleVerdicts, ok: np.ndarray, cols: Columns, ctx: Conte
     literals, fields = _template(metric.explain)
     parts = [cols.formatted(name, spec).take(rows) for name, spec in fields]
     parts.append(cols.formatted(rule.metric, metric.unit, metric.percent).take(rows))
-    st = rv.shown[ok]  # the comparison printed is that of the value shown
-    parts.append(_compare(kind, metric, st, rv.warn_limit[ok]))
-    parts.append(coded_values(rv.limit[ok], metric.unit, metric.percent) if rule.fail.is_curve
+    limit, warn_limit = rule_limits(rule, cols, rows)
+    st = shown_status(rule, kind, cols, rows, limit, warn_limit)  # the comparison printed
+    parts.append(_compare(kind, metric, st, warn_limit))
+    parts.append(coded_values(limit, metric.unit, metric.percent) if rule.fail.is_curve
                  else coded_constant(format_quantity(float(rule.fail.value), metric.unit,
                                                      metric.percent), k))
     if rule.axes:
@@ -182,8 +203,7 @@ def _measured_bodies(rv: RuleVerdicts, ok: np.ndarray, cols: Columns, ctx: Conte
         parts.append(ctx.tech_semi.take(rows))
         tail = f"{rule.source})"
     parts.append(_notes(cols, rule.metric, rv.note[ok], rows))
-    _show_violations(parts, len(fields), kind, metric, st, cols.num(rule.metric)[rows],
-                     rv.limit[ok])
+    _show_violations(parts, len(fields), kind, metric, st, cols.num(rule.metric)[rows], limit)
     first, inverse = _distinct_rows(parts, k)
     texts = [np.array(p.lookup, dtype=object)[p.codes[first]].tolist() for p in parts]
     measured = _measured(literals, texts[: len(fields) + 1], rule.metric)
