@@ -260,20 +260,22 @@ def without_unverdicted(table: pd.DataFrame, verdicts: pd.DataFrame,
     """
     n = len(table)
     pidx = verdicts["pidx"].to_numpy(dtype=np.int64) if len(verdicts) else np.zeros(0, np.int64)
-    ids = verdicts["rule_id"].to_numpy(dtype=object) if len(verdicts) else np.zeros(0, object)
-    codes, seen = pd.factorize(ids)
-    # The verdicts' rows grouped by rule id: one sort, not one comparison per rule.
-    order = np.argsort(codes, kind="stable")
-    bounds = np.searchsorted(codes[order], np.arange(len(seen) + 1))
-    code_of = {rule_id: j for j, rule_id in enumerate(seen.tolist())}
-    shown: dict[str, np.ndarray] = {}
+    codes, seen = (pd.factorize(verdicts["rule_id"]) if len(verdicts)
+                   else (np.zeros(0, np.intp), []))
+    # Per metric, which distinct rule ids show it (the last entry: no rule id); then one look-up
+    # per verdict and metric, not one comparison per rule.
+    code_of = {rule_id: j for j, rule_id in enumerate(list(seen))}
+    shows: dict[str, np.ndarray] = {}
     for rule in ruleset.rules:
         j = code_of.get(rule.id)
-        at = pidx[order[bounds[j]:bounds[j + 1]]] if j is not None else pidx[:0]
-        if not at.size:
+        if j is None:
             continue
         for name in (rule.metric, *rule.axes):
-            shown.setdefault(name, np.zeros(n, dtype=bool))[at] = True
+            shows.setdefault(name, np.zeros(len(code_of) + 1, dtype=bool))[j] = True
+    shown: dict[str, np.ndarray] = {}
+    for name, of_rule in shows.items():
+        shown[name] = np.zeros(n, dtype=bool)
+        shown[name][pidx[of_rule[codes]]] = True
 
     # The fields a shown stress's message prints (its operating temperature, its transient
     # peak) are shown with it.

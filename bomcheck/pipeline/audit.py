@@ -74,16 +74,27 @@ def _families_missing(table: pd.DataFrame, rule_verdicts: pd.DataFrame,
     """Per required check family, the placements no derating rule of that family applies to
     (backstop rules do not count)."""
     family_of = {r.id: r.family for r in ruleset.enabled_rules if not r.backstop}
-    fam = (rule_verdicts["rule_id"].map(family_of).to_numpy(dtype=object) if len(rule_verdicts)
-           else np.array([], dtype=object))
-    pidx = rule_verdicts["pidx"].to_numpy(dtype=np.int64) if len(rule_verdicts) else fam
+    codes, ids = _codes(rule_verdicts, "rule_id")
+    families = [family_of.get(rule_id) for rule_id in ids]
+    pidx = rule_verdicts["pidx"].to_numpy(dtype=np.int64) if len(rule_verdicts) else codes
     out = {}
     for family in REQUIRED_FAMILIES:
+        # per distinct rule id whether it is of the family (the last entry: no rule id)
+        of_family = np.array([f == family for f in families] + [False], dtype=bool)
         covered = np.zeros(len(table), dtype=bool)
-        covered[pidx[fam == family].astype(np.int64)] = True
+        covered[pidx[of_family[codes]]] = True
         if not covered.all():
             out[family] = np.flatnonzero(~covered)
     return out
+
+
+def _codes(verdicts: pd.DataFrame, column: str) -> tuple[np.ndarray, list]:
+    """(code per verdict, distinct values) of a verdict column: each distinct text looked up
+    once, not once per verdict; code -1 for a missing value."""
+    if not len(verdicts):
+        return np.zeros(0, dtype=np.intp), []
+    codes, uniques = pd.factorize(verdicts[column])
+    return np.asarray(codes, dtype=np.intp), list(uniques)
 
 
 def _read_warnings(imported) -> tuple:
@@ -151,10 +162,12 @@ def _own_frame(parts: list[tuple[np.ndarray, str, str, list[str], str]],
 
 def placement_status(verdicts: pd.DataFrame, n: int) -> np.ndarray:
     """Each placement's status: the worst of its verdicts (STATUS_ORDER); nodata when it has none."""
-    rank = RANK
-    worst = np.full(n, rank["nodata"], dtype=np.int64)
+    worst = np.full(n, RANK["nodata"], dtype=np.int64)
     if len(verdicts):
-        r = verdicts["status"].map(rank).to_numpy(dtype=np.int64)
+        codes, statuses = _codes(verdicts, "status")
+        if (codes < 0).any():
+            raise ValueError("a verdict has no status")
+        r = np.array([RANK[s] for s in statuses], dtype=np.int64)[codes]
         p = verdicts["pidx"].to_numpy(dtype=np.int64)
         best = np.full(n, -1, dtype=np.int64)
         np.maximum.at(best, p, r)
