@@ -14,7 +14,7 @@ import pandas as pd
 
 from bomcheck.evaluate.checks import (CHECKS, FAIL, NODATA, PASS, WARN, CheckKind, check_kind,
                                       kinder, status_of)
-from bomcheck.evaluate.columns import Columns, applies_mask
+from bomcheck.evaluate.columns import Columns, applies_mask, object_codes
 from bomcheck.evaluate.messages import (NOTE_ADVISORY, NOTE_BOUND_FAIL, NOTE_BOUND_PASS,
                                         NOTE_GENERIC, Context, Messages, RuleVerdicts,
                                         rule_limits)
@@ -249,19 +249,11 @@ def _float_copy(column: pd.Series) -> np.ndarray:
     return column.to_numpy(dtype=float, copy=True)
 
 
-def without_unverdicted(table: pd.DataFrame, verdicts: pd.DataFrame,
-                        ruleset: RuleSet) -> pd.DataFrame:
-    """The table with every metric a placement has no rule verdict on set to NaN: a stress is
-    shown only where a rule on it (or on a curve over it) gave that placement a verdict, and a
-    component only where a stress it feeds is shown (a stress shown is a stress checked).
-
-    ``verdicts`` is ``evaluate``'s table (``pidx`` into ``table``); rows of ids that are no rule
-    of ``ruleset`` (the audit's own verdicts) count for nothing.
-    """
-    n = len(table)
+def _shown_by_rules(verdicts: pd.DataFrame, ruleset: RuleSet, n: int) -> dict[str, np.ndarray]:
+    """Per metric or curve axis, True at the placements a rule of ``ruleset`` on it gave a
+    verdict (``verdicts``: ``pidx`` into a table of ``n`` placements)."""
     pidx = verdicts["pidx"].to_numpy(dtype=np.int64) if len(verdicts) else np.zeros(0, np.int64)
-    codes, seen = (pd.factorize(verdicts["rule_id"]) if len(verdicts)
-                   else (np.zeros(0, np.intp), []))
+    codes, seen = object_codes(verdicts["rule_id"]) if len(verdicts) else (pidx, [])
     # Per metric, which distinct rule ids show it (the last entry: no rule id); then one look-up
     # per verdict and metric, not one comparison per rule.
     code_of = {rule_id: j for j, rule_id in enumerate(list(seen))}
@@ -276,6 +268,20 @@ def without_unverdicted(table: pd.DataFrame, verdicts: pd.DataFrame,
     for name, of_rule in shows.items():
         shown[name] = np.zeros(n, dtype=bool)
         shown[name][pidx[of_rule[codes]]] = True
+    return shown
+
+
+def without_unverdicted(table: pd.DataFrame, verdicts: pd.DataFrame,
+                        ruleset: RuleSet) -> pd.DataFrame:
+    """The table with every metric a placement has no rule verdict on set to NaN: a stress is
+    shown only where a rule on it (or on a curve over it) gave that placement a verdict, and a
+    component only where a stress it feeds is shown (a stress shown is a stress checked).
+
+    ``verdicts`` is ``evaluate``'s table (``pidx`` into ``table``); rows of ids that are no rule
+    of ``ruleset`` (the audit's own verdicts) count for nothing.
+    """
+    n = len(table)
+    shown = _shown_by_rules(verdicts, ruleset, n)
 
     # The fields a shown stress's message prints (its operating temperature, its transient
     # peak) are shown with it.

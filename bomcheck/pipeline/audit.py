@@ -15,7 +15,7 @@ import pandas as pd
 
 from bomcheck import __version__
 from bomcheck.evaluate import engine, rules, sources
-from bomcheck.evaluate.columns import wide_table_edits
+from bomcheck.evaluate.columns import object_codes, wide_table_edits
 from bomcheck.evaluate.waivers import apply_waivers, load_waivers
 from bomcheck.frozen import frozen
 from bomcheck.parse import design as design_mod
@@ -93,8 +93,7 @@ def _codes(verdicts: pd.DataFrame, column: str) -> tuple[np.ndarray, list]:
     once, not once per verdict; code -1 for a missing value."""
     if not len(verdicts):
         return np.zeros(0, dtype=np.intp), []
-    codes, uniques = pd.factorize(verdicts[column])
-    return np.asarray(codes, dtype=np.intp), list(uniques)
+    return object_codes(verdicts[column])
 
 
 def _read_warnings(imported) -> tuple:
