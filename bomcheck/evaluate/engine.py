@@ -168,8 +168,10 @@ def evaluate_lazily(table: pd.DataFrame, ruleset: RuleSet, *,
         tech_semi=cols.coded_map("technology", lambda t: f"{t}; " if t else "", ""),
     )
     parts: list[tuple[RuleVerdicts, dict[str, np.ndarray]]] = []
+    # placements as 32-bit positions where they fit: the messages keep them for every verdict
+    small = np.int32 if cols.n < 2**31 else np.int64
     for rule in sorted(ruleset.enabled_rules, key=lambda r: r.id):
-        idx = np.flatnonzero(applies_mask(rule.applies, cols))
+        idx = np.flatnonzero(applies_mask(rule.applies, cols)).astype(small)
         if idx.size:
             parts.append(_evaluate_rule(rule, cols, idx))
     messages = Messages(cols, ctx, [rv for rv, _ in parts])
@@ -177,41 +179,25 @@ def evaluate_lazily(table: pd.DataFrame, ruleset: RuleSet, *,
         return _empty(), messages
     texts = ([np.array(messages.texts(rv, np.arange(len(rv.idx))), dtype=object)
               for rv, _ in parts] if passes else None)
-    return _frame(parts, texts, cols.n, ctx), messages
+    return _frame(parts, texts, ctx), messages
 
 
-def _positions(idxs: list[np.ndarray], n: int) -> tuple[np.ndarray, list[np.ndarray]]:
-    """(placement of each row, per part its rows' positions) of the parts' rows (placements
-    ``idxs``, each ascending, parts in rule id order) sorted by placement, then part: a count
-    per placement, not a sort of every row."""
-    count = np.zeros(n, dtype=np.int64)
-    for idx in idxs:
-        count[idx] += 1
-    start = np.cumsum(count) - count
-    positions = []
-    for idx in idxs:
-        positions.append(start[idx])
-        start[idx] += 1
-    return np.repeat(np.arange(n, dtype=np.int64), count), positions
-
-
-def _frame(parts: list[tuple[RuleVerdicts, dict[str, np.ndarray]]], texts: list | None, n: int,
+def _frame(parts: list[tuple[RuleVerdicts, dict[str, np.ndarray]]], texts: list | None,
            ctx: Context) -> pd.DataFrame:
     """The verdict table of the rules' verdicts (``texts``: their messages, or None), sorted by
-    placement, then rule id (``parts`` come in rule id order). Each column is written once, a
-    part at a time at its rows' positions; the text columns are taken from codes."""
-    pidx, positions = _positions([rv.idx for rv, _ in parts], n)
+    placement, then rule id (``parts`` come in rule id order, each by placement: the stable
+    sort merges them). The text columns are taken from codes."""
+    order = np.argsort(np.concatenate([rv.idx for rv, _ in parts]), kind="stable")
 
-    def placed(get, dtype) -> np.ndarray:
-        out = np.empty(len(pidx), dtype=dtype)
-        for (rv, p), at, i in zip(parts, positions, range(len(parts))):
-            out[at] = get(rv, p, i)
-        return out
+    def placed(get) -> np.ndarray:
+        return np.concatenate([get(rv, p) for rv, p in parts])[order]
 
-    rule_no = placed(lambda rv, p, i: i, np.int32)
+    sizes = [len(rv.idx) for rv, _ in parts]
+    rule_no = np.repeat(np.arange(len(parts), dtype=np.int32), sizes)[order]
+    pidx = placed(lambda rv, p: rv.idx).astype(np.int64)
     rule_ids = np.array([rv.rule.id for rv, _ in parts], dtype=object)
     sources = np.array([rv.rule.source for rv, _ in parts], dtype=object)
-    message = (placed(lambda rv, p, i: texts[i], object) if texts is not None
+    message = (np.concatenate(texts)[order] if texts is not None
                else np.full(len(pidx), None, dtype=object))
     # Object columns stay object: inferring a string dtype for 10^6 messages costs more than
     # the evaluation.
@@ -219,12 +205,11 @@ def _frame(parts: list[tuple[RuleVerdicts, dict[str, np.ndarray]]], texts: list 
         "pidx": pidx,
         "refdes": _obj(ctx.refdes[pidx]),
         "rule_id": _obj(rule_ids[rule_no]),
-        "status": _obj(_STATUS_TEXT[placed(lambda rv, p, i: rv.status, np.int8)]),
-        **{c: placed(lambda rv, p, i: p[c], float)
-           for c in ("value", "limit", "warn_limit", "margin")},
+        "status": _obj(_STATUS_TEXT[placed(lambda rv, p: rv.status)]),
+        **{c: placed(lambda rv, p: p[c]) for c in ("value", "limit", "warn_limit", "margin")},
         "message": _obj(message),
         "source": _obj(sources[rule_no]),
-        "basis": _obj(_BASIS_TEXT[placed(lambda rv, p, i: p["basis"], np.int8)]),
+        "basis": _obj(_BASIS_TEXT[placed(lambda rv, p: p["basis"])]),
     }, copy=False)  # no consolidation: stacking the columns into blocks would copy them all
 
 

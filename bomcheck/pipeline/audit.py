@@ -134,13 +134,39 @@ def _audit_verdicts(table: pd.DataFrame, rule_verdicts: pd.DataFrame,
             idx = np.flatnonzero(rows == f.row)
         add(idx, BOM_FINDING.format(code=f.code), f.severity,
             [f"{r}: {f.message}" for r in refdes[idx]], "BOM data")
-    frames = [rule_verdicts, *([stage_verdicts] if len(stage_verdicts) else [])]
+    frames = [rule_verdicts, *([_with_basis(stage_verdicts)] if len(stage_verdicts) else [])]
     if len(frames) == 1 and not parts:
         return rule_verdicts
     if parts:  # one frame of the audit's own verdicts (not one per kind)
-        frames.insert(1, _own_frame(parts, refdes))
+        frames.insert(1, _with_basis(_own_frame(parts, refdes)))
     out = pd.concat(frames, ignore_index=True)
-    return out.sort_values(["pidx", "rule_id"], kind="stable").reset_index(drop=True)
+    return out.take(_verdict_order(out)).reset_index(drop=True)
+
+
+def _with_basis(verdicts: pd.DataFrame) -> pd.DataFrame:
+    """Verdicts of the audit or a stage with their basis where they give none: no verdict is
+    missing data, a finding on given data is firm (set on these few rows, not on the whole
+    verdict table)."""
+    basis = (verdicts["basis"].to_numpy(dtype=object) if "basis" in verdicts
+             else np.full(len(verdicts), np.nan, dtype=object))
+    unset = pd.isna(basis)
+    if not unset.any():
+        return verdicts
+    basis = basis.copy()
+    basis[unset] = np.where(verdicts["status"].to_numpy(dtype=object)[unset] == "nodata",
+                            "missing", "firm")
+    return verdicts.assign(basis=pd.Series(basis, index=verdicts.index, dtype=object))
+
+
+def _verdict_order(verdicts: pd.DataFrame) -> np.ndarray:
+    """The rows of a verdict table by placement, then rule id, stable (as ``sort_values(["pidx",
+    "rule_id"], kind="stable")``), sorted on one integer key: each distinct rule id ranked once."""
+    codes, ids = object_codes(verdicts["rule_id"])
+    rank = np.empty(len(ids) + 1, dtype=np.int64)
+    rank[np.argsort(np.array(ids, dtype=object), kind="stable")] = np.arange(len(ids))
+    rank[-1] = len(ids)  # a missing rule id last
+    key = verdicts["pidx"].to_numpy(dtype=np.int64) * (len(ids) + 1) + rank[codes]
+    return np.argsort(key, kind="stable")
 
 
 def _own_frame(parts: list[tuple[np.ndarray, str, str, list[str], str]],
