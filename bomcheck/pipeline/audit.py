@@ -127,11 +127,12 @@ def _audit_verdicts(table: pd.DataFrame, rule_verdicts: pd.DataFrame,
             [f"{r}: no {family} derating rule in force for {t or 'a part of unknown technology'}"
              "; a backstop (within the rating) is not a derating check: give the technology or "
              "add a rule" for r, t in zip(refdes[idx], tech)], "rule sets in force")
-    rows = table["row"].to_numpy()
+    if import_findings:  # each finding's placements looked up, not searched for
+        of_refdes, of_row = _positions_of(refdes), _positions_of(table["row"].to_numpy())
     for f in import_findings:
-        idx = np.flatnonzero(refdes == f.refdes) if f.refdes else np.flatnonzero(rows == f.row)
+        idx = of_refdes(f.refdes) if f.refdes else of_row(f.row)
         if not len(idx) and f.refdes:
-            idx = np.flatnonzero(rows == f.row)
+            idx = of_row(f.row)
         add(idx, BOM_FINDING.format(code=f.code), f.severity,
             [f"{r}: {f.message}" for r in refdes[idx]], "BOM data")
     frames = [rule_verdicts, *([_with_basis(stage_verdicts)] if len(stage_verdicts) else [])]
@@ -167,6 +168,21 @@ def _verdict_order(verdicts: pd.DataFrame) -> np.ndarray:
     rank[-1] = len(ids)  # a missing rule id last
     key = verdicts["pidx"].to_numpy(dtype=np.int64) * (len(ids) + 1) + rank[codes]
     return np.argsort(key, kind="stable")
+
+
+def _positions_of(values: np.ndarray):
+    """A look-up of the positions (ascending) where ``values`` holds a value: one grouping of
+    the column, then a dictionary look-up per value asked for."""
+    codes, uniques = pd.factorize(values)
+    order = np.argsort(codes, kind="stable")
+    bounds = np.searchsorted(codes[order], np.arange(len(uniques) + 1))
+    group = {u: j for j, u in enumerate(uniques.tolist())}
+    none = order[:0]
+
+    def positions(value) -> np.ndarray:
+        j = group.get(value)
+        return none if j is None else order[bounds[j]:bounds[j + 1]]
+    return positions
 
 
 def _own_frame(parts: list[tuple[np.ndarray, str, str, list[str], str]],
