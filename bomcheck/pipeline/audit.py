@@ -208,9 +208,9 @@ def placement_status(verdicts: pd.DataFrame, n: int) -> np.ndarray:
         codes, statuses = _codes(verdicts, "status")
         if (codes < 0).any():
             raise ValueError("a verdict has no status")
-        r = np.array([RANK[s] for s in statuses], dtype=np.int64)[codes]
+        r = np.array([RANK[s] for s in statuses], dtype=np.int8)[codes]
         p = verdicts["pidx"].to_numpy(dtype=np.int64)
-        best = np.full(n, -1, dtype=np.int64)
+        best = np.full(n, -1, dtype=np.int8)
         np.maximum.at(best, p, r)
         worst = np.where(best >= 0, best, worst)
     return np.asarray(STATUS_ORDER, dtype=object)[worst]
