@@ -150,10 +150,14 @@ class Columns:
             self._formatted[key] = coded_values(self.num(name), unit, percent)
         return self._formatted[key]
 
-    def coded_map(self, name: str, fn: Callable[[object], str], missing: str) -> Coded:
-        """``fn`` of each distinct value of a text column, as codes."""
+    def coded_map(self, name: str, fn: Callable[[object], str], missing: str,
+                  rows: np.ndarray | None = None) -> Coded:
+        """``fn`` of each distinct value of a text column, as codes (of the placements ``rows``
+        only when given)."""
         codes, uniques = self.factor(name)
         lookup = [fn(u) for u in uniques] + [missing]
+        if rows is not None:
+            codes = codes[rows]
         return Coded(np.where(codes < 0, len(lookup) - 1, codes), lookup)
 
 

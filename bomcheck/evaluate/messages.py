@@ -12,7 +12,8 @@ import pandas as pd
 
 from bomcheck.frozen import frozen
 from bomcheck.evaluate.checks import FAIL, NODATA, PASS, WARN, CheckKind, status_of
-from bomcheck.evaluate.columns import Coded, Columns, coded_constant, coded_values, round_sig
+from bomcheck.evaluate.columns import (Coded, Columns, coded_constant, coded_values, object_codes,
+                                       round_sig)
 from bomcheck.evaluate.rule_model import Rule, axis_quantity
 from bomcheck.quantity import format_quantity, visible_pair
 from bomcheck.vocabulary import INPUT_LABELS, METRICS
@@ -248,15 +249,18 @@ class Messages:
         """The message of each verdict (placement ``pidx``, rule id); None where this evaluation
         gave no such verdict (the audit's own verdicts carry their messages)."""
         out = np.full(len(pidx), None, dtype=object)
-        codes, ids = pd.factorize(np.asarray(rule_ids, dtype=object))
-        for j, rule_id in enumerate(ids.tolist()):
+        codes, ids = object_codes(np.asarray(rule_ids, dtype=object))
+        for j, rule_id in enumerate(ids):
             rv = self._rules.get(rule_id)
             if rv is None:
                 continue
             at = np.flatnonzero(codes == j)
-            pos = np.searchsorted(rv.idx, pidx[at])
+            # the placements asked for in the type of the rule's own (not those in another
+            # type: a copy per look-up); one past any placement stays past them
+            asked = np.minimum(pidx[at], np.iinfo(rv.idx.dtype).max).astype(rv.idx.dtype)
+            pos = np.searchsorted(rv.idx, asked)
             hit = pos < len(rv.idx)
-            hit[hit] = rv.idx[pos[hit]] == pidx[at][hit]
+            hit[hit] = rv.idx[pos[hit]] == asked[hit]
             if hit.any():
                 out[at[hit]] = self.texts(rv, pos[hit])
         return out
@@ -269,7 +273,7 @@ def _notes(cols: Columns, metric: str, note: np.ndarray, rows: np.ndarray) -> Co
     note = note.astype(np.intp)
     if f"{metric}_note" not in cols.table.columns:
         return Coded(note, list(NOTES))
-    extra = cols.coded_map(f"{metric}_note", lambda t: f" ({t})" if t else "", "").take(rows)
+    extra = cols.coded_map(f"{metric}_note", lambda t: f" ({t})" if t else "", "", rows)
     m = len(extra.lookup)
     codes = note * m + np.where(note == NOTE_GENERIC, extra.codes, m - 1)
     return Coded(codes, [n + x for n in NOTES for x in extra.lookup])
@@ -280,10 +284,11 @@ def _show_violations(parts: list[Coded], at: int, kind: CheckKind, metric, shown
     """Where a failing value and its limit print alike at four digits (70.004 % against 70 %),
     print both with the digits that show the failure: ``parts[at]`` is the value, ``parts[at +
     2]`` the limit. Only the few such verdicts are formatted again."""
-    with np.errstate(invalid="ignore"):
-        rv, rl = round_sig(value), round_sig(limit)
+    failing = np.flatnonzero((shown == FAIL) & np.isfinite(value) & np.isfinite(limit))
+    with np.errstate(invalid="ignore"):  # only the failures are rounded
+        rv, rl = round_sig(value[failing]), round_sig(limit[failing])
         visible = (rv > rl) if kind.name == "max" else (rv < rl)
-    hidden = np.flatnonzero((shown == FAIL) & ~visible & np.isfinite(value) & np.isfinite(limit))
+    hidden = failing[~visible]
     if not hidden.size:
         return
     beyond = operator.gt if kind.name == "max" else operator.lt
