@@ -5,10 +5,12 @@ from importlib import resources
 from pathlib import Path
 
 import jsonschema
+import numpy as np
+import pandas as pd
 import pytest
 
 from bomcheck.evaluate.rules import DEFAULT_RULESET
-from bomcheck.pipeline.audit import AuditOptions, run_audit
+from bomcheck.pipeline.audit import AuditOptions, _positions_of, _verdict_order, run_audit
 from bomcheck.errors import InputError
 
 ROOT = Path(__file__).resolve().parents[1]
@@ -207,3 +209,29 @@ def test_series_stack_takes_the_board_wide_rail_tolerance(tmp_path):
                    "*,,,,5,40 degC,none\nLINK,\"C1, C2\",series,400 V,,,\n")
     report = run_audit(bom, design)
     assert report.table["v_share_cap_v"].tolist() == pytest.approx([252.0, 252.0])
+
+
+# The audit's verdict merge and finding look-ups are checked against pandas' own stable sort and
+# a plain search of every placement (common practice: the same order and rows, found faster).
+
+def test_verdict_order_is_the_stable_sort_by_placement_and_rule_id():
+    rng = np.random.default_rng(3)
+    ids = np.array(["v.b", "design.missing", "t.a", "v.a", "bom.qty_mismatch"], dtype=object)
+    n = 2000
+    verdicts = pd.DataFrame({"pidx": rng.integers(0, 300, n),
+                             "rule_id": ids[rng.integers(0, len(ids), n)],
+                             "status": "pass", "seq": np.arange(n)})
+    verdicts.loc[7, "rule_id"] = "".join(["t.", "a"])  # equal text, another object
+    want = verdicts.sort_values(["pidx", "rule_id"], kind="stable")
+    got = verdicts.take(_verdict_order(verdicts))
+    assert got["seq"].tolist() == want["seq"].tolist()
+
+
+def test_finding_positions_are_every_placement_holding_the_value():
+    refdes = np.array(["C1", "C2", "C1", None, "C10", "C1"], dtype=object)
+    positions = _positions_of(refdes)
+    assert positions("C1").tolist() == [0, 2, 5]
+    assert positions("C10").tolist() == [4]
+    assert positions("C3").tolist() == []
+    rows = _positions_of(np.array([4, 4, 5, 7, 7, 7]))
+    assert rows(7).tolist() == [3, 4, 5] and rows(6).tolist() == [] and rows(None).tolist() == []

@@ -8,7 +8,7 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from bomcheck.evaluate.columns import Columns, applies_mask, coded_values, round_sig
+from bomcheck.evaluate.columns import Columns, applies_mask, coded_values, object_codes, round_sig
 from bomcheck.evaluate.rule_model import Applies, Bound
 
 TABLE = pd.DataFrame({
@@ -83,3 +83,36 @@ def test_numeric_columns_read_alike_in_place_and_with_missing_values():
     assert np.array_equal(cols.num("b"), [3.0, np.nan], equal_nan=True)
     assert np.array_equal(cols.num("c"), [4.5, np.nan], equal_nan=True)
     assert np.isnan(cols.num("missing")).all()
+
+
+# object_codes: the fast column codes give what ``pd.factorize`` gives (equivalence with pandas'
+# own factorize: common practice, no outside figure involved).
+def _same_as_factorize(values):
+    codes, uniques = object_codes(values)
+    want_codes, want_uniques = pd.factorize(np.asarray(values, dtype=object)
+                                            if not isinstance(values, pd.Series) else values)
+    assert codes.tolist() == np.asarray(want_codes).tolist()
+    assert [str(u) for u in uniques] == [str(u) for u in list(want_uniques)]
+
+
+def test_equal_texts_in_distinct_objects_share_one_code():
+    a = "".join(["ru", "le.a"])  # built at run time: a distinct object equal to "rule.a"
+    values = np.array(["rule.b", a, "rule.a", None, "rule.b", float("nan"), a], dtype=object)
+    codes, uniques = object_codes(values)
+    assert uniques == ["rule.b", "rule.a"]
+    assert codes.tolist() == [0, 1, 1, -1, 0, -1, 1]
+    _same_as_factorize(values)
+
+
+def test_series_of_object_and_of_string_dtype_and_empty():
+    rng = np.random.default_rng(7)
+    ids = np.array(["x", "y", "z", 3, 2.5], dtype=object)[rng.integers(0, 5, 1000)]
+    _same_as_factorize(pd.Series(ids, dtype=object))
+    _same_as_factorize(pd.Series(["pass", "fail", None, "pass"], dtype="str"))
+    codes, uniques = object_codes(pd.Series([], dtype=object))
+    assert codes.tolist() == [] and uniques == []
+
+
+def test_a_strided_object_array_gives_the_same_codes():
+    values = np.array(["a", "b", "a", "c", "b", "a"], dtype=object)[::2]
+    assert object_codes(values)[0].tolist() == [0, 0, 1]

@@ -68,6 +68,7 @@ class Columns:
         self._factor: dict[str, tuple[np.ndarray, list]] = {}
         self._text: dict[str, np.ndarray] = {}
         self._formatted: dict[tuple[str, str, bool], Coded] = {}
+        self._equals: dict[tuple[str, str], np.ndarray] = {}
 
     def num(self, name: str) -> np.ndarray:
         """The column as floats, NaN where missing or not a number."""
@@ -129,6 +130,19 @@ class Columns:
             self._text[name] = out
         return self._text[name]
 
+    def equals(self, name: str, value: str) -> np.ndarray:
+        """True where the text column is ``value`` (read-only; each column and value compared
+        once per table, the rules then take their placements' entries)."""
+        key = (name, value)
+        if key not in self._equals:
+            if name not in self.table.columns:
+                out = np.zeros(self.n, dtype=bool)
+            else:
+                out = np.asarray(self.table[name].to_numpy(dtype=object) == value, dtype=bool)
+            out.flags.writeable = False
+            self._equals[key] = out
+        return self._equals[key]
+
     def formatted(self, name: str, unit: str, percent: bool = False) -> Coded:
         """The column formatted for messages (e.g. "14.2 V"), as codes into distinct strings."""
         key = (name, unit, percent)
@@ -136,10 +150,14 @@ class Columns:
             self._formatted[key] = coded_values(self.num(name), unit, percent)
         return self._formatted[key]
 
-    def coded_map(self, name: str, fn: Callable[[object], str], missing: str) -> Coded:
-        """``fn`` of each distinct value of a text column, as codes."""
+    def coded_map(self, name: str, fn: Callable[[object], str], missing: str,
+                  rows: np.ndarray | None = None) -> Coded:
+        """``fn`` of each distinct value of a text column, as codes (of the placements ``rows``
+        only when given)."""
         codes, uniques = self.factor(name)
         lookup = [fn(u) for u in uniques] + [missing]
+        if rows is not None:
+            codes = codes[rows]
         return Coded(np.where(codes < 0, len(lookup) - 1, codes), lookup)
 
 
@@ -170,3 +188,23 @@ def applies_mask(a: Applies, cols: Columns) -> np.ndarray:
         m &= inside | np.isnan(v)
     return m
 
+
+
+def object_codes(values: np.ndarray | pd.Series) -> tuple[np.ndarray, list]:
+    """``pd.factorize`` of a column (code per row in order of first appearance, -1 for a missing
+    value; the distinct values), fast for an object column of a few distinct texts such as a
+    verdict table's rule ids: the rows are first told apart by which object they hold (a
+    number per row, hashed as a number), and only one row per object is compared by value."""
+    values = values.to_numpy() if isinstance(values, pd.Series) else np.asarray(values)
+    if values.dtype != object or values.ndim != 1 or not values.flags.c_contiguous or not len(values):
+        codes, uniques = pd.factorize(values)
+        return np.asarray(codes, dtype=np.intp), list(uniques)
+    # The array's own memory read as the addresses of the objects it holds (it stays alive
+    # while ``values`` is referenced here).
+    by_object = pd.factorize(np.frombuffer(memoryview(values), dtype=np.uintp))[0]
+    # factorize numbers objects in order of first appearance: a row is a first occurrence
+    # where the running maximum grows.
+    running = np.maximum.accumulate(by_object)
+    first = np.flatnonzero(np.r_[True, running[1:] > running[:-1]])
+    by_value, uniques = pd.factorize(values[first])
+    return np.asarray(by_value, dtype=np.intp)[by_object], list(uniques)

@@ -14,9 +14,10 @@ import pandas as pd
 
 from bomcheck.evaluate.checks import (CHECKS, FAIL, NODATA, PASS, WARN, CheckKind, check_kind,
                                       kinder, status_of)
-from bomcheck.evaluate.columns import Columns, applies_mask
+from bomcheck.evaluate.columns import Columns, applies_mask, object_codes
 from bomcheck.evaluate.messages import (NOTE_ADVISORY, NOTE_BOUND_FAIL, NOTE_BOUND_PASS,
-                                        NOTE_GENERIC, Context, Messages, RuleVerdicts)
+                                        NOTE_GENERIC, Context, Messages, RuleVerdicts,
+                                        rule_limits)
 from bomcheck.evaluate.rule_model import STATUSES, Rule, RuleSet
 from bomcheck.stress.placement import BEST_ONLY
 from bomcheck.vocabulary import METRICS
@@ -28,6 +29,16 @@ _STATUS_TEXT = np.array(STATUSES, dtype=object)
 
 VERDICT_COLUMNS = ("pidx", "refdes", "rule_id", "status", "value", "limit", "warn_limit", "margin",
                    "message", "source", "basis")
+
+
+# Basis codes of the engine's verdicts (the verdict table's ``basis`` column).
+FIRM, GENERIC, BOUND, MISSING = range(4)
+_BASIS_TEXT = np.array(["firm", "generic", "bound", "missing"], dtype=object)
+
+
+def _generic(cols: Columns, name: str, idx: np.ndarray) -> np.ndarray:
+    """True where the column ``name`` rests on generic typical data at the placements ``idx``."""
+    return cols.equals(f"{name}_basis", "generic")[idx]
 
 
 def _bounded(rule: Rule, kind: CheckKind, cols: Columns, idx: np.ndarray, generic: np.ndarray,
@@ -43,12 +54,13 @@ def _bounded(rule: Rule, kind: CheckKind, cols: Columns, idx: np.ndarray, generi
     """
     best = cols.num(f"{rule.metric}_best")[idx]
     worst = cols.num(f"{rule.metric}_worst")[idx]
-    metric_generic = np.isin(cols.text(f"{rule.metric}_basis")[idx], ("generic", BEST_ONLY))
+    metric_generic = (_generic(cols, rule.metric, idx)
+                      | cols.equals(f"{rule.metric}_basis", BEST_ONLY)[idx])
     best = np.where(metric_generic, best, value)
     worst = np.where(metric_generic, worst, value)
     limit_best, warn_best = limit, warn_limit
     for axis in rule.axes:
-        axis_generic = cols.text(f"{axis}_basis")[idx] == "generic"
+        axis_generic = _generic(cols, axis, idx)
         x_best = np.where(axis_generic, cols.num(f"{axis}_best")[idx], cols.num(axis)[idx])
         lim = rule.fail.at(x_best, len(idx))
         limit_best = np.where(np.isnan(x_best), np.nan, kinder(kind, limit, lim))
@@ -67,42 +79,30 @@ def _bounded(rule: Rule, kind: CheckKind, cols: Columns, idx: np.ndarray, generi
     return out, fails | passes
 
 
-
 def _evaluate_rule(rule: Rule, cols: Columns,
                    idx: np.ndarray) -> tuple[RuleVerdicts, dict[str, np.ndarray]]:
-    """The rule's verdicts on the placements ``idx``: the codes and numbers its messages are
-    built from, and the value, margin and basis columns."""
-    k = len(idx)
+    """The rule's verdicts on the placements ``idx``: the codes its messages are built from,
+    and the value, limit, warn limit, margin and basis (``BASIS`` codes) columns."""
     kind = CHECKS[rule.check]
     value = cols.num(rule.metric)[idx]
-    x = cols.num(rule.fail.over)[idx] if rule.fail.is_curve else None
-    limit = rule.fail.at(x, k)
-    if rule.warn is not None:
-        wx = cols.num(rule.warn.over)[idx] if rule.warn.is_curve else None
-        warn_limit = rule.warn.at(wx, k)
-    else:
-        warn_limit = np.full(k, np.nan)
-
-    missing = {c: np.isnan(cols.num(c)[idx]) for c in rule.needs()}
+    limit, warn_limit = rule_limits(rule, cols, idx)
     # No verdict without the metric, the curve axis or a bounded column; the metric's declared
     # inputs then name the cause. (A metric present with an input absent was computed another
     # way, e.g. the voltage ratio of an AC-rated part from its AC rms voltage.)
-    decisive = [rule.metric, *rule.axes, *rule.applies.columns()]
-    nodata = np.logical_or.reduce([missing[c] for c in decisive])
+    decisive = dict.fromkeys([rule.metric, *rule.axes, *rule.applies.columns()])
+    nodata = np.logical_or.reduce([np.isnan(cols.num(c)[idx]) for c in decisive])
 
-    shown = status_of(kind, value, limit, warn_limit)  # of the value the message shows
-    status = shown.copy()
-    metric_basis = cols.text(f"{rule.metric}_basis")[idx]
-    best_only = metric_basis == BEST_ONLY  # value unknown: only its kindest bound is shown
-    generic = (metric_basis == "generic") | best_only
+    status = status_of(kind, value, limit, warn_limit)  # of the value the message shows
+    best_only = cols.equals(f"{rule.metric}_basis", BEST_ONLY)[idx]  # only its kindest bound
+    generic = _generic(cols, rule.metric, idx) | best_only
     for axis in rule.axes:
-        generic = generic | (cols.text(f"{axis}_basis")[idx] == "generic")
-    basis = np.where(generic, "generic", "firm").astype(object)
-    note = np.zeros(k, dtype=np.int8)
+        generic = generic | _generic(cols, axis, idx)
+    basis = generic.astype(np.int8)  # FIRM or GENERIC
+    note = np.zeros(len(idx), dtype=np.int8)
     if generic.any():
         status, bound = _bounded(rule, kind, cols, idx, generic, status, value, limit,
                                  warn_limit)
-        basis[bound] = "bound"
+        basis[bound] = BOUND
         note[generic] = NOTE_GENERIC
         note[bound & (status == FAIL)] = NOTE_BOUND_FAIL
         note[bound & (status == PASS)] = NOTE_BOUND_PASS
@@ -113,12 +113,14 @@ def _evaluate_rule(rule: Rule, cols: Columns,
     status[capped] = WARN
     note[capped] = NOTE_ADVISORY
     status[nodata] = NODATA
-    basis[nodata] = "missing"
-    margin = np.where(nodata, np.nan, kind.margin(value, limit))
+    basis[nodata] = MISSING
+    margin = kind.margin(value, limit)
+    margin[nodata] = np.nan
     value = np.where(unknown, np.nan, value)
 
-    rv = RuleVerdicts(rule, kind, idx, status, shown, note, limit, warn_limit, missing)
-    return rv, {"value": value, "margin": margin, "basis": basis}
+    rv = RuleVerdicts(rule, kind, idx, status, note)
+    return rv, {"value": value, "limit": limit, "warn_limit": warn_limit, "margin": margin,
+                "basis": basis}
 
 
 def _show_best_only(table: pd.DataFrame) -> pd.DataFrame:
@@ -131,7 +133,7 @@ def _show_best_only(table: pd.DataFrame) -> pd.DataFrame:
         metric = col[: -len("_basis")]
         if metric not in table or f"{metric}_best" not in table:
             continue
-        rows = (table[col] == BEST_ONLY).to_numpy()
+        rows = np.asarray(table[col].to_numpy(dtype=object) == BEST_ONLY, dtype=bool)
         if rows.any():
             if out is table:
                 out = table.copy(deep=False)
@@ -166,49 +168,48 @@ def evaluate_lazily(table: pd.DataFrame, ruleset: RuleSet, *,
         tech_semi=cols.coded_map("technology", lambda t: f"{t}; " if t else "", ""),
     )
     parts: list[tuple[RuleVerdicts, dict[str, np.ndarray]]] = []
+    # placements as 32-bit positions where they fit: the messages keep them for every verdict
+    small = np.int32 if cols.n < 2**31 else np.int64
     for rule in sorted(ruleset.enabled_rules, key=lambda r: r.id):
-        idx = np.flatnonzero(applies_mask(rule.applies, cols))
+        idx = np.flatnonzero(applies_mask(rule.applies, cols)).astype(small)
         if idx.size:
             parts.append(_evaluate_rule(rule, cols, idx))
     messages = Messages(cols, ctx, [rv for rv, _ in parts])
     if not parts:
         return _empty(), messages
-    sizes = [len(rv.idx) for rv, _ in parts]
-    message = np.full(sum(sizes), None, dtype=object)
-    if passes:
-        for (rv, _), start in zip(parts, np.cumsum([0, *sizes[:-1]]).tolist()):
-            message[start:start + len(rv.idx)] = messages.texts(rv, np.arange(len(rv.idx)))
-    return _frame(parts, message, ctx), messages
+    texts = ([np.array(messages.texts(rv, np.arange(len(rv.idx))), dtype=object)
+              for rv, _ in parts] if passes else None)
+    return _frame(parts, texts, ctx), messages
 
 
-def _frame(parts: list[tuple[RuleVerdicts, dict[str, np.ndarray]]], message: np.ndarray,
+def _frame(parts: list[tuple[RuleVerdicts, dict[str, np.ndarray]]], texts: list | None,
            ctx: Context) -> pd.DataFrame:
-    """The verdict table of the rules' verdicts, sorted by placement (then rule id: ``parts``
-    come in rule id order)."""
-    def cat(get) -> np.ndarray:
-        return np.concatenate([get(rv, p) for rv, p in parts])
+    """The verdict table of the rules' verdicts (``texts``: their messages, or None), sorted by
+    placement, then rule id (``parts`` come in rule id order, each by placement: the stable
+    sort merges them). The text columns are taken from codes."""
+    order = np.argsort(np.concatenate([rv.idx for rv, _ in parts]), kind="stable")
 
-    rule_no = np.repeat(np.arange(len(parts)), [len(rv.idx) for rv, _ in parts])
+    def placed(get) -> np.ndarray:
+        return np.concatenate([get(rv, p) for rv, p in parts])[order]
+
+    sizes = [len(rv.idx) for rv, _ in parts]
+    rule_no = np.repeat(np.arange(len(parts), dtype=np.int32), sizes)[order]
+    pidx = placed(lambda rv, p: rv.idx).astype(np.int64)
     rule_ids = np.array([rv.rule.id for rv, _ in parts], dtype=object)
     sources = np.array([rv.rule.source for rv, _ in parts], dtype=object)
-    pidx_all = cat(lambda rv, p: rv.idx)
-    order = np.argsort(pidx_all, kind="stable")
-    pidx = pidx_all[order]
-    rule_no = rule_no[order]
+    message = (np.concatenate(texts)[order] if texts is not None
+               else np.full(len(pidx), None, dtype=object))
     # Object columns stay object: inferring a string dtype for 10^6 messages costs more than
     # the evaluation.
     return pd.DataFrame({
-        "pidx": pidx.astype(np.int64),
+        "pidx": pidx,
         "refdes": _obj(ctx.refdes[pidx]),
         "rule_id": _obj(rule_ids[rule_no]),
-        "status": _obj(_STATUS_TEXT[cat(lambda rv, p: rv.status)[order]]),
-        "value": cat(lambda rv, p: p["value"])[order],
-        "limit": cat(lambda rv, p: rv.limit)[order],
-        "warn_limit": cat(lambda rv, p: rv.warn_limit)[order],
-        "margin": cat(lambda rv, p: p["margin"])[order],
-        "message": _obj(message[order]),
+        "status": _obj(_STATUS_TEXT[placed(lambda rv, p: rv.status)]),
+        **{c: placed(lambda rv, p: p[c]) for c in ("value", "limit", "warn_limit", "margin")},
+        "message": _obj(message),
         "source": _obj(sources[rule_no]),
-        "basis": _obj(cat(lambda rv, p: p["basis"])[order]),
+        "basis": _obj(_BASIS_TEXT[placed(lambda rv, p: p["basis"])]),
     }, copy=False)  # no consolidation: stacking the columns into blocks would copy them all
 
 
@@ -233,6 +234,28 @@ def _float_copy(column: pd.Series) -> np.ndarray:
     return column.to_numpy(dtype=float, copy=True)
 
 
+def _shown_by_rules(verdicts: pd.DataFrame, ruleset: RuleSet, n: int) -> dict[str, np.ndarray]:
+    """Per metric or curve axis, True at the placements a rule of ``ruleset`` on it gave a
+    verdict (``verdicts``: ``pidx`` into a table of ``n`` placements)."""
+    pidx = verdicts["pidx"].to_numpy(dtype=np.int64) if len(verdicts) else np.zeros(0, np.int64)
+    codes, seen = object_codes(verdicts["rule_id"]) if len(verdicts) else (pidx, [])
+    # Per metric, which distinct rule ids show it (the last entry: no rule id); then one look-up
+    # per verdict and metric, not one comparison per rule.
+    code_of = {rule_id: j for j, rule_id in enumerate(list(seen))}
+    shows: dict[str, np.ndarray] = {}
+    for rule in ruleset.rules:
+        j = code_of.get(rule.id)
+        if j is None:
+            continue
+        for name in (rule.metric, *rule.axes):
+            shows.setdefault(name, np.zeros(len(code_of) + 1, dtype=bool))[j] = True
+    shown: dict[str, np.ndarray] = {}
+    for name, of_rule in shows.items():
+        shown[name] = np.zeros(n, dtype=bool)
+        shown[name][pidx[of_rule[codes]]] = True
+    return shown
+
+
 def without_unverdicted(table: pd.DataFrame, verdicts: pd.DataFrame,
                         ruleset: RuleSet) -> pd.DataFrame:
     """The table with every metric a placement has no rule verdict on set to NaN: a stress is
@@ -243,21 +266,7 @@ def without_unverdicted(table: pd.DataFrame, verdicts: pd.DataFrame,
     of ``ruleset`` (the audit's own verdicts) count for nothing.
     """
     n = len(table)
-    pidx = verdicts["pidx"].to_numpy(dtype=np.int64) if len(verdicts) else np.zeros(0, np.int64)
-    ids = verdicts["rule_id"].to_numpy(dtype=object) if len(verdicts) else np.zeros(0, object)
-    codes, seen = pd.factorize(ids)
-    # The verdicts' rows grouped by rule id: one sort, not one comparison per rule.
-    order = np.argsort(codes, kind="stable")
-    bounds = np.searchsorted(codes[order], np.arange(len(seen) + 1))
-    code_of = {rule_id: j for j, rule_id in enumerate(seen.tolist())}
-    shown: dict[str, np.ndarray] = {}
-    for rule in ruleset.rules:
-        j = code_of.get(rule.id)
-        at = pidx[order[bounds[j]:bounds[j + 1]]] if j is not None else pidx[:0]
-        if not at.size:
-            continue
-        for name in (rule.metric, *rule.axes):
-            shown.setdefault(name, np.zeros(n, dtype=bool))[at] = True
+    shown = _shown_by_rules(verdicts, ruleset, n)
 
     # The fields a shown stress's message prints (its operating temperature, its transient
     # peak) are shown with it.

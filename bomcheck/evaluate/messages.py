@@ -11,8 +11,9 @@ import numpy as np
 import pandas as pd
 
 from bomcheck.frozen import frozen
-from bomcheck.evaluate.checks import FAIL, NODATA, PASS, WARN, CheckKind
-from bomcheck.evaluate.columns import Coded, Columns, coded_constant, coded_values, round_sig
+from bomcheck.evaluate.checks import FAIL, NODATA, PASS, WARN, CheckKind, status_of
+from bomcheck.evaluate.columns import (Coded, Columns, coded_constant, coded_values, object_codes,
+                                       round_sig)
 from bomcheck.evaluate.rule_model import Rule, axis_quantity
 from bomcheck.quantity import format_quantity, visible_pair
 from bomcheck.vocabulary import INPUT_LABELS, METRICS
@@ -120,18 +121,38 @@ def _distinct_rows(parts: list[Coded], k: int) -> tuple[np.ndarray, np.ndarray]:
 
 @frozen
 class RuleVerdicts:
-    """One rule's verdicts as codes and numbers: what its messages are built from, when an
-    output prints them (positions in ``idx`` order, ``idx`` the placements, ascending)."""
+    """One rule's verdicts as codes: what its messages are built from, when an output prints
+    them (positions in ``idx`` order, ``idx`` the placements, ascending). The limits, the status
+    of the value shown and the missing inputs are computed again for the verdicts printed
+    (``selected``): kept for every verdict they took about 30 bytes each."""
 
     rule: Rule
     kind: CheckKind
     idx: np.ndarray
     status: np.ndarray  # PASS, WARN, FAIL or NODATA
-    shown: np.ndarray  # status of the value the message shows (before bounds and caps)
     note: np.ndarray  # NOTES code
-    limit: np.ndarray
-    warn_limit: np.ndarray
-    missing: dict[str, np.ndarray]  # per needed column, True where it is missing
+
+
+def rule_limits(rule: Rule, cols: Columns, idx: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """(fail limit, warn limit) of ``rule`` at the placements ``idx``; NaN where none."""
+    k = len(idx)
+    x = cols.num(rule.fail.over)[idx] if rule.fail.is_curve else None
+    limit = rule.fail.at(x, k)
+    if rule.warn is None:
+        return limit, np.full(k, np.nan)
+    wx = cols.num(rule.warn.over)[idx] if rule.warn.is_curve else None
+    return limit, rule.warn.at(wx, k)
+
+
+def shown_status(rule: Rule, kind: CheckKind, cols: Columns, idx: np.ndarray, limit: np.ndarray,
+                 warn_limit: np.ndarray) -> np.ndarray:
+    """The status of the value a message shows (before bounds and caps)."""
+    return status_of(kind, cols.num(rule.metric)[idx], limit, warn_limit)
+
+
+def missing_inputs(rule: Rule, cols: Columns, idx: np.ndarray) -> dict[str, np.ndarray]:
+    """Per column the rule needs, True where it is missing at the placements ``idx``."""
+    return {c: np.isnan(cols.num(c)[idx]) for c in rule.needs()}
 
 
 def bodies_of(rv: RuleVerdicts, sel: np.ndarray, cols: Columns, ctx: Context,
@@ -151,7 +172,7 @@ def bodies_of(rv: RuleVerdicts, sel: np.ndarray, cols: Columns, ctx: Context,
     if nd.any():
         rule, src = rv.rule, rv.rule.source
         codes, labels = _missing_labels(rule.needs(),
-                                        {c: m[sel[nd]] for c, m in rv.missing.items()},
+                                        missing_inputs(rule, cols, rv.idx[sel[nd]]),
                                         int(nd.sum()))
         start = len(bodies)
         bodies.extend(f": no data for {rule.title}: missing {lab}; {src}" for lab in labels)
@@ -168,9 +189,10 @@ def _measured_bodies(rv: RuleVerdicts, ok: np.ndarray, cols: Columns, ctx: Conte
     literals, fields = _template(metric.explain)
     parts = [cols.formatted(name, spec).take(rows) for name, spec in fields]
     parts.append(cols.formatted(rule.metric, metric.unit, metric.percent).take(rows))
-    st = rv.shown[ok]  # the comparison printed is that of the value shown
-    parts.append(_compare(kind, metric, st, rv.warn_limit[ok]))
-    parts.append(coded_values(rv.limit[ok], metric.unit, metric.percent) if rule.fail.is_curve
+    limit, warn_limit = rule_limits(rule, cols, rows)
+    st = shown_status(rule, kind, cols, rows, limit, warn_limit)  # the comparison printed
+    parts.append(_compare(kind, metric, st, warn_limit))
+    parts.append(coded_values(limit, metric.unit, metric.percent) if rule.fail.is_curve
                  else coded_constant(format_quantity(float(rule.fail.value), metric.unit,
                                                      metric.percent), k))
     if rule.axes:
@@ -182,8 +204,7 @@ def _measured_bodies(rv: RuleVerdicts, ok: np.ndarray, cols: Columns, ctx: Conte
         parts.append(ctx.tech_semi.take(rows))
         tail = f"{rule.source})"
     parts.append(_notes(cols, rule.metric, rv.note[ok], rows))
-    _show_violations(parts, len(fields), kind, metric, st, cols.num(rule.metric)[rows],
-                     rv.limit[ok])
+    _show_violations(parts, len(fields), kind, metric, st, cols.num(rule.metric)[rows], limit)
     first, inverse = _distinct_rows(parts, k)
     texts = [np.array(p.lookup, dtype=object)[p.codes[first]].tolist() for p in parts]
     measured = _measured(literals, texts[: len(fields) + 1], rule.metric)
@@ -228,15 +249,18 @@ class Messages:
         """The message of each verdict (placement ``pidx``, rule id); None where this evaluation
         gave no such verdict (the audit's own verdicts carry their messages)."""
         out = np.full(len(pidx), None, dtype=object)
-        codes, ids = pd.factorize(np.asarray(rule_ids, dtype=object))
-        for j, rule_id in enumerate(ids.tolist()):
+        codes, ids = object_codes(np.asarray(rule_ids, dtype=object))
+        for j, rule_id in enumerate(ids):
             rv = self._rules.get(rule_id)
             if rv is None:
                 continue
             at = np.flatnonzero(codes == j)
-            pos = np.searchsorted(rv.idx, pidx[at])
+            # the placements asked for in the type of the rule's own (not those in another
+            # type: a copy per look-up); one past any placement stays past them
+            asked = np.minimum(pidx[at], np.iinfo(rv.idx.dtype).max).astype(rv.idx.dtype)
+            pos = np.searchsorted(rv.idx, asked)
             hit = pos < len(rv.idx)
-            hit[hit] = rv.idx[pos[hit]] == pidx[at][hit]
+            hit[hit] = rv.idx[pos[hit]] == asked[hit]
             if hit.any():
                 out[at[hit]] = self.texts(rv, pos[hit])
         return out
@@ -249,7 +273,7 @@ def _notes(cols: Columns, metric: str, note: np.ndarray, rows: np.ndarray) -> Co
     note = note.astype(np.intp)
     if f"{metric}_note" not in cols.table.columns:
         return Coded(note, list(NOTES))
-    extra = cols.coded_map(f"{metric}_note", lambda t: f" ({t})" if t else "", "").take(rows)
+    extra = cols.coded_map(f"{metric}_note", lambda t: f" ({t})" if t else "", "", rows)
     m = len(extra.lookup)
     codes = note * m + np.where(note == NOTE_GENERIC, extra.codes, m - 1)
     return Coded(codes, [n + x for n in NOTES for x in extra.lookup])
@@ -260,10 +284,11 @@ def _show_violations(parts: list[Coded], at: int, kind: CheckKind, metric, shown
     """Where a failing value and its limit print alike at four digits (70.004 % against 70 %),
     print both with the digits that show the failure: ``parts[at]`` is the value, ``parts[at +
     2]`` the limit. Only the few such verdicts are formatted again."""
-    with np.errstate(invalid="ignore"):
-        rv, rl = round_sig(value), round_sig(limit)
+    failing = np.flatnonzero((shown == FAIL) & np.isfinite(value) & np.isfinite(limit))
+    with np.errstate(invalid="ignore"):  # only the failures are rounded
+        rv, rl = round_sig(value[failing]), round_sig(limit[failing])
         visible = (rv > rl) if kind.name == "max" else (rv < rl)
-    hidden = np.flatnonzero((shown == FAIL) & ~visible & np.isfinite(value) & np.isfinite(limit))
+    hidden = failing[~visible]
     if not hidden.size:
         return
     beyond = operator.gt if kind.name == "max" else operator.lt

@@ -15,7 +15,7 @@ import pandas as pd
 
 from bomcheck import __version__
 from bomcheck.evaluate import engine, rules, sources
-from bomcheck.evaluate.columns import wide_table_edits
+from bomcheck.evaluate.columns import object_codes, wide_table_edits
 from bomcheck.evaluate.waivers import apply_waivers, load_waivers
 from bomcheck.frozen import frozen
 from bomcheck.parse import design as design_mod
@@ -74,16 +74,26 @@ def _families_missing(table: pd.DataFrame, rule_verdicts: pd.DataFrame,
     """Per required check family, the placements no derating rule of that family applies to
     (backstop rules do not count)."""
     family_of = {r.id: r.family for r in ruleset.enabled_rules if not r.backstop}
-    fam = (rule_verdicts["rule_id"].map(family_of).to_numpy(dtype=object) if len(rule_verdicts)
-           else np.array([], dtype=object))
-    pidx = rule_verdicts["pidx"].to_numpy(dtype=np.int64) if len(rule_verdicts) else fam
+    codes, ids = _codes(rule_verdicts, "rule_id")
+    families = [family_of.get(rule_id) for rule_id in ids]
+    pidx = rule_verdicts["pidx"].to_numpy(dtype=np.int64) if len(rule_verdicts) else codes
     out = {}
     for family in REQUIRED_FAMILIES:
+        # per distinct rule id whether it is of the family (the last entry: no rule id)
+        of_family = np.array([f == family for f in families] + [False], dtype=bool)
         covered = np.zeros(len(table), dtype=bool)
-        covered[pidx[fam == family].astype(np.int64)] = True
+        covered[pidx[of_family[codes]]] = True
         if not covered.all():
             out[family] = np.flatnonzero(~covered)
     return out
+
+
+def _codes(verdicts: pd.DataFrame, column: str) -> tuple[np.ndarray, list]:
+    """(code per verdict, distinct values) of a verdict column: each distinct text looked up
+    once, not once per verdict; code -1 for a missing value."""
+    if not len(verdicts):
+        return np.zeros(0, dtype=np.intp), []
+    return object_codes(verdicts[column])
 
 
 def _read_warnings(imported) -> tuple:
@@ -117,20 +127,62 @@ def _audit_verdicts(table: pd.DataFrame, rule_verdicts: pd.DataFrame,
             [f"{r}: no {family} derating rule in force for {t or 'a part of unknown technology'}"
              "; a backstop (within the rating) is not a derating check: give the technology or "
              "add a rule" for r, t in zip(refdes[idx], tech)], "rule sets in force")
-    rows = table["row"].to_numpy()
+    if import_findings:  # each finding's placements looked up, not searched for
+        of_refdes, of_row = _positions_of(refdes), _positions_of(table["row"].to_numpy())
     for f in import_findings:
-        idx = np.flatnonzero(refdes == f.refdes) if f.refdes else np.flatnonzero(rows == f.row)
+        idx = of_refdes(f.refdes) if f.refdes else of_row(f.row)
         if not len(idx) and f.refdes:
-            idx = np.flatnonzero(rows == f.row)
+            idx = of_row(f.row)
         add(idx, BOM_FINDING.format(code=f.code), f.severity,
             [f"{r}: {f.message}" for r in refdes[idx]], "BOM data")
-    frames = [rule_verdicts, *([stage_verdicts] if len(stage_verdicts) else [])]
+    frames = [rule_verdicts, *([_with_basis(stage_verdicts)] if len(stage_verdicts) else [])]
     if len(frames) == 1 and not parts:
         return rule_verdicts
     if parts:  # one frame of the audit's own verdicts (not one per kind)
-        frames.insert(1, _own_frame(parts, refdes))
+        frames.insert(1, _with_basis(_own_frame(parts, refdes)))
     out = pd.concat(frames, ignore_index=True)
-    return out.sort_values(["pidx", "rule_id"], kind="stable").reset_index(drop=True)
+    return out.take(_verdict_order(out)).reset_index(drop=True)
+
+
+def _with_basis(verdicts: pd.DataFrame) -> pd.DataFrame:
+    """Verdicts of the audit or a stage with their basis where they give none: no verdict is
+    missing data, a finding on given data is firm (set on these few rows, not on the whole
+    verdict table)."""
+    basis = (verdicts["basis"].to_numpy(dtype=object) if "basis" in verdicts
+             else np.full(len(verdicts), np.nan, dtype=object))
+    unset = pd.isna(basis)
+    if not unset.any():
+        return verdicts
+    basis = basis.copy()
+    basis[unset] = np.where(verdicts["status"].to_numpy(dtype=object)[unset] == "nodata",
+                            "missing", "firm")
+    return verdicts.assign(basis=pd.Series(basis, index=verdicts.index, dtype=object))
+
+
+def _verdict_order(verdicts: pd.DataFrame) -> np.ndarray:
+    """The rows of a verdict table by placement, then rule id, stable (as ``sort_values(["pidx",
+    "rule_id"], kind="stable")``), sorted on one integer key: each distinct rule id ranked once."""
+    codes, ids = object_codes(verdicts["rule_id"])
+    rank = np.empty(len(ids) + 1, dtype=np.int64)
+    rank[np.argsort(np.array(ids, dtype=object), kind="stable")] = np.arange(len(ids))
+    rank[-1] = len(ids)  # a missing rule id last
+    key = verdicts["pidx"].to_numpy(dtype=np.int64) * (len(ids) + 1) + rank[codes]
+    return np.argsort(key, kind="stable")
+
+
+def _positions_of(values: np.ndarray):
+    """A look-up of the positions (ascending) where ``values`` holds a value: one grouping of
+    the column, then a dictionary look-up per value asked for."""
+    codes, uniques = pd.factorize(values)
+    order = np.argsort(codes, kind="stable")
+    bounds = np.searchsorted(codes[order], np.arange(len(uniques) + 1))
+    group = {u: j for j, u in enumerate(uniques.tolist())}
+    none = order[:0]
+
+    def positions(value) -> np.ndarray:
+        j = group.get(value)
+        return none if j is None else order[bounds[j]:bounds[j + 1]]
+    return positions
 
 
 def _own_frame(parts: list[tuple[np.ndarray, str, str, list[str], str]],
@@ -151,12 +203,14 @@ def _own_frame(parts: list[tuple[np.ndarray, str, str, list[str], str]],
 
 def placement_status(verdicts: pd.DataFrame, n: int) -> np.ndarray:
     """Each placement's status: the worst of its verdicts (STATUS_ORDER); nodata when it has none."""
-    rank = RANK
-    worst = np.full(n, rank["nodata"], dtype=np.int64)
+    worst = np.full(n, RANK["nodata"], dtype=np.int64)
     if len(verdicts):
-        r = verdicts["status"].map(rank).to_numpy(dtype=np.int64)
+        codes, statuses = _codes(verdicts, "status")
+        if (codes < 0).any():
+            raise ValueError("a verdict has no status")
+        r = np.array([RANK[s] for s in statuses], dtype=np.int8)[codes]
         p = verdicts["pidx"].to_numpy(dtype=np.int64)
-        best = np.full(n, -1, dtype=np.int64)
+        best = np.full(n, -1, dtype=np.int8)
         np.maximum.at(best, p, r)
         worst = np.where(best >= 0, best, worst)
     return np.asarray(STATUS_ORDER, dtype=object)[worst]
