@@ -25,6 +25,7 @@ from bomcheck.parse import parts_apply as parts_mod
 from bomcheck.stress import banks, discharge, life, series, surge, thermal
 from bomcheck.stress import placement as stresses
 from bomcheck.stress.circuit_run import CircuitOptions, CircuitRun, finite
+from bomcheck.stress.columns import share_empty
 from bomcheck.stress.series import SERIES_BALANCE  # noqa: F401 (the stage's own verdict id)
 
 # Circuit metrics reported in each placement's JSON ``metrics`` where computed, with the parts
@@ -133,7 +134,7 @@ def _start(table: pd.DataFrame, data: Any, ruleset: Any, groups: dict[str, Any],
                      verdicts=verdicts)
     for name in (*parts_mod.PART_COLUMNS, "dc_bias_keep"):
         if name not in run.columns:
-            run.put(name, np.full(run.n, np.nan))
+            run.put(name, run.num(name))  # the run's one read-only column of NaN
     for name in _RAILS:
         run.put(name, run.num(name))
     return run
@@ -217,6 +218,7 @@ def _finish(run: CircuitRun) -> CircuitResult:
     extra = [v for v in (*run.verdicts, series.balance_verdicts(run, refdes)) if len(v)]
     verdicts = (pd.concat(extra, ignore_index=True) if extra else
                 pd.DataFrame(columns=_VERDICT_COLUMNS))
+    share_empty(run.columns, run.n)  # the columns nothing was computed for keep no memory
     added = set(ADDED_COLUMNS)
     columns = {c: v for c, v in run.columns.items() if c not in added}
     columns.update((c, run.columns[c]) for c in ADDED_COLUMNS if c in run.columns)

@@ -16,7 +16,8 @@ import numpy as np
 import pandas as pd
 
 from bomcheck.frozen import frozen
-from bomcheck.stress.placement import Columns, StressData, as_numbers, as_text
+from bomcheck.stress.columns import Columns, as_numbers, read_only_nan, text_codes
+from bomcheck.stress.placement import StressData
 
 
 @frozen
@@ -96,18 +97,33 @@ class CircuitRun:
         once; never write into it."""
         if name not in self._numbers:
             values = self.columns.get(name)
-            self._numbers[name] = (np.full(self.n, np.nan) if values is None
+            if values is None:  # one shared read-only column of NaN for every absent one
+                self._numbers.setdefault("nan:", read_only_nan(self.n))
+            self._numbers[name] = (self._numbers["nan:"] if values is None
                                    else as_numbers(values))
         return self._numbers[name]
 
-    def text(self, name: str) -> np.ndarray:
-        """A column as text ("" where missing or absent), converted once; never write into it."""
+    def coded(self, name: str) -> tuple[np.ndarray, list[str]]:
+        """A column as (codes, distinct texts) (``placement.text_codes``; "" where absent),
+        converted once."""
         key = f"text:{name}"
         if key not in self._numbers:
             values = self.columns.get(name)
-            self._numbers[key] = (np.full(self.n, "", dtype=object) if values is None
-                                  else as_text(values).astype(object))
+            self._numbers[key] = ((np.full(self.n, -1, dtype=np.intp), [""]) if values is None
+                                  else text_codes(values))
         return self._numbers[key]
+
+    def is_text(self, name: str, values: Iterable[str]) -> np.ndarray:
+        """True where the column's text is one of ``values``."""
+        codes, texts = self.coded(name)
+        wanted = set(values)
+        return np.array([t in wanted for t in texts], dtype=bool)[codes]
+
+    def text(self, name: str, rows: np.ndarray | None = None) -> np.ndarray:
+        """A column as text ("" where missing or absent), of the placements ``rows`` selects (a
+        mask or positions; all without it), one string object per distinct text."""
+        codes, texts = self.coded(name)
+        return np.array(texts, dtype=object)[codes if rows is None else codes[rows]]
 
     def inputs(self, rows: np.ndarray | None = None, **replaced: np.ndarray) -> Columns:
         """The placement stresses' inputs from the run's columns, of the placements where

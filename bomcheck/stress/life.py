@@ -8,6 +8,7 @@ from typing import Any
 import numpy as np
 
 from bomcheck.stress.circuit_run import CircuitRun
+from bomcheck.stress.columns import labels
 
 ALUMINIUM = ("aluminium-electrolytic", "aluminium-polymer")
 
@@ -28,8 +29,7 @@ def electrolytic_life_h(l0_h: Any, t0_c: Any, t_op_c: Any, ripple_rise_c: Any = 
 
 def aluminium(run: CircuitRun) -> np.ndarray:
     """True for the aluminium electrolytic and polymer placements."""
-    return np.isin(run.text("technology"), ALUMINIUM) if "technology" in run.columns else (
-        np.zeros(run.n, dtype=bool))
+    return run.is_text("technology", ALUMINIUM)
 
 
 def metrics(run: CircuitRun) -> None:
@@ -46,7 +46,7 @@ def metrics(run: CircuitRun) -> None:
     run.put("life_est_h", np.asarray(life, dtype=float))
     run.put("life_ratio", np.asarray(life / run.num("life_h"), dtype=float))
     uncertain = run.shared["heat_uncertain"]
-    run.put("life_ratio_basis", np.where(uncertain & alu, "generic", ""))
+    run.put("life_ratio_basis", labels(uncertain & alu, ("", "generic")))
     best = electrolytic_life_h(run.num("life_l0_h"), t0, run.shared["t_best"])
     run.put("life_ratio_best", np.where(uncertain & alu, np.asarray(best, dtype=float)
                                         / run.num("life_h"), np.nan))

@@ -1,0 +1,67 @@
+"""Stress stage: the columns as the stresses read them, by code, against the plain conversions."""
+
+import numpy as np
+import pandas as pd
+import pytest
+
+from bomcheck.stress.columns import (Columns, as_text, labels, read_only_nan, share_empty,
+                                     text_codes)
+
+# Arithmetic of the conversions only: no outside source is needed for any check here.
+MIXED = [
+    pytest.param(["X7R", None, np.nan, "c0g", "X7R"], id="text"),
+    # 1, 1.0 and True are equal as keys of a hash table but print differently.
+    pytest.param([1, True, 1.0, "1", None, 0, False], id="numbers-and-flags"),
+    pytest.param(["ceramic", pd.NA, "", "ceramic"], id="na-and-empty"),
+    pytest.param([], id="empty"),
+]
+
+
+@pytest.mark.parametrize("values", MIXED)
+def test_text_codes_give_the_plain_text_of_every_value(values):
+    array = pd.Series(values, dtype=object)
+    codes, texts = text_codes(array)
+    assert [texts[c] for c in codes] == as_text(array).tolist()
+    assert texts[-1] == ""  # a missing value's code, -1, reads the last text
+
+
+@pytest.mark.parametrize("values", MIXED)
+def test_columns_read_text_flags_and_lookups_by_code(values):
+    table = pd.DataFrame({"c": pd.Series(values, dtype=object)})
+    cols = Columns.of(table)
+    plain = as_text(table["c"]).tolist()
+    assert cols.text("c").tolist() == plain
+    assert cols.is_text("c", "X7R", "1").tolist() == [t in ("X7R", "1") for t in plain]
+    looked = cols.lookup("c", {"X7R": 2.5, "True": 7.0})
+    expected = [{"X7R": 2.5, "True": 7.0}.get(t, np.nan) for t in plain]
+    np.testing.assert_array_equal(looked, np.array(expected, dtype=float))
+    flags = np.array(table["c"].to_numpy(dtype=object), dtype=object)
+    flags[pd.isna(flags)] = False
+    assert cols.flag("c").tolist() == flags.astype(bool).tolist()
+
+
+def test_an_absent_column_is_empty_text_no_flag_and_shared_nan():
+    cols = Columns.of(pd.DataFrame({"c": [1.0, 2.0]}))
+    assert cols.text("absent").tolist() == ["", ""]
+    assert cols.flag("absent").tolist() == [False, False]
+    a, b = cols.num("absent"), cols.num("other")
+    assert a is b and np.isnan(a).all() and not a.flags.writeable
+
+
+def test_labels_share_one_object_per_text():
+    out = labels(np.array([True, False, True]), ("", "generic"))
+    assert out.tolist() == ["generic", "", "generic"] and out[0] is out[2]
+    assert labels(np.array([2, 0, 1]), ("", "part", "generic")).tolist() == ["generic", "", "part"]
+
+
+def test_share_empty_replaces_only_float_columns_nan_throughout():
+    n = 3
+    columns = {"empty": np.full(n, np.nan), "late": np.array([np.nan, np.nan, 1.0]),
+               "text": np.array(["", "", ""], dtype=object), "also": np.full(n, np.nan),
+               "series": pd.Series([np.nan] * n)}
+    late = columns["late"]
+    share_empty(columns, n)
+    assert columns["empty"] is columns["also"] and not columns["empty"].flags.writeable
+    assert columns["late"] is late and isinstance(columns["series"], pd.Series)
+    with pytest.raises(ValueError):
+        read_only_nan(2)[0] = 1.0
