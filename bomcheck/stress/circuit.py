@@ -73,6 +73,8 @@ class CircuitStress:
 def _part_dc_bias(run: CircuitRun) -> None:
     """DC bias from the part's own curve, at the applied voltage (series shares included). Past
     the curve's last point the part data says nothing: the generic curve and its bounds apply."""
+    if run.parts is None or "dc_bias" not in run.parts.curves:
+        return  # no part's own curve: the generic curve and its bounds apply
     applied = stresses.voltages(run.inputs())["applied_peak_v"]
     keep = parts_mod.curve_values(run.frame(("mpn", "capacitance_f")), run.parts, "dc_bias",
                                   pd.Series(applied, index=run.index), beyond=False).to_numpy()

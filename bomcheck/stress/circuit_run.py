@@ -180,10 +180,18 @@ class CircuitRun:
         return self.shared["c_max"]
 
     def group_array(self, name: str, fill: Any = np.nan) -> np.ndarray:
-        """A per-placement array the group stresses fill in (``fill`` outside every group)."""
+        """A per-placement array the group stresses fill in (``fill`` outside every group). Without
+        banks and series stacks nothing fills it: one read-only array per ``fill`` serves all."""
         if name not in self.shared:
             dtype = bool if isinstance(fill, bool) else object if isinstance(fill, str) else float
-            self.shared[name] = np.full(self.n, fill, dtype=dtype)
+            if self.of_kind("bank") or self.of_kind("series"):
+                self.shared[name] = np.full(self.n, fill, dtype=dtype)
+            else:
+                key = f"fill:{fill!r}"
+                if key not in self._numbers:
+                    self._numbers[key] = np.full(self.n, fill, dtype=dtype)
+                    self._numbers[key].flags.writeable = False
+                self.shared[name] = self._numbers[key]
         return self.shared[name]
 
 
