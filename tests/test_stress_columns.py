@@ -4,8 +4,9 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from bomcheck.stress.columns import (Columns, as_text, labels, read_only_nan, share_empty,
-                                     text_codes)
+from bomcheck.stress.columns import (Columns, as_text, by_rows, labels, read_only_nan,
+                                     share_empty, text_codes)
+from bomcheck.stress.placement import StressData, metric_arrays
 
 # Arithmetic of the conversions only: no outside source is needed for any check here.
 MIXED = [
@@ -65,3 +66,31 @@ def test_share_empty_replaces_only_float_columns_nan_throughout():
     assert columns["late"] is late and isinstance(columns["series"], pd.Series)
     with pytest.raises(ValueError):
         read_only_nan(2)[0] = 1.0
+
+
+def test_metrics_worked_a_few_rows_at_a_time_equal_the_whole():
+    # Element-wise arithmetic: the same values whether worked at once or in runs of rows
+    # (arithmetic identity, no outside source needed).
+    rng = np.random.default_rng(7)
+    n = 53
+    pick = lambda *v: np.array(v, dtype=object)[rng.integers(0, len(v), n)]  # noqa: E731
+    table = pd.DataFrame({
+        "technology": pick("ceramic", "aluminium-electrolytic", "tantalum", None),
+        "dielectric": pick("X7R", "C0G", None), "package": pick("0402", "1206", None, "10x12"),
+        "voltage_kind": pick("ac", None, "dc"), "polarized": pick(True, False, None),
+        "dielectric_class": rng.choice([1.0, 2.0, 3.0, np.nan], n),
+        "voltage_v": rng.choice([6.3, 50.0, np.nan], n), "capacitance_f": rng.random(n) * 1e-5,
+        "tol_minus_pct": rng.choice([10.0, np.nan], n), "v_dc": rng.normal(10.0, 8.0, n),
+        "v_ac_rms": rng.choice([np.nan, 1.0], n), "t_ambient_c": rng.choice([25.0, 85.0], n),
+        "life_h": rng.choice([np.nan, 1e4], n), "c_min_f": rng.choice([0.0, 1e-6, np.nan], n),
+        "temp_max_c": rng.choice([np.nan, 105.0], n), "tc_ppm": rng.choice([0.0, np.nan], n),
+    })
+    data = StressData(dc_bias={"default": ((0.0, 1.0), (1.0, 0.5)),
+                               "0402": ((0.0, 1.0), (1.0, 0.2))},
+                      aging_k={"X7R": 2.5, "class2": 2.5}, typical_temp_max_c={"tantalum": 125.0})
+    whole = metric_arrays(Columns.of(table), data)
+    runs = by_rows(lambda cols: metric_arrays(cols, data), Columns.of(table), rows=7)
+    assert list(runs) == list(whole)
+    for name, values in whole.items():
+        assert runs[name].dtype == values.dtype, name
+        np.testing.assert_array_equal(runs[name], values, err_msg=name)

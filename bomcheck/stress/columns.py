@@ -134,11 +134,53 @@ class Columns:
 
     def flag(self, name: str) -> np.ndarray:
         """A True/False column, False where missing or where there is none."""
-        values = self._get(name)
-        if values is None:
-            return np.zeros(self.n, dtype=bool)
-        array = values.to_numpy() if isinstance(values, pd.Series) else np.asarray(values)
-        if array.dtype == bool:
-            return array
-        codes, distinct = pd.factorize(array, use_na_sentinel=True)
-        return np.array([bool(v) for v in distinct.tolist()] + [False], dtype=bool)[codes]
+        key = f"flag:{name}"
+        if key not in self._cache:
+            values = self._get(name)
+            array = (np.zeros(self.n, dtype=bool) if values is None else
+                     values.to_numpy() if isinstance(values, pd.Series) else np.asarray(values))
+            if array.dtype != bool:
+                codes, distinct = pd.factorize(array, use_na_sentinel=True)
+                array = np.array([bool(v) for v in distinct.tolist()] + [False],
+                                 dtype=bool)[codes]
+            self._cache[key] = array
+        return self._cache[key]
+
+    def rows(self, start: int, stop: int) -> Columns:
+        """The placements ``start`` to ``stop`` (each column converted once, for all of them)."""
+        return _Rows(self, slice(start, stop))
+
+
+class _Rows(Columns):
+    """A run of consecutive placements of ``Columns``: slices of its converted columns."""
+
+    def __init__(self, whole: Columns, rows: slice) -> None:
+        super().__init__(whole._get, rows.stop - rows.start)
+        self._whole, self._rows = whole, rows
+
+    def num(self, name: str) -> np.ndarray:
+        return self._whole.num(name)[self._rows]
+
+    def coded(self, name: str) -> tuple[np.ndarray, list[str]]:
+        codes, texts = self._whole.coded(name)
+        return codes[self._rows], texts
+
+    def flag(self, name: str) -> np.ndarray:
+        return self._whole.flag(name)[self._rows]
+
+
+def by_rows(fn: Callable[[Columns], dict[str, np.ndarray]], cols: Columns,
+            rows: int = 1 << 16) -> dict[str, np.ndarray]:
+    """``fn`` (element-wise column arithmetic) of ``cols``, worked ``rows`` placements at a time
+    into the whole columns: its temporaries stay small (in the processor's cache), the values
+    are the same."""
+    if cols.n <= rows:
+        return fn(cols)
+    out: dict[str, np.ndarray] = {}
+    for start in range(0, cols.n, rows):
+        stop = min(start + rows, cols.n)
+        for name, values in fn(cols.rows(start, stop)).items():
+            if name not in out:
+                out[name] = np.empty(cols.n, dtype=values.dtype)
+            out[name][start:stop] = values
+    return out
