@@ -4,8 +4,8 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from bomcheck.stress.columns import (Columns, as_text, by_rows, labels, read_only_nan,
-                                     share_empty, text_codes)
+from bomcheck.stress.columns import (Columns, as_text, by_rows, empty_as, labels,
+                                     read_only_nan, share_empty, text_codes)
 from bomcheck.stress.placement import StressData, metric_arrays
 
 # Arithmetic of the conversions only: no outside source is needed for any check here.
@@ -59,13 +59,15 @@ def test_share_empty_replaces_only_float_columns_nan_throughout():
     n = 3
     columns = {"empty": np.full(n, np.nan), "late": np.array([np.nan, np.nan, 1.0]),
                "text": np.array(["", "", ""], dtype=object), "also": np.full(n, np.nan),
-               "series": pd.Series([np.nan] * n)}
-    late = columns["late"]
-    share_empty(columns, n)
-    assert columns["empty"] is columns["also"] and not columns["empty"].flags.writeable
-    assert columns["late"] is late and isinstance(columns["series"], pd.Series)
+               "series": pd.Series([np.nan] * n), "short": np.full(n - 1, np.nan)}
+    late, short, nan = columns["late"], columns["short"], read_only_nan(n)
+    share_empty(columns, nan)
+    assert columns["empty"] is nan and columns["also"] is nan
+    assert columns["late"] is late and columns["short"] is short
+    assert isinstance(columns["series"], pd.Series) and columns["text"].dtype == object
+    assert empty_as(nan, nan) is nan
     with pytest.raises(ValueError):
-        read_only_nan(2)[0] = 1.0
+        nan[0] = 1.0
 
 
 def test_metrics_worked_a_few_rows_at_a_time_equal_the_whole():

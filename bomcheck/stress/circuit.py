@@ -220,7 +220,7 @@ def _finish(run: CircuitRun) -> CircuitResult:
     extra = [v for v in (*run.verdicts, series.balance_verdicts(run, refdes)) if len(v)]
     verdicts = (pd.concat(extra, ignore_index=True) if extra else
                 pd.DataFrame(columns=_VERDICT_COLUMNS))
-    share_empty(run.columns, run.n)  # the columns nothing was computed for keep no memory
+    share_empty(run.columns, run.nan())  # the columns nothing was computed for keep no memory
     added = set(ADDED_COLUMNS)
     columns = {c: v for c, v in run.columns.items() if c not in added}
     columns.update((c, run.columns[c]) for c in ADDED_COLUMNS if c in run.columns)

@@ -16,7 +16,7 @@ import numpy as np
 import pandas as pd
 
 from bomcheck.frozen import frozen
-from bomcheck.stress.columns import Columns, as_numbers, read_only_nan, text_codes
+from bomcheck.stress.columns import Columns, as_numbers, empty_as, read_only_nan, text_codes
 from bomcheck.stress.placement import StressData
 
 
@@ -97,11 +97,14 @@ class CircuitRun:
         once; never write into it."""
         if name not in self._numbers:
             values = self.columns.get(name)
-            if values is None:  # one shared read-only column of NaN for every absent one
-                self._numbers.setdefault("nan:", read_only_nan(self.n))
-            self._numbers[name] = (self._numbers["nan:"] if values is None
-                                   else as_numbers(values))
+            self._numbers[name] = self.nan() if values is None else as_numbers(values)
         return self._numbers[name]
+
+    def nan(self) -> np.ndarray:
+        """The run's one read-only column of NaN: every absent column, every one NaN throughout."""
+        if "nan:" not in self._numbers:
+            self._numbers["nan:"] = read_only_nan(self.n)
+        return self._numbers["nan:"]
 
     def coded(self, name: str) -> tuple[np.ndarray, list[str]]:
         """A column as (codes, distinct texts) (``placement.text_codes``; "" where absent),
@@ -139,8 +142,9 @@ class CircuitRun:
         return Columns(get, self.n if rows is None else int(np.count_nonzero(rows)))
 
     def put(self, name: str, values: Any) -> None:
-        """Set a column (an existing one keeps its place; a new one goes last)."""
-        self.columns[name] = values
+        """Set a column (an existing one keeps its place; a new one goes last); one NaN
+        throughout is the run's shared one (``nan``), its own memory freed at once."""
+        self.columns[name] = empty_as(values, self.nan())
         self._numbers.pop(name, None)
         self._numbers.pop(f"text:{name}", None)
 

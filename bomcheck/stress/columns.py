@@ -67,17 +67,21 @@ def read_only_nan(n: int) -> np.ndarray:
     return out
 
 
-def share_empty(columns: dict[str, Any], n: int, names: Any = None) -> None:
-    """Every float array of ``columns`` (of ``names``, all without) that is NaN throughout
-    replaced by one shared read-only column: a column nothing was computed for keeps no memory."""
-    nan = None
-    for name in columns if names is None else names:
-        values = columns.get(name)
-        if (isinstance(values, np.ndarray) and values.dtype == np.float64
-                and values.shape == (n,) and n and np.isnan(values[0])
-                and np.isnan(values).all()):
-            nan = read_only_nan(n) if nan is None else nan
-            columns[name] = nan
+def empty_as(values: Any, nan: np.ndarray) -> Any:
+    """``values``, or ``nan`` (a shared read-only column of NaN) where ``values`` is a float
+    array of the same length that is NaN throughout: a column nothing was computed for keeps no
+    memory of its own."""
+    if (values is not nan and isinstance(values, np.ndarray) and values.dtype == np.float64
+            and values.shape == nan.shape and len(nan) and np.isnan(values[0])
+            and np.isnan(values).all()):
+        return nan
+    return values
+
+
+def share_empty(columns: dict[str, Any], nan: np.ndarray) -> None:
+    """Every column of ``columns`` that is NaN throughout replaced by ``nan`` (``empty_as``)."""
+    for name, values in columns.items():
+        columns[name] = empty_as(values, nan)
 
 
 class Columns:
@@ -99,8 +103,8 @@ class Columns:
         """A float column, all-NaN where there is none; never write into it."""
         if name not in self._cache:
             values = self._get(name)
-            if values is None:
-                self._cache.setdefault("nan:", read_only_nan(self.n))
+            if values is None and "nan:" not in self._cache:
+                self._cache["nan:"] = read_only_nan(self.n)
             self._cache[name] = (self._cache["nan:"] if values is None
                                  else as_numbers(values))
         return self._cache[name]

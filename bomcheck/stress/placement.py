@@ -17,7 +17,7 @@ import numpy as np
 import pandas as pd
 
 from bomcheck.frozen import frozen
-from bomcheck.stress.columns import Columns, by_rows, labels, share_empty
+from bomcheck.stress.columns import Columns, by_rows, labels, read_only_nan, share_empty
 # The column conversions, read here by the stage's users and tests as before.
 from bomcheck.stress.columns import as_numbers, as_text, num_column, text_column  # noqa: F401
 
@@ -394,7 +394,7 @@ def metric_arrays(cols: Columns, data: StressData) -> dict[str, np.ndarray]:
 def compute(table: pd.DataFrame, data: StressData) -> pd.DataFrame:
     """The table with every metric column added (see ``bomcheck.vocabulary.METRICS``)."""
     arrays = by_rows(lambda cols: metric_arrays(cols, data), Columns.of(table))
-    share_empty(arrays, len(table))
+    share_empty(arrays, read_only_nan(len(table)))
     # The arrays are the new columns as they are (no copy into one block).
     metrics = pd.DataFrame(arrays, index=table.index, copy=False)
     return pd.concat([table.drop(columns=[c for c in metrics if c in table]), metrics], axis=1)
