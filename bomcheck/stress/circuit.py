@@ -25,7 +25,7 @@ from bomcheck.parse import parts_apply as parts_mod
 from bomcheck.stress import banks, discharge, life, series, surge, thermal
 from bomcheck.stress import placement as stresses
 from bomcheck.stress.circuit_run import CircuitOptions, CircuitRun, finite
-from bomcheck.stress.columns import share_empty
+from bomcheck.stress.columns import by_rows, share_empty
 from bomcheck.stress.series import SERIES_BALANCE  # noqa: F401 (the stage's own verdict id)
 
 # Circuit metrics reported in each placement's JSON ``metrics`` where computed, with the parts
@@ -149,7 +149,8 @@ def _restress(run: CircuitRun) -> None:
     need = _inputs_changed(run, t_rise)
     if not need.any():
         return
-    metrics = stresses.metric_arrays(run.inputs(need, t_rise_c=t_rise[need]), run.data)
+    metrics = by_rows(lambda cols: stresses.metric_arrays(cols, run.data),
+                      run.inputs(need, t_rise_c=t_rise[need]))
     for c, values in metrics.items():
         kind = values.dtype.kind
         if not (kind == "f" or c.endswith(("_basis", "_note"))):
