@@ -3,8 +3,10 @@
 Input is one table of fitted placements (spec columns from the parse stage and condition
 columns from the design sheet); output is the same table with the metric columns of
 ``bomcheck.vocabulary.METRICS`` added, plus the factors behind the worst-case capacitance so
-every one can be reported. The arithmetic runs on the columns' arrays (each converted once) and
-the metric columns are joined to the table once. No I/O, no pint, no per-row Python loops.
+every one can be reported. The arithmetic runs on the columns' arrays (each converted once, a
+text column read by code: ``bomcheck.stress.columns``), 65536 placements at a time so that its
+temporaries stay small, and the metric columns are joined to the table once, without a copy.
+No I/O, no pint, no per-row Python loops.
 """
 
 from __future__ import annotations
