@@ -10,6 +10,7 @@ import numpy as np
 
 from bomcheck.stress.circuit_run import CircuitRun, finite, members
 from bomcheck.stress.discharge import nodes
+from bomcheck.stress.columns import labels
 
 
 def parallel_f(c_f: Sequence[float] | np.ndarray) -> float:
@@ -73,10 +74,10 @@ def metrics(run: CircuitRun) -> None:
                          ("bank_c_margin_worst", low / need)):
         run.put(name, np.asarray(values, dtype=float))
     generic = np.zeros(run.n, dtype=bool)
-    member_generic = (run.text("c_margin_basis") == "generic") if run.summaries else generic
+    member_generic = run.is_text("c_margin_basis", ("generic",)) if run.summaries else generic
     for s in run.summaries:
         generic[s["_pos"]] = member_generic[s["_pos"]].any()
-    run.put("bank_c_margin_basis", np.where(generic & np.isfinite(need), "generic", ""))
+    run.put("bank_c_margin_basis", labels(generic & np.isfinite(need), ("", "generic")))
 
 
 __all__ = ["metrics", "parallel_f", "share_ripple"]

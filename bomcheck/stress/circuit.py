@@ -25,6 +25,7 @@ from bomcheck.parse import parts_apply as parts_mod
 from bomcheck.stress import banks, discharge, life, series, surge, thermal
 from bomcheck.stress import placement as stresses
 from bomcheck.stress.circuit_run import CircuitOptions, CircuitRun, finite
+from bomcheck.stress.columns import by_rows, share_empty
 from bomcheck.stress.series import SERIES_BALANCE  # noqa: F401 (the stage's own verdict id)
 
 # Circuit metrics reported in each placement's JSON ``metrics`` where computed, with the parts
@@ -72,6 +73,8 @@ class CircuitStress:
 def _part_dc_bias(run: CircuitRun) -> None:
     """DC bias from the part's own curve, at the applied voltage (series shares included). Past
     the curve's last point the part data says nothing: the generic curve and its bounds apply."""
+    if run.parts is None or "dc_bias" not in run.parts.curves:
+        return  # no part's own curve: the generic curve and its bounds apply
     applied = stresses.voltages(run.inputs())["applied_peak_v"]
     keep = parts_mod.curve_values(run.frame(("mpn", "capacitance_f")), run.parts, "dc_bias",
                                   pd.Series(applied, index=run.index), beyond=False).to_numpy()
@@ -133,7 +136,7 @@ def _start(table: pd.DataFrame, data: Any, ruleset: Any, groups: dict[str, Any],
                      verdicts=verdicts)
     for name in (*parts_mod.PART_COLUMNS, "dc_bias_keep"):
         if name not in run.columns:
-            run.put(name, np.full(run.n, np.nan))
+            run.put(name, run.num(name))  # the run's one read-only column of NaN
     for name in _RAILS:
         run.put(name, run.num(name))
     return run
@@ -146,7 +149,8 @@ def _restress(run: CircuitRun) -> None:
     need = _inputs_changed(run, t_rise)
     if not need.any():
         return
-    metrics = stresses.metric_arrays(run.inputs(need, t_rise_c=t_rise[need]), run.data)
+    metrics = by_rows(lambda cols: stresses.metric_arrays(cols, run.data),
+                      run.inputs(need, t_rise_c=t_rise[need]))
     for c, values in metrics.items():
         kind = values.dtype.kind
         if not (kind == "f" or c.endswith(("_basis", "_note"))):
@@ -217,6 +221,7 @@ def _finish(run: CircuitRun) -> CircuitResult:
     extra = [v for v in (*run.verdicts, series.balance_verdicts(run, refdes)) if len(v)]
     verdicts = (pd.concat(extra, ignore_index=True) if extra else
                 pd.DataFrame(columns=_VERDICT_COLUMNS))
+    share_empty(run.columns, run.nan())  # the columns nothing was computed for keep no memory
     added = set(ADDED_COLUMNS)
     columns = {c: v for c, v in run.columns.items() if c not in added}
     columns.update((c, run.columns[c]) for c in ADDED_COLUMNS if c in run.columns)

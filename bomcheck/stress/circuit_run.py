@@ -16,7 +16,8 @@ import numpy as np
 import pandas as pd
 
 from bomcheck.frozen import frozen
-from bomcheck.stress.placement import Columns, StressData, as_numbers, as_text
+from bomcheck.stress.columns import Columns, as_numbers, empty_as, read_only_nan, text_codes
+from bomcheck.stress.placement import StressData
 
 
 @frozen
@@ -96,18 +97,36 @@ class CircuitRun:
         once; never write into it."""
         if name not in self._numbers:
             values = self.columns.get(name)
-            self._numbers[name] = (np.full(self.n, np.nan) if values is None
-                                   else as_numbers(values))
+            self._numbers[name] = self.nan() if values is None else as_numbers(values)
         return self._numbers[name]
 
-    def text(self, name: str) -> np.ndarray:
-        """A column as text ("" where missing or absent), converted once; never write into it."""
+    def nan(self) -> np.ndarray:
+        """The run's one read-only column of NaN: every absent column, every one NaN throughout."""
+        if "nan:" not in self._numbers:
+            self._numbers["nan:"] = read_only_nan(self.n)
+        return self._numbers["nan:"]
+
+    def coded(self, name: str) -> tuple[np.ndarray, list[str]]:
+        """A column as (codes, distinct texts) (``placement.text_codes``; "" where absent),
+        converted once."""
         key = f"text:{name}"
         if key not in self._numbers:
             values = self.columns.get(name)
-            self._numbers[key] = (np.full(self.n, "", dtype=object) if values is None
-                                  else as_text(values).astype(object))
+            self._numbers[key] = ((np.full(self.n, -1, dtype=np.intp), [""]) if values is None
+                                  else text_codes(values))
         return self._numbers[key]
+
+    def is_text(self, name: str, values: Iterable[str]) -> np.ndarray:
+        """True where the column's text is one of ``values``."""
+        codes, texts = self.coded(name)
+        wanted = set(values)
+        return np.array([t in wanted for t in texts], dtype=bool)[codes]
+
+    def text(self, name: str, rows: np.ndarray | None = None) -> np.ndarray:
+        """A column as text ("" where missing or absent), of the placements ``rows`` selects (a
+        mask or positions; all without it), one string object per distinct text."""
+        codes, texts = self.coded(name)
+        return np.array(texts, dtype=object)[codes if rows is None else codes[rows]]
 
     def inputs(self, rows: np.ndarray | None = None, **replaced: np.ndarray) -> Columns:
         """The placement stresses' inputs from the run's columns, of the placements where
@@ -123,8 +142,9 @@ class CircuitRun:
         return Columns(get, self.n if rows is None else int(np.count_nonzero(rows)))
 
     def put(self, name: str, values: Any) -> None:
-        """Set a column (an existing one keeps its place; a new one goes last)."""
-        self.columns[name] = values
+        """Set a column (an existing one keeps its place; a new one goes last); one NaN
+        throughout is the run's shared one (``nan``), its own memory freed at once."""
+        self.columns[name] = empty_as(values, self.nan())
         self._numbers.pop(name, None)
         self._numbers.pop(f"text:{name}", None)
 
@@ -164,10 +184,18 @@ class CircuitRun:
         return self.shared["c_max"]
 
     def group_array(self, name: str, fill: Any = np.nan) -> np.ndarray:
-        """A per-placement array the group stresses fill in (``fill`` outside every group)."""
+        """A per-placement array the group stresses fill in (``fill`` outside every group). Without
+        banks and series stacks nothing fills it: one read-only array per ``fill`` serves all."""
         if name not in self.shared:
             dtype = bool if isinstance(fill, bool) else object if isinstance(fill, str) else float
-            self.shared[name] = np.full(self.n, fill, dtype=dtype)
+            if self.of_kind("bank") or self.of_kind("series"):
+                self.shared[name] = np.full(self.n, fill, dtype=dtype)
+            else:
+                key = f"fill:{fill!r}"
+                if key not in self._numbers:
+                    self._numbers[key] = np.full(self.n, fill, dtype=dtype)
+                    self._numbers[key].flags.writeable = False
+                self.shared[name] = self._numbers[key]
         return self.shared[name]
 
 

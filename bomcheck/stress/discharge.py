@@ -77,7 +77,15 @@ def check_bleeders(table: pd.DataFrame, groups: Mapping[str, Any]) -> None:
 
 def nodes(run: CircuitRun) -> dict[str, np.ndarray]:
     """Each placement's node: its stored voltage, the capacitance and the discharge resistance on
-    it (the placement's own, a series stack's; the bank stress sets its banks' nodes)."""
+    it (the placement's own, a series stack's; the bank stress sets its banks' nodes). Without
+    banks and stacks each node is the placement's own: its arrays are the placement's, read-only."""
+    if "nodes" not in run.shared and not (run.of_kind("bank") or run.of_kind("series")):
+        v_stored = np.fmax(run.num("applied_peak_v"), SQRT2 * run.num("v_ac_rms"))
+        v_stored.flags.writeable = False
+        c_max = run.c_max().view()
+        c_max.flags.writeable = False
+        run.shared["nodes"] = {"v_stored": v_stored, "node_v": v_stored, "node_c": c_max,
+                               "r_dis": run.num("r_bleeder_ohm")}
     if "nodes" not in run.shared:
         v_stored = np.fmax(run.num("applied_peak_v"), SQRT2 * run.num("v_ac_rms"))
         node_v, node_c = v_stored.copy(), run.c_max().copy()
@@ -97,13 +105,15 @@ def metrics(run: CircuitRun) -> None:
     """Stored energy, the node's energy (a shock hazard from 100 V) and its discharge times."""
     node = nodes(run)
     c_max, node_v, node_c, r_dis = run.c_max(), node["node_v"], node["node_c"], node["r_dis"]
-    node_energy = energy_j(node_c, node_v)
+    energy = energy_j(c_max, node["v_stored"])
+    # Without banks and stacks the node is the placement's own: the same energy.
+    node_energy = energy if node_v is node["v_stored"] else energy_j(node_c, node_v)
     v_safe = run.num("v_safe_v")
     v_safe = np.where(np.isnan(v_safe), run.opts.safe_voltage_v, v_safe)
     discharge = discharge_time_s(r_dis, node_c, node_v, v_safe)
     for name, values in (
         ("c_max_f", c_max), ("v_stored_v", node["v_stored"]),
-        ("energy_j", energy_j(c_max, node["v_stored"])),
+        ("energy_j", energy),
         ("node_v", node_v), ("node_c_f", node_c), ("node_energy_j", node_energy),
         ("shock_energy_j", np.where(node_v >= SHOCK_VOLTAGE_V, node_energy, np.nan)),
         ("r_discharge_ohm", r_dis), ("v_safe_used_v", v_safe), ("discharge_s", discharge),

@@ -8,6 +8,7 @@ from typing import Any
 import numpy as np
 
 from bomcheck.stress.circuit_run import CircuitRun
+from bomcheck.stress.columns import labels
 
 ALUMINIUM = ("aluminium-electrolytic", "aluminium-polymer")
 
@@ -28,28 +29,38 @@ def electrolytic_life_h(l0_h: Any, t0_c: Any, t_op_c: Any, ripple_rise_c: Any = 
 
 def aluminium(run: CircuitRun) -> np.ndarray:
     """True for the aluminium electrolytic and polymer placements."""
-    return np.isin(run.text("technology"), ALUMINIUM) if "technology" in run.columns else (
-        np.zeros(run.n, dtype=bool))
+    return run.is_text("technology", ALUMINIUM)
 
 
 def metrics(run: CircuitRun) -> None:
     """Estimated life against the required life; generic where the self-heating is uncertain,
-    with the life at no self-heating as its kindest bound."""
+    with the life at no self-heating as its kindest bound. Worked out on the aluminium
+    placements only (NaN elsewhere)."""
     alu = aluminium(run)
-    rated_t = run.num("temp_max_used_c")
-    t0 = np.where(np.isnan(run.num("life_t0_c")), rated_t, run.num("life_t0_c"))
-    rise, governs = run.shared["rise"], run.shared["rise_governs"]
-    life = electrolytic_life_h(run.num("life_l0_h"), t0, run.num("t_operating_c"),
+    rows = np.flatnonzero(alu)
+
+    def of(values: np.ndarray) -> np.ndarray:
+        return values[rows]
+
+    rated_t, t0_given = of(run.num("temp_max_used_c")), of(run.num("life_t0_c"))
+    t0 = np.where(np.isnan(t0_given), rated_t, t0_given)
+    rise, governs = of(run.shared["rise"]), of(run.shared["rise_governs"])
+    l0, life_h = of(run.num("life_l0_h")), of(run.num("life_h"))
+    life = electrolytic_life_h(l0, t0, of(run.num("t_operating_c")),
                                np.where(governs, rise, np.nan),
                                ripple_factor=run.opts.life_ripple_factor)
-    life = np.where(alu, life, np.nan)
-    run.put("life_est_h", np.asarray(life, dtype=float))
-    run.put("life_ratio", np.asarray(life / run.num("life_h"), dtype=float))
-    uncertain = run.shared["heat_uncertain"]
-    run.put("life_ratio_basis", np.where(uncertain & alu, "generic", ""))
-    best = electrolytic_life_h(run.num("life_l0_h"), t0, run.shared["t_best"])
-    run.put("life_ratio_best", np.where(uncertain & alu, np.asarray(best, dtype=float)
-                                        / run.num("life_h"), np.nan))
+    uncertain = of(run.shared["heat_uncertain"])
+    best = np.asarray(electrolytic_life_h(l0, t0, of(run.shared["t_best"])), dtype=float)
+
+    def put(name: str, values: np.ndarray) -> None:
+        out = np.full(run.n, np.nan)
+        out[rows] = values
+        run.put(name, out)
+
+    put("life_est_h", life)
+    put("life_ratio", life / life_h)
+    run.put("life_ratio_basis", labels(run.shared["heat_uncertain"] & alu, ("", "generic")))
+    put("life_ratio_best", np.where(uncertain, best / life_h, np.nan))
 
 
 __all__ = ["ALUMINIUM", "aluminium", "electrolytic_life_h", "metrics"]

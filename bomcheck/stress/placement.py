@@ -3,8 +3,10 @@
 Input is one table of fitted placements (spec columns from the parse stage and condition
 columns from the design sheet); output is the same table with the metric columns of
 ``bomcheck.vocabulary.METRICS`` added, plus the factors behind the worst-case capacitance so
-every one can be reported. The arithmetic runs on the columns' arrays (each converted once) and
-the metric columns are joined to the table once. No I/O, no pint, no per-row Python loops.
+every one can be reported. The arithmetic runs on the columns' arrays (each converted once, a
+text column read by code: ``bomcheck.stress.columns``), 65536 placements at a time so that its
+temporaries stay small, and the metric columns are joined to the table once, without a copy.
+No I/O, no pint, no per-row Python loops.
 """
 
 from __future__ import annotations
@@ -17,6 +19,9 @@ import numpy as np
 import pandas as pd
 
 from bomcheck.frozen import frozen
+from bomcheck.stress.columns import Columns, by_rows, labels, read_only_nan, share_empty
+# The column conversions, read here by the stage's users and tests as before.
+from bomcheck.stress.columns import as_numbers, as_text, num_column, text_column  # noqa: F401
 
 # Capacitance change taken for a class II ceramic whose code is not known: X7R/X5R's +/-15 %
 # (EIA-198 letter R), the common case, marked generic wherever it is used.
@@ -60,81 +65,6 @@ class StressData:
     lowest_temp_max_c: Mapping[str, float] = field(default_factory=dict)
 
 
-def num_column(table: pd.DataFrame, name: str) -> pd.Series:
-    """A float column, all-NaN when the table lacks it."""
-    if name in table.columns:
-        return pd.to_numeric(table[name], errors="coerce").astype(float)
-    return pd.Series(np.nan, index=table.index, dtype=float)
-
-
-def text_column(table: pd.DataFrame, name: str) -> pd.Series:
-    """A text column, "" for missing values and when the table lacks it."""
-    if name in table.columns:
-        return table[name].astype(object).where(table[name].notna(), "").astype(str)
-    return pd.Series("", index=table.index, dtype=object)
-
-
-def as_numbers(values: Any) -> np.ndarray:
-    """A column (Series or array) as a float array, NaN where not a number (``num_column``'s
-    conversion); a float array is returned as is (never write into it)."""
-    array = values.to_numpy() if isinstance(values, pd.Series) else np.asarray(values)
-    if array.dtype == np.float64:
-        return array
-    if array.dtype.kind in "biuf":
-        return array.astype(float)
-    return pd.to_numeric(pd.Series(values), errors="coerce").astype(float).to_numpy()
-
-
-def as_text(values: Any) -> np.ndarray:
-    """A column as a text array, "" where missing (``text_column``'s conversion)."""
-    array = np.array(values.to_numpy(dtype=object) if isinstance(values, pd.Series) else values,
-                     dtype=object)
-    array[pd.isna(array)] = ""
-    return array.astype(str)
-
-
-class Columns:
-    """The placement stresses' inputs by name, each converted to numbers or text once.
-
-    ``get`` returns a column (Series or array) or None where there is none; ``n`` is the number
-    of placements. Built on a table (``Columns.of``) or on the circuit stage's columns."""
-
-    def __init__(self, get: Callable[[str], Any], n: int) -> None:
-        self._get, self.n, self._cache = get, n, {}
-
-    @classmethod
-    def of(cls, table: pd.DataFrame) -> Columns:
-        """The columns of ``table``."""
-        return cls(lambda name: table[name] if name in table.columns else None, len(table))
-
-    def num(self, name: str) -> np.ndarray:
-        """A float column, all-NaN where there is none."""
-        if name not in self._cache:
-            values = self._get(name)
-            self._cache[name] = (np.full(self.n, np.nan) if values is None
-                                 else as_numbers(values))
-        return self._cache[name]
-
-    def text(self, name: str) -> np.ndarray:
-        """A text column, "" where missing or where there is none."""
-        key = f"text:{name}"
-        if key not in self._cache:
-            values = self._get(name)
-            self._cache[key] = (np.full(self.n, "", dtype=object) if values is None
-                                else as_text(values))
-        return self._cache[key]
-
-    def flag(self, name: str) -> np.ndarray:
-        """A True/False column, False where missing or where there is none."""
-        values = self._get(name)
-        if values is None:
-            return np.zeros(self.n, dtype=bool)
-        array = np.array(values.to_numpy(dtype=object) if isinstance(values, pd.Series)
-                         else values, dtype=object)
-        array[pd.isna(array)] = False
-        return array.astype(bool)
-
-
 def _fill(x: np.ndarray, other: Any) -> np.ndarray:
     """``x`` with NaN replaced by ``other``."""
     return np.where(np.isnan(x), other, x)
@@ -153,17 +83,6 @@ def _at_least(x: np.ndarray, low: float) -> np.ndarray:
 def _at_most(x: np.ndarray, high: float) -> np.ndarray:
     """``x`` lowered to ``high`` (NaN stays NaN)."""
     return np.where(np.isnan(x) | (x <= high), x, high)
-
-
-def _lookup(texts: np.ndarray, mapping: Mapping[str, Any]) -> np.ndarray:
-    """The float that ``mapping`` gives each text (NaN where none), looked up once per distinct
-    text."""
-    if not len(texts):
-        return np.full(0, np.nan)
-    # Hashing finds the distinct texts about four times faster than sorting them.
-    codes, distinct = pd.factorize(texts)
-    values = np.array([mapping.get(str(t)) for t in distinct] + [None], dtype=float)
-    return values[codes]
 
 
 # Every column ``compute`` reads: a placement whose values here are unchanged gets the same
@@ -240,20 +159,25 @@ def _class1_loss(tc: np.ndarray, tol: np.ndarray, t_op: np.ndarray) -> np.ndarra
     return _at_least(-np.fmin(low, high), 0.0)
 
 
-def _dc_bias_remaining(ratio: np.ndarray, package: np.ndarray, data: StressData) -> np.ndarray:
-    """Fraction of capacitance left at ``ratio`` = applied / rated, from the generic curves."""
-    out = np.full(len(ratio), np.nan)
-    package = np.char.upper(package.astype(str))
-    keys = np.where(np.isin(package, list(data.dc_bias)), package, "default")
-    for key in np.unique(keys):
-        xs, ys = data.dc_bias.get(str(key), data.dc_bias["default"])
-        mask = keys == key
-        out[mask] = np.interp(ratio[mask], xs, ys)
+def _dc_bias_remaining(ratio: np.ndarray, cols: Columns, data: StressData) -> np.ndarray:
+    """Fraction of capacitance left at ``ratio`` = applied / rated, from the generic curves (the
+    case size's, by the package's text in upper case, else the default one)."""
+    curves = sorted({p.upper() if p.upper() in data.dc_bias else "default"
+                     for p in cols.coded("package")[1]})
+    if len(curves) == 1:  # one curve for every placement: no selection
+        out = np.interp(ratio, *data.dc_bias[curves[0]])
+    else:
+        which = cols.text_map("package", lambda p: curves.index(
+            p.upper() if p.upper() in data.dc_bias else "default"), np.intp)
+        out = np.full(len(ratio), np.nan)
+        for k, key in enumerate(curves):
+            mask = which == k
+            out[mask] = np.interp(ratio[mask], *data.dc_bias[key])
     return _keep(out, ~np.isnan(ratio))
 
 
 def _aging_k(cols: Columns, cls: np.ndarray, data: StressData) -> np.ndarray:
-    by_code = _lookup(cols.text("dielectric"), data.aging_k)
+    by_code = cols.lookup("dielectric", data.aging_k)
     by_class = np.select([cls == 2.0, cls == 3.0, cls == 1.0],
                          [data.aging_k.get("class2", np.nan), data.aging_k.get("class3", np.nan),
                           data.aging_k.get("class1", 0.0)], np.nan).astype(float)
@@ -276,7 +200,7 @@ def _temperature_loss(cols: Columns, t_operating_c: np.ndarray
     change = cols.num("cap_change_minus_pct")
     # A ceramic whose text names no dielectric (or a class II code without its change figure) is
     # taken as class II with the common +/-15 % (X7R/X5R) and marked generic, never as lossless.
-    unnamed = (cols.text("technology") == "ceramic") & np.isnan(cls)
+    unnamed = cols.is_text("technology", "ceramic") & np.isnan(cls)
     class_assumed = unnamed | (((cls == 2.0) | (cls == 3.0)) & np.isnan(change))
     cls = np.where(unnamed, 2.0, cls)
     change = np.where(class_assumed, ASSUMED_CLASS2_CHANGE_PCT, change)
@@ -291,8 +215,7 @@ def _bias_keep(cols: Columns, applied_peak_v: np.ndarray, class23: np.ndarray,
     """(fraction kept under DC bias, the part's own keep, True where the generic curve was used,
     True where the voltage is unknown)."""
     part_keep = cols.num("dc_bias_keep")
-    generic_keep = _dc_bias_remaining(applied_peak_v / cols.num("voltage_v"),
-                                      cols.text("package"), data)
+    generic_keep = _dc_bias_remaining(applied_peak_v / cols.num("voltage_v"), cols, data)
     bias_keep = np.where(class23, _fill(part_keep, generic_keep), 1.0)
     no_part = class23 & np.isnan(part_keep)
     bias_generic = no_part & ~np.isnan(generic_keep) & (generic_keep < 1.0)
@@ -398,20 +321,20 @@ def capacitance_worst_case(cols: Columns, applied_peak_v: np.ndarray, t_operatin
         "c_margin": c_worst / need,
         "c_margin_best": _keep(c_best / need, uncertain),
         "c_margin_worst": _keep(c_worst_bound / need, uncertain),
-        "c_margin_basis": np.where(uncertain, "generic",
-                                   np.where(~np.isnan(part_keep) & class23, "part", "")),
+        "c_margin_basis": labels(np.where(uncertain, 2, ~np.isnan(part_keep) & class23),
+                                 ("", "part", "generic")),
         "c_margin_note": _notes(flags, data),
     }
 
 
 def _by_technology(cols: Columns, ratings: Mapping[str, float]) -> np.ndarray:
     """A per-technology figure (``ceramic-class1``.. keys first for ceramics); NaN where none."""
-    tech = cols.text("technology")
     cls = cols.num("dielectric_class")
     by_class = np.select([cls == float(c) for c in (1, 2, 3)],
                          [ratings.get(f"ceramic-class{c}", np.nan) for c in (1, 2, 3)],
                          np.nan).astype(float)
-    return _fill(_keep(by_class, tech == "ceramic"), _lookup(tech, ratings))
+    return _fill(_keep(by_class, cols.is_text("technology", "ceramic")),
+                 cols.lookup("technology", ratings))
 
 
 def rated_temp_max(cols: Columns, data: StressData) -> tuple[np.ndarray, np.ndarray]:
@@ -427,7 +350,7 @@ def metric_arrays(cols: Columns, data: StressData) -> dict[str, np.ndarray]:
     volts = voltages(cols)
     applied, transient = volts["applied_peak_v"], volts["transient_peak_v"]
     rated = cols.num("voltage_v")
-    is_ac = cols.text("voltage_kind") == "ac"
+    is_ac = cols.is_text("voltage_kind", "ac")
     # An AC rating in rms is a peak of sqrt(2) x rated (common practice): the applied peak, DC
     # included, and a transient are held against it.
     rated_peak = np.where(is_ac, SQRT2 * rated, rated)
@@ -455,13 +378,13 @@ def metric_arrays(cols: Columns, data: StressData) -> dict[str, np.ndarray]:
         "reverse_peak_v": _keep(reverse, polarized),
         "reverse_ratio": _keep(reverse / rated, polarized),
         "reverse_ratio_best": _keep(reverse_best / rated, polarized),
-        "reverse_ratio_basis": np.where(polarized & ~np.isnan(reverse_best), BEST_ONLY, ""),
-        "rated_voltage_v": rated,
+        "reverse_ratio_basis": labels(polarized & ~np.isnan(reverse_best), ("", BEST_ONLY)),
+        "rated_voltage_v": rated.copy(),  # the output's own column, not the input's memory
         "rated_peak_v": rated_peak,
         "t_operating_c": t_operating,
         "temp_max_used_c": temp_max,
         "temp_margin_c": temp_max - t_operating,
-        "temp_margin_c_basis": np.where(temp_assumed, "generic", ""),
+        "temp_margin_c_basis": labels(temp_assumed, ("", "generic")),
         "temp_margin_c_worst": _keep(_by_technology(cols, data.lowest_temp_max_c) - t_operating,
                                      temp_assumed),
         "t_cold_c": t_cold,
@@ -472,5 +395,8 @@ def metric_arrays(cols: Columns, data: StressData) -> dict[str, np.ndarray]:
 
 def compute(table: pd.DataFrame, data: StressData) -> pd.DataFrame:
     """The table with every metric column added (see ``bomcheck.vocabulary.METRICS``)."""
-    metrics = pd.DataFrame(metric_arrays(Columns.of(table), data), index=table.index)
+    arrays = by_rows(lambda cols: metric_arrays(cols, data), Columns.of(table))
+    share_empty(arrays, read_only_nan(len(table)))
+    # The arrays are the new columns as they are (no copy into one block).
+    metrics = pd.DataFrame(arrays, index=table.index, copy=False)
     return pd.concat([table.drop(columns=[c for c in metrics if c in table]), metrics], axis=1)

@@ -12,6 +12,7 @@ import numpy as np
 import pandas as pd
 
 from bomcheck.stress.circuit_run import CircuitRun, finite, members
+from bomcheck.stress.columns import labels
 from bomcheck.stress.surge import surge_current_a
 
 SERIES_BALANCE = "circuit.series-balance"
@@ -159,7 +160,7 @@ def _shares(run: CircuitRun, g: Any, p: np.ndarray, fitted: list[str], upper: fl
     # of IEC 60384-4 as common practice (0.01 C V in uA with C in uF and V in volts, or
     # 3 uA, whichever is greater), gives the worst share; a leakage unknown for another
     # technology has no published worst.
-    unknown = np.isnan(leak) & (run.text("technology")[p] == "aluminium-electrolytic")
+    unknown = np.isnan(leak) & (run.text("technology", p) == "aluminium-electrolytic")
     if has_r and unknown.any():
         leak_limit = np.fmax(0.01 * c * run.num("voltage_v")[p], 3e-6)
         leak_worst = np.where(unknown, leak_limit, leak)
@@ -183,7 +184,7 @@ def metrics(run: CircuitRun) -> None:
     shares, and each stack's capacitance against its need (met by the stack as a whole)."""
     generic = run.group_array("share_generic", False)
     rated = run.num("voltage_v")
-    run.put("voltage_ratio_basis", np.where(generic, "generic", ""))
+    run.put("voltage_ratio_basis", labels(generic, ("", "generic")))
     run.put("voltage_ratio_note", np.where(generic, run.group_array("share_note", ""), ""))
     run.put("voltage_ratio_worst", np.where(generic, run.group_array("share_worst") / rated,
                                             np.nan))

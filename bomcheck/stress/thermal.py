@@ -13,6 +13,7 @@ import pandas as pd
 
 from bomcheck.parse import parts_apply as parts_mod
 from bomcheck.stress.circuit_run import CircuitOptions, CircuitRun
+from bomcheck.stress.columns import labels
 
 _CAN = re.compile(r"^\s*(\d+(?:\.\d+)?)\s*[xX\u00d7*]\s*(\d+(?:\.\d+)?)\s*(?:mm)?\s*$")
 
@@ -57,8 +58,7 @@ def heat(run: CircuitRun) -> None:
     rth_part = ~np.isnan(rth)
     need = ~np.isnan(i_rip) & ~np.isnan(esr) & ~rth_part
     if need.any():
-        package = (pd.Series(run.text("package")[need], index=run.index[need])
-                   if "package" in run.columns else pd.Series("", index=run.index[need]))
+        package = pd.Series(run.text("package", need), index=run.index[need])
         rth[need] = generic_rth(run.opts, package).to_numpy()
     power, rise = ripple_heating(i_rip, esr, rth)
     design_rise = run.num("t_rise_c")
@@ -75,7 +75,7 @@ def metrics(run: CircuitRun) -> None:
     # so the temperature and life verdicts are not firm.
     heat_unknown = ~np.isnan(i_rip) & (i_rip > 0) & np.isnan(rise)
     uncertain = run.shared["rise_generic"] | heat_unknown
-    run.put("t_operating_c_basis", np.where(uncertain, "generic", ""))
+    run.put("t_operating_c_basis", labels(uncertain, ("", "generic")))
     if uncertain.any():
         run.put("temp_margin_c_basis",
                 np.where(uncertain, "generic", run.text("temp_margin_c_basis")))
@@ -111,7 +111,7 @@ def _ripple(run: CircuitRun, i_rip: np.ndarray) -> None:
     run.put("ripple_rise_c", np.asarray(run.shared["rise"], dtype=float))
     run.put("ripple_allowed_a", np.asarray(allowed, dtype=float))
     run.put("ripple_ratio", np.asarray(i_rip / allowed, dtype=float))
-    run.put("ripple_ratio_basis", np.where(assumed, "generic", ""))
+    run.put("ripple_ratio_basis", labels(assumed, ("", "generic")))
 
 
 __all__ = ["can_thermal_resistance", "generic_rth", "heat", "metrics", "ripple_heating"]
