@@ -28,6 +28,7 @@ and checked against the quantity's plausible range and the condition's sign (``C
 from __future__ import annotations
 
 import difflib
+import math
 import re
 from collections.abc import Callable, Mapping
 from dataclasses import dataclass
@@ -304,8 +305,13 @@ Fail = Callable[[int | None, str, UnitError], NoReturn]
 
 
 def text_cells(column: pd.Series | np.ndarray) -> np.ndarray:
-    """Stripped text of a column as an object array ("" for empty), each distinct cell once."""
-    codes, uniques = pd.factorize(np.asarray(column, dtype=object), use_na_sentinel=True)
+    """Stripped text of a column as an object array ("" for empty). A column of text is
+    stripped cell by cell in C (``str.strip`` returns a clean cell itself: cheaper than finding
+    the distinct cells); any other column is factorized and each distinct cell read once."""
+    cells = np.asarray(column, dtype=object)
+    if pd.api.types.infer_dtype(cells, skipna=False) == "string":
+        return np.fromiter(map(str.strip, cells), dtype=object, count=len(cells))
+    codes, uniques = pd.factorize(cells, use_na_sentinel=True)
     stripped = np.array([str(u).strip() for u in uniques] + [""], dtype=object)
     return stripped[codes]  # code -1 (missing) takes the trailing ""
 
@@ -402,12 +408,15 @@ class Labels:
 
 @dataclass(frozen=True, eq=False)
 class Entries:
-    """One item per source row (table) or entry (TOML): its row, text fields, values (one column
-    per CONDITION_COLUMNS) and whether the front end already knows it is a group."""
+    """One item per source row (table) or entry (TOML): its row, text fields, the values of the
+    condition columns it gives (``given``: one column per name of ``columns``, in
+    ``CONDITION_COLUMNS`` order; a condition no entry gives has no column) and whether the front
+    end already knows it is a group."""
 
     rows: np.ndarray
     text: dict[str, np.ndarray]
-    values: np.ndarray
+    given: np.ndarray
+    columns: tuple[str, ...]
     is_group: np.ndarray
 
     @classmethod
@@ -416,9 +425,30 @@ class Entries:
         n = len(rows)
         text = {k: (np.asarray(texts[k], dtype=object) if k in texts
                     else np.full(n, "", dtype=object)) for k in TEXT_FIELDS}
-        vals = np.full((n, len(CONDITION_COLUMNS)), np.nan)  # only given columns are filled
-        for j, k in enumerate(CONDITION_COLUMNS):
-            if k in values:
-                vals[:, j] = values[k]
+        columns = tuple(k for k in CONDITION_COLUMNS if k in values)
+        given = np.empty((n, len(columns)), order="F")  # a contiguous array per column
+        for j, k in enumerate(columns):
+            given[:, j] = values[k]
         flags = np.zeros(n, dtype=bool) if is_group is None else np.asarray(is_group, dtype=bool)
-        return cls(np.asarray(rows, dtype=np.int64), text, vals, flags)
+        return cls(np.asarray(rows, dtype=np.int64), text, given, columns, flags)
+
+    @property
+    def values(self) -> np.ndarray:
+        """Every entry's values with a column per ``CONDITION_COLUMNS`` name (NaN where none)."""
+        out = np.full((len(self.rows), len(CONDITION_COLUMNS)), np.nan)
+        for j, k in enumerate(self.columns):
+            out[:, CONDITION_COLUMNS.index(k)] = self.given[:, j]
+        return out
+
+    def column(self, name: str) -> np.ndarray | None:
+        """The values of one condition column, None when no entry gives it."""
+        return self.given[:, self.columns.index(name)] if name in self.columns else None
+
+    def own(self, i: int) -> dict[str, float]:
+        """The conditions entry ``i`` gives (name -> value)."""
+        return {k: float(v) for k, v in zip(self.columns, self.given[i].tolist())
+                if not math.isnan(v)}
+
+    def has_values(self) -> np.ndarray:
+        """Which entries give any condition."""
+        return ~np.isnan(self.given).all(axis=1)
