@@ -123,18 +123,46 @@ def _designator_rows(e: Entries, rest: np.ndarray, *, path: str,
 
 def _single_designators(cells: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """Which cells hold one designator (``SINGLE``, whole cell) and those designators in upper
-    case. The cells are joined into one text and tested and upper-cased by one pattern pass
-    (a matching line becomes empty), not one call per cell; a cell with a line break in it
-    sends the whole column to the cell-by-cell test."""
+    case. The cells are joined into one text and tested and upper-cased in one pass, not one
+    call per cell: ASCII text by character classes as arrays, other text by one pattern pass (a
+    matching line becomes empty); a cell with a line break in it sends the whole column to the
+    cell-by-cell test."""
     joined = "\n".join(cells.tolist())
     if len(cells) and joined.count("\n") == len(cells) - 1:
-        rest = np.array(_WHOLE_LINE.sub("", joined).split("\n"), dtype=object)
-        single = rest == ""
+        if joined.isascii():
+            single = _single_ascii(joined)
+        else:
+            single = np.array(_WHOLE_LINE.sub("", joined).split("\n"), dtype=object) == ""
+        if single.all():
+            return single, np.array(joined.upper().split("\n"), dtype=object)
         picked = "\n".join(cells[single].tolist()).upper()
         upper = np.array(picked.split("\n") if single.any() else [], dtype=object)
         return single, upper
     single = np.fromiter((bool(_SINGLE_RE.fullmatch(t)) for t in cells), bool, len(cells))
     return single, np.array([t.upper() for t in cells[single]], dtype=object)
+
+
+def _single_ascii(joined: str) -> np.ndarray:
+    """``SINGLE`` (letters or ``_``, digits, at most one letter) tested on every line of an
+    ASCII text at once: a line is one designator when it starts with a letter or ``_``, holds a
+    digit, nothing but letters, ``_`` and digits, and after a digit only one letter, last."""
+    a = np.frombuffer((joined + "\n").encode("ascii"), dtype=np.uint8)
+    ends = np.flatnonzero(a == 10)
+    starts = np.concatenate(([0], ends[:-1] + 1))
+    upper = a & 0xDF  # ASCII letters folded to upper case
+    alpha = (upper >= 65) & (upper <= 90)
+    letter = alpha | (a == 95)
+    digit = (a >= 48) & (a <= 57)
+    bad = ~(letter | digit)
+    bad[ends] = False
+    after_digit = np.zeros(len(a), dtype=bool)
+    after_digit[1:] = digit[:-1]
+    last = np.zeros(len(a), dtype=bool)
+    last[ends - 1] = True  # the last character of a line (the separator of an empty one)
+    bad |= after_digit & ((alpha & ~last) | (a == 95))  # after the digits: one last letter
+    first = letter[starts] & (starts < ends)
+    return (first & np.logical_or.reduceat(digit, starts)
+            & ~np.logical_or.reduceat(bad, starts))
 
 
 def _warn_group_upper_bound(groups: dict[str, Group], warnings: list[InputWarning],
