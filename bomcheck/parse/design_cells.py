@@ -39,8 +39,8 @@ import pandas as pd
 
 from bomcheck.frozen import frozen
 from bomcheck.errors import InputError, UnitError
-from bomcheck.parse.units import (check_plausible, plain_to_si, round_15, to_si,
-                                  unit_factor)
+from bomcheck.parse.units import (check_plausible, plain_to_si, plausible_mask, round_15,
+                                  to_si, unit_factor)
 from bomcheck.vocabulary import CONDITIONS
 
 CONDITION_COLUMNS: tuple[str, ...] = tuple(CONDITIONS)
@@ -334,6 +334,8 @@ def convert(cells: np.ndarray, col: Column, fail: Fail) -> np.ndarray:
     except UnitError as exc:
         fail(None, col.unit or "", exc)
     sign = sign_of(name)
+    if cells.dtype.kind == "f":
+        return _convert_numbers(cells, name, quantity, unit, col.mark, sign)
     codes, uniques = pd.factorize(np.asarray(cells, dtype=object), use_na_sentinel=True)
     texts = [str(u).strip() for u in uniques]
     values = np.full(len(uniques) + 1, np.nan)  # the last slot serves code -1 (missing)
@@ -358,6 +360,29 @@ def convert(cells: np.ndarray, col: Column, fail: Fail) -> np.ndarray:
         except UnitError as exc:
             fail(int(np.argmax(codes == k)), text, exc)
     return values[codes]
+
+
+class NeedsText(Exception):
+    """A column read as numbers holds a value whose error needs the cell's text (not finite,
+    implausible, of the wrong sign): the sheet is read again as text."""
+
+
+def _convert_numbers(cells: np.ndarray, name: str, quantity: str, unit: str, mark: str | None,
+                     sign: str) -> np.ndarray:
+    """``convert`` for a column read as numbers (NaN: an empty cell): the arithmetic of a bare
+    number's text (``to_si``: scale, offset, 15 significant digits; a percentage and a
+    peak-to-peak header as in ``convert``), on each distinct value once."""
+    codes, uniques = pd.factorize(cells, use_na_sentinel=True)
+    scale, offset = unit_factor(unit, quantity)
+    si = round_15(np.asarray(uniques, dtype=float) * scale + offset)
+    percent = name in PERCENT_FIELDS
+    if not plausible_mask(si, quantity, sign, high=1.0 if percent else None).all():
+        raise NeedsText(name)
+    if percent:
+        si = round_15(si * 100.0)
+    elif mark == "pp":
+        si = si * 0.5
+    return np.append(si, np.nan)[codes]  # code -1 (empty) takes the trailing NaN
 
 
 def _check_mark(mark: str | None, name: str, fail: Callable[[str], NoReturn]) -> None:
