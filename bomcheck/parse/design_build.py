@@ -134,7 +134,10 @@ def _single_designators(cells: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
         else:
             single = np.array(_WHOLE_LINE.sub("", joined).split("\n"), dtype=object) == ""
         if single.all():
-            return single, np.array(joined.upper().split("\n"), dtype=object)
+            upper_text = joined.upper()
+            if upper_text == joined:  # upper case already: the cells themselves
+                return single, cells
+            return single, np.array(upper_text.split("\n"), dtype=object)
         picked = "\n".join(cells[single].tolist()).upper()
         upper = np.array(picked.split("\n") if single.any() else [], dtype=object)
         return single, upper

@@ -448,8 +448,9 @@ class Entries:
     def make(cls, rows: np.ndarray, texts: Mapping[str, np.ndarray],
              values: Mapping[str, np.ndarray], is_group: np.ndarray | None = None) -> Entries:
         n = len(rows)
-        text = {k: (np.asarray(texts[k], dtype=object) if k in texts
-                    else np.full(n, "", dtype=object)) for k in TEXT_FIELDS}
+        empty = np.broadcast_to(np.array("", dtype=object), (n,))  # one read-only ""
+        text = {k: np.asarray(texts[k], dtype=object) if k in texts else empty
+                for k in TEXT_FIELDS}
         columns = tuple(k for k in CONDITION_COLUMNS if k in values)
         given = np.empty((n, len(columns)), order="F")  # a contiguous array per column
         for j, k in enumerate(columns):
