@@ -111,3 +111,10 @@ def test_single_designators_by_character_classes_agree_with_the_pattern():
         want = [bool(re.fullmatch(SINGLE, c)) for c in cells]
         assert single.tolist() == want
         assert upper.tolist() == [c.upper() for c, w in zip(cells, want) if w]
+
+
+def test_no_value_words_keep_a_column_read_as_numbers(tmp_path):
+    # "-", "n/a", "NA" give no value, as their text does (design_cells.NO_VALUE).
+    path = _write(tmp_path, "C1,,5,,,-,,,\nC2,,N/A,,,40,,na,\nC3,,\u2013,,,NA,,,\n")
+    design = _same_as_text(path)
+    assert design.conditions["v_dc"].isna().tolist() == [False, True, True]

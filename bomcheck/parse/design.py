@@ -70,6 +70,7 @@ voltages but ``v_reverse_pk``, its ``c_min_f``, ``r_bleeder_ohm``, ``slew_v_per_
 
 from __future__ import annotations
 
+import itertools
 from collections.abc import Sequence
 from dataclasses import replace
 from pathlib import Path
@@ -80,7 +81,7 @@ import pandas as pd
 
 from bomcheck.errors import InputError, UnitError
 from bomcheck.parse.design_build import build
-from bomcheck.parse.design_cells import (ALIASES, CONDITION_COLUMNS, Column, Entries,
+from bomcheck.parse.design_cells import (ALIASES, CONDITION_COLUMNS, NO_VALUE, Column, Entries,
                                          InputWarning, Labels, NeedsText, convert,
                                          is_design_header, parse_header, text_cells,
                                          unknown_column)
@@ -203,7 +204,14 @@ def _read_table_design(path: str, sheet: str | int | None,
     return replace(design, sha256=raw.sha256, format=raw.format, sheet=raw.sheet)
 
 
-def _condition_columns(headers: list[str]) -> list[int]:
-    """The columns of a design sheet's header that give conditions (read as numbers)."""
-    return [i for i, h in enumerate(headers) if parse_header(str(h)).field in CONDITIONS]
+def _condition_columns(headers: list[str]) -> dict[int, list[str]]:
+    """The columns of a design sheet's header that give conditions (read as numbers), each with
+    the cells that give no value there (``NO_VALUE`` in any case)."""
+    return {i: _NO_VALUE_CELLS for i, h in enumerate(headers)
+            if parse_header(str(h)).field in CONDITIONS}
+
+
+# Every spelling whose casefold is in NO_VALUE ("n/a", "N/A", "-"...): read as no value.
+_NO_VALUE_CELLS = sorted({"".join(c) for word in NO_VALUE if word
+                          for c in itertools.product(*({ch, ch.upper()} for ch in word))})
 

@@ -8,7 +8,7 @@ import csv
 import io
 import warnings
 from collections import Counter
-from collections.abc import Callable, Iterable, Sequence
+from collections.abc import Callable, Mapping, Sequence
 from dataclasses import replace
 from typing import TYPE_CHECKING
 
@@ -27,8 +27,9 @@ if TYPE_CHECKING:
 SNIFF_LINES = 60
 DELIMITERS = (",", ";", "\t")
 FORMAT_OF_DELIMITER = {",": "csv", ";": "semicolon", "\t": "tsv"}
-# The columns (by position) a caller reads as numbers, from the header cells.
-NumericColumns = Callable[[list[str]], Iterable[int]]
+# The columns (by position) a caller reads as numbers, from the header cells, each with the
+# cells that mean no value there (besides an empty one).
+NumericColumns = Callable[[list[str]], Mapping[int, Sequence[str]]]
 
 
 def read_text_table(path: str, data: bytes, encoding: str | None, predicate: HeaderPredicate,
@@ -136,7 +137,7 @@ def _read_text(path: str, data: bytes, text: str, encoding: str,
     # Exports written with ", " between cells: skip the spaces in the parser (it costs, so only
     # when the leading lines show it).
     spaced = sum(f"{delim} " in ln for ln in lines[h:]) > (len(lines) - h) // 2
-    numbers = sorted(set(numeric(headers))) if numeric is not None else []
+    numbers = dict(numeric(headers)) if numeric is not None else {}
     frame, rows = _parse_body(text, start, (source, skip, codec), shape, delim, len(headers),
                               header_line, spaced=spaced, path=path, numeric=numbers)
     if shape.longest > lim.cell_chars:
@@ -219,7 +220,8 @@ def _check_cell_sizes(path: str, frame: pd.DataFrame, rows: np.ndarray,
 def _parse_body(text: str, start: int, source: tuple[str | io.BytesIO, int, str],
                 shape: _LineShape, delim: str, width: int, header_line: int, *,
                 spaced: bool, path: str = "",
-                numeric: Sequence[int] = ()) -> tuple[pd.DataFrame, np.ndarray]:
+                numeric: Mapping[int, Sequence[str]] | None = None
+                ) -> tuple[pd.DataFrame, np.ndarray]:
     """Parse the lines from ``text[start:]`` with the pandas C engine, every cell as text;
     ``source`` is (path or UTF-8 stream, lines to skip, codec).
 
@@ -239,7 +241,7 @@ def _parse_body(text: str, start: int, source: tuple[str | io.BytesIO, int, str]
         if frame is None and isinstance(source[0], io.BytesIO):
             source[0].seek(at)
     if frame is None:  # a cell of a numeric column is not a plain number: all as text
-        frame = _read_c(source, delim, width, spaced, ())
+        frame = _read_c(source, delim, width, spaced, {})
     if frame is not None and len(frame) == shape.count and not shape.lone_cr:
         rows = np.arange(header_line + 1, header_line + 1 + len(frame), dtype=np.int64)
         return frame, rows
@@ -247,13 +249,13 @@ def _parse_body(text: str, start: int, source: tuple[str | io.BytesIO, int, str]
 
 
 def _read_c(source: tuple[str | io.BytesIO, int, str], delim: str, width: int, spaced: bool,
-            numeric: Sequence[int]) -> pd.DataFrame | None:
+            numeric: Mapping[int, Sequence[str]]) -> pd.DataFrame | None:
     """The body by the pandas C engine, every cell as text but the ``numeric`` columns as
-    floats (an empty cell NaN); None when the engine cannot read it so (a cell it cannot
-    convert, a record it cannot split)."""
+    floats (an empty cell, or one of the column's no-value cells, NaN); None when the engine
+    cannot read it so (a cell it cannot convert, a record it cannot split)."""
     import pandas as pd
 
-    numbers = {i: [""] for i in numeric}
+    numbers = {i: ["", *words] for i, words in numeric.items()}
     types = {i: (np.float64 if i in numbers else object) for i in range(width)}
     try:
         with warnings.catch_warnings():
