@@ -70,6 +70,7 @@ voltages but ``v_reverse_pk``, its ``c_min_f``, ``r_bleeder_ohm``, ``slew_v_per_
 
 from __future__ import annotations
 
+import itertools
 from collections.abc import Sequence
 from dataclasses import replace
 from pathlib import Path
@@ -80,12 +81,13 @@ import pandas as pd
 
 from bomcheck.errors import InputError, UnitError
 from bomcheck.parse.design_build import build
-from bomcheck.parse.design_cells import (ALIASES, CONDITION_COLUMNS, Column, Entries,
-                                         InputWarning, Labels, convert, is_design_header,
-                                         parse_header, text_cells, unknown_column)
+from bomcheck.parse.design_cells import (ALIASES, CONDITION_COLUMNS, NO_VALUE, Column, Entries,
+                                         InputWarning, Labels, NeedsText, convert,
+                                         is_design_header, parse_header, text_cells,
+                                         unknown_column)
 from bomcheck.parse.design_model import GROUP_KINDS, SOURCES, Design, Group
 from bomcheck.parse.design_toml import entries_from_toml
-from bomcheck.read.reader import read_input, read_input_table, toml_text
+from bomcheck.read.reader import NumericColumns, read_input, read_input_table, toml_text
 from bomcheck.vocabulary import CONDITIONS
 
 __all__ = ["ALIASES", "CONDITION_COLUMNS", "GROUP_KINDS", "SOURCES", "Design", "Group",
@@ -126,7 +128,9 @@ def design_from_table(frame: pd.DataFrame, rows: Sequence[int] | np.ndarray | No
                              row=header_row if at is None else int(src[at]),
                              column=col.header, text=text, expected=exc.expected) from None
 
-        values[col.field] = convert(frame.iloc[:, pos].to_numpy(dtype=object), col, fail)
+        cells = frame.iloc[:, pos]
+        values[col.field] = convert(cells.to_numpy() if cells.dtype.kind == "f"
+                                    else cells.to_numpy(dtype=object), col, fail)
     labels = Labels(**{k: taken.get(k, k) for k in ("refdes", "members", "group", "kind")})
     return build(Entries.make(src, texts, values), path=path, labels=labels,
                  warnings=warnings)
@@ -182,10 +186,32 @@ def read_design(path: str, *, sheet: str | int | None = None) -> Design:
             InputWarning(str(path), None, None, "a TOML design has no sheets; --sheet ignored"),)
         return replace(design, sha256=sha256, format="toml",
                        warnings=design.warnings + extra)
+    # The condition columns are read as numbers; a sheet whose cells need their text (units,
+    # marks, words, an implausible value to name) is read again as text.
+    try:
+        return _read_table_design(str(path), sheet, _condition_columns)
+    except NeedsText:
+        return _read_table_design(str(path), sheet, None)
+
+
+def _read_table_design(path: str, sheet: str | int | None,
+                       numeric: NumericColumns | None) -> Design:
     raw = read_input_table(
-        str(path), sheet=sheet, header_predicate=is_design_header, what="design-sheet",
+        path, sheet=sheet, header_predicate=is_design_header, what="design-sheet",
         expected="a header row with a designator (refdes) or group column and a value column "
-                 "such as v_dc, t_ambient_c or members")
-    design = design_from_table(raw.frame, raw.rows, path=str(path), header_row=raw.header_row)
+                 "such as v_dc, t_ambient_c or members", numeric=numeric)
+    design = design_from_table(raw.frame, raw.rows, path=path, header_row=raw.header_row)
     return replace(design, sha256=raw.sha256, format=raw.format, sheet=raw.sheet)
+
+
+def _condition_columns(headers: list[str]) -> dict[int, list[str]]:
+    """The columns of a design sheet's header that give conditions (read as numbers), each with
+    the cells that give no value there (``NO_VALUE`` in any case)."""
+    return {i: _NO_VALUE_CELLS for i, h in enumerate(headers)
+            if parse_header(str(h)).field in CONDITIONS}
+
+
+# Every spelling whose casefold is in NO_VALUE ("n/a", "N/A", "-"...): read as no value.
+_NO_VALUE_CELLS = sorted({"".join(c) for word in NO_VALUE if word
+                          for c in itertools.product(*({ch, ch.upper()} for ch in word))})
 

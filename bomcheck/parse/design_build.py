@@ -16,7 +16,7 @@ from bomcheck.errors import InputError
 from bomcheck.parse.design_cells import (CONDITION_COLUMNS, SINGLE, Entries, InputWarning,
                                          Labels)
 from bomcheck.parse.design_model import (GROUP_KINDS, RAIL_COLUMNS, Design, Group,
-                                         merge_levels)
+                                         merge_levels, text_column)
 from bomcheck.parse.refdes import expand, is_designator
 
 # Group values that describe the group as a whole, kept off its members (see
@@ -41,8 +41,8 @@ def build(e: Entries, *, path: str, labels: Labels, warnings: list[InputWarning]
     defaults, defaults_row = _defaults(e, is_default, path=path, labels=labels)
     group_name, is_group_row = _group_rows(e, is_default)
     rest = ~is_default & ~is_group_row & (target != "")
-    d = _designator_rows(e, rest, path=path, labels=labels)
-    has_values = ~np.isnan(e.values).all(axis=1)
+    d, d_index = _designator_rows(e, rest, path=path, labels=labels)
+    has_values = e.has_values()
     nowhere = ~is_default & ~is_group_row & (target == "") & has_values
     if nowhere.any():
         i = int(np.flatnonzero(nowhere)[0])
@@ -57,12 +57,12 @@ def build(e: Entries, *, path: str, labels: Labels, warnings: list[InputWarning]
                          expected="an empty cell, or a group row")
     groups, membership = _groups(e, is_group_row, group_name, d, path=path, labels=labels,
                                  warnings=warnings)
-    conditions = _conditions(e, d, groups, membership, warnings, path)
+    conditions = _conditions(e, (d, d_index), groups, membership, warnings, path)
     _warn_upper_bound(conditions, warnings, path)
     _warn_group_upper_bound(groups, warnings, path)
     _warn_coldest(conditions, warnings, path)
     _warn_small_tolerance(e, warnings, path)
-    return Design(path=path, sha256="", conditions=conditions, defaults=defaults,
+    return Design(path=path, sha256="", table=conditions, defaults=defaults,
                   groups=groups, warnings=tuple(warnings), defaults_row=defaults_row)
 
 
@@ -76,14 +76,17 @@ def _group_rows(e: Entries, is_default: np.ndarray) -> tuple[np.ndarray, np.ndar
     names = set(group_name[defines | e.is_group]) | set(group[group != ""])
     names.discard("")
     is_group_row = defines | e.is_group | ((target == "") & (group != ""))
-    is_group_row |= pd.Index(target).isin(list(names)) & ~is_default
+    if names:
+        is_group_row |= pd.Index(target, dtype=object, copy=False).isin(list(names)) & ~is_default
     return group_name, is_group_row
 
 
-def _designator_rows(e: Entries, rest: np.ndarray, *, path: str, labels: Labels) -> pd.DataFrame:
+def _designator_rows(e: Entries, rest: np.ndarray, *, path: str,
+                     labels: Labels) -> tuple[pd.DataFrame, pd.Index]:
     """One row per designator a designator row names (``refdes``, ``pos`` of the entry), in
-    source order: a single designator by one pattern test per cell, a list or range expanded;
-    a designator named by two rows is an error naming both."""
+    source order, and those designators as an index (its hash table built by the uniqueness
+    test, for the joins after): a single designator by one pattern test per cell, a list or
+    range expanded; a designator named by two rows is an error naming both."""
     target, rows = e.text["refdes"], e.rows
     pos_rest = np.flatnonzero(rest)
     single, upper = _single_designators(target[pos_rest])
@@ -100,33 +103,69 @@ def _designator_rows(e: Entries, rest: np.ndarray, *, path: str, labels: Labels)
                                       "a row with members")
         d_ref.append(np.array([x.upper() for x in items], dtype=object))
         d_pos.append(np.full(len(items), i))
-    d = pd.DataFrame({"refdes": pd.Series(np.concatenate(d_ref), dtype=object),
-                      "pos": np.concatenate(d_pos).astype(np.int64)})
-    d = d.sort_values("pos", kind="stable", ignore_index=True)  # source order
-    dup = d["refdes"].duplicated(keep=False).to_numpy()
-    if dup.any():
-        first = d["refdes"].to_numpy()[dup][0]
-        at = rows[d["pos"].to_numpy()[d["refdes"].to_numpy() == first][:2]]
+    ref = np.concatenate(d_ref) if len(d_ref) > 1 else upper
+    pos = np.concatenate(d_pos).astype(np.int64)
+    if len(d_ref) > 1:  # lists and ranges were appended: back to source order
+        order = np.argsort(pos, kind="stable")
+        ref, pos = ref[order], pos[order]
+    index = pd.Index(ref, dtype=object, name="refdes", copy=False)
+    d = pd.DataFrame({"refdes": pd.Series(ref, dtype=object, copy=False), "pos": pos},
+                     copy=False)
+    if not index.is_unique:
+        dup = d["refdes"].duplicated(keep=False).to_numpy()
+        first = ref[dup][0]
+        at = rows[pos[ref == first][:2]]
         _error_rows(path, first, at, column=labels.refdes, text=first,
                     expected="each designator in one designator row (a group may also name "
                              "it: the designator row wins)")
-    return d
+    return d, index
 
 
 def _single_designators(cells: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """Which cells hold one designator (``SINGLE``, whole cell) and those designators in upper
-    case. The cells are joined into one text and tested and upper-cased by one pattern pass
-    (a matching line becomes empty), not one call per cell; a cell with a line break in it
-    sends the whole column to the cell-by-cell test."""
+    case. The cells are joined into one text and tested and upper-cased in one pass, not one
+    call per cell: ASCII text by character classes as arrays, other text by one pattern pass (a
+    matching line becomes empty); a cell with a line break in it sends the whole column to the
+    cell-by-cell test."""
     joined = "\n".join(cells.tolist())
     if len(cells) and joined.count("\n") == len(cells) - 1:
-        rest = np.array(_WHOLE_LINE.sub("", joined).split("\n"), dtype=object)
-        single = rest == ""
+        if joined.isascii():
+            single = _single_ascii(joined)
+        else:
+            single = np.array(_WHOLE_LINE.sub("", joined).split("\n"), dtype=object) == ""
+        if single.all():
+            upper_text = joined.upper()
+            if upper_text == joined:  # upper case already: the cells themselves
+                return single, cells
+            return single, np.array(upper_text.split("\n"), dtype=object)
         picked = "\n".join(cells[single].tolist()).upper()
         upper = np.array(picked.split("\n") if single.any() else [], dtype=object)
         return single, upper
     single = np.fromiter((bool(_SINGLE_RE.fullmatch(t)) for t in cells), bool, len(cells))
     return single, np.array([t.upper() for t in cells[single]], dtype=object)
+
+
+def _single_ascii(joined: str) -> np.ndarray:
+    """``SINGLE`` (letters or ``_``, digits, at most one letter) tested on every line of an
+    ASCII text at once: a line is one designator when it starts with a letter or ``_``, holds a
+    digit, nothing but letters, ``_`` and digits, and after a digit only one letter, last."""
+    a = np.frombuffer((joined + "\n").encode("ascii"), dtype=np.uint8)
+    ends = np.flatnonzero(a == 10)
+    starts = np.concatenate(([0], ends[:-1] + 1))
+    upper = a & 0xDF  # ASCII letters folded to upper case
+    alpha = (upper >= 65) & (upper <= 90)
+    letter = alpha | (a == 95)
+    digit = (a >= 48) & (a <= 57)
+    bad = ~(letter | digit)
+    bad[ends] = False
+    after_digit = np.zeros(len(a), dtype=bool)
+    after_digit[1:] = digit[:-1]
+    last = np.zeros(len(a), dtype=bool)
+    last[ends - 1] = True  # the last character of a line (the separator of an empty one)
+    bad |= after_digit & ((alpha & ~last) | (a == 95))  # after the digits: one last letter
+    first = letter[starts] & (starts < ends)
+    return (first & np.logical_or.reduceat(digit, starts)
+            & ~np.logical_or.reduceat(bad, starts))
 
 
 def _warn_group_upper_bound(groups: dict[str, Group], warnings: list[InputWarning],
@@ -172,8 +211,7 @@ def _defaults(e: Entries, is_default: np.ndarray, *, path: str,
             raise InputError("the defaults row cannot have this field", path=path,
                              row=int(e.rows[i]), column=getattr(labels, col),
                              text=e.text[col][i], expected="an empty cell")
-    values = {k: float(v) for k, v in zip(CONDITION_COLUMNS, e.values[i]) if not np.isnan(v)}
-    return values, int(e.rows[i])
+    return e.own(i), int(e.rows[i])
 
 
 def _groups(e: Entries, is_group_row: np.ndarray, group_name: np.ndarray, d: pd.DataFrame, *,
@@ -273,44 +311,53 @@ def _make_group(e: Entries, name: str, members: tuple[str, ...], i: int | None,
         raise InputError("unknown group kind", path=path, row=int(e.rows[i]),
                          column=labels.kind, text=e.text["kind"][i],
                          expected="one of " + ", ".join(GROUP_KINDS))
-    own = {k: float(v) for k, v in zip(CONDITION_COLUMNS, e.values[i]) if not np.isnan(v)}
+    own = e.own(i)
     return Group(name, members, int(e.rows[i]), kind, MappingProxyType(own), e.text["notes"][i])
 
 
-def _conditions(e: Entries, d: pd.DataFrame, groups: dict[str, Group],
+def _conditions(e: Entries, designated: tuple[pd.DataFrame, pd.Index], groups: dict[str, Group],
                 membership: pd.DataFrame, warnings: list[InputWarning],
                 path: str) -> pd.DataFrame:
     """Per-designator table: designator rows over group rows, field by field (a designator
     row that overrides a value its group gives is a warning naming both rows). A member of a
     bank or series stack whose group gives c_min_f has no need of its own: the group meets it
     (``bank_c_margin``), so the member's c_min_f is "none" unless its own row gives one."""
-    index = pd.Index(pd.concat([d["refdes"], membership["refdes"]]).drop_duplicates(),
-                     dtype=object, name="refdes")
+    d, index = designated
+    at_d = np.arange(len(d))
+    at_m = index.get_indexer(pd.Index(membership["refdes"].to_numpy(), dtype=object))
+    new = at_m < 0  # members that no designator row names: after them, in membership order
+    if new.any():
+        at_m[new] = len(index) + np.arange(int(new.sum()))
+        index = index.append(pd.Index(membership["refdes"].to_numpy()[new], dtype=object))
+        index = index.rename("refdes")
     n = len(index)
-    names = active_columns(~np.isnan(e.values).all(axis=0))
-    cols = [CONDITION_COLUMNS.index(c) for c in names]
+    given = dict(zip(e.columns, (~np.isnan(e.given).all(axis=0)).tolist()))
+    names = active_columns(np.array([given.get(c, False) for c in CONDITION_COLUMNS]))
     d_pos = d["pos"].to_numpy()
-    at_d = index.get_indexer(d["refdes"])
-    specific = np.full((n, len(cols)), np.nan)
-    specific[at_d] = e.values[np.ix_(d_pos, cols)]
-    g_values = np.full((len(groups), len(cols)), np.nan)
+    specific = np.full((n, len(names)), np.nan, order="F")  # designator rows first (at_d)
+    for j, name in enumerate(names):
+        values = e.column(name)
+        if values is not None:
+            specific[:len(d_pos), j] = values[d_pos]
+    g_values = np.full((len(groups), len(names)), np.nan)
     for j, g in enumerate(groups.values()):
         for c, col in enumerate(names):
             if col in g.conditions and col not in _GROUP_ONLY[g.kind]:
                 g_values[j, c] = g.conditions[col]
     g_at = pd.Index(list(groups), dtype=object).get_indexer(membership["group"])
-    at_m = index.get_indexer(membership["refdes"])
-    general = np.full((n, len(cols)), np.nan)
-    general[at_m] = g_values[g_at]
-    _warn_overrides(specific, general, names, index, d, e, groups, membership, warnings, path)
-    shared = np.array([g.kind in _SHARED_NEED and "c_min_f" in g.conditions
-                       for g in groups.values()], dtype=bool)
-    if "c_min_f" in names:  # a shared need is always given, so its column is active
-        general[at_m[shared[g_at]], names.index("c_min_f")] = 0.0
+    general = None
+    if len(at_m):  # no group has members: no group level
+        general = np.full((n, len(names)), np.nan, order="F")
+        general[at_m] = g_values[g_at]
+        _warn_overrides(specific, general, names, index, d, e, groups, membership, warnings,
+                        path)
+        shared = np.array([g.kind in _SHARED_NEED and "c_min_f" in g.conditions
+                           for g in groups.values()], dtype=bool)
+        if "c_min_f" in names:  # a shared need is always given, so its column is active
+            general[at_m[shared[g_at]], names.index("c_min_f")] = 0.0
     merged = merge_levels(specific, general, names)
-    del specific, general
-    return _conditions_table(e, index, merged, cols, (d_pos, at_d),
-                             (membership, at_m, g_at), groups)
+    del general
+    return _conditions_table(e, index, merged, names, (d_pos, at_d), (at_m, g_at), groups)
 
 
 def active_columns(given: np.ndarray) -> list[str]:
@@ -320,13 +367,13 @@ def active_columns(given: np.ndarray) -> list[str]:
     return [c for c, g in zip(CONDITION_COLUMNS, given) if g or c in RAIL_COLUMNS]
 
 
-def _conditions_table(e: Entries, index: pd.Index, merged: np.ndarray, cols: list[int],
+def _conditions_table(e: Entries, index: pd.Index, merged: np.ndarray, names: list[str],
                       designators: tuple[np.ndarray, np.ndarray],
-                      members: tuple[pd.DataFrame, np.ndarray, np.ndarray],
+                      members: tuple[np.ndarray, np.ndarray],
                       groups: dict[str, Group]) -> pd.DataFrame:
-    """The per-designator table in design-sheet order: every condition column (NaN where not
-    active), notes, group, the design row and the source of the values."""
-    (d_pos, at_d), (membership, at_m, g_at) = designators, members
+    """The per-designator table (``Design.table``) in design-sheet order: the active condition
+    columns, the design row, and notes, group and source of the values as categoricals."""
+    (d_pos, at_d), (at_m, g_at) = designators, members
     n = len(index)
     g_rows = np.array([g.row for g in groups.values()], dtype=np.int64)
     g_notes = np.array([g.notes for g in groups.values()], dtype=object)
@@ -335,21 +382,24 @@ def _conditions_table(e: Entries, index: pd.Index, merged: np.ndarray, cols: lis
     d_notes = e.text["notes"][d_pos]
     keep = d_notes != ""
     notes[at_d[keep]] = d_notes[keep]
-    group_col = np.full(n, None, dtype=object)
-    group_col[at_m] = membership["group"].to_numpy()
+    group_codes = np.full(n, -1, dtype=np.int32)
+    group_codes[at_m] = g_at
     design_row = np.zeros(n, dtype=np.int64)
     design_row[at_m] = g_rows[g_at]
     design_row[at_d] = e.rows[d_pos]
-    source = np.full(n, "group", dtype=object)
-    source[at_d] = "row"
-    order = np.argsort(design_row, kind="stable")
-    values = np.full((n, len(CONDITION_COLUMNS)), np.nan)
-    values[:, cols] = merged[order]
-    out = pd.DataFrame(values, index=index[order], columns=list(CONDITION_COLUMNS), copy=False)
-    out["notes"] = pd.Series(notes[order], index=out.index, dtype=object)
-    out["group"] = pd.Series(group_col[order], index=out.index, dtype=object)  # None, not NaN
-    out["design_row"] = design_row[order]
-    out["condition_source"] = pd.Series(source[order], index=out.index, dtype=object)
+    source_codes = np.zeros(n, dtype=np.int8)  # "group"
+    source_codes[at_d] = 1  # "row"
+    if n and (np.diff(design_row) < 0).any():  # members after the rows that name them
+        order = np.argsort(design_row, kind="stable")
+        index, merged, notes = index[order], merged[order], notes[order]
+        design_row, group_codes, source_codes = (design_row[order], group_codes[order],
+                                                 source_codes[order])
+    out = pd.DataFrame(merged, index=index, columns=names, copy=False)
+    out["design_row"] = design_row
+    out["notes"] = text_column(notes)
+    out["group"] = pd.Categorical.from_codes(group_codes, pd.Index(list(groups), dtype=object))
+    out["condition_source"] = pd.Categorical.from_codes(
+        source_codes, pd.Index(["group", "row"], dtype=object))
     return out
 
 
@@ -385,6 +435,8 @@ def _warn_overrides(specific: np.ndarray, general: np.ndarray, names: list[str],
 def _warn_coldest(conditions: pd.DataFrame, warnings: list[InputWarning], path: str) -> None:
     """t_ambient_min_c above t_ambient_c contradicts itself: warn naming the row (the stress
     stage takes the lower of the two as the coldest)."""
+    if "t_ambient_min_c" not in conditions or "t_ambient_c" not in conditions:
+        return
     high = (conditions["t_ambient_min_c"] > conditions["t_ambient_c"]).to_numpy()
     if high.any():
         first = int(np.argmax(high))
@@ -409,7 +461,9 @@ def _warn_upper_bound(conditions: pd.DataFrame, warnings: list[InputWarning], pa
 
 def _warn_small_tolerance(e: Entries, warnings: list[InputWarning], path: str) -> None:
     # A workbook cell formatted as a percentage stores 5 % as 0.05, which reads as 0.05 %.
-    tol = e.values[:, CONDITION_COLUMNS.index("v_tol_pct")]
+    tol = e.column("v_tol_pct")
+    if tol is None:
+        return
     small = (tol > 0) & (tol < 1)
     if small.any():
         i = int(np.argmax(small))

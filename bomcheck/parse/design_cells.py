@@ -28,6 +28,7 @@ and checked against the quantity's plausible range and the condition's sign (``C
 from __future__ import annotations
 
 import difflib
+import math
 import re
 from collections.abc import Callable, Mapping
 from dataclasses import dataclass
@@ -38,8 +39,8 @@ import pandas as pd
 
 from bomcheck.frozen import frozen
 from bomcheck.errors import InputError, UnitError
-from bomcheck.parse.units import (check_plausible, plain_to_si, round_15, to_si,
-                                  unit_factor)
+from bomcheck.parse.units import (check_plausible, plain_to_si, plausible_mask, round_15,
+                                  to_si, unit_factor)
 from bomcheck.vocabulary import CONDITIONS
 
 CONDITION_COLUMNS: tuple[str, ...] = tuple(CONDITIONS)
@@ -304,8 +305,13 @@ Fail = Callable[[int | None, str, UnitError], NoReturn]
 
 
 def text_cells(column: pd.Series | np.ndarray) -> np.ndarray:
-    """Stripped text of a column as an object array ("" for empty), each distinct cell once."""
-    codes, uniques = pd.factorize(np.asarray(column, dtype=object), use_na_sentinel=True)
+    """Stripped text of a column as an object array ("" for empty). A column of text is
+    stripped cell by cell in C (``str.strip`` returns a clean cell itself: cheaper than finding
+    the distinct cells); any other column is factorized and each distinct cell read once."""
+    cells = np.asarray(column, dtype=object)
+    if pd.api.types.infer_dtype(cells, skipna=False) == "string":
+        return np.fromiter(map(str.strip, cells), dtype=object, count=len(cells))
+    codes, uniques = pd.factorize(cells, use_na_sentinel=True)
     stripped = np.array([str(u).strip() for u in uniques] + [""], dtype=object)
     return stripped[codes]  # code -1 (missing) takes the trailing ""
 
@@ -328,6 +334,8 @@ def convert(cells: np.ndarray, col: Column, fail: Fail) -> np.ndarray:
     except UnitError as exc:
         fail(None, col.unit or "", exc)
     sign = sign_of(name)
+    if cells.dtype.kind == "f":
+        return _convert_numbers(cells, name, quantity, unit, col.mark, sign)
     codes, uniques = pd.factorize(np.asarray(cells, dtype=object), use_na_sentinel=True)
     texts = [str(u).strip() for u in uniques]
     values = np.full(len(uniques) + 1, np.nan)  # the last slot serves code -1 (missing)
@@ -352,6 +360,29 @@ def convert(cells: np.ndarray, col: Column, fail: Fail) -> np.ndarray:
         except UnitError as exc:
             fail(int(np.argmax(codes == k)), text, exc)
     return values[codes]
+
+
+class NeedsText(Exception):
+    """A column read as numbers holds a value whose error needs the cell's text (not finite,
+    implausible, of the wrong sign): the sheet is read again as text."""
+
+
+def _convert_numbers(cells: np.ndarray, name: str, quantity: str, unit: str, mark: str | None,
+                     sign: str) -> np.ndarray:
+    """``convert`` for a column read as numbers (NaN: an empty cell): the arithmetic of a bare
+    number's text (``to_si``: scale, offset, 15 significant digits; a percentage and a
+    peak-to-peak header as in ``convert``), on each distinct value once."""
+    codes, uniques = pd.factorize(cells, use_na_sentinel=True)
+    scale, offset = unit_factor(unit, quantity)
+    si = round_15(np.asarray(uniques, dtype=float) * scale + offset)
+    percent = name in PERCENT_FIELDS
+    if not plausible_mask(si, quantity, sign, high=1.0 if percent else None).all():
+        raise NeedsText(name)
+    if percent:
+        si = round_15(si * 100.0)
+    elif mark == "pp":
+        si = si * 0.5
+    return np.append(si, np.nan)[codes]  # code -1 (empty) takes the trailing NaN
 
 
 def _check_mark(mark: str | None, name: str, fail: Callable[[str], NoReturn]) -> None:
@@ -402,23 +433,48 @@ class Labels:
 
 @dataclass(frozen=True, eq=False)
 class Entries:
-    """One item per source row (table) or entry (TOML): its row, text fields, values (one column
-    per CONDITION_COLUMNS) and whether the front end already knows it is a group."""
+    """One item per source row (table) or entry (TOML): its row, text fields, the values of the
+    condition columns it gives (``given``: one column per name of ``columns``, in
+    ``CONDITION_COLUMNS`` order; a condition no entry gives has no column) and whether the front
+    end already knows it is a group."""
 
     rows: np.ndarray
     text: dict[str, np.ndarray]
-    values: np.ndarray
+    given: np.ndarray
+    columns: tuple[str, ...]
     is_group: np.ndarray
 
     @classmethod
     def make(cls, rows: np.ndarray, texts: Mapping[str, np.ndarray],
              values: Mapping[str, np.ndarray], is_group: np.ndarray | None = None) -> Entries:
         n = len(rows)
-        text = {k: (np.asarray(texts[k], dtype=object) if k in texts
-                    else np.full(n, "", dtype=object)) for k in TEXT_FIELDS}
-        vals = np.full((n, len(CONDITION_COLUMNS)), np.nan)  # only given columns are filled
-        for j, k in enumerate(CONDITION_COLUMNS):
-            if k in values:
-                vals[:, j] = values[k]
+        empty = np.broadcast_to(np.array("", dtype=object), (n,))  # one read-only ""
+        text = {k: np.asarray(texts[k], dtype=object) if k in texts else empty
+                for k in TEXT_FIELDS}
+        columns = tuple(k for k in CONDITION_COLUMNS if k in values)
+        given = np.empty((n, len(columns)), order="F")  # a contiguous array per column
+        for j, k in enumerate(columns):
+            given[:, j] = values[k]
         flags = np.zeros(n, dtype=bool) if is_group is None else np.asarray(is_group, dtype=bool)
-        return cls(np.asarray(rows, dtype=np.int64), text, vals, flags)
+        return cls(np.asarray(rows, dtype=np.int64), text, given, columns, flags)
+
+    @property
+    def values(self) -> np.ndarray:
+        """Every entry's values with a column per ``CONDITION_COLUMNS`` name (NaN where none)."""
+        out = np.full((len(self.rows), len(CONDITION_COLUMNS)), np.nan)
+        for j, k in enumerate(self.columns):
+            out[:, CONDITION_COLUMNS.index(k)] = self.given[:, j]
+        return out
+
+    def column(self, name: str) -> np.ndarray | None:
+        """The values of one condition column, None when no entry gives it."""
+        return self.given[:, self.columns.index(name)] if name in self.columns else None
+
+    def own(self, i: int) -> dict[str, float]:
+        """The conditions entry ``i`` gives (name -> value)."""
+        return {k: float(v) for k, v in zip(self.columns, self.given[i].tolist())
+                if not math.isnan(v)}
+
+    def has_values(self) -> np.ndarray:
+        """Which entries give any condition."""
+        return ~np.isnan(self.given).all(axis=1)

@@ -5,6 +5,7 @@ from __future__ import annotations
 
 from collections.abc import Iterable, Mapping, Sequence
 from dataclasses import dataclass, field
+from functools import cached_property
 from types import MappingProxyType
 from typing import Any
 
@@ -41,21 +42,41 @@ class Group:
 class Design:
     """The design sheet read: per-designator conditions, groups and board-wide defaults.
 
-    ``conditions`` is indexed by designator with a float column per ``CONDITIONS`` name (SI;
-    ``v_tol_pct`` in %), ``notes``, ``group`` (name or None), ``design_row`` (the source row that
-    set the placement) and ``condition_source`` ("row" or "group"). Defaults are not folded in:
-    ``for_placements`` applies them.
+    ``table`` is indexed by designator and holds what the placements need, as numbers: a float
+    column per condition the sheet gives (and the rail's three; SI, ``v_tol_pct`` in %),
+    ``design_row`` (the source row that set the placement) and categoricals ``notes``,
+    ``group`` (NaN for none) and ``condition_source`` ("row" or "group"). ``conditions`` is
+    the same with a column per ``CONDITIONS`` name and text columns, built when asked for.
+    Defaults are not folded in: ``for_placements`` applies them.
     """
 
     path: str
     sha256: str
-    conditions: pd.DataFrame
+    table: pd.DataFrame
     defaults: dict[str, float]
     groups: dict[str, Group]
     warnings: tuple[InputWarning, ...] = ()
     defaults_row: int | None = None
     format: str = ""
     sheet: str | None = None
+
+    @cached_property
+    def conditions(self) -> pd.DataFrame:
+        """The per-designator table with a float column per ``CONDITIONS`` name (NaN where the
+        sheet gives none), ``notes``, ``group`` (name or None), ``design_row`` and
+        ``condition_source``."""
+        t = self.table
+        values = np.full((len(t), len(CONDITION_COLUMNS)), np.nan)
+        for j, k in enumerate(CONDITION_COLUMNS):
+            if k in t:
+                values[:, j] = t[k].to_numpy()
+        out = pd.DataFrame(values, index=t.index, columns=list(CONDITION_COLUMNS), copy=False)
+        out["notes"] = pd.Series(_text(t["notes"], ""), index=out.index, dtype=object)
+        out["group"] = pd.Series(_text(t["group"], None), index=out.index, dtype=object)
+        out["design_row"] = t["design_row"].to_numpy()
+        out["condition_source"] = pd.Series(_text(t["condition_source"], ""), index=out.index,
+                                            dtype=object)
+        return out
 
     def for_placements(self, refdes: pd.Series) -> pd.DataFrame:
         """Conditions for each designator of ``refdes`` (same index), precedence applied.
@@ -66,22 +87,23 @@ class Design:
         never gives is no column (an absent column is missing data downstream): at 10^6
         placements each would be 8 MB of NaN.
         """
-        c = self.conditions
+        c = self.table
         at = positions(c.index, refdes)
         found = at >= 0
-        given = c[list(CONDITION_COLUMNS)].notna().any().to_numpy()
-        names = [k for k, g in zip(CONDITION_COLUMNS, given)
-                 if g or k in self.defaults or k in RAIL_COLUMNS]  # the rest stays NaN
-        specific = _take(c[names].to_numpy(dtype=float), at, np.nan)
+        names = [k for k in CONDITION_COLUMNS if k in self.defaults or k in RAIL_COLUMNS
+                 or (k in c and bool(c[k].notna().any()))]  # the rest stays NaN
+        values = np.full((len(at), len(names)), np.nan, order="F")  # a column per name
+        for j, k in enumerate(names):
+            if k in c and len(c):
+                np.take(c[k].to_numpy(), at, out=values[:, j], mode="clip")
+        values[~found] = np.nan
         board = np.array([self.defaults.get(k, np.nan) for k in names], dtype=float)
-        values = merge_levels(specific, np.broadcast_to(board, specific.shape), names)
+        merge_levels(values, board, names)
         out = pd.DataFrame(values, columns=names, index=refdes.index, copy=False)
         out.insert(0, "refdes", refdes.to_numpy())
-        notes = _take(c["notes"].fillna("").to_numpy(dtype=object), at, "")
-        out["notes"] = pd.Series(notes, index=out.index, dtype=object)
-        group = _take(c["group"].to_numpy(dtype=object), at, None)
-        group[pd.isna(group)] = None
-        out["group"] = pd.Series(group, index=out.index, dtype=object)
+        out["notes"] = pd.Series(_taken_text(c["notes"], at, ""), index=out.index, dtype=object)
+        out["group"] = pd.Series(_taken_text(c["group"], at, None), index=out.index,
+                                 dtype=object)
         has_defaults = bool(self.defaults)
         rows = _take(c["design_row"].to_numpy(dtype=np.int64), at, 0)
         missing = ~found
@@ -89,20 +111,42 @@ class Design:
             rows[missing], missing = self.defaults_row, np.zeros(len(at), dtype=bool)
         out["design_row"] = pd.arrays.IntegerArray(rows, missing)
         fallback = "defaults" if has_defaults else "none"
-        source = _take(c["condition_source"].to_numpy(dtype=object), at, fallback)
-        out["condition_source"] = pd.Series(source, index=out.index, dtype=object)
+        out["condition_source"] = pd.Series(_taken_text(c["condition_source"], at, fallback),
+                                            index=out.index, dtype=object)
         return out
 
     def unmatched(self, bom_refdes: Iterable[str]) -> list[tuple[str, int]]:
         """Designators the design sheet names (rows and group members) that the BOM lacks, with
         the design row that named them, in design-sheet order."""
         raw = bom_refdes if isinstance(bom_refdes, (pd.Series, np.ndarray)) else list(bom_refdes)
-        idx = self.conditions.index
+        idx = self.table.index
         at = positions(idx, raw)
         missing = np.ones(len(idx), dtype=bool)
         missing[at[at >= 0]] = False
-        rows = self.conditions["design_row"].to_numpy()[missing]
+        rows = self.table["design_row"].to_numpy()[missing]
         return [(str(r), int(n)) for r, n in zip(idx[missing], rows)]
+
+
+def _text(column: pd.Series, empty: Any) -> np.ndarray:
+    """A categorical column as an object array, ``empty`` where it has no value."""
+    return _taken_text(column, None, empty)
+
+
+def _taken_text(column: pd.Series, at: np.ndarray | None, fill: Any) -> np.ndarray:
+    """The text of a categorical column at positions ``at`` (all when None) as an object
+    array, ``fill`` where ``at`` is -1 or the column has no value: one lookup per category."""
+    cat = column.array
+    assert isinstance(cat, pd.Categorical)
+    codes = cat.codes if at is None else _take(cat.codes, at, -1)
+    labels = np.array([*cat.categories.tolist(), fill], dtype=object)
+    return labels[codes]  # code -1 (no value, or not found) takes the trailing fill
+
+
+def text_column(values: np.ndarray) -> pd.Categorical:
+    """An object column of text (None or NaN for no value) as a categorical: the codes and
+    each distinct text once."""
+    codes, uniques = pd.factorize(values, use_na_sentinel=True)
+    return pd.Categorical.from_codes(codes, pd.Index(uniques, dtype=object))
 
 
 def keys(refdes: Sequence[Any] | pd.Series | np.ndarray) -> np.ndarray:
@@ -116,10 +160,12 @@ def positions(index: pd.Index, refdes: Sequence[Any] | pd.Series | np.ndarray) -
     design names it nowhere. A designator spelled as stored (the importer's are) is found by
     one hash join; only the others are normalised (``keys``) and looked up again."""
     raw = np.asarray(refdes, dtype=object)
-    at = index.get_indexer(raw)
+    # As an object Index: a bare array would be inferred as text and cast, at ten times the
+    # cost of the join.
+    at = index.get_indexer(pd.Index(raw, dtype=object, copy=False))
     miss = np.flatnonzero(at < 0)
     if len(miss):
-        at[miss] = index.get_indexer(keys(raw[miss]))
+        at[miss] = index.get_indexer(pd.Index(keys(raw[miss]), dtype=object, copy=False))
     return at
 
 
@@ -131,15 +177,25 @@ def _take(values: np.ndarray, at: np.ndarray, fill: Any) -> np.ndarray:
     return padded[at]
 
 
-def merge_levels(specific: np.ndarray, general: np.ndarray,
+def merge_levels(specific: np.ndarray, general: np.ndarray | None,
                  columns: Sequence[str] = CONDITION_COLUMNS) -> np.ndarray:
     """Field-by-field precedence of two levels (columns named by ``columns``, which hold the
     ``RAIL_COLUMNS``), with the rail's upper bound travelling with its DC value and derived
-    from the tolerance."""
+    from the tolerance. ``general`` is the same shape as ``specific``, one value per column
+    (the board level), or None (no values). Works in place: ``specific`` becomes the result,
+    column by column, with no temporary of the whole table."""
     i_dc, i_max, i_tol = (list(columns).index(c) for c in RAIL_COLUMNS)
-    out = np.where(np.isnan(specific), general, specific)
-    own_dc = ~np.isnan(specific[:, i_dc]) & np.isnan(specific[:, i_max])
+    out = specific
+    own_dc = ~np.isnan(out[:, i_dc]) & np.isnan(out[:, i_max])
+    if general is not None:
+        for j in range(out.shape[1]):
+            col = out[:, j]
+            if general.ndim == 1:
+                if not np.isnan(general[j]):
+                    col[np.isnan(col)] = general[j]
+            else:
+                np.copyto(col, general[:, j], where=np.isnan(col))
     out[own_dc, i_max] = np.nan
-    derive = np.isnan(out[:, i_max])
+    derive = np.flatnonzero(np.isnan(out[:, i_max]))
     out[derive, i_max] = out[derive, i_dc] * (1.0 + out[derive, i_tol] / 100.0)
     return out

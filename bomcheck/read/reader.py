@@ -22,30 +22,31 @@ from bomcheck.read.files import STDIN, read_bytes, read_input, sha256_hex
 from bomcheck.read.table import (HEADER_SEARCH_ROWS, HeaderNotFound, HeaderPredicate, RawTable,
                                  ReadWarning, unique_headers)
 from bomcheck.read.text_decode import MIXED_ENCODING
-from bomcheck.read.text_table import read_text_table
+from bomcheck.read.text_table import NumericColumns, read_text_table
 from bomcheck.read.toml_input import TOML_MAX_DEPTH, load_toml, read_toml, toml_text
 from bomcheck.read.workbook import (CALAMINE_SUFFIXES, OLE_MAGIC, XLSX_SUFFIXES, ZIP_MAGIC,
                                     is_ods, read_calamine_only, read_xlsx)
 
 __all__ = ["HEADER_SEARCH_ROWS", "MIXED_ENCODING", "STDIN", "TOML_MAX_DEPTH", "HeaderNotFound",
-           "HeaderPredicate", "RawTable", "ReadWarning", "load_toml", "read_bytes", "read_input",
-           "read_input_table", "read_table", "read_toml", "sha256_hex", "toml_text",
-           "unique_headers"]
+           "HeaderPredicate", "NumericColumns", "RawTable", "ReadWarning", "load_toml",
+           "read_bytes", "read_input", "read_input_table", "read_table", "read_toml",
+           "sha256_hex", "toml_text", "unique_headers"]
 
 
 def read_input_table(path: str, *, sheet: str | int | None, header_predicate: HeaderPredicate,
-                     what: str, expected: str) -> RawTable:
+                     what: str, expected: str, numeric: NumericColumns | None = None) -> RawTable:
     """``read_table`` for a side input (design sheet, parts file, alternates): a missing header
     row is one error naming the file, what it is and the header it needs."""
     try:
-        return read_table(str(path), sheet=sheet, header_predicate=header_predicate)
+        return read_table(str(path), sheet=sheet, header_predicate=header_predicate,
+                          numeric=numeric)
     except HeaderNotFound:
         raise InputError(f"no {what} header row in the first rows", path=str(path),
                          expected=expected) from None
 
 
 def read_table(path: str, *, header_predicate: HeaderPredicate, sheet: str | int | None = None,
-               encoding: str | None = None) -> RawTable:
+               encoding: str | None = None, numeric: NumericColumns | None = None) -> RawTable:
     """Read a table file to a ``RawTable`` of text cells below its header row.
 
     ``path`` ``-`` reads standard input. ``header_predicate`` says whether a row of stripped
@@ -53,7 +54,8 @@ def read_table(path: str, *, header_predicate: HeaderPredicate, sheet: str | int
     a workbook sheet by name or 1-based index, hidden or not (default: the first visible sheet
     whose leading rows hold a header row). ``encoding`` forces a text encoding (default: a
     UTF-8 or UTF-16 byte-order mark, else UTF-8 with any non-UTF-8 lines read as cp1252 and
-    named in ``RawTable.warnings``). The limits of ``bomcheck.read.limits.current()`` apply.
+    named in ``RawTable.warnings``). ``numeric`` names the columns a text table may give as
+    floats (``bomcheck.read.text_table``). The limits of ``bomcheck.read.limits.current()`` apply.
     Raises ``InputError`` for an empty, binary, unreadable or refused file and
     ``HeaderNotFound`` when no header row is found.
     """
@@ -66,12 +68,13 @@ def read_table(path: str, *, header_predicate: HeaderPredicate, sheet: str | int
     # hashlib releases the GIL: the bytes are hashed beside the parsing.
     with ThreadPoolExecutor(max_workers=1) as pool:
         digest = pool.submit(sha256_hex, data)
-        table = _read_any(path, shown, data, sheet, encoding, header_predicate)
+        table = _read_any(path, shown, data, sheet, encoding, header_predicate, numeric)
         return replace(table, sha256=digest.result())
 
 
 def _read_any(path: str, shown: str, data: bytes, sheet: str | int | None,
-              encoding: str | None, predicate: HeaderPredicate) -> RawTable:
+              encoding: str | None, predicate: HeaderPredicate,
+              numeric: NumericColumns | None = None) -> RawTable:
     """The table of the bytes, by what they are: workbook (by magic or suffix) or text."""
     suffix = os.path.splitext(path)[1].lower()
     if data.startswith(OLE_MAGIC) or suffix in CALAMINE_SUFFIXES or is_ods(data):
@@ -81,4 +84,5 @@ def _read_any(path: str, shown: str, data: bytes, sheet: str | int | None,
     if sheet is not None:
         raise InputError("a sheet was asked for, but the file is a text table, not a "
                          "workbook", path=shown, text=str(sheet))
-    return read_text_table(shown, data, encoding, predicate, from_file=path != STDIN)
+    return read_text_table(shown, data, encoding, predicate, from_file=path != STDIN,
+                           numeric=numeric)

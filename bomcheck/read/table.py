@@ -42,7 +42,8 @@ class ReadWarning:
 class RawTable:
     """One table of text cells as read from a BOM file.
 
-    ``frame`` holds str cells ("" for empty) under the headers made unique; ``rows`` gives the
+    ``frame`` holds str cells ("" for empty) under the headers made unique (a column the
+    caller asked for as numbers may hold floats, NaN for empty); ``rows`` gives the
     source row (XLSX) or line (CSV) of each frame row, 1-based; ``header_row`` likewise.
     """
 
@@ -121,7 +122,7 @@ def finish(path: str, fmt: str, encoding: str | None, sheet: str | None, header_
     import pandas as pd
 
     names = unique_headers(headers)
-    arrays = [frame[c].to_numpy(dtype=object) for c in frame.columns]
+    arrays = [_cells(frame[c]) for c in frame.columns]
     # Blank rows (cells empty or only spaces): one comparison per row on the second column,
     # then the few rows still in question cell by cell; the first column last, since a line of
     # only spaces puts them there.
@@ -129,23 +130,37 @@ def finish(path: str, fmt: str, encoding: str | None, sheet: str | None, header_
     if not order:
         blank = np.zeros(0, dtype=np.int64)
     else:
-        blank = np.flatnonzero(order[0] == "")
-        if len(order) == 1:
-            blank = np.flatnonzero([not c.strip() for c in order[0]])
+        blank = np.flatnonzero(_blank(order[0]) if len(order) == 1 else _empty(order[0]))
     for arr in order[1:]:
         if not len(blank):
             break
-        blank = blank[[not c.strip() for c in arr[blank]]]
+        blank = blank[_blank(arr[blank])]
     keep_cols = [i for i, (h, arr) in enumerate(zip(headers, arrays))
-                 if h.strip() or (len(arr) and (arr != "").any())]
+                 if h.strip() or (len(arr) and not _empty(arr).all())]
     if len(blank):
         keep = np.ones(len(rows), dtype=bool)
         keep[blank] = False
         arrays = [a[keep] for a in arrays]
         rows = rows[keep]
-    data = {names[i]: pd.Series(arrays[i], dtype=object, copy=False) for i in keep_cols}
+    data = {names[i]: pd.Series(arrays[i], dtype=arrays[i].dtype, copy=False) for i in keep_cols}
     out = pd.DataFrame(data, copy=False)
     return RawTable(path=path, format=fmt, encoding=encoding, sheet=sheet, header_row=header_row,
                     headers=[headers[i] for i in keep_cols], frame=out, rows=rows,
                     blank_rows=int(len(blank)))
 
+
+def _cells(column: pd.Series) -> np.ndarray:
+    """A column's cells: text as an object array, a column read as numbers as floats."""
+    return column.to_numpy() if column.dtype.kind == "f" else column.to_numpy(dtype=object)
+
+
+def _empty(cells: np.ndarray) -> np.ndarray:
+    """Which cells are empty: "" as text, NaN as a number."""
+    return np.isnan(cells) if cells.dtype.kind == "f" else cells == ""
+
+
+def _blank(cells: np.ndarray) -> np.ndarray:
+    """Which cells are empty or only spaces."""
+    if cells.dtype.kind == "f":
+        return np.isnan(cells)
+    return np.array([not c.strip() for c in cells], dtype=bool)

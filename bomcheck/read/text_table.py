@@ -8,6 +8,7 @@ import csv
 import io
 import warnings
 from collections import Counter
+from collections.abc import Callable, Mapping, Sequence
 from dataclasses import replace
 from typing import TYPE_CHECKING
 
@@ -26,17 +27,22 @@ if TYPE_CHECKING:
 SNIFF_LINES = 60
 DELIMITERS = (",", ";", "\t")
 FORMAT_OF_DELIMITER = {",": "csv", ";": "semicolon", "\t": "tsv"}
+# The columns (by position) a caller reads as numbers, from the header cells, each with the
+# cells that mean no value there (besides an empty one).
+NumericColumns = Callable[[list[str]], Mapping[int, Sequence[str]]]
 
 
 def read_text_table(path: str, data: bytes, encoding: str | None, predicate: HeaderPredicate,
-                    *, from_file: bool) -> RawTable:
+                    *, from_file: bool, numeric: NumericColumns | None = None) -> RawTable:
     """The table of a text file's bytes (``path`` as shown in messages; ``from_file``: pandas
-    may read the file itself); ``encoding`` forces the text encoding."""
+    may read the file itself); ``encoding`` forces the text encoding. ``numeric`` gives, from
+    the header cells, the columns the caller reads as numbers: they come as floats (NaN for an
+    empty cell) when every cell of them is a plain number, else the whole table is text."""
     text, used, notes = decode_text(path, data, encoding)
     if not text.strip():  # only a byte-order mark, or spaces in UTF-16
         raise InputError("the file is empty", path=path,
                          expected="a BOM table (CSV, TSV or XLSX) with a header row")
-    table = _read_text(path, data, text, used, predicate, from_file=from_file)
+    table = _read_text(path, data, text, used, predicate, from_file=from_file, numeric=numeric)
     return replace(table, warnings=table.warnings + notes) if notes else table
 
 
@@ -98,7 +104,8 @@ def _parse_line(path: str, line: str, number: int, delim: str) -> list[str]:
 
 
 def _read_text(path: str, data: bytes, text: str, encoding: str,
-               predicate: HeaderPredicate, *, from_file: bool = True) -> RawTable:
+               predicate: HeaderPredicate, *, from_file: bool = True,
+               numeric: NumericColumns | None = None) -> RawTable:
     lim = _csv_setup()
     lines, offsets = _leading_lines(text, SNIFF_LINES)
     delim = _sniff_delimiter(lines)
@@ -130,8 +137,9 @@ def _read_text(path: str, data: bytes, text: str, encoding: str,
     # Exports written with ", " between cells: skip the spaces in the parser (it costs, so only
     # when the leading lines show it).
     spaced = sum(f"{delim} " in ln for ln in lines[h:]) > (len(lines) - h) // 2
+    numbers = dict(numeric(headers)) if numeric is not None else {}
     frame, rows = _parse_body(text, start, (source, skip, codec), shape, delim, len(headers),
-                              header_line, spaced=spaced, path=path)
+                              header_line, spaced=spaced, path=path, numeric=numbers)
     if shape.longest > lim.cell_chars:
         _check_cell_sizes(path, frame, rows, lim)
     width = frame.shape[1]
@@ -198,6 +206,8 @@ def _check_cell_sizes(path: str, frame: pd.DataFrame, rows: np.ndarray,
                       lim: limits_mod.Limits) -> None:
     """Refuse a cell longer than the limit (only run when a line is longer than it)."""
     for j, col in enumerate(frame.columns):
+        if frame[col].dtype != object:  # numbers
+            continue
         lengths = frame[col].str.len().to_numpy(dtype=float, na_value=0)
         over = np.flatnonzero(lengths > lim.cell_chars)
         if len(over):
@@ -209,7 +219,9 @@ def _check_cell_sizes(path: str, frame: pd.DataFrame, rows: np.ndarray,
 
 def _parse_body(text: str, start: int, source: tuple[str | io.BytesIO, int, str],
                 shape: _LineShape, delim: str, width: int, header_line: int, *,
-                spaced: bool, path: str = "") -> tuple[pd.DataFrame, np.ndarray]:
+                spaced: bool, path: str = "",
+                numeric: Mapping[int, Sequence[str]] | None = None
+                ) -> tuple[pd.DataFrame, np.ndarray]:
     """Parse the lines from ``text[start:]`` with the pandas C engine, every cell as text;
     ``source`` is (path or UTF-8 stream, lines to skip, codec).
 
@@ -222,23 +234,43 @@ def _parse_body(text: str, start: int, source: tuple[str | io.BytesIO, int, str]
     if start >= len(text) or text[start:start + 65536].isspace() and text[start:].isspace():
         empty = {i: pd.Series([], dtype=object) for i in range(width)}
         return pd.DataFrame(empty), np.zeros(0, dtype=np.int64)
+    frame = None
+    if numeric:
+        at = source[0].tell() if isinstance(source[0], io.BytesIO) else 0
+        frame = _read_c(source, delim, width, spaced, numeric)
+        if frame is None and isinstance(source[0], io.BytesIO):
+            source[0].seek(at)
+    if frame is None:  # a cell of a numeric column is not a plain number: all as text
+        frame = _read_c(source, delim, width, spaced, {})
+    if frame is not None and len(frame) == shape.count and not shape.lone_cr:
+        rows = np.arange(header_line + 1, header_line + 1 + len(frame), dtype=np.int64)
+        return frame, rows
+    return _parse_body_slow(text[start:], delim, width, header_line, spaced=spaced, path=path)
+
+
+def _read_c(source: tuple[str | io.BytesIO, int, str], delim: str, width: int, spaced: bool,
+            numeric: Mapping[int, Sequence[str]]) -> pd.DataFrame | None:
+    """The body by the pandas C engine, every cell as text but the ``numeric`` columns as
+    floats (an empty cell, or one of the column's no-value cells, NaN); None when the engine
+    cannot read it so (a cell it cannot convert, a record it cannot split)."""
+    import pandas as pd
+
+    numbers = {i: ["", *words] for i, words in numeric.items()}
+    types = {i: (np.float64 if i in numbers else object) for i in range(width)}
     try:
         with warnings.catch_warnings():
             # A row wider than the header is only a warning to pandas (cells dropped): here it
             # sends the file to the exact path, which keeps them.
             warnings.simplefilter("error", pd.errors.ParserWarning)
-            frame = pd.read_csv(
-                source[0], skiprows=source[1], sep=delim, header=None, dtype=object,
-                na_filter=False, skip_blank_lines=False, skipinitialspace=spaced, engine="c",
+            return pd.read_csv(
+                source[0], skiprows=source[1], sep=delim, header=None, dtype=types,
+                na_filter=bool(numbers), keep_default_na=False, na_values=numbers or None,
+                skip_blank_lines=False, skipinitialspace=spaced, engine="c",
                 encoding=source[2], names=list(range(width)), quoting=csv.QUOTE_MINIMAL,
                 index_col=False,
             )
     except (pd.errors.ParserError, pd.errors.ParserWarning, ValueError, UnicodeDecodeError):
-        frame = None
-    if frame is not None and len(frame) == shape.count and not shape.lone_cr:
-        rows = np.arange(header_line + 1, header_line + 1 + len(frame), dtype=np.int64)
-        return frame, rows
-    return _parse_body_slow(text[start:], delim, width, header_line, spaced=spaced, path=path)
+        return None
 
 
 def _parse_body_slow(body: str, delim: str, width: int, header_line: int, *,
