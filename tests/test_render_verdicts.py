@@ -8,7 +8,7 @@ import pandas as pd
 import pytest
 from tiny_reports import tiny_report
 
-from bomcheck.render.verdicts import (governing, has_text, not_audited_counts,
+from bomcheck.render.verdicts import (bom_rows, governing, has_text, not_audited_counts,
                                       problems_by_placement, waived_by_placement)
 
 
@@ -53,3 +53,13 @@ def test_not_audited_counts_by_kind_in_row_order():
     more = pd.concat([report.skipped, report.skipped.assign(row=9)], ignore_index=True)
     counts = not_audited_counts(replace(report, skipped=more))
     assert counts == {"not_fitted": 1, "not_capacitor": 2}
+
+
+def test_bom_rows_are_each_verdicts_placement_row_and_missing_elsewhere():
+    report = tiny_report()
+    v = report.verdicts
+    expected = [int(report.table["row"][p]) for p in v["pidx"]]
+    assert bom_rows(report, v) == expected
+    stray = pd.DataFrame({"pidx": [0, len(report.table) + 5, -1]})
+    assert bom_rows(report, stray, 1) == [int(report.table["row"][0]), 1, 1]
+    assert bom_rows(report, stray)[1:] == [None, None]

@@ -23,6 +23,7 @@ from bomcheck.quantity import format_metric, format_si, is_missing
 from bomcheck.render.html_chart import chart_section
 from bomcheck.render.textparts import COUNTED, accounting_line, energy, group_cells
 from bomcheck.render.textsafe import html_text as esc
+from bomcheck.render.verdicts import bom_rows
 from bomcheck.substitute.words import designator_list
 
 CAUTION_NOTE = ("These cautions come from the clauses they cite; they are not compliance "
@@ -278,15 +279,14 @@ def _placements_section(report) -> list[str]:
                     "message", "BOM text"), rows, table_id="placements-table", sortable=True)]
 
 
-def _verdict_rows(v: pd.DataFrame, metric_of: dict, rows_of: pd.Series) -> list[str]:
+def _verdict_rows(v: pd.DataFrame, metric_of: dict, rows: list) -> list[str]:
     cols = {c: (v[c].tolist() if c in v else [None] * len(v)) for c in
             ("pidx", "refdes", "rule_id", "status", "value", "limit", "margin", "basis",
              "message", "source", "waived_from")}
     out = []
     for i in range(len(v)):
         metric = metric_of.get(cols["rule_id"][i])
-        pidx = cols["pidx"][i]
-        row = rows_of.get(pidx) if pidx in rows_of.index else None
+        row = rows[i]
         waived = cols["waived_from"][i]
         status = _status(cols["status"][i]) + (
             f' <span class="muted">(was {_t(waived)})</span>' if not is_missing(waived) else "")
@@ -309,11 +309,10 @@ _VERDICT_HEADERS = ("refdes", "BOM row", "status", "rule", "value", "limit", "ba
 
 def _verdicts_section(report) -> list[str]:
     metric_of = {} if report.rules is None else {r.id: r.metric for r in report.rules.rules}
-    rows_of = report.table["row"]
     bad = report.verdicts_worst_first()
     out = ["<h2 id=\"verdicts\">Every verdict that is not a pass</h2>"]
     if len(bad):
-        out.append(_table(_VERDICT_HEADERS, _verdict_rows(bad, metric_of, rows_of),
+        out.append(_table(_VERDICT_HEADERS, _verdict_rows(bad, metric_of, bom_rows(report, bad)),
                           table_id="verdicts-table", sortable=True))
     else:
         out.append("<p>None: every verdict passes.</p>")
@@ -332,7 +331,8 @@ def _verdicts_section(report) -> list[str]:
                    "the on-screen report and the JSON report; the printed record lists every "
                    "verdict that is not a pass.</p>")
         out.append('<div class="screen-only">' + _table(
-            _VERDICT_HEADERS, _verdict_rows(report.with_messages(passed), metric_of, rows_of),
+            _VERDICT_HEADERS, _verdict_rows(report.with_messages(passed), metric_of,
+                                                bom_rows(report, passed)),
             table_id="checks-table", sortable=True) + "</div>")
     return out
 

@@ -22,9 +22,7 @@ import math
 import os
 from urllib.parse import quote
 
-import numpy as np
-import pandas as pd
-
+from bomcheck.render.verdicts import bom_rows
 from bomcheck.report.jsontext import json_dumps
 
 SARIF_SCHEMA = "https://json.schemastore.org/sarif-2.1.0.json"
@@ -127,15 +125,6 @@ def _descriptors(report, rule_ids: list[str]) -> list[dict]:
     return descriptors
 
 
-def _bom_lines(report, verdicts) -> list[int]:
-    """Each verdict's BOM line: its placement's row (1 where the placement is not known)."""
-    table = report.table
-    at = table.index.get_indexer(pd.to_numeric(verdicts["pidx"], errors="coerce"))
-    lines = np.ones(len(at), dtype=np.int64)
-    lines[at >= 0] = table["row"].to_numpy()[at[at >= 0]]
-    return lines.tolist()
-
-
 def _verdict_results(report, bad, index: dict[str, int]) -> list[dict]:
     """One result per verdict that is not a pass, located at its placement's BOM line."""
     bom = _bom(report)
@@ -146,7 +135,7 @@ def _verdict_results(report, bad, index: dict[str, int]) -> list[dict]:
             ("refdes", "rule_id", "status", "message", "source", "basis", "value",
              "limit", "margin", "waived_from")]
     for line, refdes, rule_id, status, message, source, basis, value, limit, margin, was in \
-            zip(_bom_lines(report, bad), *cols):
+            zip(bom_rows(report, bad, 1), *cols):
         props = {"status": status, "refdes": refdes, "source": _text(source),
                  "basis": _text(basis) or None, "value": _number(value),
                  "limit": _number(limit), "margin": _number(margin)}
@@ -157,7 +146,7 @@ def _verdict_results(report, bad, index: dict[str, int]) -> list[dict]:
             "locations": [{
                 "physicalLocation": {
                     "artifactLocation": {"uri": uri, "index": bom_index},
-                    "region": {"startLine": max(1, line)}},
+                    "region": {"startLine": max(1, int(line))}},
                 "logicalLocations": [{"name": _text(refdes), "kind": "element"}]}],
             "partialFingerprints": {"placementRule/v1": f"{refdes}:{rule_id}"},
             "properties": {k: v for k, v in props.items() if v is not None},
@@ -211,16 +200,15 @@ def annotations(report) -> list[str]:
     """One workflow-command line per fail, warn and nodata verdict (module docstring)."""
     bom = _escape_property(_where(_bom(report).get("path") or ""))
     bad = report.verdicts_worst_first()
-    rows = report.table["row"]
     out = []
     if not len(bad):
         return out
-    for pidx, rule_id, status, message in zip(bad["pidx"], bad["rule_id"], bad["status"],
-                                              bad["message"]):
+    for line, rule_id, status, message in zip(bom_rows(report, bad, 1), bad["rule_id"],
+                                              bad["status"], bad["message"]):
         command = _ANNOTATION.get(status)
         if command is None:
             continue
-        line = int(rows[pidx]) if pidx in rows.index else 1
+        line = int(line)
         title = _escape_property(f"bomcheck {status} {rule_id}")
         out.append(f"::{command} file={bom},line={line},title={title}::"
                    f"{_escape_data(_text(message))}")

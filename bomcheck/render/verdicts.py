@@ -1,8 +1,10 @@
-"""Report stage, shared by the text writers: what JUnit, Markdown and CSV read from a ``Report``
-(the governing verdicts, the problems and the waivers of each placement), computed once here."""
+"""Report stage, shared by the text writers: what JUnit, Markdown, CSV, SARIF and HTML read from a
+``Report`` (the governing verdicts, the problems and the waivers of each placement, each
+verdict's BOM row), computed once here."""
 
 from __future__ import annotations
 
+import numpy as np
 import pandas as pd
 
 from bomcheck.quantity import is_missing
@@ -17,6 +19,16 @@ def governing(report) -> pd.DataFrame:
     """The governing verdict of each placement (an empty frame with its columns when none)."""
     gov = report.governing()
     return gov if len(gov) else pd.DataFrame(columns=["rule_id", "status", "message"])
+
+
+def bom_rows(report, verdicts: pd.DataFrame, missing=None) -> list:
+    """Each verdict's BOM row: its placement's ``row`` (``missing`` where the placement is not
+    in the report's table), by one index look-up for all verdicts."""
+    table = report.table
+    at = table.index.get_indexer(pd.to_numeric(verdicts["pidx"], errors="coerce"))
+    out = np.full(len(at), missing, dtype=object)
+    out[at >= 0] = table["row"].to_numpy(dtype=object)[at[at >= 0]]
+    return out.tolist()
 
 
 def problems_by_placement(report) -> dict[int, list[tuple[str, str, str]]]:
