@@ -29,6 +29,7 @@ __all__ = ["ValueParser"]
 _SHAPED_CONTEXTS = frozenset({"any", "value", "description"})
 # Words that join the number before them or the number after them ("50 V", "5 to 10").
 _JOINING = UNIT_WORDS | RANGE_WORDS | {"x", "*"}
+assert not any(w.isdigit() for w in _JOINING)  # a number is never a joining word (``_inert``)
 # Kinds of tokens a placeholder may stand in for, with the placeholder's form: a bare number
 # (unread, and listed in the bare-number warning), a token that starts with a digit and is only
 # unread, a word that is only unread.
@@ -48,10 +49,12 @@ def _inert(context: str, tok: str) -> str | None:
     """The kind of ``tok`` when reading it alone does nothing but leave it unread (and, for a
     bare number, count it as one), whatever was read before it; None otherwise (it is read,
     warned about, split or joined). Decided by reading it into an empty scan state."""
+    if tok.isdigit() and tok.isascii() and len(tok) > 3 and codes.chip_package(tok) is None:
+        return _NUMBER  # a lot or serial number: what valuenumbers._bare_number leaves unread
     if len(tok) < 2 or not tok.isascii() or tok.lower() in _JOINING:
         return None
     if tok.isdigit() and len(tok) != 3 and codes.chip_package(tok) is None:
-        return _NUMBER  # a lot or serial number: what valuenumbers._bare_number leaves unread
+        return _NUMBER
     st = State(context)
     first = tok[0]
     try:
@@ -150,9 +153,8 @@ class ValueParser:
         marks = self._marks.get(context)
         if marks is None:
             marks = self._marks[context] = {}
-        try:
-            key = (context, tuple(map(marks.__getitem__, toks)))  # one C-level pass
-        except KeyError:
+        key = (context, tuple(map(marks.get, toks)))  # one C-level pass
+        if None in key[1]:  # tokens not seen before
             for tok in toks:
                 if tok not in marks:
                     kind = _inert(context, tok)
