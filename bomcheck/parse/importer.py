@@ -203,8 +203,8 @@ def _build(table: reader.RawTable, mapping: dict[str, str], source: BomSource) -
     lay = find_layout(cells, n, repeated, _reads_as_capacitor)
     if lay is None:
         result, lines = build_lines(table, mapping, source, repeated)
-        return replace(result, source_table=functools.partial(sources_of, lines, None, None,
-                                                              None, None))
+        return replace(result, source_table=functools.partial(sources_of, lines.for_sources(),
+                                                              None, None, None, None))
     out = lay.taken_out
     keep = ~out
     rows = np.asarray(table.rows, dtype=np.int64)
@@ -241,7 +241,7 @@ def _build(table: reader.RawTable, mapping: dict[str, str], source: BomSource) -
     totals["not_placement_rows"] = int(lay.structure.sum())
     ok = approved[~parent_out]
     sources = functools.partial(
-        sources_of, lines, parent_line[~parent_out], lay.source_index[ok], rows[ok],
+        sources_of, lines.for_sources(), parent_line[~parent_out], lay.source_index[ok], rows[ok],
         {f: cells[f][ok] for f in ("manufacturer", "mpn", "description", "notes") if f in cells})
     return replace(result, skipped=skipped, totals=totals, source_table=sources)
 
