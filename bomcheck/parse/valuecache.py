@@ -85,9 +85,9 @@ class _Shape:
     placeholder's place is a function of the text's own tokens."""
 
     spec: CapSpec
-    unread: Callable[[list[str]], tuple[str, ...]] | None  # a text's own tokens -> its unread
-    warning_at: int  # index of the bare-number warning, -1 without one
-    said: str  # the bare-number warning as a format string of a text's own tokens
+    # A text's own tokens -> its (warnings, unread tokens), the warnings said before the scan
+    # not included (see ``_own_of``).
+    own: Callable[[tuple[str, ...]], tuple[tuple[str, ...], tuple[str, ...]]]
 
 
 @frozen
@@ -240,8 +240,8 @@ def _parse_shape(context: str, shape_toks: list[str], holders: list[str]) -> _Sh
         warning_at = len(spec.warnings) - 1 - spec.warnings[::-1].index(expected)
     if any(h in w for h in holders for i, w in enumerate(spec.warnings) if i != warning_at):
         return None
-    return _Shape(spec, _picker(unread, len(holders)) if holders else None, warning_at,
-                  _said(bare))
+    return _Shape(spec, _own_of(spec, _picker(unread, len(holders)) if holders else None,
+                                warning_at, _said(bare)))
 
 
 def _picker(items: tuple[object, ...], n_mine: int) -> Callable[[list[str]], tuple[str, ...]]:
@@ -291,17 +291,30 @@ def _bare_warning(toks: list) -> str:
     return _BARE_NUMBER_WARNING + ", ".join(repr(t) for t in toks) + ")"
 
 
-def _own(shape: _Shape, before: list[str], mine: list[str]
+def _own_of(spec: CapSpec, pick: Callable[[tuple[str, ...]], tuple[str, ...]] | None,
+            at: int, said: str
+            ) -> Callable[[tuple[str, ...]], tuple[tuple[str, ...], tuple[str, ...]]]:
+    """A shape's function of a text's own tokens giving its (warnings, unread tokens): the
+    unread tokens picked (``pick``; the spec's when None) and the bare-number warning at index
+    ``at`` written from ``said`` (none when ``at`` is -1)."""
+    warnings, unread = spec.warnings, spec.unread
+    if at < 0:
+        if pick is None:
+            return lambda mine: (warnings, unread)
+        return lambda mine: (warnings, pick(mine))
+    head, tail, fmt = warnings[:at], warnings[at + 1:], said.format
+    if pick is None:
+        return lambda mine: ((*head, fmt(*mine), *tail), unread)
+    if not head and not tail:
+        return lambda mine: ((fmt(*mine),), pick(mine))
+    return lambda mine: ((*head, fmt(*mine), *tail), pick(mine))
+
+
+def _own(shape: _Shape, before: list[str], mine: tuple[str, ...]
          ) -> tuple[tuple[str, ...], tuple[str, ...]]:
     """(warnings, unread tokens) of one text of a shape: the warnings said before the scan, its
     own tokens in place of the placeholders."""
-    spec = shape.spec
-    unread = shape.unread(mine) if shape.unread is not None else spec.unread
-    warnings = spec.warnings
-    at = shape.warning_at
-    if at >= 0:
-        said = shape.said.format(*mine)
-        warnings = (*warnings[:at], said, *warnings[at + 1:])
+    warnings, unread = shape.own(mine)
     if before:
         warnings = (*before, *warnings)
     return warnings, unread
