@@ -11,6 +11,7 @@ evidence, words of other parts).
 from __future__ import annotations
 
 import re
+import weakref
 from collections.abc import Iterable, Mapping
 from dataclasses import dataclass
 from typing import Any
@@ -60,7 +61,11 @@ _OTHER_WORDS: dict[str, str] = {
     }.items() for w in words
 }
 _WORD_RUNS = re.compile(r"\w+").findall
-_OTHER_WORD_SET = frozenset(_OTHER_WORDS)
+# An ASCII text's word runs (``\w+``) upper-cased, as bytes: every byte that is not a letter,
+# digit or underscore becomes a space, so ``split()`` gives the runs (a few C-level passes).
+_ASCII_WORD_RUNS = bytes(ord(chr(b).upper()) if chr(b).isalnum() or b == ord("_") else 32
+                         for b in range(128)) + b" " * 128
+_OTHER_ASCII_WORDS = frozenset(w.encode("ascii") for w in _OTHER_WORDS if w.isascii())
 # _OTHER_VALUE needs one of these characters (k, M, ohm signs, H of henry or hertz).
 _OTHER_VALUE_CHARS = frozenset("kKMΩΩoOhH")
 _OTHER_VALUE = re.compile(
@@ -122,7 +127,8 @@ def other_part_evidence(value: str, description: str) -> tuple[str, str] | None:
 
 def _other_word(text: str) -> tuple[str, str] | None:
     """The first word of another kind of part in a text (``RES``, ``XTAL``), as (family, word)."""
-    if text.isascii() and _OTHER_WORD_SET.isdisjoint(_WORD_RUNS(text.upper())):
+    if text.isascii() and _OTHER_ASCII_WORDS.isdisjoint(
+            text.encode("ascii").translate(_ASCII_WORD_RUNS).split()):
         return None  # the common case, one look at the whole text
     for word in _WORD_RUNS(text):
         family = _OTHER_WORDS.get(word.upper())
@@ -226,7 +232,11 @@ class CellParser:
         self._form: dict[str, tuple[str, str] | None] = {}
         # Per spec (by id; specs live in _cache): a line with that one cell of text.
         self._single: dict[int, tuple[CapSpec, dict[str, Any]]] = {}
-        self.merger = SpecMerge(self.spec)
+        # The merger reaches back through a weak reference: no reference cycle, so the caches
+        # go as soon as the parser does (not at the next full collection, which would first
+        # walk every object they hold).
+        me = weakref.ref(self)
+        self.merger = SpecMerge(lambda source, text: me().spec(source, text))  # type: ignore[union-attr]
 
     def clean(self, text: str) -> tuple[str, str | None]:
         """(text to parse, not-fitted mark): spaces collapsed, marks removed, decimal commas."""
@@ -287,12 +297,18 @@ class CellParser:
         """``cell`` of each of many cells of a source, which the caller has made distinct
         (they are not kept per cell)."""
         out = []
-        clean, reading = self._clean_collapsed, self.reading
+        clean, cache, values = self._clean_collapsed, self._cache, self._values
+        context = _CONTEXT.get(source, source)
+        plain = self.units.get(source) is None and source != "temperature"
         for text in texts:
             collapsed = " ".join(text.split())
             cleaned, mark = clean(collapsed)
-            out.append((cleaned, mark, reading(source, cleaned), collapsed))
-        return out
+            parsed = cleaned if plain else self._as_parsed(source, cleaned)  # as ``reading``
+            got = cache.get((source, parsed), _NOT_READ)
+            if got is _NOT_READ:
+                got = cache[(source, parsed)] = values.read(parsed, context) if parsed else None
+            out.append((cleaned, mark, got, collapsed))
+        return out  # type: ignore[return-value]
 
     def combo(self, cells: dict[str, str]) -> Combo:
         """What one distinct combination of a line's value-bearing cells says."""

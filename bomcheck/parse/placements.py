@@ -14,6 +14,17 @@ from bomcheck.parse.designators import Designators
 from bomcheck.parse.linecells import OWN_COLUMNS, LineCells
 from bomcheck.parse.linespec import FLOAT_SPEC, SPEC_COLUMNS
 
+class _Severities(dict):
+    """The severity of each finding code (``bomcheck.parse.bomresult.finding``), made once."""
+
+    def __missing__(self, code: str) -> str:
+        got = self[code] = finding(0, None, code, "").severity
+        return got
+
+
+_SEVERITY = _Severities()
+
+
 def placements_of(cap_idx: np.ndarray, des: Designators, line: dict[str, np.ndarray],
                 head_rows: np.ndarray, fitted: np.ndarray, nf_reason: np.ndarray,
                 qty: np.ndarray, lc: LineCells) -> pd.DataFrame:
@@ -89,9 +100,11 @@ def placement_findings(placements: pd.DataFrame, lc: LineCells) -> list[ImportFi
             continue
         pc = code[line_of]
         has = np.array([bool(c) for c in conflicts], dtype=bool)[pc]
-        for p in np.flatnonzero(has & fitted):
-            out.extend(finding(int(rows[p]), str(refdes[p]), c, msg)
-                       for c, msg in conflicts[pc[p]])
+        at = np.flatnonzero(has & fitted)
+        out.extend(ImportFinding(row, ref, c, msg, _SEVERITY[c])
+                   for row, ref, said in zip(rows[at].tolist(), refdes[at].tolist(),
+                                             conflicts[pc[at]].tolist())
+                   for c, msg in said)
     # A fitted capacitor with no capacitance read (common practice: every capacitor line states
     # its capacitance; the checks that need it have no data).
     # A value cell with text gives capacitance_unread (the data is there but was not

@@ -29,11 +29,15 @@ __all__ = ["ValueParser"]
 _SHAPED_CONTEXTS = frozenset({"any", "value", "description"})
 # Words that join the number before them or the number after them ("50 V", "5 to 10").
 _JOINING = UNIT_WORDS | RANGE_WORDS | {"x", "*"}
+assert not any(w.isdigit() for w in _JOINING)  # a number is never a joining word (``_inert``)
 # Kinds of tokens a placeholder may stand in for, with the placeholder's form: a bare number
 # (unread, and listed in the bare-number warning), a token that starts with a digit and is only
 # unread, a word that is only unread.
 _NUMBER, _DIGIT_WORD, _WORD = "number", "digit word", "word"
 _FORMS = {_NUMBER: "{n}", _DIGIT_WORD: "{n}qzx", _WORD: "Qzx{a}"}
+# Each kind's marker in a layout key: a number, never equal to a token (text).
+_MARKERS = {_NUMBER: 1, _DIGIT_WORD: 2, _WORD: 3}
+_KINDS = {m: k for k, m in _MARKERS.items()}
 _BARE_NUMBER_WARNING = f"{UNREAD_MARK}a number without a unit was not read ("
 _EMPTY_STATE = vars(State("any"))
 _LISTS = tuple(k for k, v in _EMPTY_STATE.items() if isinstance(v, list))
@@ -45,10 +49,12 @@ def _inert(context: str, tok: str) -> str | None:
     """The kind of ``tok`` when reading it alone does nothing but leave it unread (and, for a
     bare number, count it as one), whatever was read before it; None otherwise (it is read,
     warned about, split or joined). Decided by reading it into an empty scan state."""
+    if tok.isdigit() and tok.isascii() and len(tok) > 3 and codes.chip_package(tok) is None:
+        return _NUMBER  # a lot or serial number: what valuenumbers._bare_number leaves unread
     if len(tok) < 2 or not tok.isascii() or tok.lower() in _JOINING:
         return None
     if tok.isdigit() and len(tok) != 3 and codes.chip_package(tok) is None:
-        return _NUMBER  # a lot or serial number: what valuenumbers._bare_number leaves unread
+        return _NUMBER
     st = State(context)
     first = tok[0]
     try:
@@ -79,9 +85,18 @@ class _Shape:
     placeholder's place is a function of the text's own tokens."""
 
     spec: CapSpec
-    unread: Callable[[list[str]], tuple[str, ...]] | None  # a text's own tokens -> its unread
-    warning_at: int  # index of the bare-number warning, -1 without one
-    bare: Callable[[list[str]], tuple[str, ...]]  # a text's own tokens -> the warning's tokens
+    # A text's own tokens -> its (warnings, unread tokens), the warnings said before the scan
+    # not included (see ``_own_of``).
+    own: Callable[[tuple[str, ...]], tuple[tuple[str, ...], tuple[str, ...]]]
+
+
+@frozen
+class _Layout:
+    """The shape of the texts of one layout key and the picker of a text's own tokens (the
+    ones its placeholders stand in for) from its tokens."""
+
+    shape: _Shape
+    mine: Callable[[list[str]], tuple[str, ...]]
 
 
 class ValueParser:
@@ -90,7 +105,11 @@ class ValueParser:
 
     def __init__(self) -> None:
         self._shapes: dict[tuple[str, tuple[str, ...]], _Shape | None] = {}
-        self._inert: dict[str, dict[str, str | None]] = {}  # per context, per token
+        # Per context, per token: the token itself, or its kind's marker when it is inert.
+        self._marks: dict[str, dict[str, str | int]] = {}
+        # Per (context, tokens with inert ones marked): the shape and a picker of the text's
+        # own tokens, or None when the text has no shape (it is parsed on its own).
+        self._layouts: dict[tuple[str, tuple[str | int, ...]], _Layout | None] = {}
         self._holders: dict[tuple[str, str, int], str | None] = {}
 
     def parse(self, text: str, context: str = "any") -> CapSpec:
@@ -113,52 +132,85 @@ class ValueParser:
         try:
             before: list[str] = []
             toks = tokens(normalised(text, context, before))
-            shape_toks, mine, holders = self._masked(context, toks)
-            shape = None
-            if mine:
-                key = (context, tuple(shape_toks))
-                shape = self._shapes.get(key, False)
-                if shape is False:
-                    shape = self._shapes[key] = _parse_shape(context, shape_toks, holders)
-            if shape is None:
+            layout = self._layout(context, toks)
+            if layout is None:
                 st = State(context)
                 st.warnings = before
                 scan(st, toks)
                 spec = build(text, st)
             else:
-                return shape.spec, *_own(shape, before, mine)
+                return layout.shape.spec, *_own(layout.shape, before, layout.mine(toks))
         except Exception as exc:  # a parser bug must not stop an import; the tests hunt for these
             spec = internal_error(text, exc)
         return spec, spec.warnings, spec.unread
 
-    def _masked(self, context: str, toks: list[str]
-                ) -> tuple[list[str], list[str], list[str]]:
-        """(the tokens with placeholders, the tokens they stand for, the placeholders)."""
-        out = toks
-        mine: list[str] = []
+    def _layout(self, context: str, toks: list[str]) -> _Layout | None:
+        """The shape of a text's tokens and where its own tokens stand. Found by the tokens with
+        every inert one replaced by its kind's marker: which inert tokens are stood in for
+        depends only on that key (a token's kind, its neighbours, which join it only when they
+        are not inert, and how many stand-ins come before it); the inert tokens that are not
+        stood in for are read, so their text is the second part of the key."""
+        marks = self._marks.get(context)
+        if marks is None:
+            marks = self._marks[context] = {}
+        key = (context, tuple(map(marks.get, toks)))  # one C-level pass
+        if None in key[1]:  # tokens not seen before
+            for tok in toks:
+                if tok not in marks:
+                    kind = _inert(context, tok)
+                    marks[tok] = tok if kind is None else _MARKERS[kind]
+            key = (context, tuple(map(marks.__getitem__, toks)))
+        got = self._layouts.get(key)
+        if got is None:
+            _, at, _, kept = self._masked(context, toks, marks)
+            got = self._layouts[key] = (_picker_of(kept) if kept else None,
+                                        _picker_of(at) if at else None, {})
+        kept_of, mine_of, by_kept = got
+        if mine_of is None:
+            return None
+        sub = kept_of(toks) if kept_of is not None else ()
+        layout = by_kept.get(sub, False)
+        if layout is False:
+            layout = by_kept[sub] = self._new_layout(context, toks, marks, mine_of)
+        return layout
+
+    def _new_layout(self, context: str, toks: list[str], marks: dict[str, str | int],
+                    mine_of: Callable[[list[str]], tuple[str, ...]]) -> _Layout | None:
+        """The layout of the texts alike ``toks`` (see ``_layout``); None when they have no
+        shape (they are parsed one by one)."""
+        shape_toks, _, holders, _ = self._masked(context, toks, marks)
+        key = (context, tuple(shape_toks))
+        shape = self._shapes.get(key, False)
+        if shape is False:
+            shape = self._shapes[key] = _parse_shape(context, shape_toks, holders)
+        return None if shape is None else _Layout(shape, mine_of)
+
+    def _masked(self, context: str, toks: list[str], marks: dict[str, str | int]
+                ) -> tuple[list[str], list[int], list[str], list[int]]:
+        """(the tokens with placeholders, where the placeholders stand, the placeholders, where
+        the inert tokens not stood in for stand)."""
+        out = list(toks)
+        at: list[int] = []
         holders: list[str] = []
-        inert = self._inert.get(context)
-        if inert is None:
-            inert = self._inert[context] = {}
+        kept: list[int] = []
         last = len(toks) - 1
         for j, tok in enumerate(toks):
-            kind = inert.get(tok, False)
-            if kind is False:
-                kind = inert[tok] = _inert(context, tok)
+            mark = marks[tok]
+            if mark.__class__ is str:
+                continue
+            kind = _KINDS[mark]  # type: ignore[index]
             # Neighbours that would join it: a unit or range word after a number, a number
             # joined through a range word or "x" before it.
-            if kind is None or (j < last and kind != _WORD and toks[j + 1].lower() in _JOINING) \
-                    or (j and toks[j - 1].lower() in _JOINING):
-                continue
-            holder = self._holder(context, kind, len(mine))
+            holder = None if (j < last and kind != _WORD and toks[j + 1].lower() in _JOINING) \
+                or (j and toks[j - 1].lower() in _JOINING) \
+                else self._holder(context, kind, len(at))
             if holder is None:
+                kept.append(j)
                 continue
-            if out is toks:
-                out = list(toks)
             out[j] = holder
-            mine.append(tok)
+            at.append(j)
             holders.append(holder)
-        return out, mine, holders
+        return out, at, holders, kept
 
     def _holder(self, context: str, kind: str, k: int) -> str | None:
         """The placeholder of the ``k``-th stood-in token of a text when it is of ``kind``
@@ -188,8 +240,8 @@ def _parse_shape(context: str, shape_toks: list[str], holders: list[str]) -> _Sh
         warning_at = len(spec.warnings) - 1 - spec.warnings[::-1].index(expected)
     if any(h in w for h in holders for i, w in enumerate(spec.warnings) if i != warning_at):
         return None
-    return _Shape(spec, _picker(unread, len(holders)) if holders else None, warning_at,
-                  _picker(bare, len(holders)))
+    return _Shape(spec, _own_of(spec, _picker(unread, len(holders)) if holders else None,
+                                warning_at, _said(bare)))
 
 
 def _picker(items: tuple[object, ...], n_mine: int) -> Callable[[list[str]], tuple[str, ...]]:
@@ -206,6 +258,14 @@ def _picker(items: tuple[object, ...], n_mine: int) -> Callable[[list[str]], tup
     return lambda mine: get((*mine, *fixed))
 
 
+def _picker_of(at: list[int]) -> Callable[[list[str]], tuple[str, ...]]:
+    """The tokens at ``at`` of a list of tokens, as a tuple (one C-level pick)."""
+    if len(at) > 1:
+        return operator.itemgetter(*at)
+    j = at[0]
+    return lambda toks: (toks[j],)
+
+
 def _letters(k: int) -> str:
     out = ""
     while True:
@@ -215,21 +275,46 @@ def _letters(k: int) -> str:
             return out
 
 
+def _said(bare: tuple[object, ...]) -> str:
+    """The bare-number warning of a shape as a format string: ``{k!r}`` for the text's k-th
+    own token (``str.format`` writes its repr, as ``_bare_warning`` does), the rest as is."""
+    return _braces(_BARE_NUMBER_WARNING) + ", ".join(
+        f"{{{t}!r}}" if isinstance(t, int) else _braces(repr(t)) for t in bare) + ")"
+
+
+def _braces(text: str) -> str:
+    """``text`` as a literal part of a format string."""
+    return text.replace("{", "{{").replace("}", "}}")
+
+
 def _bare_warning(toks: list) -> str:
     return _BARE_NUMBER_WARNING + ", ".join(repr(t) for t in toks) + ")"
 
 
-def _own(shape: _Shape, before: list[str], mine: list[str]
+def _own_of(spec: CapSpec, pick: Callable[[tuple[str, ...]], tuple[str, ...]] | None,
+            at: int, said: str
+            ) -> Callable[[tuple[str, ...]], tuple[tuple[str, ...], tuple[str, ...]]]:
+    """A shape's function of a text's own tokens giving its (warnings, unread tokens): the
+    unread tokens picked (``pick``; the spec's when None) and the bare-number warning at index
+    ``at`` written from ``said`` (none when ``at`` is -1)."""
+    warnings, unread = spec.warnings, spec.unread
+    if at < 0:
+        if pick is None:
+            return lambda mine: (warnings, unread)
+        return lambda mine: (warnings, pick(mine))
+    head, tail, fmt = warnings[:at], warnings[at + 1:], said.format
+    if pick is None:
+        return lambda mine: ((*head, fmt(*mine), *tail), unread)
+    if not head and not tail:
+        return lambda mine: ((fmt(*mine),), pick(mine))
+    return lambda mine: ((*head, fmt(*mine), *tail), pick(mine))
+
+
+def _own(shape: _Shape, before: list[str], mine: tuple[str, ...]
          ) -> tuple[tuple[str, ...], tuple[str, ...]]:
     """(warnings, unread tokens) of one text of a shape: the warnings said before the scan, its
     own tokens in place of the placeholders."""
-    spec = shape.spec
-    unread = shape.unread(mine) if shape.unread is not None else spec.unread
-    warnings = spec.warnings
-    at = shape.warning_at
-    if at >= 0:
-        said = _BARE_NUMBER_WARNING + ", ".join(map(repr, shape.bare(mine))) + ")"
-        warnings = (*warnings[:at], said, *warnings[at + 1:])
+    warnings, unread = shape.own(mine)
     if before:
         warnings = (*before, *warnings)
     return warnings, unread
