@@ -4,11 +4,13 @@ Every fixture is written by its test into tmp_path; part numbers and maker names
 Each BOM test checks the accounting identity and the exact placements.
 """
 
+import gc
 import hashlib
 import math
 
 import numpy as np
 import openpyxl
+import pandas as pd
 import pytest
 
 from bomcheck.cli.main import main
@@ -18,6 +20,7 @@ from bomcheck.parse.importer import (
     SKIPPED_COLUMNS,
     ImportFinding,
     ImportOptions,
+    import_frame,
     read_bom,
 )
 from bomcheck.spec import SPEC_KEYS
@@ -572,3 +575,29 @@ def test_comment_and_part_description_columns_are_read_conservatively(tmp_path):
     got = sorted((f.refdes, f.code) for f in r.findings)
     assert got == [("C1", "column_conflict")] * 2 + [("C2", "column_conflict")] * 2
     assert any("second value column says 6.3 V" in f.message for f in r.findings)
+
+
+# The import pauses the collector and hands what it keeps to the oldest generation.
+def _small_import():
+    frame = pd.DataFrame({"Designator": ["C1", "C2"], "Value": ["100nF 50V X7R", "1uF 25V"],
+                          "Description": ["CAP CER lot 4711", "CAP CER lot 4712"]})
+    return import_frame(frame)
+
+
+def test_import_leaves_the_collector_as_it_found_it():
+    assert gc.isenabled() and gc.get_freeze_count() == 0
+    result = _small_import()
+    assert len(result.placements) == 2
+    # Enabled again, nothing left in the permanent generation.
+    assert gc.isenabled() and gc.get_freeze_count() == 0
+
+
+def test_import_keeps_the_callers_frozen_objects_frozen():
+    gc.freeze()  # a caller that freezes its objects (before forking workers, say)
+    try:
+        frozen = gc.get_freeze_count()
+        assert frozen > 0
+        _small_import()
+        assert gc.get_freeze_count() >= frozen
+    finally:
+        gc.unfreeze()

@@ -1,9 +1,12 @@
 """Tests of bomcheck.parse.linespec: not-fitted marks and decimal commas in cell text (common
 practice of BOM exports)."""
 
+import gc
+import weakref
+
 import pytest
 
-from bomcheck.parse.linespec import decimal_commas, not_fitted_mark
+from bomcheck.parse.linespec import CellParser, decimal_commas, not_fitted_mark
 
 
 @pytest.mark.parametrize(
@@ -26,3 +29,18 @@ def test_not_fitted_marks(text, mark):
 )
 def test_decimal_commas(text, semicolon, expected):
     assert decimal_commas(text, semicolon=semicolon) == expected
+
+
+def test_cell_parser_is_freed_without_the_collector():
+    was = gc.isenabled()
+    gc.disable()
+    try:
+        parser = CellParser(semicolon=False)
+        parser.combo({"value": "100nF 50V X7R", "description": "CAP CER 0603 lot 4711"})
+        ref = weakref.ref(parser)
+        del parser
+        # Freed by reference counting alone: its caches do not wait for a collection.
+        assert ref() is None
+    finally:
+        if was:
+            gc.enable()

@@ -99,3 +99,35 @@ def test_descriptions_differing_in_lot_numbers_are_parsed_once(monkeypatch):
 ])
 def test_tokens_joined_by_their_neighbours_are_read_as_parse_value_reads_them(text):
     assert ValueParser().parse(text, "description") == parse_value(text, context="description")
+
+
+# Layout keys: texts whose tokens differ only where the parser reads nothing share a shape,
+# texts that differ in a token it reads do not.
+@pytest.mark.parametrize("texts", [
+    # A number before "x" is read as a can size (diameter x length), not stood in for: the two
+    # texts share the key of marked tokens but not the number the parser reads.
+    ("8707235 x 5 KV-2865454 any", "1234567 x 5 KV-2865454 any", "8707235 x 5 KV-1 other"),
+    # A lot number read as a bare number, then the same shape with other lot numbers.
+    ("CAP CER 100nF 50V X7R 0603 lot 000001", "CAP CER 100nF 50V X7R 0603 lot 999999",
+     "CAP CER 100nF 50V X7R 0603 lot 12345678901234567890"),
+    # Three-digit tokens are codes (104 = 100 nF), never stood in for as lot numbers.
+    ("104 lot 4711", "105 lot 4711", "104 lot 0815"),
+    # A number joined to the unit after it is read.
+    ("lot 4711 10 uF 16 V", "lot 4712 22 uF 16 V", "lot 4711 10 V"),
+])
+def test_texts_alike_but_for_read_tokens_give_parse_value_each(texts):
+    # Each text alone, as parse_value reads it (the reference), also when read one after
+    # another by one cache that has seen the others' shapes.
+    parser = ValueParser()
+    for context in ("description", "value", "any"):
+        for text in (*texts, *reversed(texts)):
+            assert parser.parse(text, context) == parse_value(text, context=context)
+
+
+def test_many_lot_numbers_share_one_shape():
+    parser = ValueParser()
+    texts = [f"capacitor 1uF 25V X5R 0805 lot {k:06d} bulk" for k in range(200)]
+    for text in texts:
+        assert parser.parse(text, "description") == parse_value(text, context="description")
+    # One layout for all 200 texts: the lot number is the text's own token.
+    assert len(parser._layouts) == 1
