@@ -86,6 +86,17 @@ def test_findings_list_every_verdict_not_passing_worst_first():
     assert plain(print_findings, tiny_report(), placements=[0]) == ""  # C1 passes
 
 
+def test_findings_beyond_the_limit_say_whose_they_are():
+    # The table shows some placements; the count left out is of their findings only, and the
+    # line must not read as the board's total.
+    text = plain(print_findings, tiny_report(), placements=[1, 2, 3, 4], limit=1)
+    assert text.splitlines()[-1].strip() == (
+        "... 3 more findings of the placements above (every finding is in the JSON report)")
+    text = plain(print_findings, tiny_report(), limit=1)
+    assert text.splitlines()[-1].strip() == (
+        "... 3 more findings (every finding is in the JSON report)")
+
+
 def test_quiet_counts_every_status_and_ends_with_the_verdict():
     report = tiny_report()
     rows = {"rows_read": 7, "capacitor_rows": 6, "non_capacitor_rows": 1, "unreadable_rows": 0,

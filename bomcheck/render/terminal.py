@@ -259,7 +259,9 @@ def print_findings(console: Console, report, placements=None, limit: int = 40) -
     for status, message in zip(v["status"].head(limit), v["message"].head(limit)):
         console.print(Text.assemble("  ", status_text(status), " ", str(message)))
     if len(v) > limit:
-        console.print(Text(f"  ... {len(v) - limit} more findings (all of them in the JSON report)", style="muted"))
+        of = " of the placements above" if placements is not None else ""
+        console.print(Text(f"  ... {len(v) - limit} more findings{of} (every finding is in the "
+                           "JSON report)", style="muted"))
 
 
 def _short_value(rec) -> str:
