@@ -651,6 +651,36 @@ def test_an_implausible_number_is_named_by_its_text(tmp_path, cell):
     assert str(got.value) == str(text.value) and cell in str(got.value)
 
 
+@pytest.mark.parametrize("column, cell, problem", [
+    # pandas' float reader makes a column of only true/false 1.0 and 0.0 (pandas read_csv
+    # documentation: true_values/false_values; its booleans also convert); the text path
+    # refuses them. A FALSE in v_ac_rms read as 0 V would be a wrong pass.
+    ("v_dc [V]", "TRUE", "not a quantity"),
+    ("v_ac_rms [V]", "false", "not a quantity"),
+    ("t_rise_c", "tRuE", "not a quantity"),
+    # The text path refuses more than 30 significant digits or 40 characters
+    # (bomcheck.parse.units.parse_number); pandas' reader would round them.
+    ("v_dc", "48.0000000000000000000000000000000000001", "too many digits"),
+    ("v_dc", "0.1000000000000000055511151231257827", "too many digits"),
+    ("v_dc", "123456789012345678901234567890e+00000000000", "too many digits"),
+])
+def test_a_cell_the_float_reader_would_take_is_read_as_its_text(tmp_path, column, cell,
+                                                                 problem):
+    path = _write_scale(tmp_path, f"C1,{cell},55\n", f"refdes,{column},t_ambient_c\n")
+    with pytest.raises(InputError) as text:
+        _read_table_design(path, None, None)
+    with pytest.raises(InputError) as got:
+        read_design(path)
+    assert str(got.value) == str(text.value) and problem in str(got.value)
+
+
+def test_a_note_saying_true_only_costs_the_text_path(tmp_path):
+    path = _write_scale(tmp_path, "C1,,48,,,55,,,this is true\n")
+    design = read_design(path)
+    assert design.conditions.at["C1", "v_dc"] == 48.0
+    assert design.conditions.equals(_read_table_design(path, None, None).conditions)
+
+
 def test_single_designators_by_character_classes_agree_with_the_pattern():
     rng = random.Random(3)
     alphabet = "Cc1_0A9 ,-zZ@[`{/:\t"

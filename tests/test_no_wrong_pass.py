@@ -339,3 +339,17 @@ def test_fail_on_gates_a_board_with_only_missing_data(run, fail_on, code):
     got, report = run(_CER50 + "C3,1,CAP CER 1UF 50V 10% X7R 0603,KC-105-50\n",
                       "refdes,v_dc [V],t_ambient_c [degC],c_min_f\nC1,5,40,none\n", *extra)
     assert got == code and report["status"] == "nodata"
+
+
+@pytest.mark.parametrize("cell", ["TRUE", "false"])
+def test_a_boolean_in_a_design_voltage_column_is_refused_not_read_as_a_number(
+        tmp_path, capsys, cell):
+    # A spreadsheet's TRUE/FALSE in v_dc once read as 1 V / 0 V on the fast path, so a 16 V
+    # ceramic on a 48 V rail passed. It is an input error, as the text path always said.
+    bom = tmp_path / "bom.csv"
+    bom.write_text("Designator,Qty,Value,Description\n"
+                   "C1,1,0.1uF,CAP CER 0.1UF 16V 10% X7R 0603\n", encoding="utf-8")
+    design = tmp_path / "design.csv"
+    design.write_text(f"refdes,v_dc [V],t_ambient_c [°C]\nC1,{cell},55\n", encoding="utf-8")
+    assert main(["audit", str(bom), "--design", str(design), "--quiet", "--no-config"]) == 2
+    assert cell in capsys.readouterr().err

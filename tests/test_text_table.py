@@ -129,3 +129,33 @@ def test_rows_and_columns_limits(tmp_path, text, needle):
 @given(text=TEXTISH, encoding=st.sampled_from(["utf-8", "cp1252", "utf-16"]))
 def test_fuzzed_text_tables_never_raise_anything_but_input_error(text, encoding):
     read_any(text.encode(encoding, errors="replace"), ".csv")
+
+
+def test_the_float_reader_guard_finds_booleans_and_overlong_numbers():
+    # What pandas' float reader would take but the text path reads otherwise (see
+    # bomcheck.read.text_table._FLOAT_READER_DIFFERS notes): any case of true/false, a run of
+    # more than 30 digits and points, more than 40 number characters.
+    from bomcheck.read.text_table import _float_reader_may_differ as differs
+    assert differs("h\nC1,TRUE,5\n", 2) and differs("h\nC1,5,note FaLsE\n", 2)
+    assert not differs("true\nC1,5,5\n", 5)  # the header is not the body
+    assert differs("1" * 31, 0) and not differs("1" * 30, 0)
+    assert differs("1" * 16 + "." + "1" * 15, 0)  # 31 digits with a point
+    assert differs("1" * 30 + "e+" + "0" * 9, 0) and not differs("1" * 30 + "e+" + "0" * 8, 0)
+    assert not differs("C1,13.2,5\nC2,-0.5e-3,85\n", 0) and not differs("", 0)
+
+
+def test_longest_run_against_a_plain_count():
+    import random
+
+    import numpy as np
+
+    from bomcheck.read.text_table import _longest_run
+    rng = random.Random(11)
+    for _ in range(3000):
+        member = np.array([rng.random() < 0.7 for _ in range(rng.randrange(0, 40))], dtype=bool)
+        best = run = 0
+        for x in member:
+            run = run + 1 if x else 0
+            best = max(best, run)
+        assert _longest_run(member) == best
+

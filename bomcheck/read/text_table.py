@@ -235,6 +235,8 @@ def _parse_body(text: str, start: int, source: tuple[str | io.BytesIO, int, str]
         empty = {i: pd.Series([], dtype=object) for i in range(width)}
         return pd.DataFrame(empty), np.zeros(0, dtype=np.int64)
     frame = None
+    if numeric and _float_reader_may_differ(text, start):
+        numeric = {}  # the text path decides, as it always did
     if numeric:
         at = source[0].tell() if isinstance(source[0], io.BytesIO) else 0
         frame = _read_c(source, delim, width, spaced, numeric)
@@ -246,6 +248,50 @@ def _parse_body(text: str, start: int, source: tuple[str | io.BytesIO, int, str]
         rows = np.arange(header_line + 1, header_line + 1 + len(frame), dtype=np.int64)
         return frame, rows
     return _parse_body_slow(text[start:], delim, width, header_line, spaced=spaced, path=path)
+
+
+# Cells pandas' float reader takes but the text path does not read as that number: true and
+# false in any case (pandas makes a column of only those 1.0 and 0.0; the text path refuses
+# them), and numbers past the text path's digit limits (``parse/units.parse_number`` refuses
+# more than 30 significant digits or 40 characters; pandas rounds them). Found anywhere in the
+# body, even in a note, the sheet is read as text: slower, never different. Checked on the
+# bytes as arrays (a pattern search over a 40 MB sheet took seconds).
+_LOWER = bytes.maketrans(b"ABCDEFGHIJKLMNOPQRSTUVWXYZ", b"abcdefghijklmnopqrstuvwxyz")
+
+
+def _member_table(chars: bytes) -> bytes:
+    """A ``bytes.translate`` table giving 1 for ``chars`` and 0 for every other byte."""
+    return bytes(1 if b in chars else 0 for b in range(256))
+
+
+_DIGIT_OR_POINT = _member_table(b"0123456789.")
+_NUMBER_CHAR = _member_table(b"0123456789.eE+-")
+
+
+def _longest_run(member: np.ndarray) -> int:
+    """The length of the longest run of True in ``member`` (the widest gap between the
+    positions that are not members)."""
+    outside = np.flatnonzero(~member)
+    if not len(outside):
+        return len(member)
+    gaps = np.diff(outside) - 1
+    return int(max(outside[0], len(member) - 1 - outside[-1], gaps.max() if len(gaps) else 0))
+
+
+def _float_reader_may_differ(text: str, start: int) -> bool:
+    """True when the body ``text[start:]`` holds a cell the float reader would read otherwise
+    than the text path: ``true``/``false`` in any case, or a run of more than 30 digits and
+    points or more than 40 number characters."""
+    body = text[start:].encode("utf-8", "replace")
+    lowered = body.translate(_LOWER)
+    if b"true" in lowered or b"false" in lowered:
+        return True
+
+    def longest(table: bytes) -> int:
+        return _longest_run(np.frombuffer(body.translate(table), dtype=bool))
+
+    run = longest(_NUMBER_CHAR)  # digits and points are number characters
+    return run > 40 or (run > 30 and longest(_DIGIT_OR_POINT) > 30)
 
 
 def _read_c(source: tuple[str | io.BytesIO, int, str], delim: str, width: int, spaced: bool,
