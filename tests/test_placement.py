@@ -6,8 +6,8 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from bomcheck.stress.placement import (Columns, StressData, applied_voltages, as_numbers, as_text,
-                                       compute, num_column, text_column)
+from bomcheck.stress.columns import Columns, as_numbers, as_text, num_column, text_column
+from bomcheck.stress.placement import StressData, applied_voltages, compute
 
 AGING = StressData(aging_k={"class2": 2.5, "class3": 8.0, "class1": 0.0})
 

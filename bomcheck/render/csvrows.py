@@ -52,10 +52,9 @@ def _row(value: Any) -> str:
     return "" if is_missing(value) else str(int(value))
 
 
-def _fields(values, write) -> np.ndarray:
+def _fields(values: pd.Series, write) -> np.ndarray:
     """The CSV field of each value of a column: ``write`` runs once per distinct value."""
-    array = pd.Series(values, dtype=object) if not isinstance(values, pd.Series) else values
-    codes, uniques = pd.factorize(array.to_numpy(dtype=object), use_na_sentinel=True)
+    codes, uniques = pd.factorize(values.to_numpy(dtype=object), use_na_sentinel=True)
     texts = np.asarray([*map(write, uniques.tolist()), ""], dtype=object)
     return texts[codes]
 

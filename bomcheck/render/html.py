@@ -281,12 +281,11 @@ def _placements_section(report) -> list[str]:
 
 def _verdict_rows(v: pd.DataFrame, metric_of: dict, rows: list) -> list[str]:
     cols = {c: (v[c].tolist() if c in v else [None] * len(v)) for c in
-            ("pidx", "refdes", "rule_id", "status", "value", "limit", "margin", "basis",
-             "message", "source", "waived_from")}
+            ("refdes", "rule_id", "status", "value", "limit", "margin", "basis", "message",
+             "source", "waived_from")}
     out = []
-    for i in range(len(v)):
+    for i, row in enumerate(rows):
         metric = metric_of.get(cols["rule_id"][i])
-        row = rows[i]
         waived = cols["waived_from"][i]
         status = _status(cols["status"][i]) + (
             f' <span class="muted">(was {_t(waived)})</span>' if not is_missing(waived) else "")

@@ -424,7 +424,8 @@ def _verdict_objects(v: pd.DataFrame, part: pd.DataFrame, owner: np.ndarray,
     return objects(fields, n)
 
 
-def _rule_and_status(rule: np.ndarray, status: np.ndarray) -> tuple[np.ndarray, np.ndarray] | None:
+def _rule_and_status(rule: np.ndarray, status: np.ndarray
+                     ) -> tuple[np.ndarray, np.ndarray] | None:
     """The ``"rule":..,"status":..`` pair of each verdict, written once per distinct pair, as a
     field of ``jsonform.objects`` (key None); None when a verdict lacks either (then each is a
     field of its own, left out where empty)."""
@@ -432,7 +433,8 @@ def _rule_and_status(rule: np.ndarray, status: np.ndarray) -> tuple[np.ndarray, 
     status_codes, statuses = pd.factorize(status, use_na_sentinel=True)
     rule_texts, rule_ok = column_texts(pd.Series(rules, dtype=object))
     status_texts, status_ok = column_texts(pd.Series(statuses, dtype=object))
-    if (rule_codes < 0).any() or (status_codes < 0).any() or not (rule_ok.all() and status_ok.all()):
+    if (rule_codes < 0).any() or (status_codes < 0).any() or not rule_ok.all() \
+            or not status_ok.all():
         return None
     pair_codes, pairs = pd.factorize(rule_codes * len(statuses) + status_codes)
     texts = np.asarray([f'"rule":{rule_texts[p // len(statuses)]},'

@@ -107,7 +107,7 @@ class CircuitRun:
         return self._numbers["nan:"]
 
     def coded(self, name: str) -> tuple[np.ndarray, list[str]]:
-        """A column as (codes, distinct texts) (``placement.text_codes``; "" where absent),
+        """A column as (codes, distinct texts) (``columns.text_codes``; "" where absent),
         converted once."""
         key = f"text:{name}"
         if key not in self._numbers:

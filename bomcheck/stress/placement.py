@@ -11,7 +11,7 @@ No I/O, no pint, no per-row Python loops.
 
 from __future__ import annotations
 
-from collections.abc import Callable, Mapping
+from collections.abc import Mapping
 from dataclasses import field
 from typing import Any
 
@@ -21,7 +21,6 @@ import pandas as pd
 from bomcheck.frozen import frozen
 from bomcheck.stress.columns import Columns, by_rows, labels, read_only_nan, share_empty
 # The column conversions, read here by the stage's users and tests as before.
-from bomcheck.stress.columns import as_numbers, as_text, num_column, text_column  # noqa: F401
 
 # Capacitance change taken for a class II ceramic whose code is not known: X7R/X5R's +/-15 %
 # (EIA-198 letter R), the common case, marked generic wherever it is used.
