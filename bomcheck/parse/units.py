@@ -51,6 +51,7 @@ import numpy as np
 
 from bomcheck.frozen import frozen
 from bomcheck.errors import UnitError
+from bomcheck.read.limits import NUMBER_CHARS, NUMBER_DIGITS
 
 # Canonical units of the project's quantities; every number inside the pipeline is in these.
 SI_UNITS = {
@@ -136,7 +137,6 @@ _UNIT_ONLY = re.compile(rf"^(?:{_UNIT})$")
 _NOT_FINITE = re.compile(r"^[-+]?(?:inf(?:inity)?|nan)\b", re.IGNORECASE)
 # "1,5" is a decimal comma; "1,500" could be 1.5 or 1500 and is refused rather than guessed.
 _THOUSANDS_COMMA = re.compile(r"\d,\d{3}(?!\d)")
-_MAX_DIGITS = 30  # more significant characters than any measurement has: refused, not rounded
 _MAX_UNIT = 40
 
 # Unit tokens converted without pint (pint costs more to load than a small audit): SI prefixes
@@ -174,7 +174,7 @@ def parse_number(text: str, quantity: str) -> tuple[float, str | None]:
                         expected=expected)
     num, unit = m.group("num"), m.group("unit")
     mantissa = re.split(r"[eE]", num)[0]
-    if sum(c.isdigit() for c in mantissa) > _MAX_DIGITS or len(num) > _MAX_DIGITS + 10:
+    if sum(c.isdigit() for c in mantissa) > NUMBER_DIGITS or len(num) > NUMBER_CHARS:
         raise UnitError("too many digits", text=text, expected=expected)
     if "," in num:
         if _THOUSANDS_COMMA.search(num):

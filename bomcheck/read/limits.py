@@ -16,6 +16,11 @@ from dataclasses import fields, replace
 from bomcheck.frozen import frozen
 
 MIB = 1 << 20
+# A number in a cell: more significant digits than any measurement has, or more characters, is
+# refused, not rounded (``parse/units.parse_number``; the design sheet's float reader defers to
+# that rule, ``read/text_table._float_reader_may_differ``).
+NUMBER_DIGITS = 30
+NUMBER_CHARS = 40
 
 
 @frozen

@@ -252,8 +252,9 @@ def _parse_body(text: str, start: int, source: tuple[str | io.BytesIO, int, str]
 
 # Cells pandas' float reader takes but the text path does not read as that number: true and
 # false in any case (pandas makes a column of only those 1.0 and 0.0; the text path refuses
-# them), and numbers past the text path's digit limits (``parse/units.parse_number`` refuses
-# more than 30 significant digits or 40 characters; pandas rounds them). Found anywhere in the
+# them), and numbers past the text path's digit limits (``limits.NUMBER_DIGITS`` significant
+# digits or ``limits.NUMBER_CHARS`` characters, which ``parse/units.parse_number`` refuses and
+# pandas rounds). Found anywhere in the
 # body, even in a note, the sheet is read as text: slower, never different. Checked on the
 # bytes as arrays (a pattern search over a 40 MB sheet took seconds).
 _LOWER = bytes.maketrans(b"ABCDEFGHIJKLMNOPQRSTUVWXYZ", b"abcdefghijklmnopqrstuvwxyz")
@@ -280,8 +281,8 @@ def _longest_run(member: np.ndarray) -> int:
 
 def _float_reader_may_differ(text: str, start: int) -> bool:
     """True when the body ``text[start:]`` holds a cell the float reader would read otherwise
-    than the text path: ``true``/``false`` in any case, or a run of more than 30 digits and
-    points or more than 40 number characters."""
+    than the text path: ``true``/``false`` in any case, or a run of digits and points longer
+    than ``NUMBER_DIGITS`` or of number characters longer than ``NUMBER_CHARS``."""
     body = text[start:].encode("utf-8", "replace")
     lowered = body.translate(_LOWER)
     if b"true" in lowered or b"false" in lowered:
@@ -291,7 +292,8 @@ def _float_reader_may_differ(text: str, start: int) -> bool:
         return _longest_run(np.frombuffer(body.translate(table), dtype=bool))
 
     run = longest(_NUMBER_CHAR)  # digits and points are number characters
-    return run > 40 or (run > 30 and longest(_DIGIT_OR_POINT) > 30)
+    digits, chars = limits_mod.NUMBER_DIGITS, limits_mod.NUMBER_CHARS
+    return run > chars or (run > digits and longest(_DIGIT_OR_POINT) > digits)
 
 
 def _read_c(source: tuple[str | io.BytesIO, int, str], delim: str, width: int, spaced: bool,
