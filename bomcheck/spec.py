@@ -19,6 +19,25 @@ TECHNOLOGIES = (
     "supercapacitor",
 )
 
+# The largest capacitance a part of each technology plausibly has, far above the largest made
+# (values from memory, each an order of magnitude or more above the largest parts: MLCCs reach
+# about 1 mF, mica and glass parts about 0.1 uF, tantalum and polymer parts a few mF, film
+# power capacitors tens of mF, screw-terminal aluminium electrolytics about 1 F). Above it a
+# read value is a data-entry slip (uF written as F), never a pass; supercapacitors are held to
+# the capacitance range of every reading (``parse/units.PLAUSIBLE``).
+PLAUSIBLE_CAPACITANCE_F = {
+    "ceramic": 1e-2,
+    "mica": 1e-5,
+    "glass": 1e-5,
+    "tantalum": 1.0,
+    "tantalum-polymer": 1.0,
+    "tantalum-wet": 1.0,
+    "tantalum-foil": 1.0,
+    "aluminium-polymer": 1.0,
+    "film": 1.0,
+    "aluminium-electrolytic": 100.0,
+}
+
 # Polarity follows the technology.
 POLARIZED_TECHNOLOGIES = frozenset(
     {

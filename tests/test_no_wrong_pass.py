@@ -353,3 +353,17 @@ def test_a_boolean_in_a_design_voltage_column_is_refused_not_read_as_a_number(
     design.write_text(f"refdes,v_dc [V],t_ambient_c [°C]\nC1,{cell},55\n", encoding="utf-8")
     assert main(["audit", str(bom), "--design", str(design), "--quiet", "--no-config"]) == 2
     assert cell in capsys.readouterr().err
+
+
+@pytest.mark.parametrize("value, passes", [("100nF", True), ("100mF", False)])
+def test_a_capacitance_no_part_of_its_technology_has_is_not_a_pass(run, value, passes):
+    # A C0G ceramic of 100 mF (nF written as mF) met every check as read, so the slip passed.
+    # MLCCs reach about 1 mF (value from memory); far above it the data is implausible: a
+    # finding at nodata (bomcheck.spec.PLAUSIBLE_CAPACITANCE_F).
+    code, report = run(f"C1,1,CAP CER {value} 50V 5% C0G 0603,KR-1\n",
+                       "refdes,v_dc [V],t_ambient_c [°C],c_min_f\nC1,5,25,1e-8\n")
+    (placement,) = report["placements"]
+    assert (placement["status"] == "pass") is passes
+    if not passes:
+        assert placement["status"] == "nodata" and code == 1
+        assert [f["code"] for f in report["import_findings"]] == ["capacitance_implausible"]

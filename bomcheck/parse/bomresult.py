@@ -87,9 +87,11 @@ class ImportFinding:
         return asdict(self)
 
 
-# Finding codes whose placements have no trustworthy data (severity "nodata", see ImportFinding).
+# Finding codes whose placements have no trustworthy data (severity "nodata", see ImportFinding;
+# ``capacitance_implausible``: a capacitance above what its technology is ever made with,
+# ``spec.PLAUSIBLE_CAPACITANCE_F``).
 NODATA_CODES: frozenset[str] = frozenset({"fitted_conflict", "value_unread",
-                                          "capacitance_unread"})
+                                          "capacitance_unread", "capacitance_implausible"})
 
 
 def finding(row: int, refdes: str | None, code: str, message: str) -> ImportFinding:

@@ -13,6 +13,7 @@ from bomcheck.parse.bomresult import PLACEMENT_COLUMNS, ImportFinding, finding
 from bomcheck.parse.designators import Designators
 from bomcheck.parse.linecells import OWN_COLUMNS, LineCells
 from bomcheck.parse.linespec import FLOAT_SPEC, SPEC_COLUMNS
+from bomcheck.spec import PLAUSIBLE_CAPACITANCE_F
 
 class _Severities(dict):
     """The severity of each finding code (``bomcheck.parse.bomresult.finding``), made once."""
@@ -81,6 +82,26 @@ def placements_of(cap_idx: np.ndarray, des: Designators, line: dict[str, np.ndar
     return pd.DataFrame(series, columns=list(PLACEMENT_COLUMNS), copy=False)
 
 
+def _implausible_capacitance(lc: LineCells, line_of: np.ndarray, fitted: np.ndarray,
+                             rows: np.ndarray, refdes: np.ndarray) -> list[ImportFinding]:
+    """Fitted placements whose capacitance is above what their technology is ever made with
+    (``spec.PLAUSIBLE_CAPACITANCE_F``): judged once per distinct reading."""
+    said = []
+    for core in lc.cores:
+        cap, tech = core.spec["capacitance_f"], core.spec["technology"]
+        high = PLAUSIBLE_CAPACITANCE_F.get(tech)
+        said.append(None if cap is None or high is None or not cap > high else
+                    f"capacitance {cap:g} F is implausible for a {tech} capacitor (none is "
+                    f"made above {high:g} F: a unit slip such as uF written as F?); checks "
+                    "that need it have no data")
+    if not any(said):
+        return []
+    message = np.asarray(said, dtype=object)[lc.code[line_of]]
+    at = np.flatnonzero(np.not_equal(message, None) & fitted)
+    return [finding(int(rows[p]), str(refdes[p]), "capacitance_implausible", message[p])
+            for p in at]
+
+
 def placement_findings(placements: pd.DataFrame, lc: LineCells) -> list[ImportFinding]:
     """Column conflicts on fitted placements, capacitors with no capacitance read, and
     designators listed more than once."""
@@ -118,6 +139,7 @@ def placement_findings(placements: pd.DataFrame, lc: LineCells) -> list[ImportFi
         out.append(finding(int(rows[p]), str(refdes[p]), code,
                            f"no capacitance could be read from the BOM text ({lc.text(li)!r}); "
                            "checks that need it have no data"))
+    out.extend(_implausible_capacitance(lc, line_of, fitted, rows, refdes))
     if len(set(refdes)) < len(refdes):
         dup = pd.Series(refdes).duplicated(keep="first").to_numpy()
         first_row = pd.Series(rows).groupby(refdes).transform("first").to_numpy()
